@@ -1,0 +1,115 @@
+import { HouseholderQR } from "./householderQR";
+import { SkeinError } from "./errors";
+
+export interface LeastSquaresFit {
+  /** One per column of the design, in its order (intercept first when there is one). */
+  coefficients: Float64Array;
+  /** Classical standard errors: residualSD · sqrt(diag((XᵀWX)⁻¹)). */
+  stdErrors: Float64Array;
+  /** Weighted residual sum of squares Σ w_i r_i². */
+  rss: number;
+  /** Unbiased residual SD sqrt(rss / (n − q)), the one regression tables report. */
+  residualSD: number;
+  /** Maximum-likelihood SD sqrt(rss / n), the one a mixture component carries. */
+  mlSigma: number;
+  /** 1 − rss / total sum of squares (centred when the design has an intercept). */
+  rSquared: number;
+  /** Gaussian log-likelihood at the maximum-likelihood SD. */
+  logLikelihood: number;
+  n: number;
+  q: number;
+  rank: number;
+}
+
+export interface LeastSquaresOptions {
+  /** Row weights (for example EM memberships); all 1 when absent. */
+  weights?: Float64Array;
+  /** Whether column 0 of the design is the intercept (R² is then centred). */
+  intercept?: boolean;
+}
+
+/**
+ * Weighted least squares by Householder QR with column scaling and one step of
+ * iterative refinement (Golub & Van Loan, 4th ed., sections 5.3 and 3.5.3): the
+ * refinement recovers the digits a QR solve loses on ill-conditioned designs
+ * such as NIST's Longley, whose certified values it must match to 9 or more
+ * significant digits.
+ *
+ * With weights w the effective sample size in the log-likelihood and the
+ * degrees of freedom is Σ w_i (n when unweighted), the usual convention for
+ * frequency weights.
+ *
+ * @param x row-major n x q design (intercept column included when there is one)
+ */
+export function leastSquares(x: Float64Array, n: number, q: number, y: Float64Array, options: LeastSquaresOptions = {}): LeastSquaresFit {
+  const { weights, intercept = false } = options;
+  let rowWeights: Float64Array | undefined;
+  let weightSum = n;
+  if (weights) {
+    rowWeights = new Float64Array(n);
+    weightSum = 0;
+    for (let i = 0; i < n; i++) {
+      const w = weights[i];
+      if (!(w >= 0) || !Number.isFinite(w)) throw new SkeinError("bad-input", `Row weight ${i + 1} is ${w}; weights must be finite and not negative.`);
+      rowWeights[i] = Math.sqrt(w);
+      weightSum += w;
+    }
+  }
+  const qr = new HouseholderQR(x, n, q, rowWeights);
+  if (!qr.isFullRank) {
+    throw new SkeinError("numeric", `The design is singular: column ${qr.firstDependentColumn + 1} is (nearly) a combination of the earlier columns. Remove a predictor that repeats information held by the others.`);
+  }
+  const coefficients = qr.solve(y, rowWeights);
+  const residuals = new Float64Array(n);
+  computeResiduals(x, n, q, y, coefficients, residuals);
+  // One refinement step: solve for the correction from the residuals themselves.
+  const correction = qr.solve(residuals, rowWeights);
+  for (let j = 0; j < q; j++) coefficients[j] += correction[j];
+  computeResiduals(x, n, q, y, coefficients, residuals);
+
+  let rss = 0;
+  let weightedMean = 0;
+  for (let i = 0; i < n; i++) {
+    const w = weights ? weights[i] : 1;
+    rss += w * residuals[i] * residuals[i];
+    weightedMean += w * y[i];
+  }
+  weightedMean = weightSum > 0 ? weightedMean / weightSum : 0;
+  let total = 0;
+  for (let i = 0; i < n; i++) {
+    const w = weights ? weights[i] : 1;
+    const d = intercept ? y[i] - weightedMean : y[i];
+    total += w * d * d;
+  }
+  const degreesOfFreedom = weightSum - q;
+  const residualSD = degreesOfFreedom > 0 ? Math.sqrt(rss / degreesOfFreedom) : NaN;
+  const mlSigma = weightSum > 0 ? Math.sqrt(rss / weightSum) : NaN;
+  const inverseDiagonal = qr.inverseGramDiagonal();
+  const stdErrors = new Float64Array(q);
+  for (let j = 0; j < q; j++) stdErrors[j] = residualSD * Math.sqrt(inverseDiagonal[j]);
+  // Gaussian log-likelihood at σ² = rss / n: −n/2 (ln(2π σ²) + 1).
+  const logLikelihood = -0.5 * weightSum * (Math.log(2 * Math.PI * mlSigma * mlSigma) + 1);
+  return {
+    coefficients,
+    stdErrors,
+    rss,
+    residualSD,
+    mlSigma,
+    rSquared: total > 0 ? 1 - rss / total : NaN,
+    logLikelihood,
+    n,
+    q,
+    rank: qr.rank,
+  };
+}
+
+/** residuals = y − X c, for a row-major n x q design. */
+export function computeResiduals(x: Float64Array, n: number, q: number, y: Float64Array, c: Float64Array, out: Float64Array): Float64Array {
+  for (let i = 0; i < n; i++) {
+    let fitted = 0;
+    const rowOffset = i * q;
+    for (let j = 0; j < q; j++) fitted += x[rowOffset + j] * c[j];
+    out[i] = y[i] - fitted;
+  }
+  return out;
+}
