@@ -1,0 +1,317 @@
+import { SkeinError } from "./errors";
+
+/** A data row left out of the fit, and why. */
+export interface SkippedRow {
+  /** 0-based index among the input data rows (after any header row). */
+  row: number;
+  /** Name of the first column whose cell made the row unusable. */
+  column: string;
+  /** One of the SKIP_REASONS. */
+  reason: string;
+}
+
+/** The numbers a fit works on: usable rows only, flat and row-major. */
+export interface Design {
+  /** Response, length n, used rows only. */
+  y: Float64Array;
+  /** Predictors, n*p row-major; no intercept column (see designMatrix). */
+  x: Float64Array;
+  n: number;
+  p: number;
+  yName: string;
+  predictorNames: string[];
+  hasHeaderRow: boolean;
+  /** Number of data rows in the input, excluding any header row. */
+  inputRows: number;
+  /** For each used row, its 0-based input data-row index. */
+  rowIndex: Int32Array;
+  skipped: SkippedRow[];
+}
+
+export interface DesignOptions {
+  /**
+   * true: the first row holds column names; false: it holds data; "auto"
+   * (default): it holds names when the y cell and every x cell are text.
+   */
+  headers?: boolean | "auto";
+  /** Fewest usable rows accepted; default p + 2 (an intercept, p slopes and one degree of freedom for the noise). */
+  minRows?: number;
+}
+
+/** Why a cell makes its row unusable. */
+export const SKIP_REASONS = {
+  blank: "blank",
+  text: "text",
+  logical: "logical value",
+  error: "error value",
+  date: "date value",
+} as const;
+
+/**
+ * Worksheet error values as they appear when a reader turns them into text
+ * (CSV exports, XLSX error cells). They are skipped as errors, not as text,
+ * and never taken for column names.
+ */
+const ERROR_TEXTS = new Set([
+  "#NULL!", "#DIV/0!", "#VALUE!", "#REF!", "#NAME?", "#NUM!", "#N/A", "#GETTING_DATA",
+  "#SPILL!", "#CALC!", "#FIELD!", "#BLOCKED!", "#CONNECT!", "#BUSY!", "#UNKNOWN!", "#EXTERNAL!",
+]);
+
+/**
+ * Columns whose values lie within this fraction of the column's largest
+ * magnitude of an exact multiple of another column are reported as
+ * duplicates: far above rounding noise of doubles (about 1e-16), far below any
+ * real measurement difference.
+ */
+const MULTIPLE_TOLERANCE = 1e-10;
+
+const CELL_OK = 0;
+const CELL_NON_FINITE = 1;
+
+/**
+ * Classifies one cell: CELL_OK for a finite number, CELL_NON_FINITE for
+ * Infinity/NaN, otherwise the skip reason.
+ *
+ * Numeric-looking text is deliberately not parsed: Excel hands text cells to
+ * a function as strings, and a "12" typed as text is usually a data-entry
+ * mistake the user should see reported rather than silently fixed. (The CSV
+ * reader converts numeric text itself, because in a CSV file everything is
+ * text.)
+ *
+ * Older Excel builds pass 0 for a blank cell in a range argument. Such a 0
+ * cannot be told apart from a typed 0, so it is used as data; users of those
+ * builds should fill blanks with text such as "NA" to have the rows skipped.
+ */
+function classifyCell(value: unknown): number | string {
+  switch (typeof value) {
+    case "number":
+      return Number.isFinite(value) ? CELL_OK : CELL_NON_FINITE;
+    case "string": {
+      const trimmed = value.trim();
+      if (trimmed === "") return SKIP_REASONS.blank;
+      return ERROR_TEXTS.has(trimmed.toUpperCase()) ? SKIP_REASONS.error : SKIP_REASONS.text;
+    }
+    case "boolean":
+      return SKIP_REASONS.logical;
+    case "undefined":
+      return SKIP_REASONS.blank;
+    case "object":
+      if (value === null) return SKIP_REASONS.blank;
+      if (value instanceof Date) return SKIP_REASONS.date;
+      // Hosts deliver worksheet errors as objects (for example a custom
+      // function's error value); any other object is no number either.
+      return SKIP_REASONS.error;
+    default:
+      return SKIP_REASONS.text;
+  }
+}
+
+/** A cell that can serve as a column name: non-blank text that is not an error value. */
+function isNameText(value: unknown): value is string {
+  return typeof value === "string" && classifyCell(value) === SKIP_REASONS.text;
+}
+
+function checkRange(range: unknown, label: string): unknown[][] {
+  if (!Array.isArray(range) || range.length === 0) {
+    throw new SkeinError("bad-input", `The ${label} range is empty; select at least one cell of data.`);
+  }
+  for (let i = 0; i < range.length; i++) {
+    if (!Array.isArray(range[i])) {
+      throw new SkeinError("bad-input", `The ${label} range must be a table of rows (row ${i + 1} is not a row); pass a worksheet range.`);
+    }
+  }
+  return range as unknown[][];
+}
+
+/**
+ * Turns the y and x ranges (as a worksheet range argument or a file reader
+ * delivers them) into a Design of usable rows. Rows with a blank, text,
+ * logical or error cell in any used column are skipped and listed; the
+ * remaining numbers are checked for problems no fit can overcome (constant or
+ * duplicated predictors, too few rows), each reported as a SkeinError
+ * "bad-input" whose message says how to fix it.
+ */
+export function buildDesign(y: unknown[][], x: unknown[][], options: DesignOptions = {}): Design {
+  const yRows = checkRange(y, "y");
+  const xRows = checkRange(x, "x");
+  for (let i = 0; i < yRows.length; i++) {
+    if (yRows[i].length !== 1) {
+      if (yRows[i].length === 0) throw new SkeinError("bad-input", `Row ${i + 1} of the y range is empty; y must be a single column of numbers.`);
+      throw new SkeinError("bad-input", `The y range has ${yRows[i].length} columns; y must be a single column. Put the predictors in the x range.`);
+    }
+  }
+  if (yRows.length !== xRows.length) {
+    throw new SkeinError("bad-input", `The y range has ${yRows.length} rows but the x range has ${xRows.length}; select y and x over the same rows.`);
+  }
+  const p = xRows[0].length;
+  if (p === 0) throw new SkeinError("bad-input", "The x range has no columns; select at least one predictor column.");
+  for (let i = 1; i < xRows.length; i++) {
+    if (xRows[i].length !== p) {
+      throw new SkeinError("bad-input", `Row ${i + 1} of the x range has ${xRows[i].length} cells but row 1 has ${p}; every row of x must have the same number of columns.`);
+    }
+  }
+
+  const headerSetting = options.headers ?? "auto";
+  const hasHeaderRow = headerSetting === "auto"
+    ? isNameText(yRows[0][0]) && xRows[0].every(isNameText)
+    : headerSetting;
+  const yName = hasHeaderRow && isNameText(yRows[0][0]) ? yRows[0][0].trim() : "y";
+  const predictorNames: string[] = [];
+  for (let j = 0; j < p; j++) {
+    const cell = hasHeaderRow ? xRows[0][j] : undefined;
+    predictorNames.push(isNameText(cell) ? cell.trim() : `x${j + 1}`);
+  }
+
+  const firstDataRow = hasHeaderRow ? 1 : 0;
+  const inputRows = yRows.length - firstDataRow;
+  if (inputRows === 0) {
+    throw new SkeinError("bad-input", "The ranges hold only a header row; include the data rows below it.");
+  }
+
+  // Written in place for every input row; a skipped row is overwritten by the
+  // next one, so the used rows end up packed at the front.
+  const yValues = new Float64Array(inputRows);
+  const xValues = new Float64Array(inputRows * p);
+  const rowIndex = new Int32Array(inputRows);
+  const skipped: SkippedRow[] = [];
+  let n = 0;
+  for (let r = 0; r < inputRows; r++) {
+    const yRow = yRows[r + firstDataRow];
+    const xRow = xRows[r + firstDataRow];
+    let reason: string | undefined;
+    let column = "";
+    const yCell = yRow[0];
+    const yClass = classifyCell(yCell);
+    if (yClass === CELL_OK) {
+      yValues[n] = yCell as number;
+    } else {
+      if (yClass === CELL_NON_FINITE) throw nonFinite(yName, yCell as number, r, hasHeaderRow);
+      reason = yClass as string;
+      column = yName;
+    }
+    const offset = n * p;
+    for (let j = 0; j < p; j++) {
+      const cell = xRow[j];
+      const cellClass = classifyCell(cell);
+      if (cellClass === CELL_OK) {
+        xValues[offset + j] = cell as number;
+      } else if (cellClass === CELL_NON_FINITE) {
+        throw nonFinite(predictorNames[j], cell as number, r, hasHeaderRow);
+      } else if (reason === undefined) {
+        reason = cellClass as string;
+        column = predictorNames[j];
+      }
+    }
+    if (reason === undefined) {
+      rowIndex[n] = r;
+      n++;
+    } else {
+      skipped.push({ row: r, column, reason });
+    }
+  }
+
+  const minRows = options.minRows ?? p + 2;
+  if (n < minRows) throw tooFewRows(n, minRows, p, skipped);
+
+  const design: Design = {
+    y: yValues.slice(0, n),
+    x: xValues.slice(0, n * p),
+    n,
+    p,
+    yName,
+    predictorNames,
+    hasHeaderRow,
+    inputRows,
+    rowIndex: rowIndex.slice(0, n),
+    skipped,
+  };
+  checkPredictors(design);
+  return design;
+}
+
+function nonFinite(column: string, value: number, row: number, hasHeaderRow: boolean): SkeinError {
+  const where = hasHeaderRow ? `data row ${row + 1} (below the header)` : `row ${row + 1}`;
+  return new SkeinError("bad-input", `Column ${column} holds ${value} in ${where}; only finite numbers can be fitted. Replace it with a number or leave the cell blank to skip the row.`);
+}
+
+function tooFewRows(usable: number, needed: number, p: number, skipped: SkippedRow[]): SkeinError {
+  let message = `Only ${usable} usable row${usable === 1 ? "" : "s"}, but at least ${needed} are needed for ${p} predictor${p === 1 ? "" : "s"}`;
+  if (skipped.length > 0) {
+    // The most common (reason, column) pair points at the cause to fix.
+    const counts = new Map<string, number>();
+    let commonest = "";
+    let commonestCount = 0;
+    for (const s of skipped) {
+      const key = `${s.reason} in column ${s.column}`;
+      const count = (counts.get(key) ?? 0) + 1;
+      counts.set(key, count);
+      if (count > commonestCount) {
+        commonest = key;
+        commonestCount = count;
+      }
+    }
+    message += `; ${skipped.length} row${skipped.length === 1 ? " was" : "s were"} skipped, most often for ${commonest} (${commonestCount} row${commonestCount === 1 ? "" : "s"}). Fill or fix those cells so they hold numbers, or use fewer predictors.`;
+  } else {
+    message += ". Add rows or use fewer predictors.";
+  }
+  return new SkeinError("bad-input", message);
+}
+
+/**
+ * Rejects a constant response and predictors that carry no information of
+ * their own: a constant (the intercept already plays that part) or an exact
+ * multiple of another predictor (their coefficients cannot be told apart).
+ */
+function checkPredictors(design: Design): void {
+  const { x, y, n, p, predictorNames } = design;
+  let yConstant = true;
+  for (let i = 1; i < n && yConstant; i++) yConstant = y[i] === y[0];
+  if (yConstant) {
+    throw new SkeinError("bad-input", `The response ${design.yName} has the same value (${y[0]}) in every used row; there is nothing to fit. Check that the right column was chosen as y.`);
+  }
+  const largest = new Float64Array(p);
+  for (let j = 0; j < p; j++) {
+    const first = x[j];
+    let constant = true;
+    let big = 0;
+    // Stride p walks down column j of the row-major block.
+    for (let k = j; k < n * p; k += p) {
+      const v = x[k];
+      if (v !== first) constant = false;
+      const magnitude = Math.abs(v);
+      if (magnitude > big) big = magnitude;
+    }
+    if (constant) {
+      throw new SkeinError("bad-input", `Predictor ${predictorNames[j]} has the same value (${first}) in every used row; remove it (the intercept already covers a constant).`);
+    }
+    largest[j] = big;
+  }
+  for (let a = 0; a < p; a++) {
+    for (let b = a + 1; b < p; b++) {
+      const factor = multipleOf(x, n, p, a, b, largest[b]);
+      if (factor === undefined) continue;
+      const relation = Math.abs(factor - 1) <= MULTIPLE_TOLERANCE
+        ? "is a duplicate of"
+        : `is an exact multiple (${Number(factor.toPrecision(6))} times) of`;
+      throw new SkeinError("bad-input", `Predictor ${predictorNames[b]} ${relation} ${predictorNames[a]}; their effects cannot be told apart. Remove one of them.`);
+    }
+  }
+}
+
+/** The factor c with column b = c · column a over all rows, or undefined when there is none. */
+function multipleOf(x: Float64Array, n: number, p: number, a: number, b: number, largestB: number): number | undefined {
+  let factor = NaN;
+  for (let i = 0; i < n; i++) {
+    const va = x[i * p + a];
+    if (va !== 0) {
+      factor = x[i * p + b] / va;
+      break;
+    }
+  }
+  // Column a is never all zero here (it would have been constant).
+  const tolerance = MULTIPLE_TOLERANCE * largestB;
+  for (let i = 0; i < n; i++) {
+    if (Math.abs(x[i * p + b] - factor * x[i * p + a]) > tolerance) return undefined;
+  }
+  return factor;
+}
