@@ -1,0 +1,86 @@
+import { describe, expect, it } from "vitest";
+import { parseCsv } from "../src/io/readCsv";
+import { SkeinError } from "../src/engine/errors";
+
+// Expected rows are read off each input string by hand (derivation in this
+// test, following the CSV rules of RFC 4180).
+describe("parseCsv", () => {
+  it("splits fields and lines and converts plain decimal numbers", () => {
+    expect(parseCsv("name,value\na,1\nb,2.5\n")).toEqual([["name", "value"], ["a", 1], ["b", 2.5]]);
+  });
+
+  it("accepts signs, exponents and bare decimal points", () => {
+    expect(parseCsv("v\n-3\n+4\n1e3\n-2.5E-2\n.5\n7.\n")).toEqual([["v"], [-3], [4], [1000], [-0.025], [0.5], [7]]);
+  });
+
+  it("keeps text that only looks partly numeric as text", () => {
+    // Unquoted, a thousands separator is a delimiter: two fields.
+    expect(parseCsv("v\n1,000\n")).toEqual([["v"], [1, 0]]);
+    expect(parseCsv('v\n"1,000"\n12%\n$5\nNaN\nInfinity\n1.2.3\n0x1F\n- 3\n')).toEqual([
+      ["v"], ["1,000"], ["12%"], ["$5"], ["NaN"], ["Infinity"], ["1.2.3"], ["0x1F"], ["- 3"],
+    ]);
+  });
+
+  it("turns empty cells into null and keeps the row's width", () => {
+    expect(parseCsv("a,b,c\n1,,3\n,,\n4,5,\n")).toEqual([["a", "b", "c"], [1, null, 3], [null, null, null], [4, 5, null]]);
+  });
+
+  it("trims whitespace around numbers but keeps text as written", () => {
+    expect(parseCsv("a,b\n  12 , hello \n")).toEqual([["a", "b"], [12, " hello "]]);
+  });
+
+  it("handles quoted fields with delimiters, escaped quotes and line breaks", () => {
+    const text = 'id,comment\n1,"red, green"\n2,"she said ""hi"""\n3,"two\nlines"\n4,""\n';
+    expect(parseCsv(text)).toEqual([["id", "comment"], [1, "red, green"], [2, 'she said "hi"'], [3, "two\nlines"], [4, null]]);
+  });
+
+  it("converts quoted numbers too (quotes only protect characters in CSV)", () => {
+    expect(parseCsv('a,b\n"12","-1.5"\n')).toEqual([["a", "b"], [12, -1.5]]);
+  });
+
+  it("accepts CRLF and lone CR line ends and a byte-order mark", () => {
+    expect(parseCsv("\uFEFFa,b\r\n1,2\r\n3,4\r\n")).toEqual([["a", "b"], [1, 2], [3, 4]]);
+    expect(parseCsv("a,b\r1,2\r")).toEqual([["a", "b"], [1, 2]]);
+  });
+
+  it("handles a last line without a line end", () => {
+    expect(parseCsv("a,b\n1,2")).toEqual([["a", "b"], [1, 2]]);
+    expect(parseCsv("a,b\n1,")).toEqual([["a", "b"], [1, null]]);
+  });
+
+  it("drops empty lines and trailing rows of empty cells", () => {
+    expect(parseCsv("a,b\n\n1,2\n\r\n3,4\n,\n,\n\n")).toEqual([["a", "b"], [1, 2], [3, 4]]);
+  });
+
+  it("returns no rows for empty text", () => {
+    expect(parseCsv("")).toEqual([]);
+    expect(parseCsv("\uFEFF\n\n")).toEqual([]);
+  });
+
+  it("detects semicolon delimiters and then reads decimal commas", () => {
+    expect(parseCsv("a;b\n1,5;2\n-0,25;3e2\n")).toEqual([["a", "b"], [1.5, 2], [-0.25, 300]]);
+  });
+
+  it("detects tab delimiters", () => {
+    expect(parseCsv("a\tb\n1\t2\n")).toEqual([["a", "b"], [1, 2]]);
+  });
+
+  it("ignores delimiters inside quotes when detecting the delimiter", () => {
+    expect(parseCsv('"a;b;c",d\n1,2\n')).toEqual([["a;b;c", "d"], [1, 2]]);
+  });
+
+  it("keeps rows of different lengths as they are (the caller decides)", () => {
+    expect(parseCsv("a,b\n1,2,3\n4\n")).toEqual([["a", "b"], [1, 2, 3], [4]]);
+  });
+
+  it("reports a quoted field that never ends, with its line", () => {
+    try {
+      parseCsv('a,b\n1,2\n3,"oops\n4,5\n');
+      throw new Error("expected a SkeinError");
+    } catch (error) {
+      expect(error).toBeInstanceOf(SkeinError);
+      expect((error as SkeinError).code).toBe("bad-input");
+      expect((error as SkeinError).message).toMatch(/starts on line 3.*never ends/);
+    }
+  });
+});
