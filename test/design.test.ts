@@ -188,6 +188,18 @@ describe("buildDesign: errors with clear messages", () => {
     expect(message).toMatch(/Predictor kg is an exact multiple \(1000 times\) of tonnes/);
   });
 
+  it("with an intercept, rejects a predictor that is a shifted multiple of another", () => {
+    // YEAR = 1946 + 1 × counter, as in the Longley data's Obs and YEAR columns (derivation in this test).
+    const x: unknown[][] = [["counter", "YEAR"], [1, 1947], [2, 1948], [3, 1949], [4, 1950], [5, 1951]];
+    const y = [["y"], [3], [1], [4], [1], [5]];
+    expect(errorMessage(() => buildDesign(y, x))).toMatch(/Predictor YEAR equals 1946 \+ 1 × counter in every used row; with an intercept/);
+    // Without an intercept the two columns are not proportional, so both can stay.
+    expect(buildDesign(y, x, { intercept: false }).p).toBe(2);
+    // A pure multiple is rejected with or without an intercept.
+    const doubled: unknown[][] = [["a", "b"], [1, -2], [2, -4], [3, -6], [4, -8], [5, -10]];
+    expect(errorMessage(() => buildDesign(y, doubled, { intercept: false }))).toMatch(/exact multiple \(-2 times\) of a/);
+  });
+
   it("does not mistake nearly proportional columns for multiples", () => {
     const d = buildDesign([[1], [2], [5], [4]], [[1, 2], [2, 4], [3, 6], [4, 8.001]]);
     expect(d.p).toBe(2);

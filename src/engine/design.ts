@@ -36,6 +36,13 @@ export interface DesignOptions {
   headers?: boolean | "auto";
   /** Fewest usable rows accepted; default p + 2 (an intercept, p slopes and one degree of freedom for the noise). */
   minRows?: number;
+  /**
+   * Whether the fit will include an intercept (default true). With one, a
+   * predictor that is a shifted multiple of another (x_b = a + c·x_a, such as
+   * a year and a row counter) is as indistinguishable as an exact multiple,
+   * and is reported the same way.
+   */
+  intercept?: boolean;
 }
 
 /** Why a cell makes its row unusable. */
@@ -225,7 +232,7 @@ export function buildDesign(y: unknown[][], x: unknown[][], options: DesignOptio
     rowIndex: rowIndex.slice(0, n),
     skipped,
   };
-  checkPredictors(design);
+  checkPredictors(design, options.intercept ?? true);
   return design;
 }
 
@@ -260,9 +267,10 @@ function tooFewRows(usable: number, needed: number, p: number, skipped: SkippedR
 /**
  * Rejects a constant response and predictors that carry no information of
  * their own: a constant (the intercept already plays that part) or an exact
- * multiple of another predictor (their coefficients cannot be told apart).
+ * multiple of another predictor, shifted or not when there is an intercept
+ * (their coefficients cannot be told apart).
  */
-function checkPredictors(design: Design): void {
+function checkPredictors(design: Design, intercept: boolean): void {
   const { x, y, n, p, predictorNames } = design;
   let yConstant = true;
   for (let i = 1; i < n && yConstant; i++) yConstant = y[i] === y[0];
@@ -270,48 +278,72 @@ function checkPredictors(design: Design): void {
     throw new SkeinError("bad-input", `The response ${design.yName} has the same value (${y[0]}) in every used row; there is nothing to fit. Check that the right column was chosen as y.`);
   }
   const largest = new Float64Array(p);
+  const rowOfMin = new Int32Array(p);
+  const rowOfMax = new Int32Array(p);
   for (let j = 0; j < p; j++) {
-    const first = x[j];
-    let constant = true;
     let big = 0;
+    let min = x[j];
+    let max = x[j];
     // Stride p walks down column j of the row-major block.
-    for (let k = j; k < n * p; k += p) {
+    for (let i = 0, k = j; i < n; i++, k += p) {
       const v = x[k];
-      if (v !== first) constant = false;
+      if (v < min) {
+        min = v;
+        rowOfMin[j] = i;
+      } else if (v > max) {
+        max = v;
+        rowOfMax[j] = i;
+      }
       const magnitude = Math.abs(v);
       if (magnitude > big) big = magnitude;
     }
-    if (constant) {
-      throw new SkeinError("bad-input", `Predictor ${predictorNames[j]} has the same value (${first}) in every used row; remove it (the intercept already covers a constant).`);
+    if (min === max) {
+      throw new SkeinError("bad-input", `Predictor ${predictorNames[j]} has the same value (${min}) in every used row; remove it (the intercept already covers a constant).`);
     }
     largest[j] = big;
   }
   for (let a = 0; a < p; a++) {
     for (let b = a + 1; b < p; b++) {
-      const factor = multipleOf(x, n, p, a, b, largest[b]);
-      if (factor === undefined) continue;
-      const relation = Math.abs(factor - 1) <= MULTIPLE_TOLERANCE
-        ? "is a duplicate of"
-        : `is an exact multiple (${Number(factor.toPrecision(6))} times) of`;
-      throw new SkeinError("bad-input", `Predictor ${predictorNames[b]} ${relation} ${predictorNames[a]}; their effects cannot be told apart. Remove one of them.`);
+      const relation = linearRelation(x, n, p, a, b, rowOfMin[a], rowOfMax[a], largest[b], intercept);
+      if (relation === undefined) continue;
+      const [shift, factor] = relation;
+      const shown = (v: number) => Number(v.toPrecision(6));
+      let text: string;
+      if (shift !== 0) text = `equals ${shown(shift)} + ${shown(factor)} × ${predictorNames[a]} in every used row; with an intercept`;
+      else if (Math.abs(factor - 1) <= MULTIPLE_TOLERANCE) text = `is a duplicate of ${predictorNames[a]};`;
+      else text = `is an exact multiple (${shown(factor)} times) of ${predictorNames[a]};`;
+      throw new SkeinError("bad-input", `Predictor ${predictorNames[b]} ${text} their effects cannot be told apart. Remove one of them.`);
     }
   }
 }
 
-/** The factor c with column b = c · column a over all rows, or undefined when there is none. */
-function multipleOf(x: Float64Array, n: number, p: number, a: number, b: number, largestB: number): number | undefined {
-  let factor = NaN;
-  for (let i = 0; i < n; i++) {
-    const va = x[i * p + a];
-    if (va !== 0) {
-      factor = x[i * p + b] / va;
-      break;
-    }
+/**
+ * [shift, factor] with column b = shift + factor · column a over all rows
+ * (shift 0 unless `withShift`), or undefined when there is none. The line is
+ * taken through the rows where column a is smallest and largest, the pair
+ * least sensitive to rounding.
+ */
+function linearRelation(
+  x: Float64Array, n: number, p: number, a: number, b: number,
+  rowOfMin: number, rowOfMax: number, largestB: number, withShift: boolean,
+): [number, number] | undefined {
+  const aLow = x[rowOfMin * p + a];
+  const aHigh = x[rowOfMax * p + a];
+  const bLow = x[rowOfMin * p + b];
+  const bHigh = x[rowOfMax * p + b];
+  let factor: number;
+  let shift = 0;
+  if (withShift) {
+    factor = (bHigh - bLow) / (aHigh - aLow);
+    shift = bLow - factor * aLow;
+  } else {
+    // Through the origin: use the endpoint of column a farthest from 0 (never 0, as a is not constant).
+    factor = Math.abs(aHigh) >= Math.abs(aLow) ? bHigh / aHigh : bLow / aLow;
   }
-  // Column a is never all zero here (it would have been constant).
   const tolerance = MULTIPLE_TOLERANCE * largestB;
-  for (let i = 0; i < n; i++) {
-    if (Math.abs(x[i * p + b] - factor * x[i * p + a]) > tolerance) return undefined;
+  if (Math.abs(shift) <= tolerance) shift = 0;
+  for (let i = 0, k = 0; i < n; i++, k += p) {
+    if (Math.abs(x[k + b] - shift - factor * x[k + a]) > tolerance) return undefined;
   }
-  return factor;
+  return [shift, factor];
 }
