@@ -1,0 +1,236 @@
+import * as path from "path";
+import { buildDesign, type Design } from "../engine/design";
+import { designMatrix } from "../engine/designMatrix";
+import { SkeinError } from "../engine/errors";
+import { leastSquares } from "../engine/leastSquares";
+import { readTable } from "../io/readTable";
+import { parseArgs, parseList, parseWholeNumber, type FlagKinds } from "./args";
+import { checkRectangular, columnRange, columnsRange, findColumn, headerNames, isMostlyNumeric } from "./columns";
+import { formatFitTable } from "./formatTable";
+
+export const FIT_USAGE = `Usage: skein fit FILE --y COLUMN [--x COLUMN,COLUMN,...] [options]
+
+Fits K linear regressions of the y column on the x columns, each holding for
+one hidden group of rows, to a .csv or .xlsx file whose first row names the
+columns. Rows with a blank, text or error cell in a used column are skipped
+and listed.
+
+  --y COLUMN        the response column (required)
+  --x COLUMNS       predictor columns, separated by commas; default: every
+                    other column that holds mostly numbers
+  --sheet NAME      the worksheet of an .xlsx file (default: the first)
+  --k N             number of components (default 1)
+  --seed S          seed for the random starts of a mixture fit (default 1)
+  --no-intercept    fit without an intercept
+  --json            write one JSON object instead of a table
+  --help            show this help
+
+Example: skein fit sales.csv --y revenue --x price,advertising
+`;
+
+const FIT_FLAGS: FlagKinds = {
+  y: "value",
+  x: "value",
+  sheet: "value",
+  k: "value",
+  seed: "value",
+  "no-intercept": "switch",
+  json: "switch",
+  help: "switch",
+  h: "switch",
+};
+
+/** Largest K the command accepts as an argument; the fit itself decides what is available. */
+const MAX_COMPONENTS = 50;
+
+export interface FitSettings {
+  file: string;
+  sheet?: string;
+  y: string;
+  /** Predictor names in the user's order; undefined: every other mostly numeric column. */
+  x?: string[];
+  k: number;
+  seed: number;
+  intercept: boolean;
+  json: boolean;
+}
+
+/** One fitted component as reported: coefficients always start with the intercept (0 when there is none). */
+export interface ComponentReport {
+  weight: number;
+  /** Maximum-likelihood noise SD, sqrt(RSS/n) for one component. */
+  sigma: number;
+  coefficients: number[];
+  stdErrors: number[];
+}
+
+export interface SkippedReport {
+  /** 1-based data row of the file (the row below the header is 1). */
+  row: number;
+  column: string;
+  reason: string;
+}
+
+/** The --json output. Later versions add fields; they never rename these. */
+export interface FitReport {
+  k: number;
+  /** Rows used in the fit. */
+  n: number;
+  /** Rows used in the fit (the same as n). */
+  rowsUsed: number;
+  rowsSkipped: number;
+  skipped: SkippedReport[];
+  response: string;
+  predictors: string[];
+  intercept: boolean;
+  components: ComponentReport[];
+  /** One per data row of the file: 1-based component, null for skipped rows. */
+  labels: (number | null)[];
+  logLikelihood: number;
+  bic: number;
+  timings: { readMs: number; fitMs: number };
+}
+
+/** What a model fit hands back, whatever the number of components. */
+export interface ModelFit {
+  components: ComponentReport[];
+  /** For each used row, its 0-based component. */
+  labels: Int32Array;
+  logLikelihood: number;
+  /** Free parameters ν, for the BIC. */
+  parameterCount: number;
+}
+
+/** Turns the fit command's arguments into settings, or "help". */
+export function parseFitSettings(argv: readonly string[]): FitSettings | "help" {
+  const { positionals, values, switches } = parseArgs(argv, FIT_FLAGS, "fit");
+  if (switches.has("help") || switches.has("h")) return "help";
+  if (positionals.length === 0) throw new SkeinError("bad-input", "No data file given; name one, as in: skein fit data.csv --y COLUMN");
+  if (positionals.length > 1) {
+    throw new SkeinError("bad-input", `fit takes one data file but got ${positionals.length} (${positionals.join(", ")}); list predictors as --x A,B without spaces, or quote the list`);
+  }
+  const y = values.get("y");
+  if (y === undefined) throw new SkeinError("bad-input", "No response column given; name it, as in --y COLUMN");
+  const xText = values.get("x");
+  const kText = values.get("k");
+  const seedText = values.get("seed");
+  return {
+    file: positionals[0],
+    sheet: values.get("sheet"),
+    y,
+    x: xText === undefined ? undefined : parseList(xText, "x", "fit"),
+    k: kText === undefined ? 1 : parseWholeNumber(kText, "k", "fit", 1, MAX_COMPONENTS),
+    seed: seedText === undefined ? 1 : parseWholeNumber(seedText, "seed", "fit", 0, 2 ** 32 - 1),
+    intercept: !switches.has("no-intercept"),
+    json: switches.has("json"),
+  };
+}
+
+/** The y and x columns of a table, as indices into its rows. */
+function chooseColumns(rows: unknown[][], names: string[], settings: FitSettings, fileName: string): { y: number; x: number[] } {
+  const y = findColumn(names, settings.y, fileName);
+  let x: number[];
+  if (settings.x !== undefined) {
+    x = settings.x.map((name) => findColumn(names, name, fileName));
+    if (x.includes(y)) throw new SkeinError("bad-input", `${names[y]} is the response (--y); leave it out of --x.`);
+    const repeated = x.find((j, i) => x.indexOf(j) !== i);
+    if (repeated !== undefined) throw new SkeinError("bad-input", `${names[repeated]} appears twice in --x; list each predictor once.`);
+  } else {
+    x = [];
+    for (let j = 0; j < names.length; j++) if (j !== y && isMostlyNumeric(rows, j)) x.push(j);
+    if (x.length === 0) throw new SkeinError("bad-input", `${fileName} has no numeric column besides ${names[y]}; name the predictors with --x.`);
+  }
+  return { y, x };
+}
+
+/**
+ * Fits the model the settings ask for. Only one component is available in
+ * this build; the mixture fit plugs in here, returning the same ModelFit.
+ */
+export function fitModel(design: Design, settings: Pick<FitSettings, "k" | "seed" | "intercept">): ModelFit {
+  if (settings.k !== 1) {
+    throw new SkeinError("bad-input", `Mixtures with K > 1 are not available yet in this build; use --k 1 (the default) for a single regression.`);
+  }
+  return fitOneComponent(design, settings.intercept);
+}
+
+/** One ordinary least-squares regression, reported as a mixture of one component. */
+function fitOneComponent(design: Design, intercept: boolean): ModelFit {
+  const { matrix, q } = designMatrix(design, intercept);
+  let fit;
+  try {
+    fit = leastSquares(matrix, design.n, q, design.y, { intercept });
+  } catch (error) {
+    if (error instanceof SkeinError && error.code === "numeric") {
+      const terms = [...(intercept ? ["intercept"] : []), ...design.predictorNames];
+      throw new SkeinError("numeric", `${error.message} The columns in order: ${terms.join(", ")}.`);
+    }
+    throw error;
+  }
+  const coefficients = Array.from(fit.coefficients);
+  const stdErrors = Array.from(fit.stdErrors);
+  if (!intercept) {
+    coefficients.unshift(0);
+    stdErrors.unshift(0);
+  }
+  const k = 1;
+  return {
+    components: [{ weight: 1, sigma: fit.mlSigma, coefficients, stdErrors }],
+    labels: new Int32Array(design.n),
+    logLikelihood: fit.logLikelihood,
+    // ν = K(q + 2) − 1: q coefficients and a noise SD per component, K − 1 free weights.
+    parameterCount: k * (q + 2) - 1,
+  };
+}
+
+/** Everything the command computes, before it is written out. */
+export async function computeFitReport(settings: FitSettings): Promise<{ report: FitReport; sheetName?: string }> {
+  const fileName = path.basename(settings.file);
+  const readStart = performance.now();
+  const table = await readTable(settings.file, settings.sheet);
+  const rows = table.rows;
+  const names = headerNames(rows, fileName);
+  checkRectangular(rows, fileName);
+  if (rows.length < 2) throw new SkeinError("bad-input", `${fileName} has a header row but no data rows below it.`);
+  const columns = chooseColumns(rows, names, settings, fileName);
+  const design = buildDesign(columnRange(rows, columns.y), columnsRange(rows, columns.x), { headers: true, intercept: settings.intercept });
+  const readMs = performance.now() - readStart;
+
+  const fitStart = performance.now();
+  const model = fitModel(design, settings);
+  const fitMs = performance.now() - fitStart;
+
+  const labels: (number | null)[] = new Array(design.inputRows).fill(null);
+  for (let i = 0; i < design.n; i++) labels[design.rowIndex[i]] = model.labels[i] + 1;
+  // Schwarz (1978): BIC = −2 log L + ν ln n.
+  const bic = -2 * model.logLikelihood + model.parameterCount * Math.log(design.n);
+  const report: FitReport = {
+    k: settings.k,
+    n: design.n,
+    rowsUsed: design.n,
+    rowsSkipped: design.skipped.length,
+    skipped: design.skipped.map((s) => ({ row: s.row + 1, column: s.column, reason: s.reason })),
+    response: design.yName,
+    predictors: design.predictorNames,
+    intercept: settings.intercept,
+    components: model.components,
+    labels,
+    logLikelihood: model.logLikelihood,
+    bic,
+    timings: { readMs, fitMs },
+  };
+  return { report, sheetName: table.sheetName };
+}
+
+/** `skein fit`: returns the exit status; SkeinErrors propagate to main, which reports them. */
+export async function fitCommand(argv: readonly string[], io: { stdout: (s: string) => void }): Promise<number> {
+  const settings = parseFitSettings(argv);
+  if (settings === "help") {
+    io.stdout(FIT_USAGE);
+    return 0;
+  }
+  const { report, sheetName } = await computeFitReport(settings);
+  if (settings.json) io.stdout(JSON.stringify(report) + "\n");
+  else io.stdout(formatFitTable(report, { file: path.basename(settings.file), sheetName }));
+  return 0;
+}

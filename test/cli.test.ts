@@ -1,0 +1,277 @@
+import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import { promises as fs } from "fs";
+import * as os from "os";
+import * as path from "path";
+import ExcelJS from "exceljs";
+import { main } from "../src/cli/main";
+import certifiedFile from "./fixtures/longley-certified.json";
+
+const LONGLEY = path.join(__dirname, "fixtures", "longley.csv");
+const LONGLEY_PREDICTORS = "GNPDEFL,GNP,UNEMP,ARMED,POP,YEAR";
+
+interface Run {
+  status: number;
+  stdout: string;
+  stderr: string;
+}
+
+async function run(...argv: string[]): Promise<Run> {
+  let stdout = "";
+  let stderr = "";
+  const status = await main(argv, { stdout: (s) => (stdout += s), stderr: (s) => (stderr += s) });
+  return { status, stdout, stderr };
+}
+
+/** A user mistake: exit 2, nothing on stdout, exactly one line on stderr, no stack trace. */
+function expectOneLineError(result: Run, pattern: RegExp): void {
+  expect(result.status).toBe(2);
+  expect(result.stdout).toBe("");
+  expect(result.stderr.endsWith("\n")).toBe(true);
+  expect(result.stderr.trimEnd().split("\n")).toHaveLength(1);
+  expect(result.stderr).not.toMatch(/\n\s+at /);
+  expect(result.stderr).toMatch(/^skein: /);
+  expect(result.stderr).toMatch(pattern);
+}
+
+/** Log relative error, the accuracy measure NIST StRD uses: about the number of matching significant digits. */
+function logRelativeError(estimate: number, certified: number): number {
+  if (estimate === certified) return Infinity;
+  return -Math.log10(Math.abs(estimate - certified) / Math.abs(certified));
+}
+
+let dir: string;
+async function writeFile(name: string, text: string): Promise<string> {
+  const file = path.join(dir, name);
+  await fs.writeFile(file, text);
+  return file;
+}
+
+beforeAll(async () => {
+  dir = await fs.mkdtemp(path.join(os.tmpdir(), "skein-cli-"));
+});
+
+afterAll(async () => {
+  await fs.rm(dir, { recursive: true, force: true });
+});
+
+describe("skein fit on NIST StRD Longley", () => {
+  const certified = certifiedFile.certified as Record<string, { estimate: number; stdError: number }>;
+
+  it("matches the certified coefficients and standard errors to at least 9 significant digits", async () => {
+    const result = await run("fit", LONGLEY, "--y", "TOTEMP", "--x", LONGLEY_PREDICTORS, "--json");
+    expect(result.stderr).toBe("");
+    expect(result.status).toBe(0);
+    const report = JSON.parse(result.stdout);
+    expect(report.k).toBe(1);
+    expect(report.n).toBe(16);
+    expect(report.rowsUsed).toBe(16);
+    expect(report.rowsSkipped).toBe(0);
+    expect(report.skipped).toEqual([]);
+    expect(report.predictors).toEqual(LONGLEY_PREDICTORS.split(","));
+    expect(report.intercept).toBe(true);
+    expect(report.components).toHaveLength(1);
+    const component = report.components[0];
+    expect(component.weight).toBe(1);
+    expect(component.coefficients).toHaveLength(7);
+    for (let j = 0; j < 7; j++) {
+      // Source: NIST StRD Longley certified values (test/fixtures/longley-certified.json).
+      const { estimate, stdError } = certified[`b${j}`];
+      expect(logRelativeError(component.coefficients[j], estimate)).toBeGreaterThanOrEqual(9);
+      expect(logRelativeError(component.stdErrors[j], stdError)).toBeGreaterThanOrEqual(9);
+    }
+    // sigma = sqrt(RSS/n) from NIST's certified residual sum of squares (derivation in this test).
+    const rss = certifiedFile.residualSumOfSquares;
+    expect(logRelativeError(component.sigma, Math.sqrt(rss / 16))).toBeGreaterThanOrEqual(9);
+    // Gaussian log-likelihood at the ML SD, −n/2 (ln(2π RSS/n) + 1), from the certified RSS (derivation in this test).
+    const logLikelihood = -8 * (Math.log((2 * Math.PI * rss) / 16) + 1);
+    expect(logRelativeError(report.logLikelihood, logLikelihood)).toBeGreaterThanOrEqual(9);
+    // BIC = −2 log L + ν ln n with ν = K(q + 2) − 1 = 8 for K = 1, q = 7 (Schwarz 1978; derivation in this test).
+    expect(report.bic).toBeCloseTo(-2 * logLikelihood + 8 * Math.log(16), 6);
+    expect(report.labels).toEqual(new Array(16).fill(1));
+    expect(report.timings.readMs).toBeGreaterThanOrEqual(0);
+    expect(report.timings.fitMs).toBeGreaterThanOrEqual(0);
+  });
+
+  it("prints a readable table without --json", async () => {
+    const result = await run("fit", LONGLEY, "--y", "TOTEMP", "--x", LONGLEY_PREDICTORS);
+    expect(result.status).toBe(0);
+    expect(result.stdout).toMatch(/TOTEMP regressed on GNPDEFL, GNP, UNEMP, ARMED, POP, YEAR/);
+    expect(result.stdout).toMatch(/16 rows used, 0 skipped/);
+    // Certified b6 = 1829.15146461355 and its standard error 455.478499142212, shown in 6 digits (NIST StRD Longley).
+    expect(result.stdout).toMatch(/YEAR\s+1829\.15\s+455\.478/);
+    expect(result.stdout).toMatch(/intercept\s+-3482259\s+890420/);
+  });
+
+  it("matches column names ignoring case when there is no exact match", async () => {
+    const result = await run("fit", LONGLEY, "--y", "totemp", "--x", "gnpdefl,GNP,unemp,armed,pop,year", "--json");
+    expect(result.status).toBe(0);
+    const report = JSON.parse(result.stdout);
+    expect(report.predictors).toEqual(LONGLEY_PREDICTORS.split(","));
+    // Source: NIST StRD Longley certified b1.
+    expect(logRelativeError(report.components[0].coefficients[1], certified.b1.estimate)).toBeGreaterThanOrEqual(9);
+  });
+
+  it("by default takes every other numeric column, and names the counter that duplicates YEAR", async () => {
+    // Longley's Obs column is YEAR − 1946 (read off test/fixtures/longley.csv).
+    expectOneLineError(await run("fit", LONGLEY, "--y", "TOTEMP"), /Predictor YEAR equals 1946 \+ 1 × Obs/);
+  });
+});
+
+describe("skein fit on small files", () => {
+  it("skips rows with text and blanks, reporting 1-based data rows, and labels them null", async () => {
+    // Invented demo data: y = 1 + 2x exactly on the used rows, plus one outlier so the noise SD is not 0.
+    const file = await writeFile("gaps.csv", "name,x,y\na,1,3\nb,n/a,5\nc,3,7\nd,,9\ne,5,11\nf,6,14\n");
+    const result = await run("fit", file, "--y", "y", "--json");
+    expect(result.status).toBe(0);
+    const report = JSON.parse(result.stdout);
+    // The text column "name" is not taken as a predictor by default.
+    expect(report.predictors).toEqual(["x"]);
+    expect(report.rowsUsed).toBe(4);
+    expect(report.rowsSkipped).toBe(2);
+    expect(report.skipped).toEqual([
+      { row: 2, column: "x", reason: "text" },
+      { row: 4, column: "x", reason: "blank" },
+    ]);
+    expect(report.labels).toEqual([1, null, 1, null, 1, 1]);
+  });
+
+  it("fits without an intercept, reporting it as 0 with standard error 0", async () => {
+    const file = await writeFile("origin.csv", "x,y\n1,2\n2,3\n3,7\n4,8\n");
+    const result = await run("fit", file, "--y", "y", "--x", "x", "--no-intercept", "--json");
+    expect(result.status).toBe(0);
+    const report = JSON.parse(result.stdout);
+    expect(report.intercept).toBe(false);
+    // Regression through the origin: b = Σxy / Σx² = 61/30 (derivation in this test).
+    const slope = 61 / 30;
+    const residuals = [2 - slope, 3 - 2 * slope, 7 - 3 * slope, 8 - 4 * slope];
+    const rss = residuals.reduce((sum, r) => sum + r * r, 0);
+    // Standard error of b: sqrt(RSS/(n − 1) / Σx²) (common practice for one regressor without intercept).
+    const slopeSE = Math.sqrt(rss / 3 / 30);
+    const [component] = report.components;
+    expect(component.coefficients[0]).toBe(0);
+    expect(component.stdErrors[0]).toBe(0);
+    expect(component.coefficients[1]).toBeCloseTo(slope, 12);
+    expect(component.stdErrors[1]).toBeCloseTo(slopeSE, 12);
+    expect(component.sigma).toBeCloseTo(Math.sqrt(rss / 4), 12);
+    // ν = K(q + 2) − 1 = 2 with q = 1 (Schwarz 1978; derivation in this test).
+    expect(report.bic).toBeCloseTo(-2 * report.logLikelihood + 2 * Math.log(4), 10);
+  });
+
+  it("reads a named sheet of an xlsx workbook", async () => {
+    const workbook = new ExcelJS.Workbook();
+    workbook.addWorksheet("Notes").getCell("A1").value = "read me";
+    const sheet = workbook.addWorksheet("Data");
+    sheet.addRow(["x", "y"]);
+    for (const [x, y] of [[1, 2], [2, 3], [3, 7], [4, 8]]) sheet.addRow([x, y]);
+    sheet.addRow([5, { error: "#N/A" }]);
+    const file = path.join(dir, "book.xlsx");
+    await workbook.xlsx.writeFile(file);
+    const result = await run("fit", file, "--sheet", "Data", "--y", "y", "--x", "x", "--no-intercept", "--json");
+    expect(result.status).toBe(0);
+    const report = JSON.parse(result.stdout);
+    // Same rows as origin.csv above: b = 61/30 (derivation in this test).
+    expect(report.components[0].coefficients[1]).toBeCloseTo(61 / 30, 12);
+    expect(report.skipped).toEqual([{ row: 5, column: "y", reason: "error value" }]);
+    expect((await run("fit", file, "--sheet", "Dta", "--y", "y")).stderr).toMatch(/no sheet named "Dta"; its sheets are "Notes", "Data"/);
+  });
+
+  it("lists skipped rows in the table", async () => {
+    const file = await writeFile("skips.csv", "x,y\n1,3\n2,#N/A\n3,7\n4,9.5\n5,11\n");
+    const result = await run("fit", file, "--y", "y");
+    expect(result.status).toBe(0);
+    expect(result.stdout).toMatch(/4 rows used, 1 skipped/);
+    expect(result.stdout).toMatch(/data row 2: error value in y/);
+  });
+});
+
+describe("skein fit: bad files and arguments as a new user would try them", () => {
+  it("too few rows left after skipping text", async () => {
+    const file = await writeFile("mostly-text.csv", "x,y\n1,2\ntwo,3\nthree,4\n4,x\n");
+    expectOneLineError(await run("fit", file, "--y", "y", "--x", "x"), /Only 1 usable row, but at least 3 are needed.*3 rows were skipped, most often for text in column x \(2 rows\)/);
+  });
+
+  it("a ragged sheet", async () => {
+    const file = await writeFile("ragged.csv", "a,b,y\n1,2,3\n4,5,6\n7,8\n9,10,11\n");
+    expectOneLineError(await run("fit", file, "--y", "y"), /Row 4 of ragged.csv \(counting the header row\) has 2 fields but the header row has 3/);
+  });
+
+  it("a constant column", async () => {
+    const file = await writeFile("constant.csv", "a,site,y\n1,5,3\n2,5,4\n3,5,8\n4,5,9\n");
+    expectOneLineError(await run("fit", file, "--y", "y"), /Predictor site has the same value \(5\) in every used row; remove it/);
+  });
+
+  it("a missing column name lists the columns", async () => {
+    expectOneLineError(await run("fit", LONGLEY, "--y", "EMPLOYMENT"), /no column "EMPLOYMENT"; its columns are "Obs", "TOTEMP", "GNPDEFL", "GNP", "UNEMP", "ARMED", "POP", "YEAR"/);
+    expectOneLineError(await run("fit", LONGLEY, "--y", "TOTEMP", "--x", "GNP,POPULATION"), /no column "POPULATION"/);
+  });
+
+  it("an empty file, a file of blank lines, a missing file, an unknown type", async () => {
+    expectOneLineError(await run("fit", await writeFile("empty.csv", ""), "--y", "y"), /empty.csv is empty/);
+    expectOneLineError(await run("fit", await writeFile("blank.csv", "\n\n"), "--y", "y"), /holds no data/);
+    expectOneLineError(await run("fit", path.join(dir, "nope.csv"), "--y", "y"), /No file at/);
+    expectOneLineError(await run("fit", await writeFile("data.json", "{}"), "--y", "y"), /reads \.csv, \.tsv and \.xlsx/);
+  });
+
+  it("a header row only, and a file without a header row", async () => {
+    expectOneLineError(await run("fit", await writeFile("header.csv", "x,y\n"), "--y", "y"), /header row but no data rows/);
+    expectOneLineError(await run("fit", await writeFile("numbers.csv", "1,2\n3,4\n"), "--y", "y"), /first row of numbers.csv holds no column names/);
+  });
+
+  it("y listed among the predictors, or a predictor twice", async () => {
+    expectOneLineError(await run("fit", LONGLEY, "--y", "TOTEMP", "--x", "GNP,TOTEMP"), /TOTEMP is the response \(--y\); leave it out of --x/);
+    expectOneLineError(await run("fit", LONGLEY, "--y", "TOTEMP", "--x", "GNP,gnp"), /GNP appears twice in --x/);
+  });
+
+  it("K other than 1 is not available yet", async () => {
+    expectOneLineError(await run("fit", LONGLEY, "--y", "TOTEMP", "--x", "GNP", "--k", "2"), /K > 1 are not available yet/);
+  });
+
+  it("bad option values and forms", async () => {
+    expectOneLineError(await run("fit", LONGLEY, "--y", "TOTEMP", "--k", "two"), /--k must be a whole number from 1 to 50, not "two"/);
+    expectOneLineError(await run("fit", LONGLEY, "--y", "TOTEMP", "--k", "0"), /--k must be a whole number/);
+    expectOneLineError(await run("fit", LONGLEY, "--y", "TOTEMP", "--seed", "1.5"), /--seed must be a whole number/);
+    expectOneLineError(await run("fit", LONGLEY, "--y"), /--y needs a value/);
+    expectOneLineError(await run("fit", LONGLEY, "--y", "TOTEMP", "--components", "2"), /Unknown option --components for skein fit/);
+    expectOneLineError(await run("fit", LONGLEY, "--y", "TOTEMP", "--json", "--json"), /--json is given twice/);
+    expectOneLineError(await run("fit", LONGLEY, "--y", "TOTEMP", "--x", "GNP,,POP"), /--x has an empty name/);
+    expectOneLineError(await run("fit", LONGLEY), /No response column given/);
+    expectOneLineError(await run("fit", "--y", "TOTEMP"), /No data file given/);
+    // "--x GNP, POP" typed with a space: POP becomes a second file name.
+    expectOneLineError(await run("fit", LONGLEY, "--y", "TOTEMP", "--x", "GNP,", "POP"), /takes one data file but got 2 .*without spaces/);
+    expectOneLineError(await run("fit", LONGLEY, "extra.csv", "--y", "TOTEMP"), /takes one data file but got 2/);
+  });
+
+  it("accepts --flag=value", async () => {
+    const result = await run("fit", LONGLEY, `--y=TOTEMP`, `--x=${LONGLEY_PREDICTORS}`, "--k=1", "--seed=7", "--json");
+    expect(result.status).toBe(0);
+    // Source: NIST StRD Longley certified b6.
+    expect(logRelativeError(JSON.parse(result.stdout).components[0].coefficients[6], 1829.15146461355)).toBeGreaterThanOrEqual(9);
+  });
+});
+
+describe("skein: commands and help", () => {
+  it("prints usage for --help and fit --help", async () => {
+    const top = await run("--help");
+    expect(top.status).toBe(0);
+    expect(top.stdout).toMatch(/Usage: skein COMMAND/);
+    expect(top.stdout).toMatch(/fit\s+fit the regressions/);
+    const fit = await run("fit", "--help");
+    expect(fit.status).toBe(0);
+    expect(fit.stdout).toMatch(/Usage: skein fit FILE --y COLUMN/);
+    expect(fit.stdout).toMatch(/--no-intercept/);
+  });
+
+  it("rejects an unknown command, listing the commands", async () => {
+    expectOneLineError(await run("fitt", "data.csv"), /unknown command "fitt"; the commands are fit, scan, predict, demo/);
+  });
+
+  it("answers that scan, predict and demo are not available yet", async () => {
+    for (const command of ["scan", "predict", "demo"]) {
+      expectOneLineError(await run(command), new RegExp(`${command} is not available yet`));
+    }
+  });
+
+  it("asks for a command when none is given", async () => {
+    expectOneLineError(await run(), /no command given/);
+  });
+});
