@@ -1,0 +1,39 @@
+import { EigenvalueDecomposition, Matrix } from "ml-matrix";
+
+export interface EigenPairs {
+  /** Eigenvalues in the order chosen (largest first, by value or by magnitude). */
+  values: number[];
+  /** Matching unit eigenvectors, each of length p. */
+  vectors: Float64Array[];
+}
+
+/**
+ * The `count` leading eigenpairs of a symmetric p x p matrix (row-major), by value or by
+ * absolute value. Small dense algebra: ml-matrix's symmetric eigensolver (Householder
+ * tridiagonalisation and QL, as in EISPACK tred2/tql2).
+ */
+export function topEigenvectors(matrix: Float64Array, p: number, count: number, byMagnitude: boolean): EigenPairs {
+  const rows: number[][] = [];
+  for (let a = 0; a < p; a++) {
+    const row = new Array<number>(p);
+    // Symmetrise: the caller may have filled only one triangle exactly.
+    for (let b = 0; b < p; b++) row[b] = 0.5 * (matrix[a * p + b] + matrix[b * p + a]);
+    rows.push(row);
+  }
+  const decomposition = new EigenvalueDecomposition(new Matrix(rows), { assumeSymmetric: true });
+  const eigenvalues = decomposition.realEigenvalues;
+  const eigenvectors = decomposition.eigenvectorMatrix;
+  const order = eigenvalues.map((_, i) => i);
+  order.sort((i, j) => (byMagnitude ? Math.abs(eigenvalues[j]) - Math.abs(eigenvalues[i]) : eigenvalues[j] - eigenvalues[i]));
+  const take = Math.min(count, p);
+  const values: number[] = [];
+  const vectors: Float64Array[] = [];
+  for (let t = 0; t < take; t++) {
+    const column = order[t];
+    values.push(eigenvalues[column]);
+    const v = new Float64Array(p);
+    for (let a = 0; a < p; a++) v[a] = eigenvectors.get(a, column);
+    vectors.push(v);
+  }
+  return { values, vectors };
+}

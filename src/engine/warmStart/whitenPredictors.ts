@@ -1,0 +1,111 @@
+/**
+ * Whitening of the predictors, the first step of every moment method for mixed linear
+ * regression (Yi, Caramanis & Sanghavi 2014; Zhong, Jain & Dhillon 2016): with S = L Lᵀ the
+ * (centred or raw) second-moment matrix of x, the whitened rows x̃ = L⁻¹(x − x̄) have identity
+ * second moment, so the moment identities of METHODS.md hold in these coordinates.
+ *
+ * Intercept: when the fit has one, x is centred on its overall mean x̄ (and the caller centres
+ * y on ȳ); a coefficient vector γ in whitened coordinates is then a slope vector
+ * β = L⁻ᵀγ of the original predictors, and the intercept is recovered afterwards by least
+ * squares on the rows the component fits. Without an intercept nothing is centred and S is
+ * the raw second moment E[xxᵀ].
+ */
+export interface WhitenedPredictors {
+  /** n x p row-major whitened predictors. */
+  x: Float64Array;
+  n: number;
+  p: number;
+  /** The mean that was subtracted (zeros without centring). */
+  mean: Float64Array;
+  /** Lower Cholesky factor L of the second-moment matrix, p x p row-major. */
+  cholesky: Float64Array;
+}
+
+/**
+ * Relative size of the smallest Cholesky pivot (against the largest diagonal entry of S)
+ * below which the predictors count as collinear and no whitening is attempted: far above
+ * rounding (1e-16), far below the conditioning of designs worth fitting.
+ */
+const PIVOT_TOLERANCE = 1e-12;
+
+/** Whitens the n x p predictors; null when they are (nearly) collinear or n ≤ p. */
+export function whitenPredictors(x: Float64Array, n: number, p: number, centre: boolean): WhitenedPredictors | null {
+  if (n <= p) return null;
+  const mean = new Float64Array(p);
+  if (centre) {
+    for (let i = 0; i < n; i++) {
+      const row = i * p;
+      for (let j = 0; j < p; j++) mean[j] += x[row + j];
+    }
+    for (let j = 0; j < p; j++) mean[j] /= n;
+  }
+  const centred = new Float64Array(n * p);
+  for (let i = 0; i < n; i++) {
+    const row = i * p;
+    for (let j = 0; j < p; j++) centred[row + j] = x[row + j] - mean[j];
+  }
+  // Second moment S = (1/n) Σ x xᵀ, lower triangle accumulated row by row.
+  const second = new Float64Array(p * p);
+  for (let i = 0; i < n; i++) {
+    const row = i * p;
+    for (let a = 0; a < p; a++) {
+      const va = centred[row + a];
+      const out = a * p;
+      for (let b = 0; b <= a; b++) second[out + b] += va * centred[row + b];
+    }
+  }
+  let largest = 0;
+  for (let a = 0; a < p; a++) {
+    for (let b = 0; b <= a; b++) second[a * p + b] /= n;
+    largest = Math.max(largest, second[a * p + a]);
+  }
+  if (!(largest > 0)) return null;
+  // Cholesky–Banachiewicz, S = L Lᵀ (Golub & Van Loan, 4th ed., algorithm 4.2.1).
+  const chol = new Float64Array(p * p);
+  for (let a = 0; a < p; a++) {
+    for (let b = 0; b <= a; b++) {
+      let s = second[a * p + b];
+      for (let m = 0; m < b; m++) s -= chol[a * p + m] * chol[b * p + m];
+      if (a === b) {
+        if (!(s > PIVOT_TOLERANCE * largest)) return null;
+        chol[a * p + a] = Math.sqrt(s);
+      } else {
+        chol[a * p + b] = s / chol[b * p + b];
+      }
+    }
+  }
+  // x̃ = L⁻¹ x by forward substitution, in place row by row.
+  for (let i = 0; i < n; i++) {
+    const row = i * p;
+    for (let a = 0; a < p; a++) {
+      let s = centred[row + a];
+      for (let m = 0; m < a; m++) s -= chol[a * p + m] * centred[row + m];
+      centred[row + a] = s / chol[a * p + a];
+    }
+  }
+  return { x: centred, n, p, mean, cholesky: chol };
+}
+
+/** Slopes of the original predictors from whitened coefficients: β = L⁻ᵀγ (back substitution). */
+export function unwhitenCoefficients(whitened: WhitenedPredictors, gamma: Float64Array): Float64Array {
+  const { p, cholesky: chol } = whitened;
+  const beta = new Float64Array(p);
+  for (let a = p - 1; a >= 0; a--) {
+    let s = gamma[a];
+    for (let m = a + 1; m < p; m++) s -= chol[m * p + a] * beta[m];
+    beta[a] = s / chol[a * p + a];
+  }
+  return beta;
+}
+
+/** Whitened coefficients from original slopes: γ = Lᵀβ. */
+export function whitenCoefficients(whitened: WhitenedPredictors, beta: Float64Array): Float64Array {
+  const { p, cholesky: chol } = whitened;
+  const gamma = new Float64Array(p);
+  for (let a = 0; a < p; a++) {
+    let s = 0;
+    for (let m = a; m < p; m++) s += chol[m * p + a] * beta[m];
+    gamma[a] = s;
+  }
+  return gamma;
+}
