@@ -1,0 +1,517 @@
+import type { MixtureComponent, MixtureFit, MixtureModel, MixtureOptions, RefinementReport, RegressionData, WarmStartReport } from "./mixtureTypes";
+import { SkeinError } from "./errors";
+import { createRandom, sampleIndices, type Random } from "./random";
+import { leastSquares } from "./leastSquares";
+import { createWorkspace, type MixtureWorkspace } from "./mixture/mixtureWorkspace";
+import { permuteParameters, type MixtureParameters } from "./mixture/mixtureParameters";
+import { computeResiduals, eStep } from "./mixture/eStep";
+import { factorPredictorCovariances, mStepCoefficients, mStepPredictorModel, mStepVariances, type Guards } from "./mixture/mStep";
+import { reseedComponent } from "./mixture/reseedComponent";
+import { hardAssignmentPolish } from "./mixture/hardAssignmentPolish";
+import { canonicalOrder } from "./mixture/canonicalOrder";
+import {
+  locationSeedingLabels,
+  parametersFromCoefficients,
+  randomPartitionLabels,
+  residualSeedingLabels,
+  setHardMemberships,
+} from "./mixture/starts";
+import { createParameters } from "./mixture/mixtureParameters";
+
+// ---------------------------------------------------------------------------------------
+// Defaults and guards. Each is a named constant so a reader can find why it has its value.
+// ---------------------------------------------------------------------------------------
+
+const DEFAULT_SEED = 1;
+/** Random-partition starts besides the seeded ones (residual and location k-means++). */
+const DEFAULT_RESTARTS = 10;
+/** Relative change of the log-likelihood, |ΔL| / max(|L|, n), at which EM stops. */
+const DEFAULT_TOLERANCE = 1e-8;
+const DEFAULT_MAX_ITERATIONS = 500;
+/** EM iterations each start gets before the starts are compared (short exploratory runs). */
+const SHORT_ITERATIONS = 15;
+
+/**
+ * Variance floor, relative to the variance of y: 1e-20 (σ ≥ 1e-10·SD(y)) is far below any
+ * real noise yet above the rounding of residuals computed from normal equations (about
+ * 1e-14·SD(y) for well-conditioned designs), so on noiseless data EM stops at hard memberships
+ * instead of chasing rounding; without a floor the likelihood is unbounded.
+ */
+const VARIANCE_FLOOR_RELATIVE = 1e-20;
+/**
+ * Hathaway (1985) bound on min σ_k² / max σ_k²: 1e-6 lets noise SDs differ by a factor of
+ * 1000, more than real groups in one sheet do, yet stops a component from collapsing onto a
+ * handful of rows it fits (nearly) exactly while the others carry the noise.
+ */
+const VARIANCE_RATIO_BOUND = 1e-6;
+/**
+ * A component must keep at least q + 1 rows' worth of membership: with q rows it fits them
+ * exactly, its variance is 0 and the likelihood is infinite; one row more leaves one degree
+ * of freedom for its noise.
+ */
+const ROWS_BEYOND_COEFFICIENTS = 1;
+/** Joint model: ridge on each x covariance, relative to each predictor's overall variance. */
+const COVARIANCE_RIDGE = 1e-6;
+/** Re-seedings allowed per refinement; beyond this the data does not support K components. */
+const MAX_RESEEDS = 10;
+
+/** All component variances below this fraction of var(y): treat the data as noiseless. */
+const NOISELESS_VARIANCE_RELATIVE = 1e-12;
+
+/**
+ * Subsample for the starts on large inputs: max(SUBSAMPLE_MIN_ROWS, SUBSAMPLE_ROWS_PER_PARAMETER
+ * · k · q) rows, used only when the data has more than twice that many rows. A few thousand rows
+ * already place the components to within a few standard errors of the full-data fit, which the
+ * full-data iterations then remove.
+ */
+const SUBSAMPLE_MIN_ROWS = 4000;
+const SUBSAMPLE_ROWS_PER_PARAMETER = 20;
+
+/**
+ * Two starts disagree when their log-likelihoods are within DISAGREEMENT_LOG_LIKELIHOOD (6 is
+ * "strong evidence" on the 2 ln B scale of Kass & Raftery 1995, so a gap of 3 in ln L) and
+ * their matched coefficients differ by more than DISAGREEMENT_RELATIVE of the coefficient scale.
+ */
+const DISAGREEMENT_LOG_LIKELIHOOD = 3;
+const DISAGREEMENT_RELATIVE = 0.01;
+
+const MODELS: readonly MixtureModel[] = ["plain", "joint"];
+
+interface Settings {
+  k: number;
+  seed: number;
+  intercept: boolean;
+  model: MixtureModel;
+  restarts: number;
+  tolerance: number;
+  maxIterations: number;
+}
+
+interface Candidate {
+  method: string;
+  params: MixtureParameters;
+  logLikelihood: number;
+}
+
+interface EmRun {
+  logLikelihood: number;
+  iterations: number;
+  converged: boolean;
+  reseeds: number;
+  varianceBoundActive: boolean;
+}
+
+/**
+ * Fits a K-component mixture of linear regressions (DeSarbo & Cron 1988; De Veaux 1989) by EM
+ * (Dempster, Laird & Rubin 1977). The driver is the only place that loops over phases:
+ *
+ *   1. starts on the data or, for large inputs, on a seeded subsample: a previous fit, the
+ *      moment warm start when available, residual and location k-means++ seeding, random
+ *      partitions; each refined briefly (SHORT_ITERATIONS);
+ *   2. the best by log-likelihood refined fully; on a subsample, then on the full data;
+ *   3. on noiseless data, the hard-assignment polish (alternating least squares by QR);
+ *   4. memberships, labels, BIC, ICL, canonical order, reports and warnings.
+ *
+ * One generator made from options.seed feeds every random step.
+ */
+export function fitMixture(data: RegressionData, options: MixtureOptions): MixtureFit {
+  const settings = checkInput(data, options);
+  const { k, intercept, model } = settings;
+  const joint = model === "joint";
+  const full = createWorkspace(data, k, intercept, joint);
+  const guards: Guards = {
+    minimumSize: full.q + ROWS_BEYOND_COEFFICIENTS,
+    varianceFloor: Math.max(VARIANCE_FLOOR_RELATIVE * full.yVariance, Number.MIN_VALUE * 1e20),
+    varianceRatioBound: VARIANCE_RATIO_BOUND,
+    covarianceRidge: COVARIANCE_RIDGE,
+  };
+  if (k === 1) return fitSingleComponent(full, settings, guards);
+
+  const random = createRandom(settings.seed);
+  const signal = options.signal;
+  const warnings: string[] = [];
+  const subsampleSize = Math.max(SUBSAMPLE_MIN_ROWS, SUBSAMPLE_ROWS_PER_PARAMETER * k * full.q);
+  const working = full.n > 2 * subsampleSize ? createWorkspace(data, k, intercept, joint, sampleIndices(full.n, subsampleSize, random)) : full;
+
+  // 1. Starts, each refined briefly on the working rows.
+  const candidates: Candidate[] = [];
+  const tryStart = (method: string, params: MixtureParameters | null): void => {
+    checkSignal(signal);
+    if (!params) return;
+    const run = runEm(working, params, guards, SHORT_ITERATIONS, settings.tolerance, random, signal, null);
+    if (Number.isFinite(run.logLikelihood)) candidates.push({ method, params, logLikelihood: run.logLikelihood });
+  };
+  const previous = options.previous;
+  if (previous && previous.k === k && previous.p === data.p && previous.intercept === intercept) {
+    tryStart("previous", parametersFromFit(working, previous, guards));
+  }
+  tryStart("residual-seeding", parametersFromLabels(working, residualSeedingLabels(working, random), guards, random));
+  tryStart("location-seeding", parametersFromLabels(working, locationSeedingLabels(working, random), guards, random));
+  for (let r = 0; r < settings.restarts; r++) {
+    tryStart("random-partition", parametersFromLabels(working, randomPartitionLabels(working.n, k, random), guards, random));
+  }
+  if (candidates.length === 0) {
+    throw new SkeinError("numeric", "Every start failed: the predictors are (nearly) collinear within the groups tried. Remove a predictor that repeats others, or use fewer components.");
+  }
+  candidates.sort((a, b) => b.logLikelihood - a.logLikelihood);
+
+  // 2. Full refinement of the best start; when the runner-up is close in likelihood but far in
+  // coefficients, refine it too so that the comparison is between converged fits.
+  let best = candidates[0];
+  let disagreement = 0;
+  const workingIterations = working === full ? settings.maxIterations : settings.maxIterations;
+  const path: number[] = [];
+  const fullPath = working === full ? path : null;
+  let run = runEm(working, best.params, guards, workingIterations, settings.tolerance, random, signal, fullPath);
+  best.logLikelihood = run.logLikelihood;
+  const runnerUp = candidates.find((c) => c !== best && c.logLikelihood >= best.logLikelihood - DISAGREEMENT_LOG_LIKELIHOOD && coefficientDistance(c.params, best.params) > DISAGREEMENT_RELATIVE);
+  if (runnerUp) {
+    const other = runEm(working, runnerUp.params, guards, workingIterations, settings.tolerance, random, signal, null);
+    runnerUp.logLikelihood = other.logLikelihood;
+    if (runnerUp.logLikelihood > best.logLikelihood) {
+      // The runner-up overtook: its refinement is the one reported.
+      const held = best;
+      best = runnerUp;
+      path.length = 0;
+      run = runEm(working, best.params, guards, workingIterations, settings.tolerance, random, signal, fullPath);
+      best.logLikelihood = run.logLikelihood;
+      disagreement = coefficientDistance(held.params, best.params);
+      if (held.logLikelihood < best.logLikelihood - DISAGREEMENT_LOG_LIKELIHOOD) disagreement = 0;
+    } else if (runnerUp.logLikelihood >= best.logLikelihood - DISAGREEMENT_LOG_LIKELIHOOD) {
+      disagreement = coefficientDistance(runnerUp.params, best.params);
+    }
+  }
+  const startsDisagree = disagreement > DISAGREEMENT_RELATIVE;
+
+  let params = best.params;
+  let subsampleIterations = 0;
+  if (working !== full) {
+    // Finish on all rows from the subsample's fit.
+    subsampleIterations = run.iterations;
+    const fromSubsample = run;
+    run = runEm(full, params, guards, settings.maxIterations, settings.tolerance, random, signal, path);
+    run.reseeds += fromSubsample.reseeds;
+    run.varianceBoundActive ||= fromSubsample.varianceBoundActive;
+  }
+
+  // 3. Noiseless data: finish with exact fits on the hard partition.
+  let polished = false;
+  let logLikelihood = run.logLikelihood;
+  if (isNoiseless(params, full)) {
+    const polishedParams = hardAssignmentPolish(full, params, guards);
+    if (polishedParams) {
+      computeResiduals(full, polishedParams);
+      const polishedLogLikelihood = eStep(full, polishedParams);
+      if (polishedLogLikelihood >= logLikelihood - 1e-9 * Math.abs(logLikelihood)) {
+        params = polishedParams;
+        logLikelihood = polishedLogLikelihood;
+        polished = true;
+      } else {
+        computeResiduals(full, params);
+        logLikelihood = eStep(full, params);
+      }
+    } else {
+      computeResiduals(full, params);
+      logLikelihood = eStep(full, params);
+    }
+  }
+
+  // 4. Reports.
+  const warmStart: WarmStartReport = {
+    converged: !startsDisagree,
+    method: best.method,
+    certificate: NaN,
+    startsTried: candidates.length,
+    disagreement,
+  };
+  const refinement: RefinementReport & { reseeds: number; subsampleRows: number; subsampleIterations: number; polished: boolean } = {
+    converged: run.converged,
+    iterations: run.iterations,
+    logLikelihoodPath: path,
+    reseeds: run.reseeds,
+    subsampleRows: working === full ? 0 : working.n,
+    subsampleIterations,
+    polished,
+  };
+  if (!run.converged) {
+    warnings.push(`The fit stopped after ${run.iterations} iterations before the log-likelihood settled. Raise max_iterations or loosen tolerance, and check that the components are well separated.`);
+  }
+  if (startsDisagree) {
+    warnings.push(`Different starts reached nearly the same log-likelihood with different components (they differ by ${(100 * disagreement).toFixed(1)}% of the coefficient scale), so these components are not well determined. Try more restarts, another seed, fewer components, or more rows.`);
+  }
+  if (run.reseeds > 0) {
+    warnings.push(`A component collapsed onto too few rows ${run.reseeds} time(s) and was re-seeded. The data may hold fewer than ${k} groups: compare BIC across K.`);
+  }
+  let smallestVariance = Infinity;
+  let largestVariance = 0;
+  for (let c = 0; c < k; c++) {
+    smallestVariance = Math.min(smallestVariance, params.variances[c]);
+    largestVariance = Math.max(largestVariance, params.variances[c]);
+  }
+  if (largestVariance > guards.varianceFloor * 1.000001 && smallestVariance <= VARIANCE_RATIO_BOUND * largestVariance * 1.000001) {
+    warnings.push("The noise SDs of the components hit the bound on their ratio (one is over 1000 times another). A component may be fitting a few rows almost exactly: try fewer components.");
+  }
+  return assembleFit(full, params, logLikelihood, settings, warmStart, refinement, warnings, guards);
+}
+
+/** EM iterations from `params` (updated in place) until the relative change drops below tolerance. */
+function runEm(ws: MixtureWorkspace, params: MixtureParameters, guards: Guards, maxIterations: number, tolerance: number, random: Random, signal: MixtureOptions["signal"], path: number[] | null): EmRun {
+  computeResiduals(ws, params);
+  let logLikelihood = eStep(ws, params);
+  let converged = false;
+  let iterations = 0;
+  let reseeds = 0;
+  let varianceBoundActive = false;
+  for (let iteration = 0; iteration < maxIterations; iteration++) {
+    checkSignal(signal);
+    const report = mStepCoefficients(ws, params, guards);
+    const reseeded: number[] = [];
+    if (report.collapsed.length > 0 && reseeds < MAX_RESEEDS) {
+      for (const c of report.collapsed) {
+        reseedComponent(ws, params, c, guards.minimumSize, guards.varianceFloor, random);
+        reseeded.push(c);
+        reseeds++;
+      }
+    }
+    computeResiduals(ws, params);
+    varianceBoundActive = mStepVariances(ws, params, guards, reseeded);
+    const next = eStep(ws, params);
+    iterations++;
+    path?.push(next);
+    const change = next - logLikelihood;
+    logLikelihood = next;
+    // Convergence test: relative change of ln L, with n as the floor of the scale so that a
+    // log-likelihood near 0 does not make the test impossibly strict.
+    if (reseeded.length === 0 && Math.abs(change) <= tolerance * Math.max(Math.abs(next), ws.n)) {
+      converged = true;
+      break;
+    }
+  }
+  return { logLikelihood, iterations, converged, reseeds, varianceBoundActive };
+}
+
+/** A start from a hard partition: memberships 0/1, then one M-step. */
+function parametersFromLabels(ws: MixtureWorkspace, labels: Int32Array, guards: Guards, random: Random): MixtureParameters {
+  const params = createParameters(ws.k, ws.q, ws.p, ws.joint);
+  setHardMemberships(ws, labels);
+  // Rows the partition gives no component: the worst-fitted under no fit are any rows, so
+  // re-seeding here starts from rows drawn at random.
+  ws.rowLogLikelihood.fill(0);
+  const report = mStepCoefficients(ws, params, guards);
+  for (const c of report.collapsed) reseedComponent(ws, params, c, guards.minimumSize, guards.varianceFloor, random);
+  computeResiduals(ws, params);
+  mStepVariances(ws, params, guards, report.collapsed);
+  return params;
+}
+
+/** A start from a previous fit's parameters (same K, predictors and intercept). */
+function parametersFromFit(ws: MixtureWorkspace, previous: MixtureFit, guards: Guards): MixtureParameters {
+  const coefficients = new Float64Array(ws.k * ws.q);
+  previous.components.forEach((component, c) => coefficients.set(component.coefficients.subarray(component.coefficients.length - ws.q), c * ws.q));
+  const params = parametersFromCoefficients(ws, coefficients, guards);
+  previous.components.forEach((component, c) => {
+    if (component.weight > 0) params.weights[c] = component.weight;
+    if (component.sigma > 0) params.variances[c] = Math.max(component.sigma * component.sigma, guards.varianceFloor);
+    if (ws.joint && component.xMean && component.xCovariance && params.xMeans && params.xCovariances) {
+      params.xMeans.set(component.xMean, c * ws.p);
+      params.xCovariances.set(component.xCovariance, c * ws.p * ws.p);
+    }
+  });
+  if (ws.joint) factorPredictorCovariances(params);
+  return params;
+}
+
+/**
+ * K = 1 is ordinary least squares: the QR core gives the coefficients, σ = sqrt(RSS/n) and
+ * ln L = −n/2 (ln(2π σ²) + 1), exactly the single-regression values.
+ */
+function fitSingleComponent(ws: MixtureWorkspace, settings: Settings, guards: Guards): MixtureFit {
+  const fit = leastSquares(ws.design, ws.n, ws.q, ws.y, { intercept: settings.intercept });
+  const params = createParameters(1, ws.q, ws.p, ws.joint);
+  params.weights[0] = 1;
+  params.coefficients.set(fit.coefficients);
+  params.variances[0] = fit.mlSigma * fit.mlSigma;
+  ws.memberships.fill(1);
+  ws.sizes[0] = ws.n;
+  let logLikelihood = fit.logLikelihood;
+  if (ws.joint) {
+    mStepPredictorModel(ws, params, guards);
+    // Add the x part of the likelihood; the y part stays the exact least-squares value.
+    const yOnly = createParameters(1, ws.q, ws.p, false);
+    computeResiduals(ws, params);
+    const both = eStep(ws, params);
+    ws.joint = false;
+    yOnly.variances[0] = params.variances[0];
+    yOnly.coefficients.set(params.coefficients);
+    const yPart = eStep(ws, yOnly);
+    ws.joint = true;
+    logLikelihood += both - yPart;
+  }
+  ws.memberships.fill(1);
+  const warmStart: WarmStartReport = { converged: true, method: "single-component", certificate: NaN, startsTried: 0, disagreement: 0 };
+  const refinement: RefinementReport = { converged: true, iterations: 0, logLikelihoodPath: [logLikelihood] };
+  return assembleFit(ws, params, logLikelihood, settings, warmStart, refinement, [], guards, fit.mlSigma);
+}
+
+function assembleFit(
+  ws: MixtureWorkspace,
+  unordered: MixtureParameters,
+  logLikelihood: number,
+  settings: Settings,
+  warmStart: WarmStartReport,
+  refinement: RefinementReport,
+  warnings: string[],
+  guards: Guards,
+  exactSigma?: number,
+): MixtureFit {
+  const { n, p, q, k } = ws;
+  const order = canonicalOrder(unordered);
+  const params = permuteParameters(unordered, order);
+  const memberships = new Float64Array(n * k);
+  const labels = new Int32Array(n);
+  let entropy = 0;
+  for (let i = 0; i < n; i++) {
+    let best = 0;
+    for (let j = 0; j < k; j++) {
+      const tau = ws.memberships[i * k + order[j]];
+      memberships[i * k + j] = tau;
+      if (tau > memberships[i * k + best]) best = j;
+      // EN = −Σ τ ln τ (Biernacki, Celeux & Govaert 2000), with 0 ln 0 = 0.
+      if (tau > 0) entropy -= tau * Math.log(tau);
+    }
+    labels[i] = best;
+  }
+  const components: MixtureComponent[] = [];
+  for (let j = 0; j < k; j++) {
+    const coefficients = new Float64Array(p + 1);
+    coefficients.set(params.coefficients.subarray(j * q, j * q + q), settings.intercept ? 0 : 1);
+    const component: MixtureComponent = {
+      weight: params.weights[j],
+      sigma: exactSigma !== undefined ? exactSigma : Math.sqrt(params.variances[j]),
+      coefficients,
+    };
+    if (params.xMeans && params.xCovariances) {
+      component.xMean = params.xMeans.slice(j * p, j * p + p);
+      component.xCovariance = params.xCovariances.slice(j * p * p, (j + 1) * p * p);
+    }
+    components.push(component);
+  }
+  // ν = K(q + 2) − 1: q coefficients and one variance per component, K − 1 free weights;
+  // the joint model adds a mean (p) and a covariance (p(p + 1)/2) per component.
+  let parameterCount = k * (q + 2) - 1;
+  if (settings.model === "joint") parameterCount += k * (p + (p * (p + 1)) / 2);
+  // BIC = −2 ln L + ν ln n (Schwarz 1978); ICL = BIC + 2 EN (Biernacki, Celeux & Govaert 2000).
+  const bic = -2 * logLikelihood + parameterCount * Math.log(n);
+  const icl = bic + 2 * entropy;
+  const smallest = Math.min(...components.map((c) => c.weight));
+  if (k > 1 && smallest * n < 2 * guards.minimumSize) {
+    warnings.push(`The smallest component holds only about ${Math.round(smallest * n)} rows for ${q} coefficients; its estimates are unreliable. Use fewer components or add rows.`);
+  }
+  if (k > 1 && n < 5 * k * q) {
+    warnings.push(`There are only ${(n / (k * q)).toFixed(1)} rows per coefficient per component; mixtures of regressions need several times more to be found reliably. Add rows or use fewer components or predictors.`);
+  }
+  return {
+    k,
+    n,
+    p,
+    q,
+    intercept: settings.intercept,
+    model: settings.model,
+    components,
+    memberships,
+    labels,
+    logLikelihood,
+    parameterCount,
+    bic,
+    icl,
+    warmStart,
+    refinement,
+    warnings,
+    seed: settings.seed,
+  };
+}
+
+function isNoiseless(params: MixtureParameters, ws: MixtureWorkspace): boolean {
+  for (let c = 0; c < params.k; c++) if (!(params.variances[c] <= NOISELESS_VARIANCE_RELATIVE * ws.yVariance)) return false;
+  return true;
+}
+
+/**
+ * Largest distance between matched components' coefficients, relative to the largest
+ * coefficient norm of either fit. Components are matched greedily, closest pair first
+ * (exact for well-separated fits, which is when the distance matters).
+ */
+function coefficientDistance(a: MixtureParameters, b: MixtureParameters): number {
+  const { k, q } = a;
+  const distance = (i: number, j: number): number => {
+    let s = 0;
+    for (let l = 0; l < q; l++) s += (a.coefficients[i * q + l] - b.coefficients[j * q + l]) ** 2;
+    return Math.sqrt(s);
+  };
+  let scale = 0;
+  for (let c = 0; c < k; c++) {
+    let na = 0;
+    let nb = 0;
+    for (let l = 0; l < q; l++) {
+      na += a.coefficients[c * q + l] ** 2;
+      nb += b.coefficients[c * q + l] ** 2;
+    }
+    scale = Math.max(scale, Math.sqrt(na), Math.sqrt(nb));
+  }
+  const pairs: [number, number, number][] = [];
+  for (let i = 0; i < k; i++) for (let j = 0; j < k; j++) pairs.push([distance(i, j), i, j]);
+  pairs.sort((x, y) => x[0] - y[0]);
+  const usedA = new Set<number>();
+  const usedB = new Set<number>();
+  let worst = 0;
+  for (const [d, i, j] of pairs) {
+    if (usedA.has(i) || usedB.has(j)) continue;
+    usedA.add(i);
+    usedB.add(j);
+    worst = Math.max(worst, d);
+  }
+  return scale > 0 ? worst / scale : 0;
+}
+
+function checkSignal(signal: MixtureOptions["signal"]): void {
+  if (signal?.aborted) throw new SkeinError("cancelled", "The fit was cancelled before it finished.");
+}
+
+/** Checks every option once, at the entrance, with messages naming the setting. */
+function checkInput(data: RegressionData, options: MixtureOptions): Settings {
+  const { n, p } = data;
+  if (!Number.isInteger(n) || n < 1 || !Number.isInteger(p) || p < 0 || data.y.length < n || data.x.length < n * p) {
+    throw new SkeinError("bad-input", `The data is malformed: expected ${n} responses and ${n} x ${p} predictors. Select a response column and predictor columns of the same height.`);
+  }
+  for (let i = 0; i < n; i++) {
+    if (!Number.isFinite(data.y[i])) throw new SkeinError("bad-input", `Response row ${i + 1} is ${data.y[i]}; every response must be a finite number. Remove or fix that row.`);
+  }
+  for (let i = 0; i < n * p; i++) {
+    if (!Number.isFinite(data.x[i])) throw new SkeinError("bad-input", `Predictor value in row ${Math.floor(i / p) + 1}, column ${(i % p) + 1} is ${data.x[i]}; predictors must be finite numbers. Remove or fix that row.`);
+  }
+  const k = options.k;
+  if (typeof k !== "number" || !Number.isInteger(k) || k < 1) {
+    throw new SkeinError("bad-input", `k (the number of components) must be a whole number of 1 or more; received ${String(k)}. Set k to 1, 2, 3, ...`);
+  }
+  const model = options.model ?? "plain";
+  if (!MODELS.includes(model)) {
+    throw new SkeinError("bad-input", `model must be one of ${MODELS.map((m) => `"${m}"`).join(", ")}; received "${String(model)}". Use "plain" (regression of y on x per component) or "joint" (each component also models x).`);
+  }
+  const intercept = options.intercept ?? true;
+  if (typeof intercept !== "boolean") throw new SkeinError("bad-input", `intercept must be yes or no (true or false); received ${String(intercept)}.`);
+  const q = intercept ? p + 1 : p;
+  if (q < 1) throw new SkeinError("bad-input", "There is nothing to fit: no predictors and no intercept. Add a predictor column or turn the intercept on.");
+  const needed = k * (q + ROWS_BEYOND_COEFFICIENTS);
+  if (n < needed) {
+    throw new SkeinError("bad-input", `k = ${k} components with ${q} coefficients each need at least ${needed} rows (k·(coefficients + 1)); the data has ${n}. Use fewer components or predictors, or add rows.`);
+  }
+  const seed = options.seed ?? DEFAULT_SEED;
+  if (typeof seed !== "number" || !Number.isFinite(seed)) throw new SkeinError("bad-input", `seed must be a finite number; received ${String(seed)}.`);
+  const restarts = options.restarts ?? DEFAULT_RESTARTS;
+  if (!Number.isInteger(restarts) || restarts < 0) throw new SkeinError("bad-input", `restarts must be a whole number of 0 or more; received ${String(restarts)}.`);
+  const tolerance = options.tolerance ?? DEFAULT_TOLERANCE;
+  if (typeof tolerance !== "number" || !(tolerance > 0) || !Number.isFinite(tolerance)) throw new SkeinError("bad-input", `tolerance must be a positive number such as 1e-8; received ${String(tolerance)}.`);
+  const maxIterations = options.maxIterations ?? DEFAULT_MAX_ITERATIONS;
+  if (!Number.isInteger(maxIterations) || maxIterations < 1) throw new SkeinError("bad-input", `max_iterations must be a whole number of 1 or more; received ${String(maxIterations)}.`);
+  return { k, seed, intercept, model, restarts, tolerance, maxIterations };
+}

@@ -1,0 +1,94 @@
+import type { RegressionData } from "../mixtureTypes";
+import { choleskyScratchLength } from "./scaledCholeskySolve";
+
+/**
+ * One data set (the full data or a subsample) prepared for EM, with every scratch array the
+ * phases need allocated once. Memory: n·(q + 2k + 1) doubles plus n·p in the joint model,
+ * linear in rows × (predictors + components).
+ */
+export interface MixtureWorkspace {
+  n: number;
+  p: number;
+  q: number;
+  k: number;
+  intercept: boolean;
+  joint: boolean;
+  /** Row-major n x q design, a leading 1 per row when intercept. */
+  design: Float64Array;
+  y: Float64Array;
+  /** Row-major n x p predictors (the joint model's x). */
+  predictors: Float64Array;
+  /** n x k memberships τ_ik. */
+  memberships: Float64Array;
+  /** n x k residuals y_i − x_iᵀβ_k at the current coefficients. */
+  residuals: Float64Array;
+  /** Per-row log mixture density at the last E-step. */
+  rowLogLikelihood: Float64Array;
+  /** Variance of y over these rows (the data scale the floors refer to). */
+  yVariance: number;
+  /** Variance of each predictor over these rows (the scale of the joint model's ridge). */
+  predictorVariances: Float64Array;
+  /** M-step scratch: k Gram matrices (q x q), k right-hand sides, k weight sums. */
+  grams: Float64Array;
+  rightHandSides: Float64Array;
+  sizes: Float64Array;
+  choleskyScratch: Float64Array;
+  /** Per-row scratch of length k. */
+  rowScratch: Float64Array;
+  /** Per-row scratch of length p (joint model). */
+  predictorScratch: Float64Array;
+}
+
+export function createWorkspace(data: RegressionData, k: number, intercept: boolean, joint: boolean, rows?: Int32Array): MixtureWorkspace {
+  const p = data.p;
+  const q = intercept ? p + 1 : p;
+  const n = rows ? rows.length : data.n;
+  const design = new Float64Array(n * q);
+  const y = new Float64Array(n);
+  const predictors = new Float64Array(n * p);
+  for (let i = 0; i < n; i++) {
+    const source = rows ? rows[i] : i;
+    y[i] = data.y[source];
+    predictors.set(data.x.subarray(source * p, source * p + p), i * p);
+    const offset = i * q;
+    if (intercept) design[offset] = 1;
+    design.set(data.x.subarray(source * p, source * p + p), intercept ? offset + 1 : offset);
+  }
+  const predictorVariances = new Float64Array(p);
+  for (let j = 0; j < p; j++) predictorVariances[j] = columnVariance(predictors, n, p, j);
+  return {
+    n,
+    p,
+    q,
+    k,
+    intercept,
+    joint,
+    design,
+    y,
+    predictors,
+    memberships: new Float64Array(n * k),
+    residuals: new Float64Array(n * k),
+    rowLogLikelihood: new Float64Array(n),
+    yVariance: columnVariance(y, n, 1, 0),
+    predictorVariances,
+    grams: new Float64Array(k * q * q),
+    rightHandSides: new Float64Array(k * q),
+    sizes: new Float64Array(k),
+    choleskyScratch: new Float64Array(choleskyScratchLength(q)),
+    rowScratch: new Float64Array(k),
+    predictorScratch: new Float64Array(p),
+  };
+}
+
+/** Two-pass variance (mean first, then centred squares: Chan, Golub & LeVeque 1983). */
+function columnVariance(values: Float64Array, n: number, stride: number, column: number): number {
+  let mean = 0;
+  for (let i = 0; i < n; i++) mean += values[i * stride + column];
+  mean /= n;
+  let total = 0;
+  for (let i = 0; i < n; i++) {
+    const d = values[i * stride + column] - mean;
+    total += d * d;
+  }
+  return total / n;
+}

@@ -1,0 +1,54 @@
+import type { Random } from "../random";
+import type { MixtureParameters } from "./mixtureParameters";
+import type { MixtureWorkspace } from "./mixtureWorkspace";
+import { scaledCholeskySolve } from "./scaledCholeskySolve";
+
+/**
+ * Replaces a collapsed component (fewer than q + 1 rows' worth of membership, or a singular
+ * weighted design) with a fresh one fitted to rows the mixture explains worst: a component
+ * that the data no longer supports is better spent on rows no other component fits
+ * (the re-seeding practice of split-and-merge and "empty cluster" repair in k-means;
+ * Ueda, Nakano, Ghahramani & Hinton 2000, Neural Computation 12).
+ *
+ * The seed rows are drawn at random from the worst-fitted 2m rows (m = seed size) so that
+ * repeated collapses do not re-seed the same way; the draw uses the fit's one generator.
+ * Weights are renormalised; the variance is that of the seed fit.
+ */
+export function reseedComponent(ws: MixtureWorkspace, params: MixtureParameters, component: number, minimumSize: number, varianceFloor: number, random: Random): void {
+  const { n, q, k, design, y, rowLogLikelihood } = ws;
+  const seedSize = Math.min(n, Math.max(3 * minimumSize, Math.floor(n / (2 * k))));
+  const poolSize = Math.min(n, 2 * seedSize);
+  // Indices of the poolSize rows with the lowest log mixture density.
+  const order = Array.from({ length: n }, (_, i) => i);
+  order.sort((a, b) => rowLogLikelihood[a] - rowLogLikelihood[b] || a - b);
+  const pool = order.slice(0, poolSize);
+  for (let i = pool.length - 1; i > 0; i--) {
+    const j = random.integer(i + 1);
+    const held = pool[i];
+    pool[i] = pool[j];
+    pool[j] = held;
+  }
+  const seedRows = pool.slice(0, seedSize);
+  const gram = new Float64Array(q * q);
+  const rhs = new Float64Array(q);
+  for (const i of seedRows) {
+    for (let j = 0; j < q; j++) {
+      const value = design[i * q + j];
+      rhs[j] += value * y[i];
+      for (let l = j; l < q; l++) gram[j * q + l] += value * design[i * q + l];
+    }
+  }
+  const solution = new Float64Array(q);
+  if (scaledCholeskySolve(gram, rhs, q, solution, ws.choleskyScratch)) params.coefficients.set(solution, component * q);
+  let rss = 0;
+  for (const i of seedRows) {
+    let fitted = 0;
+    for (let j = 0; j < q; j++) fitted += design[i * q + j] * params.coefficients[component * q + j];
+    rss += (y[i] - fitted) * (y[i] - fitted);
+  }
+  params.variances[component] = Math.max(rss / seedRows.length, varianceFloor);
+  params.weights[component] = seedRows.length / n;
+  let total = 0;
+  for (let c = 0; c < k; c++) total += params.weights[c];
+  for (let c = 0; c < k; c++) params.weights[c] /= total;
+}
