@@ -57,6 +57,14 @@ const MAX_RESEEDS = 10;
 
 /** All component variances below this fraction of var(y): treat the data as noiseless. */
 const NOISELESS_VARIANCE_RELATIVE = 1e-12;
+/**
+ * A row counts as fitted exactly by a noiseless component when its residual is below this
+ * fraction of SD(y): a million times the noiseless SD limit's square root would be too loose,
+ * so it sits between rounding (about 1e-14) and anything a real second component leaves.
+ */
+const EXACT_RESIDUAL_RELATIVE = 1e-7;
+/** Peeling rounds after the main refinement (each removes at least one exact component). */
+const MAX_PEELING_ROUNDS = 3;
 
 /**
  * Subsample for the starts on large inputs: max(SUBSAMPLE_MIN_ROWS, SUBSAMPLE_ROWS_PER_PARAMETER
@@ -194,9 +202,26 @@ export function fitMixture(data: RegressionData, options: MixtureOptions): Mixtu
     run.varianceBoundActive ||= fromSubsample.varianceBoundActive;
   }
 
-  // 3. Noiseless data: finish with exact fits on the hard partition.
-  let polished = false;
+  // 3a. Partly noiseless fit: some components fit their rows exactly, others do not. Set the
+  // exactly fitted rows aside and fit the remaining components on the rest (peeling).
   let logLikelihood = run.logLikelihood;
+  let peeled = 0;
+  for (let round = 0; round < MAX_PEELING_ROUNDS; round++) {
+    const peeledParams = peelExactComponents(data, full, params, guards, settings, random);
+    if (!peeledParams) break;
+    const peeledPath: number[] = [];
+    const peeledRun = runEm(full, peeledParams, guards, settings.maxIterations, settings.tolerance, random, signal, peeledPath);
+    if (!(peeledRun.logLikelihood > logLikelihood)) break;
+    params = peeledParams;
+    logLikelihood = peeledRun.logLikelihood;
+    run = { ...peeledRun, reseeds: run.reseeds + peeledRun.reseeds };
+    path.push(...peeledPath);
+    best.method = "exact-peeling";
+    peeled++;
+  }
+
+  // 3b. Noiseless data: finish with exact fits on the hard partition.
+  let polished = false;
   if (isNoiseless(params, full)) {
     const polishedParams = hardAssignmentPolish(full, params, guards);
     if (polishedParams) {
@@ -224,7 +249,7 @@ export function fitMixture(data: RegressionData, options: MixtureOptions): Mixtu
     startsTried: candidates.length,
     disagreement,
   };
-  const refinement: RefinementReport & { reseeds: number; subsampleRows: number; subsampleIterations: number; polished: boolean } = {
+  const refinement: RefinementReport & { reseeds: number; subsampleRows: number; subsampleIterations: number; polished: boolean; peeled: number } = {
     converged: run.converged,
     iterations: run.iterations,
     logLikelihoodPath: path,
@@ -232,6 +257,7 @@ export function fitMixture(data: RegressionData, options: MixtureOptions): Mixtu
     subsampleRows: working === full ? 0 : working.n,
     subsampleIterations,
     polished,
+    peeled,
   };
   if (!run.converged) {
     warnings.push(`The fit stopped after ${run.iterations} iterations before the log-likelihood settled. Raise max_iterations or loosen tolerance, and check that the components are well separated.`);
@@ -429,6 +455,54 @@ function assembleFit(
     warnings,
     seed: settings.seed,
   };
+}
+
+/**
+ * When some components fit their rows to rounding level and others do not, the rows the exact
+ * components explain are removed and the remaining components fitted afresh on the other rows
+ * (a recursive call with K − e components and the same settings, seeded from the same
+ * generator). This is the remove-and-repeat step of moment descent (METHODS.md) applied to
+ * a partial EM fit: K-lines is much easier with fewer lines. Returns combined coefficients as
+ * a start for EM on all rows, or null when there is nothing to peel.
+ */
+function peelExactComponents(data: RegressionData, ws: MixtureWorkspace, params: MixtureParameters, guards: Guards, settings: Settings, random: Random): MixtureParameters | null {
+  const { n, p, q, k } = ws;
+  // Rows a component fits within EXACT_RESIDUAL_RELATIVE · SD(y) are its exact rows; any q rows
+  // can be fitted exactly, so a component counts as exact only with 2q of them or more.
+  const threshold = EXACT_RESIDUAL_RELATIVE * Math.sqrt(ws.yVariance);
+  computeResiduals(ws, params);
+  const exactRows = new Int32Array(k);
+  for (let i = 0; i < n; i++) for (let c = 0; c < k; c++) if (Math.abs(ws.residuals[i * k + c]) <= threshold) exactRows[c]++;
+  const exact: number[] = [];
+  for (let c = 0; c < k; c++) if (exactRows[c] >= 2 * q) exact.push(c);
+  if (exact.length === 0 || exact.length === k) return null;
+  const remaining: number[] = [];
+  for (let i = 0; i < n; i++) {
+    let fitted = false;
+    for (const c of exact) if (Math.abs(ws.residuals[i * k + c]) <= threshold) fitted = true;
+    if (!fitted) remaining.push(i);
+  }
+  const rest = k - exact.length;
+  if (remaining.length < rest * (q + ROWS_BEYOND_COEFFICIENTS)) return null;
+  const x = new Float64Array(remaining.length * p);
+  const y = new Float64Array(remaining.length);
+  remaining.forEach((row, i) => {
+    x.set(data.x.subarray(row * p, row * p + p), i * p);
+    y[i] = data.y[row];
+  });
+  const sub = fitMixture({ x, y, n: remaining.length, p }, {
+    k: rest,
+    seed: random.integer(2147483647),
+    intercept: settings.intercept,
+    model: settings.model,
+    restarts: settings.restarts,
+    tolerance: settings.tolerance,
+    maxIterations: settings.maxIterations,
+  });
+  const coefficients = new Float64Array(k * q);
+  exact.forEach((c, j) => coefficients.set(params.coefficients.subarray(c * q, c * q + q), j * q));
+  sub.components.forEach((component, j) => coefficients.set(component.coefficients.subarray(settings.intercept ? 0 : 1), (exact.length + j) * q));
+  return parametersFromCoefficients(ws, coefficients, guards);
 }
 
 function isNoiseless(params: MixtureParameters, ws: MixtureWorkspace): boolean {
