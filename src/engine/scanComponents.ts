@@ -1,0 +1,232 @@
+import { SkeinError } from "./errors";
+import { fitMixture } from "./fitMixture";
+import { leastSquares } from "./leastSquares";
+import type { MixtureComponent, MixtureFit, MixtureOptions, RegressionData } from "./mixtureTypes";
+import type { ScanOptions, ScanResult, ScanRow } from "./trustTypes";
+import { checkSeparation, degenerateComponentReason } from "./checkSeparation";
+import { computeMemberships } from "./computeMemberships";
+import { createRandom, shuffleInPlace } from "./random";
+import { regressionMatrix } from "./regressionMatrix";
+
+/**
+ * Suggestion rule, in words (the README repeats it):
+ *
+ *   A K is eligible when its fit converged (warm start and refinement), no component is
+ *   near-degenerate (fewer rows than its coefficients + 2, or a noise SD under 1/20 of the
+ *   others while holding few rows; see checkSeparation.ts) and every pair of components is at
+ *   least MIN_SUGGESTED_GAP noise SDs apart. Among eligible K, take the smallest BIC; then
+ *   step down to the smallest eligible K whose BIC is within BIC_TIE of that minimum.
+ *   K = 1 is always eligible, so there is always a suggestion.
+ *
+ * BIC_TIE = 6: a BIC difference of 6 is "strong" evidence on the 2 ln(Bayes factor) scale of
+ * Kass & Raftery (1995, JASA, section 3.2); below it the extra component is not clearly
+ * supported, and the simpler model is preferred.
+ *
+ * MIN_SUGGESTED_GAP = 1: two components whose regressions differ by less than one noise SD on
+ * average misassign about Φ(−0.5) ≈ 31% of rows even with the true parameters (Bayes error
+ * of two equal-weight normals); an extra component split off an existing group lands there,
+ * and a likelihood gain from such a split is not evidence of a separate group.
+ */
+export const BIC_TIE = 6;
+export const MIN_SUGGESTED_GAP = 1;
+
+/**
+ * Folds of the cross-validated log-likelihood (Smyth 2000, Statistics and Computing 10, uses
+ * repeated v-fold and Monte Carlo splits; 5 folds is the common practice balance of bias and cost).
+ */
+export const CROSS_VALIDATION_FOLDS = 5;
+
+/**
+ * Fits K = 1..kMax and reports, for each K, the log-likelihood, BIC, ICL, an optional
+ * cross-validated log-likelihood, convergence, the smallest separation and why the K may not
+ * be suggested; then suggests a K by the rule above.
+ *
+ * Parameter count (Schwarz 1978 BIC = −2 ln L + ν ln n): ν = K(q + 2) − 1 for q coefficients per
+ * component (intercept included), one noise variance each and K − 1 free weights; the joint
+ * model adds K(p + p(p + 1)/2) for each component's x mean and covariance.
+ * ICL = BIC + 2 EN, EN = −Σ_i Σ_k τ_ik ln τ_ik (Biernacki, Celeux & Govaert 2000, IEEE TPAMI).
+ *
+ * Starts are reused across K: besides the fit's own starts, K is also started from the K − 1
+ * fit plus one component fitted to the rows that fit worst under it (a "split/add" start, in
+ * the spirit of greedy mixture learning, Vlassis & Likas 2002), so a larger K begins at least
+ * as well placed as the smaller one.
+ */
+export function scanComponents(data: RegressionData, options: ScanOptions): ScanResult {
+  const kMax = options.kMax;
+  if (!Number.isInteger(kMax) || kMax < 1) throw new SkeinError("bad-input", `The largest number of components (kMax) must be a whole number of at least 1, not ${kMax}.`);
+  const seed = options.seed ?? 1;
+  const intercept = options.intercept ?? true;
+  const model = options.model ?? "plain";
+  const q = intercept ? data.p + 1 : data.p;
+  const rows: ScanRow[] = [];
+  let previousFit: MixtureFit | null = null;
+  for (let k = 1; k <= kMax; k++) {
+    if (options.signal?.aborted) throw new SkeinError("cancelled", "The scan was cancelled.");
+    if (k * (q + 1) > data.n) {
+      // Not even q + 1 rows per component: no fit of this K can be trusted, and larger K less.
+      break;
+    }
+    const fitOptions: MixtureOptions = { k, seed, intercept, model, restarts: options.restarts, signal: options.signal };
+    if (previousFit !== null) {
+      const start = addComponentStart(data, previousFit);
+      if (start !== null) fitOptions.previous = start;
+    }
+    let fit: MixtureFit;
+    try {
+      fit = fitMixture(data, fitOptions);
+    } catch (error) {
+      if (error instanceof SkeinError && error.code !== "cancelled" && k > 1) break;
+      throw error;
+    }
+    rows.push(scanRow(data, fit, options, seed));
+    previousFit = fit;
+    options.onProgress?.(k, kMax);
+  }
+  const chosenK = suggestK(rows);
+  const rule = `Smallest BIC among K whose fit converged, with no near-degenerate component and every pair of components at least ${MIN_SUGGESTED_GAP} noise SD apart; the smallest such K within ${BIC_TIE} BIC units of that minimum.`;
+  return { rows, chosenK, rule };
+}
+
+function scanRow(data: RegressionData, fit: MixtureFit, options: ScanOptions, seed: number): ScanRow {
+  const k = fit.k;
+  const { p, n } = data;
+  const q = fit.q;
+  // ν as stated in the module comment.
+  let parameterCount = k * (q + 2) - 1;
+  if (fit.model === "joint") parameterCount += k * (p + (p * (p + 1)) / 2);
+  const bic = -2 * fit.logLikelihood + parameterCount * Math.log(n);
+  let entropy = 0;
+  for (let t = 0; t < fit.memberships.length; t++) {
+    const tau = fit.memberships[t];
+    if (tau > 0) entropy -= tau * Math.log(tau);
+  }
+  const icl = bic + 2 * entropy;
+  const separation = checkSeparation(data, fit);
+  const converged = fit.warmStart.converged && fit.refinement.converged;
+  const reasons: string[] = [];
+  if (!fit.refinement.converged) reasons.push("the refinement did not converge");
+  else if (!fit.warmStart.converged) reasons.push("different starts disagree or the warm start did not settle");
+  for (let c = 0; c < k; c++) {
+    const reason = degenerateComponentReason(fit, c);
+    if (reason !== null) reasons.push(`near-degenerate: ${reason}`);
+  }
+  if (k > 1 && separation.minGap < MIN_SUGGESTED_GAP) {
+    const pair = separation.pairs.reduce((a, b) => (b.gap < a.gap ? b : a));
+    reasons.push(`components ${pair.a + 1} and ${pair.b + 1} are only ${Number(pair.gap.toPrecision(2))} noise SDs apart`);
+  }
+  const crossValidated = options.crossValidate ? crossValidatedLogLikelihood(data, fit, options, seed) : NaN;
+  return {
+    k,
+    logLikelihood: fit.logLikelihood,
+    bic,
+    icl,
+    crossValidatedLogLikelihood: crossValidated,
+    converged,
+    minSeparation: separation.minGap,
+    flag: reasons.length > 0 ? `Not suggested: ${reasons.join("; ")}.` : null,
+    fit,
+  };
+}
+
+/** The suggestion rule of the module comment. */
+export function suggestK(rows: readonly Pick<ScanRow, "k" | "bic" | "flag">[]): number {
+  const eligible = rows.filter((row) => row.flag === null || row.k === 1);
+  if (eligible.length === 0) return 1;
+  const best = Math.min(...eligible.map((row) => row.bic));
+  const within = eligible.filter((row) => row.bic <= best + BIC_TIE);
+  return Math.min(...within.map((row) => row.k));
+}
+
+/**
+ * A K-component start from a (K − 1)-component fit: its components unchanged, plus one fitted
+ * by least squares to the rows with the lowest log-likelihood under it (the rows it explains
+ * worst), max(2(q + 1), n/K) of them. Weights are scaled to make room for the new one.
+ */
+function addComponentStart(data: RegressionData, fit: MixtureFit): MixtureFit | null {
+  const { n, p } = data;
+  const { matrix, q } = regressionMatrix(data.x, n, p, fit.intercept);
+  const k = fit.k + 1;
+  const rowLogLikelihood = new Float64Array(n);
+  computeMemberships(fit, matrix, q, data.y, data.x, n, rowLogLikelihood);
+  const order = Array.from({ length: n }, (_, i) => i).sort((a, b) => rowLogLikelihood[a] - rowLogLikelihood[b]);
+  const take = Math.min(n, Math.max(2 * (q + 1), Math.round(n / k)));
+  const chosen = order.slice(0, take);
+  const subX = new Float64Array(take * q);
+  const subY = new Float64Array(take);
+  chosen.forEach((row, t) => {
+    subX.set(matrix.subarray(row * q, row * q + q), t * q);
+    subY[t] = data.y[row];
+  });
+  let least;
+  try {
+    least = leastSquares(subX, take, q, subY, { intercept: fit.intercept });
+  } catch {
+    return null;
+  }
+  const coefficients = new Float64Array(p + 1);
+  coefficients.set(least.coefficients, fit.intercept ? 0 : 1);
+  const sigma = Math.max(least.mlSigma, Math.min(...fit.components.map((c) => c.sigma)));
+  const added: MixtureComponent = { weight: 1 / k, sigma, coefficients };
+  if (fit.model === "joint") {
+    const mean = new Float64Array(p);
+    for (const row of chosen) for (let j = 0; j < p; j++) mean[j] += data.x[row * p + j] / take;
+    const covariance = new Float64Array(p * p);
+    for (const row of chosen) {
+      for (let a = 0; a < p; a++) for (let b = 0; b < p; b++) covariance[a * p + b] += ((data.x[row * p + a] - mean[a]) * (data.x[row * p + b] - mean[b])) / take;
+    }
+    added.xMean = mean;
+    added.xCovariance = covariance;
+  }
+  const components = fit.components.map((c) => ({ ...c, weight: (c.weight * (k - 1)) / k }));
+  components.push(added);
+  return {
+    ...fit,
+    k,
+    components,
+    memberships: new Float64Array(n * k),
+    labels: new Int32Array(n),
+  };
+}
+
+/**
+ * Cross-validated log-likelihood per row (Smyth 2000): rows split at random into
+ * CROSS_VALIDATION_FOLDS folds; each fold's rows scored by ln Σ_k π_k f_k under a fit to the
+ * other folds (warm-started from the full-data fit). Unlike the training likelihood it does
+ * not rise with every extra component.
+ */
+function crossValidatedLogLikelihood(data: RegressionData, fit: MixtureFit, options: ScanOptions, seed: number): number {
+  const { n, p } = data;
+  const folds = Math.min(CROSS_VALIDATION_FOLDS, n);
+  const random = createRandom(seed + 7919 * fit.k);
+  const order = shuffleInPlace(Int32Array.from({ length: n }, (_, i) => i), random);
+  let total = 0;
+  for (let f = 0; f < folds; f++) {
+    if (options.signal?.aborted) throw new SkeinError("cancelled", "The scan was cancelled.");
+    const held: number[] = [];
+    const kept: number[] = [];
+    for (let t = 0; t < n; t++) (t % folds === f ? held : kept).push(order[t]);
+    const training = subsetRows(data, kept);
+    let trained: MixtureFit;
+    try {
+      trained = fitMixture(training, { k: fit.k, seed: seed + f, intercept: fit.intercept, model: fit.model, restarts: options.restarts, previous: fit, signal: options.signal });
+    } catch (error) {
+      if (error instanceof SkeinError && error.code === "cancelled") throw error;
+      return NaN;
+    }
+    const test = subsetRows(data, held);
+    const { matrix, q } = regressionMatrix(test.x, test.n, p, fit.intercept);
+    total += computeMemberships(trained, matrix, q, test.y, test.x, test.n).logLikelihood;
+  }
+  return total / n;
+}
+
+function subsetRows(data: RegressionData, rows: readonly number[]): RegressionData {
+  const { p } = data;
+  const y = new Float64Array(rows.length);
+  const x = new Float64Array(rows.length * p);
+  rows.forEach((row, t) => {
+    y[t] = data.y[row];
+    x.set(data.x.subarray(row * p, row * p + p), t * p);
+  });
+  return { y, x, n: rows.length, p };
+}
