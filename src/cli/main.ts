@@ -1,4 +1,5 @@
 import { SkeinError } from "../engine/errors";
+import { demoCommand } from "./demoCommand";
 import { fitCommand } from "./fitCommand";
 
 export interface CommandIO {
@@ -15,13 +16,13 @@ Commands:
   fit       fit the regressions to a .csv or .xlsx file
   scan      compare numbers of components (not available yet)
   predict   predict new rows (not available yet)
-  demo      run on built-in example data (not available yet)
+  demo      run on the sample workbooks (invented data) and write results
 
 Run skein COMMAND --help for a command's options.
 `;
 
 const COMMANDS = ["fit", "scan", "predict", "demo"];
-const COMMANDS_NOT_YET_AVAILABLE = new Set(["scan", "predict", "demo"]);
+const COMMANDS_NOT_YET_AVAILABLE = new Set(["scan", "predict"]);
 
 /** One line for stderr: what went wrong, without line breaks. */
 function oneLine(message: string): string {
@@ -45,6 +46,7 @@ export async function main(argv: readonly string[], io: CommandIO): Promise<numb
       return 0;
     }
     if (command === "fit") return await fitCommand(rest, io);
+    if (command === "demo") return await demoCommand(rest, io);
     if (COMMANDS_NOT_YET_AVAILABLE.has(command)) {
       io.stderr(`skein: ${command} is not available yet in this build; skein fit is\n`);
       return 2;
