@@ -1,0 +1,48 @@
+import type { Design } from "../src/engine/design";
+import type { MixtureFit } from "../src/engine/mixtureTypes";
+import type { ScanResult } from "../src/engine/trustTypes";
+import type { FitDescription } from "./paneEngine";
+
+/** Everything the sections draw from. Only the Pane changes it; sections only read it. */
+export interface PaneState {
+  yAddress: string;
+  xAddress: string;
+  /** Rows in the y range as given (header included), for the size of spilled results. */
+  rangeRows: number;
+  design: Design | null;
+  dataProblem: string | null;
+  scanning: boolean;
+  progress: { k: number; kMax: number } | null;
+  scan: ScanResult | null;
+  /** The data changed after the scan ran. */
+  scanStale: boolean;
+  scanProblem: string | null;
+  chosenK: number | null;
+  fit: MixtureFit | null;
+  description: FitDescription | null;
+  /** Set after a refit that followed a change to the data. */
+  refreshNote: string | null;
+  seed: number;
+  kMax: number;
+}
+
+export function initialState(): PaneState {
+  return {
+    yAddress: "",
+    xAddress: "",
+    rangeRows: 0,
+    design: null,
+    dataProblem: null,
+    scanning: false,
+    progress: null,
+    scan: null,
+    scanStale: false,
+    scanProblem: null,
+    chosenK: null,
+    fit: null,
+    description: null,
+    refreshNote: null,
+    seed: 1,
+    kMax: 5,
+  };
+}

@@ -1,0 +1,134 @@
+import { element, section } from "../dom";
+import { formatNumber, formatShare } from "../format";
+import { markerSwatch } from "../markers";
+import type { Pane } from "../pane";
+import type { PaneState } from "../paneState";
+
+/**
+ * A tenth of the rows skipped is enough to ask whether the skipped rows differ from
+ * the used ones (a group that is mostly blanks would be missing from the fit).
+ */
+export const SKIPPED_SHARE_WARNING = 0.1;
+
+/** How a gap in noise units reads (the thresholds follow the separation check's OVERLAP_GAP = 2). */
+function gapReading(gap: number): string {
+  if (gap < 2) return "overlapping";
+  if (gap < 4) return "apart, with some shared rows";
+  return "well apart";
+}
+
+export interface Warning {
+  id: string;
+  title: string;
+  text: string;
+}
+
+/** The plain-language warnings for the shown fit, most serious first, without repeats. */
+export function warningsFor(state: PaneState): Warning[] {
+  const { fit, design, description } = state;
+  const out: Warning[] = [];
+  if (!fit || !design) return out;
+  if (!fit.warmStart.converged) {
+    out.push({
+      id: "warm-start",
+      title: "The starting search did not settle",
+      text: `The search for good starting values (${fit.warmStart.method}, ${fit.warmStart.startsTried} starts) did not converge, so this fit may be one of several that describe the data about equally well. Try: another seed (change Seed and run the scan again), more restarts (the restarts setting of the SKEIN formulas), rescaling predictors whose sizes differ by powers of ten, or fewer components.`,
+    });
+  }
+  if (!fit.refinement.converged) {
+    out.push({
+      id: "refinement",
+      title: "The fit stopped before it settled",
+      text: `The refinement stopped after ${fit.refinement.iterations} iterations with the log-likelihood still changing. Try another seed, fewer components, or rescaling the predictors.`,
+    });
+  }
+  const skippedShare = design.skipped.length / design.inputRows;
+  if (skippedShare > SKIPPED_SHARE_WARNING) {
+    out.push({
+      id: "skipped",
+      title: "Many rows were skipped",
+      text: `${design.skipped.length} of ${design.inputRows} rows (${formatShare(skippedShare)}) were left out for blanks, text or errors (see Data). If those rows differ from the others, a group may be missing from the fit; fill or fix those cells where you can.`,
+    });
+  }
+  const seen = new Set<string>();
+  const engineWarnings = [...(description?.separation.warnings ?? []), ...fit.warnings];
+  for (const text of engineWarnings) {
+    if (seen.has(text)) continue;
+    seen.add(text);
+    const lower = text.toLowerCase();
+    const title = lower.includes("overlap") || lower.includes("apart") || lower.includes("misclass")
+      ? "Components overlap"
+      : lower.includes("degenerate") || lower.includes("smallest component") || lower.includes("few rows") || lower.includes("tiny")
+        ? "A component is very small"
+        : "Note from the fit";
+    out.push({ id: `engine-${seen.size}`, title, text });
+  }
+  return out;
+}
+
+/** Checks: the separation table, summary measures and the warnings, each saying what to try. */
+export function mountChecksSection(parent: HTMLElement, pane: Pane): { update(state: PaneState): void } {
+  const { root, body } = section("checks", "Checks");
+  parent.appendChild(root);
+  const empty = element("p", { class: "hint" }, "Checks of the shown fit appear here.");
+  const warnings = element("div", { id: "warnings", "aria-live": "polite" });
+  const measures = element("dl", { id: "check-measures", class: "measures" });
+  const tableWrap = element("div", { class: "table-wrap" });
+  const trySeed = element("button", { type: "button", id: "try-seed", class: "secondary", hidden: "" });
+  trySeed.addEventListener("click", () => {
+    pane.setSeed(pane.state.seed + 1);
+    const seedInput = document.getElementById("seed") as HTMLInputElement | null;
+    if (seedInput) seedInput.value = String(pane.state.seed);
+    void pane.runScan();
+  });
+  body.append(empty, warnings, trySeed, measures, tableWrap);
+
+  return {
+    update(state) {
+      const { fit, description } = state;
+      if (!fit || !state.design || fit.p !== state.design.p) {
+        empty.hidden = false;
+        warnings.innerHTML = "";
+        measures.innerHTML = "";
+        tableWrap.innerHTML = "";
+        trySeed.hidden = true;
+        return;
+      }
+      empty.hidden = true;
+      const list = warningsFor(state);
+      warnings.innerHTML = "";
+      if (list.length === 0) {
+        warnings.appendChild(element("p", { class: "ok", id: "no-warnings" }, description ? "No warnings for this fit." : "Checking…"));
+      }
+      for (const w of list) {
+        const box = element("div", { class: `warning warning-${w.id}`, role: "group", "aria-label": w.title });
+        box.appendChild(element("p", { class: "warning-title" }, `⚠ ${w.title}`));
+        box.appendChild(element("p", {}, w.text));
+        warnings.appendChild(box);
+      }
+      const unsettled = !fit.warmStart.converged || !fit.refinement.converged;
+      trySeed.hidden = !unsettled || state.scanning;
+      trySeed.textContent = `Run the scan again with seed ${state.seed + 1}`;
+
+      if (!description) {
+        measures.innerHTML = "";
+        tableWrap.innerHTML = "";
+        return;
+      }
+      const s = description.separation;
+      measures.innerHTML =
+        `<div><dt>Smallest gap between components</dt><dd>${fit.k === 1 ? "— (one component)" : `${formatNumber(s.minGap, 3)} noise SDs`}</dd></div>` +
+        `<div><dt>Estimated share of rows given the wrong component</dt><dd>${formatShare(s.misclassification)}</dd></div>` +
+        `<div><dt>Clarity of memberships (1 = every row clearly in one component)</dt><dd>${formatNumber(s.normalisedEntropy, 3)}</dd></div>` +
+        `<div><dt>Smallest weight</dt><dd>${formatNumber(s.smallestWeight, 3)}</dd></div>`;
+      if (s.pairs.length === 0) {
+        tableWrap.innerHTML = "";
+        return;
+      }
+      const rows = s.pairs
+        .map((pair) => `<tr><th scope="row">${markerSwatch(pair.a)} ${pair.a + 1} and ${markerSwatch(pair.b)} ${pair.b + 1}</th><td>${formatNumber(pair.gap, 3)}</td><td>${gapReading(pair.gap)}</td></tr>`)
+        .join("");
+      tableWrap.innerHTML = `<table id="separation-table" class="numbers"><caption>Gap between each pair of components, in noise SDs (2 or less: overlapping)</caption><thead><tr><th scope="col">Components</th><th scope="col">Gap</th><th scope="col">Reading</th></tr></thead><tbody>${rows}</tbody></table>`;
+    },
+  };
+}

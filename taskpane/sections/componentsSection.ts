@@ -1,0 +1,100 @@
+import { element, escapeHtml, section } from "../dom";
+import { formatNumber } from "../format";
+import { markerSwatch } from "../markers";
+import type { Pane } from "../pane";
+import type { PaneState } from "../paneState";
+import { defaultAxis, drawScatter, type ScatterAxis } from "../scatterPlot";
+
+export const USE_WITH_CARE =
+  "Use with care: every number here is an estimate from the rows given. A component is a pattern in the numbers, not proof that a real group exists. Decisions about people need review by someone qualified and must follow local rules.";
+
+/** An estimate with its standard error in brackets, or the estimate alone when none is known. */
+function withError(value: number, error: number | undefined): string {
+  const shown = formatNumber(value);
+  return error === undefined || !Number.isFinite(error) ? shown : `${shown} <span class="se">(${formatNumber(error, 2)})</span>`;
+}
+
+/**
+ * Components: the table of weight, noise SD and coefficients with standard
+ * errors, and the scatter of y against a chosen predictor or the fitted value.
+ */
+export function mountComponentsSection(parent: HTMLElement, _pane: Pane): { update(state: PaneState): void } {
+  const { root, body } = section("components", "Components");
+  parent.appendChild(root);
+  const empty = element("p", { class: "hint" }, "Run the scan and choose a number of components to see them here.");
+  const care = element("p", { id: "use-with-care", class: "care", role: "note" }, USE_WITH_CARE);
+  const heading = element("p", { id: "components-heading", class: "status" });
+  const refresh = element("p", { id: "refresh-note", class: "notice", "aria-live": "polite", hidden: "" });
+  const tableWrap = element("div", { class: "table-wrap" });
+  const seNote = element("p", { class: "hint", id: "se-note" });
+  const axisField = element("div", { class: "field small" });
+  axisField.appendChild(element("label", { for: "scatter-axis" }, "Plot the response against"));
+  const axisSelect = element("select", { id: "scatter-axis" });
+  axisField.appendChild(axisSelect);
+  const plot = element("div", { id: "scatter", class: "chart" });
+  const results = element("div", { class: "results", hidden: "" });
+  results.append(care, heading, refresh, tableWrap, seNote, axisField, plot);
+  body.append(empty, results);
+
+  let axis: ScatterAxis = 0;
+  let last: PaneState | null = null;
+  const redrawPlot = () => {
+    if (last?.fit && last.design) drawScatter(plot, last.design, last.fit, axis);
+  };
+  axisSelect.addEventListener("change", () => {
+    axis = axisSelect.value === "fitted" ? "fitted" : Number(axisSelect.value);
+    redrawPlot();
+  });
+
+  let drawnFit: unknown = null;
+  let drawnDescription: unknown = null;
+  return {
+    update(state) {
+      const { fit, design } = state;
+      refresh.hidden = state.refreshNote === null;
+      refresh.textContent = state.refreshNote ?? "";
+      if (!fit || !design || fit.p !== design.p) {
+        results.hidden = true;
+        empty.hidden = false;
+        drawnFit = null;
+        return;
+      }
+      results.hidden = false;
+      empty.hidden = true;
+      if (drawnFit === fit && drawnDescription === state.description) return;
+      const axisChanged = drawnFit === null || last?.design?.predictorNames.join("\u0000") !== design.predictorNames.join("\u0000");
+      drawnFit = fit;
+      drawnDescription = state.description;
+      last = state;
+      heading.textContent = `${fit.k} component${fit.k === 1 ? "" : "s"}${state.scan && fit.k === state.scan.chosenK ? " (the suggested number)" : ""}, fitted to ${fit.n} rows, seed ${fit.seed}.`;
+
+      const errors = state.description?.errors ?? null;
+      const names = ["Intercept", ...design.predictorNames];
+      const start = fit.intercept ? 0 : 1;
+      let html = `<table id="components-table" class="numbers"><caption class="visually-hidden">Estimates per component, standard errors in brackets</caption><thead><tr><th scope="col">Component</th><th scope="col">Weight</th><th scope="col">Noise SD</th>`;
+      for (let j = start; j < names.length; j++) html += `<th scope="col">${escapeHtml(names[j])}</th>`;
+      html += `</tr></thead><tbody>`;
+      fit.components.forEach((component, c) => {
+        html += `<tr><th scope="row">${markerSwatch(c)} ${c + 1}</th><td>${withError(component.weight, errors?.weights[c])}</td><td>${withError(component.sigma, errors?.sigmas[c])}</td>`;
+        for (let j = start; j < names.length; j++) html += `<td>${withError(component.coefficients[j], errors?.coefficients[c]?.[j])}</td>`;
+        html += `</tr>`;
+      });
+      html += `</tbody></table>`;
+      tableWrap.innerHTML = html;
+      seNote.textContent = errors
+        ? `Standard errors in brackets (${errors.method === "bootstrap" ? "bootstrap" : "from the observed information"}).`
+        : state.description?.errorsProblem
+          ? `No standard errors: ${state.description.errorsProblem}`
+          : state.description ? "" : "Working out standard errors…";
+
+      if (axisChanged) {
+        axisSelect.innerHTML = "";
+        design.predictorNames.forEach((name, j) => axisSelect.appendChild(element("option", { value: String(j) }, name)));
+        axisSelect.appendChild(element("option", { value: "fitted" }, "Fitted value"));
+        axis = defaultAxis(design, fit);
+      }
+      axisSelect.value = String(axis);
+      redrawPlot();
+    },
+  };
+}

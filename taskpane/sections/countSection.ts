@@ -1,0 +1,135 @@
+import { drawBicChart } from "../bicChart";
+import { element, section } from "../dom";
+import { formatNumber } from "../format";
+import type { Pane } from "../pane";
+import type { PaneState } from "../paneState";
+
+/** Largest K offered: beyond this a scan gets slow and BIC rarely has data enough to support it. */
+export const K_MAX_LIMIT = 10;
+
+/**
+ * How many components: the scan over K = 1..kMax with progress and cancel, the
+ * chart of BIC and ICL, and a table where each K can be chosen by radio button
+ * (the keyboard path besides the chart's own focusable points).
+ */
+export function mountCountSection(parent: HTMLElement, pane: Pane): { update(state: PaneState): void } {
+  const { root, body } = section("count", "How many components");
+  parent.appendChild(root);
+  body.appendChild(element("p", { class: "hint" }, "Fit 1, 2, … components and compare them. Lower BIC and ICL are better; ICL also prefers components that are clearly apart."));
+  const settings = element("div", { class: "inline settings" });
+  const kField = element("div", { class: "field small" });
+  kField.appendChild(element("label", { for: "k-max" }, "Most components to try"));
+  const kMaxInput = element("input", { id: "k-max", type: "number", min: "1", max: String(K_MAX_LIMIT), step: "1", value: "5" });
+  kField.appendChild(kMaxInput);
+  const seedField = element("div", { class: "field small" });
+  seedField.appendChild(element("label", { for: "seed" }, "Seed"));
+  const seedInput = element("input", { id: "seed", type: "number", min: "0", step: "1", value: "1", "aria-describedby": "seed-hint" });
+  seedField.append(seedInput, element("span", { id: "seed-hint", class: "visually-hidden" }, "The same seed gives the same fit again."));
+  settings.append(kField, seedField);
+  body.appendChild(settings);
+  kMaxInput.addEventListener("change", () => {
+    const value = Math.round(Number(kMaxInput.value));
+    const kMax = Number.isFinite(value) ? Math.max(1, Math.min(K_MAX_LIMIT, value)) : 5;
+    kMaxInput.value = String(kMax);
+    pane.setKMax(kMax);
+  });
+  seedInput.addEventListener("change", () => {
+    const value = Math.round(Number(seedInput.value));
+    const seed = Number.isFinite(value) && value >= 0 ? value : 1;
+    seedInput.value = String(seed);
+    pane.setSeed(seed);
+  });
+
+  const buttons = element("div", { class: "inline" });
+  const run = element("button", { type: "button", id: "run-scan", class: "primary" }, "Run scan");
+  const cancel = element("button", { type: "button", id: "cancel-scan", class: "secondary", disabled: "" }, "Cancel");
+  run.addEventListener("click", () => void pane.runScan());
+  cancel.addEventListener("click", () => pane.cancelScan());
+  buttons.append(run, cancel);
+  body.appendChild(buttons);
+
+  const progressWrap = element("div", { class: "progress", hidden: "" });
+  const progressLabel = element("label", { for: "scan-progress", id: "scan-progress-label" }, "Scan progress");
+  const progress = element("progress", { id: "scan-progress", max: "1", value: "0" });
+  progressWrap.append(progressLabel, progress);
+  body.appendChild(progressWrap);
+  const status = element("p", { id: "scan-status", class: "status", "aria-live": "polite" });
+  const problem = element("p", { id: "scan-problem", class: "problem", role: "alert", hidden: "" });
+  const stale = element("p", { id: "scan-stale", class: "notice", hidden: "" }, "The data changed after this scan. The shown fit was refitted on the new rows; run the scan again to re-check the number of components.");
+  body.append(status, problem, stale);
+
+  const chart = element("div", { id: "bic-chart", class: "chart" });
+  body.appendChild(chart);
+  const rule = element("p", { id: "scan-rule", class: "hint" });
+  body.appendChild(rule);
+  const tableWrap = element("div", { class: "table-wrap" });
+  body.appendChild(tableWrap);
+
+  let drawn: unknown = null;
+  let drawnK: number | null = null;
+  return {
+    update(state) {
+      run.disabled = state.scanning || state.design === null;
+      run.textContent = state.scan ? "Run scan again" : "Run scan";
+      if (state.scanning) cancel.removeAttribute("disabled");
+      else cancel.setAttribute("disabled", "");
+      progressWrap.hidden = !state.scanning;
+      if (state.progress) {
+        progress.max = state.progress.kMax;
+        progress.value = state.progress.k;
+        status.textContent = state.progress.k < state.progress.kMax ? `Fitting ${state.progress.k + 1} of ${state.progress.kMax} components…` : "Finishing…";
+      } else if (state.scan && !state.scanning) {
+        status.textContent = `Scan done: ${state.scan.chosenK} suggested. Showing ${state.chosenK ?? state.scan.chosenK}.`;
+      } else {
+        status.textContent = "";
+      }
+      problem.hidden = state.scanProblem === null;
+      problem.textContent = state.scanProblem ?? "";
+      stale.hidden = !(state.scan && state.scanStale);
+
+      const scan = state.scan;
+      if (!scan) {
+        chart.innerHTML = "";
+        tableWrap.innerHTML = "";
+        rule.textContent = "";
+        drawn = null;
+        return;
+      }
+      if (drawn === scan && drawnK === state.chosenK) return;
+      drawn = scan;
+      drawnK = state.chosenK;
+      const hadFocus = chart.contains(document.activeElement);
+      drawBicChart(chart, scan.rows, scan.chosenK, state.chosenK, (k) => void pane.chooseK(k));
+      if (hadFocus) chart.querySelector<SVGGElement>("g.k-point[tabindex='0']")?.focus();
+      rule.textContent = `How the suggestion is made: ${scan.rule}`;
+
+      const table = element("table", { id: "scan-table", class: "numbers" });
+      table.appendChild(element("caption", { class: "visually-hidden" }, "Scan results by number of components"));
+      table.innerHTML += `<thead><tr><th scope="col">Show</th><th scope="col">K</th><th scope="col">BIC</th><th scope="col">ICL</th><th scope="col">Log-likelihood</th><th scope="col">Smallest gap</th><th scope="col">Note</th></tr></thead>`;
+      const tbody = element("tbody");
+      for (const row of scan.rows) {
+        const tr = element("tr", { class: row.k === state.chosenK ? "chosen" : "" });
+        const pick = element("td");
+        const radio = element("input", { type: "radio", name: "chosen-k", id: `k-${row.k}`, value: String(row.k), "aria-label": `Show the fit with ${row.k} component${row.k === 1 ? "" : "s"}` });
+        if (row.k === state.chosenK) radio.setAttribute("checked", "");
+        radio.addEventListener("change", () => void pane.chooseK(row.k));
+        pick.appendChild(radio);
+        tr.appendChild(pick);
+        tr.appendChild(element("th", { scope: "row" }, String(row.k)));
+        tr.appendChild(element("td", {}, formatNumber(row.bic, 6)));
+        tr.appendChild(element("td", {}, formatNumber(row.icl, 6)));
+        tr.appendChild(element("td", {}, formatNumber(row.logLikelihood, 6)));
+        tr.appendChild(element("td", {}, row.k === 1 ? "—" : formatNumber(row.minSeparation, 3)));
+        const notes: string[] = [];
+        if (row.k === scan.chosenK) notes.push("suggested");
+        if (!row.converged) notes.push("did not converge");
+        if (row.flag) notes.push(row.flag);
+        tr.appendChild(element("td", { class: "note-cell" }, notes.join("; ")));
+        tbody.appendChild(tr);
+      }
+      table.appendChild(tbody);
+      tableWrap.innerHTML = "";
+      tableWrap.appendChild(table);
+    },
+  };
+}

@@ -1,0 +1,74 @@
+import { parseAddress } from "../a1";
+import { element, section } from "../dom";
+import { formatShare, plural } from "../format";
+import type { Pane } from "../pane";
+import type { PaneState } from "../paneState";
+
+/** Skipped rows listed by number; the rest are counted. */
+const SKIPPED_SHOWN = 5;
+
+/**
+ * Data: the y and x ranges, taken from the selection with one click each or
+ * typed, and what the data layer made of them (header row, rows used, rows
+ * skipped with the first few reasons).
+ */
+export function mountDataSection(parent: HTMLElement, pane: Pane): { body: HTMLElement; update(state: PaneState): void } {
+  const { root, body } = section("data", "Data");
+  parent.appendChild(root);
+  const fields = element("div", { class: "range-fields" });
+  const makeField = (which: "y" | "x", label: string, hint: string) => {
+    const field = element("div", { class: "field" });
+    field.appendChild(element("label", { for: `${which}-address` }, label));
+    const line = element("div", { class: "inline" });
+    const input = element("input", { id: `${which}-address`, type: "text", spellcheck: "false", autocomplete: "off", "aria-describedby": `${which}-hint`, placeholder: which === "y" ? "e.g. Sheet1!B1:B201" : "e.g. Sheet1!C1:E201" });
+    const button = element("button", { type: "button", id: `${which}-use`, class: "secondary", "aria-label": `Use the selected cells as the ${label.toLowerCase()}` }, "Use selection");
+    button.addEventListener("click", () => void pane.useSelection(which));
+    line.append(input, button);
+    field.append(line, element("p", { id: `${which}-hint`, class: "hint" }, hint));
+    fields.appendChild(field);
+    return input;
+  };
+  const yInput = makeField("y", "Response range (y)", "One column; a name in its first row is found on its own.");
+  const xInput = makeField("x", "Predictor range (x)", "One or more side-by-side columns over the same rows as y.");
+  body.appendChild(fields);
+  const commit = () => void pane.setAddresses(yInput.value.trim(), xInput.value.trim());
+  for (const input of [yInput, xInput]) {
+    input.addEventListener("change", commit);
+    input.addEventListener("keydown", (e) => {
+      if (e.key === "Enter") commit();
+    });
+  }
+  const summary = element("div", { id: "data-summary", class: "summary", "aria-live": "polite" });
+  const problem = element("p", { id: "data-problem", class: "problem", role: "alert", hidden: "" });
+  body.append(summary, problem);
+
+  return {
+    body,
+    update(state) {
+      if (document.activeElement !== yInput) yInput.value = state.yAddress;
+      if (document.activeElement !== xInput) xInput.value = state.xAddress;
+      problem.hidden = state.dataProblem === null;
+      problem.textContent = state.dataProblem ?? "";
+      const design = state.design;
+      if (!design) {
+        summary.innerHTML = state.dataProblem ? "" : `<p class="hint">Choose the response and predictor ranges to begin.</p>`;
+        return;
+      }
+      summary.innerHTML = "";
+      const header = design.hasHeaderRow
+        ? `Header row found: y is “${design.yName}”, x is ${design.predictorNames.map((n) => `“${n}”`).join(", ")}.`
+        : `No header row: the columns are called ${design.yName} and ${design.predictorNames.join(", ")}.`;
+      summary.appendChild(element("p", { id: "data-headers" }, header));
+      summary.appendChild(element("p", { id: "data-rows" }, `Rows used: ${design.n} of ${design.inputRows}. Rows skipped: ${design.skipped.length}${design.skipped.length > 0 ? ` (${formatShare(design.skipped.length / design.inputRows)})` : ""}.`));
+      if (design.skipped.length > 0) {
+        // Sheet row numbers, so the user can go straight to the cell.
+        const top = parseAddress(state.yAddress)?.top ?? 0;
+        const first = top + (design.hasHeaderRow ? 1 : 0) + 1;
+        const list = element("ul", { id: "data-skipped", class: "compact", "aria-label": "First skipped rows" });
+        for (const s of design.skipped.slice(0, SKIPPED_SHOWN)) list.appendChild(element("li", {}, `Row ${first + s.row}: ${s.reason} in ${s.column}`));
+        if (design.skipped.length > SKIPPED_SHOWN) list.appendChild(element("li", {}, `and ${plural(design.skipped.length - SKIPPED_SHOWN, "more row")}`));
+        summary.appendChild(list);
+      }
+    },
+  };
+}
