@@ -1,43 +1,132 @@
 /*
- * Skein's worksheet functions. Each is a thin adapter: it turns range arguments into
- * the engine's inputs, calls the engine, and turns the result into a spilled 2-D array
- * or a worksheet error. The JSDoc on each function is the only source of the generated
- * functions.json (custom-functions-metadata-plugin); never edit that file by hand.
+ * Skein's worksheet functions. Each is a thin adapter: it hands its arguments to the shared
+ * fit (sharedFit.ts: one fit per data version, cached, warm-started per formula cell, run off
+ * the page thread for large ranges) and shapes the answer (worksheetResults.ts). Failures
+ * become cell errors with a message (toWorksheetError.ts). The JSDoc on each function is the
+ * only source of the generated functions.json (custom-functions-metadata-plugin); never edit
+ * that file by hand.
  */
-import { buildDesign } from "../engine/design";
-import { designMatrix } from "../engine/designMatrix";
-import { leastSquares } from "../engine/leastSquares";
-import { isSkeinError } from "../engine/errors";
+import { sharedFit, sharedScan } from "./sharedFit";
+import { worksheetCall } from "./toWorksheetError";
+import { checkTable, componentTable, labelColumn, membershipTable, predictionTable, scanTable } from "./worksheetResults";
 
-function toWorksheetError(error: unknown): CustomFunctions.Error {
-  if (isSkeinError(error)) {
-    const code = error.code === "numeric" ? CustomFunctions.ErrorCode.invalidNumber : error.code === "not-found" ? CustomFunctions.ErrorCode.notAvailable : CustomFunctions.ErrorCode.invalidValue;
-    return new CustomFunctions.Error(code, error.message);
-  }
-  return new CustomFunctions.Error(CustomFunctions.ErrorCode.invalidValue, `Skein could not finish: ${error instanceof Error ? error.message : String(error)}`);
+/**
+ * Fits k hidden groups, each with its own linear regression of y on x. Returns one row per component: component number, weight, noise SD, intercept, then one coefficient per predictor.
+ * @customfunction FIT
+ * @helpurl https://localhost:3000/taskpane.html
+ * @param y The outcome: one column of numbers. Rows with a blank, text or logical cell in y or x are skipped.
+ * @param x The predictors: one or more columns of numbers, over the same rows as y.
+ * @param [k] Number of components, a whole number from 1 to 50 (default 1).
+ * @param [settings] Text such as "seed=7; intercept=no; model=joint", or a two-column range of names and values.
+ * @param invocation Supplied by Excel: the formula's cell, and cancellation when its inputs change.
+ * @returns One row per component (a header row when settings say headers=yes).
+ * @requiresAddress
+ * @cancelable
+ */
+export async function fit(y: any[][], x: any[][], k?: number, settings?: any[][], invocation?: CustomFunctions.CancelableInvocation): Promise<any[][]> {
+  return worksheetCall(async () => {
+    const answer = await sharedFit(y, x, k, settings, invocation);
+    return componentTable(answer.shared, answer.settings);
+  });
 }
 
 /**
- * Fits a mixture of linear regressions and returns one row per component: component number, weight, noise SD, intercept, then one coefficient per predictor.
- * @customfunction FIT
+ * For each row of the data, the number of the component it most probably belongs to; "" for rows that were skipped. Lines up with the input rows.
+ * @customfunction LABELS
  * @helpurl https://localhost:3000/taskpane.html
- * @param y The outcome: one column of numbers.
- * @param x The predictors: one or more columns of numbers, as many rows as y.
- * @param [k] Number of components (default 1).
- * @returns One row per component.
+ * @param y The outcome: one column of numbers. Rows with a blank, text or logical cell in y or x are skipped.
+ * @param x The predictors: one or more columns of numbers, over the same rows as y.
+ * @param [k] Number of components, a whole number from 1 to 50 (default 1).
+ * @param [settings] Text such as "seed=7; intercept=no; model=joint", or a two-column range of names and values.
+ * @param invocation Supplied by Excel: the formula's cell, and cancellation when its inputs change.
+ * @returns One component number per input row.
+ * @requiresAddress
+ * @cancelable
  */
-export function fit(y: any[][], x: any[][], k?: number): any[][] {
-  try {
-    const components = k ?? 1;
-    if (components !== 1) {
-      throw new CustomFunctions.Error(CustomFunctions.ErrorCode.notAvailable, "Only k = 1 is available in this build.");
-    }
-    const design = buildDesign(y, x);
-    const { matrix, q } = designMatrix(design, true);
-    const result = leastSquares(matrix, design.n, q, design.y, { intercept: true });
-    return [[1, 1, result.mlSigma, ...Array.from(result.coefficients)]];
-  } catch (error) {
-    if (error instanceof CustomFunctions.Error) throw error;
-    throw toWorksheetError(error);
-  }
+export async function labels(y: any[][], x: any[][], k?: number, settings?: any[][], invocation?: CustomFunctions.CancelableInvocation): Promise<any[][]> {
+  return worksheetCall(async () => {
+    const answer = await sharedFit(y, x, k, settings, invocation);
+    return labelColumn(answer.shared, answer.settings);
+  });
+}
+
+/**
+ * For each row of the data, the probability that it belongs to each component (one column per component, each row sums to 1); "" for rows that were skipped.
+ * @customfunction MEMBERSHIP
+ * @helpurl https://localhost:3000/taskpane.html
+ * @param y The outcome: one column of numbers. Rows with a blank, text or logical cell in y or x are skipped.
+ * @param x The predictors: one or more columns of numbers, over the same rows as y.
+ * @param [k] Number of components, a whole number from 1 to 50 (default 1).
+ * @param [settings] Text such as "seed=7; intercept=no; model=joint", or a two-column range of names and values.
+ * @param invocation Supplied by Excel: the formula's cell, and cancellation when its inputs change.
+ * @returns One row per input row, one column per component.
+ * @requiresAddress
+ * @cancelable
+ */
+export async function membership(y: any[][], x: any[][], k?: number, settings?: any[][], invocation?: CustomFunctions.CancelableInvocation): Promise<any[][]> {
+  return worksheetCall(async () => {
+    const answer = await sharedFit(y, x, k, settings, invocation);
+    return membershipTable(answer.shared, answer.settings);
+  });
+}
+
+/**
+ * Fits 1 to kmax components and compares them, to help choose how many groups there are. One row per K: log-likelihood, BIC, ICL, smallest separation, converged, whether this K is suggested, and a note.
+ * @customfunction SCAN
+ * @helpurl https://localhost:3000/taskpane.html
+ * @param y The outcome: one column of numbers. Rows with a blank, text or logical cell in y or x are skipped.
+ * @param x The predictors: one or more columns of numbers, over the same rows as y.
+ * @param [kmax] Largest number of components to try, from 1 to 50 (default 5, or fewer when there are few rows).
+ * @param [settings] Text such as "seed=7; intercept=no; model=joint", or a two-column range of names and values.
+ * @param invocation Supplied by Excel: the formula's cell, and cancellation when its inputs change.
+ * @returns One row per number of components.
+ * @requiresAddress
+ * @cancelable
+ */
+export async function scan(y: any[][], x: any[][], kmax?: number, settings?: any[][], invocation?: CustomFunctions.CancelableInvocation): Promise<any[][]> {
+  return worksheetCall(async () => {
+    const answer = await sharedScan(y, x, kmax, settings, invocation);
+    return scanTable(answer.shared, answer.settings);
+  });
+}
+
+/**
+ * How far to trust the fit: whether it converged, how well the components are separated, the estimated share of misclassified rows, the smallest weight, rows used and skipped, and warnings with what to try.
+ * @customfunction CHECK
+ * @helpurl https://localhost:3000/taskpane.html
+ * @param y The outcome: one column of numbers. Rows with a blank, text or logical cell in y or x are skipped.
+ * @param x The predictors: one or more columns of numbers, over the same rows as y.
+ * @param [k] Number of components, a whole number from 1 to 50 (default 1).
+ * @param [settings] Text such as "seed=7; intercept=no; model=joint", or a two-column range of names and values.
+ * @param invocation Supplied by Excel: the formula's cell, and cancellation when its inputs change.
+ * @returns A two-column table of diagnostics and their values.
+ * @requiresAddress
+ * @cancelable
+ */
+export async function check(y: any[][], x: any[][], k?: number, settings?: any[][], invocation?: CustomFunctions.CancelableInvocation): Promise<any[][]> {
+  return worksheetCall(async () => {
+    const answer = await sharedFit(y, x, k, settings, invocation);
+    return checkTable(answer.shared, answer.settings);
+  });
+}
+
+/**
+ * Predicts y for new rows of predictors: one column per component, then the weighted prediction (weighted by membership from x under model=joint, by the component weights otherwise).
+ * @customfunction PREDICT
+ * @helpurl https://localhost:3000/taskpane.html
+ * @param y The outcome the model is fitted to: one column of numbers.
+ * @param x The predictors the model is fitted to, over the same rows as y.
+ * @param new_x The rows to predict for: the same predictor columns as x, in the same order.
+ * @param [k] Number of components, a whole number from 1 to 50 (default 1).
+ * @param [settings] Text such as "seed=7; intercept=no; model=joint", or a two-column range of names and values.
+ * @param invocation Supplied by Excel: the formula's cell, and cancellation when its inputs change.
+ * @returns One row per row of new_x.
+ * @requiresAddress
+ * @cancelable
+ */
+export async function predict(y: any[][], x: any[][], new_x: any[][], k?: number, settings?: any[][], invocation?: CustomFunctions.CancelableInvocation): Promise<any[][]> {
+  return worksheetCall(async () => {
+    const answer = await sharedFit(y, x, k, settings, invocation);
+    return predictionTable(answer.shared, new_x, answer.settings);
+  });
 }

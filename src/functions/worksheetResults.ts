@@ -1,0 +1,134 @@
+/**
+ * What each SKEIN function shows, built from a shared fit or scan: the column headers (the
+ * trade's words, see NAMES.md) and the rows (spill.ts shapes them).
+ */
+import { checkSeparation } from "../engine/checkSeparation";
+import { SkeinError } from "../engine/errors";
+import { predictRows } from "../engine/predictRows";
+import type { FunctionSettings } from "./settings";
+import type { SharedFit, SharedScan } from "./sharedFit";
+import { cell, perInputRow, showsHeader, table, type Cell } from "./spill";
+
+/** SKEIN.FIT: one row per component. The intercept column is "" when the fit has none. */
+export function componentTable({ design, fit }: SharedFit, settings: FunctionSettings): Cell[][] {
+  const header: Cell[] = ["component", "weight", "noise SD", "intercept", ...design.predictorNames];
+  const rows = fit.components.map((component, c): Cell[] => {
+    const coefficients = Array.from(component.coefficients, cell);
+    return [c + 1, cell(component.weight), cell(component.sigma), fit.intercept ? coefficients[0] : "", ...coefficients.slice(1)];
+  });
+  return table(header, rows, showsHeader(settings, design.hasHeaderRow));
+}
+
+/** SKEIN.LABELS: per input row, the most probable component (numbered from 1). */
+export function labelColumn({ design, fit }: SharedFit, settings: FunctionSettings): Cell[][] {
+  const rows = perInputRow(design, 1, (i, out) => (out[0] = fit.labels[i] + 1));
+  return table(["component"], rows, showsHeader(settings, design.hasHeaderRow));
+}
+
+/** SKEIN.MEMBERSHIP: per input row, the probability of each component. */
+export function membershipTable({ design, fit }: SharedFit, settings: FunctionSettings): Cell[][] {
+  const k = fit.k;
+  const rows = perInputRow(design, k, (i, out) => {
+    for (let c = 0; c < k; c++) out[c] = cell(fit.memberships[i * k + c]);
+  });
+  const header = Array.from({ length: k }, (_, c): Cell => `component ${c + 1}`);
+  return table(header, rows, showsHeader(settings, design.hasHeaderRow));
+}
+
+/** SKEIN.SCAN: one row per K with the figures that choose it, the suggested K marked TRUE. */
+export function scanTable({ design, scan }: SharedScan, settings: FunctionSettings): Cell[][] {
+  const header: Cell[] = ["K", "log-likelihood", "BIC", "ICL", "smallest separation", "converged", "suggested", "note"];
+  const rows = scan.rows.map((row): Cell[] => [
+    row.k,
+    cell(row.logLikelihood),
+    cell(row.bic),
+    cell(row.icl),
+    cell(row.minSeparation),
+    row.converged,
+    row.k === scan.chosenK,
+    row.flag ?? "",
+  ]);
+  return table(header, rows, showsHeader(settings, design.hasHeaderRow));
+}
+
+/** SKEIN.CHECK: a two-column table of diagnostics, then one row per warning. */
+export function checkTable(shared: SharedFit, settings: FunctionSettings): Cell[][] {
+  const { design, fit } = shared;
+  shared.separation ??= checkSeparation({ y: design.y, x: design.x, n: design.n, p: design.p }, fit);
+  const separation = shared.separation;
+  const rows: Cell[][] = [
+    ["warm start converged", fit.warmStart.converged],
+    ["refinement converged", fit.refinement.converged],
+    ["iterations", fit.refinement.iterations],
+    ["smallest separation", fit.k === 1 ? "one component" : cell(separation.minGap)],
+    ["estimated misclassification", cell(separation.misclassification)],
+    ["smallest weight", cell(separation.smallestWeight)],
+    ["rows used", design.n],
+    ["rows skipped", design.skipped.length],
+  ];
+  const warnings = [...new Set([...fit.warnings, ...separation.warnings])];
+  if (warnings.length === 0) rows.push(["warning", "none"]);
+  for (const warning of warnings) rows.push(["warning", warning]);
+  return table(["diagnostic", "value"], rows, showsHeader(settings, design.hasHeaderRow));
+}
+
+/**
+ * SKEIN.PREDICT: per row of new_x, each component's prediction and the weighted prediction
+ * (weights from x in the joint model, the mixing weights in the plain one). A new_x row with
+ * any cell that is not a number (blank, text, logical, error) gets "". A first row that is all
+ * text is a header row.
+ */
+export function predictionTable({ design, fit }: SharedFit, newX: unknown, settings: FunctionSettings): Cell[][] {
+  const rows = readNewRows(newX, design.p);
+  const k = fit.k;
+  const prediction = predictRows(fit, rows.x, rows.n);
+  const output = perInputRow(rows, k + 1, (i, out) => {
+    for (let c = 0; c < k; c++) out[c] = cell(prediction.perComponent[i * k + c]);
+    out[k] = cell(prediction.weighted[i]);
+  });
+  const header: Cell[] = [...Array.from({ length: k }, (_, c): Cell => `component ${c + 1}`), "weighted"];
+  return table(header, output, showsHeader(settings, rows.hasHeaderRow));
+}
+
+interface NewRows {
+  /** n x p row-major, usable rows only. */
+  x: Float64Array;
+  n: number;
+  inputRows: number;
+  rowIndex: Int32Array;
+  hasHeaderRow: boolean;
+}
+
+/**
+ * The usable rows of new_x. The rule is the data layer's: only finite numbers are used, and
+ * a row with anything else is left out (its output row stays ""). The data layer's checks on
+ * predictors (constant or duplicated columns) do not apply: one row to predict for is fine.
+ */
+function readNewRows(newX: unknown, p: number): NewRows {
+  if (!Array.isArray(newX) || newX.length === 0 || !newX.every(Array.isArray)) {
+    throw new SkeinError("bad-input", "new_x must be a range of rows of predictors to predict for; it is empty or not a range.");
+  }
+  const table = newX as unknown[][];
+  for (let r = 0; r < table.length; r++) {
+    if (table[r].length !== p) {
+      throw new SkeinError("bad-input", `new_x has ${table[r].length} column${table[r].length === 1 ? "" : "s"} in row ${r + 1} but x has ${p}; give new_x the same predictor columns as x, in the same order.`);
+    }
+  }
+  const hasHeaderRow = table[0].every((value) => typeof value === "string" && value.trim() !== "" && !value.trim().startsWith("#"));
+  const first = hasHeaderRow ? 1 : 0;
+  const inputRows = table.length - first;
+  const x = new Float64Array(inputRows * p);
+  const rowIndex = new Int32Array(inputRows);
+  let n = 0;
+  for (let r = 0; r < inputRows; r++) {
+    const row = table[r + first];
+    let usable = true;
+    for (let j = 0; j < p && usable; j++) {
+      const value = row[j];
+      usable = typeof value === "number" && Number.isFinite(value);
+      if (usable) x[n * p + j] = value as number;
+    }
+    if (usable) rowIndex[n++] = r;
+  }
+  return { x: x.slice(0, n * p), n, inputRows, rowIndex: rowIndex.slice(0, n), hasHeaderRow };
+}
