@@ -20,11 +20,13 @@ import { Cancellation } from "./cancellation";
 import { runFitJob, runScanJob, type EngineJob, type FitJob, type ScanJob } from "./fitJobs";
 
 /**
- * Below this many numbers (rows x (predictors + 1)) a fit takes a few tens of milliseconds at
- * most and runs on the page: starting a worker and copying the data to it would cost about as
- * much. Measured by bench/functionsBench.ts.
+ * Below this many numbers (rows x (predictors + 1)) a fit runs on the page: it takes a few
+ * milliseconds, less than starting a worker. Above it the fit goes to a worker even when it is
+ * still fairly quick, because the engine's restarts make small fits cost more than their size
+ * suggests (bench/functionsBench.ts, in Node: about 150 ms for 200 rows x 10 predictors with
+ * K = 3, 280 ms for 1,000 rows), and 100 ms is already a visible stall.
  */
-export const WORKER_MIN_CELLS = 20000;
+export const WORKER_MIN_CELLS = 1000;
 /** Workers running at once; further jobs wait for one to finish. */
 const MAX_WORKERS = 2;
 
