@@ -17,6 +17,7 @@ import {
   setHardMemberships,
 } from "./mixture/starts";
 import { createParameters } from "./mixture/mixtureParameters";
+import { momentWarmStart } from "./warmStart/momentWarmStart";
 
 // ---------------------------------------------------------------------------------------
 // Defaults and guards. Each is a named constant so a reader can find why it has its value.
@@ -141,22 +142,36 @@ export function fitMixture(data: RegressionData, options: MixtureOptions): Mixtu
   const subsampleSize = Math.max(SUBSAMPLE_MIN_ROWS, SUBSAMPLE_ROWS_PER_PARAMETER * k * full.q);
   const working = full.n > 2 * subsampleSize ? createWorkspace(data, k, intercept, joint, sampleIndices(full.n, subsampleSize, random)) : full;
 
-  // 1. Starts, each refined briefly on the working rows.
+  // 1. Starts, each refined briefly on the working rows. A start that fits every row to
+  // rounding level (noiseless data) cannot be beaten, so the remaining starts are skipped.
   const candidates: Candidate[] = [];
-  const tryStart = (method: string, params: MixtureParameters | null): void => {
+  let exactStartFound = false;
+  const tryStart = (method: string, makeParams: () => MixtureParameters | null): void => {
+    if (exactStartFound) return;
     checkSignal(signal);
+    const params = makeParams();
     if (!params) return;
     const run = runEm(working, params, guards, SHORT_ITERATIONS, settings.tolerance, random, signal, null);
-    if (Number.isFinite(run.logLikelihood)) candidates.push({ method, params, logLikelihood: run.logLikelihood });
+    if (!Number.isFinite(run.logLikelihood)) return;
+    candidates.push({ method, params, logLikelihood: run.logLikelihood });
+    if (isNoiseless(params, working)) exactStartFound = true;
   };
   const previous = options.previous;
   if (previous && previous.k === k && previous.p === data.p && previous.intercept === intercept) {
-    tryStart("previous", parametersFromFit(working, previous, guards));
+    tryStart("previous", () => parametersFromFit(working, previous, guards));
   }
-  tryStart("residual-seeding", parametersFromLabels(working, residualSeedingLabels(working, random), guards, random));
-  tryStart("location-seeding", parametersFromLabels(working, locationSeedingLabels(working, random), guards, random));
+  let moment: ReturnType<typeof momentWarmStart> = null;
+  tryStart("moment-descent", () => {
+    moment = momentWarmStart({ x: working.predictors, y: working.y, n: working.n, p: working.p }, k, intercept, random);
+    if (!moment) return null;
+    const coefficients = new Float64Array(k * working.q);
+    moment.coefficients.forEach((vector, c) => coefficients.set(vector, c * working.q));
+    return parametersFromCoefficients(working, coefficients, guards);
+  });
+  tryStart("residual-seeding", () => parametersFromLabels(working, residualSeedingLabels(working, random), guards, random));
+  tryStart("location-seeding", () => parametersFromLabels(working, locationSeedingLabels(working, random), guards, random));
   for (let r = 0; r < settings.restarts; r++) {
-    tryStart("random-partition", parametersFromLabels(working, randomPartitionLabels(working.n, k, random), guards, random));
+    tryStart("random-partition", () => parametersFromLabels(working, randomPartitionLabels(working.n, k, random), guards, random));
   }
   if (candidates.length === 0) {
     throw new SkeinError("numeric", "Every start failed: the predictors are (nearly) collinear within the groups tried. Remove a predictor that repeats others, or use fewer components.");
@@ -242,10 +257,14 @@ export function fitMixture(data: RegressionData, options: MixtureOptions): Mixtu
   }
 
   // 4. Reports.
+  // The warm start is trusted when the best starts agree and either the moment certificate
+  // shrank enough or the winning fit is exact on every row (which no start can improve on).
+  const momentResult = moment as ReturnType<typeof momentWarmStart>;
+  const momentConverged = momentResult === null || momentResult.converged || isNoiseless(params, full);
   const warmStart: WarmStartReport = {
-    converged: !startsDisagree,
+    converged: !startsDisagree && momentConverged,
     method: best.method,
-    certificate: NaN,
+    certificate: momentResult ? momentResult.certificate : NaN,
     startsTried: candidates.length,
     disagreement,
   };

@@ -33,6 +33,11 @@ export interface MixtureWorkspace {
   rightHandSides: Float64Array;
   sizes: Float64Array;
   choleskyScratch: Float64Array;
+  /** M-step block buffers: rows per block, then q x blockRows column-major copies. */
+  blockRows: number;
+  blockColumns: Float64Array;
+  blockWeighted: Float64Array;
+  blockY: Float64Array;
   /** Per-row scratch of length k. */
   rowScratch: Float64Array;
   /** Per-row scratch of length p (joint model). */
@@ -54,6 +59,8 @@ export function createWorkspace(data: RegressionData, k: number, intercept: bool
     if (intercept) design[offset] = 1;
     design.set(data.x.subarray(source * p, source * p + p), intercept ? offset + 1 : offset);
   }
+  // Two q x blockRows buffers of doubles fit in about 256 KB, a typical L2 cache.
+  const blockRows = Math.max(32, Math.floor(BLOCK_DOUBLES / Math.max(q, 1)));
   const predictorVariances = new Float64Array(p);
   for (let j = 0; j < p; j++) predictorVariances[j] = columnVariance(predictors, n, p, j);
   return {
@@ -75,10 +82,17 @@ export function createWorkspace(data: RegressionData, k: number, intercept: bool
     rightHandSides: new Float64Array(k * q),
     sizes: new Float64Array(k),
     choleskyScratch: new Float64Array(choleskyScratchLength(q)),
+    blockRows,
+    blockColumns: new Float64Array(blockRows * Math.max(q, 1)),
+    blockWeighted: new Float64Array(blockRows * Math.max(q, 1)),
+    blockY: new Float64Array(blockRows),
     rowScratch: new Float64Array(k),
     predictorScratch: new Float64Array(p),
   };
 }
+
+/** Doubles per M-step block buffer (16384 x 8 bytes = 128 KB each). */
+const BLOCK_DOUBLES = 16384;
 
 /** Two-pass variance (mean first, then centred squares: Chan, Golub & LeVeque 1983). */
 function columnVariance(values: Float64Array, n: number, stride: number, column: number): number {
