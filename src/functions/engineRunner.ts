@@ -57,9 +57,13 @@ function cellsOf(job: EngineJob): number {
   return job.data.n * (job.data.p + 1);
 }
 
-function count(job: EngineJob): void {
-  if (job.kind === "fit") engineCallCounts.fits++;
-  else engineCallCounts.scans++;
+function count(job: EngineJob, by = 1): void {
+  if (job.kind === "fit") engineCallCounts.fits += by;
+  else engineCallCounts.scans += by;
+}
+
+function uncount(job: EngineJob): void {
+  count(job, -1);
 }
 
 async function runJob(job: EngineJob, cancellation: Cancellation): Promise<unknown> {
@@ -69,6 +73,8 @@ async function runJob(job: EngineJob, cancellation: Cancellation): Promise<unkno
       return await pool.run(job, cancellation);
     } catch (error) {
       if (!(error instanceof WorkerUnavailable)) throw error;
+      // The job never ran: it is counted again where it does run.
+      uncount(job);
       workersBroken = true;
     }
   }
