@@ -19,6 +19,8 @@ export const FORMULA_SHEET = "Skein";
 export const ABOUT_SHEET = "About";
 /** Seed given to every SKEIN formula, so the sheet shows the same fit on every machine. */
 export const FORMULA_SEED = 7;
+/** Columns SKEIN.SCAN spills: K, log-likelihood, BIC, ICL, smallest separation, converged, suggested, note. */
+const SCAN_COLUMNS = 8;
 
 /** Skein's own colours (shared with the icon): header fills and accents. */
 const TEAL = "FF1B7F79";
@@ -136,8 +138,9 @@ function addFormulaSheet(workbook: ExcelJS.Workbook, scenario: Scenario): void {
   );
   put(row + 3, predictColumn, `SKEIN.PREDICT(${y},${x},${newX},${k},${settings})`);
 
-  // Per-row results go to the right of every block above, so their spills never collide.
-  const perRowColumn = Math.max(4 + scenario.predictors.length, predictColumn + k + 1) + 2;
+  // Per-row results go to the right of every block above, so their spills never collide:
+  // SCAN spills SCAN_COLUMNS columns, FIT 4 + p, PREDICT k + 1 beside the new rows.
+  const perRowColumn = Math.max(SCAN_COLUMNS, 4 + scenario.predictors.length, predictColumn + k) + 2;
   const perRowTitle = sheet.getCell(6, perRowColumn);
   perRowTitle.value = "Per data row (row 8 here is data row 2)";
   perRowTitle.font = { bold: true, color: { argb: AMBER }, size: 12 };
