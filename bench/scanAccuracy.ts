@@ -30,7 +30,7 @@ export interface ScanProblem {
 }
 
 /** One well-separated problem with `k` components (see the module comment). */
-export function wellSeparatedProblem(k: number, random: Random, rowsPerCoefficient = ROWS_PER_COEFFICIENT): ScanProblem {
+export function wellSeparatedProblem(k: number, random: Random, rowsPerCoefficient = ROWS_PER_COEFFICIENT, minGap = MIN_GAP): ScanProblem {
   const q = P + 1;
   const gamma = Array.from({ length: k }, () => -Math.log(1 - random.next()));
   const total = gamma.reduce((s, g) => s + g, 0);
@@ -44,7 +44,7 @@ export function wellSeparatedProblem(k: number, random: Random, rowsPerCoefficie
       for (let b = a + 1; b < k && ok; b++) {
         let d = 0;
         for (let j = 0; j < q; j++) d += (coefficients[a][j] - coefficients[b][j]) ** 2;
-        ok = Math.sqrt(d) / Math.sqrt((sigmas[a] ** 2 + sigmas[b] ** 2) / 2) >= MIN_GAP;
+        ok = Math.sqrt(d) / Math.sqrt((sigmas[a] ** 2 + sigmas[b] ** 2) / 2) >= minGap;
       }
     }
     if (ok) break;
