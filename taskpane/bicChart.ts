@@ -22,7 +22,7 @@ export interface ChartRow {
 
 const WIDTH = 360;
 const HEIGHT = 220;
-const MARGIN = { left: 62, right: 14, top: 18, bottom: 50 };
+const MARGIN = { left: 62, right: 14, top: 18, bottom: 58 };
 const BIC_COLOUR = "#1b7f79";
 const ICL_COLOUR = "#6b3fa0";
 
@@ -82,13 +82,14 @@ export function drawBicChart(container: HTMLElement, rows: ChartRow[], suggested
     const fillIcl = flagged ? "#ffffff" : ICL_COLOUR;
     parts.push(`<g class="k-point${r.k === selected ? " selected" : ""}${flagged ? " flagged" : ""}" data-k="${r.k}" role="button" tabindex="${r.k === (selected ?? suggested) ? 0 : -1}" aria-label="${label}" aria-pressed="${r.k === selected}">`);
     parts.push(`<rect class="hit" x="${x - columnW / 2}" y="${MARGIN.top}" width="${columnW}" height="${plotH + 22}"/>`);
-    if (r.k === selected) parts.push(`<rect class="selection-ring" x="${x - 13}" y="${MARGIN.top + 2}" width="26" height="${plotH - 4}" rx="6"/>`);
+    // The shown K: a pointer under its axis label, and the label in bold (see the CSS).
+    if (r.k === selected) parts.push(`<path class="selection-pointer" d="M${x},${HEIGHT - MARGIN.bottom + 20}l-5,7h10z"/>`);
     if (Number.isFinite(r.bic)) parts.push(marker("circle", x, yOf(r.bic), 4.5, `fill="${fillBic}" stroke="${BIC_COLOUR}" stroke-width="2"`));
     if (Number.isFinite(r.icl)) parts.push(marker("square", x, yOf(r.icl), 4.5, `fill="${fillIcl}" stroke="${ICL_COLOUR}" stroke-width="2"`));
     parts.push(`<text class="tick k-label" x="${x}" y="${HEIGHT - MARGIN.bottom + 16}" text-anchor="middle">${r.k}${flagged ? "!" : ""}</text>`);
     parts.push(`</g>`);
   }
-  parts.push(`<text class="axis-title" x="${MARGIN.left + plotW / 2}" y="${HEIGHT - MARGIN.bottom + 32}" text-anchor="middle">Number of components (K)</text>`);
+  parts.push(`<text class="axis-title" x="${MARGIN.left + plotW / 2}" y="${HEIGHT - MARGIN.bottom + 38}" text-anchor="middle">Number of components (K); ▲ = shown below</text>`);
   // Legend: marker shape, line style and name for each series.
   const ly = HEIGHT - 6;
   parts.push(`<path d="M${MARGIN.left},${ly - 4}h22" stroke="${BIC_COLOUR}" stroke-width="2"/>${marker("circle", MARGIN.left + 11, ly - 4, 4, `fill="${BIC_COLOUR}"`)}`);

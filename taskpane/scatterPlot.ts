@@ -41,7 +41,7 @@ export function scatterSpec(design: Design, fit: MixtureFit, axis: ScatterAxis):
       high = Math.max(high, value);
     }
     fit.components.forEach((_, c) => lines.push({ group: c, x0: low, y0: low, x1: high, y1: high }));
-    return { title: `${design.yName} against its fitted value`, subtitle: "Each row drawn as its most probable component; the line is y = fitted", xLabel: "Fitted value", yLabel: design.yName, x: px, y: py, group: labels, groupNames, lines, width: 560, height: 400 };
+    return { title: `${design.yName} against its fitted value`, subtitle: ["Each row drawn as its most probable component; the line is y = fitted"], xLabel: "Fitted value", yLabel: design.yName, x: px, y: py, group: labels, groupNames, lines, width: 560, height: 400 };
   }
 
   const m = axis;
@@ -68,7 +68,7 @@ export function scatterSpec(design: Design, fit: MixtureFit, axis: ScatterAxis):
   const others = design.predictorNames.filter((_, j) => j !== m);
   return {
     title: `${design.yName} against ${design.predictorNames[m]}`,
-    subtitle: others.length === 0 ? "Each row drawn as its most probable component" : `Adjusted to the average ${others.length === 1 ? others[0] : "of the other predictors"}; each row drawn as its most probable component`,
+    subtitle: others.length === 0 ? ["Each row drawn as its most probable component"] : [`Adjusted to the average ${others.length === 1 ? others[0] : "of the other predictors"}`, "Each row drawn as its most probable component"],
     xLabel: design.predictorNames[m],
     yLabel: others.length === 0 ? design.yName : `${design.yName} (adjusted)`,
     x: px,

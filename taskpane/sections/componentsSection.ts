@@ -71,14 +71,14 @@ export function mountComponentsSection(parent: HTMLElement, _pane: Pane): { upda
       const errors = state.description?.errors ?? null;
       const names = ["Intercept", ...design.predictorNames];
       const start = fit.intercept ? 0 : 1;
-      let html = `<table id="components-table" class="numbers"><caption class="visually-hidden">Estimates per component, standard errors in brackets</caption><thead><tr><th scope="col">Component</th><th scope="col">Weight</th><th scope="col">Noise SD</th>`;
-      for (let j = start; j < names.length; j++) html += `<th scope="col">${escapeHtml(names[j])}</th>`;
-      html += `</tr></thead><tbody>`;
-      fit.components.forEach((component, c) => {
-        html += `<tr><th scope="row">${markerSwatch(c)} ${c + 1}</th><td>${withError(component.weight, errors?.weights[c])}</td><td>${withError(component.sigma, errors?.sigmas[c])}</td>`;
-        for (let j = start; j < names.length; j++) html += `<td>${withError(component.coefficients[j], errors?.coefficients[c]?.[j])}</td>`;
-        html += `</tr>`;
-      });
+      // One column per component, one row per estimate: K is small and predictors may be many,
+      // so this shape fits a narrow pane.
+      const header = fit.components.map((_, c) => `<th scope="col" class="component">${markerSwatch(c)} Component ${c + 1}</th>`).join("");
+      const row = (name: string, cell: (c: number) => string, id: string) => `<tr data-row="${id}"><th scope="row">${escapeHtml(name)}</th>${fit.components.map((_, c) => `<td>${cell(c)}</td>`).join("")}</tr>`;
+      let html = `<table id="components-table" class="numbers"><caption class="visually-hidden">Estimates per component, standard errors in brackets</caption><thead><tr><th scope="col">Estimate</th>${header}</tr></thead><tbody>`;
+      html += row("Weight", (c) => withError(fit.components[c].weight, errors?.weights[c]), "weight");
+      html += row("Noise SD", (c) => withError(fit.components[c].sigma, errors?.sigmas[c]), "sigma");
+      for (let j = start; j < names.length; j++) html += row(names[j], (c) => withError(fit.components[c].coefficients[j], errors?.coefficients[c]?.[j]), `coefficient-${j}`);
       html += `</tbody></table>`;
       tableWrap.innerHTML = html;
       seNote.textContent = errors

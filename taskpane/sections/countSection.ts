@@ -105,7 +105,7 @@ export function mountCountSection(parent: HTMLElement, pane: Pane): { update(sta
 
       const table = element("table", { id: "scan-table", class: "numbers" });
       table.appendChild(element("caption", { class: "visually-hidden" }, "Scan results by number of components"));
-      table.innerHTML += `<thead><tr><th scope="col">Show</th><th scope="col">K</th><th scope="col">BIC</th><th scope="col">ICL</th><th scope="col">Log-likelihood</th><th scope="col">Smallest gap</th><th scope="col">Note</th></tr></thead>`;
+      table.innerHTML += `<thead><tr><th scope="col">Show</th><th scope="col">K</th><th scope="col">BIC</th><th scope="col">ICL</th><th scope="col">Log-likelihood</th><th scope="col">Smallest gap</th><th scope="col"><span class="visually-hidden">Note</span></th></tr></thead>`;
       const tbody = element("tbody");
       for (const row of scan.rows) {
         const tr = element("tr", { class: row.k === state.chosenK ? "chosen" : "" });
@@ -120,16 +120,20 @@ export function mountCountSection(parent: HTMLElement, pane: Pane): { update(sta
         tr.appendChild(element("td", {}, formatNumber(row.icl, 6)));
         tr.appendChild(element("td", {}, formatNumber(row.logLikelihood, 6)));
         tr.appendChild(element("td", {}, row.k === 1 ? "—" : formatNumber(row.minSeparation, 3)));
-        const notes: string[] = [];
-        if (row.k === scan.chosenK) notes.push("suggested");
-        if (!row.converged) notes.push("did not converge");
-        if (row.flag) notes.push(row.flag);
-        tr.appendChild(element("td", { class: "note-cell" }, notes.join("; ")));
+        const note = row.k === scan.chosenK ? "suggested" : row.flag || !row.converged ? "not suggested *" : "";
+        tr.appendChild(element("td", { class: "note-cell" }, note));
         tbody.appendChild(tr);
       }
       table.appendChild(tbody);
       tableWrap.innerHTML = "";
       tableWrap.appendChild(table);
+      // Why a K is not suggested: full sentences, below the table where they have room.
+      const flagged = scan.rows.filter((r) => r.k !== scan.chosenK && (r.flag || !r.converged));
+      if (flagged.length > 0) {
+        const list = element("ul", { id: "scan-flags", class: "compact hint", "aria-label": "Why some K are not suggested" });
+        for (const r of flagged) list.appendChild(element("li", {}, `* ${r.k} components: ${r.flag ?? "the fit did not converge."}`));
+        tableWrap.appendChild(list);
+      }
     },
   };
 }
