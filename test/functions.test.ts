@@ -419,3 +419,41 @@ describe("SKEIN.PREDICT", () => {
     expect(error.message).toContain("new_x has 2 columns in row 1 but x has 1");
   });
 });
+
+describe("whole-column references", () => {
+  it("per-row results stop at the last row with data instead of spilling down the blank rest", async () => {
+    const { y, x } = twoLines([40, 40], 97);
+    const blankTail = 5000;
+    for (let r = 0; r < blankTail; r++) {
+      y.push([null]);
+      x.push([r % 2 === 0 ? null : ""]);
+    }
+    const result = await labels(y, x, 2);
+    expect(result).toHaveLength(81);
+    const newX = [[1], [2], [null], [""]];
+    expect(await predict(y, x, newX, 2)).toHaveLength(2);
+  });
+});
+
+describe("SKEIN.PREDICT under model=joint", () => {
+  it("weights the components by where the new x lies", async () => {
+    // Invented demo data: group 0 has x in [0, 4] on y = 1 + 2x, group 1 has x in [6, 10] on
+    // y = 30 − x; noise SD 0.3. A new row at x = 2 lies among group 0's rows only.
+    const random = createRandom(101);
+    const y: Range = [];
+    const x: Range = [];
+    for (let i = 0; i < 120; i++) {
+      const inFirst = i % 2 === 0;
+      const xv = inFirst ? 4 * random.next() : 6 + 4 * random.next();
+      y.push([(inFirst ? 1 + 2 * xv : 30 - xv) + 0.3 * random.normal()]);
+      x.push([xv]);
+    }
+    const settings = [["model=joint"]];
+    const components = await fit(y, x, 2, settings);
+    const first = components.findIndex((row) => (row[4] as number) > 0);
+    const result = await predict(y, x, [[2], [8]], 2, settings);
+    // Near x = 2 the weighted prediction is the first group's line; near x = 8, the other's.
+    expect(result[0][2]).toBeCloseTo(result[0][first] as number, 3);
+    expect(result[1][2]).toBeCloseTo(result[1][1 - first] as number, 3);
+  });
+});

@@ -17,6 +17,7 @@ import { AddressMemory } from "./addressMemory";
 import { runFit, runScan } from "./engineRunner";
 import { FitCache, type Lease } from "./fitCache";
 import { hashCells } from "./hashCells";
+import { rowsThroughLastData, type RowLayout } from "./spill";
 import { fitSettingsKey, parseSettings, type FunctionSettings } from "./settings";
 
 /** Largest K the functions accept (the command line's cap too). */
@@ -28,6 +29,8 @@ export const DEFAULT_KMAX = 5;
 export interface SharedFit {
   design: Design;
   fit: MixtureFit;
+  /** Where per-row results put each used row, and how many rows they show. */
+  layout: RowLayout;
   /** Filled the first time SKEIN.CHECK asks for it. */
   separation?: SeparationReport;
 }
@@ -76,6 +79,10 @@ export function checkRowsForK(design: Design, k: number, intercept: boolean): vo
   }
 }
 
+function layoutOf(design: Design, y: unknown[][], x: unknown[][]): RowLayout {
+  return { shownRows: rowsThroughLastData([y, x], design.hasHeaderRow ? 1 : 0), rowIndex: design.rowIndex, n: design.n };
+}
+
 /** Rough memory an entry keeps: the design's and the fit's per-row arrays (8 bytes a double). */
 function entryBytes(y: unknown, x: unknown, k: number): number {
   const rows = Array.isArray(y) ? y.length : 0;
@@ -116,7 +123,7 @@ export async function sharedFit(y: unknown, x: unknown, kArgument: unknown, sett
       },
       cancellation,
     );
-    return { design, fit };
+    return { design, fit, layout: layoutOf(design, y as unknown[][], x as unknown[][]) };
   });
   const shared = await follow(lease, invocation);
   addressMemory.remember(address, shared.fit);

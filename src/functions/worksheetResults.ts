@@ -7,7 +7,7 @@ import { SkeinError } from "../engine/errors";
 import { predictRows } from "../engine/predictRows";
 import type { FunctionSettings } from "./settings";
 import type { SharedFit, SharedScan } from "./sharedFit";
-import { cell, perInputRow, showsHeader, table, type Cell } from "./spill";
+import { cell, perInputRow, rowsThroughLastData, showsHeader, table, type Cell, type RowLayout } from "./spill";
 
 /** SKEIN.FIT: one row per component. The intercept column is "" when the fit has none. */
 export function componentTable({ design, fit }: SharedFit, settings: FunctionSettings): Cell[][] {
@@ -20,15 +20,15 @@ export function componentTable({ design, fit }: SharedFit, settings: FunctionSet
 }
 
 /** SKEIN.LABELS: per input row, the most probable component (numbered from 1). */
-export function labelColumn({ design, fit }: SharedFit, settings: FunctionSettings): Cell[][] {
-  const rows = perInputRow(design, 1, (i, out) => (out[0] = fit.labels[i] + 1));
+export function labelColumn({ design, fit, layout }: SharedFit, settings: FunctionSettings): Cell[][] {
+  const rows = perInputRow(layout, 1, (i, out) => (out[0] = fit.labels[i] + 1));
   return table(["component"], rows, showsHeader(settings, design.hasHeaderRow));
 }
 
 /** SKEIN.MEMBERSHIP: per input row, the probability of each component. */
-export function membershipTable({ design, fit }: SharedFit, settings: FunctionSettings): Cell[][] {
+export function membershipTable({ design, fit, layout }: SharedFit, settings: FunctionSettings): Cell[][] {
   const k = fit.k;
-  const rows = perInputRow(design, k, (i, out) => {
+  const rows = perInputRow(layout, k, (i, out) => {
     for (let c = 0; c < k; c++) out[c] = cell(fit.memberships[i * k + c]);
   });
   const header = Array.from({ length: k }, (_, c): Cell => `component ${c + 1}`);
@@ -90,12 +90,9 @@ export function predictionTable({ design, fit }: SharedFit, newX: unknown, setti
   return table(header, output, showsHeader(settings, rows.hasHeaderRow));
 }
 
-interface NewRows {
+interface NewRows extends RowLayout {
   /** n x p row-major, usable rows only. */
   x: Float64Array;
-  n: number;
-  inputRows: number;
-  rowIndex: Int32Array;
   hasHeaderRow: boolean;
 }
 
@@ -108,20 +105,20 @@ function readNewRows(newX: unknown, p: number): NewRows {
   if (!Array.isArray(newX) || newX.length === 0 || !newX.every(Array.isArray)) {
     throw new SkeinError("bad-input", "new_x must be a range of rows of predictors to predict for; it is empty or not a range.");
   }
-  const table = newX as unknown[][];
-  for (let r = 0; r < table.length; r++) {
-    if (table[r].length !== p) {
-      throw new SkeinError("bad-input", `new_x has ${table[r].length} column${table[r].length === 1 ? "" : "s"} in row ${r + 1} but x has ${p}; give new_x the same predictor columns as x, in the same order.`);
+  const cells = newX as unknown[][];
+  for (let r = 0; r < cells.length; r++) {
+    if (cells[r].length !== p) {
+      throw new SkeinError("bad-input", `new_x has ${cells[r].length} column${cells[r].length === 1 ? "" : "s"} in row ${r + 1} but x has ${p}; give new_x the same predictor columns as x, in the same order.`);
     }
   }
-  const hasHeaderRow = table[0].every((value) => typeof value === "string" && value.trim() !== "" && !value.trim().startsWith("#"));
+  const hasHeaderRow = cells[0].every((value) => typeof value === "string" && value.trim() !== "" && !value.trim().startsWith("#"));
   const first = hasHeaderRow ? 1 : 0;
-  const inputRows = table.length - first;
+  const inputRows = rowsThroughLastData([cells], first);
   const x = new Float64Array(inputRows * p);
   const rowIndex = new Int32Array(inputRows);
   let n = 0;
   for (let r = 0; r < inputRows; r++) {
-    const row = table[r + first];
+    const row = cells[r + first];
     let usable = true;
     for (let j = 0; j < p && usable; j++) {
       const value = row[j];
@@ -130,5 +127,5 @@ function readNewRows(newX: unknown, p: number): NewRows {
     }
     if (usable) rowIndex[n++] = r;
   }
-  return { x: x.slice(0, n * p), n, inputRows, rowIndex: rowIndex.slice(0, n), hasHeaderRow };
+  return { x: x.slice(0, n * p), n, shownRows: inputRows, rowIndex: rowIndex.slice(0, n), hasHeaderRow };
 }
