@@ -39,7 +39,11 @@ export interface ScenarioTruth {
   name: string;
   title: string;
   workbook: string;
+  csv: string;
   dataSheet: string;
+  /** The data ranges the workbook's SKEIN formulas use, such as "Data!B2:B601". */
+  yRange: string;
+  xRange: string;
   rows: number;
   response: string;
   predictors: string[];
@@ -93,9 +97,15 @@ function seconds(ms: number): string {
   return `${(ms / 1000).toFixed(2)} s`;
 }
 
-/** "value ± se", both in the same significant digits. */
+/**
+ * "value ± se" with the standard error to two significant digits and the
+ * estimate to the same decimal place: digits beyond those are noise.
+ */
 function withError(value: number, se: number): string {
-  return Number.isFinite(se) ? `${formatNumber(value)} ± ${formatNumber(se)}` : `${formatNumber(value)} (SE not available)`;
+  if (!Number.isFinite(se)) return `${formatNumber(value)} (SE not available)`;
+  if (se === 0) return `${formatNumber(value)} ± 0`;
+  const decimals = Math.min(12, Math.max(0, 1 - Math.floor(Math.log10(se))));
+  return `${value.toFixed(decimals)} ± ${se.toFixed(decimals)}`;
 }
 
 /**
