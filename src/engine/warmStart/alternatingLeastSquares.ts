@@ -1,0 +1,149 @@
+import { HouseholderQR } from "../householderQR";
+
+/**
+ * Hard-assignment refinement of K regressions (k-lines / clusterwise regression, Späth 1979,
+ * Computing 22): give each row to the component with the smallest absolute residual, refit
+ * each component by least squares on its rows, repeat until no row moves. It is EM's limit as
+ * the noise goes to 0, converges in few steps from a start within its (wide) basin, and in
+ * noiseless data lands on exact fits, which certify the start.
+ */
+export interface AlternatingFit {
+  coefficients: Float64Array[];
+  labels: Int32Array;
+  /** Rows whose residual under their component is within the exact-fit tolerance. */
+  exactRows: number;
+  /** Per component, the RMS residual on its rows. */
+  scales: Float64Array;
+  iterations: number;
+}
+
+/**
+ * @param design n x q row-major full design (intercept column included when there is one)
+ * @param minimumRows a component left with fewer rows keeps its previous coefficients
+ */
+export function alternatingLeastSquares(
+  design: Float64Array, n: number, q: number, y: Float64Array, start: Float64Array[],
+  maxIterations: number, exactTolerance: number, minimumRows: number,
+): AlternatingFit {
+  const k = start.length;
+  const coefficients: Float64Array[] = start.map((c) => Float64Array.from(c));
+  const labels = new Int32Array(n).fill(-1);
+  const best = new Float64Array(n);
+  const counts = new Int32Array(k);
+  // Gathered rows per component, reused across iterations.
+  const rows = new Float64Array(n * q);
+  const responses = new Float64Array(n);
+  // Normal equations per component, refitted only when its rows changed: cheap on the
+  // well-conditioned (whitened) designs the warm start passes; the final solve of each
+  // component goes through Householder QR for rounding-level exactness.
+  const gram = new Float64Array(q * q);
+  const right = new Float64Array(q);
+  const factor = new Float64Array(q * q);
+  const changedComponent = new Uint8Array(k);
+  let iterations = 0;
+  for (; iterations < maxIterations; iterations++) {
+    changedComponent.fill(0);
+    const moved = assign(design, n, q, y, coefficients, labels, best, changedComponent);
+    if (moved === 0) break;
+    counts.fill(0);
+    for (let i = 0; i < n; i++) counts[labels[i]]++;
+    for (let c = 0; c < k; c++) {
+      if (!changedComponent[c] || counts[c] < minimumRows) continue;
+      gram.fill(0);
+      right.fill(0);
+      for (let i = 0; i < n; i++) {
+        if (labels[i] !== c) continue;
+        const row = i * q;
+        for (let a = 0; a < q; a++) {
+          const va = design[row + a];
+          right[a] += va * y[i];
+          const out = a * q;
+          for (let b = 0; b <= a; b++) gram[out + b] += va * design[row + b];
+        }
+      }
+      solveNormalEquations(gram, right, q, factor, coefficients[c]);
+    }
+  }
+  // Final exact solve per component by QR.
+  assign(design, n, q, y, coefficients, labels, best, changedComponent);
+  counts.fill(0);
+  for (let i = 0; i < n; i++) counts[labels[i]]++;
+  for (let c = 0; c < k; c++) {
+    if (counts[c] < minimumRows) continue;
+    let m = 0;
+    for (let i = 0; i < n; i++) {
+      if (labels[i] !== c) continue;
+      rows.set(design.subarray(i * q, i * q + q), m * q);
+      responses[m++] = y[i];
+    }
+    const qr = new HouseholderQR(rows.subarray(0, m * q), m, q);
+    if (qr.isFullRank) coefficients[c] = qr.solve(responses.subarray(0, m));
+  }
+  assign(design, n, q, y, coefficients, labels, best, changedComponent);
+  let exactRows = 0;
+  const scales = new Float64Array(k);
+  counts.fill(0);
+  for (let i = 0; i < n; i++) {
+    if (best[i] <= exactTolerance) exactRows++;
+    scales[labels[i]] += best[i] * best[i];
+    counts[labels[i]]++;
+  }
+  for (let c = 0; c < k; c++) scales[c] = counts[c] > 0 ? Math.sqrt(scales[c] / counts[c]) : Infinity;
+  return { coefficients, labels, exactRows, scales, iterations };
+}
+
+/** Labels each row with its smallest-|residual| component; returns how many labels changed. */
+function assign(design: Float64Array, n: number, q: number, y: Float64Array, coefficients: Float64Array[], labels: Int32Array, best: Float64Array, changedComponent: Uint8Array): number {
+  const k = coefficients.length;
+  let changed = 0;
+  for (let i = 0; i < n; i++) {
+    const row = i * q;
+    let label = 0;
+    let smallest = Infinity;
+    for (let c = 0; c < k; c++) {
+      const v = coefficients[c];
+      let fitted = 0;
+      for (let j = 0; j < q; j++) fitted += design[row + j] * v[j];
+      const r = Math.abs(y[i] - fitted);
+      if (r < smallest) {
+        smallest = r;
+        label = c;
+      }
+    }
+    if (labels[i] !== label) {
+      changed++;
+      if (labels[i] >= 0) changedComponent[labels[i]] = 1;
+      changedComponent[label] = 1;
+    }
+    labels[i] = label;
+    best[i] = smallest;
+  }
+  return changed;
+}
+
+/** Cholesky solve of the normal equations (lower triangle of G given); leaves out untouched if singular. */
+function solveNormalEquations(gram: Float64Array, right: Float64Array, q: number, factor: Float64Array, out: Float64Array): void {
+  for (let a = 0; a < q; a++) {
+    for (let b = 0; b <= a; b++) {
+      let s = gram[a * q + b];
+      for (let t = 0; t < b; t++) s -= factor[a * q + t] * factor[b * q + t];
+      if (a === b) {
+        if (!(s > 1e-13 * Math.abs(gram[a * q + a]))) return;
+        factor[a * q + a] = Math.sqrt(s);
+      } else {
+        factor[a * q + b] = s / factor[b * q + b];
+      }
+    }
+  }
+  const w = new Float64Array(q);
+  for (let a = 0; a < q; a++) {
+    let s = right[a];
+    for (let t = 0; t < a; t++) s -= factor[a * q + t] * w[t];
+    w[a] = s / factor[a * q + a];
+  }
+  for (let a = q - 1; a >= 0; a--) {
+    let s = w[a];
+    for (let t = a + 1; t < q; t++) s -= factor[t * q + a] * out[t];
+    out[a] = s / factor[a * q + a];
+  }
+}

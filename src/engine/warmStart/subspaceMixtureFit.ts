@@ -1,0 +1,132 @@
+import type { Random } from "../random";
+
+/**
+ * EM for a mixture of K regressions restricted to a K-dimensional subspace: the rows are the
+ * projections z_i = Uᵀx̃_i of the whitened predictors onto the top-K eigenvectors of the
+ * response-weighted moment (Yi, Caramanis & Sanghavi 2014; Zhong, Jain & Dhillon 2016 search
+ * inside that subspace). The part of each component outside the subspace acts as extra
+ * noise, so plain EM with one variance per component (Dempster, Laird & Rubin 1977) is the
+ * right low-dimensional model; each iteration costs O(n·K²) instead of O(n·d²).
+ */
+export interface SubspaceMixture {
+  /** K coefficient vectors in subspace coordinates (length K each). */
+  coefficients: Float64Array[];
+  /** n x K memberships, row-major. */
+  memberships: Float64Array;
+  logLikelihood: number;
+}
+
+/** Relative variance floor: keeps a component that fits few rows closely from collapsing. */
+const RELATIVE_VARIANCE_FLOOR = 1e-6;
+/** Memberships below this are left out of the M-step sums. */
+const MEMBERSHIP_CUTOFF = 1e-6;
+
+/**
+ * @param z n x m projected rows (row-major), m = subspace dimension
+ * @param start initial memberships n x k (a random partition, for example), overwritten
+ */
+export function subspaceMixtureFit(z: Float64Array, y: Float64Array, n: number, m: number, k: number, start: Float64Array, iterations: number): SubspaceMixture {
+  const tau = start;
+  const coefficients = Array.from({ length: k }, () => new Float64Array(m));
+  const variances = new Float64Array(k);
+  const weights = new Float64Array(k);
+  const gram = new Float64Array(m * m);
+  const right = new Float64Array(m);
+  const logDensity = new Float64Array(k);
+  let meanSquare = 0;
+  for (let i = 0; i < n; i++) meanSquare += y[i] * y[i];
+  meanSquare /= n;
+  const floor = RELATIVE_VARIANCE_FLOOR * meanSquare;
+  let logLikelihood = -Infinity;
+  for (let iteration = 0; iteration < iterations; iteration++) {
+    // M-step: weighted least squares per component through the m x m normal equations
+    // (m = K is tiny and the projected columns are close to orthonormal).
+    for (let j = 0; j < k; j++) {
+      gram.fill(0);
+      right.fill(0);
+      let mass = 0;
+      for (let i = 0; i < n; i++) {
+        const t = tau[i * k + j];
+        // Memberships turn near-hard within a few steps; skipping the negligible ones
+        // divides the M-step cost by about K without changing it visibly.
+        if (t < MEMBERSHIP_CUTOFF) continue;
+        mass += t;
+        const row = i * m;
+        for (let a = 0; a < m; a++) {
+          const ta = t * z[row + a];
+          right[a] += ta * y[i];
+          for (let b = 0; b <= a; b++) gram[a * m + b] += ta * z[row + b];
+        }
+      }
+      weights[j] = Math.max(mass / n, 1e-12);
+      if (!solveSymmetric(gram, right, m, coefficients[j])) continue;
+      let rss = 0;
+      for (let i = 0; i < n; i++) {
+        const row = i * m;
+        let fitted = 0;
+        for (let a = 0; a < m; a++) fitted += z[row + a] * coefficients[j][a];
+        rss += tau[i * k + j] * (y[i] - fitted) ** 2;
+      }
+      variances[j] = Math.max(floor, mass > 0 ? rss / mass : meanSquare);
+    }
+    // E-step in log space (log-sum-exp).
+    for (let j = 0; j < k; j++) logDensity[j] = Math.log(weights[j]) - 0.5 * Math.log(2 * Math.PI * variances[j]);
+    logLikelihood = 0;
+    for (let i = 0; i < n; i++) {
+      const row = i * m;
+      let best = -Infinity;
+      for (let j = 0; j < k; j++) {
+        let fitted = 0;
+        for (let a = 0; a < m; a++) fitted += z[row + a] * coefficients[j][a];
+        const l = logDensity[j] - (0.5 * (y[i] - fitted) ** 2) / variances[j];
+        tau[i * k + j] = l;
+        if (l > best) best = l;
+      }
+      let total = 0;
+      for (let j = 0; j < k; j++) {
+        const e = Math.exp(tau[i * k + j] - best);
+        tau[i * k + j] = e;
+        total += e;
+      }
+      for (let j = 0; j < k; j++) tau[i * k + j] /= total;
+      logLikelihood += best + Math.log(total);
+    }
+  }
+  return { coefficients, memberships: tau, logLikelihood };
+}
+
+/** A random hard partition as starting memberships (n x k). */
+export function randomPartition(n: number, k: number, random: Random, out: Float64Array): Float64Array {
+  out.fill(0);
+  for (let i = 0; i < n; i++) out[i * k + random.integer(k)] = 1;
+  return out;
+}
+
+/** Solves G c = b for symmetric positive definite G (lower triangle given) by Cholesky; false if singular. */
+function solveSymmetric(gram: Float64Array, right: Float64Array, m: number, out: Float64Array): boolean {
+  const l = new Float64Array(m * m);
+  for (let a = 0; a < m; a++) {
+    for (let b = 0; b <= a; b++) {
+      let s = gram[a * m + b];
+      for (let t = 0; t < b; t++) s -= l[a * m + t] * l[b * m + t];
+      if (a === b) {
+        if (!(s > 1e-12 * (gram[0] + 1e-300))) return false;
+        l[a * m + a] = Math.sqrt(s);
+      } else {
+        l[a * m + b] = s / l[b * m + b];
+      }
+    }
+  }
+  const w = new Float64Array(m);
+  for (let a = 0; a < m; a++) {
+    let s = right[a];
+    for (let t = 0; t < a; t++) s -= l[a * m + t] * w[t];
+    w[a] = s / l[a * m + a];
+  }
+  for (let a = m - 1; a >= 0; a--) {
+    let s = w[a];
+    for (let t = a + 1; t < m; t++) s -= l[t * m + a] * out[t];
+    out[a] = s / l[a * m + a];
+  }
+  return true;
+}
