@@ -81,7 +81,10 @@ export function drawBicChart(container: HTMLElement, rows: ChartRow[], suggested
     const fillBic = flagged ? "#ffffff" : BIC_COLOUR;
     const fillIcl = flagged ? "#ffffff" : ICL_COLOUR;
     parts.push(`<g class="k-point${r.k === selected ? " selected" : ""}${flagged ? " flagged" : ""}" data-k="${r.k}" role="button" tabindex="${r.k === (selected ?? suggested) ? 0 : -1}" aria-label="${label}" aria-pressed="${r.k === selected}">`);
-    parts.push(`<rect class="hit" x="${x - columnW / 2}" y="${MARGIN.top}" width="${columnW}" height="${plotH + 22}"/>`);
+    // The clickable column around each K, kept inside the drawing at the ends.
+    const hitLeft = Math.max(MARGIN.left - 24, x - columnW / 2);
+    const hitRight = Math.min(WIDTH - 2, x + columnW / 2);
+    parts.push(`<rect class="hit" x="${hitLeft}" y="${MARGIN.top}" width="${hitRight - hitLeft}" height="${plotH + 22}"/>`);
     // The shown K: a pointer under its axis label, and the label in bold (see the CSS).
     if (r.k === selected) parts.push(`<path class="selection-pointer" d="M${x},${HEIGHT - MARGIN.bottom + 20}l-5,7h10z"/>`);
     if (Number.isFinite(r.bic)) parts.push(marker("circle", x, yOf(r.bic), 4.5, `fill="${fillBic}" stroke="${BIC_COLOUR}" stroke-width="2"`));

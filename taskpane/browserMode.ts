@@ -71,10 +71,10 @@ export function mountBrowserData(dataBody: HTMLElement, pane: Pane, grid: Grid, 
     grid.load(rows);
     const chosen = ranges ?? guessRanges(rows, grid.sheetName);
     if (!chosen) {
-      loadStatus.textContent = `Loaded ${rows.length} rows from ${source}. Select the y and x columns in the sheet and press Use selection.`;
+      loadStatus.textContent = `Loaded ${source} into the sheet (${rows.length} rows). Select the y and x columns there and press Use selection.`;
       return;
     }
-    loadStatus.textContent = `Loaded ${rows.length} rows from ${source}.${ranges ? "" : " The ranges below are a guess; change them if needed."}`;
+    loadStatus.textContent = `Loaded ${source} into the sheet: ${rows.length} rows.${ranges ? "" : " The ranges below are a guess; change them if needed."}`;
     await pane.setAddresses(chosen.yAddress, chosen.xAddress);
   };
 

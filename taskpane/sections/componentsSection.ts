@@ -11,7 +11,7 @@ export const USE_WITH_CARE =
 /** An estimate with its standard error in brackets, or the estimate alone when none is known. */
 function withError(value: number, error: number | undefined): string {
   const shown = formatNumber(value);
-  return error === undefined || !Number.isFinite(error) ? shown : `${shown} <span class="se">(${formatNumber(error, 2)})</span>`;
+  return error === undefined || !Number.isFinite(error) ? shown : `${shown}<span class="se">(${formatNumber(error, 2)})</span>`;
 }
 
 /**
@@ -75,14 +75,14 @@ export function mountComponentsSection(parent: HTMLElement, _pane: Pane): { upda
       // so this shape fits a narrow pane.
       const header = fit.components.map((_, c) => `<th scope="col" class="component">${markerSwatch(c)} Component ${c + 1}</th>`).join("");
       const row = (name: string, cell: (c: number) => string, id: string) => `<tr data-row="${id}"><th scope="row">${escapeHtml(name)}</th>${fit.components.map((_, c) => `<td>${cell(c)}</td>`).join("")}</tr>`;
-      let html = `<table id="components-table" class="numbers"><caption class="visually-hidden">Estimates per component, standard errors in brackets</caption><thead><tr><th scope="col">Estimate</th>${header}</tr></thead><tbody>`;
+      let html = `<table id="components-table" class="numbers"><caption class="visually-hidden">Estimates per component, each with its standard error in brackets below it</caption><thead><tr><th scope="col">Estimate</th>${header}</tr></thead><tbody>`;
       html += row("Weight", (c) => withError(fit.components[c].weight, errors?.weights[c]), "weight");
       html += row("Noise SD", (c) => withError(fit.components[c].sigma, errors?.sigmas[c]), "sigma");
       for (let j = start; j < names.length; j++) html += row(names[j], (c) => withError(fit.components[c].coefficients[j], errors?.coefficients[c]?.[j]), `coefficient-${j}`);
       html += `</tbody></table>`;
       tableWrap.innerHTML = html;
       seNote.textContent = errors
-        ? `Standard errors in brackets (${errors.method === "bootstrap" ? "bootstrap" : "from the observed information"}).`
+        ? `Standard errors in brackets under each estimate (${errors.method === "bootstrap" ? "bootstrap" : "from the observed information"}).`
         : state.description?.errorsProblem
           ? `No standard errors: ${state.description.errorsProblem}`
           : state.description ? "" : "Working out standard errors…";

@@ -120,7 +120,7 @@ export function mountCountSection(parent: HTMLElement, pane: Pane): { update(sta
         tr.appendChild(element("td", {}, formatNumber(row.icl, 6)));
         tr.appendChild(element("td", {}, formatNumber(row.logLikelihood, 6)));
         tr.appendChild(element("td", {}, row.k === 1 ? "—" : formatNumber(row.minSeparation, 3)));
-        const note = row.k === scan.chosenK ? "suggested" : row.flag || !row.converged ? "not suggested *" : "";
+        const note = row.k === scan.chosenK ? "suggested" : row.flag || !row.converged ? "*" : "";
         tr.appendChild(element("td", { class: "note-cell" }, note));
         tbody.appendChild(tr);
       }
@@ -131,7 +131,7 @@ export function mountCountSection(parent: HTMLElement, pane: Pane): { update(sta
       const flagged = scan.rows.filter((r) => r.k !== scan.chosenK && (r.flag || !r.converged));
       if (flagged.length > 0) {
         const list = element("ul", { id: "scan-flags", class: "compact hint", "aria-label": "Why some K are not suggested" });
-        for (const r of flagged) list.appendChild(element("li", {}, `* ${r.k} components: ${r.flag ?? "the fit did not converge."}`));
+        for (const r of flagged) list.appendChild(element("li", {}, `* Not suggested, ${r.k} components: ${r.flag ?? "the fit did not converge."}`));
         tableWrap.appendChild(list);
       }
     },
