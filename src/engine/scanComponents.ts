@@ -11,7 +11,7 @@ import { regressionMatrix } from "./regressionMatrix";
 /**
  * Suggestion rule, in words (the README repeats it):
  *
- *   A K is eligible when its fit converged (warm start and refinement), no component is
+ *   A K is eligible when its refinement converged and its best starts agree, no component is
  *   near-degenerate (fewer rows than its coefficients + 2, or a noise SD under 1/20 of the
  *   others while holding few rows; see checkSeparation.ts) and every pair of components is at
  *   least MIN_SUGGESTED_GAP noise SDs apart. Among eligible K, take the smallest BIC; then
@@ -34,6 +34,14 @@ import { regressionMatrix } from "./regressionMatrix";
  * and a likelihood gain from such a split is not evidence of a separate group.
  */
 export const BIC_TIE = 6;
+
+/**
+ * Starts disagree when the two best differ by more than 1% of the coefficient scale at nearly
+ * the same likelihood (fitMixture's own threshold): the K components are then not determined
+ * by the data. A warm-start certificate that did not shrink while the starts agree is not a
+ * reason on its own: on noisy data the narrowest residual scale stops at the noise level.
+ */
+export const STARTS_DISAGREE = 0.01;
 
 /**
  * Below this many rows per coefficient per component the suggestion is also checked by
@@ -133,7 +141,7 @@ export function scanComponents(data: RegressionData, options: ScanOptions): Scan
     chosenK = suggestK(rows);
   }
   const rule =
-    `Smallest BIC among K whose fit converged, with no near-degenerate component and every pair of components at least ${MIN_SUGGESTED_GAP} noise SD apart; ` +
+    `Smallest BIC among K whose refinement converged and whose best starts agree, with no near-degenerate component and every pair of components at least ${MIN_SUGGESTED_GAP} noise SD apart; ` +
     `the smallest such K within ${BIC_TIE} BIC units of that minimum. With fewer than ${SMALL_SAMPLE_ROWS_PER_COEFFICIENT} rows per coefficient per component, ` +
     `a K must also predict most held-out rows (${CROSS_VALIDATION_FOLDS}-fold cross-validation) at least as well as every smaller K.`;
   return { rows, chosenK, rule };
@@ -157,7 +165,9 @@ function scanRow(data: RegressionData, fit: MixtureFit): ScanRow {
   const converged = fit.warmStart.converged && fit.refinement.converged;
   const reasons: string[] = [];
   if (!fit.refinement.converged) reasons.push("the refinement did not converge");
-  else if (!fit.warmStart.converged) reasons.push("different starts disagree or the warm start did not settle");
+  if (fit.warmStart.disagreement > STARTS_DISAGREE) {
+    reasons.push(`different starts reached nearly the same likelihood with components ${formatShort(100 * fit.warmStart.disagreement)}% of the coefficient scale apart`);
+  }
   for (let c = 0; c < k; c++) {
     const reason = degenerateComponentReason(fit, c);
     if (reason !== null) reasons.push(`near-degenerate: ${reason}`);

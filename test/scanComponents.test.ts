@@ -1,0 +1,84 @@
+import { describe, expect, it } from "vitest";
+import { scanComponents, suggestK, BIC_TIE } from "../src/engine/scanComponents";
+import { measureScanAccuracy, wellSeparatedProblem } from "../bench/scanAccuracy";
+import { createRandom } from "../src/engine/random";
+import { SkeinError } from "../src/engine/errors";
+
+describe("suggestK (the rule stated in scanComponents.ts)", () => {
+  it("takes the smallest BIC among unflagged K, then the smallest K within BIC_TIE of it", () => {
+    // Invented BIC values.
+    const rows = [
+      { k: 1, bic: 500, flag: null },
+      { k: 2, bic: 300, flag: null },
+      { k: 3, bic: 300 - BIC_TIE / 2, flag: null },
+      { k: 4, bic: 100, flag: "Not suggested: near-degenerate." },
+    ];
+    expect(suggestK(rows)).toBe(2);
+    rows[2].bic = 300 - 2 * BIC_TIE;
+    expect(suggestK(rows)).toBe(3);
+  });
+});
+
+describe("scanComponents", () => {
+  it("suggests the true K on seeded well-separated problems, K = 1..4 (target of issue 4: at least 9 in 10)", () => {
+    // Invented demo problems (bench/scanAccuracy generator); the bench runs 100 of them.
+    const result = measureScanAccuracy([1, 2, 3, 4], 3, 5, 77);
+    expect(result.tried).toBe(12);
+    expect(result.right / result.tried).toBeGreaterThanOrEqual(0.9);
+  });
+
+  it("reports each K with BIC from the stated parameter count, ICL ≥ BIC, and calls onProgress per K", () => {
+    const problem = wellSeparatedProblem(2, createRandom(5), 30);
+    const progress: number[] = [];
+    const scan = scanComponents(problem.data, { kMax: 3, seed: 4, crossValidate: true, onProgress: (k) => progress.push(k) });
+    expect(progress).toEqual([1, 2, 3]);
+    expect(scan.rows.map((r) => r.k)).toEqual([1, 2, 3]);
+    const n = problem.data.n;
+    for (const row of scan.rows) {
+      // ν = K(q + 2) − 1 with q = 3 (intercept and two slopes): Schwarz (1978).
+      const nu = row.k * (3 + 2) - 1;
+      expect(row.bic).toBeCloseTo(-2 * row.logLikelihood + nu * Math.log(n), 8);
+      expect(row.icl).toBeGreaterThanOrEqual(row.bic - 1e-9);
+      expect(Number.isFinite(row.crossValidatedLogLikelihood)).toBe(true);
+    }
+    expect(scan.rows[0].minSeparation).toBe(Infinity);
+    expect(scan.chosenK).toBe(2);
+    // The held-out likelihood of the true K beats one component (common practice: CV rewards real structure).
+    expect(scan.rows[1].crossValidatedLogLikelihood).toBeGreaterThan(scan.rows[0].crossValidatedLogLikelihood);
+    expect(scan.rule).toMatch(/BIC/);
+  });
+
+  it("on one noisy regression with few rows, larger K that fit noise are flagged, not suggested", () => {
+    // Invented demo: one regression, 5 predictors, 100 rows (20 per coefficient·component at
+    // K = 1, so K ≥ 2 fall in the small-sample regime checked by cross-validation).
+    const random = createRandom(123);
+    const n = 100;
+    const p = 5;
+    const x = new Float64Array(n * p);
+    const y = new Float64Array(n);
+    for (let i = 0; i < n; i++) {
+      let fitted = 0.5;
+      for (let j = 0; j < p; j++) {
+        x[i * p + j] = random.normal();
+        fitted += (j + 1) * 0.1 * x[i * p + j];
+      }
+      y[i] = fitted + 0.1 * random.normal();
+    }
+    const scan = scanComponents({ x, y, n, p }, { kMax: 6, seed: 1 });
+    expect(scan.chosenK).toBe(1);
+    for (const row of scan.rows) if (row.k > 1 && row.bic < scan.rows[0].bic) expect(row.flag).not.toBeNull();
+  });
+
+  it("stops with a cancelled error when the signal is raised", () => {
+    const problem = wellSeparatedProblem(1, createRandom(8), 20);
+    const signal = { aborted: false };
+    let error: unknown;
+    try {
+      scanComponents(problem.data, { kMax: 3, signal, onProgress: () => (signal.aborted = true) });
+    } catch (caught) {
+      error = caught;
+    }
+    expect(error).toBeInstanceOf(SkeinError);
+    expect((error as SkeinError).code).toBe("cancelled");
+  });
+});
