@@ -97,8 +97,10 @@ export class ExcelHost implements SheetHost {
         }));
       }
       await context.sync();
+      // Handlers are removed in the context that added them.
       return () => {
-        void Excel.run(async (removal) => {
+        if (handlers.length === 0) return;
+        void Excel.run(handlers[0].context, async (removal) => {
           for (const handler of handlers) handler.remove();
           await removal.sync();
         }).catch(() => undefined);

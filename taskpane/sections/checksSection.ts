@@ -74,7 +74,7 @@ export function mountChecksSection(parent: HTMLElement, pane: Pane): { update(st
   const warnings = element("div", { id: "warnings", "aria-live": "polite" });
   const measures = element("dl", { id: "check-measures", class: "measures" });
   const tableWrap = element("div", { class: "table-wrap" });
-  const trySeed = element("button", { type: "button", id: "try-seed", class: "secondary", hidden: "" });
+  const trySeed = element("button", { type: "button", id: "try-seed", class: "secondary", hidden: "" }, "Run the scan again with another seed");
   trySeed.addEventListener("click", () => {
     pane.setSeed(pane.state.seed + 1);
     const seedInput = document.getElementById("seed") as HTMLInputElement | null;

@@ -1,0 +1,79 @@
+// @vitest-environment jsdom
+import { beforeEach, describe, expect, it } from "vitest";
+import { mountBrowserPane } from "../taskpane/mountPane";
+import { CancelFlag, InlineEngine } from "../taskpane/paneEngine";
+import * as engineCalls from "../taskpane/engineCalls";
+import { buildDesign } from "../src/engine/design";
+import { inventedSheet } from "./support/taskpaneFixtures";
+
+const rows = inventedSheet();
+const $ = <T extends Element = HTMLElement>(selector: string) => document.querySelector<T>(selector)!;
+async function settle(rounds = 20): Promise<void> {
+  for (let i = 0; i < rounds; i++) await new Promise((resolve) => setTimeout(resolve, 0));
+}
+
+beforeEach(() => {
+  document.body.innerHTML = `<main id="app"></main>`;
+});
+
+describe("plain-browser mode", () => {
+  function mount() {
+    const csv = rows.map((r) => r.map((v) => (v === null ? "" : String(v))).join(",")).join("\n");
+    return mountBrowserPane($("#app"), new InlineEngine(engineCalls), async () => csv);
+  }
+
+  it("fills the built-in sheet from a file and guesses the ranges", async () => {
+    const { loadRows, grid } = mount();
+    await loadRows!(rows, undefined, "invented.csv");
+    expect(grid!.get(0, 0)).toBe("Output");
+    expect($("#grid td[data-r='1'][data-c='1']").textContent).toBe(String(rows[1][1]));
+    expect($<HTMLInputElement>("#y-address").value).toBe(`Data!A1:A${rows.length}`);
+    expect($<HTMLInputElement>("#x-address").value).toBe(`Data!B1:B${rows.length}`);
+    expect($("#load-status").textContent).toContain("guess");
+    expect($("#data-rows").textContent).toContain(`of ${rows.length - 1}`);
+  });
+
+  it("labels every control", () => {
+    mount();
+    for (const control of Array.from(document.querySelectorAll("input, select, button"))) {
+      const id = control.getAttribute("id");
+      const named = control.getAttribute("aria-label") || (id && document.querySelector(`label[for='${id}']`)) || (control.tagName === "BUTTON" && control.textContent!.trim());
+      expect(named, control.outerHTML).toBeTruthy();
+    }
+  });
+
+  it("runs the same sections and puts plain values into the sheet", async () => {
+    const { loadRows, grid, pane } = mount();
+    await loadRows!(rows, undefined, "invented.csv");
+    pane.setKMax(2);
+    await pane.runScan();
+    await pane.chooseK(2);
+    await settle();
+    expect(document.querySelectorAll("#components-table th.component").length).toBe(2);
+    expect(document.querySelectorAll("#scatter path.fitted-line").length).toBe(2);
+    expect($("#place-browser-note").hidden).toBe(false);
+
+    $<HTMLInputElement>("#place-as-values").checked = true;
+    $<HTMLInputElement>("#place-at").value = "D1";
+    $<HTMLButtonElement>("#place-button").click();
+    await settle();
+    expect($("#place-result").textContent).toContain("Placed 2 results");
+    // The components table: header, then one row per component with its weight.
+    expect(grid!.get(0, 3)).toBe("Component");
+    const fit = pane.state.fit!;
+    expect(grid!.get(1, 4)).toBe(fit.components[0].weight);
+    expect(grid!.get(2, 4)).toBe(fit.components[1].weight);
+    // Labels start 4 + p + 1 columns to the right: column J; a skipped row stays empty.
+    expect(grid!.get(0, 9)).toBe("Component");
+    expect(grid!.get(5, 9)).toBe("");
+    expect([1, 2]).toContain(grid!.get(1, 9));
+  });
+
+  it("rejects a cancelled scan without touching the results", async () => {
+    const engine = new InlineEngine(engineCalls);
+    const design = buildDesign(rows.map((r) => [r[0]]), rows.map((r) => [r[1]]));
+    const flag = new CancelFlag();
+    flag.abort();
+    await expect(engine.scan(design, { kMax: 2 }, () => undefined, flag)).rejects.toMatchObject({ code: "cancelled" });
+  });
+});

@@ -1,0 +1,155 @@
+// @vitest-environment jsdom
+import { afterEach, beforeEach, describe, expect, it, vi } from "vitest";
+import { ExcelHost } from "../taskpane/excelHost";
+import { mountExcelPane } from "../taskpane/mountPane";
+import { InlineEngine } from "../taskpane/paneEngine";
+import * as engineCalls from "../taskpane/engineCalls";
+import { REFRESH_DELAY_MS } from "../taskpane/pane";
+import { inventedSheet } from "./support/taskpaneFixtures";
+import { mockWorkbook, type MockWorkbook } from "./support/mockWorkbook";
+
+let book: MockWorkbook;
+const rows = inventedSheet();
+const last = rows.length;
+
+beforeEach(() => {
+  // Sheet1: y in A, x in B, from row 1 (header) to row `last`.
+  book = mockWorkbook({ Sheet1: rows.map((r) => r.slice()) }, "Sheet1", "Sheet1!A1");
+  (globalThis as { Excel?: unknown }).Excel = book.excel;
+  document.body.innerHTML = `<main id="app"></main>`;
+});
+
+afterEach(() => {
+  delete (globalThis as { Excel?: unknown }).Excel;
+  vi.useRealTimers();
+});
+
+const $ = <T extends Element = HTMLElement>(selector: string) => document.querySelector<T>(selector)!;
+const click = (selector: string) => $<HTMLButtonElement>(selector).click();
+/** Lets pending promise chains (Excel.run batches, engine calls) finish. */
+async function settle(rounds = 20): Promise<void> {
+  for (let i = 0; i < rounds; i++) await new Promise((resolve) => setTimeout(resolve, 0));
+}
+
+describe("ExcelHost", () => {
+  it("reads the selection's address and a range's values, blanks as null", async () => {
+    const host = new ExcelHost();
+    book.selection = "Sheet1!A1:A10";
+    expect(await host.selectedAddress()).toBe("Sheet1!A1:A10");
+    const values = await host.readValues("Sheet1!A8:B10");
+    expect(values).toEqual([rows[7], rows[8], rows[9]]);
+    expect(values[2][0]).toBeNull();
+  });
+
+  it("counts filled cells and writes formulas into the block", async () => {
+    const host = new ExcelHost();
+    expect(await host.occupiedCells("Sheet1!B1", 3, 2)).toBe(3);
+    expect(await host.occupiedCells("Sheet1!D1", 3, 2)).toBe(0);
+    await host.write("Sheet1!D1", [["=SKEIN.FIT(A1:A9, B1:B9, 2)"]]);
+    expect(book.writes).toEqual([{ address: "Sheet1!D1", formulas: [["=SKEIN.FIT(A1:A9, B1:B9, 2)"]] }]);
+    expect(await host.occupiedCells("Sheet1!D1", 3, 2)).toBe(1);
+  });
+
+  it("hears edits inside the watched ranges only", async () => {
+    const host = new ExcelHost();
+    const heard: number[] = [];
+    const stop = await host.watch(["Sheet1!A1:A50", "Sheet1!B1:B50"], () => heard.push(1));
+    expect(book.handlerCount("Sheet1")).toBe(1);
+    await book.edit("Sheet1", "B7", [[3]]);
+    await book.edit("Sheet1", "F7", [[3]]);
+    await book.edit("Sheet1", "A51", [[3]]);
+    expect(heard.length).toBe(1);
+    stop();
+    await settle();
+    expect(book.handlerCount("Sheet1")).toBe(0);
+  });
+});
+
+describe("the pane inside Excel", () => {
+  function mount() {
+    return mountExcelPane($("#app"), new ExcelHost(), new InlineEngine(engineCalls));
+  }
+
+  it("takes y and x from the selection and reports rows used and skipped", async () => {
+    mount();
+    const headings = Array.from(document.querySelectorAll(".pane-section h2")).map((h) => h.textContent);
+    expect(headings).toEqual(["Data", "How many components", "Components", "Checks", "Put in sheet"]);
+    book.selection = `Sheet1!A1:A${last}`;
+    click("#y-use");
+    await settle();
+    book.selection = `Sheet1!B1:B${last}`;
+    click("#x-use");
+    await settle();
+    expect($<HTMLInputElement>("#y-address").value).toBe(`Sheet1!A1:A${last}`);
+    expect($("#data-headers").textContent).toContain("“Output”");
+    expect($("#data-headers").textContent).toContain("“Input”");
+    expect($("#data-rows").textContent).toBe(`Rows used: ${last - 3} of ${last - 1}. Rows skipped: 2 (1.7%).`);
+    const skipped = Array.from(document.querySelectorAll("#data-skipped li")).map((li) => li.textContent);
+    // Sheet row 6 holds "n/a" in Input; sheet row 10 a blank Output (fixture).
+    expect(skipped).toEqual(["Row 6: text in Input", "Row 10: blank in Output"]);
+  });
+
+  it("scans, shows a chosen K, and places live formulas without overwriting data unasked", async () => {
+    const { pane } = mount();
+    await pane.setAddresses(`Sheet1!A1:A${last}`, `Sheet1!B1:B${last}`);
+    pane.setKMax(3);
+    await pane.runScan();
+    await settle();
+    expect(document.querySelectorAll("#bic-chart g.k-point").length).toBe(3);
+    expect(document.querySelectorAll("#scan-table tbody tr").length).toBe(3);
+    const chosen = pane.state.scan!.chosenK;
+    expect(document.querySelectorAll("#components-table th.component").length).toBe(chosen);
+    expect($("#use-with-care").textContent).toContain("not proof that a real group exists");
+
+    // Pick K = 1 by clicking its point in the chart.
+    $("#bic-chart g.k-point[data-k='1']").dispatchEvent(new MouseEvent("click", { bubbles: true }));
+    await settle();
+    expect(pane.state.chosenK).toBe(1);
+    expect(document.querySelectorAll("#components-table th.component").length).toBe(1);
+
+    // Place formulas over the data: the pane asks first, and writes nothing until told.
+    $<HTMLInputElement>("#place-at").value = "Sheet1!B1";
+    click("#place-button");
+    await settle();
+    expect($("#place-confirm").hidden).toBe(false);
+    expect(book.writes).toEqual([]);
+    click("#place-keep");
+    expect(book.writes).toEqual([]);
+
+    $<HTMLInputElement>("#place-at").value = "Sheet1!E1";
+    click("#place-button");
+    await settle();
+    expect($("#place-confirm").hidden).toBe(true);
+    expect(book.writes.map((w) => w.address)).toEqual(["Sheet1!E1", "Sheet1!K1"]);
+    expect(book.writes[0].formulas).toEqual([[`=SKEIN.FIT(Sheet1!A1:A${last}, Sheet1!B1:B${last}, 1, "seed=1")`]]);
+    expect(book.writes[1].formulas).toEqual([[`=SKEIN.LABELS(Sheet1!A1:A${last}, Sheet1!B1:B${last}, 1, "seed=1")`]]);
+  });
+
+  it("refits after an edit to the data, keeping the component order", async () => {
+    const { pane } = mount();
+    await pane.setAddresses(`Sheet1!A1:A${last}`, `Sheet1!B1:B${last}`);
+    pane.setKMax(2);
+    await pane.runScan();
+    await settle();
+    await pane.chooseK(2);
+    await settle();
+    const before = pane.state.fit!;
+    vi.useFakeTimers();
+    // A small edit: one response nudged by a tenth of the noise SD.
+    await book.edit("Sheet1", "A3", [[(rows[2][0] as number) + 0.04]]);
+    await book.edit("Sheet1", "A4", [[(rows[3][0] as number) + 0.04]]);
+    // Both edits fall in one quiet period: one refit.
+    await vi.advanceTimersByTimeAsync(REFRESH_DELAY_MS);
+    vi.useRealTimers();
+    await settle();
+    const after = pane.state.fit!;
+    expect(after).not.toBe(before);
+    expect($("#refresh-note").hidden).toBe(false);
+    expect($("#scan-stale").hidden).toBe(false);
+    // Same order: each component's slope stays nearest its own previous slope.
+    for (let c = 0; c < 2; c++) {
+      const distances = before.components.map((b) => Math.abs(b.coefficients[1] - after.components[c].coefficients[1]));
+      expect(distances.indexOf(Math.min(...distances))).toBe(c);
+    }
+  });
+});
