@@ -3,6 +3,11 @@ import { buildDesign, type Design } from "../engine/design";
 import { designMatrix } from "../engine/designMatrix";
 import { SkeinError } from "../engine/errors";
 import { leastSquares } from "../engine/leastSquares";
+import { fitMixture } from "../engine/fitMixture";
+import { checkSeparation } from "../engine/checkSeparation";
+import { standardErrors } from "../engine/standardErrors";
+import type { MixtureFit, MixtureModel, RefinementReport, WarmStartReport } from "../engine/mixtureTypes";
+import type { SeparationReport } from "../engine/trustTypes";
 import { readTable } from "../io/readTable";
 import { parseArgs, parseList, parseWholeNumber, type FlagKinds } from "./args";
 import { checkRectangular, columnRange, columnsRange, findColumn, headerNames, isMostlyNumeric } from "./columns";
@@ -20,6 +25,10 @@ and listed.
                     other column that holds mostly numbers
   --sheet NAME      the worksheet of an .xlsx file (default: the first)
   --k N             number of components (default 1)
+  --model NAME      plain (y given x per component, the default) or joint
+                    (each component also models where its x lie)
+  --restarts N      alternative starts refined briefly before the best is
+                    refined fully (default: the engine's choice)
   --seed S          seed for the random starts of a mixture fit (default 1)
   --no-intercept    fit without an intercept
   --json            write one JSON object instead of a table
@@ -33,6 +42,8 @@ const FIT_FLAGS: FlagKinds = {
   x: "value",
   sheet: "value",
   k: "value",
+  model: "value",
+  restarts: "value",
   seed: "value",
   "no-intercept": "switch",
   json: "switch",
@@ -52,6 +63,9 @@ export interface FitSettings {
   k: number;
   seed: number;
   intercept: boolean;
+  model: MixtureModel;
+  /** undefined: the engine's default. */
+  restarts?: number;
   json: boolean;
 }
 
@@ -88,6 +102,16 @@ export interface FitReport {
   labels: (number | null)[];
   logLikelihood: number;
   bic: number;
+  icl: number;
+  model: MixtureModel;
+  seed: number;
+  warmStart: WarmStartReport;
+  refinement: RefinementReport;
+  warnings: string[];
+  /** Pairwise separation, estimated misclassification, entropy (null for one component). */
+  separation: SeparationReport | null;
+  /** Standard errors: per component coefficients (as in components[].stdErrors), weights and noise SDs. */
+  stdErrors: { method: string; weights: number[]; sigmas: number[] };
   timings: { readMs: number; fitMs: number };
 }
 
@@ -99,6 +123,12 @@ export interface ModelFit {
   logLikelihood: number;
   /** Free parameters ν, for the BIC. */
   parameterCount: number;
+  /** The mixture fit behind the report. */
+  mixture: MixtureFit;
+  separation: SeparationReport | null;
+  stdErrorMethod: string;
+  weightStdErrors: number[];
+  sigmaStdErrors: number[];
 }
 
 /** Turns the fit command's arguments into settings, or "help". */
@@ -114,6 +144,9 @@ export function parseFitSettings(argv: readonly string[]): FitSettings | "help" 
   const xText = values.get("x");
   const kText = values.get("k");
   const seedText = values.get("seed");
+  const modelText = values.get("model") ?? "plain";
+  if (modelText !== "plain" && modelText !== "joint") throw new SkeinError("bad-input", `--model must be plain or joint, not ${modelText} (see skein fit --help)`);
+  const restartsText = values.get("restarts");
   return {
     file: positionals[0],
     sheet: values.get("sheet"),
@@ -122,6 +155,8 @@ export function parseFitSettings(argv: readonly string[]): FitSettings | "help" 
     k: kText === undefined ? 1 : parseWholeNumber(kText, "k", "fit", 1, MAX_COMPONENTS),
     seed: seedText === undefined ? 1 : parseWholeNumber(seedText, "seed", "fit", 0, 2 ** 32 - 1),
     intercept: !switches.has("no-intercept"),
+    model: modelText,
+    restarts: restartsText === undefined ? undefined : parseWholeNumber(restartsText, "restarts", "fit", 0, 1000),
     json: switches.has("json"),
   };
 }
@@ -144,22 +179,44 @@ function chooseColumns(rows: unknown[][], names: string[], settings: FitSettings
 }
 
 /**
- * Fits the model the settings ask for. Only one component is available in
- * this build; the mixture fit plugs in here, returning the same ModelFit.
+ * Fits the model the settings ask for: the mixture engine for any K, with standard errors
+ * from the observed information (Louis 1982). With one plain component the mixture is
+ * ordinary least squares, and the report gives the classical least-squares standard
+ * errors (n − q degrees of freedom), the ones regression tables and NIST certify.
  */
-export function fitModel(design: Design, settings: Pick<FitSettings, "k" | "seed" | "intercept">): ModelFit {
-  if (settings.k !== 1) {
-    throw new SkeinError("bad-input", `Mixtures with K > 1 are not available yet in this build; use --k 1 (the default) for a single regression.`);
+export function fitModel(design: Design, settings: Pick<FitSettings, "k" | "seed" | "intercept" | "model" | "restarts">): ModelFit {
+  const mixture = withColumnNames(design, settings.intercept, () =>
+    fitMixture(design, { k: settings.k, seed: settings.seed, intercept: settings.intercept, model: settings.model, restarts: settings.restarts }),
+  );
+  const errors = standardErrors(design, mixture);
+  let coefficientErrors = errors.coefficients.map((c) => Array.from(c));
+  let method: string = errors.method;
+  if (settings.k === 1 && settings.model === "plain") {
+    coefficientErrors = [classicalStdErrors(design, settings.intercept)];
+    method = "least-squares";
   }
-  return fitOneComponent(design, settings.intercept);
+  return {
+    components: mixture.components.map((component, c) => ({
+      weight: component.weight,
+      sigma: component.sigma,
+      coefficients: Array.from(component.coefficients),
+      stdErrors: coefficientErrors[c],
+    })),
+    labels: mixture.labels,
+    logLikelihood: mixture.logLikelihood,
+    parameterCount: mixture.parameterCount,
+    mixture,
+    separation: settings.k > 1 ? checkSeparation(design, mixture) : null,
+    stdErrorMethod: method,
+    weightStdErrors: Array.from(errors.weights),
+    sigmaStdErrors: Array.from(errors.sigmas),
+  };
 }
 
-/** One ordinary least-squares regression, reported as a mixture of one component. */
-function fitOneComponent(design: Design, intercept: boolean): ModelFit {
-  const { matrix, q } = designMatrix(design, intercept);
-  let fit;
+/** Runs a fit, adding the column names to a singular-design message. */
+function withColumnNames<T>(design: Design, intercept: boolean, run: () => T): T {
   try {
-    fit = leastSquares(matrix, design.n, q, design.y, { intercept });
+    return run();
   } catch (error) {
     if (error instanceof SkeinError && error.code === "numeric") {
       const terms = [...(intercept ? ["intercept"] : []), ...design.predictorNames];
@@ -167,20 +224,15 @@ function fitOneComponent(design: Design, intercept: boolean): ModelFit {
     }
     throw error;
   }
-  const coefficients = Array.from(fit.coefficients);
+}
+
+/** Classical least-squares standard errors of one regression, intercept slot first (0 when none). */
+function classicalStdErrors(design: Design, intercept: boolean): number[] {
+  const { matrix, q } = designMatrix(design, intercept);
+  const fit = withColumnNames(design, intercept, () => leastSquares(matrix, design.n, q, design.y, { intercept }));
   const stdErrors = Array.from(fit.stdErrors);
-  if (!intercept) {
-    coefficients.unshift(0);
-    stdErrors.unshift(0);
-  }
-  const k = 1;
-  return {
-    components: [{ weight: 1, sigma: fit.mlSigma, coefficients, stdErrors }],
-    labels: new Int32Array(design.n),
-    logLikelihood: fit.logLikelihood,
-    // ν = K(q + 2) − 1: q coefficients and a noise SD per component, K − 1 free weights.
-    parameterCount: k * (q + 2) - 1,
-  };
+  if (!intercept) stdErrors.unshift(0);
+  return stdErrors;
 }
 
 /** Everything the command computes, before it is written out. */
@@ -217,6 +269,14 @@ export async function computeFitReport(settings: FitSettings): Promise<{ report:
     labels,
     logLikelihood: model.logLikelihood,
     bic,
+    icl: model.mixture.icl,
+    model: settings.model,
+    seed: settings.seed,
+    warmStart: model.mixture.warmStart,
+    refinement: model.mixture.refinement,
+    warnings: [...model.mixture.warnings, ...(model.separation?.warnings ?? [])],
+    separation: model.separation,
+    stdErrors: { method: model.stdErrorMethod, weights: model.weightStdErrors, sigmas: model.sigmaStdErrors },
     timings: { readMs, fitMs },
   };
   return { report, sheetName: table.sheetName };

@@ -33,7 +33,12 @@ export function formatFitTable(report: FitReport, source: { file: string; sheetN
   const componentWord = report.k === 1 ? "1 component" : `${report.k} components`;
   lines.push(`${report.response} regressed on ${report.predictors.join(", ")} (${componentWord}, ${report.intercept ? "with" : "without"} intercept)`);
   lines.push(`Data: ${where}; ${report.rowsUsed} rows used, ${report.rowsSkipped} skipped`);
-  lines.push(`Log-likelihood ${formatNumber(report.logLikelihood)}; BIC ${formatNumber(report.bic)}`);
+  lines.push(`Log-likelihood ${formatNumber(report.logLikelihood)}; BIC ${formatNumber(report.bic)}; ICL ${formatNumber(report.icl)}`);
+  if (report.k > 1) {
+    const start = report.warmStart;
+    const refinement = report.refinement;
+    lines.push(`Warm start: ${start.converged ? "converged" : "NOT converged"} (${start.method}, ${start.startsTried} starts); refinement: ${refinement.converged ? "converged" : "NOT converged"} after ${refinement.iterations} iterations`);
+  }
 
   report.components.forEach((component, c) => {
     lines.push("");
@@ -45,6 +50,19 @@ export function formatFitTable(report: FitReport, source: { file: string; sheetN
     });
     lines.push(...alignColumns(table, "  "));
   });
+
+  if (report.separation) {
+    lines.push("");
+    lines.push(`Separation: smallest gap ${formatNumber(report.separation.minGap)} noise SDs; estimated misclassification ${formatNumber(report.separation.misclassification)}; normalised entropy ${formatNumber(report.separation.normalisedEntropy)}`);
+    const gaps = report.separation.pairs.map((pair) => `${pair.a + 1}-${pair.b + 1}: ${formatNumber(pair.gap)}`);
+    lines.push(`  gaps between components ${gaps.join(", ")}`);
+  }
+
+  if (report.warnings.length > 0) {
+    lines.push("");
+    lines.push("Warnings:");
+    for (const warning of report.warnings) lines.push(`  - ${warning}`);
+  }
 
   if (report.rowsSkipped > 0) {
     lines.push("");
