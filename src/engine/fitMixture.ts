@@ -75,6 +75,13 @@ const MAX_PEELING_ROUNDS = 3;
  */
 const SUBSAMPLE_MIN_ROWS = 4000;
 const SUBSAMPLE_ROWS_PER_PARAMETER = 20;
+/**
+ * The moment warm start sees at most max(MOMENT_MIN_ROWS, MOMENT_ROWS_PER_PARAMETER · k · q)
+ * rows: its sample size grows like the dimension (Õ(d), METHODS.md), its cost like rows times
+ * its many passes, and its output is only a start that EM then refines on more rows.
+ */
+const MOMENT_MIN_ROWS = 2000;
+const MOMENT_ROWS_PER_PARAMETER = 40;
 
 /**
  * Two starts disagree when their log-likelihoods are within DISAGREEMENT_LOG_LIKELIHOOD (6 is
@@ -82,6 +89,17 @@ const SUBSAMPLE_ROWS_PER_PARAMETER = 20;
  * their matched coefficients differ by more than DISAGREEMENT_RELATIVE of the coefficient scale.
  */
 const DISAGREEMENT_LOG_LIKELIHOOD = 3;
+/**
+ * Starts tried before the "best found twice" rule may stop the search: the moment warm start
+ * and both seeded starts, which between them cover slope, offset and location differences.
+ */
+const MIN_STARTS = 3;
+/**
+ * Two briefly refined starts count as the same fit when their coefficients are within this
+ * fraction of the coefficient scale: looser than DISAGREEMENT_RELATIVE because short runs
+ * have not converged yet.
+ */
+const SAME_FIT_RELATIVE = 0.05;
 const DISAGREEMENT_RELATIVE = 0.01;
 
 const MODELS: readonly MixtureModel[] = ["plain", "joint"];
@@ -142,19 +160,21 @@ export function fitMixture(data: RegressionData, options: MixtureOptions): Mixtu
   const subsampleSize = Math.max(SUBSAMPLE_MIN_ROWS, SUBSAMPLE_ROWS_PER_PARAMETER * k * full.q);
   const working = full.n > 2 * subsampleSize ? createWorkspace(data, k, intercept, joint, sampleIndices(full.n, subsampleSize, random)) : full;
 
-  // 1. Starts, each refined briefly on the working rows. A start that fits every row to
-  // rounding level (noiseless data) cannot be beaten, so the remaining starts are skipped.
+  // 1. Starts, each refined briefly on the working rows. The remaining starts are skipped once
+  // a start fits every row to rounding level (noiseless data: it cannot be beaten), or once
+  // the best fit so far has been reached from two different starts.
   const candidates: Candidate[] = [];
-  let exactStartFound = false;
+  let enoughStarts = false;
   const tryStart = (method: string, makeParams: () => MixtureParameters | null): void => {
-    if (exactStartFound) return;
+    if (enoughStarts) return;
     checkSignal(signal);
     const params = makeParams();
     if (!params) return;
     const run = runEm(working, params, guards, SHORT_ITERATIONS, settings.tolerance, random, signal, null);
     if (!Number.isFinite(run.logLikelihood)) return;
     candidates.push({ method, params, logLikelihood: run.logLikelihood });
-    if (isNoiseless(params, working)) exactStartFound = true;
+    if (isNoiseless(params, working)) enoughStarts = true;
+    else if (candidates.length >= MIN_STARTS && bestFoundTwice(candidates)) enoughStarts = true;
   };
   const previous = options.previous;
   if (previous && previous.k === k && previous.p === data.p && previous.intercept === intercept) {
@@ -162,7 +182,19 @@ export function fitMixture(data: RegressionData, options: MixtureOptions): Mixtu
   }
   let moment: ReturnType<typeof momentWarmStart> = null;
   tryStart("moment-descent", () => {
-    moment = momentWarmStart({ x: working.predictors, y: working.y, n: working.n, p: working.p }, k, intercept, random);
+    const momentRows = Math.max(MOMENT_MIN_ROWS, MOMENT_ROWS_PER_PARAMETER * k * working.q);
+    let momentData: RegressionData = { x: working.predictors, y: working.y, n: working.n, p: working.p };
+    if (working.n > 2 * momentRows) {
+      const rows = sampleIndices(working.n, momentRows, random);
+      const x = new Float64Array(rows.length * working.p);
+      const y = new Float64Array(rows.length);
+      rows.forEach((row, i) => {
+        x.set(working.predictors.subarray(row * working.p, (row + 1) * working.p), i * working.p);
+        y[i] = working.y[row];
+      });
+      momentData = { x, y, n: rows.length, p: working.p };
+    }
+    moment = momentWarmStart(momentData, k, intercept, random);
     if (!moment) return null;
     const coefficients = new Float64Array(k * working.q);
     moment.coefficients.forEach((vector, c) => coefficients.set(vector, c * working.q));
@@ -522,6 +554,15 @@ function peelExactComponents(data: RegressionData, ws: MixtureWorkspace, params:
   exact.forEach((c, j) => coefficients.set(params.coefficients.subarray(c * q, c * q + q), j * q));
   sub.components.forEach((component, j) => coefficients.set(component.coefficients.subarray(settings.intercept ? 0 : 1), (exact.length + j) * q));
   return parametersFromCoefficients(ws, coefficients, guards);
+}
+
+/** Whether the best candidate's fit was also reached by another start (same ln L, same coefficients). */
+function bestFoundTwice(candidates: Candidate[]): boolean {
+  let best = candidates[0];
+  for (const c of candidates) if (c.logLikelihood > best.logLikelihood) best = c;
+  return candidates.some(
+    (c) => c !== best && c.logLikelihood >= best.logLikelihood - DISAGREEMENT_LOG_LIKELIHOOD && coefficientDistance(c.params, best.params) <= SAME_FIT_RELATIVE,
+  );
 }
 
 function isNoiseless(params: MixtureParameters, ws: MixtureWorkspace): boolean {

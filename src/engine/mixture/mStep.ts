@@ -48,9 +48,16 @@ export function mStepCoefficients(ws: MixtureWorkspace, params: MixtureParameter
   rightHandSides.fill(0);
   sizes.fill(0);
   for (let i = 0; i < n; i++) for (let c = 0; c < k; c++) sizes[c] += memberships[i * k + c];
+  // The largest component's Gram matrix is the total XᵀX (computed once per data set) minus
+  // the others', since Σ_k τ_ik = 1: one component fewer to accumulate. Taking the largest keeps
+  // the cancellation small: the error is about rounding × n / n_largest ≤ rounding × k.
+  const total = totalGram(ws);
+  let largest = 0;
+  for (let c = 1; c < k; c++) if (sizes[c] > sizes[largest]) largest = c;
   for (let start = 0; start < n; start += blockRows) {
     const end = Math.min(n, start + blockRows);
     for (let c = 0; c < k; c++) {
+      if (c === largest && k > 1) continue;
       // Gather the rows this component holds into column-major buffers of length m.
       let m = 0;
       for (let i = start; i < end; i++) {
@@ -74,6 +81,19 @@ export function mStepCoefficients(ws: MixtureWorkspace, params: MixtureParameter
       }
     }
   }
+  if (k > 1) {
+    const offset = largest * q * q;
+    for (let j = 0; j < q; j++) {
+      let rhs = total.rightHandSide[j];
+      for (let c = 0; c < k; c++) if (c !== largest) rhs -= rightHandSides[c * q + j];
+      rightHandSides[largest * q + j] = rhs;
+      for (let l = j; l < q; l++) {
+        let value = total.gram[j * q + l];
+        for (let c = 0; c < k; c++) if (c !== largest) value -= grams[c * q * q + j * q + l];
+        grams[offset + j * q + l] = value;
+      }
+    }
+  }
   const collapsed: number[] = [];
   const solution = new Float64Array(q);
   for (let c = 0; c < k; c++) {
@@ -88,6 +108,28 @@ export function mStepCoefficients(ws: MixtureWorkspace, params: MixtureParameter
   }
   if (ws.joint) mStepPredictorModel(ws, params, guards);
   return { collapsed, varianceBoundActive: false };
+}
+
+/** XᵀX and Xᵀy over all rows of the workspace, accumulated on first use. */
+function totalGram(ws: MixtureWorkspace): { gram: Float64Array; rightHandSide: Float64Array } {
+  if (ws.totalGram && ws.totalRightHandSide) return { gram: ws.totalGram, rightHandSide: ws.totalRightHandSide };
+  const { n, q, design, y, blockRows, blockColumns, blockY } = ws;
+  const gram = new Float64Array(q * q);
+  const rightHandSide = new Float64Array(q);
+  for (let start = 0; start < n; start += blockRows) {
+    const m = Math.min(n, start + blockRows) - start;
+    for (let r = 0; r < m; r++) {
+      for (let j = 0; j < q; j++) blockColumns[j * blockRows + r] = design[(start + r) * q + j];
+      blockY[r] = y[start + r];
+    }
+    for (let j = 0; j < q; j++) {
+      rightHandSide[j] += dot(blockColumns, j * blockRows, blockY, 0, m);
+      for (let l = j; l < q; l++) gram[j * q + l] += dot(blockColumns, j * blockRows, blockColumns, l * blockRows, m);
+    }
+  }
+  ws.totalGram = gram;
+  ws.totalRightHandSide = rightHandSide;
+  return { gram, rightHandSide };
 }
 
 /** Σ a[aOffset + i] b[bOffset + i] for i < m, four partial sums to shorten the dependency chain. */

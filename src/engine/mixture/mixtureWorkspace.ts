@@ -38,6 +38,9 @@ export interface MixtureWorkspace {
   blockColumns: Float64Array;
   blockWeighted: Float64Array;
   blockY: Float64Array;
+  /** XᵀX and Xᵀy over all rows, filled by the first M-step. */
+  totalGram: Float64Array | null;
+  totalRightHandSide: Float64Array | null;
   /** Per-row scratch of length k. */
   rowScratch: Float64Array;
   /** Per-row scratch of length p (joint model). */
@@ -86,6 +89,8 @@ export function createWorkspace(data: RegressionData, k: number, intercept: bool
     blockColumns: new Float64Array(blockRows * Math.max(q, 1)),
     blockWeighted: new Float64Array(blockRows * Math.max(q, 1)),
     blockY: new Float64Array(blockRows),
+    totalGram: null,
+    totalRightHandSide: null,
     rowScratch: new Float64Array(k),
     predictorScratch: new Float64Array(p),
   };

@@ -1,0 +1,63 @@
+import { fitMixture } from "../src/engine/fitMixture";
+import { generateProblem, relativeCoefficientError } from "../test/support/mixtureProblem";
+
+/** Rows per size in the speed bench (issue 3, item 6). */
+const SIZES = [10000, 100000, 200000];
+const PREDICTORS = 10;
+const COMPONENTS = 3;
+/**
+ * Noise SD of the generated data: 0.1, the middle of the noisy kind of issue 3, item 6(ii)
+ * (invented demo data: slopes in the unit ball at least 0.5 apart, intercepts in [−2, 2]).
+ */
+const NOISE = 0.1;
+/** Repetitions of the one-pass timing; the median is used. */
+const PASS_REPETITIONS = 21;
+
+/**
+ * Fit time for 10k, 100k and 200k rows (10 predictors, K = 3, noisy, intercepts), in ms and as a
+ * multiple of one pass over the same data: the time to compute X·w once (one multiply-add per
+ * cell of the design, plus the intercept), measured in the same process just before the fit.
+ * Target: at most 200 passes at 200k rows, and the multiple flat as rows grow.
+ */
+export function runSpeedBench(print: (line: string) => void): void {
+  print(`speed: fitMixture, ${PREDICTORS} predictors, K = ${COMPONENTS}, noise SD ${NOISE}, intercepts (seeded demo data)`);
+  // Warm-up fit, discarded: the first calls include the JavaScript engine's compilation.
+  const warmUp = generateProblem({ n: 5000, p: PREDICTORS, k: COMPONENTS, seed: 7, sigma: NOISE, intercept: true, meanShift: 0.5, minSeparation: 0.5 });
+  fitMixture(warmUp.data, { k: COMPONENTS, seed: 1 });
+  print("rows      fit ms   one pass ms   passes   iterations (subsample + full)   max rel. coefficient error");
+  for (const n of SIZES) {
+    const problem = generateProblem({ n, p: PREDICTORS, k: COMPONENTS, seed: 2024, sigma: NOISE, intercept: true, meanShift: 0.5, minSeparation: 0.5 });
+    const pass = timeOnePass(problem.data.x, n, PREDICTORS);
+    const started = performance.now();
+    const fit = fitMixture(problem.data, { k: COMPONENTS, seed: 1 });
+    const elapsed = performance.now() - started;
+    const refinement = fit.refinement as typeof fit.refinement & { subsampleIterations?: number };
+    const error = relativeCoefficientError(fit.components.map((c) => c.coefficients), problem.coefficients);
+    print(
+      `${String(n).padEnd(9)} ${elapsed.toFixed(0).padStart(6)}   ${pass.toFixed(3).padStart(11)}   ${(elapsed / pass).toFixed(0).padStart(6)}   ` +
+        `${String(refinement.subsampleIterations ?? 0).padStart(4)} + ${String(fit.refinement.iterations).padEnd(24)}   ${error.toExponential(2)}`,
+    );
+  }
+}
+
+/** Median time of computing X·w (with an intercept) over a row-major n x p matrix. */
+function timeOnePass(x: Float64Array, n: number, p: number): number {
+  const w = Float64Array.from({ length: p + 1 }, (_, j) => 1 / (j + 1));
+  const out = new Float64Array(n);
+  const times: number[] = [];
+  let checksum = 0;
+  for (let r = 0; r < PASS_REPETITIONS; r++) {
+    const started = performance.now();
+    for (let i = 0; i < n; i++) {
+      let s = w[0];
+      const offset = i * p;
+      for (let j = 0; j < p; j++) s += x[offset + j] * w[j + 1];
+      out[i] = s;
+    }
+    times.push(performance.now() - started);
+    checksum += out[r % n];
+  }
+  if (!Number.isFinite(checksum)) throw new Error("one-pass timing produced a non-finite value");
+  times.sort((a, b) => a - b);
+  return times[Math.floor(times.length / 2)];
+}
