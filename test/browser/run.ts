@@ -215,6 +215,24 @@ async function main(): Promise<void> {
       await shot(page, "05-after-edit-warnings.png");
     });
 
+    await step("open an XLSX file", async () => {
+      const workbook = path.join(ROOT, "sample-workbooks", "shop-chain.xlsx");
+      try {
+        await fs.access(workbook);
+      } catch {
+        console.log("note: sample-workbooks/shop-chain.xlsx not found; XLSX check skipped");
+        return;
+      }
+      await page.setInputFiles("#file-input", workbook);
+      await page.waitForFunction(() => /Loaded shop-chain\.xlsx/.test(document.getElementById("load-status")?.textContent ?? ""));
+      const csv = parseCsv(await fs.readFile(path.join(DIST, "samples", "shop-chain.csv"), "utf8"));
+      const first = await text(page, "#grid td[data-r='0'][data-c='0']");
+      check("XLSX fills the sheet", first === csv[0][0], `A1 = ${first}`);
+      await page.waitForSelector("#data-rows");
+      check("XLSX ranges guessed and read", (await text(page, "#data-rows")).includes(`of ${csv.length - 1}`), await text(page, "#data-rows"));
+      await shot(page, "06-xlsx-opened.png");
+    });
+
     check("no errors from the pane", pageErrors.length === 0, pageErrors.slice(0, 3).join(" | "));
     if (otherErrors.length > 0) console.log(`note: functions.js/commands.js without office.js: ${otherErrors.join(" | ")}`);
   } finally {
