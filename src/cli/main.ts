@@ -1,6 +1,8 @@
 import { SkeinError } from "../engine/errors";
 import { demoCommand } from "./demoCommand";
 import { fitCommand } from "./fitCommand";
+import { predictCommand } from "./predictCommand";
+import { scanCommand } from "./scanCommand";
 
 export interface CommandIO {
   stdout: (s: string) => void;
@@ -14,15 +16,15 @@ per group (a mixture of linear regressions).
 
 Commands:
   fit       fit the regressions to a .csv or .xlsx file
-  scan      compare numbers of components (not available yet)
-  predict   predict new rows (not available yet)
+  scan      compare numbers of components and suggest one
+  predict   fit, then predict the rows of another file
   demo      run on the sample workbooks (invented data) and write results
 
 Run skein COMMAND --help for a command's options.
 `;
 
 const COMMANDS = ["fit", "scan", "predict", "demo"];
-const COMMANDS_NOT_YET_AVAILABLE = new Set(["scan", "predict"]);
+const COMMANDS_NOT_YET_AVAILABLE = new Set<string>();
 
 /** One line for stderr: what went wrong, without line breaks. */
 function oneLine(message: string): string {
@@ -47,6 +49,8 @@ export async function main(argv: readonly string[], io: CommandIO): Promise<numb
     }
     if (command === "fit") return await fitCommand(rest, io);
     if (command === "demo") return await demoCommand(rest, io);
+    if (command === "scan") return await scanCommand(rest, io);
+    if (command === "predict") return await predictCommand(rest, io);
     if (COMMANDS_NOT_YET_AVAILABLE.has(command)) {
       io.stderr(`skein: ${command} is not available yet in this build; skein fit is\n`);
       return 2;

@@ -1,0 +1,69 @@
+import * as path from "path";
+import { buildDesign, type Design } from "../engine/design";
+import { SkeinError } from "../engine/errors";
+import { readTable } from "../io/readTable";
+import { checkRectangular, columnRange, columnsRange, findColumn, headerNames, isMostlyNumeric } from "./columns";
+
+/** Which file and columns a scan or predict command fits on. */
+export interface DesignSource {
+  file: string;
+  sheet?: string;
+  y: string;
+  /** Predictor names; undefined: every other mostly numeric column. */
+  x?: string[];
+  intercept: boolean;
+}
+
+/**
+ * Reads a .csv or .xlsx file whose first row names the columns and builds the Design of the
+ * chosen y and x columns (rows with a blank, text or error cell skipped and listed).
+ */
+export async function loadDesign(source: DesignSource): Promise<{ design: Design; sheetName?: string }> {
+  const fileName = path.basename(source.file);
+  const table = await readTable(source.file, source.sheet);
+  const rows = table.rows;
+  const names = headerNames(rows, fileName);
+  checkRectangular(rows, fileName);
+  if (rows.length < 2) throw new SkeinError("bad-input", `${fileName} has a header row but no data rows below it.`);
+  const y = findColumn(names, source.y, fileName);
+  let x: number[];
+  if (source.x !== undefined) {
+    x = source.x.map((name) => findColumn(names, name, fileName));
+    if (x.includes(y)) throw new SkeinError("bad-input", `${names[y]} is the response (--y); leave it out of --x.`);
+    const repeated = x.find((j, i) => x.indexOf(j) !== i);
+    if (repeated !== undefined) throw new SkeinError("bad-input", `${names[repeated]} appears twice in --x; list each predictor once.`);
+  } else {
+    x = [];
+    for (let j = 0; j < names.length; j++) if (j !== y && isMostlyNumeric(rows, j)) x.push(j);
+    if (x.length === 0) throw new SkeinError("bad-input", `${fileName} has no numeric column besides ${names[y]}; name the predictors with --x.`);
+  }
+  const design = buildDesign(columnRange(rows, y), columnsRange(rows, x), { headers: true, intercept: source.intercept });
+  return { design, sheetName: table.sheetName };
+}
+
+/**
+ * The named predictor columns of a file of new rows, as an m x p row-major block; rows with a
+ * cell that is not a finite number are left out and listed (1-based data rows).
+ */
+export async function loadNewRows(file: string, predictorNames: readonly string[], sheet?: string): Promise<{ x: Float64Array; m: number; rowIndex: number[]; skipped: number[]; inputRows: number }> {
+  const fileName = path.basename(file);
+  const table = await readTable(file, sheet);
+  const rows = table.rows;
+  const names = headerNames(rows, fileName);
+  checkRectangular(rows, fileName);
+  const columns = predictorNames.map((name) => findColumn(names, name, fileName));
+  const p = columns.length;
+  const values: number[] = [];
+  const rowIndex: number[] = [];
+  const skipped: number[] = [];
+  for (let r = 1; r < rows.length; r++) {
+    const cells = columns.map((j) => rows[r][j]);
+    if (cells.every((cell) => typeof cell === "number" && Number.isFinite(cell))) {
+      values.push(...(cells as number[]));
+      rowIndex.push(r - 1);
+    } else {
+      skipped.push(r);
+    }
+  }
+  return { x: Float64Array.from(values), m: values.length / Math.max(p, 1), rowIndex, skipped, inputRows: rows.length - 1 };
+}

@@ -1,0 +1,175 @@
+import * as path from "path";
+import { SkeinError } from "../engine/errors";
+import type { MixtureModel } from "../engine/mixtureTypes";
+import { scanComponents } from "../engine/scanComponents";
+import { parseArgs, parseList, parseWholeNumber, type FlagKinds } from "./args";
+import { formatNumber } from "./formatTable";
+import { loadDesign } from "./loadDesign";
+
+export const SCAN_USAGE = `Usage: skein scan FILE --y COLUMN [--x COLUMN,COLUMN,...] --k-max N [options]
+
+Fits 1, 2, ..., N components to a .csv or .xlsx file whose first row names the
+columns, and compares them: log-likelihood, BIC, ICL, whether the fit
+converged, and how far apart the closest two components are (in noise SDs).
+It suggests a number of components and says why others were not suggested.
+
+  --y COLUMN          the response column (required)
+  --x COLUMNS         predictor columns, separated by commas; default: every
+                      other column that holds mostly numbers
+  --sheet NAME        the worksheet of an .xlsx file (default: the first)
+  --k-max N           the largest number of components tried (required)
+  --seed S            seed for the random starts (default 1)
+  --model plain|joint plain: y given x per component; joint: each component
+                      also models where its x lie (default plain)
+  --restarts R        random starts per fit
+  --cross-validate    also report a 5-fold cross-validated log-likelihood per row
+  --no-intercept      fit without an intercept
+  --json              write one JSON object instead of a table
+  --help              show this help
+
+Example: skein scan sales.csv --y revenue --x price,advertising --k-max 5
+`;
+
+const SCAN_FLAGS: FlagKinds = {
+  y: "value",
+  x: "value",
+  sheet: "value",
+  "k-max": "value",
+  seed: "value",
+  model: "value",
+  restarts: "value",
+  "cross-validate": "switch",
+  "no-intercept": "switch",
+  json: "switch",
+  help: "switch",
+  h: "switch",
+};
+
+/** Largest K the command accepts. */
+const MAX_COMPONENTS = 20;
+
+export interface ScanReportRow {
+  k: number;
+  logLikelihood: number;
+  bic: number;
+  icl: number;
+  converged: boolean;
+  /** Smallest gap between two components in noise SDs; null for K = 1 (no pair). */
+  minSeparation: number | null;
+  /** Present with --cross-validate. */
+  crossValidatedLogLikelihood?: number;
+  /** Why this K is not suggested, or null. */
+  flag: string | null;
+}
+
+/** The --json output of skein scan. */
+export interface ScanReport {
+  chosenK: number;
+  rule: string;
+  n: number;
+  response: string;
+  predictors: string[];
+  intercept: boolean;
+  model: MixtureModel;
+  rows: ScanReportRow[];
+}
+
+export function parseModel(text: string | undefined, command: string): MixtureModel {
+  if (text === undefined) return "plain";
+  if (text === "plain" || text === "joint") return text;
+  throw new SkeinError("bad-input", `--model must be plain or joint, not "${text}" (see skein ${command} --help)`);
+}
+
+/** `skein scan`: returns the exit status; SkeinErrors propagate to main, which reports them. */
+export async function scanCommand(argv: readonly string[], io: { stdout: (s: string) => void }): Promise<number> {
+  const { positionals, values, switches } = parseArgs(argv, SCAN_FLAGS, "scan");
+  if (switches.has("help") || switches.has("h")) {
+    io.stdout(SCAN_USAGE);
+    return 0;
+  }
+  if (positionals.length !== 1) throw new SkeinError("bad-input", `skein scan takes one data file, as in: skein scan data.csv --y COLUMN --k-max 5`);
+  const y = values.get("y");
+  if (y === undefined) throw new SkeinError("bad-input", "skein scan needs the response column, as in --y COLUMN");
+  const kMaxText = values.get("k-max");
+  if (kMaxText === undefined) throw new SkeinError("bad-input", "skein scan needs the largest number of components, as in --k-max 5");
+  const kMax = parseWholeNumber(kMaxText, "k-max", "scan", 1, MAX_COMPONENTS);
+  const seedText = values.get("seed");
+  const restartsText = values.get("restarts");
+  const xText = values.get("x");
+  const model = parseModel(values.get("model"), "scan");
+  const intercept = !switches.has("no-intercept");
+  const { design, sheetName } = await loadDesign({
+    file: positionals[0],
+    sheet: values.get("sheet"),
+    y,
+    x: xText === undefined ? undefined : parseList(xText, "x", "scan"),
+    intercept,
+  });
+  const crossValidate = switches.has("cross-validate");
+  const scan = scanComponents(design, {
+    kMax,
+    seed: seedText === undefined ? 1 : parseWholeNumber(seedText, "seed", "scan", 0, 2 ** 32 - 1),
+    intercept,
+    model,
+    restarts: restartsText === undefined ? undefined : parseWholeNumber(restartsText, "restarts", "scan", 0, 1000),
+    crossValidate,
+  });
+  const report: ScanReport = {
+    chosenK: scan.chosenK,
+    rule: scan.rule,
+    n: design.n,
+    response: design.yName,
+    predictors: design.predictorNames,
+    intercept,
+    model,
+    rows: scan.rows.map((row) => ({
+      k: row.k,
+      logLikelihood: row.logLikelihood,
+      bic: row.bic,
+      icl: row.icl,
+      converged: row.converged,
+      minSeparation: Number.isFinite(row.minSeparation) ? row.minSeparation : null,
+      ...(crossValidate || !Number.isNaN(row.crossValidatedLogLikelihood) ? { crossValidatedLogLikelihood: row.crossValidatedLogLikelihood } : {}),
+      flag: row.flag,
+    })),
+  };
+  if (switches.has("json")) {
+    io.stdout(JSON.stringify(report) + "\n");
+    return 0;
+  }
+  const file = path.basename(positionals[0]);
+  io.stdout(formatScanTable(report, sheetName ? `${file}, sheet ${sheetName}` : file));
+  return 0;
+}
+
+/** The readable table of skein scan. */
+export function formatScanTable(report: ScanReport, where: string): string {
+  const lines: string[] = [];
+  lines.push(`${report.response} regressed on ${report.predictors.join(", ")} (${report.model} model, ${report.intercept ? "with" : "without"} intercept); ${where}, ${report.n} rows`);
+  lines.push("");
+  const hasCv = report.rows.some((row) => row.crossValidatedLogLikelihood !== undefined);
+  const header = ["K", "log-likelihood", "BIC", "ICL", ...(hasCv ? ["held-out LL/row"] : []), "converged", "closest pair (noise SDs)", ""];
+  const table: string[][] = [header];
+  for (const row of report.rows) {
+    table.push([
+      String(row.k),
+      formatNumber(row.logLikelihood),
+      formatNumber(row.bic),
+      formatNumber(row.icl),
+      ...(hasCv ? [row.crossValidatedLogLikelihood === undefined ? "" : formatNumber(row.crossValidatedLogLikelihood)] : []),
+      row.converged ? "yes" : "no",
+      row.minSeparation === null ? "-" : formatNumber(row.minSeparation),
+      row.k === report.chosenK ? "<- suggested" : row.flag !== null ? "flagged" : "",
+    ]);
+  }
+  const widths = header.map((_, j) => Math.max(...table.map((r) => r[j].length)));
+  for (const r of table) lines.push("  " + r.map((cell, j) => (j === r.length - 1 ? cell : cell.padStart(widths[j]))).join("   ").trimEnd());
+  lines.push("");
+  lines.push(`Suggested: ${report.chosenK} component${report.chosenK === 1 ? "" : "s"}. Rule: ${report.rule}`);
+  const flagged = report.rows.filter((row) => row.flag !== null);
+  if (flagged.length > 0) {
+    lines.push("");
+    for (const row of flagged) lines.push(`K = ${row.k}: ${row.flag}`);
+  }
+  return lines.join("\n") + "\n";
+}
