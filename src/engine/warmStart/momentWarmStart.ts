@@ -2,7 +2,7 @@ import type { RegressionData } from "../mixtureTypes";
 import type { Random } from "../random";
 import { alternatingLeastSquares, type AlternatingFit } from "./alternatingLeastSquares";
 import { subspaceMixtureFit, randomPartition } from "./subspaceMixtureFit";
-import { whitenPredictors, unwhitenCoefficients, type WhitenedPredictors } from "./whitenPredictors";
+import { whitenPredictors, unwhitenCoefficients, whitenCoefficients, type WhitenedPredictors } from "./whitenPredictors";
 import { responseMomentSubspace } from "./responseMomentSubspace";
 
 export interface MomentWarmStart {
@@ -85,11 +85,83 @@ export function momentWarmStart(data: RegressionData, k: number, intercept: bool
     if (best.exactRows === n) break;
   }
   if (!best) return null;
+  best = peelAndRestart(data, whitened, design, q, k, intercept, best, exactTolerance, random);
   let worstScale = 0;
   for (let c = 0; c < k; c++) worstScale = Math.max(worstScale, best.scales[c]);
   const certificate = worstScale / sdY;
   const coefficients = best.coefficients.map((c) => toOriginal(whitened, c.subarray(offset), 0, intercept ? c[0] : 0, intercept));
   return { coefficients, certificate, converged: certificate <= CONVERGED_CERTIFICATE };
+}
+
+/**
+ * Peeling (METHODS.md: remove the rows a found component fits and repeat for the rest): the
+ * components of the best fit that fit clearly more than q rows exactly are kept, their rows
+ * removed, and the start is searched again on the remaining rows with the remaining K'
+ * components, where the response moment has fewer components to separate. Repeats while it
+ * gains exactly fitted rows.
+ */
+function peelAndRestart(
+  data: RegressionData, whitened: WhitenedPredictors, design: Float64Array, q: number, k: number,
+  intercept: boolean, start: AlternatingFit, exactTolerance: number, random: Random,
+): AlternatingFit {
+  const { n, p, x, y } = data;
+  const offset = intercept ? 1 : 0;
+  let best = start;
+  for (let round = 0; round < k && best.exactRows < n; round++) {
+    // Rows fitted exactly per component.
+    const exactCount = new Int32Array(k);
+    const residualOf = (i: number, c: Float64Array): number => {
+      let fitted = 0;
+      for (let j = 0; j < q; j++) fitted += design[i * q + j] * c[j];
+      return Math.abs(y[i] - fitted);
+    };
+    for (let i = 0; i < n; i++) if (residualOf(i, best.coefficients[best.labels[i]]) <= exactTolerance) exactCount[best.labels[i]]++;
+    const found: Float64Array[] = [];
+    for (let c = 0; c < k; c++) if (exactCount[c] >= exactRowsNeeded(q)) found.push(best.coefficients[c]);
+    const missing = k - found.length;
+    if (found.length === 0 || missing === 0) break;
+    const rest: number[] = [];
+    for (let i = 0; i < n; i++) {
+      let fitted = false;
+      for (const c of found) if (residualOf(i, c) <= exactTolerance) fitted = true;
+      if (!fitted) rest.push(i);
+    }
+    if (rest.length < missing * (q + 1)) break;
+    const sub: RegressionData = { n: rest.length, p, x: new Float64Array(rest.length * p), y: new Float64Array(rest.length) };
+    rest.forEach((i, t) => {
+      sub.x.set(x.subarray(i * p, i * p + p), t * p);
+      sub.y[t] = y[i];
+    });
+    const restart = momentWarmStart(sub, missing, intercept, random);
+    if (!restart) break;
+    const combined = found.concat(restart.coefficients.map((c) => toWhitened(whitened, c, intercept, offset)));
+    const fit = alternatingLeastSquares(design, n, q, y, combined, ALS_ITERATIONS, exactTolerance, q + 1);
+    if (!betterFit(fit, best)) break;
+    best = fit;
+  }
+  return best;
+}
+
+/**
+ * Rows beyond the coefficient count q that a component must fit exactly to count as found:
+ * any q rows are fitted exactly by some vector (a spurious fit, METHODS.md), so only clearly
+ * more rows certify a component.
+ */
+function exactRowsNeeded(q: number): number {
+  return q + Math.max(3, Math.ceil(0.1 * q));
+}
+
+/** Coefficients of the original predictors (intercept first when there is one) in whitened coordinates: γ = Lᵀβ, c₀ = b + ⟨β, x̄⟩. */
+function toWhitened(whitened: WhitenedPredictors, c: Float64Array, intercept: boolean, offset: number): Float64Array {
+  const beta = c.subarray(offset);
+  const out = new Float64Array(c.length);
+  out.set(whitenCoefficients(whitened, beta), offset);
+  if (intercept) {
+    let shift = 0;
+    for (let j = 0; j < beta.length; j++) shift += beta[j] * whitened.mean[j];
+    out[0] = c[0] + shift;
+  }
+  return out;
 }
 
 /** More rows fitted exactly wins; otherwise the smaller product of component scales. */
