@@ -256,13 +256,14 @@ export function fitMixture(data: RegressionData, options: MixtureOptions): Mixtu
   for (let round = 0; round < MAX_PEELING_ROUNDS; round++) {
     const peeledParams = peelExactComponents(data, full, params, guards, settings, random);
     if (!peeledParams) break;
-    const peeledPath: number[] = [];
-    const peeledRun = runEm(full, peeledParams, guards, settings.maxIterations, settings.tolerance, random, signal, peeledPath);
+    const peeledRun = runEm(full, peeledParams, guards, settings.maxIterations, settings.tolerance, random, signal, null);
     if (!(peeledRun.logLikelihood > logLikelihood)) break;
     params = peeledParams;
     logLikelihood = peeledRun.logLikelihood;
-    run = { ...peeledRun, reseeds: run.reseeds + peeledRun.reseeds };
-    path.push(...peeledPath);
+    // The peeled refinement restarts from a new point, so only its end joins the path (it is
+    // above the path's last value, which keeps the reported path non-decreasing).
+    run = { ...peeledRun, iterations: run.iterations + peeledRun.iterations, reseeds: run.reseeds + peeledRun.reseeds };
+    path.push(peeledRun.logLikelihood);
     best.method = "exact-peeling";
     peeled++;
   }
@@ -345,7 +346,7 @@ function runEm(ws: MixtureWorkspace, params: MixtureParameters, guards: Guards, 
     const reseeded: number[] = [];
     if (report.collapsed.length > 0 && reseeds < MAX_RESEEDS) {
       for (const c of report.collapsed) {
-        reseedComponent(ws, params, c, guards.minimumSize, guards.varianceFloor, random);
+        reseedComponent(ws, params, c, guards, random);
         reseeded.push(c);
         reseeds++;
       }
@@ -375,7 +376,7 @@ function parametersFromLabels(ws: MixtureWorkspace, labels: Int32Array, guards: 
   // re-seeding here starts from rows drawn at random.
   ws.rowLogLikelihood.fill(0);
   const report = mStepCoefficients(ws, params, guards);
-  for (const c of report.collapsed) reseedComponent(ws, params, c, guards.minimumSize, guards.varianceFloor, random);
+  for (const c of report.collapsed) reseedComponent(ws, params, c, guards, random);
   computeResiduals(ws, params);
   mStepVariances(ws, params, guards, report.collapsed);
   return params;

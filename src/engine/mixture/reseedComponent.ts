@@ -2,6 +2,7 @@ import type { Random } from "../random";
 import type { MixtureParameters } from "./mixtureParameters";
 import type { MixtureWorkspace } from "./mixtureWorkspace";
 import { scaledCholeskySolve } from "./scaledCholeskySolve";
+import { factorPredictorCovariances, type Guards } from "./mStep";
 
 /**
  * Replaces a collapsed component (fewer than q + 1 rows' worth of membership, or a singular
@@ -14,8 +15,9 @@ import { scaledCholeskySolve } from "./scaledCholeskySolve";
  * repeated collapses do not re-seed the same way; the draw uses the fit's one generator.
  * Weights are renormalised; the variance is that of the seed fit.
  */
-export function reseedComponent(ws: MixtureWorkspace, params: MixtureParameters, component: number, minimumSize: number, varianceFloor: number, random: Random): void {
+export function reseedComponent(ws: MixtureWorkspace, params: MixtureParameters, component: number, guards: Guards, random: Random): void {
   const { n, q, k, design, y, rowLogLikelihood } = ws;
+  const { minimumSize, varianceFloor } = guards;
   const seedSize = Math.min(n, Math.max(3 * minimumSize, Math.floor(n / (2 * k))));
   const poolSize = Math.min(n, 2 * seedSize);
   // Indices of the poolSize rows with the lowest log mixture density.
@@ -51,4 +53,29 @@ export function reseedComponent(ws: MixtureWorkspace, params: MixtureParameters,
   let total = 0;
   for (let c = 0; c < k; c++) total += params.weights[c];
   for (let c = 0; c < k; c++) params.weights[c] /= total;
+  if (ws.joint) seedPredictorModel(ws, params, component, seedRows, guards.covarianceRidge);
+}
+
+/** Joint model: the re-seeded component's x mean and covariance (plus the ridge) from its seed rows. */
+function seedPredictorModel(ws: MixtureWorkspace, params: MixtureParameters, component: number, seedRows: number[], ridge: number): void {
+  const { p, predictors } = ws;
+  const means = params.xMeans as Float64Array;
+  const covariances = params.xCovariances as Float64Array;
+  const meanOffset = component * p;
+  const covarianceOffset = component * p * p;
+  for (let j = 0; j < p; j++) {
+    let sum = 0;
+    for (const i of seedRows) sum += predictors[i * p + j];
+    means[meanOffset + j] = sum / seedRows.length;
+  }
+  for (let j = 0; j < p; j++) {
+    for (let l = 0; l <= j; l++) {
+      let sum = 0;
+      for (const i of seedRows) sum += (predictors[i * p + j] - means[meanOffset + j]) * (predictors[i * p + l] - means[meanOffset + l]);
+      const value = sum / seedRows.length + (j === l ? ridge * (ws.predictorVariances[j] > 0 ? ws.predictorVariances[j] : 1) : 0);
+      covariances[covarianceOffset + j * p + l] = value;
+      covariances[covarianceOffset + l * p + j] = value;
+    }
+  }
+  factorPredictorCovariances(params);
 }
