@@ -58,7 +58,7 @@ export function warningsFor(state: PaneState): Warning[] {
     const lower = text.toLowerCase();
     const title = lower.includes("overlap") || lower.includes("apart") || lower.includes("misclass")
       ? "Components overlap"
-      : lower.includes("degenerate") || lower.includes("smallest component") || lower.includes("few rows") || lower.includes("tiny")
+      : lower.includes("degenerate") || lower.includes("is small") || lower.includes("smallest component") || lower.includes("few rows") || lower.includes("tiny")
         ? "A component is very small"
         : "Note from the fit";
     out.push({ id: `engine-${seen.size}`, title, text });

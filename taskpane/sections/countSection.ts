@@ -131,7 +131,7 @@ export function mountCountSection(parent: HTMLElement, pane: Pane): { update(sta
       const flagged = scan.rows.filter((r) => r.k !== scan.chosenK && (r.flag || !r.converged));
       if (flagged.length > 0) {
         const list = element("ul", { id: "scan-flags", class: "compact hint", "aria-label": "Why some K are not suggested" });
-        for (const r of flagged) list.appendChild(element("li", {}, `* Not suggested, ${r.k} components: ${r.flag ?? "the fit did not converge."}`));
+        for (const r of flagged) list.appendChild(element("li", {}, `* ${r.k} components, not suggested: ${(r.flag ?? "the fit did not converge.").replace(/^not suggested[:,]?\s*/i, "")}`));
         tableWrap.appendChild(list);
       }
     },

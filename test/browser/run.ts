@@ -36,8 +36,10 @@ async function step(name: string, body: () => Promise<void>): Promise<void> {
   }
 }
 
-async function shot(page: Page, name: string): Promise<void> {
-  await page.screenshot({ path: path.join(RESULTS, name), fullPage: true });
+/** A screenshot of the window as the user sees it, scrolled to `section` first when given. */
+async function shot(page: Page, name: string, section?: string): Promise<void> {
+  if (section) await page.evaluate((selector) => document.querySelector(selector)?.scrollIntoView({ block: "start" }), section);
+  await page.screenshot({ path: path.join(RESULTS, name) });
 }
 
 async function text(page: Page, selector: string): Promise<string> {
@@ -58,7 +60,7 @@ async function main(): Promise<void> {
     headless: true,
     args: ["--no-sandbox", "--disable-gpu", "--disable-background-networking", "--disable-component-update", "--disable-sync", "--no-first-run"],
   });
-  const page = await browser.newPage({ viewport: { width: 1280, height: 900 } });
+  const page = await browser.newPage({ viewport: { width: 1280, height: 1100 } });
   page.setDefaultTimeout(WAIT_MS);
   const pageErrors: string[] = [];
   // The worksheet functions and ribbon commands share this page (one shared runtime) and
@@ -114,7 +116,7 @@ async function main(): Promise<void> {
       check("sample rows counted", rows.includes(`of ${dataRows}`), rows);
       check("sample headers found", header.slice(1, 4).every((name) => headers.includes(name)), headers);
       check("grid shows the sample", (await text(page, "#grid td[data-r='0'][data-c='1']")) === header[1]);
-      await shot(page, "01-data-loaded.png");
+      await shot(page, "01-data-loaded.png", "body");
     });
 
     await step("cancel a scan", async () => {
@@ -148,7 +150,8 @@ async function main(): Promise<void> {
       check("scatter has a fitted line per component", (await page.locator("#scatter path.fitted-line").count()) === suggested);
       check("use-with-care note near results", (await text(page, "#use-with-care")).includes("not proof"));
       check("standard errors shown", await page.locator("#components-table .se").count().then((n) => n > 0));
-      await shot(page, "02-scan-and-components.png");
+      await shot(page, "02-scan.png", "#count");
+      await shot(page, "03-components.png", "#components");
     });
 
     await step("pick K by clicking the chart", async () => {
@@ -159,7 +162,7 @@ async function main(): Promise<void> {
       await page.waitForSelector("#check-measures dt");
       const warnings = await page.locator("#warnings .warning").count();
       if (target > suggested) check("an over-large K draws a warning", warnings > 0, `${warnings} warnings at K = ${target}`);
-      await shot(page, "03-large-k-checks.png");
+      await shot(page, "04-large-k-checks.png", "#checks");
     });
 
     await step("pick K with the keyboard", async () => {
@@ -179,6 +182,8 @@ async function main(): Promise<void> {
       // Back to the suggested K for the rest.
       await page.click(`#k-${suggested}`);
       await page.waitForFunction((k) => document.querySelectorAll("#components-table thead th.component").length === k, suggested);
+      const overflow = await page.evaluate(() => document.documentElement.scrollWidth - document.documentElement.clientWidth);
+      check("no sideways scrolling of the page", overflow <= 0, `${overflow}px too wide`);
     });
 
     await step("place formulas in the sheet", async () => {
@@ -192,7 +197,7 @@ async function main(): Promise<void> {
       await page.click("#place-button");
       await page.waitForSelector("#place-confirm:not([hidden])");
       check("asks before overwriting", (await text(page, "#place-confirm-text")).includes("Replace them?"));
-      await shot(page, "04-put-in-sheet.png");
+      await shot(page, "05-put-in-sheet.png", "#place");
       await page.click("#place-keep");
       check("keeping leaves the cells", (await text(page, `#grid td[data-r='0'][data-c='${firstFree}']`)).startsWith("=SKEIN.FIT("));
     });
@@ -211,8 +216,17 @@ async function main(): Promise<void> {
       check("many skipped rows warn", (await text(page, "#warnings .warning-skipped")).includes("skipped"));
       check("refit keeps K", (await page.locator("#components-table thead th.component").count()) === labelsBefore);
       check("stale scan is flagged", await page.locator("#scan-stale").isVisible());
-      await page.locator("#checks").scrollIntoViewIfNeeded();
-      await shot(page, "05-after-edit-warnings.png");
+      await shot(page, "06-after-edit-data.png", "body");
+      await shot(page, "07-after-edit-checks.png", "#checks");
+    });
+
+    await step("narrow window, as a task pane is", async () => {
+      await page.setViewportSize({ width: 380, height: 900 });
+      await page.locator("#count").scrollIntoViewIfNeeded();
+      const overflow = await page.evaluate(() => document.documentElement.scrollWidth - document.documentElement.clientWidth);
+      check("no sideways scrolling of the page at 380 px", overflow <= 0, `${overflow}px too wide`);
+      await page.screenshot({ path: path.join(RESULTS, "08-narrow-pane.png"), fullPage: false });
+      await page.setViewportSize({ width: 1280, height: 1100 });
     });
 
     await step("open an XLSX file", async () => {
@@ -230,7 +244,7 @@ async function main(): Promise<void> {
       check("XLSX fills the sheet", first === csv[0][0], `A1 = ${first}`);
       await page.waitForSelector("#data-rows");
       check("XLSX ranges guessed and read", (await text(page, "#data-rows")).includes(`of ${csv.length - 1}`), await text(page, "#data-rows"));
-      await shot(page, "06-xlsx-opened.png");
+      await shot(page, "09-xlsx-opened.png", "body");
     });
 
     check("no errors from the pane", pageErrors.length === 0, pageErrors.slice(0, 3).join(" | "));
