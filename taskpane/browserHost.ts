@@ -53,6 +53,13 @@ export class PlainBrowserHost implements SheetHost {
     this.grid.setBlock(b.top, b.left, cells);
   }
 
+  /** The built-in sheet starts empty on every visit, so there is nothing to keep. */
+  async saveRanges(): Promise<void> {}
+
+  async savedRanges(): Promise<null> {
+    return null;
+  }
+
   async watch(addresses: string[], onChange: () => void): Promise<() => void> {
     const blocks = addresses.map((a) => this.block(a));
     return this.grid.onChange(({ block }) => {

@@ -28,6 +28,9 @@ function fromExcel(value: unknown): unknown {
   return value === "" ? null : value;
 }
 
+/** The document setting that keeps the pane's ranges with the workbook. */
+const RANGES_SETTING = "skein.paneRanges";
+
 /** The workbook, through Excel.run. Every call is one batch and one sync where it can be. */
 export class ExcelHost implements SheetHost {
   readonly kind = "excel" as const;
@@ -74,6 +77,20 @@ export class ExcelHost implements SheetHost {
       range.formulas = cells.map((row) => row.map((cell) => (cell === null || cell === undefined ? "" : cell))) as any[][];
       await context.sync();
     });
+  }
+
+  /** Document settings travel with the workbook; saveAsync writes them into it. */
+  async saveRanges(ranges: { yAddress: string; xAddress: string }): Promise<void> {
+    const settings = Office.context?.document?.settings;
+    if (!settings) return;
+    settings.set(RANGES_SETTING, ranges);
+    await new Promise<void>((resolve) => settings.saveAsync(() => resolve()));
+  }
+
+  async savedRanges(): Promise<{ yAddress: string; xAddress: string } | null> {
+    const saved = Office.context?.document?.settings?.get(RANGES_SETTING) as { yAddress?: unknown; xAddress?: unknown } | null | undefined;
+    if (!saved || typeof saved.yAddress !== "string" || typeof saved.xAddress !== "string") return null;
+    return { yAddress: saved.yAddress, xAddress: saved.xAddress };
   }
 
   async watch(addresses: string[], onChange: () => void): Promise<() => void> {

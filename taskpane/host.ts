@@ -16,4 +16,8 @@ export interface SheetHost {
   write(anchor: string, cells: unknown[][]): Promise<void>;
   /** Calls `onChange` after an edit touches any of the addresses; resolves to a function that stops listening. */
   watch(addresses: string[], onChange: () => void): Promise<() => void>;
+  /** Keeps the chosen ranges with the document, so the pane picks them up (and listens again) when it reopens. */
+  saveRanges(ranges: { yAddress: string; xAddress: string }): Promise<void>;
+  /** The ranges saved with the document, or null. */
+  savedRanges(): Promise<{ yAddress: string; xAddress: string } | null>;
 }

@@ -21,6 +21,7 @@ export interface MountedPane {
 export function mountExcelPane(root: HTMLElement, host: SheetHost, engine: PaneEngine): MountedPane {
   const pane = new Pane(host, engine);
   mountSections(root, pane);
+  void pane.restoreRanges();
   return { pane, grid: null };
 }
 

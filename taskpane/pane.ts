@@ -62,7 +62,16 @@ export class Pane {
       this.update({ scan: null, scanStale: false, chosenK: null, fit: null, description: null, refreshNote: null, scanProblem: null });
     }
     await this.readData();
-    if (changed) await this.watchRanges();
+    if (changed) {
+      await this.watchRanges();
+      if (this.state.design) await this.host.saveRanges({ yAddress, xAddress }).catch(() => undefined);
+    }
+  }
+
+  /** On opening: the ranges chosen last time in this document, read again and listened to again. */
+  async restoreRanges(): Promise<void> {
+    const saved = await this.host.savedRanges().catch(() => null);
+    if (saved && this.state.yAddress === "" && this.state.xAddress === "") await this.setAddresses(saved.yAddress, saved.xAddress);
   }
 
   async readData(): Promise<Design | null> {

@@ -125,6 +125,25 @@ describe("the pane inside Excel", () => {
     expect(book.writes[1].formulas).toEqual([[`=SKEIN.LABELS(Sheet1!A1:A${last}, Sheet1!B1:B${last}, 1, "seed=1")`]]);
   });
 
+  it("keeps the ranges with the workbook and listens again when the pane reopens", async () => {
+    const store = new Map<string, unknown>();
+    (globalThis as { Office?: unknown }).Office = { context: { document: { settings: { get: (k: string) => store.get(k) ?? null, set: (k: string, v: unknown) => store.set(k, v), saveAsync: (done: () => void) => done() } } } };
+    try {
+      const first = mount();
+      await first.pane.setAddresses(`Sheet1!A1:A${last}`, `Sheet1!B1:B${last}`);
+      expect(book.handlerCount("Sheet1")).toBe(1);
+      // The pane closes and opens again: a fresh pane on the same workbook.
+      document.body.innerHTML = `<main id="app"></main>`;
+      const second = mount();
+      await settle();
+      expect(second.pane.state.yAddress).toBe(`Sheet1!A1:A${last}`);
+      expect(second.pane.state.design?.n).toBe(last - 3);
+      expect(book.handlerCount("Sheet1")).toBe(2);
+    } finally {
+      delete (globalThis as { Office?: unknown }).Office;
+    }
+  });
+
   it("refits after an edit to the data, keeping the component order", async () => {
     const { pane } = mount();
     await pane.setAddresses(`Sheet1!A1:A${last}`, `Sheet1!B1:B${last}`);

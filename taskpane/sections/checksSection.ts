@@ -128,7 +128,7 @@ export function mountChecksSection(parent: HTMLElement, pane: Pane): { update(st
       const rows = s.pairs
         .map((pair) => `<tr><th scope="row">${markerSwatch(pair.a)} ${pair.a + 1} and ${markerSwatch(pair.b)} ${pair.b + 1}</th><td>${formatNumber(pair.gap, 3)}</td><td>${gapReading(pair.gap)}</td></tr>`)
         .join("");
-      tableWrap.innerHTML = `<table id="separation-table" class="numbers"><caption>Gap between each pair of components, in noise SDs (2 or less: overlapping)</caption><thead><tr><th scope="col">Components</th><th scope="col">Gap</th><th scope="col">Reading</th></tr></thead><tbody>${rows}</tbody></table>`;
+      tableWrap.innerHTML = `<p class="hint" id="separation-caption">Gap between each pair of components, in noise SDs (2 or less: overlapping)</p><table id="separation-table" class="numbers" aria-describedby="separation-caption"><thead><tr><th scope="col">Components</th><th scope="col">Gap</th><th scope="col">Reading</th></tr></thead><tbody>${rows}</tbody></table>`;
     },
   };
 }
