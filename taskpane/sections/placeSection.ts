@@ -82,6 +82,7 @@ export function mountPlaceSection(parent: HTMLElement, pane: Pane): { update(sta
     const state = pane.state;
     confirm.hidden = true;
     pending = null;
+    result.textContent = "";
     if (!state.design || !state.fit || state.chosenK === null) return;
     const chosen = outputs.map(([o]) => o).filter((o) => boxes.get(o)!.checked);
     if (chosen.length === 0) {

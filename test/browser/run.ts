@@ -144,7 +144,7 @@ async function main(): Promise<void> {
       check("chart marks the suggested K", (await page.locator("#bic-chart .suggested-label").count()) === 1);
       suggested = Number((await text(page, "#scan-status")).match(/(\d+) suggested/)?.[1] ?? NaN);
       const tableRows = await page.locator("#components-table thead th.component").count();
-      check("components table shows the suggested K", tableRows === suggested, `${tableRows} rows, ${suggested} suggested`);
+      check("components table shows the suggested K", tableRows === suggested, `${tableRows} components shown, ${suggested} suggested`);
       const shapes = await page.locator("#scatter svg defs path.marker").evaluateAll((els) => els.map((e) => e.getAttribute("class")));
       check("scatter tells components apart by shape", new Set(shapes).size === suggested, shapes.join(", "));
       check("scatter has a fitted line per component", (await page.locator("#scatter path.fitted-line").count()) === suggested);
