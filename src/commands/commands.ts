@@ -15,6 +15,9 @@ async function refitAll(event: Office.AddinCommands.Event): Promise<void> {
   }
 }
 
-Office.onReady(() => {
-  Office.actions.associate("refitAll", refitAll);
-});
+// Outside Office (the pane's plain-browser mode) there is no ribbon to serve.
+if (typeof Office !== "undefined") {
+  Office.onReady(() => {
+    Office.actions.associate("refitAll", refitAll);
+  });
+}

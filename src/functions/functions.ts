@@ -6,6 +6,7 @@
  * only source of the generated functions.json (custom-functions-metadata-plugin); never edit
  * that file by hand.
  */
+import "./outsideExcel";
 import { sharedFit, sharedScan } from "./sharedFit";
 import { worksheetCall } from "./toWorksheetError";
 import { checkTable, componentTable, labelColumn, membershipTable, predictionTable, scanTable } from "./worksheetResults";
