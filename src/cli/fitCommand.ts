@@ -1,5 +1,5 @@
 import * as path from "path";
-import { buildDesign, type Design } from "../engine/design";
+import type { Design } from "../engine/design";
 import { designMatrix } from "../engine/designMatrix";
 import { SkeinError } from "../engine/errors";
 import { leastSquares } from "../engine/leastSquares";
@@ -8,9 +8,8 @@ import { checkSeparation } from "../engine/checkSeparation";
 import { standardErrors } from "../engine/standardErrors";
 import type { MixtureFit, MixtureModel, RefinementReport, WarmStartReport } from "../engine/mixtureTypes";
 import type { SeparationReport } from "../engine/trustTypes";
-import { readTable } from "../io/readTable";
 import { parseArgs, parseList, parseWholeNumber, type FlagKinds } from "./args";
-import { checkRectangular, columnRange, columnsRange, findColumn, headerNames, isMostlyNumeric } from "./columns";
+import { loadDesign } from "./loadDesign";
 import { formatFitTable } from "./formatTable";
 
 export const FIT_USAGE = `Usage: skein fit FILE --y COLUMN [--x COLUMN,COLUMN,...] [options]
@@ -161,23 +160,6 @@ export function parseFitSettings(argv: readonly string[]): FitSettings | "help" 
   };
 }
 
-/** The y and x columns of a table, as indices into its rows. */
-function chooseColumns(rows: unknown[][], names: string[], settings: FitSettings, fileName: string): { y: number; x: number[] } {
-  const y = findColumn(names, settings.y, fileName);
-  let x: number[];
-  if (settings.x !== undefined) {
-    x = settings.x.map((name) => findColumn(names, name, fileName));
-    if (x.includes(y)) throw new SkeinError("bad-input", `${names[y]} is the response (--y); leave it out of --x.`);
-    const repeated = x.find((j, i) => x.indexOf(j) !== i);
-    if (repeated !== undefined) throw new SkeinError("bad-input", `${names[repeated]} appears twice in --x; list each predictor once.`);
-  } else {
-    x = [];
-    for (let j = 0; j < names.length; j++) if (j !== y && isMostlyNumeric(rows, j)) x.push(j);
-    if (x.length === 0) throw new SkeinError("bad-input", `${fileName} has no numeric column besides ${names[y]}; name the predictors with --x.`);
-  }
-  return { y, x };
-}
-
 /**
  * Fits the model the settings ask for: the mixture engine for any K, with standard errors
  * from the observed information (Louis 1982). With one plain component the mixture is
@@ -237,15 +219,8 @@ function classicalStdErrors(design: Design, intercept: boolean): number[] {
 
 /** Everything the command computes, before it is written out. */
 export async function computeFitReport(settings: FitSettings): Promise<{ report: FitReport; sheetName?: string }> {
-  const fileName = path.basename(settings.file);
   const readStart = performance.now();
-  const table = await readTable(settings.file, settings.sheet);
-  const rows = table.rows;
-  const names = headerNames(rows, fileName);
-  checkRectangular(rows, fileName);
-  if (rows.length < 2) throw new SkeinError("bad-input", `${fileName} has a header row but no data rows below it.`);
-  const columns = chooseColumns(rows, names, settings, fileName);
-  const design = buildDesign(columnRange(rows, columns.y), columnsRange(rows, columns.x), { headers: true, intercept: settings.intercept });
+  const { design, sheetName } = await loadDesign(settings);
   const readMs = performance.now() - readStart;
 
   const fitStart = performance.now();
@@ -279,7 +254,7 @@ export async function computeFitReport(settings: FitSettings): Promise<{ report:
     stdErrors: { method: model.stdErrorMethod, weights: model.weightStdErrors, sigmas: model.sigmaStdErrors },
     timings: { readMs, fitMs },
   };
-  return { report, sheetName: table.sheetName };
+  return { report, sheetName };
 }
 
 /** `skein fit`: returns the exit status; SkeinErrors propagate to main, which reports them. */

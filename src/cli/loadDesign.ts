@@ -4,7 +4,7 @@ import { SkeinError } from "../engine/errors";
 import { readTable } from "../io/readTable";
 import { checkRectangular, columnRange, columnsRange, findColumn, headerNames, isMostlyNumeric } from "./columns";
 
-/** Which file and columns a scan or predict command fits on. */
+/** Which file and columns a fit, scan or predict command fits on. */
 export interface DesignSource {
   file: string;
   sheet?: string;
