@@ -10,17 +10,11 @@
  * component and x̄ the overall means. A row then sits above or below its
  * component's line by exactly its residual.
  */
+import type { Design } from "../engine/design";
 import type { ScatterLine, ScatterSpec } from "./scatterSvg";
 
-export interface PlotData {
-  y: Float64Array;
-  /** n x p row-major predictors, no intercept column. */
-  x: Float64Array;
-  n: number;
-  p: number;
-  yName: string;
-  predictorNames: string[];
-}
+/** What a plot needs of the data layer's Design: the used rows and the column names. */
+export type PlotData = Pick<Design, "y" | "x" | "n" | "p" | "yName" | "predictorNames">;
 
 export interface PlotFit {
   components: { weight: number; coefficients: Float64Array }[];
