@@ -64,6 +64,12 @@ const NOISELESS_VARIANCE_RELATIVE = 1e-12;
  * so it sits between rounding (about 1e-14) and anything a real second component leaves.
  */
 const EXACT_RESIDUAL_RELATIVE = 1e-7;
+/** Split-and-merge rounds after the main refinement (each must raise ln L by SPLIT_MIN_GAIN). */
+const MAX_SPLIT_ROUNDS = 3;
+/** Components tried for a split per round, largest unexplained variance first. */
+const SPLIT_CANDIDATES = 3;
+/** Gain in ln L a split-and-merge move must bring to be kept: 1 log unit, so rounding never counts. */
+const SPLIT_MIN_GAIN = 1;
 /** Peeling rounds after the main refinement (each removes at least one exact component). */
 const MAX_PEELING_ROUNDS = 3;
 
@@ -142,6 +148,15 @@ interface EmRun {
  * One generator made from options.seed feeds every random step.
  */
 export function fitMixture(data: RegressionData, options: MixtureOptions): MixtureFit {
+  return fitMixtureAtDepth(data, options, 0);
+}
+
+/**
+ * Split-and-merge and peeling call the fit recursively on subsets of rows; `depth` counts the
+ * nesting so the recursion stays bounded: splits only at the top level, noisy peeling down to
+ * MAX_PEELING_DEPTH (exact peeling always lowers K, so it ends by itself).
+ */
+function fitMixtureAtDepth(data: RegressionData, options: MixtureOptions, depth: number): MixtureFit {
   const settings = checkInput(data, options);
   const { k, intercept, model } = settings;
   const joint = model === "joint";
@@ -158,13 +173,15 @@ export function fitMixture(data: RegressionData, options: MixtureOptions): Mixtu
   const signal = options.signal;
   const warnings: string[] = [];
   const subsampleSize = Math.max(SUBSAMPLE_MIN_ROWS, SUBSAMPLE_ROWS_PER_PARAMETER * k * full.q);
-  const working = full.n > 2 * subsampleSize ? createWorkspace(data, k, intercept, joint, sampleIndices(full.n, subsampleSize, random)) : full;
+  const subsampleRows = full.n > 2 * subsampleSize ? sampleIndices(full.n, subsampleSize, random) : null;
+  const working = subsampleRows ? createWorkspace(data, k, intercept, joint, subsampleRows) : full;
 
   // 1. Starts, each refined briefly on the working rows. The remaining starts are skipped once
   // a start fits every row to rounding level (noiseless data: it cannot be beaten), or once
   // the best fit so far has been reached from two different starts.
   const candidates: Candidate[] = [];
   let enoughStarts = false;
+  let foundTwice = false;
   const tryStart = (method: string, makeParams: () => MixtureParameters | null): void => {
     if (enoughStarts) return;
     checkSignal(signal);
@@ -174,7 +191,10 @@ export function fitMixture(data: RegressionData, options: MixtureOptions): Mixtu
     if (!Number.isFinite(run.logLikelihood)) return;
     candidates.push({ method, params, logLikelihood: run.logLikelihood });
     if (isNoiseless(params, working)) enoughStarts = true;
-    else if (candidates.length >= MIN_STARTS && bestFoundTwice(candidates)) enoughStarts = true;
+    else if (candidates.length >= MIN_STARTS && bestFoundTwice(candidates)) {
+      enoughStarts = true;
+      foundTwice = true;
+    }
   };
   const previous = options.previous;
   if (previous && previous.k === k && previous.p === data.p && previous.intercept === intercept) {
@@ -238,6 +258,55 @@ export function fitMixture(data: RegressionData, options: MixtureOptions): Mixtu
   }
   const startsDisagree = disagreement > DISAGREEMENT_RELATIVE;
 
+  // 2b. Split and merge: a component that holds two groups shows as one with a large noise SD;
+  // split it with a two-component fit of its rows and drop the component the data need least.
+  let splits = 0;
+  if (depth === 0 && !isNoiseless(best.params, working)) {
+    for (let round = 0; round < MAX_SPLIT_ROUNDS; round++) {
+      // Candidates in order of unexplained variance n_k σ_k²; the first that raises ln L wins.
+      const ranked = Array.from({ length: k }, (_, c) => c).sort((a, b) => best.params.weights[b] * best.params.variances[b] - best.params.weights[a] * best.params.variances[a] || a - b);
+      let improved = false;
+      for (const split of ranked.slice(0, SPLIT_CANDIDATES)) {
+        checkSignal(signal);
+        const proposal = splitAndMerge(data, working, best.params, split, guards, settings, random, subsampleRows, depth);
+        if (!proposal) continue;
+        // A brief run first; only a proposal already ahead is refined fully.
+        const briefRun = runEm(working, proposal, guards, 2 * SHORT_ITERATIONS, settings.tolerance, random, signal, null);
+        if (!(briefRun.logLikelihood > best.logLikelihood + SPLIT_MIN_GAIN)) continue;
+        const proposalRun = briefRun.converged ? briefRun : runEm(working, proposal, guards, settings.maxIterations, settings.tolerance, random, signal, null);
+        best.params = proposal;
+        best.logLikelihood = proposalRun.logLikelihood;
+        best.method = "split-and-merge";
+        run = proposalRun;
+        if (fullPath) fullPath.push(proposalRun.logLikelihood);
+        splits++;
+        improved = true;
+        break;
+      }
+      if (!improved) break;
+    }
+  }
+
+  // 2c. When no two starts agreed on the best fit, try peeling: keep the best-determined
+  // component (smallest noise SD), set aside the rows within PEEL_WIDTH of its SDs and fit the
+  // other K − 1 components afresh on the rest (recursively, so the peeling cascades).
+  if (depth < MAX_PEELING_DEPTH && !foundTwice && !isNoiseless(best.params, working)) {
+    const order = Array.from({ length: k }, (_, c) => c).sort((a, b) => best.params.variances[a] - best.params.variances[b] || a - b);
+    for (const keep of order.slice(0, PEEL_CANDIDATES)) {
+      checkSignal(signal);
+      const proposal = peelComponent(data, working, best.params, keep, guards, settings, random, subsampleRows, depth);
+      if (!proposal) continue;
+      const proposalRun = runEm(working, proposal, guards, settings.maxIterations, settings.tolerance, random, signal, null);
+      if (!(proposalRun.logLikelihood > best.logLikelihood + SPLIT_MIN_GAIN)) continue;
+      best.params = proposal;
+      best.logLikelihood = proposalRun.logLikelihood;
+      best.method = "peeling";
+      run = proposalRun;
+      if (fullPath) fullPath.push(proposalRun.logLikelihood);
+      break;
+    }
+  }
+
   let params = best.params;
   let subsampleIterations = 0;
   if (working !== full) {
@@ -254,7 +323,7 @@ export function fitMixture(data: RegressionData, options: MixtureOptions): Mixtu
   let logLikelihood = run.logLikelihood;
   let peeled = 0;
   for (let round = 0; round < MAX_PEELING_ROUNDS; round++) {
-    const peeledParams = peelExactComponents(data, full, params, guards, settings, random);
+    const peeledParams = peelExactComponents(data, full, params, guards, settings, random, depth);
     if (!peeledParams) break;
     const peeledRun = runEm(full, peeledParams, guards, settings.maxIterations, settings.tolerance, random, signal, null);
     if (!(peeledRun.logLikelihood > logLikelihood)) break;
@@ -301,7 +370,7 @@ export function fitMixture(data: RegressionData, options: MixtureOptions): Mixtu
     startsTried: candidates.length,
     disagreement,
   };
-  const refinement: RefinementReport & { reseeds: number; subsampleRows: number; subsampleIterations: number; polished: boolean; peeled: number } = {
+  const refinement: RefinementReport & { reseeds: number; subsampleRows: number; subsampleIterations: number; polished: boolean; peeled: number; splits: number } = {
     converged: run.converged,
     iterations: run.iterations,
     logLikelihoodPath: path,
@@ -310,6 +379,7 @@ export function fitMixture(data: RegressionData, options: MixtureOptions): Mixtu
     subsampleIterations,
     polished,
     peeled,
+    splits,
   };
   if (!run.converged) {
     warnings.push(`The fit stopped after ${run.iterations} iterations before the log-likelihood settled. Raise max_iterations or loosen tolerance, and check that the components are well separated.`);
@@ -517,7 +587,7 @@ function assembleFit(
  * a partial EM fit: K-lines is much easier with fewer lines. Returns combined coefficients as
  * a start for EM on all rows, or null when there is nothing to peel.
  */
-function peelExactComponents(data: RegressionData, ws: MixtureWorkspace, params: MixtureParameters, guards: Guards, settings: Settings, random: Random): MixtureParameters | null {
+function peelExactComponents(data: RegressionData, ws: MixtureWorkspace, params: MixtureParameters, guards: Guards, settings: Settings, random: Random, depth: number): MixtureParameters | null {
   const { n, p, q, k } = ws;
   // Rows a component fits within EXACT_RESIDUAL_RELATIVE · SD(y) are its exact rows; any q rows
   // can be fitted exactly, so a component counts as exact only with 2q of them or more.
@@ -542,7 +612,7 @@ function peelExactComponents(data: RegressionData, ws: MixtureWorkspace, params:
     x.set(data.x.subarray(row * p, row * p + p), i * p);
     y[i] = data.y[row];
   });
-  const sub = fitMixture({ x, y, n: remaining.length, p }, {
+  const sub = fitMixtureAtDepth({ x, y, n: remaining.length, p }, {
     k: rest,
     seed: random.integer(2147483647),
     intercept: settings.intercept,
@@ -550,12 +620,106 @@ function peelExactComponents(data: RegressionData, ws: MixtureWorkspace, params:
     restarts: settings.restarts,
     tolerance: settings.tolerance,
     maxIterations: settings.maxIterations,
-  });
+  }, depth + 1);
   const coefficients = new Float64Array(k * q);
   exact.forEach((c, j) => coefficients.set(params.coefficients.subarray(c * q, c * q + q), j * q));
   sub.components.forEach((component, j) => coefficients.set(component.coefficients.subarray(settings.intercept ? 0 : 1), (exact.length + j) * q));
   return parametersFromCoefficients(ws, coefficients, guards);
 }
+
+/**
+ * One split-and-merge move (Ueda, Nakano, Ghahramani & Hinton 2000, Neural Computation 12):
+ * component `split` (the driver tries those with the largest unexplained variance n_k σ_k²) is split by a two-component fit
+ * of the rows it holds (a recursive fitMixture), and the component whose removal costs the
+ * least likelihood is dropped to keep K. Returns the proposed start, or null when no split
+ * applies; the caller refines it and keeps it only if the likelihood rises.
+ */
+function splitAndMerge(data: RegressionData, ws: MixtureWorkspace, params: MixtureParameters, split: number, guards: Guards, settings: Settings, random: Random, rowMap: Int32Array | null, depth: number): MixtureParameters | null {
+  const { n, p, q, k } = ws;
+  computeResiduals(ws, params);
+  eStep(ws, params);
+  const rows: number[] = [];
+  for (let i = 0; i < n; i++) {
+    let best = 0;
+    for (let c = 1; c < k; c++) if (ws.memberships[i * k + c] > ws.memberships[i * k + best]) best = c;
+    if (best === split) rows.push(rowMap ? rowMap[i] : i);
+  }
+  if (rows.length < 2 * (q + ROWS_BEYOND_COEFFICIENTS)) return null;
+  const x = new Float64Array(rows.length * p);
+  const y = new Float64Array(rows.length);
+  rows.forEach((row, i) => {
+    x.set(data.x.subarray(row * p, row * p + p), i * p);
+    y[i] = data.y[row];
+  });
+  let halves: MixtureFit;
+  try {
+    halves = fitMixtureAtDepth({ x, y, n: rows.length, p }, { k: 2, seed: random.integer(2147483647), intercept: settings.intercept, model: settings.model, restarts: Math.min(settings.restarts, SPLIT_RESTARTS), tolerance: settings.tolerance, maxIterations: settings.maxIterations }, depth + 1);
+  } catch {
+    return null;
+  }
+  // Drop the component (other than the split one) whose loss hurts the likelihood least.
+  let bestStart: MixtureParameters | null = null;
+  let bestLogLikelihood = -Infinity;
+  for (let drop = 0; drop < k; drop++) {
+    if (drop === split) continue;
+    const coefficients = new Float64Array(k * q);
+    let slot = 0;
+    for (let c = 0; c < k; c++) {
+      if (c === split || c === drop) continue;
+      coefficients.set(params.coefficients.subarray(c * q, c * q + q), slot * q);
+      slot++;
+    }
+    for (const half of halves.components) coefficients.set(half.coefficients.subarray(settings.intercept ? 0 : 1), (slot++) * q);
+    const start = parametersFromCoefficients(ws, coefficients, guards);
+    computeResiduals(ws, start);
+    const logLikelihood = eStep(ws, start);
+    if (logLikelihood > bestLogLikelihood) {
+      bestLogLikelihood = logLikelihood;
+      bestStart = start;
+    }
+  }
+  return bestStart;
+}
+
+/**
+ * Keeps component `keep`, removes the rows within PEEL_WIDTH noise SDs of it and fits K − 1
+ * components to the other rows (a recursive fitMixture): the remove-and-repeat idea of moment
+ * descent (METHODS.md) applied to a noisy EM fit. Returns the combined start or null.
+ */
+function peelComponent(data: RegressionData, ws: MixtureWorkspace, params: MixtureParameters, keep: number, guards: Guards, settings: Settings, random: Random, rowMap: Int32Array | null, depth: number): MixtureParameters | null {
+  const { n, p, q, k } = ws;
+  computeResiduals(ws, params);
+  const width = PEEL_WIDTH * Math.sqrt(params.variances[keep]);
+  const remaining: number[] = [];
+  for (let i = 0; i < n; i++) if (Math.abs(ws.residuals[i * k + keep]) > width) remaining.push(rowMap ? rowMap[i] : i);
+  if (n - remaining.length < 2 * q || remaining.length < (k - 1) * (q + ROWS_BEYOND_COEFFICIENTS)) return null;
+  const x = new Float64Array(remaining.length * p);
+  const y = new Float64Array(remaining.length);
+  remaining.forEach((row, i) => {
+    x.set(data.x.subarray(row * p, row * p + p), i * p);
+    y[i] = data.y[row];
+  });
+  let rest: MixtureFit;
+  try {
+    rest = fitMixtureAtDepth({ x, y, n: remaining.length, p }, { k: k - 1, seed: random.integer(2147483647), intercept: settings.intercept, model: settings.model, restarts: settings.restarts, tolerance: settings.tolerance, maxIterations: settings.maxIterations }, depth + 1);
+  } catch {
+    return null;
+  }
+  const coefficients = new Float64Array(k * q);
+  coefficients.set(params.coefficients.subarray(keep * q, keep * q + q), 0);
+  rest.components.forEach((component, j) => coefficients.set(component.coefficients.subarray(settings.intercept ? 0 : 1), (j + 1) * q));
+  return parametersFromCoefficients(ws, coefficients, guards);
+}
+
+/** Rows within this many noise SDs of a kept component are set aside with it (2.5 SDs hold 98.8% of its rows). */
+const PEEL_WIDTH = 2.5;
+/** Components tried as the kept one, smallest noise SD first. */
+const PEEL_CANDIDATES = 2;
+/** Nesting depth below which noisy peeling may run (the top fit and one level of sub-fits). */
+const MAX_PEELING_DEPTH = 2;
+
+/** Random-partition restarts inside a split's two-component fit (two components rarely need more). */
+const SPLIT_RESTARTS = 3;
 
 /** Whether the best candidate's fit was also reached by another start (same ln L, same coefficients). */
 function bestFoundTwice(candidates: Candidate[]): boolean {
