@@ -258,10 +258,11 @@ function fitMixtureAtDepth(data: RegressionData, options: MixtureOptions, depth:
   }
   const startsDisagree = disagreement > DISAGREEMENT_RELATIVE;
 
-  // 2b. Split and merge: a component that holds two groups shows as one with a large noise SD;
-  // split it with a two-component fit of its rows and drop the component the data need least.
+  // 2b. Split and merge, when no two starts agreed on the best fit: a component that holds two
+  // groups shows as one with a large noise SD; split it with a two-component fit of its rows
+  // and drop the component the data need least.
   let splits = 0;
-  if (depth === 0 && !isNoiseless(best.params, working)) {
+  if (depth === 0 && !foundTwice && !isNoiseless(best.params, working)) {
     for (let round = 0; round < MAX_SPLIT_ROUNDS; round++) {
       // Candidates in order of unexplained variance n_k σ_k²; the first that raises ln L wins.
       const ranked = Array.from({ length: k }, (_, c) => c).sort((a, b) => best.params.weights[b] * best.params.variances[b] - best.params.weights[a] * best.params.variances[a] || a - b);
