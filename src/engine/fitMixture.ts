@@ -5,7 +5,7 @@ import { leastSquares } from "./leastSquares";
 import { createWorkspace, type MixtureWorkspace } from "./mixture/mixtureWorkspace";
 import { permuteParameters, type MixtureParameters } from "./mixture/mixtureParameters";
 import { computeResiduals, eStep } from "./mixture/eStep";
-import { factorPredictorCovariances, mStepCoefficients, mStepPredictorModel, mStepVariances, type Guards } from "./mixture/mStep";
+import { factorPredictorCovariances, mStepCoefficients, mStepPredictorModel, mStepVariances, mStepVariancesFromGram, type Guards } from "./mixture/mStep";
 import { reseedComponent } from "./mixture/reseedComponent";
 import { hardAssignmentPolish } from "./mixture/hardAssignmentPolish";
 import { canonicalOrder } from "./mixture/canonicalOrder";
@@ -86,7 +86,7 @@ const SUBSAMPLE_ROWS_PER_PARAMETER = 20;
  * rows: its sample size grows like the dimension (Õ(d), METHODS.md), its cost like rows times
  * its many passes, and its output is only a start that EM then refines on more rows.
  */
-const MOMENT_MIN_ROWS = 2000;
+const MOMENT_MIN_ROWS = 1000;
 const MOMENT_ROWS_PER_PARAMETER = 40;
 
 /**
@@ -422,9 +422,14 @@ function runEm(ws: MixtureWorkspace, params: MixtureParameters, guards: Guards, 
         reseeds++;
       }
     }
-    computeResiduals(ws, params);
-    varianceBoundActive = mStepVariances(ws, params, guards, reseeded);
-    const next = eStep(ws, params);
+    let next: number;
+    if (reseeded.length === 0 && mStepVariancesFromGram(ws, params, guards)) {
+      next = eStep(ws, params, true);
+    } else {
+      computeResiduals(ws, params);
+      varianceBoundActive = mStepVariances(ws, params, guards, reseeded);
+      next = eStep(ws, params);
+    }
     iterations++;
     path?.push(next);
     const change = next - logLikelihood;

@@ -2,6 +2,8 @@ import type { MixtureParameters } from "./mixtureParameters";
 import type { MixtureWorkspace } from "./mixtureWorkspace";
 
 const LOG_TWO_PI = Math.log(2 * Math.PI);
+/** ln(2⁻⁵³) ≈ −36.7: a term exp(−37) ≈ 8.5e-17 is below half an ulp of a sum that is at least 1. */
+const NEGLIGIBLE_LOG_RATIO = -37;
 
 /**
  * Residuals r_ik = y_i − x_iᵀβ_k for every row and component, stored n x k. The M-step's
@@ -29,10 +31,13 @@ export function computeResiduals(ws: MixtureWorkspace, params: MixtureParameters
  * Gershenfeld 1997] − logsumexp over k. Subtracting the row maximum before exponentiating
  * keeps every term in range however small the variances (the log-sum-exp device).
  *
+ * @param withResiduals compute the residuals at the current coefficients first (row by row, in
+ *   the same sweep) instead of reading those computeResiduals stored
  * @returns the log-likelihood Σ_i log Σ_k π_k φ_ik; the per-row terms go to ws.rowLogLikelihood
  */
-export function eStep(ws: MixtureWorkspace, params: MixtureParameters): number {
-  const { n, k, residuals, memberships, rowLogLikelihood } = ws;
+export function eStep(ws: MixtureWorkspace, params: MixtureParameters, withResiduals = false): number {
+  const { n, q, k, design, y, residuals, memberships, rowLogLikelihood } = ws;
+  const beta = params.coefficients;
   const logTerm = ws.rowScratch;
   // Per-component constants: log π_k − ½ ln(2π σ_k²) and −1/(2σ_k²).
   const constant = new Float64Array(k);
@@ -46,6 +51,15 @@ export function eStep(ws: MixtureWorkspace, params: MixtureParameters): number {
   for (let i = 0; i < n; i++) {
     const offset = i * k;
     let largest = -Infinity;
+    if (withResiduals) {
+      // Fused with computeResiduals: one sweep of the design per iteration instead of two.
+      const rowOffset = i * q;
+      for (let c = 0; c < k; c++) {
+        let fitted = 0;
+        for (let j = 0; j < q; j++) fitted += design[rowOffset + j] * beta[c * q + j];
+        residuals[offset + c] = y[i] - fitted;
+      }
+    }
     for (let c = 0; c < k; c++) {
       const r = residuals[offset + c];
       let value = constant[c] + curvature[c] * r * r;
@@ -55,7 +69,10 @@ export function eStep(ws: MixtureWorkspace, params: MixtureParameters): number {
     }
     let sum = 0;
     for (let c = 0; c < k; c++) {
-      const e = Math.exp(logTerm[c] - largest);
+      const difference = logTerm[c] - largest;
+      // Below NEGLIGIBLE_LOG_RATIO the term cannot change the sum (which is at least 1) in
+      // double precision, so the exponential is skipped and the membership is exactly 0.
+      const e = difference > NEGLIGIBLE_LOG_RATIO ? Math.exp(difference) : 0;
       memberships[offset + c] = e;
       sum += e;
     }

@@ -44,9 +44,11 @@ export const NEGLIGIBLE_MEMBERSHIP = 1e-12;
 export function mStepCoefficients(ws: MixtureWorkspace, params: MixtureParameters, guards: Guards): MStepReport {
   const { n, q, k, design, y, memberships, grams, rightHandSides, sizes } = ws;
   const { blockRows, blockColumns, blockWeighted, blockY } = ws;
+  const weightedSquares = ws.weightedSquares;
   grams.fill(0);
   rightHandSides.fill(0);
   sizes.fill(0);
+  weightedSquares.fill(0);
   for (let i = 0; i < n; i++) for (let c = 0; c < k; c++) sizes[c] += memberships[i * k + c];
   // The largest component's Gram matrix is the total XᵀX (computed once per data set) minus
   // the others', since Σ_k τ_ik = 1: one component fewer to accumulate. Taking the largest keeps
@@ -70,6 +72,7 @@ export function mStepCoefficients(ws: MixtureWorkspace, params: MixtureParameter
           blockWeighted[j * blockRows + m] = w * value;
         }
         blockY[m] = y[i];
+        weightedSquares[c] += w * y[i] * y[i];
         m++;
       }
       if (m === 0) continue;
@@ -87,6 +90,11 @@ export function mStepCoefficients(ws: MixtureWorkspace, params: MixtureParameter
       let rhs = total.rightHandSide[j];
       for (let c = 0; c < k; c++) if (c !== largest) rhs -= rightHandSides[c * q + j];
       rightHandSides[largest * q + j] = rhs;
+      if (j === 0) {
+        let squares = total.squares;
+        for (let c = 0; c < k; c++) if (c !== largest) squares -= weightedSquares[c];
+        weightedSquares[largest] = squares;
+      }
       for (let l = j; l < q; l++) {
         let value = total.gram[j * q + l];
         for (let c = 0; c < k; c++) if (c !== largest) value -= grams[c * q * q + j * q + l];
@@ -111,8 +119,8 @@ export function mStepCoefficients(ws: MixtureWorkspace, params: MixtureParameter
 }
 
 /** XᵀX and Xᵀy over all rows of the workspace, accumulated on first use. */
-function totalGram(ws: MixtureWorkspace): { gram: Float64Array; rightHandSide: Float64Array } {
-  if (ws.totalGram && ws.totalRightHandSide) return { gram: ws.totalGram, rightHandSide: ws.totalRightHandSide };
+function totalGram(ws: MixtureWorkspace): { gram: Float64Array; rightHandSide: Float64Array; squares: number } {
+  if (ws.totalGram && ws.totalRightHandSide) return { gram: ws.totalGram, rightHandSide: ws.totalRightHandSide, squares: ws.totalSquares };
   const { n, q, design, y, blockRows, blockColumns, blockY } = ws;
   const gram = new Float64Array(q * q);
   const rightHandSide = new Float64Array(q);
@@ -127,9 +135,12 @@ function totalGram(ws: MixtureWorkspace): { gram: Float64Array; rightHandSide: F
       for (let l = j; l < q; l++) gram[j * q + l] += dot(blockColumns, j * blockRows, blockColumns, l * blockRows, m);
     }
   }
+  let squares = 0;
+  for (let i = 0; i < n; i++) squares += y[i] * y[i];
   ws.totalGram = gram;
   ws.totalRightHandSide = rightHandSide;
-  return { gram, rightHandSide };
+  ws.totalSquares = squares;
+  return { gram, rightHandSide, squares };
 }
 
 /** Σ a[aOffset + i] b[bOffset + i] for i < m, four partial sums to shorten the dependency chain. */
@@ -174,6 +185,41 @@ export function mStepVariances(ws: MixtureWorkspace, params: MixtureParameters, 
     sizes[c] = params.weights[c] * n;
   }
   return constrainedVariances(unconstrained, sizes, guards.varianceRatioBound, guards.varianceFloor, params.variances);
+}
+
+/**
+ * Residual sums Σ τ r² below this fraction of Σ τ y² are not trusted from the Gram identity
+ * (the subtraction loses about rounding × Σ τ y² / RSS of relative accuracy: 1e-8 leaves 8
+ * digits); noiseless fits then take the explicit residual pass.
+ */
+const GRAM_RSS_RELIABLE = 1e-8;
+
+/**
+ * M-step variances without another sweep of the rows, from the sums the coefficient M-step
+ * already holds: Σ_i τ_ik r_ik² = Σ τ y² − 2 βᵀ(XᵀW y) + βᵀ(XᵀWX)β (the normal-equations
+ * identity). Returns false, changing nothing, when some component's sum is too small to trust
+ * (see GRAM_RSS_RELIABLE); the caller then uses computeResiduals and mStepVariances.
+ */
+export function mStepVariancesFromGram(ws: MixtureWorkspace, params: MixtureParameters, guards: Guards): boolean {
+  const { q, k, grams, rightHandSides, sizes, weightedSquares } = ws;
+  const unconstrained = new Float64Array(k);
+  for (let c = 0; c < k; c++) {
+    const beta = params.coefficients.subarray(c * q, c * q + q);
+    const gram = grams.subarray(c * q * q, (c + 1) * q * q);
+    let quadratic = 0;
+    let linear = 0;
+    for (let j = 0; j < q; j++) {
+      linear += beta[j] * rightHandSides[c * q + j];
+      let row = gram[j * q + j] * beta[j];
+      for (let l = j + 1; l < q; l++) row += 2 * gram[j * q + l] * beta[l];
+      quadratic += beta[j] * row;
+    }
+    const sum = weightedSquares[c] - 2 * linear + quadratic;
+    if (!(sum > GRAM_RSS_RELIABLE * weightedSquares[c]) || !(sizes[c] > 0)) return false;
+    unconstrained[c] = sum / sizes[c];
+  }
+  constrainedVariances(unconstrained, sizes, guards.varianceRatioBound, guards.varianceFloor, params.variances);
+  return true;
 }
 
 /**

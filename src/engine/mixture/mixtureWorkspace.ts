@@ -41,6 +41,10 @@ export interface MixtureWorkspace {
   /** XᵀX and Xᵀy over all rows, filled by the first M-step. */
   totalGram: Float64Array | null;
   totalRightHandSide: Float64Array | null;
+  /** Σ y² over all rows (with totalGram). */
+  totalSquares: number;
+  /** Σ_i τ_ik y_i² per component, from the last M-step. */
+  weightedSquares: Float64Array;
   /** Per-row scratch of length k. */
   rowScratch: Float64Array;
   /** Per-row scratch of length p (joint model). */
@@ -53,19 +57,32 @@ export function createWorkspace(data: RegressionData, k: number, intercept: bool
   const n = rows ? rows.length : data.n;
   const design = new Float64Array(n * q);
   const y = new Float64Array(n);
-  const predictors = new Float64Array(n * p);
+  // The full data's predictors are used in place; a subsample gets its own copy.
+  const predictors = rows ? new Float64Array(n * p) : data.x.subarray(0, n * p);
   for (let i = 0; i < n; i++) {
     const source = rows ? rows[i] : i;
     y[i] = data.y[source];
-    predictors.set(data.x.subarray(source * p, source * p + p), i * p);
+    const row = data.x.subarray(source * p, source * p + p);
+    if (rows) predictors.set(row, i * p);
     const offset = i * q;
     if (intercept) design[offset] = 1;
-    design.set(data.x.subarray(source * p, source * p + p), intercept ? offset + 1 : offset);
+    design.set(row, intercept ? offset + 1 : offset);
   }
+  // Two passes over the rows (means, then centred squares: Chan, Golub & LeVeque 1983), each
+  // reading rows in order rather than one strided sweep per predictor.
+  const predictorMeans = new Float64Array(p);
+  for (let i = 0; i < n; i++) for (let j = 0; j < p; j++) predictorMeans[j] += predictors[i * p + j];
+  for (let j = 0; j < p; j++) predictorMeans[j] /= n;
+  const predictorVariances = new Float64Array(p);
+  for (let i = 0; i < n; i++) {
+    for (let j = 0; j < p; j++) {
+      const d = predictors[i * p + j] - predictorMeans[j];
+      predictorVariances[j] += d * d;
+    }
+  }
+  for (let j = 0; j < p; j++) predictorVariances[j] /= n;
   // Two q x blockRows buffers of doubles fit in about 256 KB, a typical L2 cache.
   const blockRows = Math.max(32, Math.floor(BLOCK_DOUBLES / Math.max(q, 1)));
-  const predictorVariances = new Float64Array(p);
-  for (let j = 0; j < p; j++) predictorVariances[j] = columnVariance(predictors, n, p, j);
   return {
     n,
     p,
@@ -79,7 +96,7 @@ export function createWorkspace(data: RegressionData, k: number, intercept: bool
     memberships: new Float64Array(n * k),
     residuals: new Float64Array(n * k),
     rowLogLikelihood: new Float64Array(n),
-    yVariance: columnVariance(y, n, 1, 0),
+    yVariance: variance(y, n),
     predictorVariances,
     grams: new Float64Array(k * q * q),
     rightHandSides: new Float64Array(k * q),
@@ -91,6 +108,8 @@ export function createWorkspace(data: RegressionData, k: number, intercept: bool
     blockY: new Float64Array(blockRows),
     totalGram: null,
     totalRightHandSide: null,
+    totalSquares: 0,
+    weightedSquares: new Float64Array(k),
     rowScratch: new Float64Array(k),
     predictorScratch: new Float64Array(p),
   };
@@ -100,13 +119,13 @@ export function createWorkspace(data: RegressionData, k: number, intercept: bool
 const BLOCK_DOUBLES = 16384;
 
 /** Two-pass variance (mean first, then centred squares: Chan, Golub & LeVeque 1983). */
-function columnVariance(values: Float64Array, n: number, stride: number, column: number): number {
+function variance(values: Float64Array, n: number): number {
   let mean = 0;
-  for (let i = 0; i < n; i++) mean += values[i * stride + column];
+  for (let i = 0; i < n; i++) mean += values[i];
   mean /= n;
   let total = 0;
   for (let i = 0; i < n; i++) {
-    const d = values[i * stride + column] - mean;
+    const d = values[i] - mean;
     total += d * d;
   }
   return total / n;
