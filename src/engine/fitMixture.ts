@@ -31,6 +31,11 @@ const DEFAULT_TOLERANCE = 1e-8;
 const DEFAULT_MAX_ITERATIONS = 500;
 /** EM iterations each start gets before the starts are compared (short exploratory runs). */
 const SHORT_ITERATIONS = 15;
+/**
+ * The moment warm start usually lands next to the answer, where EM on noiseless data needs a
+ * few dozen iterations to reach the exact fit that ends the search; it gets that many.
+ */
+const MOMENT_START_ITERATIONS = 60;
 
 /**
  * Variance floor, relative to the variance of y: 1e-20 (σ ≥ 1e-10·SD(y)) is far below any
@@ -182,15 +187,28 @@ function fitMixtureAtDepth(data: RegressionData, options: MixtureOptions, depth:
   const candidates: Candidate[] = [];
   let enoughStarts = false;
   let foundTwice = false;
-  const tryStart = (method: string, makeParams: () => MixtureParameters | null): void => {
+  const tryStart = (method: string, makeParams: () => MixtureParameters | null, iterations = SHORT_ITERATIONS): void => {
     if (enoughStarts) return;
     checkSignal(signal);
     const params = makeParams();
     if (!params) return;
-    const run = runEm(working, params, guards, SHORT_ITERATIONS, settings.tolerance, random, signal, null);
+    const run = runEm(working, params, guards, iterations, settings.tolerance, random, signal, null);
     if (!Number.isFinite(run.logLikelihood)) return;
-    candidates.push({ method, params, logLikelihood: run.logLikelihood });
-    if (isNoiseless(params, working)) enoughStarts = true;
+    const candidate: Candidate = { method, params, logLikelihood: run.logLikelihood };
+    candidates.push(candidate);
+    if (!isNoiseless(params, working)) {
+      // Some components already exact: peel them and fit the rest (cheap and decisive).
+      const peeled = peelExactComponents(data, working, params, guards, settings, random, depth, subsampleRows);
+      if (peeled) {
+        const peeledRun = runEm(working, peeled, guards, settings.maxIterations, settings.tolerance, random, signal, null);
+        if (peeledRun.logLikelihood > candidate.logLikelihood) {
+          candidate.params = peeled;
+          candidate.logLikelihood = peeledRun.logLikelihood;
+          candidate.method = `${method}+exact-peeling`;
+        }
+      }
+    }
+    if (isNoiseless(candidate.params, working)) enoughStarts = true;
     else if (candidates.length >= MIN_STARTS && bestFoundTwice(candidates)) {
       enoughStarts = true;
       foundTwice = true;
@@ -219,7 +237,7 @@ function fitMixtureAtDepth(data: RegressionData, options: MixtureOptions, depth:
     const coefficients = new Float64Array(k * working.q);
     moment.coefficients.forEach((vector, c) => coefficients.set(vector, c * working.q));
     return parametersFromCoefficients(working, coefficients, guards);
-  });
+  }, MOMENT_START_ITERATIONS);
   tryStart("residual-seeding", () => parametersFromLabels(working, residualSeedingLabels(working, random), guards, random));
   tryStart("location-seeding", () => parametersFromLabels(working, locationSeedingLabels(working, random), guards, random));
   for (let r = 0; r < settings.restarts; r++) {
@@ -324,7 +342,7 @@ function fitMixtureAtDepth(data: RegressionData, options: MixtureOptions, depth:
   let logLikelihood = run.logLikelihood;
   let peeled = 0;
   for (let round = 0; round < MAX_PEELING_ROUNDS; round++) {
-    const peeledParams = peelExactComponents(data, full, params, guards, settings, random, depth);
+    const peeledParams = peelExactComponents(data, full, params, guards, settings, random, depth, null);
     if (!peeledParams) break;
     const peeledRun = runEm(full, peeledParams, guards, settings.maxIterations, settings.tolerance, random, signal, null);
     if (!(peeledRun.logLikelihood > logLikelihood)) break;
@@ -593,7 +611,7 @@ function assembleFit(
  * a partial EM fit: K-lines is much easier with fewer lines. Returns combined coefficients as
  * a start for EM on all rows, or null when there is nothing to peel.
  */
-function peelExactComponents(data: RegressionData, ws: MixtureWorkspace, params: MixtureParameters, guards: Guards, settings: Settings, random: Random, depth: number): MixtureParameters | null {
+function peelExactComponents(data: RegressionData, ws: MixtureWorkspace, params: MixtureParameters, guards: Guards, settings: Settings, random: Random, depth: number, rowMap: Int32Array | null): MixtureParameters | null {
   const { n, p, q, k } = ws;
   // Rows a component fits within EXACT_RESIDUAL_RELATIVE · SD(y) are its exact rows; any q rows
   // can be fitted exactly, so a component counts as exact only with 2q of them or more.
@@ -608,7 +626,7 @@ function peelExactComponents(data: RegressionData, ws: MixtureWorkspace, params:
   for (let i = 0; i < n; i++) {
     let fitted = false;
     for (const c of exact) if (Math.abs(ws.residuals[i * k + c]) <= threshold) fitted = true;
-    if (!fitted) remaining.push(i);
+    if (!fitted) remaining.push(rowMap ? rowMap[i] : i);
   }
   const rest = k - exact.length;
   if (remaining.length < rest * (q + ROWS_BEYOND_COEFFICIENTS)) return null;
