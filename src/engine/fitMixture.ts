@@ -36,6 +36,8 @@ const SHORT_ITERATIONS = 15;
  * few dozen iterations to reach the exact fit that ends the search; it gets that many.
  */
 const MOMENT_START_ITERATIONS = 60;
+/** A component variance below this fraction of var(y) marks a start as heading for an exact fit. */
+const NEAR_EXACT_VARIANCE_RELATIVE = 1e-6;
 
 /**
  * Variance floor, relative to the variance of y: 1e-20 (σ ≥ 1e-10·SD(y)) is far below any
@@ -192,7 +194,12 @@ function fitMixtureAtDepth(data: RegressionData, options: MixtureOptions, depth:
     checkSignal(signal);
     const params = makeParams();
     if (!params) return;
-    const run = runEm(working, params, guards, iterations, settings.tolerance, random, signal, null);
+    let run = runEm(working, params, guards, SHORT_ITERATIONS, settings.tolerance, random, signal, null);
+    // A start heading for an exact fit (some variance already far below the data's) may run
+    // longer: reaching the exact fit ends the search.
+    if (iterations > SHORT_ITERATIONS && !run.converged && !isNoiseless(params, working) && smallestComponentVariance(params) <= NEAR_EXACT_VARIANCE_RELATIVE * working.yVariance) {
+      run = runEm(working, params, guards, iterations - SHORT_ITERATIONS, settings.tolerance, random, signal, null);
+    }
     if (!Number.isFinite(run.logLikelihood)) return;
     const candidate: Candidate = { method, params, logLikelihood: run.logLikelihood };
     candidates.push(candidate);
@@ -752,6 +759,12 @@ function bestFoundTwice(candidates: Candidate[]): boolean {
   return candidates.some(
     (c) => c !== best && c.logLikelihood >= best.logLikelihood - DISAGREEMENT_LOG_LIKELIHOOD && coefficientDistance(c.params, best.params) <= SAME_FIT_RELATIVE,
   );
+}
+
+function smallestComponentVariance(params: MixtureParameters): number {
+  let smallest = Infinity;
+  for (let c = 0; c < params.k; c++) smallest = Math.min(smallest, params.variances[c]);
+  return smallest;
 }
 
 function isNoiseless(params: MixtureParameters, ws: MixtureWorkspace): boolean {
