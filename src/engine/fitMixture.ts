@@ -150,8 +150,11 @@ interface EmRun {
  *   1. starts on the data or, for large inputs, on a seeded subsample: a previous fit, the
  *      moment warm start when available, residual and location k-means++ seeding, random
  *      partitions; each refined briefly (SHORT_ITERATIONS);
- *   2. the best by log-likelihood refined fully; on a subsample, then on the full data;
- *   3. on noiseless data, the hard-assignment polish (alternating least squares by QR);
+ *   2. the best by log-likelihood refined fully; when no two starts agreed, split-and-merge
+ *      moves and peeling of the best-determined component; on large inputs an intermediate
+ *      subsample, then the full data;
+ *   3. exact peeling when some components fit their rows exactly and others do not; on
+ *      noiseless data, the hard-assignment polish (alternating least squares by QR);
  *   4. memberships, labels, BIC, ICL, canonical order, reports and warnings.
  *
  * One generator made from options.seed feeds every random step.
@@ -206,7 +209,8 @@ function fitMixtureAtDepth(data: RegressionData, options: MixtureOptions, depth:
     const candidate: Candidate = { method, params, logLikelihood: run.logLikelihood };
     candidates.push(candidate);
     if (!isNoiseless(params, working)) {
-      // Some components already exact: peel them and fit the rest (cheap and decisive).
+      // When some components are already exact, peel them and fit the rest: decisive on
+      // noiseless data (peelExactComponents returns null at once when none is exact).
       const peeled = peelExactComponents(data, working, params, guards, settings, random, depth, subsampleRows);
       if (peeled) {
         const peeledRun = runEm(working, peeled, guards, settings.maxIterations, settings.tolerance, random, signal, null);
@@ -261,7 +265,7 @@ function fitMixtureAtDepth(data: RegressionData, options: MixtureOptions, depth:
   // coefficients, refine it too so that the comparison is between converged fits.
   let best = candidates[0];
   let disagreement = 0;
-  const workingIterations = working === full ? settings.maxIterations : settings.maxIterations;
+  const workingIterations = settings.maxIterations;
   const path: number[] = [];
   const fullPath = working === full ? path : null;
   let run = runEm(working, best.params, guards, workingIterations, settings.tolerance, random, signal, fullPath);
