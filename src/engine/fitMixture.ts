@@ -18,6 +18,7 @@ import {
 } from "./mixture/starts";
 import { createParameters } from "./mixture/mixtureParameters";
 import { momentWarmStart } from "./warmStart/momentWarmStart";
+import { MAX_PEELING_DEPTH, PEEL_CANDIDATES, peelComponent, peelExactComponents, splitAndMerge } from "./mixture/restructuringMoves";
 
 // ---------------------------------------------------------------------------------------
 // Defaults and guards. Each is a named constant so a reader can find why it has its value.
@@ -65,12 +66,6 @@ const MAX_RESEEDS = 10;
 
 /** All component variances below this fraction of var(y): treat the data as noiseless. */
 const NOISELESS_VARIANCE_RELATIVE = 1e-12;
-/**
- * A row counts as fitted exactly by a noiseless component when its residual is below this
- * fraction of SD(y): a million times the noiseless SD limit's square root would be too loose,
- * so it sits between rounding (about 1e-14) and anything a real second component leaves.
- */
-const EXACT_RESIDUAL_RELATIVE = 1e-7;
 /** Split-and-merge rounds after the main refinement (each must raise ln L by SPLIT_MIN_GAIN). */
 const MAX_SPLIT_ROUNDS = 3;
 /** Components tried for a split per round, largest unexplained variance first. */
@@ -211,7 +206,7 @@ function fitMixtureAtDepth(data: RegressionData, options: MixtureOptions, depth:
     if (!isNoiseless(params, working)) {
       // When some components are already exact, peel them and fit the rest: decisive on
       // noiseless data (peelExactComponents returns null at once when none is exact).
-      const peeled = peelExactComponents(data, working, params, guards, settings, random, depth, subsampleRows);
+      const peeled = peelExactComponents(data, working, params, guards, settings, random, depth, subsampleRows, fitMixtureAtDepth);
       if (peeled) {
         const peeledRun = runEm(working, peeled, guards, settings.maxIterations, settings.tolerance, random, signal, null);
         if (peeledRun.logLikelihood > candidate.logLikelihood) {
@@ -300,7 +295,7 @@ function fitMixtureAtDepth(data: RegressionData, options: MixtureOptions, depth:
       let improved = false;
       for (const split of ranked.slice(0, SPLIT_CANDIDATES)) {
         checkSignal(signal);
-        const proposal = splitAndMerge(data, working, best.params, split, guards, settings, random, subsampleRows, depth);
+        const proposal = splitAndMerge(data, working, best.params, split, guards, settings, random, subsampleRows, depth, fitMixtureAtDepth);
         if (!proposal) continue;
         // A brief run first; only a proposal already ahead is refined fully.
         const briefRun = runEm(working, proposal, guards, 2 * SHORT_ITERATIONS, settings.tolerance, random, signal, null);
@@ -326,7 +321,7 @@ function fitMixtureAtDepth(data: RegressionData, options: MixtureOptions, depth:
     const order = Array.from({ length: k }, (_, c) => c).sort((a, b) => best.params.variances[a] - best.params.variances[b] || a - b);
     for (const keep of order.slice(0, PEEL_CANDIDATES)) {
       checkSignal(signal);
-      const proposal = peelComponent(data, working, best.params, keep, guards, settings, random, subsampleRows, depth);
+      const proposal = peelComponent(data, working, best.params, keep, guards, settings, random, subsampleRows, depth, fitMixtureAtDepth);
       if (!proposal) continue;
       const proposalRun = runEm(working, proposal, guards, settings.maxIterations, settings.tolerance, random, signal, null);
       if (!(proposalRun.logLikelihood > best.logLikelihood + SPLIT_MIN_GAIN)) continue;
@@ -363,7 +358,7 @@ function fitMixtureAtDepth(data: RegressionData, options: MixtureOptions, depth:
   let logLikelihood = run.logLikelihood;
   let peeled = 0;
   for (let round = 0; round < MAX_PEELING_ROUNDS; round++) {
-    const peeledParams = peelExactComponents(data, full, params, guards, settings, random, depth, null);
+    const peeledParams = peelExactComponents(data, full, params, guards, settings, random, depth, null, fitMixtureAtDepth);
     if (!peeledParams) break;
     const peeledRun = runEm(full, peeledParams, guards, settings.maxIterations, settings.tolerance, random, signal, null);
     if (!(peeledRun.logLikelihood > logLikelihood)) break;
@@ -623,148 +618,6 @@ function assembleFit(
     seed: settings.seed,
   };
 }
-
-/**
- * When some components fit their rows to rounding level and others do not, the rows the exact
- * components explain are removed and the remaining components fitted afresh on the other rows
- * (a recursive call with K − e components and the same settings, seeded from the same
- * generator). This is the remove-and-repeat step of moment descent (METHODS.md) applied to
- * a partial EM fit: K-lines is much easier with fewer lines. Returns combined coefficients as
- * a start for EM on all rows, or null when there is nothing to peel.
- */
-function peelExactComponents(data: RegressionData, ws: MixtureWorkspace, params: MixtureParameters, guards: Guards, settings: Settings, random: Random, depth: number, rowMap: Int32Array | null): MixtureParameters | null {
-  const { n, p, q, k } = ws;
-  // Rows a component fits within EXACT_RESIDUAL_RELATIVE · SD(y) are its exact rows; any q rows
-  // can be fitted exactly, so a component counts as exact only with 2q of them or more.
-  const threshold = EXACT_RESIDUAL_RELATIVE * Math.sqrt(ws.yVariance);
-  computeResiduals(ws, params);
-  const exactRows = new Int32Array(k);
-  for (let i = 0; i < n; i++) for (let c = 0; c < k; c++) if (Math.abs(ws.residuals[i * k + c]) <= threshold) exactRows[c]++;
-  const exact: number[] = [];
-  for (let c = 0; c < k; c++) if (exactRows[c] >= 2 * q) exact.push(c);
-  if (exact.length === 0 || exact.length === k) return null;
-  const remaining: number[] = [];
-  for (let i = 0; i < n; i++) {
-    let fitted = false;
-    for (const c of exact) if (Math.abs(ws.residuals[i * k + c]) <= threshold) fitted = true;
-    if (!fitted) remaining.push(rowMap ? rowMap[i] : i);
-  }
-  const rest = k - exact.length;
-  if (remaining.length < rest * (q + ROWS_BEYOND_COEFFICIENTS)) return null;
-  const x = new Float64Array(remaining.length * p);
-  const y = new Float64Array(remaining.length);
-  remaining.forEach((row, i) => {
-    x.set(data.x.subarray(row * p, row * p + p), i * p);
-    y[i] = data.y[row];
-  });
-  const sub = fitMixtureAtDepth({ x, y, n: remaining.length, p }, {
-    k: rest,
-    seed: random.integer(2147483647),
-    intercept: settings.intercept,
-    model: settings.model,
-    restarts: settings.restarts,
-    tolerance: settings.tolerance,
-    maxIterations: settings.maxIterations,
-  }, depth + 1);
-  const coefficients = new Float64Array(k * q);
-  exact.forEach((c, j) => coefficients.set(params.coefficients.subarray(c * q, c * q + q), j * q));
-  sub.components.forEach((component, j) => coefficients.set(component.coefficients.subarray(settings.intercept ? 0 : 1), (exact.length + j) * q));
-  return parametersFromCoefficients(ws, coefficients, guards);
-}
-
-/**
- * One split-and-merge move (Ueda, Nakano, Ghahramani & Hinton 2000, Neural Computation 12):
- * component `split` (the driver tries those with the largest unexplained variance n_k σ_k²) is split by a two-component fit
- * of the rows it holds (a recursive fitMixture), and the component whose removal costs the
- * least likelihood is dropped to keep K. Returns the proposed start, or null when no split
- * applies; the caller refines it and keeps it only if the likelihood rises.
- */
-function splitAndMerge(data: RegressionData, ws: MixtureWorkspace, params: MixtureParameters, split: number, guards: Guards, settings: Settings, random: Random, rowMap: Int32Array | null, depth: number): MixtureParameters | null {
-  const { n, p, q, k } = ws;
-  computeResiduals(ws, params);
-  eStep(ws, params);
-  const rows: number[] = [];
-  for (let i = 0; i < n; i++) {
-    let best = 0;
-    for (let c = 1; c < k; c++) if (ws.memberships[i * k + c] > ws.memberships[i * k + best]) best = c;
-    if (best === split) rows.push(rowMap ? rowMap[i] : i);
-  }
-  if (rows.length < 2 * (q + ROWS_BEYOND_COEFFICIENTS)) return null;
-  const x = new Float64Array(rows.length * p);
-  const y = new Float64Array(rows.length);
-  rows.forEach((row, i) => {
-    x.set(data.x.subarray(row * p, row * p + p), i * p);
-    y[i] = data.y[row];
-  });
-  let halves: MixtureFit;
-  try {
-    halves = fitMixtureAtDepth({ x, y, n: rows.length, p }, { k: 2, seed: random.integer(2147483647), intercept: settings.intercept, model: settings.model, restarts: Math.min(settings.restarts, SPLIT_RESTARTS), tolerance: settings.tolerance, maxIterations: settings.maxIterations }, depth + 1);
-  } catch {
-    return null;
-  }
-  // Drop the component (other than the split one) whose loss hurts the likelihood least.
-  let bestStart: MixtureParameters | null = null;
-  let bestLogLikelihood = -Infinity;
-  for (let drop = 0; drop < k; drop++) {
-    if (drop === split) continue;
-    const coefficients = new Float64Array(k * q);
-    let slot = 0;
-    for (let c = 0; c < k; c++) {
-      if (c === split || c === drop) continue;
-      coefficients.set(params.coefficients.subarray(c * q, c * q + q), slot * q);
-      slot++;
-    }
-    for (const half of halves.components) coefficients.set(half.coefficients.subarray(settings.intercept ? 0 : 1), (slot++) * q);
-    const start = parametersFromCoefficients(ws, coefficients, guards);
-    computeResiduals(ws, start);
-    const logLikelihood = eStep(ws, start);
-    if (logLikelihood > bestLogLikelihood) {
-      bestLogLikelihood = logLikelihood;
-      bestStart = start;
-    }
-  }
-  return bestStart;
-}
-
-/**
- * Keeps component `keep`, removes the rows within PEEL_WIDTH noise SDs of it and fits K − 1
- * components to the other rows (a recursive fitMixture): the remove-and-repeat idea of moment
- * descent (METHODS.md) applied to a noisy EM fit. Returns the combined start or null.
- */
-function peelComponent(data: RegressionData, ws: MixtureWorkspace, params: MixtureParameters, keep: number, guards: Guards, settings: Settings, random: Random, rowMap: Int32Array | null, depth: number): MixtureParameters | null {
-  const { n, p, q, k } = ws;
-  computeResiduals(ws, params);
-  const width = PEEL_WIDTH * Math.sqrt(params.variances[keep]);
-  const remaining: number[] = [];
-  for (let i = 0; i < n; i++) if (Math.abs(ws.residuals[i * k + keep]) > width) remaining.push(rowMap ? rowMap[i] : i);
-  if (n - remaining.length < 2 * q || remaining.length < (k - 1) * (q + ROWS_BEYOND_COEFFICIENTS)) return null;
-  const x = new Float64Array(remaining.length * p);
-  const y = new Float64Array(remaining.length);
-  remaining.forEach((row, i) => {
-    x.set(data.x.subarray(row * p, row * p + p), i * p);
-    y[i] = data.y[row];
-  });
-  let rest: MixtureFit;
-  try {
-    rest = fitMixtureAtDepth({ x, y, n: remaining.length, p }, { k: k - 1, seed: random.integer(2147483647), intercept: settings.intercept, model: settings.model, restarts: settings.restarts, tolerance: settings.tolerance, maxIterations: settings.maxIterations }, depth + 1);
-  } catch {
-    return null;
-  }
-  const coefficients = new Float64Array(k * q);
-  coefficients.set(params.coefficients.subarray(keep * q, keep * q + q), 0);
-  rest.components.forEach((component, j) => coefficients.set(component.coefficients.subarray(settings.intercept ? 0 : 1), (j + 1) * q));
-  return parametersFromCoefficients(ws, coefficients, guards);
-}
-
-/** Rows within this many noise SDs of a kept component are set aside with it (2.5 SDs hold 98.8% of its rows). */
-const PEEL_WIDTH = 2.5;
-/** Components tried as the kept one, smallest noise SD first. */
-const PEEL_CANDIDATES = 2;
-/** Nesting depth below which noisy peeling may run (the top fit and one level of sub-fits). */
-const MAX_PEELING_DEPTH = 2;
-
-/** Random-partition restarts inside a split's two-component fit (two components rarely need more). */
-const SPLIT_RESTARTS = 3;
 
 /** Whether the best candidate's fit was also reached by another start (same ln L, same coefficients). */
 function bestFoundTwice(candidates: Candidate[]): boolean {
