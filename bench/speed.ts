@@ -31,7 +31,7 @@ export function runSpeedBench(print: (line: string) => void): void {
     const started = performance.now();
     const fit = fitMixture(problem.data, { k: COMPONENTS, seed: 1 });
     const elapsed = performance.now() - started;
-    const refinement = fit.refinement as typeof fit.refinement & { subsampleIterations?: number };
+    const refinement = fit.refinement;
     const error = relativeCoefficientError(fit.components.map((c) => c.coefficients), problem.coefficients);
     print(
       `${String(n).padEnd(9)} ${elapsed.toFixed(0).padStart(6)}   ${pass.toFixed(3).padStart(11)}   ${(elapsed / pass).toFixed(0).padStart(6)}   ` +

@@ -405,7 +405,7 @@ function fitMixtureAtDepth(data: RegressionData, options: MixtureOptions, depth:
     startsTried: candidates.length,
     disagreement,
   };
-  const refinement: RefinementReport & { reseeds: number; subsampleRows: number; subsampleIterations: number; polished: boolean; peeled: number; splits: number } = {
+  const refinement: RefinementReport = {
     converged: run.converged,
     iterations: run.iterations,
     logLikelihoodPath: path,

@@ -71,6 +71,18 @@ export interface RefinementReport {
   iterations: number;
   /** Log-likelihood after each iteration (non-decreasing for EM). */
   logLikelihoodPath: number[];
+  /** Times a collapsed component was re-seeded (the path may dip at those steps). */
+  reseeds?: number;
+  /** Rows of the seeded subsample the starts ran on (0 when all rows were used). */
+  subsampleRows?: number;
+  /** EM iterations on the subsample (and intermediate subsample) before the full-data ones. */
+  subsampleIterations?: number;
+  /** Whether the noiseless hard-assignment polish (exact fits by QR) produced the result. */
+  polished?: boolean;
+  /** Exact-peeling rounds after the refinement. */
+  peeled?: number;
+  /** Accepted split-and-merge moves. */
+  splits?: number;
 }
 
 export interface MixtureFit {
