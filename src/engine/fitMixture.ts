@@ -553,6 +553,11 @@ function assembleFit(
   exactSigma?: number,
 ): MixtureFit {
   const { n, p, q, k } = ws;
+  // Memberships from the reported parameters themselves, in one more E-step pass: the
+  // workspace may still hold those of a rejected proposal or of the same components in
+  // another order (restructuring moves and sub-fits reorder components).
+  computeResiduals(ws, unordered);
+  eStep(ws, unordered);
   const order = canonicalOrder(unordered);
   const params = permuteParameters(unordered, order);
   const memberships = new Float64Array(n * k);
