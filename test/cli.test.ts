@@ -251,6 +251,28 @@ describe("skein fit: bad files and arguments as a new user would try them", () =
     expect(Array.isArray(report.warnings)).toBe(true);
   });
 
+  it("gives bootstrap standard errors of the same size as the observed-information ones", async () => {
+    // Invented demo data (sample-workbooks/delivery-fleet.csv). Both methods estimate the same
+    // sampling SD; with 20 replicates a bootstrap SD carries about 1/sqrt(40) = 16% Monte Carlo
+    // error (normal theory), so a factor of 2 either way is a loose but failing-capable bound.
+    const file = path.join(__dirname, "..", "sample-workbooks", "delivery-fleet.csv");
+    const args = ["fit", file, "--y", "Fuel used (L)", "--k", "3", "--json"];
+    const observed = JSON.parse((await run(...args)).stdout);
+    const result = await run(...args, "--bootstrap", "20");
+    expect(result.status).toBe(0);
+    const bootstrap = JSON.parse(result.stdout);
+    expect(observed.stdErrors.method).toBe("observed-information");
+    expect(bootstrap.stdErrors.method).toBe("bootstrap");
+    bootstrap.components.forEach((component: { stdErrors: number[] }, c: number) => {
+      component.stdErrors.forEach((se, j) => {
+        const ratio = se / observed.components[c].stdErrors[j];
+        expect(ratio).toBeGreaterThan(0.5);
+        expect(ratio).toBeLessThan(2);
+      });
+    });
+    expectOneLineError(await run(...args, "--bootstrap", "3"), /--bootstrap must be a whole number from 10/);
+  });
+
   it("rejects an unknown model", async () => {
     expectOneLineError(await run("fit", LONGLEY, "--y", "TOTEMP", "--k", "2", "--model", "mixed"), /--model must be plain or joint/);
   });

@@ -29,6 +29,9 @@ and listed.
   --restarts N      alternative starts refined briefly before the best is
                     refined fully (default: the engine's choice)
   --seed S          seed for the random starts of a mixture fit (default 1)
+  --bootstrap N     standard errors from N bootstrap refits (components
+                    matched to this fit in each) instead of the observed
+                    information; slower
   --no-intercept    fit without an intercept
   --json            write one JSON object instead of a table
   --help            show this help
@@ -44,6 +47,7 @@ const FIT_FLAGS: FlagKinds = {
   model: "value",
   restarts: "value",
   seed: "value",
+  bootstrap: "value",
   "no-intercept": "switch",
   json: "switch",
   help: "switch",
@@ -65,6 +69,8 @@ export interface FitSettings {
   model: MixtureModel;
   /** undefined: the engine's default. */
   restarts?: number;
+  /** Bootstrap replicates for the standard errors; undefined: observed information. */
+  bootstrap?: number;
   json: boolean;
 }
 
@@ -146,6 +152,7 @@ export function parseFitSettings(argv: readonly string[]): FitSettings | "help" 
   const modelText = values.get("model") ?? "plain";
   if (modelText !== "plain" && modelText !== "joint") throw new SkeinError("bad-input", `--model must be plain or joint, not ${modelText} (see skein fit --help)`);
   const restartsText = values.get("restarts");
+  const bootstrapText = values.get("bootstrap");
   return {
     file: positionals[0],
     sheet: values.get("sheet"),
@@ -156,6 +163,7 @@ export function parseFitSettings(argv: readonly string[]): FitSettings | "help" 
     intercept: !switches.has("no-intercept"),
     model: modelText,
     restarts: restartsText === undefined ? undefined : parseWholeNumber(restartsText, "restarts", "fit", 0, 1000),
+    bootstrap: bootstrapText === undefined ? undefined : parseWholeNumber(bootstrapText, "bootstrap", "fit", 10, 10000),
     json: switches.has("json"),
   };
 }
@@ -166,14 +174,17 @@ export function parseFitSettings(argv: readonly string[]): FitSettings | "help" 
  * ordinary least squares, and the report gives the classical least-squares standard
  * errors (n − q degrees of freedom), the ones regression tables and NIST certify.
  */
-export function fitModel(design: Design, settings: Pick<FitSettings, "k" | "seed" | "intercept" | "model" | "restarts">): ModelFit {
+export function fitModel(design: Design, settings: Pick<FitSettings, "k" | "seed" | "intercept" | "model" | "restarts" | "bootstrap">): ModelFit {
   const mixture = withColumnNames(design, settings.intercept, () =>
     fitMixture(design, { k: settings.k, seed: settings.seed, intercept: settings.intercept, model: settings.model, restarts: settings.restarts }),
   );
-  const errors = standardErrors(design, mixture);
+  const errors =
+    settings.bootstrap === undefined
+      ? standardErrors(design, mixture)
+      : standardErrors(design, mixture, { method: "bootstrap", replicates: settings.bootstrap, seed: settings.seed, fitOptions: { restarts: settings.restarts } });
   let coefficientErrors = errors.coefficients.map((c) => Array.from(c));
   let method: string = errors.method;
-  if (settings.k === 1 && settings.model === "plain") {
+  if (settings.k === 1 && settings.model === "plain" && settings.bootstrap === undefined) {
     coefficientErrors = [classicalStdErrors(design, settings.intercept)];
     method = "least-squares";
   }
