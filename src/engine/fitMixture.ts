@@ -163,7 +163,7 @@ export function fitMixture(data: RegressionData, options: MixtureOptions): Mixtu
  * nesting so the recursion stays bounded: splits only at the top level, noisy peeling down to
  * MAX_PEELING_DEPTH (exact peeling always lowers K, so it ends by itself).
  */
-function fitMixtureAtDepth(data: RegressionData, options: MixtureOptions, depth: number): MixtureFit {
+function fitMixtureAtDepth(data: RegressionData, options: MixtureOptions, depth: number, inherited?: Float64Array): MixtureFit {
   const settings = checkInput(data, options);
   const { k, intercept, model } = settings;
   const joint = model === "joint";
@@ -222,6 +222,11 @@ function fitMixtureAtDepth(data: RegressionData, options: MixtureOptions, depth:
       foundTwice = true;
     }
   };
+  // A parent fit's estimate of these components (exact peeling passes the ones it has not
+  // found exactly yet) comes first: it is often one short refinement away from the answer.
+  if (inherited && inherited.length === k * working.q) {
+    tryStart("inherited", () => parametersFromCoefficients(working, inherited, guards), MOMENT_START_ITERATIONS);
+  }
   const previous = options.previous;
   if (previous && previous.k === k && previous.p === data.p && previous.intercept === intercept) {
     tryStart("previous", () => parametersFromFit(working, previous, guards));

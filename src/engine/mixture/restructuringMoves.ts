@@ -14,8 +14,12 @@ import { parametersFromCoefficients } from "./starts";
  * module does not depend on the driver.
  */
 
-/** The driver's fit applied to a subset of rows, one nesting level deeper. */
-export type SubsetFit = (data: RegressionData, options: MixtureOptions, depth: number) => MixtureFit;
+/**
+ * The driver's fit applied to a subset of rows, one nesting level deeper; `start` (k·q
+ * coefficients, optional) is the parent's estimate of the components left to find, tried
+ * before any other start.
+ */
+export type SubsetFit = (data: RegressionData, options: MixtureOptions, depth: number, start?: Float64Array) => MixtureFit;
 
 /** The settings a subset fit inherits. */
 export interface SubsetSettings {
@@ -66,6 +70,12 @@ export function peelExactComponents(data: RegressionData, ws: MixtureWorkspace, 
     x.set(data.x.subarray(row * p, row * p + p), i * p);
     y[i] = data.y[row];
   });
+  // The components that are not exact yet are the sub-fit's first start: with the rows of the
+  // exact components removed they are often next to an exact fit of the rest, which then ends
+  // the sub-fit's search before its own warm start and restarts run.
+  const inherited = new Float64Array(rest * q);
+  let slot = 0;
+  for (let c = 0; c < k; c++) if (!exact.includes(c)) inherited.set(params.coefficients.subarray(c * q, c * q + q), (slot++) * q);
   const sub = fitSubset({ x, y, n: remaining.length, p }, {
     k: rest,
     seed: random.integer(2147483647),
@@ -74,7 +84,7 @@ export function peelExactComponents(data: RegressionData, ws: MixtureWorkspace, 
     restarts: settings.restarts,
     tolerance: settings.tolerance,
     maxIterations: settings.maxIterations,
-  }, depth + 1);
+  }, depth + 1, inherited);
   const coefficients = new Float64Array(k * q);
   exact.forEach((c, j) => coefficients.set(params.coefficients.subarray(c * q, c * q + q), j * q));
   sub.components.forEach((component, j) => coefficients.set(component.coefficients.subarray(settings.intercept ? 0 : 1), (exact.length + j) * q));
