@@ -18,6 +18,7 @@ import {
 } from "./mixture/starts";
 import { createParameters } from "./mixture/mixtureParameters";
 import { momentWarmStart } from "./warmStart/momentWarmStart";
+import { alternatingLeastSquares } from "./warmStart/alternatingLeastSquares";
 import { MAX_PEELING_DEPTH, PEEL_CANDIDATES, peelComponent, peelExactComponents, splitAndMerge } from "./mixture/restructuringMoves";
 
 // ---------------------------------------------------------------------------------------
@@ -39,6 +40,17 @@ const SHORT_ITERATIONS = 15;
 const MOMENT_START_ITERATIONS = 60;
 /** A component variance below this fraction of var(y) marks a start as heading for an exact fit. */
 const NEAR_EXACT_VARIANCE_RELATIVE = 1e-6;
+/**
+ * Hard-assignment steps tried on a start heading for an exact fit: from inside its basin
+ * alternating least squares settles in a few steps; 50 leave room for slow last movers.
+ */
+const EXACT_POLISH_ITERATIONS = 50;
+/**
+ * Absolute residual, relative to SD(y), that counts as an exact fit of a row: least squares
+ * on tens of coefficients leaves about 1e-14 relative, a row of another component misses by
+ * the component separation.
+ */
+const EXACT_FIT_RELATIVE = 1e-9;
 
 /**
  * Variance floor, relative to the variance of y: 1e-20 (σ ≥ 1e-10·SD(y)) is far below any
@@ -192,7 +204,7 @@ function fitMixtureAtDepth(data: RegressionData, options: MixtureOptions, depth:
   const tryStart = (method: string, makeParams: () => MixtureParameters | null, iterations = SHORT_ITERATIONS): void => {
     if (enoughStarts) return;
     checkSignal(signal);
-    const params = makeParams();
+    let params = makeParams();
     if (!params) return;
     let run = runEm(working, params, guards, SHORT_ITERATIONS, settings.tolerance, random, signal, null);
     // A start heading for an exact fit (some variance already far below the data's) may run
@@ -201,6 +213,16 @@ function fitMixtureAtDepth(data: RegressionData, options: MixtureOptions, depth:
       run = runEm(working, params, guards, iterations - SHORT_ITERATIONS, settings.tolerance, random, signal, null);
     }
     if (!Number.isFinite(run.logLikelihood)) return;
+    // Heading for an exact fit but not there yet: EM's approach to hard memberships is slow
+    // (linear, rate set by the smallest variance ratio) where hard assignment lands in a few
+    // steps. A start that then fits every row exactly cannot be beaten.
+    if (!isNoiseless(params, working) && smallestComponentVariance(params) <= NEAR_EXACT_VARIANCE_RELATIVE * working.yVariance) {
+      const exact = exactFitByHardAssignment(working, params, guards);
+      if (exact) {
+        params = exact;
+        run = runEm(working, params, guards, SHORT_ITERATIONS, settings.tolerance, random, signal, null);
+      }
+    }
     const candidate: Candidate = { method, params, logLikelihood: run.logLikelihood };
     candidates.push(candidate);
     if (!isNoiseless(params, working)) {
@@ -481,6 +503,22 @@ function runEm(ws: MixtureWorkspace, params: MixtureParameters, guards: Guards, 
     }
   }
   return { logLikelihood, iterations, converged, reseeds, varianceBoundActive };
+}
+
+/**
+ * Alternating least squares (Späth 1979) from `params`' coefficients on the working rows;
+ * parameters when it ends with every row fitted to rounding level (EXACT_FIT_RELATIVE of
+ * SD(y)), else null.
+ */
+function exactFitByHardAssignment(ws: MixtureWorkspace, params: MixtureParameters, guards: Guards): MixtureParameters | null {
+  const { n, q, k } = ws;
+  const start: Float64Array[] = [];
+  for (let c = 0; c < k; c++) start.push(params.coefficients.slice(c * q, c * q + q));
+  const fit = alternatingLeastSquares(ws.design, n, q, ws.y, start, EXACT_POLISH_ITERATIONS, EXACT_FIT_RELATIVE * Math.sqrt(ws.yVariance), guards.minimumSize);
+  if (fit.exactRows < n) return null;
+  const coefficients = new Float64Array(k * q);
+  fit.coefficients.forEach((c, index) => coefficients.set(c, index * q));
+  return parametersFromCoefficients(ws, coefficients, guards);
 }
 
 /** A start from a hard partition: memberships 0/1, then one M-step. */
