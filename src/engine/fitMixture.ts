@@ -254,7 +254,7 @@ function fitMixtureAtDepth(data: RegressionData, options: MixtureOptions, depth:
     tryStart("previous", () => parametersFromFit(working, previous, guards));
   }
   let moment: ReturnType<typeof momentWarmStart> = null;
-  tryStart("moment-descent", () => {
+  tryStart("moment-subspace", () => {
     const momentRows = Math.max(MOMENT_MIN_ROWS, MOMENT_ROWS_PER_PARAMETER * k * working.q);
     let momentData: RegressionData = { x: working.predictors, y: working.y, n: working.n, p: working.p };
     if (working.n > 2 * momentRows) {

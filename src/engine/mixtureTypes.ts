@@ -56,7 +56,7 @@ export interface MixtureComponent {
 export interface WarmStartReport {
   /** False when the certificate did not shrink enough or the best starts disagree. */
   converged: boolean;
-  /** Which start won, e.g. "moment-descent", "subspace", "random-partition", "residual-seeding", "previous". */
+  /** Which start won, e.g. "moment-subspace", "random-partition", "residual-seeding", "previous". */
   method: string;
   /** Narrowest residual scale reached by the moment search, relative to the SD of y (NaN when not run). */
   certificate: number;
