@@ -6,6 +6,7 @@ import { engineCallCounts } from "../src/functions/engineRunner";
 import { addressMemory, fitCache, scanCache } from "../src/functions/sharedFit";
 import { SETTING_NAMES } from "../src/functions/settings";
 import { describeFailure, toWorksheetError } from "../src/functions/toWorksheetError";
+import { installCustomFunctionsDouble, WorksheetErrorDouble } from "./support/customFunctionsDouble";
 
 /*
  * The worksheet functions called as Excel calls them: ranges as arrays of rows holding
@@ -14,18 +15,9 @@ import { describeFailure, toWorksheetError } from "../src/functions/toWorksheetE
  * Node, so a stand-in with the same shape (an Error class with code and message, the ErrorCode
  * strings) is installed here; the product code looks it up when it makes an error.
  */
-class WorksheetErrorDouble {
-  constructor(
-    readonly code: string,
-    readonly message?: string,
-  ) {}
-}
 
 beforeAll(() => {
-  (globalThis as Record<string, unknown>).CustomFunctions = {
-    Error: WorksheetErrorDouble,
-    ErrorCode: { invalidValue: "#VALUE!", notAvailable: "#N/A", invalidNumber: "#NUM!" },
-  };
+  installCustomFunctionsDouble();
 });
 
 afterEach(() => {

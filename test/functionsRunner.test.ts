@@ -6,6 +6,7 @@ import * as runner from "../src/functions/engineRunner";
 import { fitCache } from "../src/functions/sharedFit";
 import { Cancellation } from "../src/functions/cancellation";
 import { SkeinError } from "../src/engine/errors";
+import { installCustomFunctionsDouble, WorksheetErrorDouble } from "./support/customFunctionsDouble";
 
 /*
  * The path that keeps Excel responsive: large fits go to the fit worker. Node has no Web
@@ -14,12 +15,6 @@ import { SkeinError } from "../src/engine/errors";
  * turn of the event loop, passes messages through structuredClone as the browser does, and
  * records terminate(). A stand-in for Excel's CustomFunctions error class is installed too.
  */
-class WorksheetErrorDouble {
-  constructor(
-    readonly code: string,
-    readonly message?: string,
-  ) {}
-}
 
 type Mode = "works" | "fails-to-load";
 let mode: Mode = "works";
@@ -62,10 +57,7 @@ class FakeWorker {
 
 beforeAll(async () => {
   const scope = globalThis as Record<string, unknown>;
-  scope.CustomFunctions = {
-    Error: WorksheetErrorDouble,
-    ErrorCode: { invalidValue: "#VALUE!", notAvailable: "#N/A", invalidNumber: "#NUM!" },
-  };
+  installCustomFunctionsDouble();
   scope.self = workerScope;
   await import("../src/functions/fitWorker");
 });

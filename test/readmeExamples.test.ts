@@ -4,6 +4,7 @@ import { join } from "node:path";
 import ExcelJS from "exceljs";
 import { check, fit, labels, membership, predict, scan } from "../src/functions/functions";
 import { addressMemory, fitCache, scanCache } from "../src/functions/sharedFit";
+import { installCustomFunctionsDouble } from "./support/customFunctionsDouble";
 
 /*
  * The README's worksheet-function examples must stand, letter for letter, on the Skein sheet
@@ -11,12 +12,6 @@ import { addressMemory, fitCache, scanCache } from "../src/functions/sharedFit";
  * they give. The formulas are evaluated here through the same adapters Excel calls, with the
  * ranges read from the workbook. Expected values: the README's own table (invented demo).
  */
-class WorksheetErrorDouble {
-  constructor(
-    readonly code: string,
-    readonly message?: string,
-  ) {}
-}
 
 const root = join(__dirname, "..");
 const readme = readFileSync(join(root, "README.md"), "utf8");
@@ -83,10 +78,7 @@ async function evaluate(formula: string, sheets: Record<string, Sheet>): Promise
 
 describe("README worksheet-function examples on the delivery-fleet workbook", async () => {
   beforeAll(() => {
-    (globalThis as Record<string, unknown>).CustomFunctions = {
-      Error: WorksheetErrorDouble,
-      ErrorCode: { invalidValue: "#VALUE!", notAvailable: "#N/A", invalidNumber: "#NUM!" },
-    };
+    installCustomFunctionsDouble();
   });
   afterAll(() => {
     fitCache.clear();

@@ -1,0 +1,18 @@
+/**
+ * Excel's CustomFunctions global does not exist in Node. Tests that call the worksheet
+ * functions install this stand-in with the same shape (an Error class with code and message,
+ * the ErrorCode strings); the product code looks the global up when it makes an error.
+ */
+export class WorksheetErrorDouble {
+  constructor(
+    readonly code: string,
+    readonly message?: string,
+  ) {}
+}
+
+export function installCustomFunctionsDouble(): void {
+  (globalThis as Record<string, unknown>).CustomFunctions = {
+    Error: WorksheetErrorDouble,
+    ErrorCode: { invalidValue: "#VALUE!", notAvailable: "#N/A", invalidNumber: "#NUM!" },
+  };
+}
