@@ -1,4 +1,5 @@
 import { SkeinError } from "../engine/errors";
+import type { MixtureModel } from "../engine/mixtureTypes";
 
 /** How each flag of a command is used: followed by a value, or on its own. */
 export type FlagKinds = Record<string, "value" | "switch">;
@@ -77,4 +78,11 @@ export function parseList(text: string, flag: string, command: string): string[]
     throw usageError(command, `--${flag} has an empty name in "${text}"; separate names with single commas`);
   }
   return items;
+}
+
+/** The --model value: plain (the default) or joint. */
+export function parseModel(text: string | undefined, command: string): MixtureModel {
+  if (text === undefined) return "plain";
+  if (text === "plain" || text === "joint") return text;
+  throw new SkeinError("bad-input", `--model must be plain or joint, not "${text}" (see skein ${command} --help)`);
 }

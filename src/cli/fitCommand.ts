@@ -8,7 +8,7 @@ import { checkSeparation } from "../engine/checkSeparation";
 import { standardErrors } from "../engine/standardErrors";
 import type { MixtureFit, MixtureModel, RefinementReport, WarmStartReport } from "../engine/mixtureTypes";
 import type { SeparationReport } from "../engine/trustTypes";
-import { parseArgs, parseList, parseWholeNumber, type FlagKinds } from "./args";
+import { parseArgs, parseList, parseModel, parseWholeNumber, type FlagKinds } from "./args";
 import { loadDesign } from "./loadDesign";
 import { formatFitTable } from "./formatTable";
 
@@ -149,8 +149,6 @@ export function parseFitSettings(argv: readonly string[]): FitSettings | "help" 
   const xText = values.get("x");
   const kText = values.get("k");
   const seedText = values.get("seed");
-  const modelText = values.get("model") ?? "plain";
-  if (modelText !== "plain" && modelText !== "joint") throw new SkeinError("bad-input", `--model must be plain or joint, not ${modelText} (see skein fit --help)`);
   const restartsText = values.get("restarts");
   const bootstrapText = values.get("bootstrap");
   return {
@@ -161,7 +159,7 @@ export function parseFitSettings(argv: readonly string[]): FitSettings | "help" 
     k: kText === undefined ? 1 : parseWholeNumber(kText, "k", "fit", 1, MAX_COMPONENTS),
     seed: seedText === undefined ? 1 : parseWholeNumber(seedText, "seed", "fit", 0, 2 ** 32 - 1),
     intercept: !switches.has("no-intercept"),
-    model: modelText,
+    model: parseModel(values.get("model"), "fit"),
     restarts: restartsText === undefined ? undefined : parseWholeNumber(restartsText, "restarts", "fit", 0, 1000),
     bootstrap: bootstrapText === undefined ? undefined : parseWholeNumber(bootstrapText, "bootstrap", "fit", 10, 10000),
     json: switches.has("json"),

@@ -2,10 +2,9 @@ import * as path from "path";
 import { SkeinError } from "../engine/errors";
 import { fitMixture } from "../engine/fitMixture";
 import { predictRows } from "../engine/predictRows";
-import { parseArgs, parseList, parseWholeNumber, type FlagKinds } from "./args";
+import { parseArgs, parseList, parseModel, parseWholeNumber, type FlagKinds } from "./args";
 import { formatNumber } from "./formatTable";
 import { loadDesign, loadNewRows } from "./loadDesign";
-import { parseModel } from "./scanCommand";
 
 export const PREDICT_USAGE = `Usage: skein predict FILE --y COLUMN [--x COLUMN,COLUMN,...] --k N --new NEWFILE [options]
 

@@ -2,7 +2,7 @@ import * as path from "path";
 import { SkeinError } from "../engine/errors";
 import type { MixtureModel } from "../engine/mixtureTypes";
 import { scanComponents } from "../engine/scanComponents";
-import { parseArgs, parseList, parseWholeNumber, type FlagKinds } from "./args";
+import { parseArgs, parseList, parseModel, parseWholeNumber, type FlagKinds } from "./args";
 import { formatNumber } from "./formatTable";
 import { loadDesign } from "./loadDesign";
 
@@ -72,12 +72,6 @@ export interface ScanReport {
   intercept: boolean;
   model: MixtureModel;
   rows: ScanReportRow[];
-}
-
-export function parseModel(text: string | undefined, command: string): MixtureModel {
-  if (text === undefined) return "plain";
-  if (text === "plain" || text === "joint") return text;
-  throw new SkeinError("bad-input", `--model must be plain or joint, not "${text}" (see skein ${command} --help)`);
 }
 
 /** `skein scan`: returns the exit status; SkeinErrors propagate to main, which reports them. */
