@@ -4,6 +4,7 @@ import { join } from "node:path";
 import ExcelJS from "exceljs";
 import { check, fit, labels, membership, predict, scan } from "../src/functions/functions";
 import { addressMemory, fitCache, scanCache } from "../src/functions/sharedFit";
+import { main } from "../src/cli/main";
 import { installCustomFunctionsDouble } from "./support/customFunctionsDouble";
 
 /*
@@ -133,5 +134,30 @@ describe("README worksheet-function examples on the delivery-fleet workbook", as
       expect(row).toHaveLength(4);
       for (const value of row) expect(Number.isFinite(value)).toBe(true);
     }
+  });
+});
+
+/** Splits a shell line into words, honouring double quotes (all the README's lines need). */
+function shellWords(line: string): string[] {
+  return [...line.matchAll(/"([^"]*)"|(\S+)/g)].map((match) => match[1] ?? match[2]);
+}
+
+describe("README command-line examples", () => {
+  const section = readme.slice(readme.indexOf("## The command line"), readme.indexOf("## Loading the add-in"));
+  const block = /```sh\n([\s\S]*?)```/.exec(section)![1];
+  // `skein demo` has its own test (test/demo.test.ts); the others run here as written.
+  const lines = block.trim().split("\n").filter((line) => line.startsWith("npx skein ") && !line.startsWith("npx skein demo"));
+
+  it("has fit, scan and predict examples", () => {
+    expect(lines.map((line) => shellWords(line)[2]).sort()).toEqual(["fit", "fit", "predict", "scan"]);
+  });
+
+  it.each(lines)("%s exits 0 with output", async (line) => {
+    let stdout = "";
+    let stderr = "";
+    const status = await main(shellWords(line).slice(2), { stdout: (text) => (stdout += text), stderr: (text) => (stderr += text) });
+    expect(stderr).toBe("");
+    expect(status).toBe(0);
+    expect(stdout.length).toBeGreaterThan(100);
   });
 });
