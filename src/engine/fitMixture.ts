@@ -40,6 +40,10 @@ const SHORT_ITERATIONS = 15;
 const MOMENT_START_ITERATIONS = 60;
 /** A component variance below this fraction of var(y) marks a start as heading for an exact fit. */
 const NEAR_EXACT_VARIANCE_RELATIVE = 1e-6;
+/** Rows within SNAP_WIDTH noise SDs of a near-exact component count as its own (4 SDs miss 6e-5 of them). */
+const SNAP_WIDTH = 4;
+/** Trimmed refits per near-exact component: the second uses the first's far smaller SD. */
+const SNAP_ROUNDS = 2;
 /**
  * Hard-assignment steps tried on a start heading for an exact fit: from inside its basin
  * alternating least squares settles in a few steps; 50 leave room for slow last movers.
@@ -216,11 +220,17 @@ function fitMixtureAtDepth(data: RegressionData, options: MixtureOptions, depth:
     // Heading for an exact fit but not there yet: EM's approach to hard memberships is slow
     // (linear, rate set by the smallest variance ratio) where hard assignment lands in a few
     // steps. A start that then fits every row exactly cannot be beaten.
+    let peelFrom = params;
     if (!isNoiseless(params, working) && smallestComponentVariance(params) <= NEAR_EXACT_VARIANCE_RELATIVE * working.yVariance) {
       const exact = exactFitByHardAssignment(working, params, guards);
       if (exact) {
         params = exact;
+        peelFrom = params;
         run = runEm(working, params, guards, SHORT_ITERATIONS, settings.tolerance, random, signal, null);
+      } else {
+        // Not every row exact, but the components EM approaches only slowly can be snapped
+        // onto exact fits of their own rows: those are then peeled below.
+        peelFrom = snapNearExactComponents(working, params, guards) ?? params;
       }
     }
     const candidate: Candidate = { method, params, logLikelihood: run.logLikelihood };
@@ -228,7 +238,7 @@ function fitMixtureAtDepth(data: RegressionData, options: MixtureOptions, depth:
     if (!isNoiseless(params, working)) {
       // When some components are already exact, peel them and fit the rest: decisive on
       // noiseless data (peelExactComponents returns null at once when none is exact).
-      const peeled = peelExactComponents(data, working, params, guards, settings, random, depth, subsampleRows, fitMixtureAtDepth);
+      const peeled = peelExactComponents(data, working, peelFrom, guards, settings, random, depth, subsampleRows, fitMixtureAtDepth);
       if (peeled) {
         const peeledRun = runEm(working, peeled, guards, settings.maxIterations, settings.tolerance, random, signal, null);
         if (peeledRun.logLikelihood > candidate.logLikelihood) {
@@ -519,6 +529,49 @@ function exactFitByHardAssignment(ws: MixtureWorkspace, params: MixtureParameter
   const coefficients = new Float64Array(k * q);
   fit.coefficients.forEach((c, index) => coefficients.set(c, index * q));
   return parametersFromCoefficients(ws, coefficients, guards);
+}
+
+/**
+ * Components whose noise variance is already far below the data's (at most
+ * NEAR_EXACT_VARIANCE_RELATIVE of var(y)) refitted by least squares on the rows within
+ * SNAP_WIDTH of their SDs, SNAP_ROUNDS times (trimmed least squares): on noiseless data those
+ * rows are the component's own, so the refit is exact to rounding, which EM approaches only
+ * linearly. Returns the snapped coefficients as parameters, or null when no component qualifies.
+ */
+function snapNearExactComponents(ws: MixtureWorkspace, params: MixtureParameters, guards: Guards): MixtureParameters | null {
+  const { n, q, k } = ws;
+  const coefficients = params.coefficients.slice();
+  let snapped = false;
+  for (let c = 0; c < k; c++) {
+    if (!(params.variances[c] <= NEAR_EXACT_VARIANCE_RELATIVE * ws.yVariance)) continue;
+    let width = SNAP_WIDTH * Math.sqrt(params.variances[c]);
+    for (let round = 0; round < SNAP_ROUNDS; round++) {
+      const rows: number[] = [];
+      for (let i = 0; i < n; i++) {
+        let fitted = 0;
+        for (let j = 0; j < q; j++) fitted += ws.design[i * q + j] * coefficients[c * q + j];
+        if (Math.abs(ws.y[i] - fitted) <= width) rows.push(i);
+      }
+      // Any q rows are fitted exactly by some vector: only clearly more identify the component.
+      if (rows.length < 2 * q) break;
+      const design = new Float64Array(rows.length * q);
+      const responses = new Float64Array(rows.length);
+      rows.forEach((i, t) => {
+        design.set(ws.design.subarray(i * q, i * q + q), t * q);
+        responses[t] = ws.y[i];
+      });
+      let fit: ReturnType<typeof leastSquares>;
+      try {
+        fit = leastSquares(design, rows.length, q, responses);
+      } catch {
+        break;
+      }
+      coefficients.set(fit.coefficients, c * q);
+      snapped = true;
+      width = Math.max(SNAP_WIDTH * fit.mlSigma, EXACT_FIT_RELATIVE * Math.sqrt(ws.yVariance));
+    }
+  }
+  return snapped ? parametersFromCoefficients(ws, coefficients, guards) : null;
 }
 
 /** A start from a hard partition: memberships 0/1, then one M-step. */
