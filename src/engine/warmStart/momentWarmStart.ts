@@ -1,5 +1,5 @@
 import type { RegressionData } from "../mixtureTypes";
-import type { Random } from "../random";
+import { sampleIndices, type Random } from "../random";
 import { alternatingLeastSquares, type AlternatingFit } from "./alternatingLeastSquares";
 import { subspaceMixtureFit, randomPartition } from "./subspaceMixtureFit";
 import { whitenPredictors, unwhitenCoefficients, whitenCoefficients, type WhitenedPredictors } from "./whitenPredictors";
@@ -24,6 +24,13 @@ const EXACT_FIT_RELATIVE = 1e-9;
 /** Subspace dimension per component: the top K eigenvectors miss 10-50% of each component when designs differ per component, 2K capture more. */
 const SUBSPACE_DIMENSION_PER_COMPONENT = 2;
 const SUBSPACE_RESTARTS = 6;
+/**
+ * Rows the subspace EM runs on: SUBSPACE_ROWS_PER_PARAMETER per subspace coefficient (K·m),
+ * at least SUBSPACE_MIN_ROWS. Its estimates only seed the full-dimension refinement, so they
+ * need not be better than the part of each component the subspace misses (10-40%).
+ */
+const SUBSPACE_ROWS_PER_PARAMETER = 15;
+const SUBSPACE_MIN_ROWS = 1000;
 const SUBSPACE_EM_ITERATIONS = 25;
 /** Subspace fits (best likelihood first) lifted and refined in full dimension. */
 const LIFTED_CANDIDATES = 3;
@@ -192,24 +199,32 @@ function subspaceCandidates(whitened: WhitenedPredictors, y: Float64Array, k: nu
   for (let i = 0; i < n; i++) responses[i] = y[i] - yMean;
   const dimension = Math.min(p, SUBSPACE_DIMENSION_PER_COMPONENT * k);
   const basis = responseMomentSubspace(whitened.x, responses, n, p, dimension).vectors;
-  // Projected rows, with a leading 1 when each component has its own offset.
+  // Projected rows, with a leading 1 when each component has its own offset. The moment needs
+  // every row, the subspace EM only enough for its K·m parameters: on more rows a seeded
+  // subsample (the lifted candidates are refined on every row afterwards).
   const offset = intercept ? 1 : 0;
   const m = basis.length + offset;
-  const projected = new Float64Array(n * m);
-  for (let i = 0; i < n; i++) {
-    if (intercept) projected[i * m] = 1;
+  const wanted = Math.max(SUBSPACE_MIN_ROWS, SUBSPACE_ROWS_PER_PARAMETER * k * m);
+  const rows = n > wanted ? sampleIndices(n, wanted, random) : null;
+  const used = rows ? rows.length : n;
+  const projected = new Float64Array(used * m);
+  const usedResponses = rows ? new Float64Array(used) : responses;
+  for (let t = 0; t < used; t++) {
+    const i = rows ? rows[t] : t;
+    if (rows) usedResponses[t] = responses[i];
+    if (intercept) projected[t * m] = 1;
     const row = i * p;
     for (let b = 0; b < basis.length; b++) {
       let z = 0;
       for (let j = 0; j < p; j++) z += whitened.x[row + j] * basis[b][j];
-      projected[i * m + offset + b] = z;
+      projected[t * m + offset + b] = z;
     }
   }
   const fits = [];
-  const memberships = new Float64Array(n * k);
+  const memberships = new Float64Array(used * k);
   for (let restart = 0; restart < SUBSPACE_RESTARTS; restart++) {
-    randomPartition(n, k, random, memberships);
-    const fit = subspaceMixtureFit(projected, responses, n, m, k, memberships, SUBSPACE_EM_ITERATIONS);
+    randomPartition(used, k, random, memberships);
+    const fit = subspaceMixtureFit(projected, usedResponses, used, m, k, memberships, SUBSPACE_EM_ITERATIONS);
     fits.push({ logLikelihood: fit.logLikelihood, coefficients: fit.coefficients });
   }
   fits.sort((a, b) => b.logLikelihood - a.logLikelihood);
