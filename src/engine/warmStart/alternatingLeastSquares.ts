@@ -45,11 +45,16 @@ export function alternatingLeastSquares(
   const factor = new Float64Array(q * q);
   const changedComponent = new Uint8Array(k);
   const previous = new Int32Array(n).fill(-1);
+  // Fitted values per row and component (n x k), recomputed only for the components whose
+  // coefficients changed since the last assignment: late iterations move a few rows and
+  // re-solve a few components, so most of the n·k·q products are reused.
+  const fitted = new Float64Array(n * k);
+  const stale = new Uint8Array(k).fill(1);
   counts.fill(0);
   let iterations = 0;
   for (; iterations < maxIterations; iterations++) {
     changedComponent.fill(0);
-    const moved = assign(design, n, q, y, coefficients, labels, best, changedComponent);
+    const moved = assign(design, n, q, y, coefficients, labels, best, changedComponent, fitted, stale);
     if (moved === 0) break;
     for (let i = 0; i < n; i++) {
       const from = previous[i];
@@ -65,11 +70,12 @@ export function alternatingLeastSquares(
     }
     for (let c = 0; c < k; c++) {
       if (!changedComponent[c] || counts[c] < minimumRows) continue;
+      stale[c] = 1;
       solveNormalEquations(grams.subarray(c * q * q, (c + 1) * q * q), rights.subarray(c * q, (c + 1) * q), q, factor, coefficients[c]);
     }
   }
   // Final exact solve per component by QR.
-  assign(design, n, q, y, coefficients, labels, best, changedComponent);
+  assign(design, n, q, y, coefficients, labels, best, changedComponent, fitted, stale);
   counts.fill(0);
   for (let i = 0; i < n; i++) counts[labels[i]]++;
   for (let c = 0; c < k; c++) {
@@ -81,9 +87,12 @@ export function alternatingLeastSquares(
       responses[m++] = y[i];
     }
     const qr = new HouseholderQR(rows.subarray(0, m * q), m, q);
-    if (qr.isFullRank) coefficients[c] = qr.solve(responses.subarray(0, m));
+    if (qr.isFullRank) {
+      coefficients[c] = qr.solve(responses.subarray(0, m));
+      stale[c] = 1;
+    }
   }
-  assign(design, n, q, y, coefficients, labels, best, changedComponent);
+  assign(design, n, q, y, coefficients, labels, best, changedComponent, fitted, stale);
   let exactRows = 0;
   const scales = new Float64Array(k);
   counts.fill(0);
@@ -108,19 +117,35 @@ function addOuterProduct(design: Float64Array, row: number, q: number, response:
   }
 }
 
-/** Labels each row with its smallest-|residual| component; returns how many labels changed. */
-function assign(design: Float64Array, n: number, q: number, y: Float64Array, coefficients: Float64Array[], labels: Int32Array, best: Float64Array, changedComponent: Uint8Array): number {
+/**
+ * Labels each row with its smallest-|residual| component; returns how many labels changed.
+ * `fitted` (n x k) holds each row's fitted value under each component; only the columns of
+ * components flagged in `stale` are recomputed, then the flags are cleared.
+ */
+function assign(design: Float64Array, n: number, q: number, y: Float64Array, coefficients: Float64Array[], labels: Int32Array, best: Float64Array, changedComponent: Uint8Array, fitted: Float64Array, stale: Uint8Array): number {
   const k = coefficients.length;
+  const recompute: Float64Array[] = [];
+  const columns: number[] = [];
+  for (let c = 0; c < k; c++) {
+    if (!stale[c]) continue;
+    recompute.push(coefficients[c]);
+    columns.push(c);
+    stale[c] = 0;
+  }
   let changed = 0;
   for (let i = 0; i < n; i++) {
+    // Row by row, so that each design row is read once while it is in cache.
     const row = i * q;
+    for (let s = 0; s < recompute.length; s++) {
+      const v = recompute[s];
+      let value = 0;
+      for (let j = 0; j < q; j++) value += design[row + j] * v[j];
+      fitted[i * k + columns[s]] = value;
+    }
     let label = 0;
     let smallest = Infinity;
     for (let c = 0; c < k; c++) {
-      const v = coefficients[c];
-      let fitted = 0;
-      for (let j = 0; j < q; j++) fitted += design[row + j] * v[j];
-      const r = Math.abs(y[i] - fitted);
+      const r = Math.abs(y[i] - fitted[i * k + c]);
       if (r < smallest) {
         smallest = r;
         label = c;
