@@ -109,15 +109,9 @@ export function splitAndMerge(data: RegressionData, ws: MixtureWorkspace, params
     if (best === split) rows.push(rowMap ? rowMap[i] : i);
   }
   if (rows.length < 2 * guards.minimumSize) return null;
-  const x = new Float64Array(rows.length * p);
-  const y = new Float64Array(rows.length);
-  rows.forEach((row, i) => {
-    x.set(data.x.subarray(row * p, row * p + p), i * p);
-    y[i] = data.y[row];
-  });
   let halves: MixtureFit;
   try {
-    halves = fitSubset({ x, y, n: rows.length, p }, { k: 2, seed: random.integer(2147483647), intercept: settings.intercept, model: settings.model, restarts: Math.min(settings.restarts, SPLIT_RESTARTS), tolerance: settings.tolerance, maxIterations: settings.maxIterations }, depth + 1);
+    halves = fitSubset(selectRows(data, rows), { k: 2, seed: random.integer(2147483647), intercept: settings.intercept, model: settings.model, restarts: Math.min(settings.restarts, SPLIT_RESTARTS), tolerance: settings.tolerance, maxIterations: settings.maxIterations }, depth + 1);
   } catch {
     return null;
   }
@@ -157,15 +151,9 @@ export function peelComponent(data: RegressionData, ws: MixtureWorkspace, params
   const remaining: number[] = [];
   for (let i = 0; i < n; i++) if (Math.abs(ws.residuals[i * k + keep]) > width) remaining.push(rowMap ? rowMap[i] : i);
   if (n - remaining.length < 2 * q || remaining.length < (k - 1) * guards.minimumSize) return null;
-  const x = new Float64Array(remaining.length * p);
-  const y = new Float64Array(remaining.length);
-  remaining.forEach((row, i) => {
-    x.set(data.x.subarray(row * p, row * p + p), i * p);
-    y[i] = data.y[row];
-  });
   let rest: MixtureFit;
   try {
-    rest = fitSubset({ x, y, n: remaining.length, p }, { k: k - 1, seed: random.integer(2147483647), intercept: settings.intercept, model: settings.model, restarts: settings.restarts, tolerance: settings.tolerance, maxIterations: settings.maxIterations }, depth + 1);
+    rest = fitSubset(selectRows(data, remaining), { k: k - 1, seed: random.integer(2147483647), intercept: settings.intercept, model: settings.model, restarts: settings.restarts, tolerance: settings.tolerance, maxIterations: settings.maxIterations }, depth + 1);
   } catch {
     return null;
   }
@@ -185,3 +173,14 @@ export const MAX_PEELING_DEPTH = 2;
 /** Random-partition restarts inside a split's two-component fit (two components rarely need more). */
 const SPLIT_RESTARTS = 3;
 
+/** The listed rows of the data (indices into data), as data of their own. */
+function selectRows(data: RegressionData, rows: readonly number[]): RegressionData {
+  const { p } = data;
+  const x = new Float64Array(rows.length * p);
+  const y = new Float64Array(rows.length);
+  rows.forEach((row, i) => {
+    x.set(data.x.subarray(row * p, row * p + p), i * p);
+    y[i] = data.y[row];
+  });
+  return { x, y, n: rows.length, p };
+}
