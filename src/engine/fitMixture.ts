@@ -18,7 +18,7 @@ import {
 } from "./mixture/starts";
 import { createParameters } from "./mixture/mixtureParameters";
 import { momentWarmStart } from "./warmStart/momentWarmStart";
-import { alternatingLeastSquares } from "./warmStart/alternatingLeastSquares";
+import { alternatingLeastSquares, EXACT_FIT_RELATIVE } from "./warmStart/alternatingLeastSquares";
 import { MAX_PEELING_DEPTH, PEEL_CANDIDATES, peelComponent, peelExactComponents, splitAndMerge } from "./mixture/restructuringMoves";
 
 // ---------------------------------------------------------------------------------------
@@ -49,12 +49,6 @@ const SNAP_ROUNDS = 2;
  * alternating least squares settles in a few steps; 50 leave room for slow last movers.
  */
 const EXACT_POLISH_ITERATIONS = 50;
-/**
- * Absolute residual, relative to SD(y), that counts as an exact fit of a row: least squares
- * on tens of coefficients leaves about 1e-14 relative, a row of another component misses by
- * the component separation.
- */
-const EXACT_FIT_RELATIVE = 1e-9;
 
 /**
  * Variance floor, relative to the variance of y: 1e-20 (σ ≥ 1e-10·SD(y)) is far below any

@@ -1,6 +1,6 @@
 import type { RegressionData } from "../mixtureTypes";
 import { sampleIndices, type Random } from "../random";
-import { alternatingLeastSquares, type AlternatingFit } from "./alternatingLeastSquares";
+import { alternatingLeastSquares, EXACT_FIT_RELATIVE, type AlternatingFit } from "./alternatingLeastSquares";
 import { subspaceMixtureFit, randomPartition } from "./subspaceMixtureFit";
 import { whitenPredictors, unwhitenCoefficients, whitenCoefficients, type WhitenedPredictors } from "./whitenPredictors";
 import { responseMomentSubspace } from "./responseMomentSubspace";
@@ -14,13 +14,6 @@ export interface MomentWarmStart {
   converged: boolean;
 }
 
-/**
- * Absolute residual, relative to the SD of y, that counts as an exact fit: rounding in a
- * least-squares fit of tens of coefficients leaves relative residuals near 1e-14, while a row
- * of another component misses by the component separation (0.1 or more of the SD in any
- * problem worth fitting).
- */
-const EXACT_FIT_RELATIVE = 1e-9;
 /** Subspace dimension per component: the top K eigenvectors miss 10-50% of each component when designs differ per component, 2K capture more. */
 const SUBSPACE_DIMENSION_PER_COMPONENT = 2;
 const SUBSPACE_RESTARTS = 6;
