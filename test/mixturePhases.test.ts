@@ -8,6 +8,7 @@ import { createParameters } from "../src/engine/mixture/mixtureParameters";
 import { mStepCoefficients, mStepVariances, mStepVariancesFromGram } from "../src/engine/mixture/mStep";
 import { computeResiduals } from "../src/engine/mixture/eStep";
 import { generateProblem } from "./support/mixtureProblem";
+import { ConcentrationSteps } from "../src/engine/mixture/concentrationSteps";
 
 describe("weighted least squares by scaled Cholesky of XᵀWX", () => {
   it("agrees with the Householder QR core to 1e-10 on a weighted design with columns of very different scale", () => {
@@ -116,5 +117,55 @@ describe("M-step variances from the Gram identity", () => {
     computeResiduals(ws, params);
     mStepVariances(ws, params, guards);
     for (let c = 0; c < 3; c++) expect(Math.abs(fromGram[c] - params.variances[c]) / params.variances[c]).toBeLessThan(1e-9);
+  });
+});
+
+describe("concentration steps (least trimmed squares C-steps)", () => {
+  // Invented noiseless two-line data: 300 rows of y = xᵀa, 200 of y = xᵀb, x standard normal
+  // in 6 dimensions.
+  function twoLines(): { design: Float64Array; y: Float64Array; n: number; q: number; a: Float64Array; b: Float64Array } {
+    const random = createRandom(41);
+    const q = 6;
+    const n = 500;
+    const a = Float64Array.from({ length: q }, () => random.normal());
+    const b = Float64Array.from({ length: q }, () => random.normal());
+    const design = new Float64Array(n * q);
+    const y = new Float64Array(n);
+    for (let i = 0; i < n; i++) {
+      const c = i < 300 ? a : b;
+      for (let j = 0; j < q; j++) {
+        design[i * q + j] = random.normal();
+        y[i] += design[i * q + j] * c[j];
+      }
+    }
+    return { design, y, n, q, a, b };
+  }
+
+  it("lands on the exact component from a start 10% away and counts all its rows (Rousseeuw & Van Driessen 2006)", () => {
+    const { design, y, n, q, a } = twoLines();
+    const start = a.map((v, j) => v + 0.1 * Math.abs(v) * (j % 2 === 0 ? 1 : -1));
+    const result = new ConcentrationSteps(design, n, q, y).run(start, 100, 20, 1e-9);
+    expect(result.exactRows).toBe(300);
+    for (let j = 0; j < q; j++) expect(Math.abs(result.coefficients[j] - a[j])).toBeLessThan(1e-12);
+  });
+
+  it("never raises the trimmed objective from one step to the next (Theorem 1 of Rousseeuw & Van Driessen 2006)", () => {
+    const { design, y, n, q, a, b } = twoLines();
+    const h = 100;
+    const trimmed = (c: Float64Array): number => {
+      const squares = Array.from({ length: n }, (_, i) => {
+        let fitted = 0;
+        for (let j = 0; j < q; j++) fitted += design[i * q + j] * c[j];
+        return (y[i] - fitted) ** 2;
+      }).sort((u, v) => u - v);
+      return squares.slice(0, h).reduce((sum, v) => sum + v, 0);
+    };
+    // A start between the two lines: the steps must still go downhill, step by step.
+    const start = a.map((v, j) => 0.6 * v + 0.4 * b[j]);
+    const steps = new ConcentrationSteps(design, n, q, y);
+    const path = [trimmed(start)];
+    for (let s = 1; s <= 6; s++) path.push(trimmed(steps.run(start, h, s, 1e-9).coefficients));
+    for (let s = 1; s < path.length; s++) expect(path[s]).toBeLessThanOrEqual(path[s - 1] * (1 + 1e-12));
+    expect(path[path.length - 1]).toBeLessThan(path[0]);
   });
 });

@@ -18,6 +18,7 @@ import {
 } from "./mixture/starts";
 import { createParameters } from "./mixture/mixtureParameters";
 import { momentWarmStart } from "./warmStart/momentWarmStart";
+import { ConcentrationSteps } from "./mixture/concentrationSteps";
 import { alternatingLeastSquares, EXACT_FIT_RELATIVE } from "./warmStart/alternatingLeastSquares";
 import { MAX_PEELING_DEPTH, PEEL_CANDIDATES, peelComponent, peelExactComponents, splitAndMerge } from "./mixture/restructuringMoves";
 
@@ -87,6 +88,14 @@ const SPLIT_MIN_GAIN = 1;
  * (see the driver); with fewer they keep them: cheap, and they do find two or three lines.
  */
 const PEELED_COMPONENTS_WITHOUT_PARTITIONS = 4;
+/**
+ * Concentration steps on a start heading for an exact fit: subsets of half the rows a component
+ * holds (at least 1.5q, so the least-squares fits stay well determined), at most 20 steps
+ * (starts that lead to an exact fit reach it within about ten).
+ */
+const CONCENTRATION_MIN_SUBSET = 1.5;
+const CONCENTRATION_SUBSET_FRACTION = 0.5;
+const CONCENTRATION_STEPS = 20;
 /** Peeling rounds after the main refinement (each removes at least one exact component). */
 const MAX_PEELING_ROUNDS = 3;
 
@@ -210,9 +219,13 @@ function fitMixtureAtDepth(data: RegressionData, options: MixtureOptions, depth:
     let params = makeParams();
     if (!params) return;
     let run = runEm(working, params, guards, SHORT_ITERATIONS, settings.tolerance, random, signal, null);
-    // A start heading for an exact fit (some variance already far below the data's) may run
-    // longer: reaching the exact fit ends the search.
-    if (iterations > SHORT_ITERATIONS && !run.converged && !isNoiseless(params, working) && smallestComponentVariance(params) <= NEAR_EXACT_VARIANCE_RELATIVE * working.yVariance) {
+    const headingForExact = (): boolean => !isNoiseless(params!, working) && smallestComponentVariance(params!) <= NEAR_EXACT_VARIANCE_RELATIVE * working.yVariance;
+    // A start heading for an exact fit (some variance already far below the data's): concentration
+    // steps from each component find the exact ones in a few cheap steps; failing that, EM
+    // may run longer, since reaching the exact fit ends the search.
+    let concentrated: MixtureParameters | null = null;
+    if (headingForExact()) concentrated = concentrateComponents(working, params, guards);
+    if (!concentrated && iterations > SHORT_ITERATIONS && !run.converged && headingForExact()) {
       run = runEm(working, params, guards, iterations - SHORT_ITERATIONS, settings.tolerance, random, signal, null);
     }
     if (!Number.isFinite(run.logLikelihood)) return;
@@ -220,7 +233,9 @@ function fitMixtureAtDepth(data: RegressionData, options: MixtureOptions, depth:
     // (linear, rate set by the smallest variance ratio) where hard assignment lands in a few
     // steps. A start that then fits every row exactly cannot be beaten.
     let peelFrom = params;
-    if (!isNoiseless(params, working) && smallestComponentVariance(params) <= NEAR_EXACT_VARIANCE_RELATIVE * working.yVariance) {
+    if (concentrated) {
+      peelFrom = concentrated;
+    } else if (headingForExact()) {
       const exact = exactFitByHardAssignment(working, params, guards);
       if (exact) {
         params = exact;
@@ -576,6 +591,29 @@ function snapNearExactComponents(ws: MixtureWorkspace, params: MixtureParameters
     }
   }
   return snapped ? parametersFromCoefficients(ws, coefficients, guards) : null;
+}
+
+/**
+ * Concentration steps (Rousseeuw & Van Driessen 2006; see mixture/concentrationSteps.ts)
+ * from every component of `params` on the working rows, with subsets of half the rows the
+ * component holds (at least 1.5q): the components that end fitting at least 2q rows to
+ * rounding level (the exact-peeling criterion) take the exact coefficients. Returns the
+ * parameters when at least one component turned exact, else null.
+ */
+function concentrateComponents(ws: MixtureWorkspace, params: MixtureParameters, guards: Guards): MixtureParameters | null {
+  const { n, q, k } = ws;
+  const steps = new ConcentrationSteps(ws.design, n, q, ws.y);
+  const coefficients = params.coefficients.slice();
+  const tolerance = EXACT_FIT_RELATIVE * Math.sqrt(ws.yVariance);
+  let found = 0;
+  for (let c = 0; c < k; c++) {
+    const subset = Math.max(Math.ceil(CONCENTRATION_MIN_SUBSET * q), Math.floor(CONCENTRATION_SUBSET_FRACTION * params.weights[c] * n));
+    const result = steps.run(params.coefficients.subarray(c * q, c * q + q), subset, CONCENTRATION_STEPS, tolerance);
+    if (result.exactRows < 2 * q) continue;
+    coefficients.set(result.coefficients, c * q);
+    found++;
+  }
+  return found > 0 ? parametersFromCoefficients(ws, coefficients, guards) : null;
 }
 
 /** A start from a hard partition: memberships 0/1, then one M-step. */
