@@ -223,7 +223,7 @@ function fitMixtureAtDepth(data: RegressionData, options: MixtureOptions, depth:
     // A start heading for an exact fit (some variance already far below the data's): concentration
     // steps from each component find the exact ones in a few cheap steps; failing that, EM
     // may run longer, since reaching the exact fit ends the search.
-    let concentrated: MixtureParameters | null = null;
+    let concentrated: ReturnType<typeof concentrateComponents> = null;
     if (headingForExact()) concentrated = concentrateComponents(working, params, guards);
     if (!concentrated && iterations > SHORT_ITERATIONS && !run.converged && headingForExact()) {
       run = runEm(working, params, guards, iterations - SHORT_ITERATIONS, settings.tolerance, random, signal, null);
@@ -233,10 +233,11 @@ function fitMixtureAtDepth(data: RegressionData, options: MixtureOptions, depth:
     // (linear, rate set by the smallest variance ratio) where hard assignment lands in a few
     // steps. A start that then fits every row exactly cannot be beaten.
     let peelFrom = params;
-    if (concentrated) {
-      peelFrom = concentrated;
-    } else if (headingForExact()) {
-      const exact = exactFitByHardAssignment(working, params, guards);
+    if (concentrated && concentrated.exactComponents < k) {
+      // Some components exact, others not: peeled below.
+      peelFrom = concentrated.params;
+    } else if (concentrated || headingForExact()) {
+      const exact = exactFitByHardAssignment(working, concentrated ? concentrated.params : params, guards);
       if (exact) {
         params = exact;
         peelFrom = params;
@@ -598,9 +599,9 @@ function snapNearExactComponents(ws: MixtureWorkspace, params: MixtureParameters
  * from every component of `params` on the working rows, with subsets of half the rows the
  * component holds (at least 1.5q): the components that end fitting at least 2q rows to
  * rounding level (the exact-peeling criterion) take the exact coefficients. Returns the
- * parameters when at least one component turned exact, else null.
+ * parameters and how many components turned exact, or null when none did.
  */
-function concentrateComponents(ws: MixtureWorkspace, params: MixtureParameters, guards: Guards): MixtureParameters | null {
+function concentrateComponents(ws: MixtureWorkspace, params: MixtureParameters, guards: Guards): { params: MixtureParameters; exactComponents: number } | null {
   const { n, q, k } = ws;
   const steps = new ConcentrationSteps(ws.design, n, q, ws.y);
   const coefficients = params.coefficients.slice();
@@ -613,7 +614,7 @@ function concentrateComponents(ws: MixtureWorkspace, params: MixtureParameters, 
     coefficients.set(result.coefficients, c * q);
     found++;
   }
-  return found > 0 ? parametersFromCoefficients(ws, coefficients, guards) : null;
+  return found > 0 ? { params: parametersFromCoefficients(ws, coefficients, guards), exactComponents: found } : null;
 }
 
 /** A start from a hard partition: memberships 0/1, then one M-step. */
