@@ -1,7 +1,7 @@
 import type { RegressionData } from "../mixtureTypes";
 import { sampleIndices, type Random } from "../random";
 import { alternatingLeastSquares, EXACT_FIT_RELATIVE, type AlternatingFit } from "./alternatingLeastSquares";
-import { subspaceMixtureFit, randomPartition } from "./subspaceMixtureFit";
+import { subspaceMixtureFit, randomPartition, type SubspaceMixture } from "./subspaceMixtureFit";
 import { whitenPredictors, unwhitenCoefficients, whitenCoefficients, type WhitenedPredictors } from "./whitenPredictors";
 import { responseMomentSubspace } from "./responseMomentSubspace";
 
@@ -25,10 +25,15 @@ const SUBSPACE_RESTARTS = 6;
 const SUBSPACE_ROWS_PER_PARAMETER = 15;
 const SUBSPACE_MIN_ROWS = 1000;
 const SUBSPACE_EM_ITERATIONS = 25;
+/**
+ * Subspace EM iterations after which the restarts are ranked by likelihood and all but the
+ * best LIFTED_CANDIDATES dropped: by then the runs that lead somewhere have pulled ahead.
+ */
+const SCREENING_ITERATIONS = 8;
 /** Subspace fits (best likelihood first) lifted and refined in full dimension. */
 const LIFTED_CANDIDATES = 3;
 /** Hard-assignment iterations per lifted candidate. */
-const ALS_ITERATIONS = 40;
+const ALS_ITERATIONS = 25;
 /** The warm start counts as converged when every component's RMS residual is at most this fraction of the SD of y. */
 const CONVERGED_CERTIFICATE = 0.25;
 
@@ -213,16 +218,19 @@ function subspaceCandidates(whitened: WhitenedPredictors, y: Float64Array, k: nu
       projected[t * m + offset + b] = z;
     }
   }
-  const fits = [];
-  const memberships = new Float64Array(used * k);
+  // Every restart runs SCREENING_ITERATIONS; only the best LIFTED_CANDIDATES go on to
+  // SUBSPACE_EM_ITERATIONS in all (EM resumes from its memberships, so a screened run that goes
+  // on is the same as one run of the full length).
+  let fits: SubspaceMixture[] = [];
   for (let restart = 0; restart < SUBSPACE_RESTARTS; restart++) {
-    randomPartition(used, k, random, memberships);
-    const fit = subspaceMixtureFit(projected, usedResponses, used, m, k, memberships, SUBSPACE_EM_ITERATIONS);
-    fits.push({ logLikelihood: fit.logLikelihood, coefficients: fit.coefficients });
+    const memberships = randomPartition(used, k, random, new Float64Array(used * k));
+    fits.push(subspaceMixtureFit(projected, usedResponses, used, m, k, memberships, SCREENING_ITERATIONS));
   }
   fits.sort((a, b) => b.logLikelihood - a.logLikelihood);
+  fits = fits.slice(0, LIFTED_CANDIDATES).map((fit) => subspaceMixtureFit(projected, usedResponses, used, m, k, fit.memberships, SUBSPACE_EM_ITERATIONS - SCREENING_ITERATIONS));
+  fits.sort((a, b) => b.logLikelihood - a.logLikelihood);
   // Whitened coefficients, intercept (in y's own units) first when there is one.
-  return fits.slice(0, LIFTED_CANDIDATES).map((fit) => fit.coefficients.map((g) => {
+  return fits.map((fit) => fit.coefficients.map((g) => {
     const c = new Float64Array(p + offset);
     if (intercept) c[0] = yMean + g[0];
     for (let b = 0; b < basis.length; b++) {
