@@ -12,10 +12,10 @@ import { createRandom } from "../src/engine/random";
 import { leastSquares } from "../src/engine/leastSquares";
 import { fitMixture } from "../src/engine/fitMixture";
 import { noiselessProblem, noisyProblem, type GeneratedProblem } from "./generateProblems";
-import { emFromTruth } from "./emFromTruth";
+import { carefulEm, emFromTruth } from "./plainEm";
 
 /** Relative error at or below which a component counts as recovered (issue 3, item 6(i)). */
-const RECOVERY_TOLERANCE = 1e-6;
+export const RECOVERY_TOLERANCE = 1e-6;
 const POLISH_ITERATIONS = 100;
 
 /** Full design with the intercept column when asked. */
@@ -114,7 +114,7 @@ function matchComponents(estimated: Float64Array[], truth: Float64Array[]): numb
 }
 
 /** Largest relative error ‖β̂_k − β_k‖ / ‖β_k‖ over the matched components. */
-function worstRelativeError(estimated: Float64Array[], truth: Float64Array[]): number {
+export function worstRelativeError(estimated: Float64Array[], truth: Float64Array[]): number {
   const match = matchComponents(estimated, truth);
   let worst = 0;
   truth.forEach((t, index) => {

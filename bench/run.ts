@@ -2,6 +2,7 @@ import { runSpeedBench } from "./speed";
 import { runAccuracyBench } from "./accuracy";
 import { runScanAccuracyBench } from "./scanAccuracy";
 import { runFunctionsBench } from "./functionsBench";
+import { runBaselineBench } from "./baselineBench";
 
 /**
  * `npm run bench`: prints speed and accuracy figures (never asserted; see the unit tests for
@@ -10,6 +11,7 @@ import { runFunctionsBench } from "./functionsBench";
 const SECTIONS: Record<string, (print: (line: string) => void) => unknown> = {
   speed: runSpeedBench,
   accuracy: runAccuracyBench,
+  baseline: runBaselineBench,
   scan: runScanAccuracyBench,
   functions: runFunctionsBench,
 };
