@@ -142,7 +142,9 @@ export function splitAndMerge(data: RegressionData, ws: MixtureWorkspace, params
 /**
  * Keeps component `keep`, removes the rows within PEEL_WIDTH noise SDs of it and fits K − 1
  * components to the other rows (a recursive fitMixture): the remove-and-repeat idea of moment
- * descent (METHODS.md) applied to a noisy EM fit. Returns the combined start or null.
+ * descent (METHODS.md) applied to a noisy EM fit. The fit's other K − 1 components are the
+ * sub-fit's first start (as in exact peeling), so with four or more of them the sub-fit skips
+ * its random partitions. Returns the combined start or null.
  */
 export function peelComponent(data: RegressionData, ws: MixtureWorkspace, params: MixtureParameters, keep: number, guards: Guards, settings: SubsetSettings, random: Random, rowMap: Int32Array | null, depth: number, fitSubset: SubsetFit): MixtureParameters | null {
   const { n, p, q, k } = ws;
@@ -153,7 +155,10 @@ export function peelComponent(data: RegressionData, ws: MixtureWorkspace, params
   if (n - remaining.length < 2 * q || remaining.length < (k - 1) * guards.minimumSize) return null;
   let rest: MixtureFit;
   try {
-    rest = fitSubset(selectRows(data, remaining), { k: k - 1, seed: random.integer(2147483647), intercept: settings.intercept, model: settings.model, restarts: settings.restarts, tolerance: settings.tolerance, maxIterations: settings.maxIterations }, depth + 1);
+    const others = new Float64Array((k - 1) * q);
+    let slot = 0;
+    for (let c = 0; c < k; c++) if (c !== keep) others.set(params.coefficients.subarray(c * q, c * q + q), (slot++) * q);
+    rest = fitSubset(selectRows(data, remaining), { k: k - 1, seed: random.integer(2147483647), intercept: settings.intercept, model: settings.model, restarts: settings.restarts, tolerance: settings.tolerance, maxIterations: settings.maxIterations }, depth + 1, others);
   } catch {
     return null;
   }
