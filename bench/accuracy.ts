@@ -155,6 +155,12 @@ export function fitForBench(problem: GeneratedProblem, seed: number): FitOutcome
   return { coefficients, certificate: fit.warmStart.certificate, converged: fit.warmStart.converged };
 }
 
+/** Problem `s` of the noiseless grid for (d, K, n/(dK)) and the seed it was drawn from (also the fit's seed). */
+export function noiselessBenchProblem(d: number, k: number, factor: number, s: number): { problem: GeneratedProblem; problemSeed: number } {
+  const problemSeed = 1000 * d + 100 * k + 10 * factor + s;
+  return { problem: noiselessProblem(d, k, factor, createRandom(problemSeed)), problemSeed };
+}
+
 /** (d, K) cases of the grid: small and large d, few and many components, d = 50 with K = 7. */
 const NOISELESS_CASES: Array<[number, number]> = [[5, 2], [10, 3], [20, 5], [10, 7], [30, 4], [50, 7]];
 const ROWS_PER_PREDICTOR = [6, 10, 14];
@@ -173,8 +179,7 @@ export function runAccuracyBench(print: (line: string) => void): void {
       let slowest = 0;
       let rows = 0;
       for (let s = 0; s < NOISELESS_SEEDS_PER_CASE; s++) {
-        const problemSeed = 1000 * d + 100 * k + 10 * factor + s;
-        const problem = noiselessProblem(d, k, factor, createRandom(problemSeed));
+        const { problem, problemSeed } = noiselessBenchProblem(d, k, factor, s);
         rows = problem.data.n;
         const began = performance.now();
         const fit = fitForBench(problem, problemSeed);
