@@ -453,10 +453,14 @@ function fitMixtureAtDepth(data: RegressionData, options: MixtureOptions, depth:
   // 4. Reports.
   // The warm start is trusted when the best starts agree and either the moment certificate
   // shrank enough or the winning fit is exact on every row (which no start can improve on).
+  // When split-and-merge or noisy peeling beat every start, the starts missed the fit
+  // reported: not trusted either, unless that fit is exact.
   const momentResult = moment as ReturnType<typeof momentWarmStart>;
-  const momentConverged = momentResult === null || momentResult.converged || isNoiseless(params, full);
+  const noiseless = isNoiseless(params, full);
+  const momentConverged = momentResult === null || momentResult.converged || noiseless;
+  const startsMissed = (best.method === "split-and-merge" || best.method === "peeling") && !noiseless;
   const warmStart: WarmStartReport = {
-    converged: !startsDisagree && momentConverged,
+    converged: !startsDisagree && momentConverged && !startsMissed,
     method: best.method,
     certificate: momentResult ? momentResult.certificate : NaN,
     startsTried: candidates.length,
