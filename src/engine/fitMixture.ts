@@ -393,6 +393,10 @@ function fitMixtureAtDepth(data: RegressionData, options: MixtureOptions, depth:
 
   let params = best.params;
   let subsampleIterations = 0;
+  // Whether the full workspace's memberships are those of `params` (EM ends with an E-step at
+  // its final parameters), so the reports need not compute them again: a full-data pass saved
+  // on large inputs. Anything below that changes the memberships clears it.
+  let membershipsCurrent = false;
   if (working !== full) {
     subsampleIterations = run.iterations;
     // On very large inputs, an intermediate subsample first: EM's steps shrink the distance to
@@ -406,6 +410,7 @@ function fitMixtureAtDepth(data: RegressionData, options: MixtureOptions, depth:
     // Finish on all rows.
     const fromSubsample = run;
     run = runEm(full, params, guards, settings.maxIterations, settings.tolerance, random, signal, path);
+    membershipsCurrent = true;
     run.reseeds += fromSubsample.reseeds;
     run.varianceBoundActive ||= fromSubsample.varianceBoundActive;
   }
@@ -417,6 +422,7 @@ function fitMixtureAtDepth(data: RegressionData, options: MixtureOptions, depth:
   for (let round = 0; round < MAX_PEELING_ROUNDS; round++) {
     const peeledParams = peelExactComponents(data, full, params, guards, settings, random, depth, null, fitMixtureAtDepth);
     if (!peeledParams) break;
+    membershipsCurrent = false;
     const peeledRun = runEm(full, peeledParams, guards, settings.maxIterations, settings.tolerance, random, signal, null);
     if (!(peeledRun.logLikelihood > logLikelihood)) break;
     params = peeledParams;
@@ -432,6 +438,7 @@ function fitMixtureAtDepth(data: RegressionData, options: MixtureOptions, depth:
   // 3b. Noiseless data: finish with exact fits on the hard partition.
   let polished = false;
   if (isNoiseless(params, full)) {
+    membershipsCurrent = false;
     const polishedParams = hardAssignmentPolish(full, params, guards);
     if (polishedParams) {
       computeResiduals(full, polishedParams);
@@ -495,7 +502,7 @@ function fitMixtureAtDepth(data: RegressionData, options: MixtureOptions, depth:
   if (largestVariance > guards.varianceFloor * 1.000001 && smallestVariance <= VARIANCE_RATIO_BOUND * largestVariance * 1.000001) {
     warnings.push("The noise SDs of the components hit the bound on their ratio (one is over 1000 times another). A component may be fitting a few rows almost exactly: try fewer components.");
   }
-  return assembleFit(full, params, logLikelihood, settings, warmStart, refinement, warnings, guards);
+  return assembleFit(full, params, logLikelihood, settings, warmStart, refinement, warnings, guards, undefined, membershipsCurrent);
 }
 
 /** EM iterations from `params` (updated in place) until the relative change drops below tolerance. */
@@ -694,13 +701,17 @@ function assembleFit(
   warnings: string[],
   guards: Guards,
   exactSigma?: number,
+  membershipsCurrent = false,
 ): MixtureFit {
   const { n, p, q, k } = ws;
-  // Memberships from the reported parameters themselves, in one more E-step pass: the
-  // workspace may still hold those of a rejected proposal or of the same components in
-  // another order (restructuring moves and sub-fits reorder components).
-  computeResiduals(ws, unordered);
-  eStep(ws, unordered);
+  // Memberships from the reported parameters themselves, in one more E-step pass, unless the
+  // driver knows the workspace holds exactly those: it may still hold the memberships of a
+  // rejected proposal or of the same components in another order (restructuring moves and
+  // sub-fits reorder components).
+  if (!membershipsCurrent) {
+    computeResiduals(ws, unordered);
+    eStep(ws, unordered);
+  }
   const order = canonicalOrder(unordered);
   const params = permuteParameters(unordered, order);
   const memberships = new Float64Array(n * k);
