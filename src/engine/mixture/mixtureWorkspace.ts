@@ -59,14 +59,17 @@ export function createWorkspace(data: RegressionData, k: number, intercept: bool
   const y = new Float64Array(n);
   // The full data's predictors are used in place; a subsample gets its own copy.
   const predictors = rows ? new Float64Array(n * p) : data.x.subarray(0, n * p);
+  // Copied value by value: a subarray view per row would allocate an object per row.
+  const x = data.x;
   for (let i = 0; i < n; i++) {
     const source = rows ? rows[i] : i;
     y[i] = data.y[source];
-    const row = data.x.subarray(source * p, source * p + p);
-    if (rows) predictors.set(row, i * p);
+    const from = source * p;
     const offset = i * q;
     if (intercept) design[offset] = 1;
-    design.set(row, intercept ? offset + 1 : offset);
+    const to = intercept ? offset + 1 : offset;
+    for (let j = 0; j < p; j++) design[to + j] = x[from + j];
+    if (rows) for (let j = 0; j < p; j++) predictors[i * p + j] = x[from + j];
   }
   // Two passes over the rows (means, then centred squares: Chan, Golub & LeVeque 1983), each
   // reading rows in order rather than one strided sweep per predictor.
