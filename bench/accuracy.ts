@@ -166,7 +166,10 @@ const NOISELESS_CASES: Array<[number, number]> = [[5, 2], [10, 3], [20, 5], [10,
 const ROWS_PER_PREDICTOR = [6, 10, 14];
 const NOISELESS_SEEDS_PER_CASE = 3;
 const NOISY_CASES: Array<[number, number]> = [[5, 2], [10, 3], [20, 5]];
-const NOISY_SEEDS_PER_CASE = 3;
+/** Seeds per noisy case; problems 0-2 at 10 rows per predictor per component are those of earlier runs. */
+const NOISY_SEEDS_PER_CASE = 5;
+/** Rows per predictor per component of the noisy problems: the grid's middle size, and a larger one where the estimator's own small-sample error has shrunk. */
+const NOISY_ROWS_PER_PREDICTOR = [10, 30];
 
 export function runAccuracyBench(print: (line: string) => void): void {
   print("Accuracy (i): noiseless, per-component design covariances; recovered = worst relative error <= 1e-6");
@@ -198,21 +201,23 @@ export function runAccuracyBench(print: (line: string) => void): void {
   print("Accuracy (ii): noisy, intercepts, shifted design means; error = fit error / labelled-oracle error");
   print("  (EM from truth: the product's EM started at the true parameters, the error of the likelihood maximum itself)");
   print(`  ${"d".padStart(3)} ${"K".padStart(2)} ${"n/(dK)".padStart(6)} ${"median".padStart(7)} ${"worst".padStart(7)}   EM from truth: ${"median".padStart(7)} ${"worst".padStart(7)}`);
-  for (const [d, k] of NOISY_CASES) {
-    const ratios: number[] = [];
-    const floors: number[] = [];
-    for (let s = 0; s < NOISY_SEEDS_PER_CASE; s++) {
-      const problemSeed = 50000 + 1000 * d + 100 * k + s;
-      const problem = noisyProblem(d, k, 10, createRandom(problemSeed));
-      const { design, q } = fullDesign(problem);
-      const oracle = problem.coefficients.map((c, label) => fitLabel(design, q, problem.data.y, problem.labels, label) ?? c);
-      const oracleError = totalError(oracle, problem.coefficients);
-      const fit = fitForBench(problem, problemSeed);
-      ratios.push(fit ? totalError(fit.coefficients, problem.coefficients) / oracleError : Infinity);
-      floors.push(totalError(emFromTruth(problem), problem.coefficients) / oracleError);
+  for (const factor of NOISY_ROWS_PER_PREDICTOR) {
+    for (const [d, k] of NOISY_CASES) {
+      const ratios: number[] = [];
+      const floors: number[] = [];
+      for (let s = 0; s < NOISY_SEEDS_PER_CASE; s++) {
+        const problemSeed = 50000 + (factor === 10 ? 0 : 10 * factor) + 1000 * d + 100 * k + s;
+        const problem = noisyProblem(d, k, factor, createRandom(problemSeed));
+        const { design, q } = fullDesign(problem);
+        const oracle = problem.coefficients.map((c, label) => fitLabel(design, q, problem.data.y, problem.labels, label) ?? c);
+        const oracleError = totalError(oracle, problem.coefficients);
+        const fit = fitForBench(problem, problemSeed);
+        ratios.push(fit ? totalError(fit.coefficients, problem.coefficients) / oracleError : Infinity);
+        floors.push(totalError(emFromTruth(problem), problem.coefficients) / oracleError);
+      }
+      const median = (values: number[]): string => values.slice().sort((a, b) => a - b)[Math.floor(values.length / 2)].toFixed(2).padStart(7);
+      const worst = (values: number[]): string => Math.max(...values).toFixed(2).padStart(7);
+      print(`  ${String(d).padStart(3)} ${String(k).padStart(2)} ${String(factor).padStart(6)} ${median(ratios)} ${worst(ratios)}                  ${median(floors)} ${worst(floors)}`);
     }
-    const median = (values: number[]): string => values.slice().sort((a, b) => a - b)[Math.floor(values.length / 2)].toFixed(2).padStart(7);
-    const worst = (values: number[]): string => Math.max(...values).toFixed(2).padStart(7);
-    print(`  ${String(d).padStart(3)} ${String(k).padStart(2)} ${"10".padStart(6)} ${median(ratios)} ${worst(ratios)}                  ${median(floors)} ${worst(floors)}`);
   }
 }
