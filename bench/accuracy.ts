@@ -10,6 +10,7 @@
  */
 import { createRandom } from "../src/engine/random";
 import { leastSquares } from "../src/engine/leastSquares";
+import { gatherRows, rowsWithLabel } from "../src/engine/rowSubset";
 import { fitMixture } from "../src/engine/fitMixture";
 import { noiselessProblem, noisyProblem, type GeneratedProblem } from "./generateProblems";
 import { carefulEm, emFromTruth } from "./plainEm";
@@ -32,20 +33,11 @@ function fullDesign(problem: GeneratedProblem): { design: Float64Array; q: numbe
 
 /** Least squares on the rows with the given label; null when too few rows. */
 function fitLabel(design: Float64Array, q: number, y: Float64Array, labels: Int32Array, label: number): Float64Array | null {
-  const n = y.length;
-  let m = 0;
-  for (let i = 0; i < n; i++) if (labels[i] === label) m++;
-  if (m < q) return null;
-  const rows = new Float64Array(m * q);
-  const responses = new Float64Array(m);
-  let t = 0;
-  for (let i = 0; i < n; i++) {
-    if (labels[i] !== label) continue;
-    rows.set(design.subarray(i * q, i * q + q), t * q);
-    responses[t++] = y[i];
-  }
+  const rows = rowsWithLabel(labels, label);
+  if (rows.length < q) return null;
+  const own = gatherRows(design, q, y, rows);
   try {
-    return leastSquares(rows, m, q, responses).coefficients;
+    return leastSquares(own.matrix, rows.length, q, own.y).coefficients;
   } catch {
     return null;
   }

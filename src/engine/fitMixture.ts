@@ -2,6 +2,7 @@ import type { MixtureComponent, MixtureFit, MixtureModel, MixtureOptions, Refine
 import { SkeinError } from "./errors";
 import { createRandom, sampleIndices, type Random } from "./random";
 import { leastSquares } from "./leastSquares";
+import { gatherRows, selectRows } from "./rowSubset";
 import { createWorkspace, type MixtureWorkspace } from "./mixture/mixtureWorkspace";
 import { permuteParameters, type MixtureParameters } from "./mixture/mixtureParameters";
 import { computeResiduals, eStep } from "./mixture/eStep";
@@ -282,16 +283,7 @@ function fitMixtureAtDepth(data: RegressionData, options: MixtureOptions, depth:
   tryStart("moment-subspace", () => {
     const momentRows = Math.max(MOMENT_MIN_ROWS, MOMENT_ROWS_PER_PARAMETER * k * working.q);
     let momentData: RegressionData = { x: working.predictors, y: working.y, n: working.n, p: working.p };
-    if (working.n > 2 * momentRows) {
-      const rows = sampleIndices(working.n, momentRows, random);
-      const x = new Float64Array(rows.length * working.p);
-      const y = new Float64Array(rows.length);
-      rows.forEach((row, i) => {
-        x.set(working.predictors.subarray(row * working.p, (row + 1) * working.p), i * working.p);
-        y[i] = working.y[row];
-      });
-      momentData = { x, y, n: rows.length, p: working.p };
-    }
+    if (working.n > 2 * momentRows) momentData = selectRows(momentData, sampleIndices(working.n, momentRows, random));
     moment = momentWarmStart(momentData, k, intercept, random);
     if (!moment) return null;
     const coefficients = new Float64Array(k * working.q);
@@ -585,15 +577,10 @@ function snapNearExactComponents(ws: MixtureWorkspace, params: MixtureParameters
       }
       // Any q rows are fitted exactly by some vector: only clearly more identify the component.
       if (rows.length < 2 * q) break;
-      const design = new Float64Array(rows.length * q);
-      const responses = new Float64Array(rows.length);
-      rows.forEach((i, t) => {
-        design.set(ws.design.subarray(i * q, i * q + q), t * q);
-        responses[t] = ws.y[i];
-      });
+      const chosen = gatherRows(ws.design, q, ws.y, rows);
       let fit: ReturnType<typeof leastSquares>;
       try {
-        fit = leastSquares(design, rows.length, q, responses);
+        fit = leastSquares(chosen.matrix, rows.length, q, chosen.y);
       } catch {
         break;
       }

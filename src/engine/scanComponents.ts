@@ -7,6 +7,7 @@ import { checkSeparation, degenerateComponentReason } from "./checkSeparation";
 import { computeMemberships } from "./computeMemberships";
 import { createRandom, shuffleInPlace } from "./random";
 import { regressionMatrix } from "./regressionMatrix";
+import { gatherRows, selectRows } from "./rowSubset";
 
 /**
  * Suggestion rule, in words (the README repeats it):
@@ -212,12 +213,7 @@ function addComponentStart(data: RegressionData, fit: MixtureFit): MixtureFit | 
   const order = Array.from({ length: n }, (_, i) => i).sort((a, b) => rowLogLikelihood[a] - rowLogLikelihood[b]);
   const take = Math.min(n, Math.max(2 * (q + 1), Math.round(n / k)));
   const chosen = order.slice(0, take);
-  const subX = new Float64Array(take * q);
-  const subY = new Float64Array(take);
-  chosen.forEach((row, t) => {
-    subX.set(matrix.subarray(row * q, row * q + q), t * q);
-    subY[t] = data.y[row];
-  });
+  const { matrix: subX, y: subY } = gatherRows(matrix, q, data.y, chosen);
   let least;
   try {
     least = leastSquares(subX, take, q, subY, { intercept: fit.intercept });
@@ -267,7 +263,7 @@ function heldOutLogLikelihoods(data: RegressionData, fit: MixtureFit, options: S
     const held: number[] = [];
     const kept: number[] = [];
     for (let t = 0; t < n; t++) (t % folds === f ? held : kept).push(order[t]);
-    const training = subsetRows(data, kept);
+    const training = selectRows(data, kept);
     let trained: MixtureFit;
     try {
       trained = fitMixture(training, { k: fit.k, seed: seed + f, intercept: fit.intercept, model: fit.model, restarts: options.restarts, previous: fit, signal: options.signal });
@@ -275,7 +271,7 @@ function heldOutLogLikelihoods(data: RegressionData, fit: MixtureFit, options: S
       if (error instanceof SkeinError && error.code === "cancelled") throw error;
       return null;
     }
-    const test = subsetRows(data, held);
+    const test = selectRows(data, held);
     const { matrix, q } = regressionMatrix(test.x, test.n, p, fit.intercept);
     const rowValues = new Float64Array(test.n);
     computeMemberships(trained, matrix, q, test.y, test.x, test.n, rowValues);
@@ -305,13 +301,3 @@ function formatShort(value: number): string {
   return Number(value.toPrecision(3)).toString();
 }
 
-function subsetRows(data: RegressionData, rows: readonly number[]): RegressionData {
-  const { p } = data;
-  const y = new Float64Array(rows.length);
-  const x = new Float64Array(rows.length * p);
-  rows.forEach((row, t) => {
-    y[t] = data.y[row];
-    x.set(data.x.subarray(row * p, row * p + p), t * p);
-  });
-  return { y, x, n: rows.length, p };
-}

@@ -6,6 +6,7 @@ import { observedInformation } from "./observedInformation";
 import { alignToPrevious } from "./alignComponents";
 import { createRandom } from "./random";
 import { fitMixture } from "./fitMixture";
+import { selectRows } from "./rowSubset";
 
 export interface StandardErrorOptions {
   method?: "observed-information" | "bootstrap";
@@ -139,22 +140,17 @@ function bootstrapErrors(data: RegressionData, fit: MixtureFit, options: Standar
     throw new SkeinError("bad-input", `The number of bootstrap replicates must be a whole number of at least 2, not ${replicates}.`);
   }
   const random = createRandom(options.seed ?? fit.seed);
-  const { n, p } = data;
+  const { n } = data;
   const k = fit.k;
   const length = fit.components[0].coefficients.length;
   // Running sums for the SD of each parameter over usable replicates.
   const sum = new Float64Array(k * (length + 2));
   const sumSquares = new Float64Array(k * (length + 2));
   let usable = 0;
-  const y = new Float64Array(n);
-  const x = new Float64Array(n * p);
+  const drawn = new Int32Array(n);
   for (let b = 0; b < replicates; b++) {
-    for (let i = 0; i < n; i++) {
-      const source = random.integer(n);
-      y[i] = data.y[source];
-      x.set(data.x.subarray(source * p, source * p + p), i * p);
-    }
-    const resample: RegressionData = { y: y.slice(), x: x.slice(), n, p };
+    for (let i = 0; i < n; i++) drawn[i] = random.integer(n);
+    const resample = selectRows(data, drawn);
     const replicateSeed = random.integer(2147483647);
     let refit: MixtureFit;
     try {

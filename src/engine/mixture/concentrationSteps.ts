@@ -1,4 +1,5 @@
 import { HouseholderQR } from "../householderQR";
+import { gatherRows } from "../rowSubset";
 import { choleskyScratchLength, scaledCholeskySolve } from "./scaledCholeskySolve";
 
 /**
@@ -77,16 +78,10 @@ export class ConcentrationSteps {
     let exactRows = 0;
     for (let i = 0; i < n; i++) if (this.absolute[i] <= exactTolerance) this.rows[exactRows++] = i;
     if (exactRows > q) {
-      const rows = new Float64Array(exactRows * q);
-      const responses = new Float64Array(exactRows);
-      for (let t = 0; t < exactRows; t++) {
-        const i = this.rows[t];
-        rows.set(this.design.subarray(i * q, i * q + q), t * q);
-        responses[t] = this.y[i];
-      }
-      const qr = new HouseholderQR(rows, exactRows, q);
+      const exact = gatherRows(this.design, q, this.y, this.rows, exactRows);
+      const qr = new HouseholderQR(exact.matrix, exactRows, q);
       if (qr.isFullRank) {
-        coefficients.set(qr.solve(responses));
+        coefficients.set(qr.solve(exact.y));
         this.residualsAndThreshold(coefficients, h);
         exactRows = 0;
         for (let i = 0; i < n; i++) if (this.absolute[i] <= exactTolerance) exactRows++;

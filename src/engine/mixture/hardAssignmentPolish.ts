@@ -5,6 +5,7 @@ import { leastSquares } from "../leastSquares";
 import { computeResiduals } from "./eStep";
 import { mStepPredictorModel, mStepVariances, type Guards } from "./mStep";
 import { setHardMemberships } from "./starts";
+import { gatherRows, rowsWithLabel } from "../rowSubset";
 
 /** Relabel-and-refit rounds before giving up on a hard partition that keeps changing. */
 const MAX_POLISH_ROUNDS = 50;
@@ -35,16 +36,9 @@ export function hardAssignmentPolish(ws: MixtureWorkspace, start: MixtureParamet
     for (let i = 0; i < n; i++) counts[labels[i]]++;
     for (let c = 0; c < k; c++) {
       if (counts[c] < guards.minimumSize) return null;
-      const rows = new Float64Array(counts[c] * q);
-      const responses = new Float64Array(counts[c]);
-      let filled = 0;
-      for (let i = 0; i < n; i++) {
-        if (labels[i] !== c) continue;
-        rows.set(design.subarray(i * q, i * q + q), filled * q);
-        responses[filled++] = y[i];
-      }
+      const own = gatherRows(design, q, y, rowsWithLabel(labels, c));
       try {
-        params.coefficients.set(leastSquares(rows, counts[c], q, responses).coefficients, c * q);
+        params.coefficients.set(leastSquares(own.matrix, counts[c], q, own.y).coefficients, c * q);
       } catch {
         return null;
       }

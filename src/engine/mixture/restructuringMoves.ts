@@ -5,6 +5,7 @@ import type { MixtureWorkspace } from "./mixtureWorkspace";
 import type { Guards } from "./mStep";
 import { computeResiduals, eStep } from "./eStep";
 import { parametersFromCoefficients } from "./starts";
+import { selectRows } from "../rowSubset";
 
 /**
  * Moves that restructure a converged fit by fitting part of it afresh on a subset of rows:
@@ -46,7 +47,7 @@ const EXACT_RESIDUAL_RELATIVE = 1e-7;
  * a start for EM on all rows, or null when there is nothing to peel.
  */
 export function peelExactComponents(data: RegressionData, ws: MixtureWorkspace, params: MixtureParameters, guards: Guards, settings: SubsetSettings, random: Random, depth: number, rowMap: Int32Array | null, fitSubset: SubsetFit): MixtureParameters | null {
-  const { n, p, q, k } = ws;
+  const { n, q, k } = ws;
   // Rows a component fits within EXACT_RESIDUAL_RELATIVE · SD(y) are its exact rows; any q rows
   // can be fitted exactly, so a component counts as exact only with 2q of them or more.
   const threshold = EXACT_RESIDUAL_RELATIVE * Math.sqrt(ws.yVariance);
@@ -64,19 +65,13 @@ export function peelExactComponents(data: RegressionData, ws: MixtureWorkspace, 
   }
   const rest = k - exact.length;
   if (remaining.length < rest * guards.minimumSize) return null;
-  const x = new Float64Array(remaining.length * p);
-  const y = new Float64Array(remaining.length);
-  remaining.forEach((row, i) => {
-    x.set(data.x.subarray(row * p, row * p + p), i * p);
-    y[i] = data.y[row];
-  });
   // The components that are not exact yet are the sub-fit's first start: with the rows of the
   // exact components removed they are often next to an exact fit of the rest, which then ends
   // the sub-fit's search before its own warm start and restarts run.
   const inherited = new Float64Array(rest * q);
   let slot = 0;
   for (let c = 0; c < k; c++) if (!exact.includes(c)) inherited.set(params.coefficients.subarray(c * q, c * q + q), (slot++) * q);
-  const sub = fitSubset({ x, y, n: remaining.length, p }, {
+  const sub = fitSubset(selectRows(data, remaining), {
     k: rest,
     seed: random.integer(2147483647),
     intercept: settings.intercept,
@@ -99,7 +94,7 @@ export function peelExactComponents(data: RegressionData, ws: MixtureWorkspace, 
  * applies; the caller refines it and keeps it only if the likelihood rises.
  */
 export function splitAndMerge(data: RegressionData, ws: MixtureWorkspace, params: MixtureParameters, split: number, guards: Guards, settings: SubsetSettings, random: Random, rowMap: Int32Array | null, depth: number, fitSubset: SubsetFit): MixtureParameters | null {
-  const { n, p, q, k } = ws;
+  const { n, q, k } = ws;
   computeResiduals(ws, params);
   eStep(ws, params);
   const rows: number[] = [];
@@ -147,7 +142,7 @@ export function splitAndMerge(data: RegressionData, ws: MixtureWorkspace, params
  * its random partitions. Returns the combined start or null.
  */
 export function peelComponent(data: RegressionData, ws: MixtureWorkspace, params: MixtureParameters, keep: number, guards: Guards, settings: SubsetSettings, random: Random, rowMap: Int32Array | null, depth: number, fitSubset: SubsetFit): MixtureParameters | null {
-  const { n, p, q, k } = ws;
+  const { n, q, k } = ws;
   computeResiduals(ws, params);
   const width = PEEL_WIDTH * Math.sqrt(params.variances[keep]);
   const remaining: number[] = [];
@@ -177,15 +172,3 @@ export const MAX_PEELING_DEPTH = 2;
 
 /** Random-partition restarts inside a split's two-component fit (two components rarely need more). */
 const SPLIT_RESTARTS = 3;
-
-/** The listed rows of the data (indices into data), as data of their own. */
-function selectRows(data: RegressionData, rows: readonly number[]): RegressionData {
-  const { p } = data;
-  const x = new Float64Array(rows.length * p);
-  const y = new Float64Array(rows.length);
-  rows.forEach((row, i) => {
-    x.set(data.x.subarray(row * p, row * p + p), i * p);
-    y[i] = data.y[row];
-  });
-  return { x, y, n: rows.length, p };
-}

@@ -1,4 +1,5 @@
 import { HouseholderQR } from "../householderQR";
+import { gatherRows, rowsWithLabel } from "../rowSubset";
 
 /**
  * Hard-assignment refinement of K regressions (k-lines / clusterwise regression, Späth 1979,
@@ -38,9 +39,6 @@ export function alternatingLeastSquares(
   const labels = new Int32Array(n).fill(-1);
   const best = new Float64Array(n);
   const counts = new Int32Array(k);
-  // Gathered rows per component, reused across iterations.
-  const rows = new Float64Array(n * q);
-  const responses = new Float64Array(n);
   // Normal equations per component, kept up to date by rank-one updates: a row that moves from
   // component a to component b is subtracted from a's XᵀX and Xᵀy and added to b's, so an
   // iteration costs O(moved rows · q²) instead of O(n · q²) (the updating of least-squares
@@ -88,15 +86,10 @@ export function alternatingLeastSquares(
   for (let i = 0; i < n; i++) counts[labels[i]]++;
   for (let c = 0; c < k; c++) {
     if (counts[c] < minimumRows) continue;
-    let m = 0;
-    for (let i = 0; i < n; i++) {
-      if (labels[i] !== c) continue;
-      rows.set(design.subarray(i * q, i * q + q), m * q);
-      responses[m++] = y[i];
-    }
-    const qr = new HouseholderQR(rows.subarray(0, m * q), m, q);
+    const own = gatherRows(design, q, y, rowsWithLabel(labels, c));
+    const qr = new HouseholderQR(own.matrix, counts[c], q);
     if (qr.isFullRank) {
-      coefficients[c] = qr.solve(responses.subarray(0, m));
+      coefficients[c] = qr.solve(own.y);
       stale[c] = 1;
     }
   }

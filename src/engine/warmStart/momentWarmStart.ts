@@ -4,6 +4,7 @@ import { alternatingLeastSquares, EXACT_FIT_RELATIVE, type AlternatingFit } from
 import { subspaceMixtureFit, randomPartition, type SubspaceMixture } from "./subspaceMixtureFit";
 import { whitenPredictors, unwhitenCoefficients, whitenCoefficients, type WhitenedPredictors } from "./whitenPredictors";
 import { responseMomentSubspace } from "./responseMomentSubspace";
+import { selectRows } from "../rowSubset";
 
 export interface MomentWarmStart {
   /** K coefficient vectors of length q (intercept first when the fit has one). */
@@ -109,7 +110,7 @@ function peelAndRestart(
   data: RegressionData, whitened: WhitenedPredictors, design: Float64Array, q: number, k: number,
   intercept: boolean, start: AlternatingFit, exactTolerance: number, random: Random,
 ): AlternatingFit {
-  const { n, p, x, y } = data;
+  const { n, y } = data;
   const offset = intercept ? 1 : 0;
   let best = start;
   for (let round = 0; round < k && best.exactRows < n; round++) {
@@ -132,12 +133,7 @@ function peelAndRestart(
       if (!fitted) rest.push(i);
     }
     if (rest.length < missing * (q + 1)) break;
-    const sub: RegressionData = { n: rest.length, p, x: new Float64Array(rest.length * p), y: new Float64Array(rest.length) };
-    rest.forEach((i, t) => {
-      sub.x.set(x.subarray(i * p, i * p + p), t * p);
-      sub.y[t] = y[i];
-    });
-    const restart = momentWarmStart(sub, missing, intercept, random);
+    const restart = momentWarmStart(selectRows(data, rest), missing, intercept, random);
     if (!restart) break;
     const combined = found.concat(restart.coefficients.map((c) => toWhitened(whitened, c, intercept, offset)));
     const fit = alternatingLeastSquares(design, n, q, y, combined, ALS_ITERATIONS, exactTolerance, q + 1);
