@@ -85,8 +85,9 @@ const SPLIT_CANDIDATES = 3;
 /** Gain in ln L a split-and-merge move must bring to be kept: 1 log unit, so rounding never counts. */
 const SPLIT_MIN_GAIN = 1;
 /**
- * Exact-peeling sub-fits of this many components or more skip the random-partition starts
- * (see the driver); with fewer they keep them: cheap, and they do find two or three lines.
+ * Peeling sub-fits (exact or noisy: both pass the parent's estimate of the components left) of
+ * this many components or more skip the random-partition starts (see the driver); with fewer
+ * they keep them: cheap, and they do find two or three lines.
  */
 const PEELED_COMPONENTS_WITHOUT_PARTITIONS = 4;
 /**
@@ -292,10 +293,10 @@ function fitMixtureAtDepth(data: RegressionData, options: MixtureOptions, depth:
   }, MOMENT_START_ITERATIONS);
   tryStart("residual-seeding", () => parametersFromLabels(working, residualSeedingLabels(working, random), guards, random));
   tryStart("location-seeding", () => parametersFromLabels(working, locationSeedingLabels(working, random), guards, random));
-  // An exact-peeling sub-fit of many components skips the random partitions: on noiseless data
-  // they essentially never reach the exact fit of four or more components in tens of
-  // dimensions, while the parent refines the combined fit on all rows whatever the sub-fit
-  // returns (and peels again when it turns exact).
+  // A peeling sub-fit of many components (it has the parent's estimate as its first start)
+  // skips the random partitions: on noiseless data they essentially never reach the exact fit
+  // of four or more components in tens of dimensions, while the parent refines the combined
+  // fit on all rows whatever the sub-fit returns (and peels again when it turns exact).
   const randomPartitions = !inherited || k < PEELED_COMPONENTS_WITHOUT_PARTITIONS ? settings.restarts : 0;
   for (let r = 0; r < randomPartitions; r++) {
     tryStart("random-partition", () => parametersFromLabels(working, randomPartitionLabels(working.n, k, random), guards, random));
