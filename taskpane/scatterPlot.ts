@@ -70,7 +70,7 @@ export function scatterSpec(design: Design, fit: MixtureFit, axis: ScatterAxis):
     title: `${design.yName} against ${design.predictorNames[m]}`,
     subtitle: others.length === 0 ? ["Each row drawn as its most probable component"] : [`Adjusted to the average ${others.length === 1 ? others[0] : "of the other predictors"}`, "Each row drawn as its most probable component"],
     xLabel: design.predictorNames[m],
-    yLabel: others.length === 0 ? design.yName : `${design.yName} (adjusted)`,
+    yLabel: others.length === 0 ? design.yName : `${design.yName}, other predictors at their average`,
     x: px,
     y: py,
     group: labels,

@@ -67,7 +67,7 @@ describe("planPlacement", () => {
   it("writes values lined up with the range's rows, skipped rows left empty", () => {
     const [labels] = planPlacement("Sheet1!D1", { ...request, outputs: ["labels"], mode: "values" }, design, fit);
     expect(labels.cells.length).toBe(sheet.length);
-    expect(labels.cells[0]).toEqual(["Component"]);
+    expect(labels.cells[0]).toEqual(["component"]);
     // Sheet rows 5 and 9 (0-based, header at 0) were skipped by the design.
     expect(labels.cells[5]).toEqual([""]);
     expect(labels.cells[9]).toEqual([""]);
@@ -80,11 +80,17 @@ describe("warningsFor", () => {
   const design = buildDesign(sheet.map((r) => [r[0]]), sheet.map((r) => [r[1]]));
   const fit = fitMixture(design, { k: 2, seed: 3 });
 
-  it("explains a warm start that did not converge, with what to try", () => {
-    const unsettled = { ...fit, warmStart: { ...fit.warmStart, converged: false } };
-    const warning = warningsFor({ ...initialState(), design, fit: unsettled }).find((w) => w.id === "warm-start");
-    expect(warning).toBeDefined();
-    for (const remedy of ["another seed", "restarts", "rescaling", "fewer components"]) expect(warning!.text).toContain(remedy);
+  it("explains starts that disagree, naming only controls the pane has", () => {
+    const unsettled = { ...fit, warmStart: { ...fit.warmStart, disagreement: 0.2 } };
+    const warnings = warningsFor({ ...initialState(), design, fit: unsettled });
+    const warning = warnings.find((w) => w.id === "warm-start");
+    expect(warning?.title).toBe("Starts disagree");
+    for (const remedy of ["another seed", "Seed", "rescaling", "fewer components"]) expect(warning!.text).toContain(remedy);
+    // The pane has no restarts, tolerance or iteration controls, so its advice does not name them.
+    for (const text of warnings.map((w) => w.text)) expect(text).not.toMatch(/restarts|tolerance|max_iterations|iterations setting/);
+    // A moment certificate that did not shrink, with the starts agreeing, is not a warning.
+    const certificateOnly = { ...fit, warmStart: { ...fit.warmStart, converged: false, disagreement: 0 } };
+    expect(warningsFor({ ...initialState(), design, fit: certificateOnly }).some((w) => w.id === "warm-start")).toBe(false);
   });
 
   it("warns about many skipped rows only above a tenth of the rows", () => {

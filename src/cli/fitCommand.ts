@@ -10,29 +10,40 @@ import type { MixtureFit, MixtureModel, RefinementReport, WarmStartReport } from
 import type { SeparationReport } from "../engine/trustTypes";
 import { parseArgs, parseList, parseModel, parseWholeNumber, type FlagKinds } from "./args";
 import { loadDesign } from "./loadDesign";
-import { formatFitTable } from "./formatTable";
+import { formatFitTable, kChoiceText } from "./formatTable";
+import { isExactFit } from "../engine/exactFit";
+import { defaultKMax, scanComponents, startsAgree } from "../engine/scanComponents";
+import { readTable } from "../io/readTable";
+import type { CommandIO } from "./main";
+import { scanProgress } from "./scanProgress";
+import { writeRowResults } from "./writeRowResults";
 
 export const FIT_USAGE = `Usage: skein fit FILE --y COLUMN [--x COLUMN,COLUMN,...] [options]
 
-Fits K linear regressions of the y column on the x columns, each holding for
-one hidden group of rows, to a .csv or .xlsx file whose first row names the
-columns. Rows with a blank, text or error cell in a used column are skipped
-and listed.
+Fits K components to a .csv or .xlsx file whose first row names the columns.
+A component is a group of rows sharing one linear regression of the outcome
+(--y) on the predictors (--x). Rows with a blank, text or error cell in a used
+column are skipped and listed. The output shows each component, the checks,
+and the component of the first rows.
 
-  --y COLUMN        the response column (required)
+  --y COLUMN        the outcome column (required)
   --x COLUMNS       predictor columns, separated by commas; default: every
                     other column that holds mostly numbers
   --sheet NAME      the worksheet of an .xlsx file (default: the first)
-  --k N             number of components (default 1)
+  --k N             number of components (default: the K that skein scan
+                    suggests, trying 1 to 5, or fewer when rows are few)
+  --out FILE        also write every row with its component, fitted value,
+                    residual and memberships to FILE (.csv or .xlsx)
   --model NAME      plain (y given x per component, the default) or joint
                     (each component also models where its x lie)
   --restarts N      alternative starts refined briefly before the best is
                     refined fully (default: the engine's choice)
   --seed S          seed for the random starts of a mixture fit (default 1)
   --bootstrap N     standard errors from N bootstrap refits (components
-                    matched to this fit in each) instead of the observed
-                    information; slower
+                    matched to this fit in each) instead of from the
+                    curvature of the likelihood; slower
   --no-intercept    fit without an intercept
+  --verbose         also show how the starts were made
   --json            write one JSON object instead of a table
   --help            show this help
 
@@ -48,7 +59,9 @@ const FIT_FLAGS: FlagKinds = {
   restarts: "value",
   seed: "value",
   bootstrap: "value",
+  out: "value",
   "no-intercept": "switch",
+  verbose: "switch",
   json: "switch",
   help: "switch",
   h: "switch",
@@ -63,7 +76,8 @@ export interface FitSettings {
   y: string;
   /** Predictor names in the user's order; undefined: every other mostly numeric column. */
   x?: string[];
-  k: number;
+  /** undefined: the K the scan suggests. */
+  k?: number;
   seed: number;
   intercept: boolean;
   model: MixtureModel;
@@ -71,6 +85,9 @@ export interface FitSettings {
   restarts?: number;
   /** Bootstrap replicates for the standard errors; undefined: observed information. */
   bootstrap?: number;
+  /** --out: a .csv or .xlsx file for every row's results. */
+  out?: string;
+  verbose: boolean;
   json: boolean;
 }
 
@@ -93,6 +110,8 @@ export interface SkippedReport {
 /** The --json output. Later versions add fields; they never rename these. */
 export interface FitReport {
   k: number;
+  /** How K was chosen: given with --k, or the scan's suggestion over K = 1..kMax. */
+  kChosenBy: { by: "given" } | { by: "scan"; kMax: number };
   /** Rows used in the fit. */
   n: number;
   /** Rows used in the fit (the same as n). */
@@ -113,7 +132,19 @@ export interface FitReport {
   warmStart: WarmStartReport;
   refinement: RefinementReport;
   warnings: string[];
-  /** Pairwise separation, estimated misclassification, entropy (null for one component). */
+  /** The two best starts reached the same components. */
+  startsAgree: boolean;
+  /** The refinement stopped by its tolerance. */
+  converged: boolean;
+  /** Every component fits its rows exactly (noise about 0). */
+  exactFit: boolean;
+  /** Smallest gap between two components, noise SDs (null for one component, or unlimited). */
+  smallestGap: number | null;
+  /** Misassigned rows, percent. */
+  misassignedRows: number;
+  /** Membership clarity, 0 to 1. */
+  membershipClarity: number;
+  /** Older name of the checks: pairs, minGap, misclassification (a share), normalisedEntropy; null for one component. */
   separation: SeparationReport | null;
   /** Standard errors: per component coefficients (as in components[].stdErrors), weights and noise SDs. */
   stdErrors: { method: string; weights: number[]; sigmas: number[] };
@@ -134,6 +165,8 @@ export interface ModelFit {
   stdErrorMethod: string;
   weightStdErrors: number[];
   sigmaStdErrors: number[];
+  /** Why standard errors are missing, if they are. */
+  stdErrorWarnings: string[];
 }
 
 /** Turns the fit command's arguments into settings, or "help". */
@@ -145,7 +178,7 @@ export function parseFitSettings(argv: readonly string[]): FitSettings | "help" 
     throw new SkeinError("bad-input", `fit takes one data file but got ${positionals.length} (${positionals.join(", ")}); list predictors as --x A,B without spaces, or quote the list`);
   }
   const y = values.get("y");
-  if (y === undefined) throw new SkeinError("bad-input", "No response column given; name it, as in --y COLUMN");
+  if (y === undefined) throw new SkeinError("bad-input", "No outcome column given; name it, as in --y COLUMN");
   const xText = values.get("x");
   const kText = values.get("k");
   const seedText = values.get("seed");
@@ -156,12 +189,14 @@ export function parseFitSettings(argv: readonly string[]): FitSettings | "help" 
     sheet: values.get("sheet"),
     y,
     x: xText === undefined ? undefined : parseList(xText, "x", "fit"),
-    k: kText === undefined ? 1 : parseWholeNumber(kText, "k", "fit", 1, MAX_COMPONENTS),
+    k: kText === undefined ? undefined : parseWholeNumber(kText, "k", "fit", 1, MAX_COMPONENTS),
     seed: seedText === undefined ? 1 : parseWholeNumber(seedText, "seed", "fit", 0, 2 ** 32 - 1),
     intercept: !switches.has("no-intercept"),
     model: parseModel(values.get("model"), "fit"),
     restarts: restartsText === undefined ? undefined : parseWholeNumber(restartsText, "restarts", "fit", 0, 1000),
     bootstrap: bootstrapText === undefined ? undefined : parseWholeNumber(bootstrapText, "bootstrap", "fit", 10, 10000),
+    out: checkOutFile(values.get("out")),
+    verbose: switches.has("verbose"),
     json: switches.has("json"),
   };
 }
@@ -172,7 +207,7 @@ export function parseFitSettings(argv: readonly string[]): FitSettings | "help" 
  * ordinary least squares, and the report gives the classical least-squares standard
  * errors (n − q degrees of freedom), the ones regression tables and NIST certify.
  */
-export function fitModel(design: Design, settings: Pick<FitSettings, "k" | "seed" | "intercept" | "model" | "restarts" | "bootstrap">): ModelFit {
+export function fitModel(design: Design, settings: Pick<FitSettings, "seed" | "intercept" | "model" | "restarts" | "bootstrap"> & { k: number }): ModelFit {
   const mixture = withColumnNames(design, settings.intercept, () =>
     fitMixture(design, { k: settings.k, seed: settings.seed, intercept: settings.intercept, model: settings.model, restarts: settings.restarts }),
   );
@@ -201,7 +236,15 @@ export function fitModel(design: Design, settings: Pick<FitSettings, "k" | "seed
     stdErrorMethod: method,
     weightStdErrors: Array.from(errors.weights),
     sigmaStdErrors: Array.from(errors.sigmas),
+    stdErrorWarnings: settings.bootstrap === undefined ? errors.warnings.map((w) => `${w} Or give --bootstrap N.`) : errors.warnings,
   };
+}
+
+/** The --out file, checked before any work: .csv or .xlsx. */
+function checkOutFile(file: string | undefined): string | undefined {
+  if (file === undefined) return undefined;
+  if (!/\.(csv|xlsx)$/i.test(file)) throw new SkeinError("bad-input", `--out must name a .csv or .xlsx file, not "${file}" (see skein fit --help)`);
+  return file;
 }
 
 /** Runs a fit, adding the column names to a singular-design message. */
@@ -227,21 +270,32 @@ function classicalStdErrors(design: Design, intercept: boolean): number[] {
 }
 
 /** Everything the command computes, before it is written out. */
-export async function computeFitReport(settings: FitSettings): Promise<{ report: FitReport; sheetName?: string }> {
+export async function computeFitReport(settings: FitSettings, progress?: (k: number, kMax: number) => void): Promise<{ report: FitReport; sheetName?: string; design: Design; fit: MixtureFit; separation: SeparationReport | null }> {
   const readStart = performance.now();
   const { design, sheetName } = await loadDesign(settings);
   const readMs = performance.now() - readStart;
 
   const fitStart = performance.now();
-  const model = fitModel(design, settings);
+  let k = settings.k;
+  let kChosenBy: FitReport["kChosenBy"] = { by: "given" };
+  if (k === undefined) {
+    const kMax = defaultKMax(design.n, design.p + (settings.intercept ? 1 : 0));
+    const scan = scanComponents(design, { kMax, seed: settings.seed, intercept: settings.intercept, model: settings.model, restarts: settings.restarts, onProgress: progress });
+    k = scan.chosenK;
+    kChosenBy = { by: "scan", kMax: scan.rows.length };
+  }
+  const model = fitModel(design, { ...settings, k });
   const fitMs = performance.now() - fitStart;
 
   const labels: (number | null)[] = new Array(design.inputRows).fill(null);
   for (let i = 0; i < design.n; i++) labels[design.rowIndex[i]] = model.labels[i] + 1;
   // Schwarz (1978): BIC = −2 log L + ν ln n.
   const bic = -2 * model.logLikelihood + model.parameterCount * Math.log(design.n);
+  const separation = model.separation;
+  const exactFit = isExactFit(model.mixture, design.y);
   const report: FitReport = {
-    k: settings.k,
+    k,
+    kChosenBy,
     n: design.n,
     rowsUsed: design.n,
     rowsSkipped: design.skipped.length,
@@ -258,23 +312,35 @@ export async function computeFitReport(settings: FitSettings): Promise<{ report:
     seed: settings.seed,
     warmStart: model.mixture.warmStart,
     refinement: model.mixture.refinement,
-    warnings: [...model.mixture.warnings, ...(model.separation?.warnings ?? [])],
-    separation: model.separation,
+    warnings: [...new Set([...model.mixture.warnings, ...(separation?.warnings ?? []), ...model.stdErrorWarnings])],
+    startsAgree: startsAgree(model.mixture.warmStart),
+    converged: model.mixture.refinement.converged,
+    exactFit,
+    smallestGap: separation && Number.isFinite(separation.minGap) && !exactFit ? separation.minGap : null,
+    misassignedRows: 100 * (separation?.misclassification ?? 0),
+    membershipClarity: separation?.normalisedEntropy ?? 1,
+    separation,
     stdErrors: { method: model.stdErrorMethod, weights: model.weightStdErrors, sigmas: model.sigmaStdErrors },
     timings: { readMs, fitMs },
   };
-  return { report, sheetName };
+  return { report, sheetName, design, fit: model.mixture, separation };
 }
 
 /** `skein fit`: returns the exit status; SkeinErrors propagate to main, which reports them. */
-export async function fitCommand(argv: readonly string[], io: { stdout: (s: string) => void }): Promise<number> {
+export async function fitCommand(argv: readonly string[], io: CommandIO): Promise<number> {
   const settings = parseFitSettings(argv);
   if (settings === "help") {
     io.stdout(FIT_USAGE);
     return 0;
   }
-  const { report, sheetName } = await computeFitReport(settings);
+  const progress = settings.k === undefined ? scanProgress(io) : undefined;
+  const { report, sheetName, design, fit, separation } = await computeFitReport(settings, progress?.onProgress);
+  progress?.finish();
+  if (settings.out !== undefined) {
+    const rows = (await readTable(settings.file, settings.sheet)).rows;
+    await writeRowResults(settings.out, { rows, design, fit, separation: separation ?? undefined, warnings: report.warnings, notes: [`skein fit ${path.basename(settings.file)}, seed ${settings.seed}; ${kChoiceText(report)}`] });
+  }
   if (settings.json) io.stdout(JSON.stringify(report) + "\n");
-  else io.stdout(formatFitTable(report, { file: path.basename(settings.file), sheetName }));
+  else io.stdout(formatFitTable(report, { file: path.basename(settings.file), sheetName, verbose: settings.verbose, out: settings.out }));
   return 0;
 }

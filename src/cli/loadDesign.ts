@@ -29,7 +29,7 @@ export async function loadDesign(source: DesignSource): Promise<{ design: Design
   let x: number[];
   if (source.x !== undefined) {
     x = source.x.map((name) => findColumn(names, name, fileName));
-    if (x.includes(y)) throw new SkeinError("bad-input", `${names[y]} is the response (--y); leave it out of --x.`);
+    if (x.includes(y)) throw new SkeinError("bad-input", `${names[y]} is the outcome (--y); leave it out of --x.`);
     const repeated = x.find((j, i) => x.indexOf(j) !== i);
     if (repeated !== undefined) throw new SkeinError("bad-input", `${names[repeated]} appears twice in --x; list each predictor once.`);
   } else {

@@ -3,21 +3,28 @@ import { SkeinError } from "../engine/errors";
 import { fitMixture } from "../engine/fitMixture";
 import { predictRows } from "../engine/predictRows";
 import { parseArgs, parseList, parseModel, parseWholeNumber, type FlagKinds } from "./args";
-import { formatNumber } from "./formatTable";
+import { alignColumns, formatNumber } from "../report/formatNumber";
+import { defaultKMax, scanComponents } from "../engine/scanComponents";
+import { kChoiceText } from "./formatTable";
+import type { CommandIO } from "./main";
+import { scanProgress } from "./scanProgress";
 import { loadDesign, loadNewRows } from "./loadDesign";
 
-export const PREDICT_USAGE = `Usage: skein predict FILE --y COLUMN [--x COLUMN,COLUMN,...] --k N --new NEWFILE [options]
+export const PREDICT_USAGE = `Usage: skein predict FILE --y COLUMN [--x COLUMN,COLUMN,...] [--k N] --new NEWFILE [options]
 
-Fits K components to FILE (as skein fit does), then predicts the rows of
-NEWFILE, which must hold the same x columns (by name; y is not needed). For
-each new row: every component's prediction, the membership-weighted
-prediction and its spread (SD). With --model joint the memberships come from
-where the new row's x lie; with the plain model they are the weights.
+Fits K components to FILE (as skein fit does), then predicts the outcome for
+the rows of NEWFILE, which must hold the same predictor columns (by name; the
+outcome is not needed). For each new row: every component's prediction, the
+weighted prediction and the prediction SD (how far the outcome may typically
+lie from the weighted prediction). With --model joint the weights come from
+where the new row's predictors lie; with the plain model they are the
+component weights.
 
-  --y COLUMN          the response column of FILE (required)
+  --y COLUMN          the outcome column of FILE (required)
   --x COLUMNS         predictor columns, separated by commas; default: every
                       other column of FILE that holds mostly numbers
-  --k N               number of components (required)
+  --k N               number of components (default: the K the scan
+                      suggests, trying 1 to 5, or fewer when rows are few)
   --new NEWFILE       .csv or .xlsx file of new rows (required)
   --sheet NAME        the worksheet of an .xlsx FILE (default: the first)
   --new-sheet NAME    the worksheet of an .xlsx NEWFILE (default: the first)
@@ -51,6 +58,9 @@ const MAX_COMPONENTS = 50;
 export interface PredictedRow {
   perComponent: number[];
   weighted: number;
+  /** Prediction SD. */
+  predictionSd: number;
+  /** The same as predictionSd (its older name). */
   spread: number;
   memberships: number[];
 }
@@ -58,6 +68,8 @@ export interface PredictedRow {
 /** The --json output of skein predict. */
 export interface PredictReport {
   k: number;
+  /** How K was chosen: given with --k, or the scan's suggestion over K = 1..kMax. */
+  kChosenBy: { by: "given" } | { by: "scan"; kMax: number };
   model: string;
   response: string;
   predictors: string[];
@@ -69,7 +81,7 @@ export interface PredictReport {
 }
 
 /** `skein predict`: returns the exit status; SkeinErrors propagate to main. */
-export async function predictCommand(argv: readonly string[], io: { stdout: (s: string) => void }): Promise<number> {
+export async function predictCommand(argv: readonly string[], io: CommandIO): Promise<number> {
   const { positionals, values, switches } = parseArgs(argv, PREDICT_FLAGS, "predict");
   if (switches.has("help") || switches.has("h")) {
     io.stdout(PREDICT_USAGE);
@@ -77,18 +89,27 @@ export async function predictCommand(argv: readonly string[], io: { stdout: (s: 
   }
   if (positionals.length !== 1) throw new SkeinError("bad-input", "skein predict takes one data file to fit, as in: skein predict data.csv --y COLUMN --k 2 --new new.csv");
   const y = values.get("y");
-  if (y === undefined) throw new SkeinError("bad-input", "skein predict needs the response column, as in --y COLUMN");
+  if (y === undefined) throw new SkeinError("bad-input", "skein predict needs the outcome column, as in --y COLUMN");
   const kText = values.get("k");
-  if (kText === undefined) throw new SkeinError("bad-input", "skein predict needs the number of components, as in --k 2 (skein scan suggests one)");
   const newFile = values.get("new");
   if (newFile === undefined) throw new SkeinError("bad-input", "skein predict needs the file of new rows, as in --new new.csv");
-  const k = parseWholeNumber(kText, "k", "predict", 1, MAX_COMPONENTS);
+  const givenK = kText === undefined ? undefined : parseWholeNumber(kText, "k", "predict", 1, MAX_COMPONENTS);
   const seedText = values.get("seed");
   const xText = values.get("x");
   const model = parseModel(values.get("model"), "predict");
   const intercept = !switches.has("no-intercept");
   const { design } = await loadDesign({ file: positionals[0], sheet: values.get("sheet"), y, x: xText === undefined ? undefined : parseList(xText, "x", "predict"), intercept });
-  const fit = fitMixture(design, { k, seed: seedText === undefined ? 1 : parseWholeNumber(seedText, "seed", "predict", 0, 2 ** 32 - 1), intercept, model });
+  const seed = seedText === undefined ? 1 : parseWholeNumber(seedText, "seed", "predict", 0, 2 ** 32 - 1);
+  let k = givenK;
+  let kChosenBy: PredictReport["kChosenBy"] = { by: "given" };
+  if (k === undefined) {
+    const progress = scanProgress(io);
+    const scan = scanComponents(design, { kMax: defaultKMax(design.n, design.p + (intercept ? 1 : 0)), seed, intercept, model, onProgress: progress.onProgress });
+    progress.finish();
+    k = scan.chosenK;
+    kChosenBy = { by: "scan", kMax: scan.rows.length };
+  }
+  const fit = fitMixture(design, { k, seed, intercept, model });
   const newRows = await loadNewRows(newFile, design.predictorNames, values.get("new-sheet"));
   const prediction = predictRows(fit, newRows.x, newRows.m);
   const rows: (PredictedRow | null)[] = new Array(newRows.inputRows).fill(null);
@@ -96,12 +117,14 @@ export async function predictCommand(argv: readonly string[], io: { stdout: (s: 
     rows[row] = {
       perComponent: Array.from(prediction.perComponent.subarray(i * k, i * k + k)),
       weighted: prediction.weighted[i],
+      predictionSd: prediction.spread[i],
       spread: prediction.spread[i],
       memberships: Array.from(prediction.memberships.subarray(i * k, i * k + k)),
     };
   });
   const report: PredictReport = {
     k,
+    kChosenBy,
     model,
     response: design.yName,
     predictors: design.predictorNames,
@@ -115,14 +138,14 @@ export async function predictCommand(argv: readonly string[], io: { stdout: (s: 
   }
   const lines: string[] = [];
   lines.push(`Predictions of ${design.yName} for ${path.basename(newFile)} from ${k} component${k === 1 ? "" : "s"} fitted to ${path.basename(positionals[0])} (${model} model)`);
-  const header = ["new row", ...fit.components.map((_, c) => `component ${c + 1}`), "weighted", "spread"];
+  lines.push(kChoiceText({ k, kChosenBy }));
+  const header = ["new row", ...fit.components.map((_, c) => `component ${c + 1}`), "weighted prediction", "prediction SD"];
   const table: string[][] = [header];
   rows.forEach((row, r) => {
     if (row === null) table.push([String(r + 1), ...fit.components.map(() => ""), "skipped", ""]);
-    else table.push([String(r + 1), ...row.perComponent.map(formatNumber), formatNumber(row.weighted), formatNumber(row.spread)]);
+    else table.push([String(r + 1), ...row.perComponent.map((v) => formatNumber(v)), formatNumber(row.weighted), formatNumber(row.predictionSd)]);
   });
-  const widths = header.map((_, j) => Math.max(...table.map((t) => t[j].length)));
-  for (const t of table) lines.push("  " + t.map((cell, j) => cell.padStart(widths[j])).join("   "));
+  lines.push(...alignColumns(table, "  "));
   if (newRows.skipped.length > 0) lines.push(`Skipped new rows (a predictor cell is not a number): ${newRows.skipped.join(", ")}`);
   io.stdout(lines.join("\n") + "\n");
   return 0;

@@ -27,7 +27,7 @@ export function predictorModels(fit: MixtureFit): PredictorModel[] {
     for (let a = 0; a < p; a++) for (let b = 0; b < p; b++) covariance.set(a, b, component.xCovariance[a * p + b]);
     const cholesky = new CholeskyDecomposition(covariance);
     if (!cholesky.isPositiveDefinite()) {
-      throw new SkeinError("numeric", `The x covariance of component ${k + 1} is not positive definite; refit, or remove a predictor that is constant within a group.`);
+      throw new SkeinError("numeric", `The predictors of component ${k + 1} do not vary independently within it (one is constant or a combination of others there); refit, or remove a predictor that is constant within a component.`);
     }
     const lower = cholesky.lowerTriangularMatrix;
     let logDeterminant = 0;

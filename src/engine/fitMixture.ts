@@ -77,7 +77,7 @@ const COVARIANCE_RIDGE = 1e-6;
 const MAX_RESEEDS = 10;
 
 /** All component variances below this fraction of var(y): treat the data as noiseless. */
-const NOISELESS_VARIANCE_RELATIVE = 1e-12;
+export const NOISELESS_VARIANCE_RELATIVE = 1e-12;
 /** Split-and-merge rounds after the main refinement (each must raise ln L by SPLIT_MIN_GAIN). */
 const MAX_SPLIT_ROUNDS = 3;
 /** Components tried for a split per round, largest unexplained variance first. */
@@ -478,10 +478,10 @@ function fitMixtureAtDepth(data: RegressionData, options: MixtureOptions, depth:
     splits,
   };
   if (!run.converged) {
-    warnings.push(`The fit stopped after ${run.iterations} iterations before the log-likelihood settled. Raise max_iterations or loosen tolerance, and check that the components are well separated.`);
+    warnings.push(`Not converged: the fit stopped after ${run.iterations} iterations while the log-likelihood was still changing, so it may not be at its best. Try fewer components or another seed.`);
   }
   if (startsDisagree) {
-    warnings.push(`Different starts reached nearly the same log-likelihood with different components (they differ by ${(100 * disagreement).toFixed(1)}% of the coefficient scale), so these components are not well determined. Try more restarts, another seed, fewer components, or more rows.`);
+    warnings.push(`Starts disagree: different starts reached nearly the same log-likelihood with different components, so the data do not pin these ${k} components down. Try fewer components, another seed, or more rows.`);
   }
   if (run.reseeds > 0) {
     warnings.push(`A component collapsed onto too few rows ${run.reseeds} time(s) and was re-seeded. The data may hold fewer than ${k} groups: compare BIC across K.`);
@@ -493,7 +493,7 @@ function fitMixtureAtDepth(data: RegressionData, options: MixtureOptions, depth:
     largestVariance = Math.max(largestVariance, params.variances[c]);
   }
   if (largestVariance > guards.varianceFloor * 1.000001 && smallestVariance <= VARIANCE_RATIO_BOUND * largestVariance * 1.000001) {
-    warnings.push("The noise SDs of the components hit the bound on their ratio (one is over 1000 times another). A component may be fitting a few rows almost exactly: try fewer components.");
+    warnings.push("One component's noise SD is held at a thousandth of another's, the smallest Skein allows: that component may be fitting a few rows almost exactly. Try fewer components.");
   }
   return assembleFit(full, params, logLikelihood, settings, warmStart, refinement, warnings, guards, undefined, membershipsCurrent);
 }
@@ -831,10 +831,10 @@ function checkSignal(signal: MixtureOptions["signal"]): void {
 function checkInput(data: RegressionData, options: MixtureOptions): Settings {
   const { n, p } = data;
   if (!Number.isInteger(n) || n < 1 || !Number.isInteger(p) || p < 0 || data.y.length < n || data.x.length < n * p) {
-    throw new SkeinError("bad-input", `The data is malformed: expected ${n} responses and ${n} x ${p} predictors. Select a response column and predictor columns of the same height.`);
+    throw new SkeinError("bad-input", `The data do not fit together: expected ${n} outcome values and ${n} x ${p} predictor values. Select an outcome column and predictor columns of the same height.`);
   }
   for (let i = 0; i < n; i++) {
-    if (!Number.isFinite(data.y[i])) throw new SkeinError("bad-input", `Response row ${i + 1} is ${data.y[i]}; every response must be a finite number. Remove or fix that row.`);
+    if (!Number.isFinite(data.y[i])) throw new SkeinError("bad-input", `Outcome row ${i + 1} is ${data.y[i]}; every outcome value must be a finite number. Remove or fix that row.`);
   }
   for (let i = 0; i < n * p; i++) {
     if (!Number.isFinite(data.x[i])) throw new SkeinError("bad-input", `Predictor value in row ${Math.floor(i / p) + 1}, column ${(i % p) + 1} is ${data.x[i]}; predictors must be finite numbers. Remove or fix that row.`);

@@ -7,6 +7,7 @@ import { alignToPrevious } from "./alignComponents";
 import { createRandom } from "./random";
 import { fitMixture } from "./fitMixture";
 import { selectRows } from "./rowSubset";
+import { isExactFit } from "./exactFit";
 
 export interface StandardErrorOptions {
   method?: "observed-information" | "bootstrap";
@@ -90,14 +91,32 @@ export function invertPositiveDefinite(a: Float64Array, size: number): Float64Ar
   return out;
 }
 
+/**
+ * An exact fit (every component's noise about 0, exactFit.ts) has no curvature to invert: its
+ * coefficients and noise SDs are known exactly given each component's rows, so their standard
+ * errors are 0. Its memberships are 0 or 1, so the weights are sample shares of known
+ * labels, with the binomial standard error sqrt(π(1 − π)/n).
+ */
+function exactFitErrors(fit: MixtureFit): StandardErrorReport & { warnings: string[] } {
+  const report = emptyReport(fit, "exact-fit");
+  for (let c = 0; c < fit.k; c++) {
+    report.coefficients[c].fill(0);
+    report.sigmas[c] = 0;
+    const weight = fit.components[c].weight;
+    report.weights[c] = fit.k === 1 ? 0 : Math.sqrt((weight * (1 - weight)) / fit.n);
+  }
+  return report;
+}
+
 function informationErrors(data: RegressionData, fit: MixtureFit): StandardErrorReport & { warnings: string[] } {
+  if (isExactFit(fit, data.y)) return exactFitErrors(fit);
   const report = emptyReport(fit, "observed-information");
   const info = observedInformation(data, fit);
   const { size, q, k, varianceOffset, logitOffset } = info;
   const covariance = invertPositiveDefinite(info.matrix, size);
   if (covariance === null) {
     report.warnings.push(
-      "The observed information is not positive definite, so the fit is not at a clear maximum of the likelihood (it may not have converged, or two components may be the same). Standard errors are not available; refit with more iterations or fewer components, or use the bootstrap.",
+      "Standard errors are not available: the fit does not sit at a clear peak of the likelihood (it may not have converged, or two components may be the same). Try fewer components.",
     );
     return report;
   }

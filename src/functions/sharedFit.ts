@@ -15,6 +15,7 @@ import type { MixtureFit } from "../engine/mixtureTypes";
 import type { ScanResult, SeparationReport } from "../engine/trustTypes";
 import { AddressMemory } from "./addressMemory";
 import { runFit, runScan } from "./engineRunner";
+import { DEFAULT_KMAX, defaultKMax } from "../engine/scanComponents";
 import { FitCache, type Lease } from "./fitCache";
 import { hashCells } from "./hashCells";
 import { rowsThroughLastData, type RowLayout } from "./spill";
@@ -22,8 +23,8 @@ import { fitSettingsKey, parseSettings, type FunctionSettings } from "./settings
 
 /** Largest K the functions accept (the command line's cap too). */
 export const MAX_COMPONENTS = 50;
-/** SCAN's kmax when none is given: enough for most data, and cheap. */
-export const DEFAULT_KMAX = 5;
+/** SCAN's kmax when none is given (the engine's, shared with the command line). */
+export { DEFAULT_KMAX } from "../engine/scanComponents";
 
 /** A fit and the data it was made from, as cached (the same object for every formula). */
 export interface SharedFit {
@@ -44,6 +45,8 @@ export interface SharedScan {
 export interface Answer<T> {
   shared: T;
   settings: FunctionSettings;
+  /** True when k was left out and the scan's suggested K was used. */
+  kFromScan?: boolean;
 }
 
 /** What a call needs of Excel's invocation object (absent in direct calls and tests). */
@@ -99,7 +102,10 @@ function follow<T>(lease: Lease<T>, invocation: Invocation | undefined): Promise
 /** The shared fit for these arguments, computing it if no formula has yet. */
 export async function sharedFit(y: unknown, x: unknown, kArgument: unknown, settingsArgument: unknown, invocation?: Invocation): Promise<Answer<SharedFit>> {
   const settings = parseSettings(settingsArgument);
-  const k = readWholeNumber(kArgument, "k", 1, 1, MAX_COMPONENTS);
+  // k left out: the K the scan suggests (kmax DEFAULT_KMAX, or fewer when rows are few).
+  const given = readWholeNumber(kArgument, "k", 0, 1, MAX_COMPONENTS);
+  const kFromScan = given === 0;
+  const k = kFromScan ? (await sharedScan(y, x, undefined, settingsArgument, invocation)).shared.scan.chosenK : given;
   const key = `fit|${hashCells(y, x)}|${k}|${fitSettingsKey(settings)}`;
   const address = invocation?.address;
   const lease = fitCache.obtain(key, entryBytes(y, x, k), async (cancellation) => {
@@ -127,7 +133,7 @@ export async function sharedFit(y: unknown, x: unknown, kArgument: unknown, sett
   });
   const shared = await follow(lease, invocation);
   addressMemory.remember(address, shared.fit);
-  return { shared, settings };
+  return { shared, settings, kFromScan };
 }
 
 /** The shared K scan for these arguments. */
@@ -139,7 +145,7 @@ export async function sharedScan(y: unknown, x: unknown, kMaxArgument: unknown, 
     const design = buildDesign(y as unknown[][], x as unknown[][], { intercept: settings.intercept });
     const coefficients = design.p + (settings.intercept ? 1 : 0);
     // Without kmax: up to DEFAULT_KMAX, as far as the rows allow; with it, every K must fit.
-    const kMax = requested === 0 ? Math.max(1, Math.min(DEFAULT_KMAX, Math.floor(design.n / (coefficients + 1)))) : requested;
+    const kMax = requested === 0 ? defaultKMax(design.n, coefficients) : requested;
     checkRowsForK(design, kMax, settings.intercept);
     const scan = await runScan(
       {
