@@ -21,8 +21,9 @@ describe("one number style", () => {
     expect(formatWithError(0.0738, 0.00152)).toEqual({ value: "0.0738", error: "0.0015" });
     // Whole digits are kept: SE 455.478 stays 455, not 460.
     expect(formatWithError(1829.15146461355, 455.478499142212)).toEqual({ value: "1829", error: "455" });
-    // An exact fit: SE 0, the estimate at four digits.
-    expect(formatWithError(12, 0)).toEqual({ value: "12.00", error: "0" });
+    // An exact fit: SE 0, every digit known (binary rounding noise dropped).
+    expect(formatWithError(12, 0)).toEqual({ value: "12", error: "0" });
+    expect(formatWithError(0.004000000000000036, 0)).toEqual({ value: "0.004", error: "0" });
     expect(formatWithError(3.5, NaN)).toEqual({ value: "3.500", error: "not available" });
     expect(formatPlusMinus(59.6113, 2.94)).toBe("59.6 ± 2.9");
   });

@@ -14,7 +14,7 @@ import { scatterSvg } from "../report/scatterSvg";
 import { parseArgs, parseWholeNumber, type FlagKinds } from "./args";
 import { columnRange, columnsRange, findColumn, headerNames } from "./columns";
 import { compareWithTruth, type TruthComparison, type TruthComponent } from "./compareWithTruth";
-import { alignColumns, formatColumn, formatGap, formatNoiseSd, formatNumber, formatPercent, formatPlusMinus } from "../report/formatNumber";
+import { alignColumns, formatColumn, formatExact, formatGap, formatNoiseSd, formatNumber, formatPercent, formatPlusMinus } from "../report/formatNumber";
 import { exactComponents, isExactFit } from "../engine/exactFit";
 import { startsAgree } from "../engine/scanComponents";
 import type { CommandIO } from "./main";
@@ -138,7 +138,7 @@ function formatScenario(result: Omit<DemoScenarioResult, "report">, outDisplay: 
     const weight = anyErrors ? `${formatPlusMinus(100 * component.weight, 100 * errors.weights[c])} %` : formatPercent(component.weight);
     const noise = exact[c] ? formatNoiseSd(component.sigma, true) : show(component.sigma, errors.sigmas[c]);
     lines.push(`   ${c + 1}: weight ${weight}, noise SD ${noise}`);
-    const parts = coefficientNames.map((name, j) => `${name} ${exact[c] ? formatNumber(component.coefficients[j]) : show(component.coefficients[j], errors.coefficients[c][j])}`);
+    const parts = coefficientNames.map((name, j) => `${name} ${exact[c] ? formatExact(component.coefficients[j]) : show(component.coefficients[j], errors.coefficients[c][j])}`);
     if (!fit.intercept) parts.shift();
     // A few coefficients a line keeps lines readable with many predictors.
     const perLine = parts.length > 4 ? 3 : 2;

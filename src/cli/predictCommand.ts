@@ -3,7 +3,7 @@ import { SkeinError } from "../engine/errors";
 import { fitMixture } from "../engine/fitMixture";
 import { predictRows } from "../engine/predictRows";
 import { parseArgs, parseList, parseModel, parseWholeNumber, type FlagKinds } from "./args";
-import { alignColumns, formatNumber } from "../report/formatNumber";
+import { alignColumns, formatColumn } from "../report/formatNumber";
 import { defaultKMax, scanComponents } from "../engine/scanComponents";
 import { kChoiceText } from "./formatTable";
 import type { CommandIO } from "./main";
@@ -141,9 +141,16 @@ export async function predictCommand(argv: readonly string[], io: CommandIO): Pr
   lines.push(kChoiceText({ k, kChosenBy }));
   const header = ["new row", ...fit.components.map((_, c) => `component ${c + 1}`), "weighted prediction", "prediction SD"];
   const table: string[][] = [header];
+  // Each column at one number of decimals, so the decimal points line up.
+  const used = rows.filter((row): row is PredictedRow => row !== null);
+  const columns = [...fit.components.map((_, c) => used.map((row) => row.perComponent[c])), used.map((row) => row.weighted), used.map((row) => row.predictionSd)].map((values) => formatColumn(values));
+  let u = 0;
   rows.forEach((row, r) => {
     if (row === null) table.push([String(r + 1), ...fit.components.map(() => ""), "skipped", ""]);
-    else table.push([String(r + 1), ...row.perComponent.map((v) => formatNumber(v)), formatNumber(row.weighted), formatNumber(row.predictionSd)]);
+    else {
+      table.push([String(r + 1), ...columns.map((column) => column[u])]);
+      u++;
+    }
   });
   lines.push(...alignColumns(table, "  "));
   if (newRows.skipped.length > 0) lines.push(`Skipped new rows (a predictor cell is not a number): ${newRows.skipped.join(", ")}`);

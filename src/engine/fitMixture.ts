@@ -484,7 +484,7 @@ function fitMixtureAtDepth(data: RegressionData, options: MixtureOptions, depth:
     warnings.push(`Starts disagree: different starts reached nearly the same log-likelihood with different components, so the data do not pin these ${k} components down. Try fewer components, another seed, or more rows.`);
   }
   if (run.reseeds > 0) {
-    warnings.push(`A component collapsed onto too few rows ${run.reseeds} time(s) and was re-seeded. The data may hold fewer than ${k} groups: compare BIC across K.`);
+    warnings.push(`A component was left with too few rows ${run.reseeds} time(s) and was started again. The data may hold fewer than ${k} components: compare BIC across K.`);
   }
   let smallestVariance = Infinity;
   let largestVariance = 0;

@@ -6,7 +6,8 @@
  *   stop meaning anything: the standard error to two significant digits, the estimate to the
  *   same decimal place (the rule of ISO/IEC Guide 98-3, GUM section 7.2.6, common practice in
  *   reporting), except that digits before the decimal point are kept (455, not 460). A
- *   standard error of 0 (an exact fit) leaves the estimate at four digits.
+ *   standard error of 0 (an exact fit) means every digit is known: the estimate is shown in
+ *   up to EXACT_DIGITS digits, rounding noise and trailing zeros dropped (12, 0.004).
  * - Any other number: four significant digits, trailing zeros kept (so a column reads at one
  *   precision); digits before the decimal point are never rounded away (37225, not 3.723e4).
  * - Shares of rows (weights, misassigned rows, skipped rows) as percentages.
@@ -18,6 +19,17 @@ export const SIGNIFICANT_DIGITS = 4;
 
 /** Significant digits of a standard error. */
 export const ERROR_DIGITS = 2;
+
+/** Digits of an exactly known value: past binary rounding noise, short of the 17 a double holds. */
+export const EXACT_DIGITS = 10;
+
+/** An exactly known value (standard error 0): up to EXACT_DIGITS digits, without trailing zeros. */
+export function formatExact(value: number): string {
+  if (!Number.isFinite(value) || value === 0) return formatNumber(value);
+  const magnitude = Math.abs(value);
+  if (magnitude < 1e-4 || magnitude >= 1e15) return Number(value.toPrecision(EXACT_DIGITS)).toExponential();
+  return String(Number(value.toPrecision(EXACT_DIGITS)));
+}
 
 /** Noise SDs past this many gaps apart read as "no overlap": the digits only measure rounding. */
 export const LARGEST_SHOWN_GAP = 1e6;
@@ -55,7 +67,7 @@ export function formatColumn(values: readonly number[], digits = SIGNIFICANT_DIG
 /** An estimate and its standard error, rounded as the module comment says. */
 export function formatWithError(value: number, standardError: number): { value: string; error: string } {
   if (!Number.isFinite(standardError) || standardError < 0) return { value: formatNumber(value), error: "not available" };
-  if (standardError === 0) return { value: formatNumber(value), error: "0" };
+  if (standardError === 0) return { value: formatExact(value), error: "0" };
   const decimals = Math.min(12, Math.max(0, ERROR_DIGITS - 1 - Math.floor(Math.log10(standardError))));
   return { value: value.toFixed(decimals), error: standardError.toFixed(decimals) };
 }
