@@ -1,4 +1,4 @@
-import { formatNumber as formatPlain, formatPercent, formatWithError as formatPlainWithError } from "../src/report/formatNumber";
+import { formatColumn as formatPlainColumn, formatNumber as formatPlain, formatPercent, formatWithError as formatPlainWithError } from "../src/report/formatNumber";
 
 /** The typographic minus sign, for a pane that reads as text rather than code. */
 function typographic(text: string): string {
@@ -9,6 +9,11 @@ function typographic(text: string): string {
 export function formatNumber(value: number, digits?: number): string {
   if (!Number.isFinite(value)) return value === Infinity ? "∞" : value === -Infinity ? "−∞" : "—";
   return typographic(formatPlain(value, digits));
+}
+
+/** A table column at one number of decimals (decimal points line up), with the typographic minus. */
+export function formatColumn(values: readonly number[]): string[] {
+  return formatPlainColumn(values).map(typographic);
 }
 
 /** An estimate and its standard error, rounded where the standard error says. */

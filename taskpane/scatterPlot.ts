@@ -1,3 +1,4 @@
+import { formatShare } from "./format";
 import type { Design } from "../src/engine/design";
 import type { MixtureFit } from "../src/engine/mixtureTypes";
 import { mainPredictor } from "../src/report/componentPlot";
@@ -26,7 +27,7 @@ export function scatterSpec(design: Design, fit: MixtureFit, axis: ScatterAxis):
   const lines: ScatterLine[] = [];
   const counts = new Array<number>(fit.k).fill(0);
   for (let i = 0; i < n; i++) counts[labels[i]]++;
-  const groupNames = fit.components.map((c, k) => `${k + 1}: weight ${c.weight.toFixed(2)}, ${counts[k]} rows`);
+  const groupNames = fit.components.map((c, k) => `${k + 1}: weight ${formatShare(c.weight)}, ${counts[k]} rows`);
 
   if (axis === "fitted") {
     let low = Infinity;

@@ -10,6 +10,10 @@ import { initialState } from "../taskpane/paneState";
 import { buildDesign } from "../src/engine/design";
 import { fitMixture } from "../src/engine/fitMixture";
 import { inventedSheet } from "./support/taskpaneFixtures";
+import { messageOf, Pane } from "../taskpane/pane";
+import type { PaneEngine } from "../taskpane/paneEngine";
+import type { SheetHost } from "../taskpane/host";
+import { SkeinError } from "../src/engine/errors";
 
 describe("A1 addresses", () => {
   it("turns column letters into indices and back", () => {
@@ -146,5 +150,26 @@ describe("Grid", () => {
     editor.dispatchEvent(new KeyboardEvent("keydown", { key: "Enter", bubbles: true }));
     expect(grid.get(1, 0)).toBe(42);
     expect(changes).toEqual(["Data!A2"]);
+  });
+});
+
+describe("a mistyped address in the pane", () => {
+  it("reads as a plain message, not as a failure of Skein", async () => {
+    // Excel rejects a range on a sheet that does not exist with an error whose code is ItemNotFound
+    // (Excel JavaScript API, OfficeExtension.ErrorCodes).
+    const officeError = Object.assign(new Error("The requested resource doesn't exist."), { code: "ItemNotFound" });
+    const host = {
+      kind: "excel",
+      readValues: () => Promise.reject(officeError),
+      watch: () => Promise.resolve(() => undefined),
+      saveRanges: () => Promise.resolve(),
+    } as unknown as SheetHost;
+    const pane = new Pane(host, {} as PaneEngine);
+    await pane.setAddresses("Shet1!A1:A10", "Sheet1!B1:B10");
+    expect(pane.state.dataProblem).toMatch(/^Could not read Shet1!A1:A10 and Sheet1!B1:B10\. Excel has no such range: check the sheet name/);
+    expect(pane.state.dataProblem).not.toMatch(/Skein could not finish/);
+    // An address that is not an address at all: the placement's own plain message.
+    expect(messageOf(new SkeinError("bad-input", '"H" is not a cell address'))).toBe('"H" is not a cell address');
+    expect(() => planPlacement("H", { yAddress: "A1:A3", xAddress: "B1:B3", rangeRows: 3, k: 1, seed: 1, outputs: ["fit"], mode: "formulas" }, buildDesign([[1], [2], [3], [4]], [[1], [3], [2], [5]]), null)).toThrow(/is not a cell address; type one such as H2/);
   });
 });

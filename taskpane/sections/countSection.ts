@@ -1,8 +1,8 @@
 import { drawBicChart } from "../bicChart";
 import { element, section } from "../dom";
-import { formatNumber, plural } from "../format";
+import { formatColumn, formatNumber, plural } from "../format";
 import { CANNOT_BE_SUGGESTED_MARK } from "../bicChart";
-import { formatColumn, formatGap } from "../../src/report/formatNumber";
+import { formatGap } from "../../src/report/formatNumber";
 import type { Pane } from "../pane";
 import type { PaneState } from "../paneState";
 
