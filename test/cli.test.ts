@@ -255,6 +255,17 @@ describe("skein fit: bad files and arguments as a new user would try them", () =
     expect(report.separation.pairs).toHaveLength(1);
     expect(report.stdErrors.weights).toHaveLength(2);
     expect(Array.isArray(report.warnings)).toBe(true);
+    // An exact fit says so: standard errors 0, no convergence or standard-error warning.
+    expect(report.exactFit).toBe(true);
+    expect(report.startsAgree).toBe(true);
+    expect(report.converged).toBe(true);
+    expect(report.warnings.filter((w: string) => /converge|Standard errors are not available|peak/.test(w))).toEqual([]);
+    for (const component of report.components) expect(component.stdErrors).toEqual([0, 0]);
+    const text = (await run("fit", file, "--y", "y", "--x", "x", "--k", "2")).stdout;
+    expect(text).toContain("Exact fit (noise about 0)");
+    expect(text).toMatch(/noise SD about 0 \(exact fit\)/);
+    expect(text).toContain("no overlap between components (noise about 0)");
+    expect(text).not.toMatch(/e-1\d/);
   });
 
   it("gives bootstrap standard errors of the same size as the observed-information ones", async () => {
