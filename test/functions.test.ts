@@ -372,6 +372,23 @@ describe("SKEIN.SCAN", () => {
 });
 
 describe("SKEIN.CHECK", () => {
+  it("reports starts agree and converged apart, and its advice names the settings it has", async () => {
+    // Invented overlapping data: three lines 1.5 noise SDs apart, stopped after one iteration.
+    const random = createRandom(5);
+    const y: Range = [];
+    const x: Range = [];
+    for (let i = 0; i < 200; i++) {
+      const xv = 10 * random.next();
+      y.push([(i % 3 === 0 ? 1 + 0.5 * xv : i % 3 === 1 ? 2 + 0.3 * xv : 3) + 1.5 * random.normal()]);
+      x.push([xv]);
+    }
+    const result = await check(y, x, 3, [["max_iterations=1; tolerance=1e-12"]]);
+    expect(result.find((r) => r[0] === "converged")![1]).toBe(false);
+    expect(typeof result.find((r) => r[0] === "starts agree")![1]).toBe("boolean");
+    const notConverged = result.find((r) => r[0] === "warning" && /^Not converged/.test(String(r[1])));
+    expect(notConverged![1]).toMatch(/stopped after 1 iteration while .* or allow more iterations with the max_iterations setting\.$/);
+  });
+
   it("returns name/value pairs in a fixed order, then the warnings", async () => {
     const { y, x } = twoLines([60, 40], 79);
     const result = await check(y, x, 2);

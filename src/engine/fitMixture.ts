@@ -478,7 +478,7 @@ function fitMixtureAtDepth(data: RegressionData, options: MixtureOptions, depth:
     splits,
   };
   if (!run.converged) {
-    warnings.push(`Not converged: the fit stopped after ${run.iterations} iterations while the log-likelihood was still changing, so it may not be at its best. Try fewer components or another seed.`);
+    warnings.push(`Not converged: the fit stopped after ${run.iterations} iteration${run.iterations === 1 ? "" : "s"} while the log-likelihood was still changing, so it may not be at its best. Try fewer components or another seed.`);
   }
   if (startsDisagree) {
     warnings.push(`Starts disagree: different starts reached nearly the same log-likelihood with different components, so the data do not pin these ${k} components down. Try fewer components, another seed, or more rows.`);

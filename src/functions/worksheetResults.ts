@@ -80,7 +80,9 @@ export function checkTable(shared: SharedFit, settings: FunctionSettings, kFromS
   ];
   if (exact) rows.push(["note", "exact fit (noise about 0)"]);
   if (kFromScan) rows.push(["note", `K = ${fit.k}, the number the scan suggests (no k was given)`]);
-  const warnings = [...new Set([...fit.warnings, ...separation.warnings])];
+  // The engine's advice names only what every surface has; here the settings can also allow more iterations.
+  const withSettings = (warning: string) => (/^Not converged:/.test(warning) ? `${warning.replace(/\.$/, "")}, or allow more iterations with the max_iterations setting.` : warning);
+  const warnings = [...new Set([...fit.warnings, ...separation.warnings])].map(withSettings);
   if (warnings.length === 0) rows.push(["warning", "none"]);
   for (const warning of warnings) rows.push(["warning", warning]);
   return table(["diagnostic", "value"], rows, showsHeader(settings, design.hasHeaderRow));
