@@ -118,6 +118,9 @@ export interface FitReport {
   rowsUsed: number;
   rowsSkipped: number;
   skipped: SkippedReport[];
+  /** The outcome column's name. */
+  outcome: string;
+  /** The same as outcome (its older name). */
   response: string;
   predictors: string[];
   intercept: boolean;
@@ -300,6 +303,7 @@ export async function computeFitReport(settings: FitSettings, progress?: (k: num
     rowsUsed: design.n,
     rowsSkipped: design.skipped.length,
     skipped: design.skipped.map((s) => ({ row: s.row + 1, column: s.column, reason: s.reason })),
+    outcome: design.yName,
     response: design.yName,
     predictors: design.predictorNames,
     intercept: settings.intercept,

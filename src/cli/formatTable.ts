@@ -23,7 +23,7 @@ export function formatFitTable(report: FitReport, source: { file: string; sheetN
   const lines: string[] = [];
   const where = source.sheetName ? `${source.file}, sheet ${source.sheetName}` : source.file;
   const componentWord = report.k === 1 ? "1 component" : `${report.k} components`;
-  lines.push(`${report.response} regressed on ${report.predictors.join(", ")} (${componentWord}, ${report.intercept ? "with" : "without"} intercept)`);
+  lines.push(`${report.outcome} regressed on ${report.predictors.join(", ")} (${componentWord}, ${report.intercept ? "with" : "without"} intercept)`);
   lines.push(kChoiceText(report));
   lines.push(`Data: ${where}; ${report.rowsUsed} rows used, ${report.rowsSkipped} skipped`);
   lines.push(`Log-likelihood ${formatNumber(report.logLikelihood)}; BIC ${formatNumber(report.bic)}; ICL ${formatNumber(report.icl)}`);

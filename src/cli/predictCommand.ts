@@ -71,6 +71,9 @@ export interface PredictReport {
   /** How K was chosen: given with --k, or the scan's suggestion over K = 1..kMax. */
   kChosenBy: { by: "given" } | { by: "scan"; kMax: number };
   model: string;
+  /** The outcome column's name. */
+  outcome: string;
+  /** The same as outcome (its older name). */
   response: string;
   predictors: string[];
   components: { weight: number; sigma: number; coefficients: number[] }[];
@@ -126,6 +129,7 @@ export async function predictCommand(argv: readonly string[], io: CommandIO): Pr
     k,
     kChosenBy,
     model,
+    outcome: design.yName,
     response: design.yName,
     predictors: design.predictorNames,
     components: fit.components.map((c) => ({ weight: c.weight, sigma: c.sigma, coefficients: Array.from(c.coefficients) })),

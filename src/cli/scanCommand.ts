@@ -79,6 +79,9 @@ export interface ScanReport {
   chosenK: number;
   rule: string;
   n: number;
+  /** The outcome column's name. */
+  outcome: string;
+  /** The same as outcome (its older name). */
   response: string;
   predictors: string[];
   intercept: boolean;
@@ -127,6 +130,7 @@ export async function scanCommand(argv: readonly string[], io: CommandIO): Promi
     chosenK: scan.chosenK,
     rule: scan.rule,
     n: design.n,
+    outcome: design.yName,
     response: design.yName,
     predictors: design.predictorNames,
     intercept,
@@ -157,7 +161,7 @@ export async function scanCommand(argv: readonly string[], io: CommandIO): Promi
 /** The readable table of skein scan: one row per K, then why each other K is not suggested. */
 export function formatScanTable(report: ScanReport, where: string): string {
   const lines: string[] = [];
-  lines.push(`${report.response} regressed on ${report.predictors.join(", ")} (${report.model} model, ${report.intercept ? "with" : "without"} intercept); ${where}, ${report.n} rows`);
+  lines.push(`${report.outcome} regressed on ${report.predictors.join(", ")} (${report.model} model, ${report.intercept ? "with" : "without"} intercept); ${where}, ${report.n} rows`);
   lines.push("");
   const rows = report.rows;
   const hasCv = rows.some((row) => row.crossValidatedLogLikelihood !== undefined);
