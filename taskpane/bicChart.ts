@@ -20,7 +20,7 @@ export interface ChartRow {
   flag: string | null;
 }
 
-/** The mark of a K that cannot be suggested, the same in the chart and the scan table. */
+/** The mark of a K that cannot be suggested (ruled out by the rule), the same in the chart and the scan table. */
 export const CANNOT_BE_SUGGESTED_MARK = "*";
 
 const WIDTH = 360;
@@ -102,7 +102,7 @@ export function drawBicChart(container: HTMLElement, rows: ChartRow[], suggested
   parts.push(`<text class="legend" x="${MARGIN.left + 28}" y="${ly}">BIC</text>`);
   parts.push(`<path d="M${MARGIN.left + 70},${ly - 4}h22" stroke="${ICL_COLOUR}" stroke-width="2" stroke-dasharray="6 4"/>${marker("square", MARGIN.left + 81, ly - 4, 4, `fill="${ICL_COLOUR}"`)}`);
   parts.push(`<text class="legend" x="${MARGIN.left + 98}" y="${ly}">ICL</text>`);
-  parts.push(`<text class="legend" x="${MARGIN.left + 140}" y="${ly}">hollow, ${CANNOT_BE_SUGGESTED_MARK} = cannot be suggested</text>`);
+  parts.push(`<text class="legend" x="${MARGIN.left + 140}" y="${ly}">hollow, ${CANNOT_BE_SUGGESTED_MARK} = ruled out</text>`);
   parts.push(`<text class="axis-title" transform="translate(13,${MARGIN.top + plotH / 2}) rotate(-90)" text-anchor="middle">lower is better</text>`);
 
   container.innerHTML = `<svg class="bic-chart" viewBox="0 0 ${WIDTH} ${HEIGHT}" role="group" aria-label="BIC and ICL against the number of components. Choose a number to see its fit.">${parts.join("")}</svg>`;

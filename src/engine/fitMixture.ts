@@ -740,10 +740,10 @@ function assembleFit(
   const icl = bic + 2 * entropy;
   const smallest = Math.min(...components.map((c) => c.weight));
   if (k > 1 && smallest * n < 2 * guards.minimumSize) {
-    warnings.push(`The smallest component holds only about ${Math.round(smallest * n)} rows for ${q} coefficients; its estimates are unreliable. Use fewer components or add rows.`);
+    warnings.push(`Small component: the smallest component holds only about ${Math.round(smallest * n)} rows for ${q} coefficients, so its estimates are unreliable. Use fewer components or add rows.`);
   }
   if (k > 1 && n < 5 * k * q) {
-    warnings.push(`There are only ${(n / (k * q)).toFixed(1)} rows per coefficient per component; mixtures of regressions need several times more to be found reliably. Add rows or use fewer components or predictors.`);
+    warnings.push(`There are only ${(n / (k * q)).toFixed(1)} rows per coefficient per component; components need several times more to be found reliably. Add rows or use fewer components or predictors.`);
   }
   return {
     k,
