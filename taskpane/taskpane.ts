@@ -3,6 +3,7 @@
  * plain-browser mode), picks how the engine runs (a Web Worker where there is
  * one), and builds the pane.
  */
+import { cssColourVariables } from "../src/report/componentStyle";
 import styles from "./taskpane.css";
 import { ExcelHost } from "./excelHost";
 import { mountBrowserPane, mountExcelPane } from "./mountPane";
@@ -18,7 +19,7 @@ function makeEngine(): Promise<PaneEngine> | PaneEngine {
 
 async function start(): Promise<void> {
   const style = document.createElement("style");
-  style.textContent = styles;
+  style.textContent = cssColourVariables() + styles;
   document.head.appendChild(style);
   const root = document.getElementById("app")!;
   const status = document.getElementById("status");

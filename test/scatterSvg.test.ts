@@ -88,12 +88,12 @@ describe("scatterSvg", () => {
 });
 
 describe("componentStyle", () => {
-  it("gives six different shapes before any repeats, and uses the icon's colours first", () => {
-    expect(new Set(MARKER_SHAPES).size).toBe(6);
-    expect(new Set([0, 1, 2, 3, 4, 5].map((c) => componentStyle(c).shape)).size).toBe(6);
-    expect(COMPONENT_COLOURS.slice(0, 3)).toEqual(["#1b7f79", "#c7761a", "#6b3fa0"]);
+  it("gives ten different shapes and colours before any repeats", () => {
+    expect(new Set(Array.from({ length: 10 }, (_, c) => componentStyle(c).shape)).size).toBe(10);
+    expect(new Set(Array.from({ length: 10 }, (_, c) => componentStyle(c).colour)).size).toBe(10);
+    expect(componentStyle(0).colour).toBe(COMPONENT_COLOURS[0]);
     const paths = MARKER_SHAPES.map((shape) => markerPath(shape, 4));
-    expect(new Set(paths).size).toBe(6);
+    expect(new Set(paths).size).toBe(MARKER_SHAPES.length);
   });
 });
 

@@ -3,7 +3,7 @@
  * line per component and a legend, as an SVG document in a string. No DOM and
  * no Node: the command line writes it to a file, the task pane puts it in the page.
  */
-import { componentStyle, markerPath } from "./componentStyle";
+import { NEUTRALS, componentStyle, markerPath } from "./componentStyle";
 
 export interface ScatterLine {
   /** 0-based component the line belongs to. */
@@ -32,8 +32,8 @@ export interface ScatterSpec {
 }
 
 const FONT = "font-family=\"system-ui, -apple-system, 'Segoe UI', sans-serif\"";
-const INK = "#2b2b2b";
-const GRID = "#e4e1da";
+const INK = NEUTRALS.ink;
+const GRID = NEUTRALS.grid;
 const MARKER_RADIUS = 4;
 const TICK_TARGET = 6;
 
@@ -154,10 +154,10 @@ export function scatterSvg(spec: ScatterSpec): string {
   }
   out.push(`<clipPath id="skein-plot-area"><rect x="${margin.left}" y="${margin.top}" width="${plotWidth}" height="${plotHeight}"/></clipPath>`);
   out.push("</defs>");
-  out.push(`<rect width="${width}" height="${height}" fill="#fdfcf9"/>`);
+  out.push(`<rect width="${width}" height="${height}" fill="${NEUTRALS.paper}"/>`);
   out.push(`<text x="${margin.left}" y="26" ${FONT} font-size="17" font-weight="600" fill="${INK}">${escapeXml(spec.title)}</text>`);
   subtitle.forEach((line, i) => {
-    out.push(`<text class="subtitle" x="${margin.left}" y="${46 + 17 * i}" ${FONT} font-size="12" fill="#5a5a5a">${escapeXml(line)}</text>`);
+    out.push(`<text class="subtitle" x="${margin.left}" y="${46 + 17 * i}" ${FONT} font-size="12" fill="${NEUTRALS.muted}">${escapeXml(line)}</text>`);
   });
 
   // Grid and tick labels.
@@ -172,7 +172,7 @@ export function scatterSvg(spec: ScatterSpec): string {
     out.push(`<line x1="${margin.left}" y1="${y}" x2="${margin.left + plotWidth}" y2="${y}" stroke="${GRID}"/>`);
     out.push(`<text x="${margin.left - 6}" y="${y}" dy="0.32em" text-anchor="end">${tickLabel(t)}</text>`);
   }
-  out.push(`<rect x="${margin.left}" y="${margin.top}" width="${plotWidth}" height="${plotHeight}" fill="none" stroke="#9a968c"/>`);
+  out.push(`<rect x="${margin.left}" y="${margin.top}" width="${plotWidth}" height="${plotHeight}" fill="none" stroke="${NEUTRALS.frame}"/>`);
   out.push(`<text class="x-label" x="${px(margin.left + plotWidth / 2)}" y="${height - 14}" text-anchor="middle" font-size="13">${escapeXml(spec.xLabel)}</text>`);
   out.push(`<text class="y-label" transform="translate(18,${px(margin.top + plotHeight / 2)}) rotate(-90)" text-anchor="middle" font-size="13">${escapeXml(spec.yLabel)}</text>`);
   out.push("</g>");
