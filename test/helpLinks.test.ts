@@ -21,9 +21,9 @@ function addinOrigin(): string {
   return new URL(source[1]).origin;
 }
 
-/** The ids of a page's elements. */
+/** The ids of a page's elements (quoted, or unquoted as the minified build writes them). */
 function idsOf(html: string): Set<string> {
-  return new Set([...html.matchAll(/\sid="([^"]+)"/g)].map((m) => m[1]));
+  return new Set([...html.matchAll(/\sid=(?:"([^"]+)"|([^\s"'>]+))/g)].map((m) => m[1] ?? m[2]));
 }
 
 /** What webpack writes to dist/ as pages: filename → template, from the HtmlWebpackPlugin instances of the add-in build. */
