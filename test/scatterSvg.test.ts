@@ -87,6 +87,38 @@ describe("scatterSvg", () => {
   });
 });
 
+describe("scatterSvg in a narrow pane", () => {
+  const narrow = () => {
+    const spec = threeGroups();
+    spec.title = "Fuel used on each trip against the distance driven, with the payload held at its average";
+    return scatterSvg({ ...spec, width: 300, height: 390 });
+  };
+  const numbers = (svg: string, pattern: RegExp) => [...svg.matchAll(pattern)].map((m) => Number(m[1]));
+
+  it("puts the legend under the plot frame and grows by its height", () => {
+    const svg = narrow();
+    expect(svg).toContain('height="' + (390 + 26 + 22 * 3) + '"');
+    const frame = /<rect x="([\d.]+)" y="([\d.]+)" width="([\d.]+)" height="([\d.]+)" fill="none"/.exec(svg)!;
+    const frameBottom = Number(frame[2]) + Number(frame[4]);
+    const legendYs = numbers(svg, /<text class="legend-entry" x="[\d.]+" y="([\d.]+)"/g);
+    expect(legendYs).toHaveLength(3);
+    for (const y of legendYs) expect(y).toBeGreaterThan(frameBottom + 40);
+    expect(Number(frame[1]) + Number(frame[3])).toBeLessThanOrEqual(300);
+  });
+
+  it("wraps a long title into lines that fit the width (about 0.56 em a character)", () => {
+    const lines = [...narrow().matchAll(/<text class="title"[^>]*font-size="(\d+)"[^>]*>([^<]*)</g)];
+    expect(lines.length).toBeGreaterThan(1);
+    for (const [, size, text] of lines) expect(10 + text.length * 0.56 * Number(size)).toBeLessThanOrEqual(300);
+  });
+
+  it("keeps the legend beside the plot at the demo's width", () => {
+    const svg = scatterSvg(threeGroups());
+    const legendXs = numbers(svg, /<text class="legend-entry" x="([\d.]+)"/g);
+    for (const x of legendXs) expect(x).toBeGreaterThan(720 - 190 - 8);
+  });
+});
+
 describe("componentStyle", () => {
   it("gives ten different shapes and colours before any repeats", () => {
     expect(new Set(Array.from({ length: 10 }, (_, c) => componentStyle(c).shape)).size).toBe(10);
