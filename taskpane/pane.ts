@@ -232,6 +232,19 @@ export class Pane {
     }
   }
 
+  /**
+   * New intercept or model: the scan and fit shown were made with the old ones, so they go
+   * (as when the ranges change), and the data are read again (the checks on the predictors
+   * depend on the intercept).
+   */
+  async setFitOptions(change: Partial<Pick<PaneState, "intercept" | "model">>): Promise<void> {
+    const changed = (Object.keys(change) as (keyof typeof change)[]).some((name) => change[name] !== this.state[name]);
+    if (!changed) return;
+    this.scanFlag?.abort();
+    this.update({ ...change, scan: null, scanStale: false, chosenK: null, fit: null, description: null, refreshNote: null, scanProblem: null });
+    await this.readData();
+  }
+
   setSeed(seed: number): void {
     this.update({ seed });
   }

@@ -11,6 +11,8 @@
  */
 import { buildDesign, type Design } from "../engine/design";
 import { SkeinError } from "../engine/errors";
+import { checkRowsForComponents } from "../engine/fitMixture";
+import { DEFAULT_KMAX, MAX_COMPONENTS } from "../engine/options";
 import type { MixtureFit } from "../engine/mixtureTypes";
 import type { ScanResult, SeparationReport } from "../engine/trustTypes";
 import { engineService } from "../service/engineService";
@@ -18,11 +20,6 @@ import { hashCells } from "../service/hashCells";
 import type { Lease } from "../service/resultCache";
 import { rowsThroughLastData, type RowLayout } from "./spill";
 import { fitSettingsKey, parseSettings, type FunctionSettings } from "./settings";
-
-/** Largest K the functions accept (the command line's cap too). */
-export const MAX_COMPONENTS = 50;
-/** SCAN's kmax when none is given: enough for most data, and cheap. */
-export const DEFAULT_KMAX = 5;
 
 /** A fit and the data it was made from, as cached (the same object for every formula). */
 export interface SharedFit {
@@ -58,19 +55,14 @@ export function readWholeNumber(value: unknown, name: string, fallback: number, 
   return number;
 }
 
-/**
- * Each component needs at least one more row than it has coefficients (issue 3's minimum
- * component size), so K components need K x (coefficients + 1) usable rows.
- */
+/** The engine's own row check (K x (coefficients + 1) rows), said with the rows skipped, before any work starts. */
 export function checkRowsForK(design: Design, k: number, intercept: boolean): void {
-  const coefficients = design.p + (intercept ? 1 : 0);
-  const needed = k * (coefficients + 1);
-  if (design.n < needed) {
-    const skipped = design.skipped.length > 0 ? ` (${design.skipped.length} row${design.skipped.length === 1 ? " was" : "s were"} skipped for blanks, text or errors)` : "";
-    throw new SkeinError(
-      "bad-input",
-      `k = ${k} needs at least ${needed} usable rows (each component needs one more row than its ${coefficients} coefficient${coefficients === 1 ? "" : "s"}), but there are ${design.n}${skipped}. Use a smaller k or add rows.`,
-    );
+  try {
+    checkRowsForComponents(design.n, design.p + (intercept ? 1 : 0), k);
+  } catch (error) {
+    if (!(error instanceof SkeinError) || design.skipped.length === 0) throw error;
+    const skipped = `${design.skipped.length} row${design.skipped.length === 1 ? " was" : "s were"} skipped for blanks, text or errors`;
+    throw new SkeinError(error.code, `${error.message} (${skipped}.)`);
   }
 }
 
@@ -131,7 +123,7 @@ export async function sharedScan(y: unknown, x: unknown, kMaxArgument: unknown, 
       // Without kmax: up to DEFAULT_KMAX, as far as the rows allow; with it, every K must fit.
       const kMax = requested === 0 ? Math.max(1, Math.min(DEFAULT_KMAX, Math.floor(design.n / (coefficients + 1)))) : requested;
       checkRowsForK(design, kMax, settings.intercept);
-      return { design, options: { kMax, seed: settings.seed, intercept: settings.intercept, model: settings.model, restarts: settings.restarts } };
+      return { design, options: { kMax, seed: settings.seed, intercept: settings.intercept, model: settings.model, restarts: settings.restarts, tolerance: settings.tolerance, maxIterations: settings.maxIterations } };
     },
   });
   return { shared: await follow(lease, invocation), settings };
