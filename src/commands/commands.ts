@@ -3,7 +3,7 @@
  * taskpane.html), beside the worksheet functions and the task pane, and reach the engine
  * through the same engine service.
  */
-import { engineService } from "../service/engineService";
+import { pageEngineService } from "../service/pageGlobal";
 
 /**
  * Refits every SKEIN formula now: the service forgets its cached results (a full
@@ -13,7 +13,8 @@ import { engineService } from "../service/engineService";
  */
 export async function refitAll(event: Office.AddinCommands.Event): Promise<void> {
   try {
-    engineService.forgetResults();
+    // No service yet means no formula has run: nothing cached to forget.
+    pageEngineService()?.forgetResults();
     await Excel.run(async (context) => {
       context.workbook.application.calculate(Excel.CalculationType.full);
       await context.sync();

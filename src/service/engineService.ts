@@ -20,6 +20,7 @@ import { Cancellation } from "./cancellation";
 import type { FitDescription, FitJobOptions, Progress, ScanJobOptions } from "./engineJobs";
 import { runJob, type Place } from "./engineRunner";
 import { FitMemory } from "./fitMemory";
+import { sharedEngineService } from "./pageGlobal";
 import { ResultCache, type Lease } from "./resultCache";
 
 /** What a caller keeps with a result: at least the design it was fitted to. */
@@ -128,10 +129,5 @@ export class EngineService {
   }
 }
 
-/**
- * The page's one service. The worksheet functions, the ribbon commands and the pane are
- * separate webpack entries on the shared-runtime page, each with its own copy of this module;
- * the first one loaded makes the service and the others find it on the page's global object.
- */
-const pageGlobal = globalThis as { skeinEngineService?: EngineService };
-export const engineService: EngineService = (pageGlobal.skeinEngineService ??= new EngineService());
+/** The page's one service, shared by every entry on the page (see pageGlobal.ts). */
+export const engineService: EngineService = sharedEngineService(() => new EngineService());
