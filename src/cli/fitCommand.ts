@@ -8,9 +8,13 @@ import { checkSeparation } from "../engine/checkSeparation";
 import { standardErrors } from "../engine/standardErrors";
 import type { MixtureFit, MixtureModel, RefinementReport, WarmStartReport } from "../engine/mixtureTypes";
 import type { SeparationReport } from "../engine/trustTypes";
-import { parseArgs, parseList, parseModel, parseWholeNumber, type FlagKinds } from "./args";
+import type { OptionName } from "../engine/options";
+import { optionFlags, optionHelp, parseArgs, parseList, parseWholeNumber, readGivenOption, readOption, type FlagKinds } from "./args";
 import { loadDesign } from "./loadDesign";
 import { formatFitTable } from "./formatTable";
+
+/** The options of the table that skein fit takes. */
+const FIT_OPTIONS: readonly OptionName[] = ["k", "model", "seed", "restarts", "tolerance", "max_iterations", "intercept"];
 
 export const FIT_USAGE = `Usage: skein fit FILE --y COLUMN [--x COLUMN,COLUMN,...] [options]
 
@@ -23,16 +27,10 @@ and listed.
   --x COLUMNS       predictor columns, separated by commas; default: every
                     other column that holds mostly numbers
   --sheet NAME      the worksheet of an .xlsx file (default: the first)
-  --k N             number of components (default 1)
-  --model NAME      plain (y given x per component, the default) or joint
-                    (each component also models where its x lie)
-  --restarts N      alternative starts refined briefly before the best is
-                    refined fully (default: the engine's choice)
-  --seed S          seed for the random starts of a mixture fit (default 1)
+${optionHelp(FIT_OPTIONS, 20)}
   --bootstrap N     standard errors from N bootstrap refits (components
                     matched to this fit in each) instead of the observed
                     information; slower
-  --no-intercept    fit without an intercept
   --json            write one JSON object instead of a table
   --help            show this help
 
@@ -43,19 +41,12 @@ const FIT_FLAGS: FlagKinds = {
   y: "value",
   x: "value",
   sheet: "value",
-  k: "value",
-  model: "value",
-  restarts: "value",
-  seed: "value",
+  ...optionFlags(FIT_OPTIONS),
   bootstrap: "value",
-  "no-intercept": "switch",
   json: "switch",
   help: "switch",
   h: "switch",
 };
-
-/** Largest K the command accepts as an argument; the fit itself decides what is available. */
-const MAX_COMPONENTS = 50;
 
 export interface FitSettings {
   file: string;
@@ -69,6 +60,8 @@ export interface FitSettings {
   model: MixtureModel;
   /** undefined: the engine's default. */
   restarts?: number;
+  tolerance?: number;
+  maxIterations?: number;
   /** Bootstrap replicates for the standard errors; undefined: observed information. */
   bootstrap?: number;
   json: boolean;
@@ -138,7 +131,8 @@ export interface ModelFit {
 
 /** Turns the fit command's arguments into settings, or "help". */
 export function parseFitSettings(argv: readonly string[]): FitSettings | "help" {
-  const { positionals, values, switches } = parseArgs(argv, FIT_FLAGS, "fit");
+  const parsed = parseArgs(argv, FIT_FLAGS, "fit");
+  const { positionals, values, switches } = parsed;
   if (switches.has("help") || switches.has("h")) return "help";
   if (positionals.length === 0) throw new SkeinError("bad-input", "No data file given; name one, as in: skein fit data.csv --y COLUMN");
   if (positionals.length > 1) {
@@ -147,20 +141,19 @@ export function parseFitSettings(argv: readonly string[]): FitSettings | "help" 
   const y = values.get("y");
   if (y === undefined) throw new SkeinError("bad-input", "No response column given; name it, as in --y COLUMN");
   const xText = values.get("x");
-  const kText = values.get("k");
-  const seedText = values.get("seed");
-  const restartsText = values.get("restarts");
   const bootstrapText = values.get("bootstrap");
   return {
     file: positionals[0],
     sheet: values.get("sheet"),
     y,
     x: xText === undefined ? undefined : parseList(xText, "x", "fit"),
-    k: kText === undefined ? 1 : parseWholeNumber(kText, "k", "fit", 1, MAX_COMPONENTS),
-    seed: seedText === undefined ? 1 : parseWholeNumber(seedText, "seed", "fit", 0, 2 ** 32 - 1),
-    intercept: !switches.has("no-intercept"),
-    model: parseModel(values.get("model"), "fit"),
-    restarts: restartsText === undefined ? undefined : parseWholeNumber(restartsText, "restarts", "fit", 0, 1000),
+    k: readOption(parsed, "k", "fit") as number,
+    seed: readOption(parsed, "seed", "fit") as number,
+    intercept: readOption(parsed, "intercept", "fit") as boolean,
+    model: readOption(parsed, "model", "fit") as MixtureModel,
+    restarts: readGivenOption(parsed, "restarts", "fit") as number | undefined,
+    tolerance: readGivenOption(parsed, "tolerance", "fit") as number | undefined,
+    maxIterations: readGivenOption(parsed, "max_iterations", "fit") as number | undefined,
     bootstrap: bootstrapText === undefined ? undefined : parseWholeNumber(bootstrapText, "bootstrap", "fit", 10, 10000),
     json: switches.has("json"),
   };
@@ -172,14 +165,13 @@ export function parseFitSettings(argv: readonly string[]): FitSettings | "help" 
  * ordinary least squares, and the report gives the classical least-squares standard
  * errors (n − q degrees of freedom), the ones regression tables and NIST certify.
  */
-export function fitModel(design: Design, settings: Pick<FitSettings, "k" | "seed" | "intercept" | "model" | "restarts" | "bootstrap">): ModelFit {
-  const mixture = withColumnNames(design, settings.intercept, () =>
-    fitMixture(design, { k: settings.k, seed: settings.seed, intercept: settings.intercept, model: settings.model, restarts: settings.restarts }),
-  );
+export function fitModel(design: Design, settings: Pick<FitSettings, "k" | "seed" | "intercept" | "model" | "restarts" | "tolerance" | "maxIterations" | "bootstrap">): ModelFit {
+  const { k, seed, intercept, model, restarts, tolerance, maxIterations } = settings;
+  const mixture = withColumnNames(design, settings.intercept, () => fitMixture(design, { k, seed, intercept, model, restarts, tolerance, maxIterations }));
   const errors =
     settings.bootstrap === undefined
       ? standardErrors(design, mixture)
-      : standardErrors(design, mixture, { method: "bootstrap", replicates: settings.bootstrap, seed: settings.seed, fitOptions: { restarts: settings.restarts } });
+      : standardErrors(design, mixture, { method: "bootstrap", replicates: settings.bootstrap, seed: settings.seed, fitOptions: { restarts, tolerance, maxIterations } });
   let coefficientErrors = errors.coefficients.map((c) => Array.from(c));
   let method: string = errors.method;
   if (settings.k === 1 && settings.model === "plain" && settings.bootstrap === undefined) {

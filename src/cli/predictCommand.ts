@@ -2,9 +2,14 @@ import * as path from "path";
 import { SkeinError } from "../engine/errors";
 import { fitMixture } from "../engine/fitMixture";
 import { predictRows } from "../engine/predictRows";
-import { parseArgs, parseList, parseModel, parseWholeNumber, type FlagKinds } from "./args";
+import type { MixtureModel } from "../engine/mixtureTypes";
+import type { OptionName } from "../engine/options";
+import { optionFlags, optionHelp, parseArgs, parseList, readGivenOption, readOption, type FlagKinds } from "./args";
 import { formatNumber } from "./formatTable";
 import { loadDesign, loadNewRows } from "./loadDesign";
+
+/** The options of the table that skein predict takes. */
+const PREDICT_OPTIONS: readonly OptionName[] = ["k", "model", "seed", "restarts", "tolerance", "max_iterations", "intercept"];
 
 export const PREDICT_USAGE = `Usage: skein predict FILE --y COLUMN [--x COLUMN,COLUMN,...] --k N --new NEWFILE [options]
 
@@ -17,13 +22,10 @@ where the new row's x lie; with the plain model they are the weights.
   --y COLUMN          the response column of FILE (required)
   --x COLUMNS         predictor columns, separated by commas; default: every
                       other column of FILE that holds mostly numbers
-  --k N               number of components (required)
   --new NEWFILE       .csv or .xlsx file of new rows (required)
   --sheet NAME        the worksheet of an .xlsx FILE (default: the first)
   --new-sheet NAME    the worksheet of an .xlsx NEWFILE (default: the first)
-  --seed S            seed for the random starts (default 1)
-  --model plain|joint (default plain)
-  --no-intercept      fit without an intercept
+${optionHelp(PREDICT_OPTIONS, 22, { k: "required" })}
   --json              write one JSON object instead of a table
   --help              show this help
 
@@ -33,19 +35,14 @@ Example: skein predict sales.csv --y revenue --x price,advertising --k 2 --new n
 const PREDICT_FLAGS: FlagKinds = {
   y: "value",
   x: "value",
-  k: "value",
   new: "value",
   sheet: "value",
   "new-sheet": "value",
-  seed: "value",
-  model: "value",
-  "no-intercept": "switch",
+  ...optionFlags(PREDICT_OPTIONS),
   json: "switch",
   help: "switch",
   h: "switch",
 };
-
-const MAX_COMPONENTS = 50;
 
 /** One new row's prediction; null in `rows` for a new row skipped for a non-numeric cell. */
 export interface PredictedRow {
@@ -70,7 +67,8 @@ export interface PredictReport {
 
 /** `skein predict`: returns the exit status; SkeinErrors propagate to main. */
 export async function predictCommand(argv: readonly string[], io: { stdout: (s: string) => void }): Promise<number> {
-  const { positionals, values, switches } = parseArgs(argv, PREDICT_FLAGS, "predict");
+  const parsed = parseArgs(argv, PREDICT_FLAGS, "predict");
+  const { positionals, values, switches } = parsed;
   if (switches.has("help") || switches.has("h")) {
     io.stdout(PREDICT_USAGE);
     return 0;
@@ -82,13 +80,20 @@ export async function predictCommand(argv: readonly string[], io: { stdout: (s: 
   if (kText === undefined) throw new SkeinError("bad-input", "skein predict needs the number of components, as in --k 2 (skein scan suggests one)");
   const newFile = values.get("new");
   if (newFile === undefined) throw new SkeinError("bad-input", "skein predict needs the file of new rows, as in --new new.csv");
-  const k = parseWholeNumber(kText, "k", "predict", 1, MAX_COMPONENTS);
-  const seedText = values.get("seed");
+  const k = readOption(parsed, "k", "predict") as number;
   const xText = values.get("x");
-  const model = parseModel(values.get("model"), "predict");
-  const intercept = !switches.has("no-intercept");
+  const model = readOption(parsed, "model", "predict") as MixtureModel;
+  const intercept = readOption(parsed, "intercept", "predict") as boolean;
   const { design } = await loadDesign({ file: positionals[0], sheet: values.get("sheet"), y, x: xText === undefined ? undefined : parseList(xText, "x", "predict"), intercept });
-  const fit = fitMixture(design, { k, seed: seedText === undefined ? 1 : parseWholeNumber(seedText, "seed", "predict", 0, 2 ** 32 - 1), intercept, model });
+  const fit = fitMixture(design, {
+    k,
+    seed: readOption(parsed, "seed", "predict") as number,
+    intercept,
+    model,
+    restarts: readGivenOption(parsed, "restarts", "predict") as number | undefined,
+    tolerance: readGivenOption(parsed, "tolerance", "predict") as number | undefined,
+    maxIterations: readGivenOption(parsed, "max_iterations", "predict") as number | undefined,
+  });
   const newRows = await loadNewRows(newFile, design.predictorNames, values.get("new-sheet"));
   const prediction = predictRows(fit, newRows.x, newRows.m);
   const rows: (PredictedRow | null)[] = new Array(newRows.inputRows).fill(null);
