@@ -1,0 +1,286 @@
+/**
+ * The one rule that decides what each column of a table read from a file
+ * holds, used by every reader (CSV and xlsx, command line and task pane).
+ * Host-free.
+ *
+ * - Numbers written as text are read when the whole column writes them one
+ *   way: plain, percentages (12.3% becomes 0.123), thousands separators
+ *   ("1,234.5"), a currency symbol ("$3.50"); a decimal comma only in files
+ *   separated by semicolons or tabs. A column mixing styles stays text, and
+ *   a notice says so.
+ * - Dates (workbook date cells, or date text) become serial day numbers, as
+ *   Excel hands them to a function, and the column is kind "date".
+ * - A column named like an identifier (ID, "Trip ID", customer_id), or whose
+ *   values are all different whole numbers (or all different text) over at
+ *   least IDENTIFIER_MIN_ROWS rows, is kind "identifier".
+ * - A column of mostly text or booleans, with at most CATEGORY_MAX_LEVELS
+ *   different values, is kind "category": its cells stay text (or booleans)
+ *   for the design to turn into indicator columns.
+ * - "number" and "category" columns join the default predictors; "date",
+ *   "identifier", "text" and "empty" columns do not, and the caller names them.
+ * - A header name used twice is renamed with its column letter ("Price (B)",
+ *   "Price (E)"), never silently resolved to the first.
+ */
+import { readDateText, serialOfDate, serialOfParts, type DateParts } from "./dateText";
+import { describeStyle, readNumberText, type NumberReading } from "./numberText";
+
+/** A cell of a table handed to the engine: a number, text, a boolean or null for blank. */
+export type Cell = number | string | boolean | null;
+/** A cell as a reader delivers it, before the column rule: workbooks may also give dates. */
+export type RawCell = Cell | Date;
+
+export type ColumnKind = "number" | "category" | "date" | "identifier" | "text" | "empty";
+
+export interface ColumnType {
+  /** The name used to choose the column (unique in the table). */
+  name: string;
+  /** 0-based position in the table's rows. */
+  position: number;
+  /** The column's letter in the sheet (A, B, ..., AA). */
+  letter: string;
+  kind: ColumnKind;
+  /** Whether the column joins the default predictors ("number" and "category" columns). */
+  defaultPredictor: boolean;
+  /** Why the column has its kind, in a few words ("dates", "identifier: every value a different whole number"). */
+  reason: string;
+  /** How text cells were read as numbers, when they were ("percent, 12.3% read as 0.123", "currency $"). */
+  converted?: string;
+  /** Different values of a category column. */
+  levels?: number;
+}
+
+export interface TypedColumns {
+  names: string[];
+  /** The data rows with converted cells, one cell per column. */
+  rows: Cell[][];
+  columns: ColumnType[];
+  /** Sentences for the user: conversions, renamed headers, columns whose text could not be read. */
+  notices: string[];
+}
+
+export interface ColumnRuleOptions {
+  /** Whether numbers may use a decimal comma (files separated by semicolons or tabs). */
+  decimalComma?: boolean;
+  /** Whether the cells come from a workbook, where a number stored as text is worth a notice. */
+  fromWorkbook?: boolean;
+  /** 0-based sheet column of the table's first column, for the letters (default 0). */
+  firstColumn?: number;
+  /** Whether workbook dates count days in the 1904 date system (older Mac workbooks). */
+  date1904?: boolean;
+}
+
+/** The 1904 date system's serial numbers are this many days smaller than the 1900 system's. */
+const DAYS_1900_TO_1904 = 1462;
+
+/** Identifier-like values are recognised only over this many rows: a few distinct whole numbers prove nothing. */
+export const IDENTIFIER_MIN_ROWS = 10;
+/** A text column with more different values than this is no category (too many indicator columns). */
+export const CATEGORY_MAX_LEVELS = 20;
+
+/** Worksheet error values as readers deliver them (text): they are neither numbers nor categories. */
+const ERROR_TEXTS = new Set([
+  "#NULL!", "#DIV/0!", "#VALUE!", "#REF!", "#NAME?", "#NUM!", "#N/A", "#GETTING_DATA",
+  "#SPILL!", "#CALC!", "#FIELD!", "#BLOCKED!", "#CONNECT!", "#BUSY!", "#UNKNOWN!", "#EXTERNAL!",
+]);
+
+export function isErrorText(value: unknown): boolean {
+  return typeof value === "string" && ERROR_TEXTS.has(value.trim().toUpperCase());
+}
+
+/** Header names that say a column identifies rows: ID, "Trip ID", customer_id, TripId, Identifier. */
+const IDENTIFIER_WORD = /(^|[^a-z])(id|identifier)($|[^a-z])/i;
+const IDENTIFIER_SUFFIX = /[a-z](ID|Id)$/;
+
+export function looksLikeIdentifierName(name: string): boolean {
+  return IDENTIFIER_WORD.test(name) || IDENTIFIER_SUFFIX.test(name);
+}
+
+/** The letters of a 0-based column index: 0 -> A, 25 -> Z, 26 -> AA. */
+export function columnLetter(index: number): string {
+  let letters = "";
+  for (let n = index + 1; n > 0; n = Math.floor((n - 1) / 26)) letters = String.fromCharCode(65 + ((n - 1) % 26)) + letters;
+  return letters;
+}
+
+/** The 0-based column index of letters such as "AA", or undefined when the text is not 1-3 letters. */
+export function columnIndexOfLetters(text: string): number | undefined {
+  if (!/^[A-Za-z]{1,3}$/.test(text)) return undefined;
+  let index = 0;
+  for (const c of text.toUpperCase()) index = index * 26 + (c.charCodeAt(0) - 64);
+  return index - 1;
+}
+
+function isBlank(cell: RawCell | undefined): boolean {
+  return cell === null || cell === undefined || (typeof cell === "string" && cell.trim() === "");
+}
+
+/** The header row's cells as names: trimmed text, numbers as written, "column C" for a blank. */
+export function headerNamesOf(header: readonly RawCell[], width: number, firstColumn: number): { names: string[]; notices: string[] } {
+  const names: string[] = [];
+  for (let j = 0; j < width; j++) {
+    const cell = header[j];
+    if (isBlank(cell)) names.push(`column ${columnLetter(firstColumn + j)}`);
+    else if (cell instanceof Date) names.push(cell.toISOString().slice(0, 10));
+    else names.push(String(cell).trim());
+  }
+  const notices: string[] = [];
+  const seen = new Map<string, number[]>();
+  names.forEach((name, j) => seen.set(name, [...(seen.get(name) ?? []), j]));
+  for (const [name, positions] of seen) {
+    if (positions.length < 2) continue;
+    const renamed = positions.map((j) => `${name} (${columnLetter(firstColumn + j)})`);
+    positions.forEach((j, i) => (names[j] = renamed[i]));
+    notices.push(`The header "${name}" names ${positions.length} columns (${positions.map((j) => columnLetter(firstColumn + j)).join(", ")}); they are called ${renamed.map((r) => `"${r}"`).join(", ")} here. Rename them in the file to choose names.`);
+  }
+  return { names, notices };
+}
+
+/**
+ * Applies the column rule to a header row and the data rows below it. Rows
+ * shorter than the header are padded with blanks (the caller checks shapes
+ * first when a ragged file is an error).
+ */
+export function typeColumns(header: readonly RawCell[], body: readonly (readonly RawCell[])[], options: ColumnRuleOptions = {}): TypedColumns {
+  const firstColumn = options.firstColumn ?? 0;
+  const width = header.length;
+  const { names, notices } = headerNamesOf(header, width, firstColumn);
+  const rows: Cell[][] = body.map(() => new Array<Cell>(width).fill(null));
+  const columns: ColumnType[] = [];
+  const decimal: "." | "," = options.decimalComma ? "," : ".";
+  for (let j = 0; j < width; j++) {
+    const cells = body.map((row) => row[j] ?? null);
+    const decided = decideColumn(names[j], cells, decimal, options.fromWorkbook ?? false, options.date1904 ? DAYS_1900_TO_1904 : 0);
+    decided.values.forEach((value, i) => (rows[i][j] = value));
+    columns.push({ name: names[j], position: j, letter: columnLetter(firstColumn + j), ...decided.type });
+    if (decided.notice) notices.push(decided.notice);
+  }
+  return { names, rows, columns, notices };
+}
+
+interface Decision {
+  values: Cell[];
+  type: Omit<ColumnType, "name" | "position" | "letter">;
+  notice?: string;
+}
+
+function decideColumn(name: string, cells: RawCell[], decimal: "." | ",", fromWorkbook: boolean, dateShift: number): Decision {
+  const values: Cell[] = cells.map((cell) => (cell instanceof Date ? serialOfDate(cell) - dateShift : isBlank(cell) ? null : (cell as Cell)));
+  let filled = 0;
+  let workbookDates = 0;
+  const texts: number[] = [];
+  for (let i = 0; i < cells.length; i++) {
+    const cell = cells[i];
+    if (isBlank(cell)) continue;
+    filled++;
+    if (cell instanceof Date) workbookDates++;
+    else if (typeof cell === "string" && !isErrorText(cell)) texts.push(i);
+  }
+  if (filled === 0) return { values, type: { kind: "empty", defaultPredictor: false, reason: "empty" } };
+
+  // Numbers written as text: one style for the whole column.
+  let notice: string | undefined;
+  let converted: string | undefined;
+  const readings: (NumberReading | undefined)[] = texts.map((i) => readNumberText(cells[i] as string, decimal));
+  const numeric = readings.filter((r): r is NumberReading => r !== undefined);
+  if (numeric.length > 0) {
+    const styles = new Set(numeric.map((r) => `${r.percent ? "%" : ""}|${r.currency}`));
+    const groups = new Set(numeric.map((r) => r.group).filter((g) => g !== ""));
+    if (styles.size === 1 && groups.size <= 1) {
+      readings.forEach((reading, k) => {
+        if (reading !== undefined) values[texts[k]] = reading.value;
+      });
+      const style = { percent: numeric[0].percent, currency: numeric[0].currency, group: [...groups][0] ?? "" };
+      const description = describeStyle(style);
+      if (description !== "" || fromWorkbook) converted = description !== "" ? description : "numbers stored as text";
+    } else {
+      const examples = distinctExamples(texts.map((i) => cells[i] as string).filter((_, k) => readings[k] !== undefined), 3);
+      notice = `${name} writes numbers in more than one way (${examples.join(", ")}); its cells are kept as text. Write the column one way (for example all with or all without %, one currency, one thousands separator).`;
+    }
+  }
+
+  // Dates: workbook date cells, or date text that reads one way over the column.
+  let dateCount = workbookDates;
+  let dateNote = "";
+  const dateParts = texts.map((i) => (typeof values[i] === "string" ? readDateText(values[i] as string) : undefined));
+  const textDates = dateParts.filter((p) => p !== undefined).length;
+  if (textDates > 0 && 2 * (workbookDates + textDates) > filled) {
+    const order = dayMonthOrder(dateParts);
+    if (order === "unclear") dateNote = "; day and month order unclear, kept as text";
+    else {
+      dateParts.forEach((parts, k) => {
+        if (parts === undefined) return;
+        const serial = parts.order === "known"
+          ? serialOfParts(parts.year, parts.month, parts.day, parts.dayFraction)
+          : order === "day first" ? serialOfParts(parts.year, parts.b, parts.a, parts.dayFraction) : serialOfParts(parts.year, parts.a, parts.b, parts.dayFraction);
+        if (serial !== undefined) values[texts[k]] = serial;
+      });
+    }
+    dateCount += textDates;
+  }
+  if (2 * dateCount > filled) {
+    return { values, type: { kind: "date", defaultPredictor: false, reason: `dates${dateNote}` }, notice };
+  }
+
+  let numbers = 0;
+  let textOrLogical = 0;
+  const distinct = new Set<Cell>();
+  let wholeAndDistinct = true;
+  for (const value of values) {
+    if (value === null) continue;
+    if (typeof value === "number") {
+      numbers++;
+      if (!Number.isInteger(value) || distinct.has(value)) wholeAndDistinct = false;
+    } else if (typeof value === "boolean" || !isErrorText(value)) {
+      textOrLogical++;
+    }
+    distinct.add(typeof value === "string" ? value.trim() : value);
+  }
+  const withConversion = converted ? { converted } : {};
+  if (looksLikeIdentifierName(name)) {
+    return { values, type: { kind: "identifier", defaultPredictor: false, reason: "identifier, by its name", ...withConversion }, notice };
+  }
+  if (2 * numbers > filled) {
+    if (numbers === filled && wholeAndDistinct && numbers >= IDENTIFIER_MIN_ROWS) {
+      return { values, type: { kind: "identifier", defaultPredictor: false, reason: "identifier: every value a different whole number", ...withConversion }, notice };
+    }
+    return { values, type: { kind: "number", defaultPredictor: true, reason: "numbers", ...withConversion }, notice };
+  }
+  if (textOrLogical === 0) return { values, type: { kind: "text", defaultPredictor: false, reason: "error values only" }, notice };
+  const levels = distinct.size;
+  if (levels === filled && filled >= IDENTIFIER_MIN_ROWS) {
+    return { values, type: { kind: "identifier", defaultPredictor: false, reason: "identifier: every value different" }, notice };
+  }
+  if (levels > CATEGORY_MAX_LEVELS) {
+    return { values, type: { kind: "text", defaultPredictor: false, reason: `text with ${levels} different values`, levels }, notice };
+  }
+  return { values, type: { kind: "category", defaultPredictor: true, reason: `categories (${levels} value${levels === 1 ? "" : "s"})`, levels }, notice };
+}
+
+/** "day first", "month first" or "unclear" for a column of a/b/year dates; "known" dates vote for neither. */
+function dayMonthOrder(parts: (DateParts | undefined)[]): "day first" | "month first" | "unclear" {
+  let dayFirst = false;
+  let monthFirst = false;
+  let open = false;
+  for (const p of parts) {
+    if (p === undefined || p.order === "known") continue;
+    open = true;
+    if (p.a > 12) dayFirst = true;
+    if (p.b > 12) monthFirst = true;
+  }
+  if (!open) return "day first"; // no open dates: the order is never used
+  if (dayFirst === monthFirst) return "unclear";
+  return dayFirst ? "day first" : "month first";
+}
+
+function distinctExamples(texts: string[], count: number): string[] {
+  const shown: string[] = [];
+  const styles = new Set<string>();
+  for (const text of texts) {
+    const key = text.replace(/\d+/g, "0");
+    if (styles.has(key)) continue;
+    styles.add(key);
+    shown.push(`"${text.trim()}"`);
+    if (shown.length === count) break;
+  }
+  return shown;
+}
