@@ -8,9 +8,10 @@ import { checkSeparation } from "../engine/checkSeparation";
 import { standardErrors } from "../engine/standardErrors";
 import type { MixtureFit, MixtureModel, RefinementReport, WarmStartReport } from "../engine/mixtureTypes";
 import type { SeparationReport } from "../engine/trustTypes";
-import { parseArgs, parseList, parseModel, parseWholeNumber, type FlagKinds } from "./args";
-import { loadDesign } from "./loadDesign";
+import { FILE_OPTIONS_HELP, parseArgs, parseHeaderRow, parseList, parseModel, parseWholeNumber, type FlagKinds } from "./args";
+import { loadDesign, type ColumnReport } from "./loadDesign";
 import { formatFitTable } from "./formatTable";
+import { formatNotices } from "./formatNotices";
 
 export const FIT_USAGE = `Usage: skein fit FILE --y COLUMN [--x COLUMN,COLUMN,...] [options]
 
@@ -21,8 +22,8 @@ and listed.
 
   --y COLUMN        the response column (required)
   --x COLUMNS       predictor columns, separated by commas; default: every
-                    other column that holds mostly numbers
-  --sheet NAME      the worksheet of an .xlsx file (default: the first)
+                    other column of numbers or categories (dates and
+                    identifier columns are left out, and the output says so)
   --k N             number of components (default 1)
   --model NAME      plain (y given x per component, the default) or joint
                     (each component also models where its x lie)
@@ -35,7 +36,7 @@ and listed.
   --no-intercept    fit without an intercept
   --json            write one JSON object instead of a table
   --help            show this help
-
+${FILE_OPTIONS_HELP}
 Example: skein fit sales.csv --y revenue --x price,advertising
 `;
 
@@ -43,6 +44,7 @@ const FIT_FLAGS: FlagKinds = {
   y: "value",
   x: "value",
   sheet: "value",
+  "header-row": "value",
   k: "value",
   model: "value",
   restarts: "value",
@@ -60,8 +62,10 @@ const MAX_COMPONENTS = 50;
 export interface FitSettings {
   file: string;
   sheet?: string;
+  /** 1-based row (line) of the header; undefined: the first non-empty one. */
+  headerRow?: number;
   y: string;
-  /** Predictor names in the user's order; undefined: every other mostly numeric column. */
+  /** Predictor names (or letters, #numbers) in the user's order; undefined: every other number or category column. */
   x?: string[];
   k: number;
   seed: number;
@@ -118,6 +122,10 @@ export interface FitReport {
   /** Standard errors: per component coefficients (as in components[].stdErrors), weights and noise SDs. */
   stdErrors: { method: string; weights: number[]; sigmas: number[] };
   timings: { readMs: number; fitMs: number };
+  /** Every column of the file: its kind (number, category, date, identifier, text, empty) and role. */
+  columns: ColumnReport[];
+  /** How the file was read: encoding, sheet, conversions, renamed headers, columns left out. */
+  notices: string[];
 }
 
 /** What a model fit hands back, whatever the number of components. */
@@ -154,6 +162,7 @@ export function parseFitSettings(argv: readonly string[]): FitSettings | "help" 
   return {
     file: positionals[0],
     sheet: values.get("sheet"),
+    headerRow: parseHeaderRow(values.get("header-row"), "fit"),
     y,
     x: xText === undefined ? undefined : parseList(xText, "x", "fit"),
     k: kText === undefined ? 1 : parseWholeNumber(kText, "k", "fit", 1, MAX_COMPONENTS),
@@ -229,7 +238,7 @@ function classicalStdErrors(design: Design, intercept: boolean): number[] {
 /** Everything the command computes, before it is written out. */
 export async function computeFitReport(settings: FitSettings): Promise<{ report: FitReport; sheetName?: string }> {
   const readStart = performance.now();
-  const { design, sheetName } = await loadDesign(settings);
+  const { design, sheetName, columns, notices } = await loadDesign(settings);
   const readMs = performance.now() - readStart;
 
   const fitStart = performance.now();
@@ -262,6 +271,8 @@ export async function computeFitReport(settings: FitSettings): Promise<{ report:
     separation: model.separation,
     stdErrors: { method: model.stdErrorMethod, weights: model.weightStdErrors, sigmas: model.sigmaStdErrors },
     timings: { readMs, fitMs },
+    columns,
+    notices,
   };
   return { report, sheetName };
 }
@@ -275,6 +286,6 @@ export async function fitCommand(argv: readonly string[], io: { stdout: (s: stri
   }
   const { report, sheetName } = await computeFitReport(settings);
   if (settings.json) io.stdout(JSON.stringify(report) + "\n");
-  else io.stdout(formatFitTable(report, { file: path.basename(settings.file), sheetName }));
+  else io.stdout(formatFitTable(report, { file: path.basename(settings.file), sheetName }) + formatNotices(report.notices));
   return 0;
 }

@@ -2,9 +2,10 @@ import * as path from "path";
 import { SkeinError } from "../engine/errors";
 import { fitMixture } from "../engine/fitMixture";
 import { predictRows } from "../engine/predictRows";
-import { parseArgs, parseList, parseModel, parseWholeNumber, type FlagKinds } from "./args";
+import { FILE_OPTIONS_HELP, parseArgs, parseHeaderRow, parseList, parseModel, parseWholeNumber, type FlagKinds } from "./args";
+import { formatNotices } from "./formatNotices";
 import { formatNumber } from "./formatTable";
-import { loadDesign, loadNewRows } from "./loadDesign";
+import { loadDesign, loadNewRows, type ColumnReport } from "./loadDesign";
 
 export const PREDICT_USAGE = `Usage: skein predict FILE --y COLUMN [--x COLUMN,COLUMN,...] --k N --new NEWFILE [options]
 
@@ -16,17 +17,18 @@ where the new row's x lie; with the plain model they are the weights.
 
   --y COLUMN          the response column of FILE (required)
   --x COLUMNS         predictor columns, separated by commas; default: every
-                      other column of FILE that holds mostly numbers
+                      other column of FILE of numbers or categories (dates and
+                      identifier columns are left out, and the output says so)
   --k N               number of components (required)
   --new NEWFILE       .csv or .xlsx file of new rows (required)
-  --sheet NAME        the worksheet of an .xlsx FILE (default: the first)
-  --new-sheet NAME    the worksheet of an .xlsx NEWFILE (default: the first)
+  --new-sheet NAME    the worksheet of an .xlsx NEWFILE (default: the first
+                      sheet holding a table of numbers)
   --seed S            seed for the random starts (default 1)
   --model plain|joint (default plain)
   --no-intercept      fit without an intercept
   --json              write one JSON object instead of a table
   --help              show this help
-
+${FILE_OPTIONS_HELP}
 Example: skein predict sales.csv --y revenue --x price,advertising --k 2 --new next.csv --model joint
 `;
 
@@ -36,6 +38,7 @@ const PREDICT_FLAGS: FlagKinds = {
   k: "value",
   new: "value",
   sheet: "value",
+  "header-row": "value",
   "new-sheet": "value",
   seed: "value",
   model: "value",
@@ -66,6 +69,10 @@ export interface PredictReport {
   rows: (PredictedRow | null)[];
   /** 1-based data rows of NEWFILE left out. */
   skipped: number[];
+  /** Every column of FILE: its kind and role. */
+  columns: ColumnReport[];
+  /** How FILE and NEWFILE were read: encoding, sheet, conversions, renamed headers, columns left out. */
+  notices: string[];
 }
 
 /** `skein predict`: returns the exit status; SkeinErrors propagate to main. */
@@ -87,7 +94,14 @@ export async function predictCommand(argv: readonly string[], io: { stdout: (s: 
   const xText = values.get("x");
   const model = parseModel(values.get("model"), "predict");
   const intercept = !switches.has("no-intercept");
-  const { design } = await loadDesign({ file: positionals[0], sheet: values.get("sheet"), y, x: xText === undefined ? undefined : parseList(xText, "x", "predict"), intercept });
+  const { design, columns, notices } = await loadDesign({
+    file: positionals[0],
+    sheet: values.get("sheet"),
+    headerRow: parseHeaderRow(values.get("header-row"), "predict"),
+    y,
+    x: xText === undefined ? undefined : parseList(xText, "x", "predict"),
+    intercept,
+  });
   const fit = fitMixture(design, { k, seed: seedText === undefined ? 1 : parseWholeNumber(seedText, "seed", "predict", 0, 2 ** 32 - 1), intercept, model });
   const newRows = await loadNewRows(newFile, design.predictorNames, values.get("new-sheet"));
   const prediction = predictRows(fit, newRows.x, newRows.m);
@@ -108,6 +122,8 @@ export async function predictCommand(argv: readonly string[], io: { stdout: (s: 
     components: fit.components.map((c) => ({ weight: c.weight, sigma: c.sigma, coefficients: Array.from(c.coefficients) })),
     rows,
     skipped: newRows.skipped,
+    columns,
+    notices: [...notices, ...newRows.notices],
   };
   if (switches.has("json")) {
     io.stdout(JSON.stringify(report) + "\n");
@@ -124,6 +140,6 @@ export async function predictCommand(argv: readonly string[], io: { stdout: (s: 
   const widths = header.map((_, j) => Math.max(...table.map((t) => t[j].length)));
   for (const t of table) lines.push("  " + t.map((cell, j) => cell.padStart(widths[j])).join("   "));
   if (newRows.skipped.length > 0) lines.push(`Skipped new rows (a predictor cell is not a number): ${newRows.skipped.join(", ")}`);
-  io.stdout(lines.join("\n") + "\n");
+  io.stdout(lines.join("\n") + "\n" + formatNotices(report.notices));
   return 0;
 }

@@ -2,9 +2,10 @@ import * as path from "path";
 import { SkeinError } from "../engine/errors";
 import type { MixtureModel } from "../engine/mixtureTypes";
 import { scanComponents } from "../engine/scanComponents";
-import { parseArgs, parseList, parseModel, parseWholeNumber, type FlagKinds } from "./args";
+import { FILE_OPTIONS_HELP, parseArgs, parseHeaderRow, parseList, parseModel, parseWholeNumber, type FlagKinds } from "./args";
+import { formatNotices } from "./formatNotices";
 import { formatNumber } from "./formatTable";
-import { loadDesign } from "./loadDesign";
+import { loadDesign, type ColumnReport } from "./loadDesign";
 
 export const SCAN_USAGE = `Usage: skein scan FILE --y COLUMN [--x COLUMN,COLUMN,...] --k-max N [options]
 
@@ -15,8 +16,8 @@ It suggests a number of components and says why others were not suggested.
 
   --y COLUMN          the response column (required)
   --x COLUMNS         predictor columns, separated by commas; default: every
-                      other column that holds mostly numbers
-  --sheet NAME        the worksheet of an .xlsx file (default: the first)
+                      other column of numbers or categories (dates and
+                      identifier columns are left out, and the output says so)
   --k-max N           the largest number of components tried (required)
   --seed S            seed for the random starts (default 1)
   --model plain|joint plain: y given x per component; joint: each component
@@ -26,7 +27,7 @@ It suggests a number of components and says why others were not suggested.
   --no-intercept      fit without an intercept
   --json              write one JSON object instead of a table
   --help              show this help
-
+${FILE_OPTIONS_HELP}
 Example: skein scan sales.csv --y revenue --x price,advertising --k-max 5
 `;
 
@@ -34,6 +35,7 @@ const SCAN_FLAGS: FlagKinds = {
   y: "value",
   x: "value",
   sheet: "value",
+  "header-row": "value",
   "k-max": "value",
   seed: "value",
   model: "value",
@@ -72,6 +74,10 @@ export interface ScanReport {
   intercept: boolean;
   model: MixtureModel;
   rows: ScanReportRow[];
+  /** Every column of the file: its kind and role. */
+  columns: ColumnReport[];
+  /** How the file was read: encoding, sheet, conversions, renamed headers, columns left out. */
+  notices: string[];
 }
 
 /** `skein scan`: returns the exit status; SkeinErrors propagate to main, which reports them. */
@@ -92,9 +98,10 @@ export async function scanCommand(argv: readonly string[], io: { stdout: (s: str
   const xText = values.get("x");
   const model = parseModel(values.get("model"), "scan");
   const intercept = !switches.has("no-intercept");
-  const { design, sheetName } = await loadDesign({
+  const { design, sheetName, columns, notices } = await loadDesign({
     file: positionals[0],
     sheet: values.get("sheet"),
+    headerRow: parseHeaderRow(values.get("header-row"), "scan"),
     y,
     x: xText === undefined ? undefined : parseList(xText, "x", "scan"),
     intercept,
@@ -126,13 +133,15 @@ export async function scanCommand(argv: readonly string[], io: { stdout: (s: str
       ...(crossValidate || !Number.isNaN(row.crossValidatedLogLikelihood) ? { crossValidatedLogLikelihood: row.crossValidatedLogLikelihood } : {}),
       flag: row.flag,
     })),
+    columns,
+    notices,
   };
   if (switches.has("json")) {
     io.stdout(JSON.stringify(report) + "\n");
     return 0;
   }
   const file = path.basename(positionals[0]);
-  io.stdout(formatScanTable(report, sheetName ? `${file}, sheet ${sheetName}` : file));
+  io.stdout(formatScanTable(report, sheetName ? `${file}, sheet ${sheetName}` : file) + formatNotices(report.notices));
   return 0;
 }
 

@@ -10,9 +10,12 @@
  *   a notice says so.
  * - Dates (workbook date cells, or date text) become serial day numbers, as
  *   Excel hands them to a function, and the column is kind "date".
- * - A column named like an identifier (ID, "Trip ID", customer_id), or whose
- *   values are all different whole numbers (or all different text) over at
- *   least IDENTIFIER_MIN_ROWS rows, is kind "identifier".
+ * - A column named like an identifier (ID, "Trip ID", customer_id, "Order
+ *   no."), or whose values are all different whole numbers lying close
+ *   together as a counter's do (over at least IDENTIFIER_MIN_ROWS rows), or
+ *   all different text, is kind "identifier".
+ * - A column holding one value only is no default predictor (it carries no
+ *   information beside the intercept).
  * - A column of mostly text or booleans, with at most CATEGORY_MAX_LEVELS
  *   different values, is kind "category": its cells stay text (or booleans)
  *   for the design to turn into indicator columns.
@@ -74,6 +77,10 @@ const DAYS_1900_TO_1904 = 1462;
 
 /** Identifier-like values are recognised only over this many rows: a few distinct whole numbers prove nothing. */
 export const IDENTIFIER_MIN_ROWS = 10;
+/** Different whole numbers spanning at most this many times their count look like a counter or codes. */
+export const IDENTIFIER_SPREAD = 2;
+/** A text column whose values all differ is an identifier from this many rows (two values may be a yes/no pair). */
+export const IDENTIFIER_MIN_TEXT_ROWS = 3;
 /** A text column with more different values than this is no category (too many indicator columns). */
 export const CATEGORY_MAX_LEVELS = 20;
 
@@ -87,12 +94,13 @@ export function isErrorText(value: unknown): boolean {
   return typeof value === "string" && ERROR_TEXTS.has(value.trim().toUpperCase());
 }
 
-/** Header names that say a column identifies rows: ID, "Trip ID", customer_id, TripId, Identifier. */
-const IDENTIFIER_WORD = /(^|[^a-z])(id|identifier)($|[^a-z])/i;
+/** Header names that say a column identifies rows: ID, "Trip ID", customer_id, TripId, Identifier, "Order no.", "Invoice number", "Key". */
+const IDENTIFIER_WORD = /(^|[^a-z])(id|identifier|key)($|[^a-z])/i;
 const IDENTIFIER_SUFFIX = /[a-z](ID|Id)$/;
+const IDENTIFIER_LAST_WORD = /(^|[\s_])(no\.?|nr\.?|number|#)$/i;
 
 export function looksLikeIdentifierName(name: string): boolean {
-  return IDENTIFIER_WORD.test(name) || IDENTIFIER_SUFFIX.test(name);
+  return IDENTIFIER_WORD.test(name) || IDENTIFIER_SUFFIX.test(name) || IDENTIFIER_LAST_WORD.test(name.trim());
 }
 
 /** The letters of a 0-based column index: 0 -> A, 25 -> Z, 26 -> AA. */
@@ -240,20 +248,44 @@ function decideColumn(name: string, cells: RawCell[], decimal: "." | ",", fromWo
     return { values, type: { kind: "identifier", defaultPredictor: false, reason: "identifier, by its name", ...withConversion }, notice };
   }
   if (2 * numbers > filled) {
-    if (numbers === filled && wholeAndDistinct && numbers >= IDENTIFIER_MIN_ROWS) {
-      return { values, type: { kind: "identifier", defaultPredictor: false, reason: "identifier: every value a different whole number", ...withConversion }, notice };
+    if (numbers === filled && wholeAndDistinct && numbers >= IDENTIFIER_MIN_ROWS && isDense(values)) {
+      return { values, type: { kind: "identifier", defaultPredictor: false, reason: "identifier: every value a different whole number, as a counter", ...withConversion }, notice };
+    }
+    const numberValues = new Set(values.filter((v) => typeof v === "number"));
+    if (numberValues.size === 1) {
+      return { values, type: { kind: "number", defaultPredictor: false, reason: "the same number in every row", ...withConversion }, notice };
     }
     return { values, type: { kind: "number", defaultPredictor: true, reason: "numbers", ...withConversion }, notice };
   }
   if (textOrLogical === 0) return { values, type: { kind: "text", defaultPredictor: false, reason: "error values only" }, notice };
   const levels = distinct.size;
-  if (levels === filled && filled >= IDENTIFIER_MIN_ROWS) {
+  if (levels === 1) return { values, type: { kind: "text", defaultPredictor: false, reason: "the same text in every row", levels }, notice };
+  // Every value different: each "level" would hold one row, so the column names rows rather than groups.
+  if (levels === filled && filled >= IDENTIFIER_MIN_TEXT_ROWS) {
     return { values, type: { kind: "identifier", defaultPredictor: false, reason: "identifier: every value different" }, notice };
   }
   if (levels > CATEGORY_MAX_LEVELS) {
     return { values, type: { kind: "text", defaultPredictor: false, reason: `text with ${levels} different values`, levels }, notice };
   }
   return { values, type: { kind: "category", defaultPredictor: true, reason: `categories (${levels} value${levels === 1 ? "" : "s"})`, levels }, notice };
+}
+
+/**
+ * Whether different whole numbers lie close together, as a counter or a run
+ * of codes does: max - min + 1 at most IDENTIFIER_SPREAD times their count.
+ * Measured whole numbers (populations, amounts in cents) spread far wider.
+ */
+function isDense(values: readonly Cell[]): boolean {
+  let min = Infinity;
+  let max = -Infinity;
+  let count = 0;
+  for (const v of values) {
+    if (typeof v !== "number") continue;
+    count++;
+    if (v < min) min = v;
+    if (v > max) max = v;
+  }
+  return max - min + 1 <= IDENTIFIER_SPREAD * count;
 }
 
 /** "day first", "month first" or "unclear" for a column of a/b/year dates; "known" dates vote for neither. */

@@ -4,6 +4,7 @@
  * column rule applied. Host-free: the command line and the task pane share it.
  */
 import { SkeinError } from "../engine/errors";
+import { readNumberText } from "./numberText";
 import { typeColumns, type Cell, type ColumnRuleOptions, type ColumnType, type RawCell } from "./columnTypes";
 
 /** Cells as a reader found them, with where each row stands in the file. */
@@ -46,6 +47,11 @@ function isNameCell(cell: RawCell | undefined): boolean {
   return typeof cell === "string" && cell.trim() !== "";
 }
 
+/** A header cell that names a column: text that is not a number written as text (a CSV's "12"). */
+function isHeaderName(cell: RawCell | undefined): boolean {
+  return isNameCell(cell) && readNumberText(cell as string, ".") === undefined && readNumberText(cell as string, ",") === undefined;
+}
+
 /** Turns a grid into a DataTable; a SkeinError "bad-input" when there is no header or no way to read it. */
 export function tableFromGrid(grid: SourceGrid, choice: HeaderChoice = {}): DataTable {
   const { rows, rowNumbers, rowWord, where } = grid;
@@ -60,8 +66,9 @@ export function tableFromGrid(grid: SourceGrid, choice: HeaderChoice = {}): Data
     }
   }
   const header = rows[headerIndex];
-  if (!header.some(isNameCell)) {
-    throw new SkeinError("bad-input", `${capitalise(rowWord)} ${rowNumbers[headerIndex]} of ${where} holds no column names; add a header row naming each column, or give the ${rowWord} that holds the names with --header-row.`);
+  if (!header.some(isHeaderName)) {
+    const which = choice.headerRow === undefined ? `The first row of ${where}` : `${capitalise(rowWord)} ${rowNumbers[headerIndex]} of ${where}`;
+    throw new SkeinError("bad-input", `${which} holds no column names (only numbers); add a header row naming each column, or give the ${rowWord} that holds the names with --header-row.`);
   }
   const body = rows.slice(headerIndex + 1);
   const dataRowNumbers = rowNumbers.slice(headerIndex + 1);
