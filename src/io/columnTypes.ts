@@ -240,6 +240,8 @@ function decideColumn(name: string, cells: RawCell[], decimal: "." | ",", fromWo
       if (!Number.isInteger(value) || distinct.has(value)) wholeAndDistinct = false;
     } else if (typeof value === "boolean" || !isErrorText(value)) {
       textOrLogical++;
+    } else {
+      continue; // error values are no level
     }
     distinct.add(typeof value === "string" ? value.trim() : value);
   }
@@ -258,6 +260,7 @@ function decideColumn(name: string, cells: RawCell[], decimal: "." | ",", fromWo
     return { values, type: { kind: "number", defaultPredictor: true, reason: "numbers", ...withConversion }, notice };
   }
   if (textOrLogical === 0) return { values, type: { kind: "text", defaultPredictor: false, reason: "error values only" }, notice };
+  if (notice !== undefined) return { values, type: { kind: "text", defaultPredictor: false, reason: "numbers written in more than one way" }, notice };
   const levels = distinct.size;
   if (levels === 1) return { values, type: { kind: "text", defaultPredictor: false, reason: "the same text in every row", levels }, notice };
   // Every value different: each "level" would hold one row, so the column names rows rather than groups.
