@@ -51,7 +51,7 @@ export interface LoadedDesign {
 export async function loadDesign(source: DesignSource): Promise<LoadedDesign> {
   const table = await readDataTable(source.file, { sheet: source.sheet, headerRow: source.headerRow });
   if (table.rows.length === 0) throw new SkeinError("bad-input", `${table.where} has a header row but no data rows below it; add rows of data under the column names.`);
-  const yColumn = chooseColumn(table, source.y);
+  const yColumn = withHeaderHint(table, () => chooseColumn(table, source.y));
   if (yColumn.kind === "category" || yColumn.kind === "text" || yColumn.kind === "empty") {
     throw new SkeinError("bad-input", `The outcome column ${yColumn.name} (${yColumn.letter}) holds ${yColumn.reason}, not numbers; choose a column of numbers with --y.`);
   }
@@ -59,7 +59,7 @@ export async function loadDesign(source: DesignSource): Promise<LoadedDesign> {
   const notices = [...table.notices];
   let x: number[];
   if (source.x !== undefined) {
-    x = source.x.map((wanted) => chooseColumn(table, wanted).position);
+    x = source.x.map((wanted) => withHeaderHint(table, () => chooseColumn(table, wanted)).position);
     if (x.includes(y)) throw new SkeinError("bad-input", `${table.names[y]} is the response (--y); leave it out of --x.`);
     const repeated = x.find((j, i) => x.indexOf(j) !== i);
     if (repeated !== undefined) throw new SkeinError("bad-input", `${table.names[repeated]} appears twice in --x; list each predictor once.`);
@@ -84,6 +84,17 @@ export async function loadDesign(source: DesignSource): Promise<LoadedDesign> {
     ...(c.converted ? { converted: c.converted } : {}),
   }));
   return { design, sheetName: table.sheetName, columns, notices, fileRows: table.dataRowNumbers };
+}
+
+/** A column that cannot be found may sit under a grouping header: add the reader's hint to the message. */
+function withHeaderHint<T>(table: DataTable, choose: () => T): T {
+  try {
+    return choose();
+  } catch (error) {
+    const hint = table.notices.find((notice) => notice.includes("--header-row"));
+    if (error instanceof SkeinError && hint) throw new SkeinError(error.code, `${error.message} ${hint}`);
+    throw error;
+  }
 }
 
 /** Chosen columns as a range with the header row on top, as a worksheet range would hold them. */
