@@ -48,8 +48,10 @@ export function parseCsv(text: string): unknown[][] {
     row.map((raw) => {
       if (raw === null) return null;
       const trimmed = raw.trim();
-      if (numberPattern.test(trimmed)) return Number(comma ? trimmed.replace(",", ".") : trimmed);
-      return raw;
+      if (!numberPattern.test(trimmed)) return raw;
+      // "1e400" matches the pattern but overflows: it stays text, reported as such, never Infinity.
+      const value = Number(comma ? trimmed.replace(",", ".") : trimmed);
+      return Number.isFinite(value) ? value : raw;
     }),
   );
 }
