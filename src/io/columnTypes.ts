@@ -91,7 +91,8 @@ const ERROR_TEXTS = new Set([
 ]);
 
 export function isErrorText(value: unknown): boolean {
-  return typeof value === "string" && ERROR_TEXTS.has(value.trim().toUpperCase());
+  // Every error value starts with "#": most cells are ruled out without trimming.
+  return typeof value === "string" && value.includes("#") && ERROR_TEXTS.has(value.trim().toUpperCase());
 }
 
 /** Header names that say a column identifies rows: ID, "Trip ID", customer_id, TripId, Identifier, "Order no.", "Invoice number", "Key". */
@@ -191,9 +192,10 @@ function decideColumn(name: string, cells: RawCell[], decimal: "." | ",", fromWo
   const readings: (NumberReading | undefined)[] = texts.map((i) => readNumberText(cells[i] as string, decimal));
   const numeric = readings.filter((r): r is NumberReading => r !== undefined);
   if (numeric.length > 0) {
-    const styles = new Set(numeric.map((r) => `${r.percent ? "%" : ""}|${r.currency}`));
+    const first = numeric[0];
+    const oneStyle = numeric.every((r) => r.percent === first.percent && r.currency === first.currency);
     const groups = new Set(numeric.map((r) => r.group).filter((g) => g !== ""));
-    if (styles.size === 1 && groups.size <= 1) {
+    if (oneStyle && groups.size <= 1) {
       readings.forEach((reading, k) => {
         if (reading !== undefined) values[texts[k]] = reading.value;
       });

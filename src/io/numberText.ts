@@ -39,6 +39,9 @@ function bodyPattern(decimal: "." | ","): RegExp {
 }
 
 const BODY = { ".": bodyPattern("."), ",": bodyPattern(",") };
+/** Plain numbers: sign, digits, one decimal mark, exponent; nothing else. */
+const PLAIN_POINT = /^[+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?$/;
+const PLAIN_COMMA = /^[+-]?(?:\d+,?\d*|,\d+)(?:[eE][+-]?\d+)?$/;
 const SIGN = "[+\\-\u2212]";
 /** sign? currency? sign? body currency? percent? (spaces allowed between the parts). */
 const SHAPE = new RegExp(`^(${SIGN})?\\s*(${CURRENCY})?\\s*(${SIGN})?\\s*([0-9.,  '’eE+\\-]+?)\\s*(${CURRENCY})?\\s*(%)?$`);
@@ -51,6 +54,11 @@ const SHAPE = new RegExp(`^(${SIGN})?\\s*(${CURRENCY})?\\s*(${SIGN})?\\s*([0-9.,
 export function readNumberText(text: string, decimal: "." | ","): NumberReading | undefined {
   const trimmed = text.trim();
   if (trimmed === "" || trimmed.length > 64) return undefined;
+  // The common case first: a plain number, read without the full pattern.
+  if ((decimal === "." ? PLAIN_POINT : PLAIN_COMMA).test(trimmed)) {
+    const value = Number(decimal === "." ? trimmed : trimmed.replace(",", "."));
+    return Number.isFinite(value) ? { value, percent: false, currency: "", group: "" } : undefined;
+  }
   const shape = SHAPE.exec(trimmed);
   if (!shape) return undefined;
   const [, sign1, currencyBefore, sign2, body, currencyAfter, percent] = shape;
