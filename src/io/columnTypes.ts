@@ -172,8 +172,14 @@ interface Decision {
   notice?: string;
 }
 
+/**
+ * The column rule for one column, in three phases: number text read in one
+ * style, date text read in one day/month order, then the column's kind.
+ */
 function decideColumn(name: string, cells: RawCell[], decimal: "." | ",", fromWorkbook: boolean, dateShift: number): Decision {
-  const values: Cell[] = cells.map((cell) => (cell instanceof Date ? serialOfDate(cell) - dateShift : isBlank(cell) ? null : (cell as Cell)));
+  const values: Cell[] = cells.map((cell) =>
+    cell instanceof Date ? serialOfDate(cell) - dateShift : isBlank(cell) ? null : typeof cell === "string" ? cell.trim() : (cell as Cell),
+  );
   let filled = 0;
   let workbookDates = 0;
   const texts: number[] = [];
@@ -185,52 +191,61 @@ function decideColumn(name: string, cells: RawCell[], decimal: "." | ",", fromWo
     else if (typeof cell === "string" && !isErrorText(cell)) texts.push(i);
   }
   if (filled === 0) return { values, type: { kind: "empty", defaultPredictor: false, reason: "empty" } };
+  const numbers = readNumberColumn(name, values, texts, decimal, fromWorkbook);
+  const dates = readDateColumn(values, texts, workbookDates, filled);
+  if (dates.isDate) return { values, type: { kind: "date", defaultPredictor: false, reason: `dates${dates.note}` }, notice: numbers.notice };
+  const type = kindOf(name, values, filled, numbers.notice !== undefined);
+  return { values, type: numbers.converted && type.kind !== "text" ? { ...type, converted: numbers.converted } : type, notice: numbers.notice };
+}
 
-  // Numbers written as text: one style for the whole column.
-  let notice: string | undefined;
-  let converted: string | undefined;
-  const readings: (NumberReading | undefined)[] = texts.map((i) => readNumberText(cells[i] as string, decimal));
+/**
+ * Phase 1: text cells that read as numbers in one style (all percent or none,
+ * one currency, one thousands separator) become numbers. A column mixing
+ * styles is left alone, with a notice showing the styles.
+ */
+function readNumberColumn(name: string, values: Cell[], texts: readonly number[], decimal: "." | ",", fromWorkbook: boolean): { converted?: string; notice?: string } {
+  const readings: (NumberReading | undefined)[] = texts.map((i) => readNumberText(values[i] as string, decimal));
   const numeric = readings.filter((r): r is NumberReading => r !== undefined);
-  if (numeric.length > 0) {
-    const first = numeric[0];
-    const oneStyle = numeric.every((r) => r.percent === first.percent && r.currency === first.currency);
-    const groups = new Set(numeric.map((r) => r.group).filter((g) => g !== ""));
-    if (oneStyle && groups.size <= 1) {
-      readings.forEach((reading, k) => {
-        if (reading !== undefined) values[texts[k]] = reading.value;
-      });
-      const style = { percent: numeric[0].percent, currency: numeric[0].currency, group: [...groups][0] ?? "" };
-      const description = describeStyle(style);
-      if (description !== "" || fromWorkbook) converted = description !== "" ? description : "numbers stored as text";
-    } else {
-      const examples = distinctExamples(texts.map((i) => cells[i] as string).filter((_, k) => readings[k] !== undefined), 3);
-      notice = `${name} writes numbers in more than one way (${examples.join(", ")}); its cells are kept as text. Write the column one way (for example all with or all without %, one currency, one thousands separator).`;
-    }
+  if (numeric.length === 0) return {};
+  const first = numeric[0];
+  const oneStyle = numeric.every((r) => r.percent === first.percent && r.currency === first.currency);
+  const groups = new Set(numeric.map((r) => r.group).filter((g) => g !== ""));
+  if (!oneStyle || groups.size > 1) {
+    const examples = distinctExamples(texts.filter((_, k) => readings[k] !== undefined).map((i) => values[i] as string), 3);
+    return { notice: `${name} writes numbers in more than one way (${examples.join(", ")}); its cells are kept as text. Write the column one way (for example all with or all without %, one currency, one thousands separator).` };
   }
+  readings.forEach((reading, k) => {
+    if (reading !== undefined) values[texts[k]] = reading.value;
+  });
+  const description = describeStyle({ percent: first.percent, currency: first.currency, group: [...groups][0] ?? "" });
+  if (description !== "") return { converted: description };
+  return fromWorkbook ? { converted: "numbers stored as text" } : {};
+}
 
-  // Dates: workbook date cells, or date text that reads one way over the column.
-  let dateCount = workbookDates;
-  let dateNote = "";
+/**
+ * Phase 2: a column whose filled cells are mostly dates (workbook date cells
+ * or date text) is a date column; its date text becomes serial day numbers
+ * when the day/month order is settled by some value over 12.
+ */
+function readDateColumn(values: Cell[], texts: readonly number[], workbookDates: number, filled: number): { isDate: boolean; note: string } {
   const dateParts = texts.map((i) => (typeof values[i] === "string" ? readDateText(values[i] as string) : undefined));
   const textDates = dateParts.filter((p) => p !== undefined).length;
-  if (textDates > 0 && 2 * (workbookDates + textDates) > filled) {
-    const order = dayMonthOrder(dateParts);
-    if (order === "unclear") dateNote = "; day and month order unclear, kept as text";
-    else {
-      dateParts.forEach((parts, k) => {
-        if (parts === undefined) return;
-        const serial = parts.order === "known"
-          ? serialOfParts(parts.year, parts.month, parts.day, parts.dayFraction)
-          : order === "day first" ? serialOfParts(parts.year, parts.b, parts.a, parts.dayFraction) : serialOfParts(parts.year, parts.a, parts.b, parts.dayFraction);
-        if (serial !== undefined) values[texts[k]] = serial;
-      });
-    }
-    dateCount += textDates;
-  }
-  if (2 * dateCount > filled) {
-    return { values, type: { kind: "date", defaultPredictor: false, reason: `dates${dateNote}` }, notice };
-  }
+  if (2 * (workbookDates + textDates) <= filled) return { isDate: false, note: "" };
+  const order = dayMonthOrder(dateParts);
+  if (order === "unclear") return { isDate: true, note: "; day and month order unclear, kept as text" };
+  dateParts.forEach((parts, k) => {
+    if (parts === undefined) return;
+    const serial =
+      parts.order === "known" ? serialOfParts(parts.year, parts.month, parts.day, parts.dayFraction)
+      : order === "day first" ? serialOfParts(parts.year, parts.b, parts.a, parts.dayFraction)
+      : serialOfParts(parts.year, parts.a, parts.b, parts.dayFraction);
+    if (serial !== undefined) values[texts[k]] = serial;
+  });
+  return { isDate: true, note: "" };
+}
 
+/** Phase 3: the kind of a column of converted cells, and whether it joins the default predictors. */
+function kindOf(name: string, values: readonly Cell[], filled: number, mixedStyles: boolean): Decision["type"] {
   let numbers = 0;
   let textOrLogical = 0;
   const distinct = new Set<Cell>();
@@ -245,34 +260,24 @@ function decideColumn(name: string, cells: RawCell[], decimal: "." | ",", fromWo
     } else {
       continue; // error values are no level
     }
-    distinct.add(typeof value === "string" ? value.trim() : value);
+    distinct.add(value);
   }
-  const withConversion = converted ? { converted } : {};
-  if (looksLikeIdentifierName(name)) {
-    return { values, type: { kind: "identifier", defaultPredictor: false, reason: "identifier, by its name", ...withConversion }, notice };
-  }
+  if (looksLikeIdentifierName(name)) return { kind: "identifier", defaultPredictor: false, reason: "identifier, by its name" };
   if (2 * numbers > filled) {
     if (numbers === filled && wholeAndDistinct && numbers >= IDENTIFIER_MIN_ROWS && isDense(values)) {
-      return { values, type: { kind: "identifier", defaultPredictor: false, reason: "identifier: every value a different whole number, as a counter", ...withConversion }, notice };
+      return { kind: "identifier", defaultPredictor: false, reason: "identifier: every value a different whole number, as a counter" };
     }
-    const numberValues = new Set(values.filter((v) => typeof v === "number"));
-    if (numberValues.size === 1) {
-      return { values, type: { kind: "number", defaultPredictor: false, reason: "the same number in every row", ...withConversion }, notice };
-    }
-    return { values, type: { kind: "number", defaultPredictor: true, reason: "numbers", ...withConversion }, notice };
+    if (new Set(values.filter((v) => typeof v === "number")).size === 1) return { kind: "number", defaultPredictor: false, reason: "the same number in every row" };
+    return { kind: "number", defaultPredictor: true, reason: "numbers" };
   }
-  if (textOrLogical === 0) return { values, type: { kind: "text", defaultPredictor: false, reason: "error values only" }, notice };
-  if (notice !== undefined) return { values, type: { kind: "text", defaultPredictor: false, reason: "numbers written in more than one way" }, notice };
+  if (textOrLogical === 0) return { kind: "text", defaultPredictor: false, reason: "error values only" };
+  if (mixedStyles) return { kind: "text", defaultPredictor: false, reason: "numbers written in more than one way" };
   const levels = distinct.size;
-  if (levels === 1) return { values, type: { kind: "text", defaultPredictor: false, reason: "the same text in every row", levels }, notice };
+  if (levels === 1) return { kind: "text", defaultPredictor: false, reason: "the same text in every row", levels };
   // Every value different: each "level" would hold one row, so the column names rows rather than groups.
-  if (levels === filled && filled >= IDENTIFIER_MIN_TEXT_ROWS) {
-    return { values, type: { kind: "identifier", defaultPredictor: false, reason: "identifier: every value different" }, notice };
-  }
-  if (levels > CATEGORY_MAX_LEVELS) {
-    return { values, type: { kind: "text", defaultPredictor: false, reason: `text with ${levels} different values`, levels }, notice };
-  }
-  return { values, type: { kind: "category", defaultPredictor: true, reason: `categories (${levels} value${levels === 1 ? "" : "s"})`, levels }, notice };
+  if (levels === filled && filled >= IDENTIFIER_MIN_TEXT_ROWS) return { kind: "identifier", defaultPredictor: false, reason: "identifier: every value different" };
+  if (levels > CATEGORY_MAX_LEVELS) return { kind: "text", defaultPredictor: false, reason: `text with ${levels} different values`, levels };
+  return { kind: "category", defaultPredictor: true, reason: `categories (${levels} value${levels === 1 ? "" : "s"})`, levels };
 }
 
 /**
