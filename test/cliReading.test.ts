@@ -91,6 +91,12 @@ describe("skein fit/scan/predict say how the file was read", () => {
     expect(await failure("fit", file, "--header-row", "0", "--y", "Yield")).toMatch(/--header-row must be a whole number from 1/);
   });
 
+  it("explains rows skipped for a column whose numbers mix styles", async () => {
+    expect(await failure("fit", fixture("mixed-styles.csv"), "--y", "Units", "--x", "Price")).toMatch(
+      /most often for text in column Price .* Price writes numbers in more than one way \("\$3\.50", "€2\.10", "£1\.20"\); its cells are kept as text\./,
+    );
+  });
+
   it("reads a UTF-16 file and a Windows-1252 file by their real column names", async () => {
     for (const file of ["utf16le-bom.csv", "windows-1252.csv"]) {
       const report = await json("fit", fixture(file), "--y", "Réponse", "--x", "Coût");

@@ -74,7 +74,16 @@ export async function loadDesign(source: DesignSource): Promise<LoadedDesign> {
   }
   const converted = describeColumns(table.columns.filter((c) => c.position === y || x.includes(c.position))).converted;
   if (converted.length > 0) notices.push(`Read as numbers: ${converted.join(", ")}.`);
-  const design = buildDesign(columnCells(table, [y]), columnCells(table, x), { headers: true, intercept: source.intercept });
+  let design: Design;
+  try {
+    design = buildDesign(columnCells(table, [y]), columnCells(table, x), { headers: true, intercept: source.intercept });
+  } catch (error) {
+    // Rows skipped for text in a column whose numbers mix styles: say why that column is text.
+    const used = [y, ...x].map((j) => table.names[j]);
+    const why = table.notices.filter((notice) => used.some((name) => notice.startsWith(`${name} writes numbers in more than one way`)));
+    if (error instanceof SkeinError && why.length > 0) throw new SkeinError(error.code, `${error.message} ${why.join(" ")}`);
+    throw error;
+  }
   const columns: ColumnReport[] = table.columns.map((c) => ({
     name: c.name,
     letter: c.letter,
