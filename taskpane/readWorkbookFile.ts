@@ -40,7 +40,7 @@ export async function readWorkbookFile(name: string, buffer: ArrayBuffer): Promi
   } catch {
     throw new SkeinError("bad-input", `${name} could not be read as an Excel workbook; save it again as .xlsx, or export the sheet as .csv.`);
   }
-  return fromTable(workbookTable(workbook, name));
+  return fromTable(workbookTable(workbook, name, { sheetAdvice: "" }));
 }
 
 /** A .csv/.tsv/.txt file in any encoding the readers know; a file without a header row loads as plain cells. */

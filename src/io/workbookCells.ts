@@ -95,6 +95,8 @@ function firstRowOf(range: string): number {
 /** Options for reading a workbook: a sheet by name (any case), the header row. */
 export interface WorkbookChoice extends HeaderChoice {
   sheet?: string;
+  /** How the caller's user names a sheet, for messages (default: "name the sheet with --sheet"). */
+  sheetAdvice?: string;
 }
 
 /**
@@ -149,6 +151,6 @@ export function workbookTable(workbook: Workbook, fileName: string, choice: Work
   }
   throw new SkeinError(
     "bad-input",
-    `No sheet of ${fileName} holds a table of numbers (a header row of names, then rows with at least one column of numbers): ${passed.join(", ")}. Put the data on a sheet with its column names in one row, or name the sheet with --sheet.`,
+    `No sheet of ${fileName} holds a table of numbers (a header row of names, then rows with at least one column of numbers): ${passed.join(", ")}. Put the data on a sheet with its column names in one row${choice.sheetAdvice === "" ? "" : `, or ${choice.sheetAdvice ?? "name the sheet with --sheet"}`}.`,
   );
 }
