@@ -38,6 +38,13 @@ beforeAll(async () => {
   covers.addWorksheet("Cover").getCell("A1").value = "Annual figures (invented)";
   covers.addWorksheet("Notes").getCell("A1").value = "See the appendix";
   await covers.xlsx.writeFile(path.join(dir, "covers.xlsx"));
+  // A cover page, then the data with two numbers stored as text (invented: y = 1 + 2x + a wobble).
+  const book = new ExcelJS.Workbook();
+  book.addWorksheet("Cover").getCell("A1").value = "Read me";
+  const data = book.addWorksheet("Data");
+  data.addRow(["x", "y"]);
+  for (let i = 1; i <= 8; i++) data.addRow([i === 3 || i === 6 ? String(i) : i, 1 + 2 * i + (i % 3) / 10]);
+  await book.xlsx.writeFile(path.join(dir, "book.xlsx"));
 });
 afterAll(async () => {
   await fs.rm(dir, { recursive: true, force: true });
@@ -103,6 +110,18 @@ describe("skein fit/scan/predict say how the file was read", () => {
       expect(report.predictors).toEqual(["Coût"]);
       expect(report.notices[0]).toMatch(/^Read .* as (UTF-16 LE|Windows-1252) text/);
     }
+  });
+
+  it("reads a workbook's first sheet of numbers, says which, and reads its numbers stored as text", async () => {
+    const chosen = await json("fit", path.join(dir, "book.xlsx"), "--y", "y");
+    const named = await json("fit", path.join(dir, "book.xlsx"), "--sheet", "Data", "--y", "y");
+    expect(chosen.notices).toEqual([
+      'Read sheet "Data", the first sheet holding a table of numbers (before it: "Cover" (0 data rows)).',
+      "Read as numbers: x (numbers stored as text).",
+    ]);
+    expect(chosen.rowsUsed).toBe(8);
+    expect(chosen.components).toEqual(named.components);
+    expect((await run("fit", path.join(dir, "book.xlsx"), "--y", "y")).stdout).toMatch(/^Data: book\.xlsx, sheet Data; 8 rows used, 0 skipped$/m);
   });
 
   it("names the sheets of a workbook that holds no table of numbers", async () => {
