@@ -28,7 +28,9 @@ where the new row's x lie; with the plain model they are the weights.
   --no-intercept      fit without an intercept
   --json              write one JSON object instead of a table
   --help              show this help
-${FILE_OPTIONS_HELP}
+${FILE_OPTIONS_HELP}--sheet and --header-row apply to FILE; NEWFILE's column names are in its
+first non-empty row.
+
 Example: skein predict sales.csv --y revenue --x price,advertising --k 2 --new next.csv --model joint
 `;
 
