@@ -159,6 +159,11 @@ describe("the glossary's retired words stay out of what users read", () => {
     expect(workbookTexts).toContain("exact fit (noise about 0)");
   }, 120_000);
 
+  it("in the help page the add-in ships", () => {
+    const page = readFileSync(join(root, "taskpane", "help.html"), "utf8").replace(/<[^>]*>/g, " ");
+    expect(retiredIn(page)).toEqual([]);
+  });
+
   it("in the sample workbooks", async () => {
     const folder = join(root, "sample-workbooks");
     const files = (await fs.readdir(folder)).filter((name) => name.endsWith(".xlsx"));

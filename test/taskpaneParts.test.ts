@@ -11,7 +11,7 @@ import { buildDesign } from "../src/engine/design";
 import { fitMixture } from "../src/engine/fitMixture";
 import { inventedSheet } from "./support/taskpaneFixtures";
 import { messageOf, Pane } from "../taskpane/pane";
-import type { PaneEngine } from "../taskpane/paneEngine";
+import type { EngineService } from "../src/service/engineService";
 import type { SheetHost } from "../taskpane/host";
 import { SkeinError } from "../src/engine/errors";
 
@@ -164,7 +164,7 @@ describe("a mistyped address in the pane", () => {
       watch: () => Promise.resolve(() => undefined),
       saveRanges: () => Promise.resolve(),
     } as unknown as SheetHost;
-    const pane = new Pane(host, {} as PaneEngine);
+    const pane = new Pane(host, {} as EngineService);
     await pane.setAddresses("Shet1!A1:A10", "Sheet1!B1:B10");
     expect(pane.state.dataProblem).toMatch(/^Could not read Shet1!A1:A10 and Sheet1!B1:B10\. Excel has no such range: check the sheet name/);
     expect(pane.state.dataProblem).not.toMatch(/Skein could not finish/);

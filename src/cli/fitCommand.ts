@@ -8,15 +8,20 @@ import { checkSeparation } from "../engine/checkSeparation";
 import { standardErrors } from "../engine/standardErrors";
 import type { MixtureFit, MixtureModel, RefinementReport, WarmStartReport } from "../engine/mixtureTypes";
 import type { SeparationReport } from "../engine/trustTypes";
-import { parseArgs, parseList, parseModel, parseWholeNumber, type FlagKinds } from "./args";
-import { loadDesign } from "./loadDesign";
+import type { OptionName } from "../engine/options";
+import { FILE_OPTIONS_HELP, optionFlags, optionHelp, parseArgs, parseHeaderRow, parseList, parseWholeNumber, readGivenOption, readOption, type FlagKinds } from "./args";
+import { loadDesign, type ColumnReport } from "./loadDesign";
 import { formatFitTable, kChoiceText } from "./formatTable";
 import { isExactFit } from "../engine/exactFit";
 import { defaultKMax, scanComponents, startsAgree } from "../engine/scanComponents";
-import { readTable } from "../io/readTable";
 import type { CommandIO } from "./main";
 import { scanProgress } from "./scanProgress";
 import { writeRowResults } from "./writeRowResults";
+import { readDataTable } from "../io/readTable";
+import { formatNotices } from "./formatNotices";
+
+/** The options of the table that skein fit takes. */
+const FIT_OPTIONS: readonly OptionName[] = ["k", "model", "seed", "restarts", "tolerance", "max_iterations", "intercept"];
 
 export const FIT_USAGE = `Usage: skein fit FILE --y COLUMN [--x COLUMN,COLUMN,...] [options]
 
@@ -28,25 +33,18 @@ and the component of the first rows.
 
   --y COLUMN        the outcome column (required)
   --x COLUMNS       predictor columns, separated by commas; default: every
-                    other column that holds mostly numbers
-  --sheet NAME      the worksheet of an .xlsx file (default: the first)
-  --k N             number of components (default: the K that skein scan
-                    suggests, trying 1 to 5, or fewer when rows are few)
+                    other column of numbers or categories (dates and
+                    identifier columns are left out, and the output says so)
+${optionHelp(FIT_OPTIONS, 20)}
   --out FILE        also write every row with its component, fitted value,
                     residual and memberships to FILE (.csv or .xlsx)
-  --model NAME      plain (y given x per component, the default) or joint
-                    (each component also models where its x lie)
-  --restarts N      alternative starts refined briefly before the best is
-                    refined fully (default: the engine's choice)
-  --seed S          seed for the random starts of a mixture fit (default 1)
   --bootstrap N     standard errors from N bootstrap refits (components
                     matched to this fit in each) instead of from the
                     curvature of the likelihood; slower
-  --no-intercept    fit without an intercept
   --verbose         also show how the starts were made
   --json            write one JSON object instead of a table
   --help            show this help
-
+${FILE_OPTIONS_HELP}
 Example: skein fit sales.csv --y revenue --x price,advertising
 `;
 
@@ -54,27 +52,23 @@ const FIT_FLAGS: FlagKinds = {
   y: "value",
   x: "value",
   sheet: "value",
-  k: "value",
-  model: "value",
-  restarts: "value",
-  seed: "value",
+  "header-row": "value",
+  ...optionFlags(FIT_OPTIONS),
   bootstrap: "value",
   out: "value",
-  "no-intercept": "switch",
   verbose: "switch",
   json: "switch",
   help: "switch",
   h: "switch",
 };
 
-/** Largest K the command accepts as an argument; the fit itself decides what is available. */
-const MAX_COMPONENTS = 50;
-
 export interface FitSettings {
   file: string;
   sheet?: string;
+  /** 1-based row (line) of the header; undefined: the first non-empty one. */
+  headerRow?: number;
   y: string;
-  /** Predictor names in the user's order; undefined: every other mostly numeric column. */
+  /** Predictor names (or letters, #numbers) in the user's order; undefined: every other number or category column. */
   x?: string[];
   /** undefined: the K the scan suggests. */
   k?: number;
@@ -83,6 +77,8 @@ export interface FitSettings {
   model: MixtureModel;
   /** undefined: the engine's default. */
   restarts?: number;
+  tolerance?: number;
+  maxIterations?: number;
   /** Bootstrap replicates for the standard errors; undefined: observed information. */
   bootstrap?: number;
   /** --out: a .csv or .xlsx file for every row's results. */
@@ -152,6 +148,10 @@ export interface FitReport {
   /** Standard errors: per component coefficients (as in components[].stdErrors), weights and noise SDs. */
   stdErrors: { method: string; weights: number[]; sigmas: number[] };
   timings: { readMs: number; fitMs: number };
+  /** Every column of the file: its kind (number, category, date, identifier, text, empty) and role. */
+  columns: ColumnReport[];
+  /** How the file was read: encoding, sheet, conversions, renamed headers, columns left out. */
+  notices: string[];
 }
 
 /** What a model fit hands back, whatever the number of components. */
@@ -174,7 +174,8 @@ export interface ModelFit {
 
 /** Turns the fit command's arguments into settings, or "help". */
 export function parseFitSettings(argv: readonly string[]): FitSettings | "help" {
-  const { positionals, values, switches } = parseArgs(argv, FIT_FLAGS, "fit");
+  const parsed = parseArgs(argv, FIT_FLAGS, "fit");
+  const { positionals, values, switches } = parsed;
   if (switches.has("help") || switches.has("h")) return "help";
   if (positionals.length === 0) throw new SkeinError("bad-input", "No data file given; name one, as in: skein fit data.csv --y COLUMN");
   if (positionals.length > 1) {
@@ -183,20 +184,20 @@ export function parseFitSettings(argv: readonly string[]): FitSettings | "help" 
   const y = values.get("y");
   if (y === undefined) throw new SkeinError("bad-input", "No outcome column given; name it, as in --y COLUMN");
   const xText = values.get("x");
-  const kText = values.get("k");
-  const seedText = values.get("seed");
-  const restartsText = values.get("restarts");
   const bootstrapText = values.get("bootstrap");
   return {
     file: positionals[0],
     sheet: values.get("sheet"),
+    headerRow: parseHeaderRow(values.get("header-row"), "fit"),
     y,
     x: xText === undefined ? undefined : parseList(xText, "x", "fit"),
-    k: kText === undefined ? undefined : parseWholeNumber(kText, "k", "fit", 1, MAX_COMPONENTS),
-    seed: seedText === undefined ? 1 : parseWholeNumber(seedText, "seed", "fit", 0, 2 ** 32 - 1),
-    intercept: !switches.has("no-intercept"),
-    model: parseModel(values.get("model"), "fit"),
-    restarts: restartsText === undefined ? undefined : parseWholeNumber(restartsText, "restarts", "fit", 0, 1000),
+    k: readGivenOption(parsed, "k", "fit") as number | undefined,
+    seed: readOption(parsed, "seed", "fit") as number,
+    intercept: readOption(parsed, "intercept", "fit") as boolean,
+    model: readOption(parsed, "model", "fit") as MixtureModel,
+    restarts: readGivenOption(parsed, "restarts", "fit") as number | undefined,
+    tolerance: readGivenOption(parsed, "tolerance", "fit") as number | undefined,
+    maxIterations: readGivenOption(parsed, "max_iterations", "fit") as number | undefined,
     bootstrap: bootstrapText === undefined ? undefined : parseWholeNumber(bootstrapText, "bootstrap", "fit", 10, 10000),
     out: checkOutFile(values.get("out")),
     verbose: switches.has("verbose"),
@@ -210,14 +211,13 @@ export function parseFitSettings(argv: readonly string[]): FitSettings | "help" 
  * ordinary least squares, and the report gives the classical least-squares standard
  * errors (n − q degrees of freedom), the ones regression tables and NIST certify.
  */
-export function fitModel(design: Design, settings: Pick<FitSettings, "seed" | "intercept" | "model" | "restarts" | "bootstrap"> & { k: number }): ModelFit {
-  const mixture = withColumnNames(design, settings.intercept, () =>
-    fitMixture(design, { k: settings.k, seed: settings.seed, intercept: settings.intercept, model: settings.model, restarts: settings.restarts }),
-  );
+export function fitModel(design: Design, settings: Pick<FitSettings, "seed" | "intercept" | "model" | "restarts" | "tolerance" | "maxIterations" | "bootstrap"> & { k: number }): ModelFit {
+  const { k, seed, intercept, model, restarts, tolerance, maxIterations } = settings;
+  const mixture = withColumnNames(design, settings.intercept, () => fitMixture(design, { k, seed, intercept, model, restarts, tolerance, maxIterations }));
   const errors =
     settings.bootstrap === undefined
       ? standardErrors(design, mixture)
-      : standardErrors(design, mixture, { method: "bootstrap", replicates: settings.bootstrap, seed: settings.seed, fitOptions: { restarts: settings.restarts } });
+      : standardErrors(design, mixture, { method: "bootstrap", replicates: settings.bootstrap, seed: settings.seed, fitOptions: { restarts, tolerance, maxIterations } });
   let coefficientErrors = errors.coefficients.map((c) => Array.from(c));
   let method: string = errors.method;
   if (settings.k === 1 && settings.model === "plain" && settings.bootstrap === undefined) {
@@ -275,7 +275,7 @@ function classicalStdErrors(design: Design, intercept: boolean): number[] {
 /** Everything the command computes, before it is written out. */
 export async function computeFitReport(settings: FitSettings, progress?: (k: number, kMax: number) => void): Promise<{ report: FitReport; sheetName?: string; design: Design; fit: MixtureFit; separation: SeparationReport | null }> {
   const readStart = performance.now();
-  const { design, sheetName } = await loadDesign(settings);
+  const { design, sheetName, columns, notices } = await loadDesign(settings);
   const readMs = performance.now() - readStart;
 
   const fitStart = performance.now();
@@ -326,6 +326,8 @@ export async function computeFitReport(settings: FitSettings, progress?: (k: num
     separation,
     stdErrors: { method: model.stdErrorMethod, weights: model.weightStdErrors, sigmas: model.sigmaStdErrors },
     timings: { readMs, fitMs },
+    columns,
+    notices,
   };
   return { report, sheetName, design, fit: model.mixture, separation };
 }
@@ -341,10 +343,12 @@ export async function fitCommand(argv: readonly string[], io: CommandIO): Promis
   const { report, sheetName, design, fit, separation } = await computeFitReport(settings, progress?.onProgress);
   progress?.finish();
   if (settings.out !== undefined) {
-    const rows = (await readTable(settings.file, settings.sheet)).rows;
+    // The table as the design read it (header row, converted numbers), so rows line up with the fit.
+    const table = await readDataTable(settings.file, { sheet: settings.sheet, headerRow: settings.headerRow });
+    const rows: unknown[][] = [table.names, ...table.rows];
     await writeRowResults(settings.out, { rows, design, fit, separation: separation ?? undefined, warnings: report.warnings, notes: [`skein fit ${path.basename(settings.file)}, seed ${settings.seed}; ${kChoiceText(report)}`] });
   }
   if (settings.json) io.stdout(JSON.stringify(report) + "\n");
-  else io.stdout(formatFitTable(report, { file: path.basename(settings.file), sheetName, verbose: settings.verbose, out: settings.out }));
+  else io.stdout(formatFitTable(report, { file: path.basename(settings.file), sheetName, verbose: settings.verbose, out: settings.out }) + formatNotices(report.notices));
   return 0;
 }

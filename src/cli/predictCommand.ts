@@ -2,13 +2,19 @@ import * as path from "path";
 import { SkeinError } from "../engine/errors";
 import { fitMixture } from "../engine/fitMixture";
 import { predictRows } from "../engine/predictRows";
-import { parseArgs, parseList, parseModel, parseWholeNumber, type FlagKinds } from "./args";
+import type { MixtureModel } from "../engine/mixtureTypes";
+import type { OptionName } from "../engine/options";
+import { FILE_OPTIONS_HELP, optionFlags, optionHelp, parseArgs, parseHeaderRow, parseList, readGivenOption, readOption, type FlagKinds } from "./args";
+import { formatNotices } from "./formatNotices";
 import { alignColumns, formatColumn } from "../report/formatNumber";
 import { defaultKMax, scanComponents } from "../engine/scanComponents";
 import { kChoiceText } from "./formatTable";
 import type { CommandIO } from "./main";
 import { scanProgress } from "./scanProgress";
-import { loadDesign, loadNewRows } from "./loadDesign";
+import { loadDesign, loadNewRows, type ColumnReport } from "./loadDesign";
+
+/** The options of the table that skein predict takes. */
+const PREDICT_OPTIONS: readonly OptionName[] = ["k", "model", "seed", "restarts", "tolerance", "max_iterations", "intercept"];
 
 export const PREDICT_USAGE = `Usage: skein predict FILE --y COLUMN [--x COLUMN,COLUMN,...] [--k N] --new NEWFILE [options]
 
@@ -22,17 +28,16 @@ component weights.
 
   --y COLUMN          the outcome column of FILE (required)
   --x COLUMNS         predictor columns, separated by commas; default: every
-                      other column of FILE that holds mostly numbers
-  --k N               number of components (default: the K the scan
-                      suggests, trying 1 to 5, or fewer when rows are few)
+                      other column of FILE of numbers or categories (dates and
+                      identifier columns are left out, and the output says so)
   --new NEWFILE       .csv or .xlsx file of new rows (required)
-  --sheet NAME        the worksheet of an .xlsx FILE (default: the first)
-  --new-sheet NAME    the worksheet of an .xlsx NEWFILE (default: the first)
-  --seed S            seed for the random starts (default 1)
-  --model plain|joint (default plain)
-  --no-intercept      fit without an intercept
+  --new-sheet NAME    the worksheet of an .xlsx NEWFILE (default: the first
+                      sheet holding a table of numbers)
+${optionHelp(PREDICT_OPTIONS, 22)}
   --json              write one JSON object instead of a table
   --help              show this help
+${FILE_OPTIONS_HELP}--sheet and --header-row apply to FILE; NEWFILE's column names are in its
+first non-empty row.
 
 Example: skein predict sales.csv --y revenue --x price,advertising --k 2 --new next.csv --model joint
 `;
@@ -40,19 +45,15 @@ Example: skein predict sales.csv --y revenue --x price,advertising --k 2 --new n
 const PREDICT_FLAGS: FlagKinds = {
   y: "value",
   x: "value",
-  k: "value",
   new: "value",
   sheet: "value",
+  "header-row": "value",
   "new-sheet": "value",
-  seed: "value",
-  model: "value",
-  "no-intercept": "switch",
+  ...optionFlags(PREDICT_OPTIONS),
   json: "switch",
   help: "switch",
   h: "switch",
 };
-
-const MAX_COMPONENTS = 50;
 
 /** One new row's prediction; null in `rows` for a new row skipped for a non-numeric cell. */
 export interface PredictedRow {
@@ -81,11 +82,16 @@ export interface PredictReport {
   rows: (PredictedRow | null)[];
   /** 1-based data rows of NEWFILE left out. */
   skipped: number[];
+  /** Every column of FILE: its kind and role. */
+  columns: ColumnReport[];
+  /** How FILE and NEWFILE were read: encoding, sheet, conversions, renamed headers, columns left out. */
+  notices: string[];
 }
 
 /** `skein predict`: returns the exit status; SkeinErrors propagate to main. */
 export async function predictCommand(argv: readonly string[], io: CommandIO): Promise<number> {
-  const { positionals, values, switches } = parseArgs(argv, PREDICT_FLAGS, "predict");
+  const parsed = parseArgs(argv, PREDICT_FLAGS, "predict");
+  const { positionals, values, switches } = parsed;
   if (switches.has("help") || switches.has("h")) {
     io.stdout(PREDICT_USAGE);
     return 0;
@@ -93,26 +99,34 @@ export async function predictCommand(argv: readonly string[], io: CommandIO): Pr
   if (positionals.length !== 1) throw new SkeinError("bad-input", "skein predict takes one data file to fit, as in: skein predict data.csv --y COLUMN --k 2 --new new.csv");
   const y = values.get("y");
   if (y === undefined) throw new SkeinError("bad-input", "skein predict needs the outcome column, as in --y COLUMN");
-  const kText = values.get("k");
   const newFile = values.get("new");
   if (newFile === undefined) throw new SkeinError("bad-input", "skein predict needs the file of new rows, as in --new new.csv");
-  const givenK = kText === undefined ? undefined : parseWholeNumber(kText, "k", "predict", 1, MAX_COMPONENTS);
-  const seedText = values.get("seed");
+  const givenK = readGivenOption(parsed, "k", "predict") as number | undefined;
   const xText = values.get("x");
-  const model = parseModel(values.get("model"), "predict");
-  const intercept = !switches.has("no-intercept");
-  const { design } = await loadDesign({ file: positionals[0], sheet: values.get("sheet"), y, x: xText === undefined ? undefined : parseList(xText, "x", "predict"), intercept });
-  const seed = seedText === undefined ? 1 : parseWholeNumber(seedText, "seed", "predict", 0, 2 ** 32 - 1);
+  const model = readOption(parsed, "model", "predict") as MixtureModel;
+  const intercept = readOption(parsed, "intercept", "predict") as boolean;
+  const { design, columns, notices } = await loadDesign({
+    file: positionals[0],
+    sheet: values.get("sheet"),
+    headerRow: parseHeaderRow(values.get("header-row"), "predict"),
+    y,
+    x: xText === undefined ? undefined : parseList(xText, "x", "predict"),
+    intercept,
+  });
+  const seed = readOption(parsed, "seed", "predict") as number;
+  const restarts = readGivenOption(parsed, "restarts", "predict") as number | undefined;
+  const tolerance = readGivenOption(parsed, "tolerance", "predict") as number | undefined;
+  const maxIterations = readGivenOption(parsed, "max_iterations", "predict") as number | undefined;
   let k = givenK;
   let kChosenBy: PredictReport["kChosenBy"] = { by: "given" };
   if (k === undefined) {
     const progress = scanProgress(io);
-    const scan = scanComponents(design, { kMax: defaultKMax(design.n, design.p + (intercept ? 1 : 0)), seed, intercept, model, onProgress: progress.onProgress });
+    const scan = scanComponents(design, { kMax: defaultKMax(design.n, design.p + (intercept ? 1 : 0)), seed, intercept, model, restarts, tolerance, maxIterations, onProgress: progress.onProgress });
     progress.finish();
     k = scan.chosenK;
     kChosenBy = { by: "scan", kMax: scan.rows.length };
   }
-  const fit = fitMixture(design, { k, seed, intercept, model });
+  const fit = fitMixture(design, { k, seed, intercept, model, restarts, tolerance, maxIterations });
   const newRows = await loadNewRows(newFile, design.predictorNames, values.get("new-sheet"));
   const prediction = predictRows(fit, newRows.x, newRows.m);
   const rows: (PredictedRow | null)[] = new Array(newRows.inputRows).fill(null);
@@ -135,6 +149,8 @@ export async function predictCommand(argv: readonly string[], io: CommandIO): Pr
     components: fit.components.map((c) => ({ weight: c.weight, sigma: c.sigma, coefficients: Array.from(c.coefficients) })),
     rows,
     skipped: newRows.skipped,
+    columns,
+    notices: [...notices, ...newRows.notices],
   };
   if (switches.has("json")) {
     io.stdout(JSON.stringify(report) + "\n");
@@ -147,17 +163,17 @@ export async function predictCommand(argv: readonly string[], io: CommandIO): Pr
   const table: string[][] = [header];
   // Each column at one number of decimals, so the decimal points line up.
   const used = rows.filter((row): row is PredictedRow => row !== null);
-  const columns = [...fit.components.map((_, c) => used.map((row) => row.perComponent[c])), used.map((row) => row.weighted), used.map((row) => row.predictionSd)].map((values) => formatColumn(values));
+  const shownColumns = [...fit.components.map((_, c) => used.map((row) => row.perComponent[c])), used.map((row) => row.weighted), used.map((row) => row.predictionSd)].map((values) => formatColumn(values));
   let u = 0;
   rows.forEach((row, r) => {
     if (row === null) table.push([String(r + 1), ...fit.components.map(() => ""), "skipped", ""]);
     else {
-      table.push([String(r + 1), ...columns.map((column) => column[u])]);
+      table.push([String(r + 1), ...shownColumns.map((column) => column[u])]);
       u++;
     }
   });
   lines.push(...alignColumns(table, "  "));
   if (newRows.skipped.length > 0) lines.push(`Skipped new rows (a predictor cell is not a number): ${newRows.skipped.join(", ")}`);
-  io.stdout(lines.join("\n") + "\n");
+  io.stdout(lines.join("\n") + "\n" + formatNotices(report.notices));
   return 0;
 }

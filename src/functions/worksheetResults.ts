@@ -5,7 +5,7 @@
  */
 import { checkSeparation } from "../engine/checkSeparation";
 import { SkeinError } from "../engine/errors";
-import { predictRows } from "../engine/predictRows";
+import { engineService } from "../service/engineService";
 import { isExactFit } from "../engine/exactFit";
 import { startsAgree } from "../engine/scanComponents";
 import type { FunctionSettings } from "./settings";
@@ -94,10 +94,11 @@ export function checkTable(shared: SharedFit, settings: FunctionSettings, kFromS
  * any cell that is not a number (blank, text, logical, error) gets "". A first row that is all
  * text is a header row.
  */
-export function predictionTable({ design, fit }: SharedFit, newRowCells: unknown, settings: FunctionSettings): Cell[][] {
+export async function predictionTable({ design, fit }: SharedFit, newRowCells: unknown, settings: FunctionSettings): Promise<Cell[][]> {
   const rows = readNewRows(newRowCells, design.p);
   const k = fit.k;
-  const prediction = predictRows(fit, rows.x, rows.n);
+  // Through the engine service: many new rows go to the engine worker like a large fit.
+  const prediction = await engineService.predict(fit, rows.x, rows.n);
   const output = perInputRow(rows, k + 1, (i, out) => {
     for (let c = 0; c < k; c++) out[c] = cell(prediction.perComponent[i * k + c]);
     out[k] = cell(prediction.weighted[i]);

@@ -4,11 +4,12 @@ import { exactComponents, isExactFit } from "../engine/exactFit";
 import type { MixtureFit } from "../engine/mixtureTypes";
 import { startsAgree } from "../engine/scanComponents";
 import type { SeparationReport, StandardErrorReport } from "../engine/trustTypes";
+import { WORKBOOK_FILLS } from "../report/componentStyle";
 
-/** Skein's header colours (the icon's teal and plum) and the text on them. */
-const RESULT_FILL = "FF1B7F79";
-const DATA_FILL = "FF6B3FA0";
-const HEADER_TEXT = "FFFFFFFF";
+/** Header colours from the shared style module: Skein's columns, the input's columns, the text on both. */
+const RESULT_FILL = WORKBOOK_FILLS.result;
+const DATA_FILL = WORKBOOK_FILLS.data;
+const HEADER_TEXT = WORKBOOK_FILLS.headerText;
 
 /** Number formats: shares as percentages, everything else at four significant digits or so. */
 const PERCENT_FORMAT = "0.0%";
