@@ -102,6 +102,8 @@ describe("the command line", () => {
     const report = JSON.parse(stdout);
     expect(report.refinement.iterations).toBeLessThanOrEqual(2);
     expect(report.refinement.converged).toBe(false);
+    // The not-converged warning names the control skein fit has.
+    expect(report.warnings.find((w: string) => /^Not converged/.test(w))).toMatch(/or allow more iterations with --max-iterations\.$/);
     const bad = await run("fit", SAMPLE, "--y", "Fuel used (L)", "--tolerance", "2");
     expect(bad.status).toBe(2);
     expect(bad.stderr).toContain(`--tolerance must be ${optionSpec("tolerance").accepts}`);

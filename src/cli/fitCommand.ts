@@ -316,7 +316,10 @@ export async function computeFitReport(settings: FitSettings, progress?: (k: num
     seed: settings.seed,
     warmStart: model.mixture.warmStart,
     refinement: model.mixture.refinement,
-    warnings: [...new Set([...model.mixture.warnings, ...(separation?.warnings ?? []), ...model.stdErrorWarnings])],
+    // The engine's advice names only what every surface has; skein fit can also allow more iterations.
+    warnings: [...new Set([...model.mixture.warnings, ...(separation?.warnings ?? []), ...model.stdErrorWarnings])].map((warning) =>
+      /^Not converged:/.test(warning) ? `${warning.replace(/\.$/, "")}, or allow more iterations with --max-iterations.` : warning,
+    ),
     startsAgree: startsAgree(model.mixture.warmStart),
     converged: model.mixture.refinement.converged,
     exactFit,
