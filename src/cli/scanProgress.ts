@@ -17,7 +17,7 @@ export function scanProgress(io: Pick<CommandIO, "stderr" | "progress">, now: ()
       const elapsed = now() - started;
       if (elapsed < PROGRESS_AFTER_MS) return;
       const next = k < kMax ? `, fitting K = ${k + 1}` : "";
-      io.stderr(`\rscan: K = 1 to ${k} of ${kMax} done in ${(elapsed / 1000).toFixed(1)} s${next}…   `);
+      io.stderr(`\rscan: K = 1 to ${k} of ${kMax} done in ${(elapsed / 1000).toFixed(1)} s${next}${k < kMax ? "…" : "."}   `);
       shown = true;
     },
     finish() {
