@@ -82,7 +82,9 @@ const USER_TEXT_MODULES = [
   ...typeScriptFiles(join(root, "src", "functions")),
   ...typeScriptFiles(join(root, "src", "io")),
   ...typeScriptFiles(join(root, "src", "report")),
-  ...["checkSeparation", "scanComponents", "standardErrors", "leastSquares", "householderQR", "computeMemberships", "design", "predictRows"].map((name) => join(root, "src", "engine", `${name}.ts`)),
+  ...typeScriptFiles(join(root, "src", "service")),
+  ...typeScriptFiles(join(root, "src", "commands")),
+  ...["checkSeparation", "scanComponents", "standardErrors", "leastSquares", "householderQR", "computeMemberships", "design", "predictRows", "options"].map((name) => join(root, "src", "engine", `${name}.ts`)),
   join(root, "scripts", "makeSampleWorkbooks.ts"),
   join(root, "scripts", "sampleScenarios.ts"),
 ];
