@@ -1,8 +1,9 @@
 /**
  * The optional `settings` argument of every SKEIN function: either text such as
  * "seed=7; intercept=no; model=joint", or a two-column range of name/value pairs. Every name
- * and value is checked once, here, against the table below; a wrong one is rejected with a
- * message that names the setting, what it accepts and what it received.
+ * and value is checked once, here, against the engine's options table (src/engine/options.ts)
+ * plus the worksheet-only headers setting; a wrong one is rejected with a message that names
+ * the setting, what it accepts and what it received.
  */
 import { SkeinError } from "../engine/errors";
 import type { MixtureModel } from "../engine/mixtureTypes";
