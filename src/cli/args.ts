@@ -1,5 +1,4 @@
 import { SkeinError } from "../engine/errors";
-import type { MixtureModel } from "../engine/mixtureTypes";
 import { defaultText, optionSpec, readOptionValue, type OptionName, type OptionValue } from "../engine/options";
 
 /** How each flag of a command is used: followed by a value, or on its own. */
@@ -81,14 +80,6 @@ export function parseList(text: string, flag: string, command: string): string[]
   return items;
 }
 
-/** The --model value: plain (the default) or joint, checked against the options table. */
-export function parseModel(text: string | undefined, command: string): MixtureModel {
-  const spec = optionSpec("model");
-  if (text === undefined) return spec.default as MixtureModel;
-  const value = readOptionValue(spec, text);
-  if (value === undefined) throw usageError(command, `--model must be ${spec.accepts}, not "${text}"`);
-  return value as MixtureModel;
-}
 
 /** What a flag's value is called in the help: --seed S, --k N, --model NAME. */
 const PLACEHOLDERS: Record<OptionName, string> = {
@@ -123,10 +114,6 @@ function wrapHelp(head: string, text: string, column: number): string {
   return lines.join("\n");
 }
 
-/** The flag as typed: --seed, --no-intercept. */
-export function flagOf(name: OptionName): string {
-  return `--${optionSpec(name).flag}`;
-}
 
 /** Help lines for options of the table, made from it: flag, meaning, accepted values and default (or what `defaults` says instead, such as "required"). */
 export function optionHelp(names: readonly OptionName[], column: number, defaults: Partial<Record<OptionName, string>> = {}): string {

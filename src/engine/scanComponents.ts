@@ -38,14 +38,6 @@ import { gatherRows, selectRows } from "./rowSubset";
 export const BIC_TIE = 6;
 
 /**
- * Starts disagree when the two best differ by more than 1% of the coefficient scale at nearly
- * the same likelihood (fitMixture's own threshold): the K components are then not determined
- * by the data. A warm-start certificate that did not shrink while the starts agree is not a
- * reason on its own: on noisy data the narrowest residual scale stops at the noise level.
- */
-export const STARTS_DISAGREE = DISAGREEMENT_RELATIVE;
-
-/**
  * Below this many rows per coefficient per component the suggestion is also checked by
  * cross-validation (see scanComponents). Measured on generated problems (bench/scanAccuracy):
  * with 100 rows, 5 predictors and one true component, plain BIC picked 6 or 7 components in
@@ -167,7 +159,12 @@ function scanRow(data: RegressionData, fit: MixtureFit): ScanRow {
   const converged = fit.warmStart.converged && fit.refinement.converged;
   const reasons: string[] = [];
   if (!fit.refinement.converged) reasons.push("the refinement did not converge");
-  if (fit.warmStart.disagreement > STARTS_DISAGREE) {
+  // Starts disagree when the two best differ by more than the driver's threshold
+  // (DISAGREEMENT_RELATIVE: 1% of the coefficient scale) at nearly the same likelihood: the K
+  // components are then not determined by the data. A warm-start certificate that did not
+  // shrink while the starts agree is not a reason on its own: on noisy data the narrowest
+  // residual scale stops at the noise level.
+  if (fit.warmStart.disagreement > DISAGREEMENT_RELATIVE) {
     reasons.push(`different starts reached nearly the same likelihood with components ${formatShort(100 * fit.warmStart.disagreement)}% of the coefficient scale apart`);
   }
   for (let c = 0; c < k; c++) {
