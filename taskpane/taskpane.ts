@@ -3,6 +3,7 @@
  * plain-browser mode) and builds the pane on the page's engine service (shared with
  * the worksheet functions and the ribbon commands).
  */
+import { cssColourVariables } from "../src/report/componentStyle";
 import styles from "./taskpane.css";
 import { ExcelHost } from "./excelHost";
 import { mountBrowserPane, mountExcelPane } from "./mountPane";
@@ -11,7 +12,7 @@ import { detectHost } from "./startup";
 
 async function start(): Promise<void> {
   const style = document.createElement("style");
-  style.textContent = styles;
+  style.textContent = cssColourVariables() + styles;
   document.head.appendChild(style);
   const root = document.getElementById("app")!;
   const status = document.getElementById("status");

@@ -71,14 +71,67 @@ export function parseWholeNumber(text: string, flag: string, command: string, mi
   return value;
 }
 
-/** The items of a comma-separated list, trimmed, empty items rejected. */
+/**
+ * The items of a comma-separated list, trimmed, empty items rejected. An item
+ * in double quotes may hold commas ("Cost, total"); "" inside quotes is a quote.
+ */
 export function parseList(text: string, flag: string, command: string): string[] {
-  const items = text.split(",").map((item) => item.trim());
-  if (items.some((item) => item === "")) {
-    throw usageError(command, `--${flag} has an empty name in "${text}"; separate names with single commas`);
+  const items: string[] = [];
+  let i = 0;
+  for (;;) {
+    while (text[i] === " ") i++;
+    let item: string;
+    if (text[i] === '"') {
+      let value = "";
+      let from = i + 1;
+      for (;;) {
+        const close = text.indexOf('"', from);
+        if (close < 0) throw usageError(command, `--${flag} has a quote that never closes in ${text}; close the quoted name`);
+        value += text.slice(from, close);
+        if (text[close + 1] === '"') {
+          value += '"';
+          from = close + 2;
+        } else {
+          i = close + 1;
+          break;
+        }
+      }
+      while (text[i] === " ") i++;
+      if (i < text.length && text[i] !== ",") throw usageError(command, `--${flag} has text after the quoted name "${value}"; put a comma after the closing quote`);
+      item = value.trim();
+    } else {
+      const comma = text.indexOf(",", i);
+      const end = comma < 0 ? text.length : comma;
+      item = text.slice(i, end).trim();
+      i = end;
+    }
+    if (item === "") throw usageError(command, `--${flag} has an empty name in "${text}"; separate names with single commas`);
+    items.push(item);
+    if (i >= text.length) return items;
+    i++; // the comma
   }
-  return items;
 }
+
+/** The largest row number of a worksheet. */
+const MAX_SHEET_ROW = 1_048_576;
+
+/** The --header-row value: the 1-based row (sheet row, or line of a text file) holding the column names. */
+export function parseHeaderRow(text: string | undefined, command: string): number | undefined {
+  return text === undefined ? undefined : parseWholeNumber(text, "header-row", command, 1, MAX_SHEET_ROW);
+}
+
+/** Help lines shared by the commands that read a data file. */
+export const FILE_OPTIONS_HELP = `
+Reading the file:
+  --sheet NAME        the worksheet of an .xlsx file (default: the first sheet
+                      holding a table of numbers; the output says which)
+  --header-row N      the row (line of a text file) holding the column names
+                      (default: the first non-empty one); rows above it are
+                      ignored, such as a grouping header
+Columns are named by header; when no header has the name, a letter (A, B,
+..., AA) or #number (#3 = column C) picks by position, so --x "#3,#4" or
+--x C,D. A name holding a comma can be quoted: --x '"Cost, total",Units'.
+`;
 
 
 /** What a flag's value is called in the help: --seed S, --k N, --model NAME. */

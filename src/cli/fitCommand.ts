@@ -9,9 +9,10 @@ import { standardErrors } from "../engine/standardErrors";
 import type { MixtureFit, MixtureModel, RefinementReport, WarmStartReport } from "../engine/mixtureTypes";
 import type { SeparationReport } from "../engine/trustTypes";
 import type { OptionName } from "../engine/options";
-import { optionFlags, optionHelp, parseArgs, parseList, parseWholeNumber, readGivenOption, readOption, type FlagKinds } from "./args";
-import { loadDesign } from "./loadDesign";
+import { FILE_OPTIONS_HELP, optionFlags, optionHelp, parseArgs, parseHeaderRow, parseList, parseWholeNumber, readGivenOption, readOption, type FlagKinds } from "./args";
+import { loadDesign, type ColumnReport } from "./loadDesign";
 import { formatFitTable } from "./formatTable";
+import { formatNotices } from "./formatNotices";
 
 /** The options of the table that skein fit takes. */
 const FIT_OPTIONS: readonly OptionName[] = ["k", "model", "seed", "restarts", "tolerance", "max_iterations", "intercept"];
@@ -25,15 +26,15 @@ and listed.
 
   --y COLUMN        the response column (required)
   --x COLUMNS       predictor columns, separated by commas; default: every
-                    other column that holds mostly numbers
-  --sheet NAME      the worksheet of an .xlsx file (default: the first)
+                    other column of numbers or categories (dates and
+                    identifier columns are left out, and the output says so)
 ${optionHelp(FIT_OPTIONS, 20)}
   --bootstrap N     standard errors from N bootstrap refits (components
                     matched to this fit in each) instead of the observed
                     information; slower
   --json            write one JSON object instead of a table
   --help            show this help
-
+${FILE_OPTIONS_HELP}
 Example: skein fit sales.csv --y revenue --x price,advertising
 `;
 
@@ -41,6 +42,7 @@ const FIT_FLAGS: FlagKinds = {
   y: "value",
   x: "value",
   sheet: "value",
+  "header-row": "value",
   ...optionFlags(FIT_OPTIONS),
   bootstrap: "value",
   json: "switch",
@@ -51,8 +53,10 @@ const FIT_FLAGS: FlagKinds = {
 export interface FitSettings {
   file: string;
   sheet?: string;
+  /** 1-based row (line) of the header; undefined: the first non-empty one. */
+  headerRow?: number;
   y: string;
-  /** Predictor names in the user's order; undefined: every other mostly numeric column. */
+  /** Predictor names (or letters, #numbers) in the user's order; undefined: every other number or category column. */
   x?: string[];
   k: number;
   seed: number;
@@ -111,6 +115,10 @@ export interface FitReport {
   /** Standard errors: per component coefficients (as in components[].stdErrors), weights and noise SDs. */
   stdErrors: { method: string; weights: number[]; sigmas: number[] };
   timings: { readMs: number; fitMs: number };
+  /** Every column of the file: its kind (number, category, date, identifier, text, empty) and role. */
+  columns: ColumnReport[];
+  /** How the file was read: encoding, sheet, conversions, renamed headers, columns left out. */
+  notices: string[];
 }
 
 /** What a model fit hands back, whatever the number of components. */
@@ -145,6 +153,7 @@ export function parseFitSettings(argv: readonly string[]): FitSettings | "help" 
   return {
     file: positionals[0],
     sheet: values.get("sheet"),
+    headerRow: parseHeaderRow(values.get("header-row"), "fit"),
     y,
     x: xText === undefined ? undefined : parseList(xText, "x", "fit"),
     k: readOption(parsed, "k", "fit") as number,
@@ -221,7 +230,7 @@ function classicalStdErrors(design: Design, intercept: boolean): number[] {
 /** Everything the command computes, before it is written out. */
 export async function computeFitReport(settings: FitSettings): Promise<{ report: FitReport; sheetName?: string }> {
   const readStart = performance.now();
-  const { design, sheetName } = await loadDesign(settings);
+  const { design, sheetName, columns, notices } = await loadDesign(settings);
   const readMs = performance.now() - readStart;
 
   const fitStart = performance.now();
@@ -254,6 +263,8 @@ export async function computeFitReport(settings: FitSettings): Promise<{ report:
     separation: model.separation,
     stdErrors: { method: model.stdErrorMethod, weights: model.weightStdErrors, sigmas: model.sigmaStdErrors },
     timings: { readMs, fitMs },
+    columns,
+    notices,
   };
   return { report, sheetName };
 }
@@ -267,6 +278,6 @@ export async function fitCommand(argv: readonly string[], io: { stdout: (s: stri
   }
   const { report, sheetName } = await computeFitReport(settings);
   if (settings.json) io.stdout(JSON.stringify(report) + "\n");
-  else io.stdout(formatFitTable(report, { file: path.basename(settings.file), sheetName }));
+  else io.stdout(formatFitTable(report, { file: path.basename(settings.file), sheetName }) + formatNotices(report.notices));
   return 0;
 }

@@ -4,9 +4,10 @@ import { fitMixture } from "../engine/fitMixture";
 import { predictRows } from "../engine/predictRows";
 import type { MixtureModel } from "../engine/mixtureTypes";
 import type { OptionName } from "../engine/options";
-import { optionFlags, optionHelp, parseArgs, parseList, readGivenOption, readOption, type FlagKinds } from "./args";
+import { FILE_OPTIONS_HELP, optionFlags, optionHelp, parseArgs, parseHeaderRow, parseList, readGivenOption, readOption, type FlagKinds } from "./args";
+import { formatNotices } from "./formatNotices";
 import { formatNumber } from "./formatTable";
-import { loadDesign, loadNewRows } from "./loadDesign";
+import { loadDesign, loadNewRows, type ColumnReport } from "./loadDesign";
 
 /** The options of the table that skein predict takes. */
 const PREDICT_OPTIONS: readonly OptionName[] = ["k", "model", "seed", "restarts", "tolerance", "max_iterations", "intercept"];
@@ -21,13 +22,16 @@ where the new row's x lie; with the plain model they are the weights.
 
   --y COLUMN          the response column of FILE (required)
   --x COLUMNS         predictor columns, separated by commas; default: every
-                      other column of FILE that holds mostly numbers
+                      other column of FILE of numbers or categories (dates and
+                      identifier columns are left out, and the output says so)
   --new NEWFILE       .csv or .xlsx file of new rows (required)
-  --sheet NAME        the worksheet of an .xlsx FILE (default: the first)
-  --new-sheet NAME    the worksheet of an .xlsx NEWFILE (default: the first)
+  --new-sheet NAME    the worksheet of an .xlsx NEWFILE (default: the first
+                      sheet holding a table of numbers)
 ${optionHelp(PREDICT_OPTIONS, 22, { k: "required" })}
   --json              write one JSON object instead of a table
   --help              show this help
+${FILE_OPTIONS_HELP}--sheet and --header-row apply to FILE; NEWFILE's column names are in its
+first non-empty row.
 
 Example: skein predict sales.csv --y revenue --x price,advertising --k 2 --new next.csv --model joint
 `;
@@ -37,6 +41,7 @@ const PREDICT_FLAGS: FlagKinds = {
   x: "value",
   new: "value",
   sheet: "value",
+  "header-row": "value",
   "new-sheet": "value",
   ...optionFlags(PREDICT_OPTIONS),
   json: "switch",
@@ -63,6 +68,10 @@ export interface PredictReport {
   rows: (PredictedRow | null)[];
   /** 1-based data rows of NEWFILE left out. */
   skipped: number[];
+  /** Every column of FILE: its kind and role. */
+  columns: ColumnReport[];
+  /** How FILE and NEWFILE were read: encoding, sheet, conversions, renamed headers, columns left out. */
+  notices: string[];
 }
 
 /** `skein predict`: returns the exit status; SkeinErrors propagate to main. */
@@ -84,7 +93,14 @@ export async function predictCommand(argv: readonly string[], io: { stdout: (s: 
   const xText = values.get("x");
   const model = readOption(parsed, "model", "predict") as MixtureModel;
   const intercept = readOption(parsed, "intercept", "predict") as boolean;
-  const { design } = await loadDesign({ file: positionals[0], sheet: values.get("sheet"), y, x: xText === undefined ? undefined : parseList(xText, "x", "predict"), intercept });
+  const { design, columns, notices } = await loadDesign({
+    file: positionals[0],
+    sheet: values.get("sheet"),
+    headerRow: parseHeaderRow(values.get("header-row"), "predict"),
+    y,
+    x: xText === undefined ? undefined : parseList(xText, "x", "predict"),
+    intercept,
+  });
   const fit = fitMixture(design, {
     k,
     seed: readOption(parsed, "seed", "predict") as number,
@@ -113,6 +129,8 @@ export async function predictCommand(argv: readonly string[], io: { stdout: (s: 
     components: fit.components.map((c) => ({ weight: c.weight, sigma: c.sigma, coefficients: Array.from(c.coefficients) })),
     rows,
     skipped: newRows.skipped,
+    columns,
+    notices: [...notices, ...newRows.notices],
   };
   if (switches.has("json")) {
     io.stdout(JSON.stringify(report) + "\n");
@@ -129,6 +147,6 @@ export async function predictCommand(argv: readonly string[], io: { stdout: (s: 
   const widths = header.map((_, j) => Math.max(...table.map((t) => t[j].length)));
   for (const t of table) lines.push("  " + t.map((cell, j) => cell.padStart(widths[j])).join("   "));
   if (newRows.skipped.length > 0) lines.push(`Skipped new rows (a predictor cell is not a number): ${newRows.skipped.join(", ")}`);
-  io.stdout(lines.join("\n") + "\n");
+  io.stdout(lines.join("\n") + "\n" + formatNotices(report.notices));
   return 0;
 }

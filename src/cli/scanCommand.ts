@@ -3,9 +3,10 @@ import { SkeinError } from "../engine/errors";
 import type { MixtureModel } from "../engine/mixtureTypes";
 import { scanComponents } from "../engine/scanComponents";
 import type { OptionName } from "../engine/options";
-import { optionFlags, optionHelp, parseArgs, parseList, readGivenOption, readOption, type FlagKinds } from "./args";
+import { FILE_OPTIONS_HELP, optionFlags, optionHelp, parseArgs, parseHeaderRow, parseList, readGivenOption, readOption, type FlagKinds } from "./args";
+import { formatNotices } from "./formatNotices";
 import { formatNumber } from "./formatTable";
-import { loadDesign } from "./loadDesign";
+import { loadDesign, type ColumnReport } from "./loadDesign";
 
 /** The options of the table that skein scan takes. */
 const SCAN_OPTIONS: readonly OptionName[] = ["kmax", "model", "seed", "restarts", "tolerance", "max_iterations", "intercept"];
@@ -19,13 +20,13 @@ It suggests a number of components and says why others were not suggested.
 
   --y COLUMN          the response column (required)
   --x COLUMNS         predictor columns, separated by commas; default: every
-                      other column that holds mostly numbers
-  --sheet NAME        the worksheet of an .xlsx file (default: the first)
+                      other column of numbers or categories (dates and
+                      identifier columns are left out, and the output says so)
 ${optionHelp(SCAN_OPTIONS, 22, { kmax: "required" })}
   --cross-validate    also report a 5-fold cross-validated log-likelihood per row
   --json              write one JSON object instead of a table
   --help              show this help
-
+${FILE_OPTIONS_HELP}
 Example: skein scan sales.csv --y revenue --x price,advertising --k-max 5
 `;
 
@@ -33,6 +34,7 @@ const SCAN_FLAGS: FlagKinds = {
   y: "value",
   x: "value",
   sheet: "value",
+  "header-row": "value",
   ...optionFlags(SCAN_OPTIONS),
   "cross-validate": "switch",
   json: "switch",
@@ -64,6 +66,10 @@ export interface ScanReport {
   intercept: boolean;
   model: MixtureModel;
   rows: ScanReportRow[];
+  /** Every column of the file: its kind and role. */
+  columns: ColumnReport[];
+  /** How the file was read: encoding, sheet, conversions, renamed headers, columns left out. */
+  notices: string[];
 }
 
 /** `skein scan`: returns the exit status; SkeinErrors propagate to main, which reports them. */
@@ -83,9 +89,10 @@ export async function scanCommand(argv: readonly string[], io: { stdout: (s: str
   const xText = values.get("x");
   const model = readOption(parsed, "model", "scan") as MixtureModel;
   const intercept = readOption(parsed, "intercept", "scan") as boolean;
-  const { design, sheetName } = await loadDesign({
+  const { design, sheetName, columns, notices } = await loadDesign({
     file: positionals[0],
     sheet: values.get("sheet"),
+    headerRow: parseHeaderRow(values.get("header-row"), "scan"),
     y,
     x: xText === undefined ? undefined : parseList(xText, "x", "scan"),
     intercept,
@@ -119,13 +126,15 @@ export async function scanCommand(argv: readonly string[], io: { stdout: (s: str
       ...(crossValidate || !Number.isNaN(row.crossValidatedLogLikelihood) ? { crossValidatedLogLikelihood: row.crossValidatedLogLikelihood } : {}),
       flag: row.flag,
     })),
+    columns,
+    notices,
   };
   if (switches.has("json")) {
     io.stdout(JSON.stringify(report) + "\n");
     return 0;
   }
   const file = path.basename(positionals[0]);
-  io.stdout(formatScanTable(report, sheetName ? `${file}, sheet ${sheetName}` : file));
+  io.stdout(formatScanTable(report, sheetName ? `${file}, sheet ${sheetName}` : file) + formatNotices(report.notices));
   return 0;
 }
 

@@ -52,6 +52,9 @@ export function mountCountSection(parent: HTMLElement, pane: Pane): { update(sta
   body.appendChild(rule);
   const tableWrap = element("div", { class: "table-wrap" });
   body.appendChild(tableWrap);
+  // Notes under the table stay outside its scrolling box, so they wrap to the pane's width.
+  const notes = element("div", { id: "scan-notes" });
+  body.appendChild(notes);
 
   let drawn: unknown = null;
   let drawnK: number | null = null;
@@ -79,6 +82,7 @@ export function mountCountSection(parent: HTMLElement, pane: Pane): { update(sta
       if (!scan) {
         chart.innerHTML = "";
         tableWrap.innerHTML = "";
+        notes.innerHTML = "";
         rule.textContent = "";
         drawn = null;
         return;
@@ -115,12 +119,13 @@ export function mountCountSection(parent: HTMLElement, pane: Pane): { update(sta
       table.appendChild(tbody);
       tableWrap.innerHTML = "";
       tableWrap.appendChild(table);
+      notes.innerHTML = "";
       // Why a K is not suggested: full sentences, below the table where they have room.
       const flagged = scan.rows.filter((r) => r.k !== scan.chosenK && (r.flag || !r.converged));
       if (flagged.length > 0) {
         const list = element("ul", { id: "scan-flags", class: "compact hint", "aria-label": "Why some K are not suggested" });
         for (const r of flagged) list.appendChild(element("li", {}, `* ${r.k} components, not suggested: ${(r.flag ?? "the fit did not converge.").replace(/^not suggested[:,]?\s*/i, "")}`));
-        tableWrap.appendChild(list);
+        notes.appendChild(list);
       }
     },
   };

@@ -11,6 +11,8 @@ import { promises as fs } from "fs";
 import * as path from "path";
 import { chromium, type Page } from "playwright-core";
 import { parseCsv } from "../../src/io/readCsv";
+import { checkHelpLinks } from "./helpLinks";
+import { checkPaneWidths } from "./paneWidth";
 import { checkWorksheetFunctions } from "./functionsInChromium";
 import { serveDirectory } from "./staticServer";
 
@@ -231,6 +233,8 @@ async function main(): Promise<void> {
       await page.setViewportSize({ width: 1280, height: 1100 });
     });
 
+    await step("pane at 320 and 350 px", () => checkPaneWidths(page, check, RESULTS));
+
     await step("open an XLSX file", async () => {
       const workbook = path.join(ROOT, "sample-workbooks", "shop-chain.xlsx");
       try {
@@ -248,6 +252,8 @@ async function main(): Promise<void> {
       check("XLSX ranges guessed and read", (await text(page, "#data-rows")).includes(`of ${csv.length - 1}`), await text(page, "#data-rows"));
       await shot(page, "09-xlsx-opened.png", "body");
     });
+
+    await step("help links", () => checkHelpLinks(() => browser.newPage(), url, DIST, check, RESULTS));
 
     check("no errors from the pane", pageErrors.length === 0, pageErrors.slice(0, 3).join(" | "));
     if (otherErrors.length > 0) console.log(`note: functions.js/commands.js without office.js: ${otherErrors.join(" | ")}`);
