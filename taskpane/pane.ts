@@ -1,5 +1,6 @@
 import { buildDesign, type Design } from "../src/engine/design";
 import { isSkeinError } from "../src/engine/errors";
+import { alignToPrevious } from "../src/engine/alignComponents";
 import type { MixtureFit } from "../src/engine/mixtureTypes";
 import { Cancellation } from "../src/service/cancellation";
 import type { FitJobOptions } from "../src/service/engineJobs";
@@ -16,8 +17,13 @@ export function messageOf(error: unknown): string {
   return `Skein could not finish: ${error instanceof Error ? error.message : String(error)}`;
 }
 
-/** How the engine service knows the pane among the callers it remembers fits for. */
-export const PANE_VIEWER = "task pane";
+/**
+ * How the engine service knows the pane among the callers it remembers fits for: one name
+ * per K, so a fit of K components is numbered like the last one the pane showed with K.
+ */
+export function paneViewer(k: number): string {
+  return `task pane, K = ${k}`;
+}
 
 /** Rough memory a cached result keeps: the design's and the fit's per-row arrays (8 bytes a double). */
 function entryBytes(design: Design, k: number): number {
@@ -144,7 +150,7 @@ export class Pane {
       options: this.fitOptions(k),
       build: () => ({ design }),
       bytes: entryBytes(design, k),
-      viewer: PANE_VIEWER,
+      viewer: paneViewer(k),
       previous,
       place: "worker",
     });
@@ -220,11 +226,18 @@ export class Pane {
     const design = this.state.design;
     if (!row || !design) return;
     try {
+      // The fit the pane showed last with this K, if any, decides the numbering, so a new
+      // scan does not swap the numbers the user has been reading.
+      const shownBefore = this.engine.memory.previousFor(paneViewer(k), { k, p: design.p, intercept: this.state.intercept, model: this.state.model });
       // After an edit the scan's fits describe the old rows: refit this K on the current
-      // rows, warm-started from the scan's fit and numbered like it.
-      const fit = this.state.scanStale ? await this.refit(design, k, row.fit, new Cancellation()) : row.fit;
+      // rows, warm-started from the scan's fit and numbered like the fit shown before.
+      const fit = this.state.scanStale
+        ? await this.refit(design, k, shownBefore ?? row.fit, new Cancellation())
+        : shownBefore
+          ? alignToPrevious(row.fit, shownBefore, regressionData(design))
+          : row.fit;
       this.update({ chosenK: k, fit, description: null, refreshNote: null });
-      this.engine.memory.remember(PANE_VIEWER, fit);
+      this.engine.memory.remember(paneViewer(k), fit);
       const description = await this.engine.describe(regressionData(design), fit, new Cancellation(), "worker");
       if (this.state.fit === fit) this.update({ description });
     } catch (error) {
