@@ -35,6 +35,12 @@ export interface MixtureOptions {
   tolerance?: number;
   /** Cap on refinement iterations. */
   maxIterations?: number;
+  /**
+   * Add a background component with a flat density over the data's range (Banfield &
+   * Raftery 1993), so that rows far from every regression do not pull one onto themselves
+   * (default false).
+   */
+  background?: boolean;
   /** A previous fit of the same model on (nearly) the same data: warm start and label order. */
   previous?: MixtureFit;
   signal?: CancelSignal;
@@ -109,4 +115,9 @@ export interface MixtureFit {
   warnings: string[];
   /** The seed used, so a host can show it and the fit can be reproduced. */
   seed: number;
+  /**
+   * The background component when the fit has one: its weight π₀ (the components' weights
+   * sum to 1 − π₀), ln of its flat density, and each used row's membership in it.
+   */
+  background?: { weight: number; logDensity: number; memberships: Float64Array };
 }

@@ -89,7 +89,7 @@ export function scanComponents(data: RegressionData, options: ScanOptions): Scan
       // Not even q + 1 rows per component: no fit of this K can be trusted, and larger K less.
       break;
     }
-    const fitOptions: MixtureOptions = { k, seed, intercept, model, restarts: options.restarts, signal: options.signal };
+    const fitOptions: MixtureOptions = { k, seed, intercept, model, restarts: options.restarts, background: options.background, signal: options.signal };
     if (previousFit !== null) {
       const start = addComponentStart(data, previousFit);
       if (start !== null) fitOptions.previous = start;
@@ -152,9 +152,8 @@ function scanRow(data: RegressionData, fit: MixtureFit): ScanRow {
   const k = fit.k;
   const { p, n } = data;
   const q = fit.q;
-  // ν as stated in the module comment.
-  let parameterCount = k * (q + 2) - 1;
-  if (fit.model === "joint") parameterCount += k * (p + (p * (p + 1)) / 2);
+  // ν as stated in the module comment (plus the background's weight when the fit has one).
+  const parameterCount = fit.parameterCount;
   const bic = -2 * fit.logLikelihood + parameterCount * Math.log(n);
   let entropy = 0;
   for (let t = 0; t < fit.memberships.length; t++) {
@@ -266,7 +265,7 @@ function heldOutLogLikelihoods(data: RegressionData, fit: MixtureFit, options: S
     const training = selectRows(data, kept);
     let trained: MixtureFit;
     try {
-      trained = fitMixture(training, { k: fit.k, seed: seed + f, intercept: fit.intercept, model: fit.model, restarts: options.restarts, previous: fit, signal: options.signal });
+      trained = fitMixture(training, { k: fit.k, seed: seed + f, intercept: fit.intercept, model: fit.model, restarts: options.restarts, background: options.background, previous: fit, signal: options.signal });
     } catch (error) {
       if (error instanceof SkeinError && error.code === "cancelled") throw error;
       return null;

@@ -11,6 +11,8 @@ export interface ScanOptions {
   intercept?: boolean;
   model?: MixtureModel;
   restarts?: number;
+  /** Give every fit a flat background component (Banfield & Raftery 1993); see MixtureOptions. */
+  background?: boolean;
   /** Also compute a cross-validated log-likelihood per K (Smyth 2000); slower. */
   crossValidate?: boolean;
   signal?: CancelSignal;
