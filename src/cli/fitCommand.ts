@@ -16,8 +16,9 @@ export const FIT_USAGE = `Usage: skein fit FILE --y COLUMN [--x COLUMN,COLUMN,..
 
 Fits K linear regressions of the y column on the x columns, each holding for
 one hidden group of rows, to a .csv or .xlsx file whose first row names the
-columns. Rows with a blank, text or error cell in a used column are skipped
-and listed.
+columns. A predictor column of mostly text (or yes/no, TRUE/FALSE) becomes
+indicator columns against its most frequent value. Rows with a blank or error
+cell, or text in a numeric column, are skipped and listed.
 
   --y COLUMN        the response column (required)
   --x COLUMNS       predictor columns, separated by commas; default: every
@@ -118,6 +119,8 @@ export interface FitReport {
   /** Standard errors: per component coefficients (as in components[].stdErrors), weights and noise SDs. */
   stdErrors: { method: string; weights: number[]; sigmas: number[] };
   timings: { readMs: number; fitMs: number };
+  /** What was done to the input columns (category columns made into indicators, with their reference level). */
+  notices: string[];
 }
 
 /** What a model fit hands back, whatever the number of components. */
@@ -262,6 +265,7 @@ export async function computeFitReport(settings: FitSettings): Promise<{ report:
     separation: model.separation,
     stdErrors: { method: model.stdErrorMethod, weights: model.weightStdErrors, sigmas: model.sigmaStdErrors },
     timings: { readMs, fitMs },
+    notices: design.notices,
   };
   return { report, sheetName };
 }

@@ -1,5 +1,6 @@
 import * as path from "path";
 import { buildDesign, type Design } from "../engine/design";
+import { encodeRow, encodedWidth, type PredictorColumn } from "../engine/categoryLevels";
 import { SkeinError } from "../engine/errors";
 import { readTable } from "../io/readTable";
 import { checkRectangular, columnRange, columnsRange, findColumn, headerNames, isMostlyNumeric } from "./columns";
@@ -42,28 +43,26 @@ export async function loadDesign(source: DesignSource): Promise<{ design: Design
 }
 
 /**
- * The named predictor columns of a file of new rows, as an m x p row-major block; rows with a
- * cell that is not a finite number are left out and listed (1-based data rows).
+ * The predictor columns of a file of new rows (found by the names of the fitted input
+ * columns), encoded as the fit's design was, as an m x p row-major block; rows with a blank
+ * or non-numeric cell where a number is needed are left out and listed (1-based data rows).
+ * A category value the fit never saw is a bad-input SkeinError naming it.
  */
-export async function loadNewRows(file: string, predictorNames: readonly string[], sheet?: string): Promise<{ x: Float64Array; m: number; rowIndex: number[]; skipped: number[]; inputRows: number }> {
+export async function loadNewRows(file: string, predictors: readonly PredictorColumn[], sheet?: string): Promise<{ x: Float64Array; m: number; rowIndex: number[]; skipped: number[]; inputRows: number }> {
   const fileName = path.basename(file);
   const table = await readTable(file, sheet);
   const rows = table.rows;
   const names = headerNames(rows, fileName);
   checkRectangular(rows, fileName);
-  const columns = predictorNames.map((name) => findColumn(names, name, fileName));
-  const p = columns.length;
-  const values: number[] = [];
+  const columns = predictors.map((column) => findColumn(names, column.name, fileName));
+  const p = encodedWidth(predictors);
+  const values = new Float64Array(Math.max(rows.length - 1, 0) * p);
   const rowIndex: number[] = [];
   const skipped: number[] = [];
   for (let r = 1; r < rows.length; r++) {
     const cells = columns.map((j) => rows[r][j]);
-    if (cells.every((cell) => typeof cell === "number" && Number.isFinite(cell))) {
-      values.push(...(cells as number[]));
-      rowIndex.push(r - 1);
-    } else {
-      skipped.push(r);
-    }
+    if (encodeRow(predictors, cells, values, rowIndex.length * p, `Data row ${r} of ${fileName}`)) rowIndex.push(r - 1);
+    else skipped.push(r);
   }
-  return { x: Float64Array.from(values), m: values.length / Math.max(p, 1), rowIndex, skipped, inputRows: rows.length - 1 };
+  return { x: values.slice(0, rowIndex.length * p), m: rowIndex.length, rowIndex, skipped, inputRows: rows.length - 1 };
 }

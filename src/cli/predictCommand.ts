@@ -66,6 +66,8 @@ export interface PredictReport {
   rows: (PredictedRow | null)[];
   /** 1-based data rows of NEWFILE left out. */
   skipped: number[];
+  /** What was done to the fitted data's columns (category columns made into indicators). */
+  notices: string[];
 }
 
 /** `skein predict`: returns the exit status; SkeinErrors propagate to main. */
@@ -89,7 +91,7 @@ export async function predictCommand(argv: readonly string[], io: { stdout: (s: 
   const intercept = !switches.has("no-intercept");
   const { design } = await loadDesign({ file: positionals[0], sheet: values.get("sheet"), y, x: xText === undefined ? undefined : parseList(xText, "x", "predict"), intercept });
   const fit = fitMixture(design, { k, seed: seedText === undefined ? 1 : parseWholeNumber(seedText, "seed", "predict", 0, 2 ** 32 - 1), intercept, model });
-  const newRows = await loadNewRows(newFile, design.predictorNames, values.get("new-sheet"));
+  const newRows = await loadNewRows(newFile, design.columns, values.get("new-sheet"));
   const prediction = predictRows(fit, newRows.x, newRows.m);
   const rows: (PredictedRow | null)[] = new Array(newRows.inputRows).fill(null);
   newRows.rowIndex.forEach((row, i) => {
@@ -108,6 +110,7 @@ export async function predictCommand(argv: readonly string[], io: { stdout: (s: 
     components: fit.components.map((c) => ({ weight: c.weight, sigma: c.sigma, coefficients: Array.from(c.coefficients) })),
     rows,
     skipped: newRows.skipped,
+    notices: design.notices,
   };
   if (switches.has("json")) {
     io.stdout(JSON.stringify(report) + "\n");
@@ -123,7 +126,8 @@ export async function predictCommand(argv: readonly string[], io: { stdout: (s: 
   });
   const widths = header.map((_, j) => Math.max(...table.map((t) => t[j].length)));
   for (const t of table) lines.push("  " + t.map((cell, j) => cell.padStart(widths[j])).join("   "));
-  if (newRows.skipped.length > 0) lines.push(`Skipped new rows (a predictor cell is not a number): ${newRows.skipped.join(", ")}`);
+  if (newRows.skipped.length > 0) lines.push(`Skipped new rows (a predictor cell is blank, or not a number where one is needed): ${newRows.skipped.join(", ")}`);
+  for (const notice of design.notices) lines.push(`Note: ${notice}`);
   io.stdout(lines.join("\n") + "\n");
   return 0;
 }

@@ -72,6 +72,8 @@ export interface ScanReport {
   intercept: boolean;
   model: MixtureModel;
   rows: ScanReportRow[];
+  /** What was done to the input columns (category columns made into indicators). */
+  notices: string[];
 }
 
 /** `skein scan`: returns the exit status; SkeinErrors propagate to main, which reports them. */
@@ -126,6 +128,7 @@ export async function scanCommand(argv: readonly string[], io: { stdout: (s: str
       ...(crossValidate || !Number.isNaN(row.crossValidatedLogLikelihood) ? { crossValidatedLogLikelihood: row.crossValidatedLogLikelihood } : {}),
       flag: row.flag,
     })),
+    notices: design.notices,
   };
   if (switches.has("json")) {
     io.stdout(JSON.stringify(report) + "\n");
@@ -140,6 +143,7 @@ export async function scanCommand(argv: readonly string[], io: { stdout: (s: str
 export function formatScanTable(report: ScanReport, where: string): string {
   const lines: string[] = [];
   lines.push(`${report.response} regressed on ${report.predictors.join(", ")} (${report.model} model, ${report.intercept ? "with" : "without"} intercept); ${where}, ${report.n} rows`);
+  for (const notice of report.notices) lines.push(`Note: ${notice}`);
   lines.push("");
   const hasCv = report.rows.some((row) => row.crossValidatedLogLikelihood !== undefined);
   const header = ["K", "log-likelihood", "BIC", "ICL", ...(hasCv ? ["held-out LL/row"] : []), "converged", "closest pair (noise SDs)", ""];

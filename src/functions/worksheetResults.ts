@@ -3,6 +3,7 @@
  * trade's words, see NAMES.md) and the rows (spill.ts shapes them).
  */
 import { checkSeparation } from "../engine/checkSeparation";
+import { encodeRow, levelOf, type PredictorColumn } from "../engine/categoryLevels";
 import { SkeinError } from "../engine/errors";
 import { predictRows } from "../engine/predictRows";
 import type { FunctionSettings } from "./settings";
@@ -66,6 +67,7 @@ export function checkTable(shared: SharedFit, settings: FunctionSettings): Cell[
     ["rows used", design.n],
     ["rows skipped", design.skipped.length],
   ];
+  for (const notice of design.notices) rows.push(["note", notice]);
   const warnings = [...new Set([...fit.warnings, ...separation.warnings])];
   if (warnings.length === 0) rows.push(["warning", "none"]);
   for (const warning of warnings) rows.push(["warning", warning]);
@@ -79,7 +81,7 @@ export function checkTable(shared: SharedFit, settings: FunctionSettings): Cell[
  * text is a header row.
  */
 export function predictionTable({ design, fit }: SharedFit, newX: unknown, settings: FunctionSettings): Cell[][] {
-  const rows = readNewRows(newX, design.p);
+  const rows = readNewRows(newX, design.columns, design.p);
   const k = fit.k;
   const prediction = predictRows(fit, rows.x, rows.n);
   const output = perInputRow(rows, k + 1, (i, out) => {
@@ -97,35 +99,40 @@ interface NewRows extends RowLayout {
 }
 
 /**
- * The usable rows of new_x. The rule is the data layer's: only finite numbers are used, and
- * a row with anything else is left out (its output row stays ""). The data layer's checks on
- * predictors (constant or duplicated columns) do not apply: one row to predict for is fine.
+ * The usable rows of new_x, one cell per input column of x, encoded as x was (a category
+ * column's text becomes its indicators; a value the fit never saw is refused by name). The
+ * rule for numbers is the data layer's: only finite numbers are used, and a row with anything
+ * else is left out (its output row stays ""). The data layer's checks on predictors (constant
+ * or duplicated columns) do not apply: one row to predict for is fine. A first row that is all
+ * text is a header row unless each of its cells is a known value of a category column.
  */
-function readNewRows(newX: unknown, p: number): NewRows {
+function readNewRows(newX: unknown, columns: readonly PredictorColumn[], p: number): NewRows {
   if (!Array.isArray(newX) || newX.length === 0 || !newX.every(Array.isArray)) {
     throw new SkeinError("bad-input", "new_x must be a range of rows of predictors to predict for; it is empty or not a range.");
   }
   const cells = newX as unknown[][];
+  const width = columns.length;
   for (let r = 0; r < cells.length; r++) {
-    if (cells[r].length !== p) {
-      throw new SkeinError("bad-input", `new_x has ${cells[r].length} column${cells[r].length === 1 ? "" : "s"} in row ${r + 1} but x has ${p}; give new_x the same predictor columns as x, in the same order.`);
+    if (cells[r].length !== width) {
+      throw new SkeinError("bad-input", `new_x has ${cells[r].length} column${cells[r].length === 1 ? "" : "s"} in row ${r + 1} but x has ${width}; give new_x the same predictor columns as x, in the same order.`);
     }
   }
-  const hasHeaderRow = cells[0].every((value) => typeof value === "string" && value.trim() !== "" && !value.trim().startsWith("#"));
+  const hasHeaderRow =
+    cells[0].every((value) => typeof value === "string" && value.trim() !== "" && !value.trim().startsWith("#")) &&
+    !cells[0].every((value, j) => isKnownLevel(columns[j], value));
   const first = hasHeaderRow ? 1 : 0;
   const inputRows = rowsThroughLastData([cells], first);
   const x = new Float64Array(inputRows * p);
   const rowIndex = new Int32Array(inputRows);
   let n = 0;
   for (let r = 0; r < inputRows; r++) {
-    const row = cells[r + first];
-    let usable = true;
-    for (let j = 0; j < p && usable; j++) {
-      const value = row[j];
-      usable = typeof value === "number" && Number.isFinite(value);
-      if (usable) x[n * p + j] = value as number;
-    }
-    if (usable) rowIndex[n++] = r;
+    if (encodeRow(columns, cells[r + first], x, n * p, `Row ${r + first + 1} of new_x`)) rowIndex[n++] = r;
   }
   return { x: x.slice(0, n * p), n, shownRows: inputRows, rowIndex: rowIndex.slice(0, n), hasHeaderRow };
+}
+
+function isKnownLevel(column: PredictorColumn, value: unknown): boolean {
+  if (column.kind !== "category") return false;
+  const level = levelOf(value);
+  return level !== null && column.counts.some((c) => c.level.toLowerCase() === level[0]);
 }
