@@ -65,6 +65,19 @@ describe("background component (uniform noise component, Banfield & Raftery 1993
     expect(scanComponents(data, { kMax: 4, seed: 1, background: true }).chosenK).toBe(2);
   });
 
+  it('"auto" adds the background only when the fit without it shows far-off rows, keeping the smaller BIC', () => {
+    const auto = fitMixture(data, { k: 2, seed: 1, background: "auto" });
+    expect(auto.background).toBeDefined();
+    expect(auto.background!.memberships[typoRow]).toBeGreaterThan(0.99);
+    expect(scanComponents(data, { kMax: 4, seed: 1, background: "auto" }).chosenK).toBe(2);
+    // Clean data: exactly the fit without a background (same log-likelihood, no background).
+    const clean = twoGroupsWithTypo(null);
+    const plain = fitMixture(clean, { k: 2, seed: 1 });
+    const cleanAuto = fitMixture(clean, { k: 2, seed: 1, background: "auto" });
+    expect(cleanAuto.background).toBeUndefined();
+    expect(cleanAuto.logLikelihood).toBe(plain.logLikelihood);
+  });
+
   it("K = 1 with a background is a weighted least-squares fit that ignores the typo", () => {
     const oneGroup = twoGroupsWithTypo(typoRow);
     // Keep only the first group (even rows) and the typo.

@@ -49,6 +49,11 @@ export interface DesignOptions {
    * and is reported the same way.
    */
   intercept?: boolean;
+  /**
+   * 0-based data rows (below any header row) to leave out of the fit, such as stray rows the
+   * user chose to set aside; each is listed among the skipped rows with reason "left out".
+   */
+  leaveOut?: ReadonlySet<number>;
 }
 
 /** Why a cell makes its row unusable. */
@@ -58,6 +63,7 @@ export const SKIP_REASONS = {
   logical: "logical value",
   error: "error value",
   date: "date value",
+  leftOut: "left out",
 } as const;
 
 /**
@@ -225,6 +231,10 @@ export function buildDesign(y: unknown[][], x: unknown[][], options: DesignOptio
         reason = cellClass as string;
         column = columnNames[j];
       }
+    }
+    if (reason === undefined && options.leaveOut?.has(r)) {
+      reason = SKIP_REASONS.leftOut;
+      column = yName;
     }
     if (reason === undefined) {
       rowIndex[n] = r;

@@ -6,7 +6,7 @@ import { gatherRows, selectRows } from "./rowSubset";
 import { createWorkspace, type MixtureWorkspace } from "./mixture/mixtureWorkspace";
 import { permuteParameters, type MixtureParameters } from "./mixture/mixtureParameters";
 import { computeResiduals, eStep } from "./mixture/eStep";
-import { createBackground, updateBackgroundWeight } from "./mixture/backgroundComponent";
+import { backgroundMayHelp, chooseBackground, createBackground, updateBackgroundWeight } from "./mixture/backgroundComponent";
 import { factorPredictorCovariances, mStepCoefficients, mStepPredictorModel, mStepVariances, mStepVariancesFromGram, type Guards } from "./mixture/mStep";
 import { reseedComponent } from "./mixture/reseedComponent";
 import { hardAssignmentPolish } from "./mixture/hardAssignmentPolish";
@@ -183,7 +183,11 @@ interface EmRun {
  * One generator made from options.seed feeds every random step.
  */
 export function fitMixture(data: RegressionData, options: MixtureOptions): MixtureFit {
-  return fitMixtureAtDepth(data, options, 0);
+  if (options.background !== "auto") return fitMixtureAtDepth(data, options, 0);
+  // "auto": the background only when the fit without it shows rows far from every regression.
+  const plain = fitMixtureAtDepth(data, { ...options, background: false }, 0);
+  if (!backgroundMayHelp(data, plain)) return plain;
+  return chooseBackground(plain, fitMixtureAtDepth(data, { ...options, background: true }, 0));
 }
 
 /**
@@ -884,6 +888,6 @@ function checkInput(data: RegressionData, options: MixtureOptions): Settings {
   const maxIterations = options.maxIterations ?? DEFAULT_MAX_ITERATIONS;
   if (!Number.isInteger(maxIterations) || maxIterations < 1) throw new SkeinError("bad-input", `max_iterations must be a whole number of 1 or more; received ${String(maxIterations)}.`);
   const background = options.background ?? false;
-  if (typeof background !== "boolean") throw new SkeinError("bad-input", `background must be yes or no (true or false); received ${String(background)}.`);
+  if (typeof background !== "boolean") throw new SkeinError("bad-input", `background must be yes, no or auto; received ${String(background)}.`);
   return { k, seed, intercept, model, restarts, tolerance, maxIterations, background };
 }

@@ -36,11 +36,12 @@ export interface MixtureOptions {
   /** Cap on refinement iterations. */
   maxIterations?: number;
   /**
-   * Add a background component with a flat density over the data's range (Banfield &
-   * Raftery 1993), so that rows far from every regression do not pull one onto themselves
-   * (default false).
+   * A background component with a flat density over the data's range (Banfield & Raftery
+   * 1993), so that rows far from every regression do not pull one onto themselves: true
+   * always, false never (the default), "auto" only when the fit without it shows signs of
+   * such rows (see chooseBackground in mixture/backgroundComponent.ts).
    */
-  background?: boolean;
+  background?: boolean | "auto";
   /** A previous fit of the same model on (nearly) the same data: warm start and label order. */
   previous?: MixtureFit;
   signal?: CancelSignal;

@@ -12,7 +12,7 @@ export interface ScanOptions {
   model?: MixtureModel;
   restarts?: number;
   /** Give every fit a flat background component (Banfield & Raftery 1993); see MixtureOptions. */
-  background?: boolean;
+  background?: boolean | "auto";
   /** Also compute a cross-validated log-likelihood per K (Smyth 2000); slower. */
   crossValidate?: boolean;
   signal?: CancelSignal;

@@ -1,3 +1,5 @@
+import type { MixtureFit, RegressionData } from "../mixtureTypes";
+import { findStrayRows } from "../strayRows";
 import type { MixtureWorkspace } from "./mixtureWorkspace";
 
 /**
@@ -66,4 +68,28 @@ export function updateBackgroundWeight(background: BackgroundComponent, n: numbe
   let total = 0;
   for (let i = 0; i < n; i++) total += background.memberships[i];
   background.weight = Math.max(BACKGROUND_MIN_WEIGHT, total / n);
+}
+
+/**
+ * A component holding fewer rows than this many times its coefficients plus one looks like
+ * one that far-off rows pulled onto themselves (a typing slip takes a component of about one
+ * row); real groups that small cannot be estimated anyway.
+ */
+const SMALL_COMPONENT_FACTOR = 2;
+
+/**
+ * The "auto" setting: whether a fit without a background shows signs of rows far from every
+ * regression: a stray row (strayRows.ts) or a component of fewer than 2(q + 1) rows. Only
+ * then is a fit with the background tried, and the one with the smaller BIC kept, so clean
+ * data keep exactly the fit they had (K = 1 stays ordinary least squares) at no extra cost.
+ */
+export function backgroundMayHelp(data: RegressionData, fit: MixtureFit): boolean {
+  const smallest = SMALL_COMPONENT_FACTOR * (fit.q + 1);
+  if (fit.k > 1 && fit.components.some((c) => c.weight * fit.n < smallest)) return true;
+  return findStrayRows(data, fit).rows.length > 0;
+}
+
+/** Of a fit without and one with the background, the one with the smaller BIC (Schwarz 1978). */
+export function chooseBackground(plain: MixtureFit, withBackground: MixtureFit): MixtureFit {
+  return withBackground.bic < plain.bic ? withBackground : plain;
 }
