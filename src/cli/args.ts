@@ -86,3 +86,18 @@ export function parseModel(text: string | undefined, command: string): MixtureMo
   if (text === "plain" || text === "joint") return text;
   throw new SkeinError("bad-input", `--model must be plain or joint, not "${text}" (see skein ${command} --help)`);
 }
+
+/** A comma-separated list of 1-based data row numbers, such as --leave-out 12,140. */
+export function parseRowList(text: string, flag: string, command: string): number[] {
+  return parseList(text, flag, command).map((item) => parseWholeNumber(item, flag, command, 1, 2 ** 31 - 1));
+}
+
+/** --background: "auto" (the default), "yes" or "no". */
+export function parseBackground(text: string | undefined, command: string): boolean | "auto" {
+  if (text === undefined) return "auto";
+  const value = text.trim().toLowerCase();
+  if (value === "auto") return "auto";
+  if (value === "yes") return true;
+  if (value === "no") return false;
+  throw new SkeinError("bad-input", `--background must be auto, yes or no; got "${text}". Example: skein ${command} data.csv --y COLUMN --background yes`);
+}

@@ -8,7 +8,8 @@ import { checkSeparation } from "../engine/checkSeparation";
 import { standardErrors } from "../engine/standardErrors";
 import type { MixtureFit, MixtureModel, RefinementReport, WarmStartReport } from "../engine/mixtureTypes";
 import type { SeparationReport } from "../engine/trustTypes";
-import { parseArgs, parseList, parseModel, parseWholeNumber, type FlagKinds } from "./args";
+import { findStrayRows } from "../engine/strayRows";
+import { parseArgs, parseBackground, parseList, parseModel, parseRowList, parseWholeNumber, type FlagKinds } from "./args";
 import { loadDesign } from "./loadDesign";
 import { formatFitTable } from "./formatTable";
 
@@ -33,6 +34,13 @@ cell, or text in a numeric column, are skipped and listed.
   --bootstrap N     standard errors from N bootstrap refits (components
                     matched to this fit in each) instead of the observed
                     information; slower
+  --background B    auto (default), yes or no: a background component with a
+                    flat density over the range of y, so rows far from every
+                    regression (typing slips) do not take a component of
+                    their own; auto adds it only when the fit without it has
+                    stray rows or a tiny component, and keeps the smaller BIC
+  --leave-out ROWS  data rows to leave out of the fit, separated by commas
+                    (counted from 1 below the header), e.g. stray rows
   --no-intercept    fit without an intercept
   --json            write one JSON object instead of a table
   --help            show this help
@@ -50,6 +58,8 @@ const FIT_FLAGS: FlagKinds = {
   seed: "value",
   bootstrap: "value",
   "no-intercept": "switch",
+  background: "value",
+  "leave-out": "value",
   json: "switch",
   help: "switch",
   h: "switch",
@@ -72,6 +82,10 @@ export interface FitSettings {
   restarts?: number;
   /** Bootstrap replicates for the standard errors; undefined: observed information. */
   bootstrap?: number;
+  /** A flat background component (Banfield & Raftery 1993): always, never or "auto". */
+  background: boolean | "auto";
+  /** 1-based data rows to leave out. */
+  leaveOut?: number[];
   json: boolean;
 }
 
@@ -82,6 +96,16 @@ export interface ComponentReport {
   sigma: number;
   coefficients: number[];
   stdErrors: number[];
+}
+
+/** A row no component explains (rule in src/engine/strayRows.ts). */
+export interface StrayRowReport {
+  /** 1-based data row of the file. */
+  row: number;
+  /** Noise SDs to the nearest component. */
+  distance: number;
+  /** 1-based nearest component. */
+  nearest: number;
 }
 
 export interface SkippedReport {
@@ -121,6 +145,11 @@ export interface FitReport {
   timings: { readMs: number; fitMs: number };
   /** What was done to the input columns (category columns made into indicators, with their reference level). */
   notices: string[];
+  /** Rows no component explains, and the rule that picks them. */
+  strayRows: StrayRowReport[];
+  strayRowsRule: string;
+  /** Weight of the background component (--background), else null. */
+  backgroundWeight: number | null;
 }
 
 /** What a model fit hands back, whatever the number of components. */
@@ -165,6 +194,8 @@ export function parseFitSettings(argv: readonly string[]): FitSettings | "help" 
     model: parseModel(values.get("model"), "fit"),
     restarts: restartsText === undefined ? undefined : parseWholeNumber(restartsText, "restarts", "fit", 0, 1000),
     bootstrap: bootstrapText === undefined ? undefined : parseWholeNumber(bootstrapText, "bootstrap", "fit", 10, 10000),
+    background: parseBackground(values.get("background"), "fit"),
+    leaveOut: values.has("leave-out") ? parseRowList(values.get("leave-out") as string, "leave-out", "fit") : undefined,
     json: switches.has("json"),
   };
 }
@@ -175,9 +206,9 @@ export function parseFitSettings(argv: readonly string[]): FitSettings | "help" 
  * ordinary least squares, and the report gives the classical least-squares standard
  * errors (n − q degrees of freedom), the ones regression tables and NIST certify.
  */
-export function fitModel(design: Design, settings: Pick<FitSettings, "k" | "seed" | "intercept" | "model" | "restarts" | "bootstrap">): ModelFit {
+export function fitModel(design: Design, settings: Pick<FitSettings, "k" | "seed" | "intercept" | "model" | "restarts" | "bootstrap"> & { background?: boolean | "auto" }): ModelFit {
   const mixture = withColumnNames(design, settings.intercept, () =>
-    fitMixture(design, { k: settings.k, seed: settings.seed, intercept: settings.intercept, model: settings.model, restarts: settings.restarts }),
+    fitMixture(design, { k: settings.k, seed: settings.seed, intercept: settings.intercept, model: settings.model, restarts: settings.restarts, background: settings.background }),
   );
   const errors =
     settings.bootstrap === undefined
@@ -185,7 +216,7 @@ export function fitModel(design: Design, settings: Pick<FitSettings, "k" | "seed
       : standardErrors(design, mixture, { method: "bootstrap", replicates: settings.bootstrap, seed: settings.seed, fitOptions: { restarts: settings.restarts } });
   let coefficientErrors = errors.coefficients.map((c) => Array.from(c));
   let method: string = errors.method;
-  if (settings.k === 1 && settings.model === "plain" && settings.bootstrap === undefined) {
+  if (settings.k === 1 && settings.model === "plain" && settings.bootstrap === undefined && mixture.background === undefined) {
     coefficientErrors = [classicalStdErrors(design, settings.intercept)];
     method = "least-squares";
   }
@@ -243,6 +274,7 @@ export async function computeFitReport(settings: FitSettings): Promise<{ report:
   for (let i = 0; i < design.n; i++) labels[design.rowIndex[i]] = model.labels[i] + 1;
   // Schwarz (1978): BIC = −2 log L + ν ln n.
   const bic = -2 * model.logLikelihood + model.parameterCount * Math.log(design.n);
+  const stray = findStrayRows(design, model.mixture);
   const report: FitReport = {
     k: settings.k,
     n: design.n,
@@ -266,6 +298,9 @@ export async function computeFitReport(settings: FitSettings): Promise<{ report:
     stdErrors: { method: model.stdErrorMethod, weights: model.weightStdErrors, sigmas: model.sigmaStdErrors },
     timings: { readMs, fitMs },
     notices: design.notices,
+    strayRows: stray.rows.map((s) => ({ row: design.rowIndex[s.row] + 1, distance: s.distance, nearest: s.nearest + 1 })),
+    strayRowsRule: stray.rule,
+    backgroundWeight: model.mixture.background?.weight ?? null,
   };
   return { report, sheetName };
 }

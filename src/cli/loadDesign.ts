@@ -13,6 +13,10 @@ export interface DesignSource {
   /** Predictor names; undefined: every other mostly numeric column. */
   x?: string[];
   intercept: boolean;
+  /** The number of components asked for (named when there are too few rows). */
+  k?: number;
+  /** 1-based data rows to leave out of the fit (--leave-out). */
+  leaveOut?: number[];
 }
 
 /**
@@ -38,7 +42,11 @@ export async function loadDesign(source: DesignSource): Promise<{ design: Design
     for (let j = 0; j < names.length; j++) if (j !== y && isMostlyNumeric(rows, j)) x.push(j);
     if (x.length === 0) throw new SkeinError("bad-input", `${fileName} has no numeric column besides ${names[y]}; name the predictors with --x.`);
   }
-  const design = buildDesign(columnRange(rows, y), columnsRange(rows, x), { headers: true, intercept: source.intercept });
+  const dataRows = rows.length - 1;
+  const beyond = source.leaveOut?.find((row) => row > dataRows);
+  if (beyond !== undefined) throw new SkeinError("bad-input", `--leave-out names data row ${beyond}, but ${fileName} has ${dataRows} data row${dataRows === 1 ? "" : "s"}; count data rows from 1 below the header.`);
+  const leaveOut = source.leaveOut ? new Set(source.leaveOut.map((row) => row - 1)) : undefined;
+  const design = buildDesign(columnRange(rows, y), columnsRange(rows, x), { headers: true, intercept: source.intercept, leaveOut, components: source.k });
   return { design, sheetName: table.sheetName };
 }
 

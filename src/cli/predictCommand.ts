@@ -2,7 +2,7 @@ import * as path from "path";
 import { SkeinError } from "../engine/errors";
 import { fitMixture } from "../engine/fitMixture";
 import { predictRows } from "../engine/predictRows";
-import { parseArgs, parseList, parseModel, parseWholeNumber, type FlagKinds } from "./args";
+import { parseArgs, parseBackground, parseList, parseModel, parseWholeNumber, type FlagKinds } from "./args";
 import { formatNumber } from "./formatTable";
 import { loadDesign, loadNewRows } from "./loadDesign";
 
@@ -23,6 +23,7 @@ where the new row's x lie; with the plain model they are the weights.
   --new-sheet NAME    the worksheet of an .xlsx NEWFILE (default: the first)
   --seed S            seed for the random starts (default 1)
   --model plain|joint (default plain)
+  --background B      auto (default), yes or no (see skein fit)
   --no-intercept      fit without an intercept
   --json              write one JSON object instead of a table
   --help              show this help
@@ -40,6 +41,7 @@ const PREDICT_FLAGS: FlagKinds = {
   seed: "value",
   model: "value",
   "no-intercept": "switch",
+  background: "value",
   json: "switch",
   help: "switch",
   h: "switch",
@@ -89,8 +91,8 @@ export async function predictCommand(argv: readonly string[], io: { stdout: (s: 
   const xText = values.get("x");
   const model = parseModel(values.get("model"), "predict");
   const intercept = !switches.has("no-intercept");
-  const { design } = await loadDesign({ file: positionals[0], sheet: values.get("sheet"), y, x: xText === undefined ? undefined : parseList(xText, "x", "predict"), intercept });
-  const fit = fitMixture(design, { k, seed: seedText === undefined ? 1 : parseWholeNumber(seedText, "seed", "predict", 0, 2 ** 32 - 1), intercept, model });
+  const { design } = await loadDesign({ file: positionals[0], sheet: values.get("sheet"), y, x: xText === undefined ? undefined : parseList(xText, "x", "predict"), intercept, k });
+  const fit = fitMixture(design, { k, seed: seedText === undefined ? 1 : parseWholeNumber(seedText, "seed", "predict", 0, 2 ** 32 - 1), intercept, model, background: parseBackground(values.get("background"), "predict") });
   const newRows = await loadNewRows(newFile, design.columns, values.get("new-sheet"));
   const prediction = predictRows(fit, newRows.x, newRows.m);
   const rows: (PredictedRow | null)[] = new Array(newRows.inputRows).fill(null);

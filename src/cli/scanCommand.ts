@@ -2,7 +2,7 @@ import * as path from "path";
 import { SkeinError } from "../engine/errors";
 import type { MixtureModel } from "../engine/mixtureTypes";
 import { scanComponents } from "../engine/scanComponents";
-import { parseArgs, parseList, parseModel, parseWholeNumber, type FlagKinds } from "./args";
+import { parseArgs, parseBackground, parseList, parseModel, parseWholeNumber, type FlagKinds } from "./args";
 import { formatNumber } from "./formatTable";
 import { loadDesign } from "./loadDesign";
 
@@ -22,6 +22,9 @@ It suggests a number of components and says why others were not suggested.
   --model plain|joint plain: y given x per component; joint: each component
                       also models where its x lie (default plain)
   --restarts R        random starts per fit
+  --background B      auto (default), yes or no: a background component with a
+                      flat density over the range of y beside the K components,
+                      so one typing slip cannot take a component (see skein fit)
   --cross-validate    also report a 5-fold cross-validated log-likelihood per row
   --no-intercept      fit without an intercept
   --json              write one JSON object instead of a table
@@ -39,6 +42,7 @@ const SCAN_FLAGS: FlagKinds = {
   model: "value",
   restarts: "value",
   "cross-validate": "switch",
+  background: "value",
   "no-intercept": "switch",
   json: "switch",
   help: "switch",
@@ -74,6 +78,8 @@ export interface ScanReport {
   rows: ScanReportRow[];
   /** What was done to the input columns (category columns made into indicators). */
   notices: string[];
+  /** Why the scan stopped before --k-max, or null. */
+  stoppedEarly: string | null;
 }
 
 /** `skein scan`: returns the exit status; SkeinErrors propagate to main, which reports them. */
@@ -109,6 +115,7 @@ export async function scanCommand(argv: readonly string[], io: { stdout: (s: str
     model,
     restarts: restartsText === undefined ? undefined : parseWholeNumber(restartsText, "restarts", "scan", 0, 1000),
     crossValidate,
+    background: parseBackground(values.get("background"), "scan"),
   });
   const report: ScanReport = {
     chosenK: scan.chosenK,
@@ -129,6 +136,7 @@ export async function scanCommand(argv: readonly string[], io: { stdout: (s: str
       flag: row.flag,
     })),
     notices: design.notices,
+    stoppedEarly: scan.stoppedEarly,
   };
   if (switches.has("json")) {
     io.stdout(JSON.stringify(report) + "\n");
@@ -163,6 +171,7 @@ export function formatScanTable(report: ScanReport, where: string): string {
   const widths = header.map((_, j) => Math.max(...table.map((r) => r[j].length)));
   for (const r of table) lines.push("  " + r.map((cell, j) => (j === r.length - 1 ? cell : cell.padStart(widths[j]))).join("   ").trimEnd());
   lines.push("");
+  if (report.stoppedEarly !== null) lines.push(report.stoppedEarly);
   lines.push(`Suggested: ${report.chosenK} component${report.chosenK === 1 ? "" : "s"}. Rule: ${report.rule}`);
   const flagged = report.rows.filter((row) => row.flag !== null);
   if (flagged.length > 0) {

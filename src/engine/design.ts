@@ -40,8 +40,13 @@ export interface DesignOptions {
    * (default): it holds names when the y cell and every x cell are text.
    */
   headers?: boolean | "auto";
-  /** Fewest usable rows accepted; default p + 2 (an intercept, p slopes and one degree of freedom for the noise). */
+  /**
+   * Fewest usable rows accepted; default the larger of p + 2 (an intercept, p slopes and one
+   * degree of freedom for the noise) and components × (coefficients + 1).
+   */
   minRows?: number;
+  /** The number of components the rows are for (default 1); named in the too-few-rows message. */
+  components?: number;
   /**
    * Whether the fit will include an intercept (default true). With one, a
    * predictor that is a shifted multiple of another (x_b = a + c·x_a, such as
@@ -282,8 +287,10 @@ export function buildDesign(y: unknown[][], x: unknown[][], options: DesignOptio
   }
   const predictorNames = encodedNames(columns);
 
-  const minRows = options.minRows ?? width + 2;
-  if (n < minRows) throw tooFewRows(n, minRows, width, skipped);
+  const components = options.components ?? 1;
+  const coefficients = width + (options.intercept === false ? 0 : 1);
+  const minRows = options.minRows ?? Math.max(width + 2, components * (coefficients + 1));
+  if (n < minRows) throw tooFewRows(n, minRows, width, skipped, components, coefficients);
 
   const design: Design = {
     y: yValues.slice(0, n),
@@ -308,8 +315,9 @@ function nonFinite(column: string, value: number, row: number, hasHeaderRow: boo
   return new SkeinError("bad-input", `Column ${column} holds ${value} in ${where}; only finite numbers can be fitted. Replace it with a number or leave the cell blank to skip the row.`);
 }
 
-function tooFewRows(usable: number, needed: number, p: number, skipped: SkippedRow[]): SkeinError {
+function tooFewRows(usable: number, needed: number, p: number, skipped: SkippedRow[], components: number, coefficients: number): SkeinError {
   let message = `Only ${usable} usable row${usable === 1 ? "" : "s"}, but at least ${needed} are needed for ${p} predictor${p === 1 ? "" : "s"}`;
+  if (components > 1) message += ` and K = ${components} components (each needs one more row than its ${coefficients} coefficient${coefficients === 1 ? "" : "s"})`;
   if (skipped.length > 0) {
     // The most common (reason, column) pair points at the cause to fix.
     const counts = new Map<string, number>();
@@ -324,9 +332,9 @@ function tooFewRows(usable: number, needed: number, p: number, skipped: SkippedR
         commonestCount = count;
       }
     }
-    message += `; ${skipped.length} row${skipped.length === 1 ? " was" : "s were"} skipped, most often for ${commonest} (${commonestCount} row${commonestCount === 1 ? "" : "s"}). Fill or fix those cells so they hold numbers, or use fewer predictors.`;
+    message += `; ${skipped.length} row${skipped.length === 1 ? " was" : "s were"} skipped, most often for ${commonest} (${commonestCount} row${commonestCount === 1 ? "" : "s"}). Fill or fix those cells so they hold numbers, or use fewer ${components > 1 ? "components or " : ""}predictors.`;
   } else {
-    message += ". Add rows or use fewer predictors.";
+    message += components > 1 ? `. Add rows, or use fewer components or predictors.` : ". Add rows or use fewer predictors.";
   }
   return new SkeinError("bad-input", message);
 }

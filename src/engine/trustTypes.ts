@@ -42,6 +42,8 @@ export interface ScanResult {
   chosenK: number;
   /** The rule that chose it, in plain words. */
   rule: string;
+  /** Why the scan stopped before kMax (too few rows, or a fit that failed), or null when it reached kMax. */
+  stoppedEarly: string | null;
 }
 
 export interface SeparationPair {

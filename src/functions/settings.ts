@@ -18,10 +18,12 @@ export interface FunctionSettings {
   maxIterations?: number;
   /** Header row on the results: yes, no, or "auto" (exactly when the input ranges start with one). */
   headers: boolean | "auto";
+  /** A flat background component beside the K regressions (Banfield & Raftery 1993): yes, no, or "auto" (only when the fit without it shows far-off rows). */
+  background: boolean | "auto";
 }
 
 /** Defaults: seed 1 (the engine's own default), an intercept, the plain model. */
-export const DEFAULT_SETTINGS: Readonly<FunctionSettings> = { seed: 1, intercept: true, model: "plain", headers: "auto" };
+export const DEFAULT_SETTINGS: Readonly<FunctionSettings> = { seed: 1, intercept: true, model: "plain", headers: "auto", background: "auto" };
 
 /** Largest seed accepted: the generator uses the seed's 32-bit integer part. */
 const MAX_SEED = 4294967295;
@@ -96,6 +98,13 @@ const RULES: Record<string, SettingRule> = {
   headers: {
     accepts: "yes or no",
     apply: (s, v, n) => (s.headers = yesNo(v, n, RULES.headers.accepts)),
+  },
+  background: {
+    accepts: "auto, yes or no",
+    apply: (s, v, n) => {
+      const text = typeof v === "string" ? v.trim().toLowerCase() : v;
+      s.background = text === "auto" ? "auto" : yesNo(v, n, RULES.background.accepts);
+    },
   },
 };
 
@@ -183,5 +192,5 @@ function parseSettingsText(text: string, set: (name: string, value: unknown) => 
 
 /** The settings that change a fit, as text for a cache key (headers only change the layout). */
 export function fitSettingsKey(settings: FunctionSettings): string {
-  return [settings.seed, settings.intercept ? 1 : 0, settings.model, settings.restarts ?? "", settings.tolerance ?? "", settings.maxIterations ?? ""].join("|");
+  return [settings.seed, settings.intercept ? 1 : 0, settings.model, settings.restarts ?? "", settings.tolerance ?? "", settings.maxIterations ?? "", String(settings.background)].join("|");
 }

@@ -13,6 +13,7 @@ import { buildDesign, type Design } from "../engine/design";
 import { SkeinError } from "../engine/errors";
 import type { MixtureFit } from "../engine/mixtureTypes";
 import type { ScanResult, SeparationReport } from "../engine/trustTypes";
+import type { StrayRowsReport } from "../engine/strayRows";
 import { AddressMemory } from "./addressMemory";
 import { runFit, runScan } from "./engineRunner";
 import { FitCache, type Lease } from "./fitCache";
@@ -33,6 +34,8 @@ export interface SharedFit {
   layout: RowLayout;
   /** Filled the first time SKEIN.CHECK asks for it. */
   separation?: SeparationReport;
+  /** Rows no component explains; filled the first time SKEIN.CHECK asks for them. */
+  stray?: StrayRowsReport;
 }
 
 export interface SharedScan {
@@ -118,6 +121,7 @@ export async function sharedFit(y: unknown, x: unknown, kArgument: unknown, sett
           restarts: settings.restarts,
           tolerance: settings.tolerance,
           maxIterations: settings.maxIterations,
+          background: settings.background,
         },
         previous,
       },
@@ -141,14 +145,20 @@ export async function sharedScan(y: unknown, x: unknown, kMaxArgument: unknown, 
     // Without kmax: up to DEFAULT_KMAX, as far as the rows allow; with it, every K must fit.
     const kMax = requested === 0 ? Math.max(1, Math.min(DEFAULT_KMAX, Math.floor(design.n / (coefficients + 1)))) : requested;
     checkRowsForK(design, kMax, settings.intercept);
-    const scan = await runScan(
+    const result = await runScan(
       {
         kind: "scan",
         data: { y: design.y, x: design.x, n: design.n, p: design.p },
-        options: { kMax, seed: settings.seed, intercept: settings.intercept, model: settings.model, restarts: settings.restarts },
+        options: { kMax, seed: settings.seed, intercept: settings.intercept, model: settings.model, restarts: settings.restarts, background: settings.background },
       },
       cancellation,
     );
+    // The default kmax cut to what the rows allow says so (the engine reports its own stops).
+    const cut =
+      requested === 0 && kMax < DEFAULT_KMAX
+        ? `Tried K = 1 to ${kMax}, not up to ${DEFAULT_KMAX} (the default kmax): K = ${kMax + 1} needs at least ${(kMax + 1) * (coefficients + 1)} usable rows (each component needs one more row than its ${coefficients} coefficient${coefficients === 1 ? "" : "s"}), and there are ${design.n}.`
+        : null;
+    const scan = { ...result, stoppedEarly: result.stoppedEarly ?? cut };
     return { design, scan };
   });
   return { shared: await follow(lease, invocation), settings };

@@ -4,6 +4,10 @@
  */
 import { checkSeparation } from "../engine/checkSeparation";
 import { encodeRow, levelOf, type PredictorColumn } from "../engine/categoryLevels";
+import { findStrayRows } from "../engine/strayRows";
+
+/** Stray rows CHECK lists one by one; the rest are counted. */
+const STRAY_ROWS_LISTED = 10;
 import { SkeinError } from "../engine/errors";
 import { predictRows } from "../engine/predictRows";
 import type { FunctionSettings } from "./settings";
@@ -49,6 +53,11 @@ export function scanTable({ design, scan }: SharedScan, settings: FunctionSettin
     row.k === scan.chosenK,
     row.flag ?? "",
   ]);
+  // Why the scan stopped before kmax goes with the last K tried.
+  if (scan.stoppedEarly && rows.length > 0) {
+    const last = rows[rows.length - 1];
+    last[7] = last[7] === "" ? scan.stoppedEarly : `${last[7]} ${scan.stoppedEarly}`;
+  }
   return table(header, rows, showsHeader(settings, design.hasHeaderRow));
 }
 
@@ -68,6 +77,16 @@ export function checkTable(shared: SharedFit, settings: FunctionSettings): Cell[
     ["rows skipped", design.skipped.length],
   ];
   for (const notice of design.notices) rows.push(["note", notice]);
+  if (fit.background) rows.push(["background weight", cell(fit.background.weight)]);
+  shared.stray ??= findStrayRows({ y: design.y, x: design.x, n: design.n, p: design.p }, fit);
+  const stray = shared.stray;
+  rows.push(["stray rows", stray.rows.length]);
+  const firstRangeRow = design.hasHeaderRow ? 2 : 1;
+  for (const s of stray.rows.slice(0, STRAY_ROWS_LISTED)) {
+    rows.push(["stray row", `row ${design.rowIndex[s.row] + firstRangeRow} of the ranges: ${Number(s.distance.toPrecision(3))} noise SDs from component ${s.nearest + 1}, the nearest`]);
+  }
+  if (stray.rows.length > STRAY_ROWS_LISTED) rows.push(["stray row", `and ${stray.rows.length - STRAY_ROWS_LISTED} more`]);
+  if (stray.rows.length > 0) rows.push(["stray row rule", stray.rule]);
   const warnings = [...new Set([...fit.warnings, ...separation.warnings])];
   if (warnings.length === 0) rows.push(["warning", "none"]);
   for (const warning of warnings) rows.push(["warning", warning]);
