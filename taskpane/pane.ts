@@ -5,6 +5,9 @@ import type { SheetHost } from "./host";
 import { CancelFlag, type PaneEngine } from "./paneEngine";
 import { initialState, type PaneState } from "./paneState";
 
+/** The pane fits as the worksheet functions do by default: a background component when far-off rows call for one. */
+const BACKGROUND = "auto" as const;
+
 /** Quiet time after the last edit before the pane refits: typing a column of numbers fires one refit, not one per cell. */
 export const REFRESH_DELAY_MS = 600;
 
@@ -59,7 +62,7 @@ export class Pane {
     this.update({ yAddress, xAddress });
     if (changed) {
       this.scanFlag?.abort();
-      this.update({ scan: null, scanStale: false, chosenK: null, fit: null, description: null, refreshNote: null, scanProblem: null });
+      this.update({ scan: null, scanStale: false, chosenK: null, fit: null, description: null, refreshNote: null, scanProblem: null, leftOut: [] });
     }
     await this.readData();
     if (changed) {
@@ -84,7 +87,7 @@ export class Pane {
     try {
       const [y, x] = await Promise.all([this.host.readValues(yAddress), this.host.readValues(xAddress)]);
       if (version !== this.dataVersion) return null;
-      const design = buildDesign(y, x, { headers: "auto", intercept: true });
+      const design = buildDesign(y, x, { headers: "auto", intercept: true, leaveOut: new Set(this.state.leftOut) });
       this.update({ design, dataProblem: null, rangeRows: y.length });
       return design;
     } catch (error) {
@@ -130,7 +133,7 @@ export class Pane {
     this.refitFlag = flag;
     try {
       const data = regressionData(design);
-      const fit = await this.engine.fit(data, { k: previous.k, seed: this.state.seed, intercept: true, previous }, flag);
+      const fit = await this.engine.fit(data, { k: previous.k, seed: this.state.seed, intercept: true, background: BACKGROUND, previous }, flag);
       if (flag.aborted) return;
       const description = await this.engine.describe(data, fit);
       if (flag.aborted) return;
@@ -150,7 +153,7 @@ export class Pane {
     this.update({ scanning: true, progress: { k: 0, kMax }, scanProblem: null });
     try {
       const data = regressionData(design);
-      const scan = await this.engine.scan(data, { kMax, seed: this.state.seed, intercept: true }, (k, of) => this.update({ progress: { k, kMax: of } }), flag);
+      const scan = await this.engine.scan(data, { kMax, seed: this.state.seed, intercept: true, background: BACKGROUND }, (k, of) => this.update({ progress: { k, kMax: of } }), flag);
       if (flag.aborted) return;
       this.update({ scan, scanStale: false, scanning: false, progress: null, refreshNote: null });
       await this.chooseK(scan.chosenK);
@@ -175,7 +178,7 @@ export class Pane {
     try {
       // After an edit the scan's fits describe the old rows: refit this K on the
       // current rows, warm-started from the scan's fit.
-      const fit = this.state.scanStale ? await this.engine.fit(data, { k, seed: this.state.seed, intercept: true, previous: row.fit }, new CancelFlag()) : row.fit;
+      const fit = this.state.scanStale ? await this.engine.fit(data, { k, seed: this.state.seed, intercept: true, background: BACKGROUND, previous: row.fit }, new CancelFlag()) : row.fit;
       this.update({ chosenK: k, fit, description: null, refreshNote: null });
       const description = await this.engine.describe(data, fit);
       if (this.state.fit === fit) this.update({ description });
@@ -190,5 +193,15 @@ export class Pane {
 
   setKMax(kMax: number): void {
     this.update({ kMax });
+  }
+
+  /**
+   * Sets data rows (0-based, below any header) aside, or puts every set-aside row back with
+   * an empty list, then reads the data again and runs the scan on the rows that remain.
+   */
+  async setLeftOut(rows: readonly number[]): Promise<void> {
+    this.update({ leftOut: [...new Set(rows)].sort((a, b) => a - b), scan: null, scanStale: false, chosenK: null, fit: null, description: null });
+    const design = await this.readData();
+    if (design) await this.runScan();
   }
 }

@@ -24,6 +24,8 @@ export interface PaneState {
   refreshNote: string | null;
   seed: number;
   kMax: number;
+  /** 0-based data rows the user set aside (stray rows left out of the fit). */
+  leftOut: number[];
 }
 
 export function initialState(): PaneState {
@@ -44,5 +46,6 @@ export function initialState(): PaneState {
     refreshNote: null,
     seed: 1,
     kMax: 5,
+    leftOut: [],
   };
 }

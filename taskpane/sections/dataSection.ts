@@ -39,8 +39,11 @@ export function mountDataSection(parent: HTMLElement, pane: Pane): { body: HTMLE
     });
   }
   const summary = element("div", { id: "data-summary", class: "summary", "aria-live": "polite" });
+  const leftOut = element("p", { id: "data-left-out", hidden: "" });
+  const putBack = element("button", { type: "button", id: "put-back", class: "secondary", hidden: "" }, "Put them back and run the scan again");
+  putBack.addEventListener("click", () => void pane.setLeftOut([]));
   const problem = element("p", { id: "data-problem", class: "problem", role: "alert", hidden: "" });
-  body.append(summary, problem);
+  body.append(summary, leftOut, putBack, problem);
 
   return {
     body,
@@ -50,6 +53,10 @@ export function mountDataSection(parent: HTMLElement, pane: Pane): { body: HTMLE
       problem.hidden = state.dataProblem === null;
       problem.textContent = state.dataProblem ?? "";
       const design = state.design;
+      // Rows the user set aside from Checks, by sheet row, with the way back.
+      const firstSheetRow = (parseAddress(state.yAddress)?.top ?? 0) + (design?.hasHeaderRow ? 1 : 0) + 1;
+      leftOut.hidden = putBack.hidden = state.leftOut.length === 0;
+      leftOut.textContent = state.leftOut.length === 0 ? "" : `Left out of the fit at your request: row${state.leftOut.length === 1 ? "" : "s"} ${state.leftOut.map((r) => firstSheetRow + r).join(", ")}.`;
       if (!design) {
         summary.innerHTML = state.dataProblem ? "" : `<p class="hint">Choose the response and predictor ranges to begin.</p>`;
         return;
