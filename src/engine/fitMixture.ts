@@ -6,6 +6,7 @@ import { gatherRows, selectRows } from "./rowSubset";
 import { createWorkspace, type MixtureWorkspace } from "./mixture/mixtureWorkspace";
 import { permuteParameters, type MixtureParameters } from "./mixture/mixtureParameters";
 import { computeResiduals, eStep } from "./mixture/eStep";
+import { withInternalScaling } from "./internalScaling";
 import { backgroundMayHelp, chooseBackground, createBackground, updateBackgroundWeight } from "./mixture/backgroundComponent";
 import { factorPredictorCovariances, mStepCoefficients, mStepPredictorModel, mStepVariances, mStepVariancesFromGram, type Guards } from "./mixture/mStep";
 import { reseedComponent } from "./mixture/reseedComponent";
@@ -183,6 +184,11 @@ interface EmRun {
  * One generator made from options.seed feeds every random step.
  */
 export function fitMixture(data: RegressionData, options: MixtureOptions): MixtureFit {
+  // Values far from 1 (beyond 1e100, or a column's size below 1e-100) are fitted scaled.
+  return withInternalScaling(data, options, fitWithBackgroundSetting);
+}
+
+function fitWithBackgroundSetting(data: RegressionData, options: MixtureOptions): MixtureFit {
   if (options.background !== "auto") return fitMixtureAtDepth(data, options, 0);
   // "auto": the background only when the fit without it shows rows far from every regression.
   const plain = fitMixtureAtDepth(data, { ...options, background: false }, 0);

@@ -1,4 +1,5 @@
 import { CholeskyDecomposition, Matrix } from "ml-matrix";
+import { mapFit, scaleData, scalesFor, unscaleStandardErrors } from "./internalScaling";
 import { SkeinError } from "./errors";
 import type { MixtureFit, MixtureOptions, RegressionData } from "./mixtureTypes";
 import type { StandardErrorReport } from "./trustTypes";
@@ -40,6 +41,13 @@ export const DEFAULT_REPLICATES = 200;
  * McLachlan & Peel 1997, Computational Statistics).
  */
 export function standardErrors(data: RegressionData, fit: MixtureFit, options: StandardErrorOptions = {}): StandardErrorReport & { warnings: string[] } {
+  // Values far from 1 are handled in the fit's scaled space (internalScaling.ts).
+  const scales = scalesFor(data);
+  if (scales !== null) return unscaleStandardErrors(unscaledStandardErrors(scaleData(data, scales), mapFit(fit, scales, -1), options), scales);
+  return unscaledStandardErrors(data, fit, options);
+}
+
+function unscaledStandardErrors(data: RegressionData, fit: MixtureFit, options: StandardErrorOptions): StandardErrorReport & { warnings: string[] } {
   const method = options.method ?? "observed-information";
   if (method === "bootstrap") return bootstrapErrors(data, fit, options);
   if (method !== "observed-information") {
