@@ -22,7 +22,11 @@ export async function runFit(data: RegressionData, options: MixtureOptions): Pro
 export function describeFit(data: RegressionData, fit: MixtureFit): { separation: SeparationReport; errors: StandardErrorReport | null; errorsProblem: string | null } {
   const separation = checkSeparation(data, fit);
   try {
-    return { separation, errors: standardErrors(data, fit), errorsProblem: null };
+    const errors = standardErrors(data, fit);
+    // Standard errors that could not be computed are shown as the reason, never as NaN.
+    const missing = errors.coefficients.some((values) => values.some(Number.isNaN)) || errors.sigmas.some(Number.isNaN);
+    if (missing) return { separation, errors: null, errorsProblem: errors.warnings.join(" ") };
+    return { separation, errors, errorsProblem: null };
   } catch (error) {
     // Standard errors can fail where the fit itself is fine (a singular information
     // matrix for a near-empty component); the table then shows estimates alone.

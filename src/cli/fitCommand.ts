@@ -166,6 +166,8 @@ export interface ModelFit {
   stdErrorMethod: string;
   weightStdErrors: number[];
   sigmaStdErrors: number[];
+  /** Why standard errors are missing, when some are. */
+  stdErrorWarnings: string[];
 }
 
 /** Turns the fit command's arguments into settings, or "help". */
@@ -235,6 +237,7 @@ export function fitModel(design: Design, settings: Pick<FitSettings, "k" | "seed
     stdErrorMethod: method,
     weightStdErrors: Array.from(errors.weights),
     sigmaStdErrors: Array.from(errors.sigmas),
+    stdErrorWarnings: method === "least-squares" ? [] : errors.warnings,
   };
 }
 
@@ -293,7 +296,7 @@ export async function computeFitReport(settings: FitSettings): Promise<{ report:
     seed: settings.seed,
     warmStart: model.mixture.warmStart,
     refinement: model.mixture.refinement,
-    warnings: [...model.mixture.warnings, ...(model.separation?.warnings ?? [])],
+    warnings: [...model.mixture.warnings, ...(model.separation?.warnings ?? []), ...model.stdErrorWarnings],
     separation: model.separation,
     stdErrors: { method: model.stdErrorMethod, weights: model.weightStdErrors, sigmas: model.sigmaStdErrors },
     timings: { readMs, fitMs },

@@ -48,9 +48,11 @@ export function formatFitTable(report: FitReport, source: { file: string; sheetN
     lines.push("");
     lines.push(`Component ${c + 1}: weight ${formatNumber(component.weight)}, noise SD ${formatNumber(component.sigma)}`);
     const table: string[][] = [["term", "coefficient", "standard error"]];
-    if (report.intercept) table.push(["intercept", formatNumber(component.coefficients[0]), formatNumber(component.stdErrors[0])]);
+    // A standard error that could not be computed reads "not available"; the warnings say why.
+    const error = (value: number) => (Number.isNaN(value) ? "not available" : formatNumber(value));
+    if (report.intercept) table.push(["intercept", formatNumber(component.coefficients[0]), error(component.stdErrors[0])]);
     report.predictors.forEach((name, j) => {
-      table.push([name, formatNumber(component.coefficients[j + 1]), formatNumber(component.stdErrors[j + 1])]);
+      table.push([name, formatNumber(component.coefficients[j + 1]), error(component.stdErrors[j + 1])]);
     });
     lines.push(...alignColumns(table, "  "));
   });

@@ -49,13 +49,16 @@ export function strayBound(n: number, level = STRAY_ROWS_LEVEL): number {
 export function findStrayRows(data: RegressionData, fit: MixtureFit): StrayRowsReport {
   const { n, p, x, y } = data;
   const bound = strayBound(n);
+  // Noise SDs at rounding level (an exact fit) are measured against the rounding instead.
+  const floor = EXACT_FIT_RELATIVE * spreadOf(y, n);
   const rows: StrayRow[] = [];
   const k = fit.k;
   for (let i = 0; i < n; i++) {
     let nearest = 0;
     let distance = Infinity;
     for (let c = 0; c < k; c++) {
-      const { coefficients, sigma } = fit.components[c];
+      const { coefficients } = fit.components[c];
+      const sigma = Math.max(fit.components[c].sigma, floor);
       let d: number;
       if (sigma > 0) {
         let r = y[i] / sigma - coefficients[0] / sigma;
@@ -75,6 +78,25 @@ export function findStrayRows(data: RegressionData, fit: MixtureFit): StrayRowsR
     if (distance > bound) rows.push({ row: i, distance, nearest });
   }
   return { bound, rows, rule: strayRowsRule(n) };
+}
+
+/**
+ * Noise SDs are taken as at least this fraction of the SD of y: a component that fits its rows
+ * exactly has residuals of rounding size (about 1e-16 of y), which are no evidence against a row.
+ */
+const EXACT_FIT_RELATIVE = 1e-10;
+
+/** Root mean square deviation of y, scaled by its largest magnitude so that it cannot overflow. */
+function spreadOf(y: Float64Array, n: number): number {
+  let largest = 0;
+  for (let i = 0; i < n; i++) largest = Math.max(largest, Math.abs(y[i]));
+  if (!(largest > 0) || !Number.isFinite(largest)) return 0;
+  let mean = 0;
+  for (let i = 0; i < n; i++) mean += y[i] / largest;
+  mean /= n;
+  let squares = 0;
+  for (let i = 0; i < n; i++) squares += (y[i] / largest - mean) ** 2;
+  return largest * Math.sqrt(squares / n);
 }
 
 /**
