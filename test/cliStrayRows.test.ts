@@ -40,7 +40,11 @@ describe("one typo among 300 rows of two groups", () => {
   it("skein scan suggests K = 2 (background component on by default: auto)", async () => {
     const result = await run("scan", typoFile, "--y", "cost", "--k-max", "4", "--json");
     expect(result.stderr).toBe("");
-    expect(JSON.parse(result.stdout).chosenK).toBe(2);
+    const report = JSON.parse(result.stdout);
+    expect(report.chosenK).toBe(2);
+    expect(report.strayRows.map((s: { row: number }) => s.row)).toEqual([TYPO_ROW]);
+    const text = (await run("scan", typoFile, "--y", "cost", "--k-max", "3")).stdout;
+    expect(text).toContain(`Stray rows at K = 2: data row ${TYPO_ROW} (`);
     const without = await run("scan", typoFile, "--y", "cost", "--k-max", "4", "--background", "no", "--json");
     expect(JSON.parse(without.stdout).chosenK).toBe(1);
   });

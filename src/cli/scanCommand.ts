@@ -2,6 +2,7 @@ import * as path from "path";
 import { SkeinError } from "../engine/errors";
 import type { MixtureModel } from "../engine/mixtureTypes";
 import { scanComponents } from "../engine/scanComponents";
+import { findStrayRows } from "../engine/strayRows";
 import { parseArgs, parseBackground, parseList, parseModel, parseWholeNumber, type FlagKinds } from "./args";
 import { formatNumber } from "./formatTable";
 import { loadDesign } from "./loadDesign";
@@ -80,6 +81,9 @@ export interface ScanReport {
   notices: string[];
   /** Why the scan stopped before --k-max, or null. */
   stoppedEarly: string | null;
+  /** Rows no component of the suggested K explains (1-based data rows, as skein fit reports them). */
+  strayRows: { row: number; distance: number; nearest: number }[];
+  strayRowsRule: string;
 }
 
 /** `skein scan`: returns the exit status; SkeinErrors propagate to main, which reports them. */
@@ -117,6 +121,8 @@ export async function scanCommand(argv: readonly string[], io: { stdout: (s: str
     crossValidate,
     background: parseBackground(values.get("background"), "scan"),
   });
+  const chosen = scan.rows.find((row) => row.k === scan.chosenK) ?? scan.rows[0];
+  const stray = findStrayRows(design, chosen.fit);
   const report: ScanReport = {
     chosenK: scan.chosenK,
     rule: scan.rule,
@@ -137,6 +143,8 @@ export async function scanCommand(argv: readonly string[], io: { stdout: (s: str
     })),
     notices: design.notices,
     stoppedEarly: scan.stoppedEarly,
+    strayRows: stray.rows.map((r) => ({ row: design.rowIndex[r.row] + 1, distance: r.distance, nearest: r.nearest + 1 })),
+    strayRowsRule: stray.rule,
   };
   if (switches.has("json")) {
     io.stdout(JSON.stringify(report) + "\n");
@@ -173,6 +181,9 @@ export function formatScanTable(report: ScanReport, where: string): string {
   lines.push("");
   if (report.stoppedEarly !== null) lines.push(report.stoppedEarly);
   lines.push(`Suggested: ${report.chosenK} component${report.chosenK === 1 ? "" : "s"}. Rule: ${report.rule}`);
+  if (report.strayRows.length > 0) {
+    lines.push(`Stray rows at K = ${report.chosenK}: data row${report.strayRows.length === 1 ? "" : "s"} ${report.strayRows.map((r) => r.row).join(", ")} (${report.strayRowsRule}); skein fit lists them and --leave-out sets them aside.`);
+  }
   const flagged = report.rows.filter((row) => row.flag !== null);
   if (flagged.length > 0) {
     lines.push("");

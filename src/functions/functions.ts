@@ -92,7 +92,7 @@ export async function scan(y: any[][], x: any[][], kmax?: number, settings?: any
 }
 
 /**
- * How far to trust the fit: whether it converged, how well the components are separated, the estimated share of misclassified rows, the smallest weight, rows used and skipped, and warnings with what to try.
+ * How far to trust the fit: whether it converged, how well the components are separated, the estimated share of misclassified rows, the smallest weight, rows used and skipped, stray rows (rows no component explains), and warnings with what to try.
  * @customfunction CHECK
  * @helpurl https://localhost:3000/taskpane.html
  * @param y The outcome: one column of numbers. Rows with a blank, text or logical cell in y or in a numeric x column are skipped.
