@@ -44,7 +44,7 @@ describe("command line with a category predictor", () => {
     const result = await run("fit", irisFile, "--y", "Sepal length", "--x", "Species,Petal width");
     expect(result.status).toBe(0);
     expect(result.stdout).toContain("Species = versicolor");
-    expect(result.stdout).toContain("Note: Species holds text values: made into indicator columns for versicolor, virginica, each measured against setosa (the most frequent value, 50 rows).");
+    expect(result.stdout).toContain("  - Species holds text values: made into indicator columns for versicolor, virginica, each measured against setosa (the most frequent value, 50 rows).");
   });
 
   it("skein predict takes the same text values and refuses an unseen one by name", async () => {

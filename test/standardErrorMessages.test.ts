@@ -4,7 +4,7 @@ import * as os from "os";
 import * as path from "path";
 import { fitMixture } from "../src/engine/fitMixture";
 import { standardErrors } from "../src/engine/standardErrors";
-import { describeFit } from "../taskpane/engineCalls";
+import { describeFit } from "../src/service/engineJobs";
 import { main } from "../src/cli/main";
 
 // Invented: y equals predictor a exactly; b is unrelated.

@@ -1,8 +1,7 @@
 // @vitest-environment jsdom
 import { beforeEach, describe, expect, it } from "vitest";
 import { mountBrowserPane } from "../taskpane/mountPane";
-import { InlineEngine } from "../taskpane/paneEngine";
-import * as engineCalls from "../taskpane/engineCalls";
+import { EngineService } from "../src/service/engineService";
 import { createRandom } from "../src/engine/random";
 
 const $ = <T extends Element = HTMLElement>(selector: string) => document.querySelector<T>(selector)!;
@@ -33,7 +32,7 @@ function typoSheet(): unknown[][] {
 describe("the pane: category notes and stray rows", () => {
   it("names the stray row by its sheet row and leaves it out on request, with a way back", async () => {
     const rows = typoSheet();
-    const { loadRows, pane } = mountBrowserPane($("#app"), new InlineEngine(engineCalls), async () => "");
+    const { loadRows, pane } = mountBrowserPane($("#app"), new EngineService(), async () => "");
     await loadRows!(rows, undefined, "typo.csv");
     await pane.setAddresses(`Data!A1:A${rows.length}`, `Data!B1:C${rows.length}`);
     await settle();

@@ -36,7 +36,6 @@ export function formatFitTable(report: FitReport, source: { file: string; sheetN
   const componentWord = report.k === 1 ? "1 component" : `${report.k} components`;
   lines.push(`${report.response} regressed on ${report.predictors.join(", ")} (${componentWord}, ${report.intercept ? "with" : "without"} intercept)`);
   lines.push(`Data: ${where}; ${report.rowsUsed} rows used, ${report.rowsSkipped} skipped`);
-  for (const notice of report.notices) lines.push(`Note: ${notice}`);
   lines.push(`Log-likelihood ${formatNumber(report.logLikelihood)}; BIC ${formatNumber(report.bic)}; ICL ${formatNumber(report.icl)}`);
   if (report.k > 1) {
     const start = report.warmStart;

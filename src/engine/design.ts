@@ -59,6 +59,12 @@ export interface DesignOptions {
    * user chose to set aside; each is listed among the skipped rows with reason "left out".
    */
   leaveOut?: ReadonlySet<number>;
+  /**
+   * Per x column, whether it is a category column (true) or a column of numbers whose other
+   * cells skip their rows (false), for a caller that has already decided (a file reader);
+   * absent: decided here by isCategoryColumn.
+   */
+  categories?: readonly boolean[];
 }
 
 /** Why a cell makes its row unusable. */
@@ -193,7 +199,7 @@ export function buildDesign(y: unknown[][], x: unknown[][], options: DesignOptio
   }
   // Category columns: mostly text or logical values (categoryLevels.ts).
   const isCategory: boolean[] = [];
-  for (let j = 0; j < p; j++) isCategory.push(isCategoryColumn(xRows, firstDataRow, j, (text) => ERROR_TEXTS.has(text.toUpperCase())));
+  for (let j = 0; j < p; j++) isCategory.push(options.categories?.[j] ?? isCategoryColumn(xRows, firstDataRow, j, (text) => ERROR_TEXTS.has(text.toUpperCase())));
   const anyCategory = isCategory.includes(true);
 
   // Written in place for every input row; a skipped row is overwritten by the

@@ -13,6 +13,9 @@ export interface ScanOptions {
   restarts?: number;
   /** Give every fit a flat background component (Banfield & Raftery 1993); see MixtureOptions. */
   background?: boolean | "auto";
+  /** Passed to each fit (see MixtureOptions). */
+  tolerance?: number;
+  maxIterations?: number;
   /** Also compute a cross-validated log-likelihood per K (Smyth 2000); slower. */
   crossValidate?: boolean;
   signal?: CancelSignal;
