@@ -9,6 +9,9 @@ import { hashCells } from "../src/service/hashCells";
 import type { SheetHost } from "./host";
 import { initialState, type PaneState } from "./paneState";
 
+/** The pane fits as the worksheet functions do by default: a background component when far-off rows call for one. */
+const BACKGROUND = "auto" as const;
+
 /** Quiet time after the last edit before the pane refits: typing a column of numbers fires one refit, not one per cell. */
 export const REFRESH_DELAY_MS = 600;
 
@@ -78,7 +81,7 @@ export class Pane {
     this.update({ yAddress, xAddress });
     if (changed) {
       this.scanFlag?.abort();
-      this.update({ scan: null, scanStale: false, chosenK: null, fit: null, description: null, refreshNote: null, scanProblem: null });
+      this.update({ scan: null, scanStale: false, chosenK: null, fit: null, description: null, refreshNote: null, scanProblem: null, leftOut: [] });
     }
     await this.readData();
     if (changed) {
@@ -103,8 +106,9 @@ export class Pane {
     try {
       const [y, x] = await Promise.all([this.host.readValues(yAddress), this.host.readValues(xAddress)]);
       if (version !== this.dataVersion) return null;
-      const design = buildDesign(y, x, { headers: "auto", intercept: this.state.intercept });
-      this.dataKey = `pane|${hashCells(y, x)}`;
+      const design = buildDesign(y, x, { headers: "auto", intercept: this.state.intercept, leaveOut: new Set(this.state.leftOut) });
+      // Rows set aside make another data version than the same cells with every row in.
+      this.dataKey = `pane|${hashCells(y, x)}|${this.state.leftOut.join(",")}`;
       this.update({ design, dataProblem: null, rangeRows: y.length });
       return design;
     } catch (error) {
@@ -137,7 +141,7 @@ export class Pane {
 
   /** The fit options the pane's controls say, for k components. */
   private fitOptions(k: number): FitJobOptions {
-    return { k, seed: this.state.seed, intercept: this.state.intercept, model: this.state.model };
+    return { k, seed: this.state.seed, intercept: this.state.intercept, model: this.state.model, background: BACKGROUND };
   }
 
   /**
@@ -193,8 +197,8 @@ export class Pane {
     try {
       const lease = this.engine.scan({
         version: this.dataKey,
-        key: [kMax, seed, intercept ? 1 : 0, model].join("|"),
-        prepare: () => ({ design, options: { kMax, seed, intercept, model } }),
+        key: [kMax, seed, intercept ? 1 : 0, model, BACKGROUND].join("|"),
+        prepare: () => ({ design, options: { kMax, seed, intercept, model, background: BACKGROUND } }),
         bytes: entryBytes(design, kMax) * kMax,
         onProgress: (k, of) => {
           if (!flag.aborted) this.update({ progress: { k, kMax: of } });
@@ -264,5 +268,15 @@ export class Pane {
 
   setKMax(kMax: number): void {
     this.update({ kMax });
+  }
+
+  /**
+   * Sets data rows (0-based, below any header) aside, or puts every set-aside row back with
+   * an empty list, then reads the data again and runs the scan on the rows that remain.
+   */
+  async setLeftOut(rows: readonly number[]): Promise<void> {
+    this.update({ leftOut: [...new Set(rows)].sort((a, b) => a - b), scan: null, scanStale: false, chosenK: null, fit: null, description: null });
+    const design = await this.readData();
+    if (design) await this.runScan();
   }
 }

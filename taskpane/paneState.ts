@@ -28,6 +28,8 @@ export interface PaneState {
   intercept: boolean;
   model: MixtureModel;
   kMax: number;
+  /** 0-based data rows the user set aside (stray rows left out of the fit). */
+  leftOut: number[];
 }
 
 export function initialState(): PaneState {
@@ -50,5 +52,6 @@ export function initialState(): PaneState {
     intercept: optionSpec("intercept").default as boolean,
     model: optionSpec("model").default as MixtureModel,
     kMax: optionSpec("kmax").default as number,
+    leftOut: [],
   };
 }

@@ -142,6 +142,7 @@ const PLACEHOLDERS: Record<OptionName, string> = {
   restarts: "N",
   tolerance: "T",
   max_iterations: "N",
+  background: "auto|yes|no",
   k: "N",
   kmax: "N",
 };
@@ -206,4 +207,15 @@ export function readGivenOption(parsed: ParsedArgs, name: OptionName, command: s
   const spec = optionSpec(name);
   if (spec.type !== "yes/no" && !parsed.values.has(spec.flag)) return undefined;
   return readOption(parsed, name, command);
+}
+
+/** A comma-separated list of 1-based data row numbers, such as --leave-out 12,140. */
+export function parseRowList(text: string, flag: string, command: string): number[] {
+  return parseList(text, flag, command).map((item) => parseWholeNumber(item, flag, command, 1, 2 ** 31 - 1));
+}
+
+/** --background as the engine takes it: "auto" (the table's default), true for yes, false for no. */
+export function readBackground(parsed: ParsedArgs, command: string): boolean | "auto" {
+  const value = readOption(parsed, "background", command);
+  return value === "yes" ? true : value === "no" ? false : "auto";
 }
