@@ -410,8 +410,13 @@ describe("SKEIN.CHECK", () => {
     expect(result[10][1]).toBe(0);
     // Shares are percentages: the smaller of two components of 60 and 40 rows holds about 40%.
     expect(result[8][1]).toBeGreaterThan(30);
-    expect(result.slice(11).every((r) => r[0] === "warning")).toBe(true);
-    expect(result.length).toBeGreaterThan(11);
+    // Then the stray rows (a count, the rows one by one and their rule when there are any), then the warnings.
+    expect(result[11][0]).toBe("stray rows");
+    const strayCount = result[11][1] as number;
+    const after = result.slice(12).map((r) => r[0]);
+    expect(after.slice(0, strayCount === 0 ? 0 : strayCount + 1)).toEqual(strayCount === 0 ? [] : [...Array(strayCount).fill("stray row"), "stray row rule"]);
+    expect(after.slice(strayCount === 0 ? 0 : strayCount + 1).every((name) => name === "warning")).toBe(true);
+    expect(result.length).toBeGreaterThan(12);
   });
 });
 

@@ -8,8 +8,9 @@ import { checkSeparation } from "../engine/checkSeparation";
 import { standardErrors } from "../engine/standardErrors";
 import type { MixtureFit, MixtureModel, RefinementReport, WarmStartReport } from "../engine/mixtureTypes";
 import type { SeparationReport } from "../engine/trustTypes";
+import { findStrayRows } from "../engine/strayRows";
 import type { OptionName } from "../engine/options";
-import { FILE_OPTIONS_HELP, optionFlags, optionHelp, parseArgs, parseHeaderRow, parseList, parseWholeNumber, readGivenOption, readOption, type FlagKinds } from "./args";
+import { FILE_OPTIONS_HELP, optionFlags, optionHelp, parseArgs, parseHeaderRow, parseList, parseRowList, parseWholeNumber, readBackground, readGivenOption, readOption, type FlagKinds } from "./args";
 import { loadDesign, type ColumnReport } from "./loadDesign";
 import { formatFitTable, kChoiceText } from "./formatTable";
 import { isExactFit } from "../engine/exactFit";
@@ -21,15 +22,17 @@ import { readDataTable } from "../io/readTable";
 import { formatNotices } from "./formatNotices";
 
 /** The options of the table that skein fit takes. */
-const FIT_OPTIONS: readonly OptionName[] = ["k", "model", "seed", "restarts", "tolerance", "max_iterations", "intercept"];
+const FIT_OPTIONS: readonly OptionName[] = ["k", "model", "seed", "restarts", "tolerance", "max_iterations", "background", "intercept"];
 
 export const FIT_USAGE = `Usage: skein fit FILE --y COLUMN [--x COLUMN,COLUMN,...] [options]
 
 Fits K components to a .csv or .xlsx file whose first row names the columns.
 A component is a group of rows sharing one linear regression of the outcome
-(--y) on the predictors (--x). Rows with a blank, text or error cell in a used
-column are skipped and listed. The output shows each component, the checks,
-and the component of the first rows.
+(--y) on the predictors (--x). A predictor column of mostly text (or yes/no,
+TRUE/FALSE) becomes indicator columns against its most frequent value. Rows
+with a blank or error cell, or text in a numeric column, are skipped and
+listed. The output shows each component, the checks, the stray rows, and the
+component of the first rows.
 
   --y COLUMN        the outcome column (required)
   --x COLUMNS       predictor columns, separated by commas; default: every
@@ -42,6 +45,8 @@ ${optionHelp(FIT_OPTIONS, 20)}
                     matched to this fit in each) instead of from the
                     curvature of the likelihood; slower
   --verbose         also show how the starts were made
+  --leave-out ROWS  data rows to leave out of the fit, separated by commas
+                    (counted from 1 below the header), e.g. stray rows
   --json            write one JSON object instead of a table
   --help            show this help
 ${FILE_OPTIONS_HELP}
@@ -57,6 +62,7 @@ const FIT_FLAGS: FlagKinds = {
   bootstrap: "value",
   out: "value",
   verbose: "switch",
+  "leave-out": "value",
   json: "switch",
   help: "switch",
   h: "switch",
@@ -84,6 +90,10 @@ export interface FitSettings {
   /** --out: a .csv or .xlsx file for every row's results. */
   out?: string;
   verbose: boolean;
+  /** A flat background component (Banfield & Raftery 1993): always, never or "auto". */
+  background: boolean | "auto";
+  /** 1-based data rows to leave out. */
+  leaveOut?: number[];
   json: boolean;
 }
 
@@ -94,6 +104,16 @@ export interface ComponentReport {
   sigma: number;
   coefficients: number[];
   stdErrors: number[];
+}
+
+/** A row no component explains (rule in src/engine/strayRows.ts). */
+export interface StrayRowReport {
+  /** 1-based data row of the file. */
+  row: number;
+  /** Noise SDs to the nearest component. */
+  distance: number;
+  /** 1-based nearest component. */
+  nearest: number;
 }
 
 export interface SkippedReport {
@@ -152,6 +172,11 @@ export interface FitReport {
   columns: ColumnReport[];
   /** How the file was read: encoding, sheet, conversions, renamed headers, columns left out. */
   notices: string[];
+  /** Rows no component explains, and the rule that picks them. */
+  strayRows: StrayRowReport[];
+  strayRowsRule: string;
+  /** Weight of the background component (--background), else null. */
+  backgroundWeight: number | null;
 }
 
 /** What a model fit hands back, whatever the number of components. */
@@ -168,7 +193,7 @@ export interface ModelFit {
   stdErrorMethod: string;
   weightStdErrors: number[];
   sigmaStdErrors: number[];
-  /** Why standard errors are missing, if they are. */
+  /** Why standard errors are missing, when some are. */
   stdErrorWarnings: string[];
 }
 
@@ -201,6 +226,8 @@ export function parseFitSettings(argv: readonly string[]): FitSettings | "help" 
     bootstrap: bootstrapText === undefined ? undefined : parseWholeNumber(bootstrapText, "bootstrap", "fit", 10, 10000),
     out: checkOutFile(values.get("out")),
     verbose: switches.has("verbose"),
+    background: readBackground(parsed, "fit"),
+    leaveOut: values.has("leave-out") ? parseRowList(values.get("leave-out") as string, "leave-out", "fit") : undefined,
     json: switches.has("json"),
   };
 }
@@ -211,16 +238,16 @@ export function parseFitSettings(argv: readonly string[]): FitSettings | "help" 
  * ordinary least squares, and the report gives the classical least-squares standard
  * errors (n − q degrees of freedom), the ones regression tables and NIST certify.
  */
-export function fitModel(design: Design, settings: Pick<FitSettings, "seed" | "intercept" | "model" | "restarts" | "tolerance" | "maxIterations" | "bootstrap"> & { k: number }): ModelFit {
-  const { k, seed, intercept, model, restarts, tolerance, maxIterations } = settings;
-  const mixture = withColumnNames(design, settings.intercept, () => fitMixture(design, { k, seed, intercept, model, restarts, tolerance, maxIterations }));
+export function fitModel(design: Design, settings: Pick<FitSettings, "seed" | "intercept" | "model" | "restarts" | "tolerance" | "maxIterations" | "bootstrap"> & { k: number; background?: boolean | "auto" }): ModelFit {
+  const { k, seed, intercept, model, restarts, tolerance, maxIterations, background } = settings;
+  const mixture = withColumnNames(design, settings.intercept, () => fitMixture(design, { k, seed, intercept, model, restarts, tolerance, maxIterations, background }));
   const errors =
     settings.bootstrap === undefined
       ? standardErrors(design, mixture)
       : standardErrors(design, mixture, { method: "bootstrap", replicates: settings.bootstrap, seed: settings.seed, fitOptions: { restarts, tolerance, maxIterations } });
   let coefficientErrors = errors.coefficients.map((c) => Array.from(c));
   let method: string = errors.method;
-  if (settings.k === 1 && settings.model === "plain" && settings.bootstrap === undefined) {
+  if (settings.k === 1 && settings.model === "plain" && settings.bootstrap === undefined && mixture.background === undefined) {
     coefficientErrors = [classicalStdErrors(design, settings.intercept)];
     method = "least-squares";
   }
@@ -239,7 +266,7 @@ export function fitModel(design: Design, settings: Pick<FitSettings, "seed" | "i
     stdErrorMethod: method,
     weightStdErrors: Array.from(errors.weights),
     sigmaStdErrors: Array.from(errors.sigmas),
-    stdErrorWarnings: settings.bootstrap === undefined ? errors.warnings.map((w) => `${w} Or give --bootstrap N.`) : errors.warnings,
+    stdErrorWarnings: method === "least-squares" ? [] : settings.bootstrap === undefined ? errors.warnings.map((w) => `${w} Or give --bootstrap N.`) : errors.warnings,
   };
 }
 
@@ -283,7 +310,7 @@ export async function computeFitReport(settings: FitSettings, progress?: (k: num
   let kChosenBy: FitReport["kChosenBy"] = { by: "given" };
   if (k === undefined) {
     const kMax = defaultKMax(design.n, design.p + (settings.intercept ? 1 : 0));
-    const scan = scanComponents(design, { kMax, seed: settings.seed, intercept: settings.intercept, model: settings.model, restarts: settings.restarts, onProgress: progress });
+    const scan = scanComponents(design, { kMax, seed: settings.seed, intercept: settings.intercept, model: settings.model, restarts: settings.restarts, tolerance: settings.tolerance, maxIterations: settings.maxIterations, background: settings.background, onProgress: progress });
     k = scan.chosenK;
     kChosenBy = { by: "scan", kMax: scan.rows.length };
   }
@@ -296,6 +323,7 @@ export async function computeFitReport(settings: FitSettings, progress?: (k: num
   const bic = -2 * model.logLikelihood + model.parameterCount * Math.log(design.n);
   const separation = model.separation;
   const exactFit = isExactFit(model.mixture, design.y);
+  const stray = findStrayRows(design, model.mixture);
   const report: FitReport = {
     k,
     kChosenBy,
@@ -331,6 +359,9 @@ export async function computeFitReport(settings: FitSettings, progress?: (k: num
     timings: { readMs, fitMs },
     columns,
     notices,
+    strayRows: stray.rows.map((s) => ({ row: design.rowIndex[s.row] + 1, distance: s.distance, nearest: s.nearest + 1 })),
+    strayRowsRule: stray.rule,
+    backgroundWeight: model.mixture.background?.weight ?? null,
   };
   return { report, sheetName, design, fit: model.mixture, separation };
 }

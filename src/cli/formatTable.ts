@@ -6,6 +6,8 @@ const SKIPPED_ROWS_SHOWN = 10;
 
 /** Rows whose component the text output shows; --out writes them all. */
 export const ROWS_SHOWN = 10;
+/** Stray rows listed one by one in the table. */
+const STRAY_ROWS_SHOWN = 20;
 
 /** How K was chosen, in words. */
 export function kChoiceText(report: Pick<FitReport, "k" | "kChosenBy">): string {
@@ -71,6 +73,17 @@ export function formatFitTable(report: FitReport, source: { file: string; sheetN
     lines.push("");
     lines.push("Warnings:");
     for (const warning of report.warnings) lines.push(`  - ${warning}`);
+  }
+
+  lines.push("");
+  if (report.backgroundWeight !== null) lines.push(`Background component: weight ${formatPercent(report.backgroundWeight)} (rows far from every regression)`);
+  if (report.strayRows.length === 0) {
+    lines.push(`Stray rows: none (${report.strayRowsRule}).`);
+  } else {
+    const shown = report.strayRows.slice(0, STRAY_ROWS_SHOWN);
+    lines.push(`Stray rows: ${report.strayRows.length} (${report.strayRowsRule}); refit without them with --leave-out ${report.strayRows.map((s) => s.row).join(",")}`);
+    for (const s of shown) lines.push(`  data row ${s.row}: ${formatNumber(s.distance)} noise SDs from component ${s.nearest}, the nearest`);
+    if (report.strayRows.length > shown.length) lines.push(`  and ${report.strayRows.length - shown.length} more (all in --json)`);
   }
 
   if (report.rowsSkipped > 0) {

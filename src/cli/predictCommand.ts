@@ -4,7 +4,7 @@ import { fitMixture } from "../engine/fitMixture";
 import { predictRows } from "../engine/predictRows";
 import type { MixtureModel } from "../engine/mixtureTypes";
 import type { OptionName } from "../engine/options";
-import { FILE_OPTIONS_HELP, optionFlags, optionHelp, parseArgs, parseHeaderRow, parseList, readGivenOption, readOption, type FlagKinds } from "./args";
+import { FILE_OPTIONS_HELP, optionFlags, optionHelp, parseArgs, parseHeaderRow, parseList, readBackground, readGivenOption, readOption, type FlagKinds } from "./args";
 import { formatNotices } from "./formatNotices";
 import { alignColumns, formatColumn } from "../report/formatNumber";
 import { defaultKMax, scanComponents } from "../engine/scanComponents";
@@ -14,7 +14,7 @@ import { scanProgress } from "./scanProgress";
 import { loadDesign, loadNewRows, type ColumnReport } from "./loadDesign";
 
 /** The options of the table that skein predict takes. */
-const PREDICT_OPTIONS: readonly OptionName[] = ["k", "model", "seed", "restarts", "tolerance", "max_iterations", "intercept"];
+const PREDICT_OPTIONS: readonly OptionName[] = ["k", "model", "seed", "restarts", "tolerance", "max_iterations", "background", "intercept"];
 
 export const PREDICT_USAGE = `Usage: skein predict FILE --y COLUMN [--x COLUMN,COLUMN,...] [--k N] --new NEWFILE [options]
 
@@ -112,22 +112,24 @@ export async function predictCommand(argv: readonly string[], io: CommandIO): Pr
     y,
     x: xText === undefined ? undefined : parseList(xText, "x", "predict"),
     intercept,
+    k: givenK,
   });
   const seed = readOption(parsed, "seed", "predict") as number;
   const restarts = readGivenOption(parsed, "restarts", "predict") as number | undefined;
   const tolerance = readGivenOption(parsed, "tolerance", "predict") as number | undefined;
   const maxIterations = readGivenOption(parsed, "max_iterations", "predict") as number | undefined;
+  const background = readBackground(parsed, "predict");
   let k = givenK;
   let kChosenBy: PredictReport["kChosenBy"] = { by: "given" };
   if (k === undefined) {
     const progress = scanProgress(io);
-    const scan = scanComponents(design, { kMax: defaultKMax(design.n, design.p + (intercept ? 1 : 0)), seed, intercept, model, restarts, tolerance, maxIterations, onProgress: progress.onProgress });
+    const scan = scanComponents(design, { kMax: defaultKMax(design.n, design.p + (intercept ? 1 : 0)), seed, intercept, model, restarts, tolerance, maxIterations, background, onProgress: progress.onProgress });
     progress.finish();
     k = scan.chosenK;
     kChosenBy = { by: "scan", kMax: scan.rows.length };
   }
-  const fit = fitMixture(design, { k, seed, intercept, model, restarts, tolerance, maxIterations });
-  const newRows = await loadNewRows(newFile, design.predictorNames, values.get("new-sheet"));
+  const fit = fitMixture(design, { k, seed, intercept, model, restarts, tolerance, maxIterations, background });
+  const newRows = await loadNewRows(newFile, design.columns, values.get("new-sheet"));
   const prediction = predictRows(fit, newRows.x, newRows.m);
   const rows: (PredictedRow | null)[] = new Array(newRows.inputRows).fill(null);
   newRows.rowIndex.forEach((row, i) => {
@@ -173,7 +175,7 @@ export async function predictCommand(argv: readonly string[], io: CommandIO): Pr
     }
   });
   lines.push(...alignColumns(table, "  "));
-  if (newRows.skipped.length > 0) lines.push(`Skipped new rows (a predictor cell is not a number): ${newRows.skipped.join(", ")}`);
+  if (newRows.skipped.length > 0) lines.push(`Skipped new rows (a predictor cell is blank, or not a number where one is needed): ${newRows.skipped.join(", ")}`);
   io.stdout(lines.join("\n") + "\n" + formatNotices(report.notices));
   return 0;
 }

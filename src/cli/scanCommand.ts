@@ -2,8 +2,9 @@ import * as path from "path";
 import { SkeinError } from "../engine/errors";
 import type { MixtureModel } from "../engine/mixtureTypes";
 import { scanComponents } from "../engine/scanComponents";
+import { findStrayRows } from "../engine/strayRows";
 import type { OptionName } from "../engine/options";
-import { FILE_OPTIONS_HELP, optionFlags, optionHelp, parseArgs, parseHeaderRow, parseList, readGivenOption, readOption, type FlagKinds } from "./args";
+import { FILE_OPTIONS_HELP, optionFlags, optionHelp, parseArgs, parseHeaderRow, parseList, readBackground, readGivenOption, readOption, type FlagKinds } from "./args";
 import { formatNotices } from "./formatNotices";
 import { alignColumns, formatColumn, formatGap } from "../report/formatNumber";
 import type { CommandIO } from "./main";
@@ -11,7 +12,7 @@ import { scanProgress } from "./scanProgress";
 import { loadDesign, type ColumnReport } from "./loadDesign";
 
 /** The options of the table that skein scan takes. */
-const SCAN_OPTIONS: readonly OptionName[] = ["kmax", "model", "seed", "restarts", "tolerance", "max_iterations", "intercept"];
+const SCAN_OPTIONS: readonly OptionName[] = ["kmax", "model", "seed", "restarts", "tolerance", "max_iterations", "background", "intercept"];
 
 export const SCAN_USAGE = `Usage: skein scan FILE --y COLUMN [--x COLUMN,COLUMN,...] --k-max N [options]
 
@@ -85,6 +86,11 @@ export interface ScanReport {
   columns: ColumnReport[];
   /** How the file was read: encoding, sheet, conversions, renamed headers, columns left out. */
   notices: string[];
+  /** Why the scan stopped before --k-max, or null. */
+  stoppedEarly: string | null;
+  /** Rows no component of the suggested K explains (1-based data rows, as skein fit reports them). */
+  strayRows: { row: number; distance: number; nearest: number }[];
+  strayRowsRule: string;
 }
 
 /** `skein scan`: returns the exit status; SkeinErrors propagate to main, which reports them. */
@@ -124,8 +130,11 @@ export async function scanCommand(argv: readonly string[], io: CommandIO): Promi
     tolerance: readGivenOption(parsed, "tolerance", "scan") as number | undefined,
     maxIterations: readGivenOption(parsed, "max_iterations", "scan") as number | undefined,
     crossValidate,
+    background: readBackground(parsed, "scan"),
   });
   progress.finish();
+  const chosen = scan.rows.find((row) => row.k === scan.chosenK) ?? scan.rows[0];
+  const stray = findStrayRows(design, chosen.fit);
   const report: ScanReport = {
     chosenK: scan.chosenK,
     rule: scan.rule,
@@ -150,6 +159,9 @@ export async function scanCommand(argv: readonly string[], io: CommandIO): Promi
     })),
     columns,
     notices,
+    stoppedEarly: scan.stoppedEarly,
+    strayRows: stray.rows.map((r) => ({ row: design.rowIndex[r.row] + 1, distance: r.distance, nearest: r.nearest + 1 })),
+    strayRowsRule: stray.rule,
   };
   if (switches.has("json")) {
     io.stdout(JSON.stringify(report) + "\n");
@@ -189,7 +201,11 @@ export function formatScanTable(report: ScanReport, where: string): string {
   });
   lines.push(...alignColumns(table, "  "));
   lines.push("");
+  if (report.stoppedEarly !== null) lines.push(report.stoppedEarly);
   lines.push(`Suggested: ${report.chosenK} component${report.chosenK === 1 ? "" : "s"}. Rule: ${report.rule}`);
+  if (report.strayRows.length > 0) {
+    lines.push(`Stray rows at K = ${report.chosenK}: data row${report.strayRows.length === 1 ? "" : "s"} ${report.strayRows.map((r) => r.row).join(", ")} (${report.strayRowsRule}); skein fit lists them and --leave-out sets them aside.`);
+  }
   const noted = rows.filter((row) => row.note !== null);
   if (noted.length > 0) {
     lines.push("");

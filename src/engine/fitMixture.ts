@@ -7,6 +7,8 @@ import { gatherRows, selectRows } from "./rowSubset";
 import { createWorkspace, type MixtureWorkspace } from "./mixture/mixtureWorkspace";
 import { permuteParameters, type MixtureParameters } from "./mixture/mixtureParameters";
 import { computeResiduals, eStep } from "./mixture/eStep";
+import { withInternalScaling } from "./internalScaling";
+import { backgroundMayHelp, chooseBackground, createBackground, updateBackgroundWeight } from "./mixture/backgroundComponent";
 import { factorPredictorCovariances, mStepCoefficients, mStepPredictorModel, mStepVariances, mStepVariancesFromGram, type Guards } from "./mixture/mStep";
 import { reseedComponent } from "./mixture/reseedComponent";
 import { hardAssignmentPolish } from "./mixture/hardAssignmentPolish";
@@ -144,6 +146,7 @@ interface Settings {
   restarts: number;
   tolerance: number;
   maxIterations: number;
+  background: boolean;
 }
 
 interface Candidate {
@@ -177,7 +180,16 @@ interface EmRun {
  * One generator made from options.seed feeds every random step.
  */
 export function fitMixture(data: RegressionData, options: MixtureOptions): MixtureFit {
-  return fitMixtureAtDepth(data, options, 0);
+  // Values far from 1 (beyond 1e100, or a column's size below 1e-100) are fitted scaled.
+  return withInternalScaling(data, options, fitWithBackgroundSetting);
+}
+
+function fitWithBackgroundSetting(data: RegressionData, options: MixtureOptions): MixtureFit {
+  if (options.background !== "auto") return fitMixtureAtDepth(data, options, 0);
+  // "auto": the background only when the fit without it shows rows far from every regression.
+  const plain = fitMixtureAtDepth(data, { ...options, background: false }, 0);
+  if (!backgroundMayHelp(data, plain)) return plain;
+  return chooseBackground(plain, fitMixtureAtDepth(data, { ...options, background: true }, 0));
 }
 
 /**
@@ -189,7 +201,7 @@ function fitMixtureAtDepth(data: RegressionData, options: MixtureOptions, depth:
   const settings = checkInput(data, options);
   const { k, intercept, model } = settings;
   const joint = model === "joint";
-  const full = createWorkspace(data, k, intercept, joint);
+  const full = withBackground(createWorkspace(data, k, intercept, joint), settings.background);
   const guards: Guards = {
     minimumSize: full.q + ROWS_BEYOND_COEFFICIENTS,
     varianceFloor: Math.max(VARIANCE_FLOOR_RELATIVE * full.yVariance, Number.MIN_VALUE * 1e20),
@@ -203,7 +215,7 @@ function fitMixtureAtDepth(data: RegressionData, options: MixtureOptions, depth:
   const warnings: string[] = [];
   const subsampleSize = Math.max(SUBSAMPLE_MIN_ROWS, SUBSAMPLE_ROWS_PER_PARAMETER * k * full.q);
   const subsampleRows = full.n > 2 * subsampleSize ? sampleIndices(full.n, subsampleSize, random) : null;
-  const working = subsampleRows ? createWorkspace(data, k, intercept, joint, subsampleRows) : full;
+  const working = subsampleRows ? withBackground(createWorkspace(data, k, intercept, joint, subsampleRows), settings.background, full) : full;
 
   // 1. Starts, each refined briefly on the working rows. The remaining starts are skipped once
   // a start fits every row to rounding level (noiseless data: it cannot be beaten), or once
@@ -392,7 +404,7 @@ function fitMixtureAtDepth(data: RegressionData, options: MixtureOptions, depth:
     // the full-data optimum by a fixed factor, so starting the full-data iterations from a fit on
     // n / INTERMEDIATE_FRACTION rows saves more full-data iterations than the stage costs.
     if (full.n > INTERMEDIATE_FRACTION * 2 * working.n) {
-      const intermediate = createWorkspace(data, k, intercept, joint, sampleIndices(full.n, Math.floor(full.n / INTERMEDIATE_FRACTION), random));
+      const intermediate = withBackground(createWorkspace(data, k, intercept, joint, sampleIndices(full.n, Math.floor(full.n / INTERMEDIATE_FRACTION), random)), settings.background, full);
       const intermediateRun = runEm(intermediate, params, guards, settings.maxIterations, settings.tolerance, random, signal, null);
       subsampleIterations += intermediateRun.iterations;
     }
@@ -505,6 +517,7 @@ function runEm(ws: MixtureWorkspace, params: MixtureParameters, guards: Guards, 
   for (let iteration = 0; iteration < maxIterations; iteration++) {
     checkSignal(signal);
     const report = mStepCoefficients(ws, params, guards);
+    if (ws.background) updateBackgroundWeight(ws.background, ws.n);
     const reseeded: number[] = [];
     if (report.collapsed.length > 0 && reseeds < MAX_RESEEDS) {
       for (const c of report.collapsed) {
@@ -653,6 +666,14 @@ function fitSingleComponent(ws: MixtureWorkspace, settings: Settings, guards: Gu
   params.weights[0] = 1;
   params.coefficients.set(fit.coefficients);
   params.variances[0] = fit.mlSigma * fit.mlSigma;
+  if (ws.background) {
+    // With a background the one regression is a weighted fit: EM from least squares.
+    const run = runEm(ws, params, guards, settings.maxIterations, settings.tolerance, createRandom(settings.seed), undefined, null);
+    const warmStart: WarmStartReport = { converged: true, method: "single-component", certificate: NaN, startsTried: 1, disagreement: 0 };
+    const refinement: RefinementReport = { converged: run.converged, iterations: run.iterations, logLikelihoodPath: [run.logLikelihood], reseeds: run.reseeds };
+    const warnings = run.converged ? [] : [`The fit stopped after ${run.iterations} iterations before the log-likelihood settled. Raise max_iterations or loosen tolerance.`];
+    return assembleFit(ws, params, run.logLikelihood, settings, warmStart, refinement, warnings, guards, undefined, true);
+  }
   ws.memberships.fill(1);
   ws.sizes[0] = ws.n;
   let logLikelihood = fit.logLikelihood;
@@ -731,6 +752,8 @@ function assembleFit(
   // the joint model adds a mean (p) and a covariance (p(p + 1)/2) per component.
   let parameterCount = k * (q + 2) - 1;
   if (settings.model === "joint") parameterCount += k * (p + (p * (p + 1)) / 2);
+  // The background adds its weight π₀; its flat density is fixed by the data's range.
+  if (ws.background) parameterCount += 1;
   // BIC = −2 ln L + ν ln n (Schwarz 1978); ICL = BIC + 2 EN (Biernacki, Celeux & Govaert 2000).
   const bic = -2 * logLikelihood + parameterCount * Math.log(n);
   const icl = bic + 2 * entropy;
@@ -759,7 +782,14 @@ function assembleFit(
     refinement,
     warnings,
     seed: settings.seed,
+    ...(ws.background ? { background: { weight: ws.background.weight, logDensity: ws.background.logDensity, memberships: ws.background.memberships.slice() } } : {}),
   };
+}
+
+/** The workspace with a background component attached when the fit asks for one, sharing `full`'s flat density. */
+function withBackground(ws: MixtureWorkspace, background: boolean, full?: MixtureWorkspace): MixtureWorkspace {
+  if (background) ws.background = createBackground(ws, full?.background?.logDensity);
+  return ws;
 }
 
 /** Whether the best candidate's fit was also reached by another start (same ln L, same coefficients). */
@@ -868,5 +898,7 @@ function checkInput(data: RegressionData, options: MixtureOptions): Settings {
   if (typeof tolerance !== "number" || !(tolerance > 0) || !Number.isFinite(tolerance)) throw new SkeinError("bad-input", `tolerance must be a positive number such as 1e-8; received ${String(tolerance)}.`);
   const maxIterations = options.maxIterations ?? DEFAULT_MAX_ITERATIONS;
   if (!Number.isInteger(maxIterations) || maxIterations < 1) throw new SkeinError("bad-input", `max_iterations must be a whole number of 1 or more; received ${String(maxIterations)}.`);
-  return { k, seed, intercept, model, restarts, tolerance, maxIterations };
+  const background = options.background ?? false;
+  if (typeof background !== "boolean") throw new SkeinError("bad-input", `background must be yes, no or auto; received ${String(background)}.`);
+  return { k, seed, intercept, model, restarts, tolerance, maxIterations, background };
 }

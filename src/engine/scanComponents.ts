@@ -98,13 +98,15 @@ export function scanComponents(data: RegressionData, options: ScanOptions): Scan
   const q = intercept ? data.p + 1 : data.p;
   const rows: ScanRow[] = [];
   let previousFit: MixtureFit | null = null;
+  let stoppedEarly: string | null = null;
   for (let k = 1; k <= kMax; k++) {
     if (options.signal?.aborted) throw new SkeinError("cancelled", "The scan was cancelled.");
     if (k * (q + 1) > data.n) {
       // Not even q + 1 rows per component: no fit of this K can be trusted, and larger K less.
+      stoppedEarly = `Tried K = 1 to ${k - 1}, not up to ${kMax}: K = ${k} needs at least ${k * (q + 1)} usable rows (each component needs one more row than its ${q} coefficient${q === 1 ? "" : "s"}), and there are ${data.n}. Add rows or use fewer predictors to try more components.`;
       break;
     }
-    const fitOptions: MixtureOptions = { k, seed, intercept, model, restarts: options.restarts, tolerance: options.tolerance, maxIterations: options.maxIterations, signal: options.signal };
+    const fitOptions: MixtureOptions = { k, seed, intercept, model, restarts: options.restarts, tolerance: options.tolerance, maxIterations: options.maxIterations, background: options.background, signal: options.signal };
     if (previousFit !== null) {
       const start = addComponentStart(data, previousFit);
       if (start !== null) fitOptions.previous = start;
@@ -113,7 +115,10 @@ export function scanComponents(data: RegressionData, options: ScanOptions): Scan
     try {
       fit = fitMixture(data, fitOptions);
     } catch (error) {
-      if (error instanceof SkeinError && error.code !== "cancelled" && k > 1) break;
+      if (error instanceof SkeinError && error.code !== "cancelled" && k > 1) {
+        stoppedEarly = `Tried K = 1 to ${k - 1}, not up to ${kMax}: the fit with K = ${k} failed (${error.message})`;
+        break;
+      }
       throw error;
     }
     rows.push(scanRow(data, fit));
@@ -161,7 +166,7 @@ export function scanComponents(data: RegressionData, options: ScanOptions): Scan
     `take the lowest BIC, then the smallest K within ${BIC_TIE} BIC of it. With fewer than ${SMALL_SAMPLE_ROWS_PER_COEFFICIENT} rows per coefficient per component, ` +
     `a K must also predict most rows left out of the fit (${CROSS_VALIDATION_FOLDS}-fold cross-validation) at least as well as every smaller K.`;
   for (const row of rows) row.note = noteFor(row, rows, chosenK);
-  return { rows, chosenK, rule };
+  return { rows, chosenK, rule, stoppedEarly };
 }
 
 /**
@@ -189,9 +194,8 @@ function scanRow(data: RegressionData, fit: MixtureFit): ScanRow {
   const k = fit.k;
   const { p, n } = data;
   const q = fit.q;
-  // ν as stated in the module comment.
-  let parameterCount = k * (q + 2) - 1;
-  if (fit.model === "joint") parameterCount += k * (p + (p * (p + 1)) / 2);
+  // ν as stated in the module comment (plus the background's weight when the fit has one).
+  const parameterCount = fit.parameterCount;
   const bic = -2 * fit.logLikelihood + parameterCount * Math.log(n);
   let entropy = 0;
   for (let t = 0; t < fit.memberships.length; t++) {
@@ -303,7 +307,7 @@ function heldOutLogLikelihoods(data: RegressionData, fit: MixtureFit, options: S
     const training = selectRows(data, kept);
     let trained: MixtureFit;
     try {
-      trained = fitMixture(training, { k: fit.k, seed: seed + f, intercept: fit.intercept, model: fit.model, restarts: options.restarts, previous: fit, signal: options.signal });
+      trained = fitMixture(training, { k: fit.k, seed: seed + f, intercept: fit.intercept, model: fit.model, restarts: options.restarts, background: options.background, previous: fit, signal: options.signal });
     } catch (error) {
       if (error instanceof SkeinError && error.code === "cancelled") throw error;
       return null;

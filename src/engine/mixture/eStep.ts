@@ -1,5 +1,6 @@
 import type { MixtureParameters } from "./mixtureParameters";
 import type { MixtureWorkspace } from "./mixtureWorkspace";
+import { backgroundLogTerm } from "./backgroundComponent";
 
 const LOG_TWO_PI = Math.log(2 * Math.PI);
 /** ln(2⁻⁵³) ≈ −36.7: a term exp(−37) ≈ 8.5e-17 is below half an ulp of a sum that is at least 1. */
@@ -47,6 +48,9 @@ export function eStep(ws: MixtureWorkspace, params: MixtureParameters, withResid
     curvature[c] = -0.5 / params.variances[c];
   }
   const joint = ws.joint && params.xMeans !== null;
+  // The flat background (Banfield & Raftery 1993) is one more term, the same for every row.
+  const background = ws.background;
+  const backgroundTerm = background ? backgroundLogTerm(background) : -Infinity;
   let total = 0;
   for (let i = 0; i < n; i++) {
     const offset = i * k;
@@ -67,7 +71,13 @@ export function eStep(ws: MixtureWorkspace, params: MixtureParameters, withResid
       logTerm[c] = value;
       if (value > largest) largest = value;
     }
+    if (backgroundTerm > largest) largest = backgroundTerm;
     let sum = 0;
+    if (background) {
+      const e = Math.exp(backgroundTerm - largest);
+      background.memberships[i] = e;
+      sum = e;
+    }
     for (let c = 0; c < k; c++) {
       const difference = logTerm[c] - largest;
       // Below NEGLIGIBLE_LOG_RATIO the term cannot change the sum (which is at least 1) in
@@ -78,6 +88,7 @@ export function eStep(ws: MixtureWorkspace, params: MixtureParameters, withResid
     }
     const inverse = 1 / sum;
     for (let c = 0; c < k; c++) memberships[offset + c] *= inverse;
+    if (background) background.memberships[i] *= inverse;
     const rowValue = largest + Math.log(sum);
     rowLogLikelihood[i] = rowValue;
     total += rowValue;

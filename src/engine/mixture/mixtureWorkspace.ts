@@ -1,5 +1,6 @@
 import type { RegressionData } from "../mixtureTypes";
 import { choleskyScratchLength } from "./scaledCholeskySolve";
+import type { BackgroundComponent } from "./backgroundComponent";
 
 /**
  * One data set (the full data or a subsample) prepared for EM, with every scratch array the
@@ -49,6 +50,8 @@ export interface MixtureWorkspace {
   rowScratch: Float64Array;
   /** Per-row scratch of length p (joint model). */
   predictorScratch: Float64Array;
+  /** The flat background component (Banfield & Raftery 1993) when the fit has one, else null. */
+  background: BackgroundComponent | null;
 }
 
 export function createWorkspace(data: RegressionData, k: number, intercept: boolean, joint: boolean, rows?: Int32Array): MixtureWorkspace {
@@ -115,6 +118,7 @@ export function createWorkspace(data: RegressionData, k: number, intercept: bool
     weightedSquares: new Float64Array(k),
     rowScratch: new Float64Array(k),
     predictorScratch: new Float64Array(p),
+    background: null,
   };
 }
 
