@@ -1,6 +1,6 @@
 import { leastSquares } from "../leastSquares";
 import { gatherRows } from "../rowSubset";
-import { alternatingLeastSquares, EXACT_FIT_RELATIVE } from "../warmStart/alternatingLeastSquares";
+import { alternatingLeastSquares } from "../warmStart/alternatingLeastSquares";
 import type { EmRun, FitContext } from "./fitContext";
 import type { MixtureParameters } from "./mixtureParameters";
 import type { MixtureWorkspace } from "./mixtureWorkspace";
@@ -18,10 +18,31 @@ import { runEm } from "./runEm";
  * already close. A fit exact on every row cannot be beaten by any other start.
  */
 
-/** A component variance below this fraction of var(y) marks a start as heading for an exact fit. */
-const NEAR_EXACT_VARIANCE_RELATIVE = 1e-6;
-/** All component variances below this fraction of var(y): the fit is exact on every row. */
-const NOISELESS_VARIANCE_RELATIVE = 1e-12;
+/**
+ * The one tolerance for "exact": a residual, or a component's noise SD, of at most
+ * EXACT_RELATIVE times SD(y). Rounding in least-squares fits of tens of coefficients leaves
+ * about 1e-14 of SD(y), and a row of another component misses by the separation of the
+ * components (0.1 of SD(y) or more in any problem worth fitting): 1e-6 is far from both.
+ * The variance floor (mixtureSettings.ts) sits far below its square, so EM on an exact
+ * component stops at the floor rather than near the tolerance.
+ */
+export const EXACT_RELATIVE = 1e-6;
+
+/**
+ * The one rule for "enough rows for a component": any q rows are fitted exactly by some
+ * coefficient vector (a spurious fit), so a component is identified, and an exact one
+ * certified, only by clearly more: q + max(3, ⌈q/10⌉) rows. (The EM guard that a component
+ * keeps more than q rows' worth of membership, mixtureSettings.ts, is the weaker condition
+ * under which its likelihood stays finite.)
+ */
+export function enoughRows(q: number): number {
+  return q + Math.max(3, Math.ceil(0.1 * q));
+}
+
+/** Absolute residual counted as exact on these rows. */
+export function exactTolerance(ws: MixtureWorkspace): number {
+  return EXACT_RELATIVE * Math.sqrt(ws.yVariance);
+}
 /** Rows within SNAP_WIDTH noise SDs of a near-exact component count as its own (4 SDs miss 6e-5 of them). */
 const SNAP_WIDTH = 4;
 /** Trimmed refits per near-exact component: the second uses the first's far smaller SD. */
@@ -37,18 +58,26 @@ const CONCENTRATION_MIN_SUBSET = 1.5;
 const CONCENTRATION_SUBSET_FRACTION = 0.5;
 const CONCENTRATION_STEPS = 20;
 
-/** Whether every component's variance is at rounding level: the fit is exact on every row. */
+/** Whether every component's noise SD is within the exact tolerance: the fit is exact on every row. */
 export function isNoiseless(params: MixtureParameters, ws: MixtureWorkspace): boolean {
-  for (let c = 0; c < params.k; c++) if (!(params.variances[c] <= NOISELESS_VARIANCE_RELATIVE * ws.yVariance)) return false;
+  const limit = EXACT_RELATIVE * EXACT_RELATIVE * ws.yVariance;
+  for (let c = 0; c < params.k; c++) if (!(params.variances[c] <= limit)) return false;
   return true;
 }
 
-/** Some component far below the data's variance, but not every one exact yet. */
+/**
+ * A component's noise SD has come at least halfway (on a log scale) from SD(y) down to the
+ * exact tolerance, √EXACT_RELATIVE · SD(y): EM is heading for an exact fit of it.
+ */
+function nearExact(variance: number, ws: MixtureWorkspace): boolean {
+  return variance <= EXACT_RELATIVE * ws.yVariance;
+}
+
+/** Some component near exact, but not every one exact yet. */
 function headingForExact(params: MixtureParameters, ws: MixtureWorkspace): boolean {
   if (isNoiseless(params, ws)) return false;
-  let smallest = Infinity;
-  for (let c = 0; c < params.k; c++) smallest = Math.min(smallest, params.variances[c]);
-  return smallest <= NEAR_EXACT_VARIANCE_RELATIVE * ws.yVariance;
+  for (let c = 0; c < params.k; c++) if (nearExact(params.variances[c], ws)) return true;
+  return false;
 }
 
 /** A briefly refined start after landing: its parameters and run, and what exact peeling should start from. */
@@ -82,13 +111,13 @@ export const SHORT_ITERATIONS = 15;
 
 /**
  * Alternating least squares from `params`' coefficients; parameters when it ends with every
- * row fitted to rounding level (EXACT_FIT_RELATIVE of SD(y)), else null.
+ * row fitted within the exact tolerance, else null.
  */
 function exactFitByHardAssignment(ws: MixtureWorkspace, params: MixtureParameters, guards: Guards): MixtureParameters | null {
   const { n, q, k } = ws;
   const start: Float64Array[] = [];
   for (let c = 0; c < k; c++) start.push(params.coefficients.slice(c * q, c * q + q));
-  const fit = alternatingLeastSquares(ws.design, n, q, ws.y, start, EXACT_POLISH_ITERATIONS, EXACT_FIT_RELATIVE * Math.sqrt(ws.yVariance), guards.minimumSize);
+  const fit = alternatingLeastSquares(ws.design, n, q, ws.y, start, EXACT_POLISH_ITERATIONS, exactTolerance(ws), guards.minimumSize);
   if (fit.exactRows < n) return null;
   const coefficients = new Float64Array(k * q);
   fit.coefficients.forEach((c, index) => coefficients.set(c, index * q));
@@ -106,7 +135,7 @@ function snapNearExactComponents(ws: MixtureWorkspace, params: MixtureParameters
   const coefficients = params.coefficients.slice();
   let snapped = false;
   for (let c = 0; c < k; c++) {
-    if (!(params.variances[c] <= NEAR_EXACT_VARIANCE_RELATIVE * ws.yVariance)) continue;
+    if (!nearExact(params.variances[c], ws)) continue;
     let width = SNAP_WIDTH * Math.sqrt(params.variances[c]);
     for (let round = 0; round < SNAP_ROUNDS; round++) {
       const rows: number[] = [];
@@ -116,7 +145,7 @@ function snapNearExactComponents(ws: MixtureWorkspace, params: MixtureParameters
         if (Math.abs(ws.y[i] - fitted) <= width) rows.push(i);
       }
       // Any q rows are fitted exactly by some vector: only clearly more identify the component.
-      if (rows.length < 2 * q) break;
+      if (rows.length < enoughRows(q)) break;
       const chosen = gatherRows(ws.design, q, ws.y, rows);
       let fit: ReturnType<typeof leastSquares>;
       try {
@@ -126,7 +155,7 @@ function snapNearExactComponents(ws: MixtureWorkspace, params: MixtureParameters
       }
       coefficients.set(fit.coefficients, c * q);
       snapped = true;
-      width = Math.max(SNAP_WIDTH * fit.mlSigma, EXACT_FIT_RELATIVE * Math.sqrt(ws.yVariance));
+      width = Math.max(SNAP_WIDTH * fit.mlSigma, exactTolerance(ws));
     }
   }
   return snapped ? parametersFromCoefficients(ws, coefficients, guards) : null;
@@ -134,19 +163,19 @@ function snapNearExactComponents(ws: MixtureWorkspace, params: MixtureParameters
 
 /**
  * Concentration steps from every component, with subsets of half the rows the component
- * holds (at least 1.5q): the components that end fitting at least 2q rows to rounding level
- * take the exact coefficients. Null when none did.
+ * holds (at least 1.5q): the components that end fitting enough rows exactly take the exact
+ * coefficients. Null when none did.
  */
 function concentrateComponents(ws: MixtureWorkspace, params: MixtureParameters, guards: Guards): { params: MixtureParameters; exactComponents: number } | null {
   const { n, q, k } = ws;
   const steps = new ConcentrationSteps(ws.design, n, q, ws.y);
   const coefficients = params.coefficients.slice();
-  const tolerance = EXACT_FIT_RELATIVE * Math.sqrt(ws.yVariance);
+  const tolerance = exactTolerance(ws);
   let found = 0;
   for (let c = 0; c < k; c++) {
     const subset = Math.max(Math.ceil(CONCENTRATION_MIN_SUBSET * q), Math.floor(CONCENTRATION_SUBSET_FRACTION * params.weights[c] * n));
     const result = steps.run(params.coefficients.subarray(c * q, c * q + q), subset, CONCENTRATION_STEPS, tolerance);
-    if (result.exactRows < 2 * q) continue;
+    if (result.exactRows < enoughRows(q)) continue;
     coefficients.set(result.coefficients, c * q);
     found++;
   }

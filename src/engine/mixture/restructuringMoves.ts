@@ -5,6 +5,7 @@ import type { MixtureParameters } from "./mixtureParameters";
 import type { MixtureWorkspace } from "./mixtureWorkspace";
 import { computeResiduals, eStep } from "./eStep";
 import { parametersFromCoefficients } from "./starts";
+import { enoughRows, exactTolerance } from "./exactComponents";
 
 /**
  * Moves that restructure a fit by fitting part of it afresh on a subset of rows: exact
@@ -17,11 +18,6 @@ import { parametersFromCoefficients } from "./starts";
  * to rows of the context's data (the subsample's rows, or null when `ws` holds them all).
  */
 
-/**
- * A row counts as fitted exactly by a noiseless component when its residual is below this
- * fraction of SD(y): between rounding (about 1e-14) and anything a real second component leaves.
- */
-const EXACT_RESIDUAL_RELATIVE = 1e-7;
 /** Rows within this many noise SDs of a kept component are set aside with it (2.5 SDs hold 98.8% of its rows). */
 const PEEL_WIDTH = 2.5;
 /** Random-partition restarts inside a split's two-component fit (two components rarely need more). */
@@ -36,13 +32,12 @@ const SPLIT_RESTARTS = 3;
  */
 export function peelExactComponents(ctx: FitContext, ws: MixtureWorkspace, params: MixtureParameters, rowMap: Int32Array | null): MixtureParameters | null {
   const { n, q, k } = ws;
-  // Any q rows can be fitted exactly, so a component counts as exact only with 2q of them or more.
-  const threshold = EXACT_RESIDUAL_RELATIVE * Math.sqrt(ws.yVariance);
+  const threshold = exactTolerance(ws);
   computeResiduals(ws, params);
   const exactRows = new Int32Array(k);
   for (let i = 0; i < n; i++) for (let c = 0; c < k; c++) if (Math.abs(ws.residuals[i * k + c]) <= threshold) exactRows[c]++;
   const exact: number[] = [];
-  for (let c = 0; c < k; c++) if (exactRows[c] >= 2 * q) exact.push(c);
+  for (let c = 0; c < k; c++) if (exactRows[c] >= enoughRows(q)) exact.push(c);
   if (exact.length === 0 || exact.length === k) return null;
   const remaining: number[] = [];
   for (let i = 0; i < n; i++) {
@@ -109,7 +104,7 @@ export function peelComponent(ctx: FitContext, ws: MixtureWorkspace, params: Mix
   const width = PEEL_WIDTH * Math.sqrt(params.variances[keep]);
   const remaining: number[] = [];
   for (let i = 0; i < n; i++) if (Math.abs(ws.residuals[i * k + keep]) > width) remaining.push(rowMap ? rowMap[i] : i);
-  if (n - remaining.length < 2 * q || remaining.length < (k - 1) * ctx.guards.minimumSize) return null;
+  if (n - remaining.length < enoughRows(q) || remaining.length < (k - 1) * ctx.guards.minimumSize) return null;
   let rest: MixtureFit;
   try {
     rest = fitSubProblem(ctx, { rows: remaining, k: k - 1, start: coefficientsOf(params, otherComponents(params, [keep])) });

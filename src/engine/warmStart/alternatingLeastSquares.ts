@@ -8,13 +8,6 @@ import { gatherRows, rowsWithLabel } from "../rowSubset";
  * the noise goes to 0, converges in few steps from a start within its (wide) basin, and in
  * noiseless data lands on exact fits, which certify the start.
  */
-/**
- * Absolute residual, relative to the SD of y, that counts as an exact fit: rounding in a
- * least-squares fit of tens of coefficients leaves relative residuals near 1e-14, while a row
- * of another component misses by the component separation (0.1 or more of the SD in any
- * problem worth fitting).
- */
-export const EXACT_FIT_RELATIVE = 1e-9;
 
 export interface AlternatingFit {
   coefficients: Float64Array[];
