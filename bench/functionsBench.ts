@@ -1,5 +1,5 @@
 /**
- * Worksheet-function bench (issue 5, item 6): SKEIN.FIT on 100,000 rows x 10 predictors
+ * Worksheet-function bench: SKEIN.FIT on 100,000 rows x 10 predictors
  * through the function adapter, as Excel calls it (ranges as arrays of rows of numbers), and
  * what a cache hit costs. Printed, never asserted.
  *
@@ -14,7 +14,7 @@ import { engineCallCounts, WORKER_MIN_CELLS } from "../src/functions/engineRunne
 import { fit, labels } from "../src/functions/functions";
 import { hashCells } from "../src/functions/hashCells";
 import { fitCache } from "../src/functions/sharedFit";
-import { noisyProblem } from "./generateProblems";
+import { noisyProblem } from "../src/synthetic/generateProblems";
 
 const K = 3;
 const PREDICTORS = 10;

@@ -5,8 +5,8 @@
  *  - EM started at the true parameters: its error is the likelihood maximum's own, so the gap
  *    between it and a labelled oracle belongs to the estimator, not to the search;
  *  - a careful EM with random-partition restarts, each run to convergence, the best likelihood
- *    kept and finished by hard assignment on noiseless data: the usual practice the issue
- *    compares the product with (recovery and time, measured here in the same process).
+ *    kept and finished by hard assignment on noiseless data: the usual practice the product is
+ *    compared with (recovery and time, measured here in the same process).
  */
 import { createWorkspace, type MixtureWorkspace } from "../src/engine/mixture/mixtureWorkspace";
 import { createParameters, type MixtureParameters } from "../src/engine/mixture/mixtureParameters";
@@ -16,7 +16,7 @@ import { reseedComponent } from "../src/engine/mixture/reseedComponent";
 import { hardAssignmentPolish } from "../src/engine/mixture/hardAssignmentPolish";
 import { randomPartitionLabels, setHardMemberships } from "../src/engine/mixture/starts";
 import type { Random } from "../src/engine/random";
-import type { GeneratedProblem } from "./generateProblems";
+import type { GeneratedProblem } from "../src/synthetic/generateProblems";
 
 const MAX_ITERATIONS = 500;
 /** The product's stopping rule and default: |ΔL| ≤ 1e-8 · max(|L|, n). */
