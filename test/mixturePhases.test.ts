@@ -1,5 +1,5 @@
 import { describe, expect, it } from "vitest";
-import { scaledCholeskySolve, choleskyScratchLength } from "../src/engine/mixture/scaledCholeskySolve";
+import { scaledCholeskySolve, choleskyScratchLength } from "../src/engine/cholesky";
 import { constrainedVariances } from "../src/engine/mixture/constrainedVariances";
 import { leastSquares } from "../src/engine/leastSquares";
 import { createRandom } from "../src/engine/random";

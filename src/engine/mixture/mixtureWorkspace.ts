@@ -1,5 +1,5 @@
 import type { RegressionData } from "../mixtureTypes";
-import { choleskyScratchLength } from "./scaledCholeskySolve";
+import { choleskyScratchLength } from "../cholesky";
 
 /**
  * One data set (the full data or a subsample) prepared for EM, with every scratch array the
