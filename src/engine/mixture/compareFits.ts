@@ -1,5 +1,6 @@
 import type { Candidate } from "./fitContext";
 import type { MixtureParameters } from "./mixtureParameters";
+import { solveAssignment } from "../solveAssignment";
 
 /**
  * Two fits are alike in likelihood when their log-likelihoods are within this much: 6 is
@@ -23,37 +24,29 @@ export function bestFoundTwice(candidates: readonly Candidate[]): boolean {
 
 /**
  * Largest distance between matched components' coefficients, relative to the largest
- * coefficient norm of either fit. Components are matched greedily, closest pair first
- * (exact for well-separated fits, which is when the distance matters).
+ * coefficient norm of either fit; components matched by the optimal assignment on squared
+ * distance (solveAssignment, the one matching used everywhere).
  */
 export function coefficientDistance(a: MixtureParameters, b: MixtureParameters): number {
   const { k, q } = a;
-  const distance = (i: number, j: number): number => {
-    let s = 0;
-    for (let l = 0; l < q; l++) s += (a.coefficients[i * q + l] - b.coefficients[j * q + l]) ** 2;
-    return Math.sqrt(s);
-  };
+  const cost = new Float64Array(k * k);
   let scale = 0;
-  for (let c = 0; c < k; c++) {
+  for (let i = 0; i < k; i++) {
     let na = 0;
     let nb = 0;
     for (let l = 0; l < q; l++) {
-      na += a.coefficients[c * q + l] ** 2;
-      nb += b.coefficients[c * q + l] ** 2;
+      na += a.coefficients[i * q + l] ** 2;
+      nb += b.coefficients[i * q + l] ** 2;
     }
     scale = Math.max(scale, Math.sqrt(na), Math.sqrt(nb));
+    for (let j = 0; j < k; j++) {
+      let s = 0;
+      for (let l = 0; l < q; l++) s += (a.coefficients[i * q + l] - b.coefficients[j * q + l]) ** 2;
+      cost[i * k + j] = s;
+    }
   }
-  const pairs: [number, number, number][] = [];
-  for (let i = 0; i < k; i++) for (let j = 0; j < k; j++) pairs.push([distance(i, j), i, j]);
-  pairs.sort((x, y) => x[0] - y[0]);
-  const usedA = new Set<number>();
-  const usedB = new Set<number>();
+  const rowOfColumn = solveAssignment(cost, k);
   let worst = 0;
-  for (const [d, i, j] of pairs) {
-    if (usedA.has(i) || usedB.has(j)) continue;
-    usedA.add(i);
-    usedB.add(j);
-    worst = Math.max(worst, d);
-  }
+  for (let j = 0; j < k; j++) worst = Math.max(worst, Math.sqrt(cost[rowOfColumn[j] * k + j]));
   return scale > 0 ? worst / scale : 0;
 }
