@@ -66,6 +66,11 @@ export function emFromTruth(problem: GeneratedProblem): Float64Array[] {
  * when the problem has one).
  */
 export function carefulEm(problem: GeneratedProblem, restarts: number, random: Random): Float64Array[] {
+  return carefulEmFit(problem, restarts, random).coefficients;
+}
+
+/** Careful EM's coefficients and the log-likelihood of its best restart (after the polish when one applies). */
+export function carefulEmFit(problem: GeneratedProblem, restarts: number, random: Random): { coefficients: Float64Array[]; logLikelihood: number } {
   const { k, intercept } = problem;
   const ws = createWorkspace(problem.data, k, intercept, false);
   const guards = productGuards(ws);
@@ -85,5 +90,8 @@ export function carefulEm(problem: GeneratedProblem, restarts: number, random: R
     }
   }
   const polished = best ? hardAssignmentPolish(ws, best, guards) : null;
-  return coefficientsOf(polished ?? best!, ws.q);
+  const final = polished ?? best!;
+  computeResiduals(ws, final);
+  const logLikelihood = eStep(ws, final);
+  return { coefficients: coefficientsOf(final, ws.q), logLikelihood: polished && logLikelihood < bestLogLikelihood ? bestLogLikelihood : logLikelihood };
 }

@@ -54,7 +54,7 @@ export function runSpeedBench(print: (line: string) => void): void {
 }
 
 /** Fastest time of computing X·w (with an intercept) over a row-major n x p matrix. */
-function timeOnePass(x: Float64Array, n: number, p: number): number {
+export function timeOnePass(x: Float64Array, n: number, p: number): number {
   const w = Float64Array.from({ length: p + 1 }, (_, j) => 1 / (j + 1));
   const out = new Float64Array(n);
   const times: number[] = [];

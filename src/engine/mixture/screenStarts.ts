@@ -72,7 +72,7 @@ export function screenStarts(ctx: FitContext): ScreenedStarts {
     if (!candidate) continue;
     candidates.push(candidate);
     if (isNoiseless(candidate.params, ctx.working)) break;
-    if (candidates.length >= MIN_STARTS && bestFoundTwice(candidates)) {
+    if (candidates.length >= MIN_STARTS && (bestFoundTwice(candidates) || (candidates.length === MIN_STARTS && leadersAgree(ctx, candidates)))) {
       foundTwice = true;
       break;
     }
@@ -82,6 +82,19 @@ export function screenStarts(ctx: FitContext): ScreenedStarts {
   }
   candidates.sort((a, b) => b.logLikelihood - a.logLikelihood);
   return { candidates, foundTwice, moment: moment.result };
+}
+
+/**
+ * Whether the two leading starts, refined to convergence, reach the same fit: brief runs stop
+ * short of the optimum, so two starts in one basin can look apart after them. Inside the basin
+ * EM converges fast (Balakrishnan, Wainwright & Yu 2017), so confirming costs far less than
+ * the remaining starts and restructuring moves it saves. The refined parameters and
+ * likelihoods stay on the candidates.
+ */
+function leadersAgree(ctx: FitContext, candidates: Candidate[]): boolean {
+  const leaders = candidates.slice().sort((a, b) => b.logLikelihood - a.logLikelihood).slice(0, 2);
+  for (const leader of leaders) leader.logLikelihood = runEm(ctx.working, leader.params, ctx, ctx.settings.maxIterations).logLikelihood;
+  return bestFoundTwice(leaders);
 }
 
 /**
