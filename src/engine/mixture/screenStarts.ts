@@ -85,7 +85,14 @@ export function screenStarts(ctx: FitContext): ScreenedStarts {
 }
 
 /**
- * Whether the two leading starts, refined to convergence, reach the same fit: brief runs stop
+ * EM iterations that confirm two leading starts: inside a basin noisy EM converges in a few
+ * dozen; a pair still apart after this many is not in one basin (overfitted K converges slowly
+ * and is left to the remaining starts).
+ */
+const CONFIRMING_ITERATIONS = 60;
+
+/**
+ * Whether the two leading starts, refined to convergence (at most CONFIRMING_ITERATIONS), reach the same fit: brief runs stop
  * short of the optimum, so two starts in one basin can look apart after them. Inside the basin
  * EM converges fast (Balakrishnan, Wainwright & Yu 2017), so confirming costs far less than
  * the remaining starts and restructuring moves it saves. The refined parameters and
@@ -93,7 +100,7 @@ export function screenStarts(ctx: FitContext): ScreenedStarts {
  */
 function leadersAgree(ctx: FitContext, candidates: Candidate[]): boolean {
   const leaders = candidates.slice().sort((a, b) => b.logLikelihood - a.logLikelihood).slice(0, 2);
-  for (const leader of leaders) leader.logLikelihood = runEm(ctx.working, leader.params, ctx, ctx.settings.maxIterations).logLikelihood;
+  for (const leader of leaders) leader.logLikelihood = runEm(ctx.working, leader.params, ctx, Math.min(CONFIRMING_ITERATIONS, ctx.settings.maxIterations)).logLikelihood;
   return bestFoundTwice(leaders);
 }
 
