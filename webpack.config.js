@@ -42,6 +42,7 @@ module.exports = async (env, options) => {
       functions: "./src/functions/functions.ts",
       taskpane: "./taskpane/taskpane.ts",
       commands: "./src/commands/commands.ts",
+      help: "./taskpane/help.ts",
     },
     output: {
       path: path.resolve(__dirname, "dist"),
@@ -61,6 +62,8 @@ module.exports = async (env, options) => {
         template: "./taskpane/taskpane.html",
         chunks: ["functions", "commands", "taskpane"],
       }),
+      // The functions' help page: every @helpurl in src/functions/functions.ts points here.
+      new HtmlWebpackPlugin({ filename: "help.html", template: "./taskpane/help.html", chunks: ["help"] }),
       new CopyWebpackPlugin({
         patterns: [
           { from: "assets/*", to: "assets/[name][ext]" },

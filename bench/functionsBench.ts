@@ -4,16 +4,16 @@
  * what a cache hit costs. Printed, never asserted.
  *
  * Measured in Node, where there is no Web Worker: every fit here runs on the calling thread.
- * In Excel the same large fit runs in the fit worker (engineRunner.ts), so the add-in thread
+ * In Excel the same large fit runs in the fit worker (src/service/engineRunner.ts), so the add-in thread
  * is busy only for the fingerprint and the data layer, and the worker adds a copy of the data.
  */
 import { performance } from "node:perf_hooks";
 import { buildDesign } from "../src/engine/design";
 import { createRandom } from "../src/engine/random";
-import { engineCallCounts, WORKER_MIN_CELLS } from "../src/functions/engineRunner";
+import { engineCallCounts, WORKER_MIN_CELLS } from "../src/service/engineRunner";
 import { fit, labels } from "../src/functions/functions";
-import { hashCells } from "../src/functions/hashCells";
-import { fitCache } from "../src/functions/sharedFit";
+import { hashCells } from "../src/service/hashCells";
+import { engineService } from "../src/service/engineService";
 import { noisyProblem } from "../src/synthetic/generateProblems";
 
 const K = 3;
@@ -69,12 +69,12 @@ export async function runFunctionsBench(print: (line: string) => void): Promise<
   const ranges = asRanges(problem);
   const rows = ranges.y.length;
   const cells = rows * (PREDICTORS + 1);
-  print(`  data: ${rows} rows x ${PREDICTORS} predictors, K = ${K}, noisy with intercepts (bench/generateProblems.ts, seed 2024)`);
+  print(`  data: ${rows} rows x ${PREDICTORS} predictors, K = ${K}, noisy with intercepts (src/synthetic/generateProblems.ts, seed 2024)`);
 
   // The parts of a first call, measured alone.
   const [, hashTime] = await time(() => hashCells(ranges.y, ranges.x));
   const [, designTime] = await time(() => buildDesign(ranges.y, ranges.x));
-  fitCache.clear();
+  engineService.clear();
   const fitsBefore = engineCallCounts.fits;
   const [components, firstCall] = await time(() => fit(ranges.y, ranges.x, K));
   print(`  SKEIN.FIT first call (cache miss): ${ms(firstCall)} (${engineCallCounts.fits - fitsBefore} engine fit; ${components.length} rows spilled)`);
@@ -98,13 +98,13 @@ export async function runFunctionsBench(print: (line: string) => void): Promise<
   for (const smallRows of [30, 90, 200, 1000, 5000]) {
     const predictors = smallRows < 100 ? 1 : PREDICTORS;
     const small = asRanges(noisyProblem(predictors, K, Math.ceil(smallRows / (predictors * K)), createRandom(7)));
-    fitCache.clear();
+    engineService.clear();
     const [, smallTime] = await time(() => fit(small.y, small.x, K));
     const smallCells = small.y.length * (predictors + 1);
     const place = smallCells >= WORKER_MIN_CELLS ? "worker in Excel" : "page in Excel";
     print(`  ${small.y.length} rows x ${predictors}: first call ${ms(smallTime)} (${smallCells} cells: ${place}; threshold ${WORKER_MIN_CELLS})`);
   }
-  fitCache.clear();
+  engineService.clear();
 }
 
 // `npx tsx bench/functionsBench.ts` runs it alone.

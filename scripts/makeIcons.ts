@@ -5,11 +5,15 @@
  */
 import { writeFileSync, mkdirSync } from "node:fs";
 import { deflateSync } from "node:zlib";
+import { hexToRgb } from "../src/report/colourSpace";
+import { COMPONENT_COLOURS } from "../src/report/componentStyle";
 
+/** The threads take the first three component colours, as components 1 to 3 are drawn everywhere. */
+const rgb255 = (hex: string) => hexToRgb(hex).map((c) => Math.round(c * 255)) as [number, number, number];
 const threads: { colour: [number, number, number]; from: [number, number]; to: [number, number] }[] = [
-  { colour: [27, 127, 121], from: [0.12, 0.78], to: [0.88, 0.3] },
-  { colour: [199, 118, 26], from: [0.12, 0.42], to: [0.88, 0.7] },
-  { colour: [107, 63, 160], from: [0.2, 0.15], to: [0.72, 0.88] },
+  { colour: rgb255(COMPONENT_COLOURS[0]), from: [0.12, 0.78], to: [0.88, 0.3] },
+  { colour: rgb255(COMPONENT_COLOURS[1]), from: [0.12, 0.42], to: [0.88, 0.7] },
+  { colour: rgb255(COMPONENT_COLOURS[2]), from: [0.2, 0.15], to: [0.72, 0.88] },
 ];
 
 function crc32(bytes: Uint8Array): number {

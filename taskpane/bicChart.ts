@@ -1,7 +1,8 @@
 import { formatNumber } from "./format";
+import { CRITERION_STYLES, NEUTRALS, type MarkerShape } from "../src/report/componentStyle";
 import { markerAt } from "./markers";
 
-function marker(shape: "circle" | "square", x: number, y: number, r: number, attributes: string): string {
+function marker(shape: MarkerShape, x: number, y: number, r: number, attributes: string): string {
   const { d, transform } = markerAt(shape, x, y, r);
   return `<path d="${d}" transform="${transform}" ${attributes}/>`;
 }
@@ -23,8 +24,10 @@ export interface ChartRow {
 const WIDTH = 360;
 const HEIGHT = 220;
 const MARGIN = { left: 62, right: 14, top: 18, bottom: 58 };
-const BIC_COLOUR = "#1b7f79";
-const ICL_COLOUR = "#6b3fa0";
+const BIC = CRITERION_STYLES.bic;
+const ICL = CRITERION_STYLES.icl;
+const BIC_COLOUR = BIC.colour;
+const ICL_COLOUR = ICL.colour;
 
 function niceTicks(low: number, high: number, count: number): number[] {
   const span = high - low || Math.abs(high) || 1;
@@ -73,13 +76,13 @@ export function drawBicChart(container: HTMLElement, rows: ChartRow[], suggested
   const line = (key: "bic" | "icl") =>
     rows.filter((r) => Number.isFinite(r[key])).map((r, i) => `${i === 0 ? "M" : "L"}${xOf(r.k).toFixed(1)},${yOf(r[key]).toFixed(1)}`).join("");
   parts.push(`<path class="series bic" d="${line("bic")}" stroke="${BIC_COLOUR}"/>`);
-  parts.push(`<path class="series icl" d="${line("icl")}" stroke="${ICL_COLOUR}" stroke-dasharray="6 4"/>`);
+  parts.push(`<path class="series icl" d="${line("icl")}" stroke="${ICL_COLOUR}" stroke-dasharray="${ICL.dash}"/>`);
   for (const r of rows) {
     const x = xOf(r.k);
     const flagged = r.flag !== null;
     const label = `${r.k} component${r.k === 1 ? "" : "s"}: BIC ${formatNumber(r.bic, 6)}, ICL ${formatNumber(r.icl, 6)}${r.k === suggested ? ", suggested" : ""}${flagged ? `, not suggested: ${r.flag}` : ""}${r.k === selected ? ", shown below" : ""}`;
-    const fillBic = flagged ? "#ffffff" : BIC_COLOUR;
-    const fillIcl = flagged ? "#ffffff" : ICL_COLOUR;
+    const fillBic = flagged ? NEUTRALS.card : BIC_COLOUR;
+    const fillIcl = flagged ? NEUTRALS.card : ICL_COLOUR;
     parts.push(`<g class="k-point${r.k === selected ? " selected" : ""}${flagged ? " flagged" : ""}" data-k="${r.k}" role="button" tabindex="${r.k === (selected ?? suggested) ? 0 : -1}" aria-label="${label}" aria-pressed="${r.k === selected}">`);
     // The clickable column around each K, kept inside the drawing at the ends.
     const hitLeft = Math.max(MARGIN.left - 24, x - columnW / 2);
@@ -87,17 +90,17 @@ export function drawBicChart(container: HTMLElement, rows: ChartRow[], suggested
     parts.push(`<rect class="hit" x="${hitLeft}" y="${MARGIN.top}" width="${hitRight - hitLeft}" height="${plotH + 22}"/>`);
     // The shown K: a pointer under its axis label, and the label in bold (see the CSS).
     if (r.k === selected) parts.push(`<path class="selection-pointer" d="M${x},${HEIGHT - MARGIN.bottom + 20}l-5,7h10z"/>`);
-    if (Number.isFinite(r.bic)) parts.push(marker("circle", x, yOf(r.bic), 4.5, `fill="${fillBic}" stroke="${BIC_COLOUR}" stroke-width="2"`));
-    if (Number.isFinite(r.icl)) parts.push(marker("square", x, yOf(r.icl), 4.5, `fill="${fillIcl}" stroke="${ICL_COLOUR}" stroke-width="2"`));
+    if (Number.isFinite(r.bic)) parts.push(marker(BIC.shape, x, yOf(r.bic), 4.5, `fill="${fillBic}" stroke="${BIC_COLOUR}" stroke-width="2"`));
+    if (Number.isFinite(r.icl)) parts.push(marker(ICL.shape, x, yOf(r.icl), 4.5, `fill="${fillIcl}" stroke="${ICL_COLOUR}" stroke-width="2"`));
     parts.push(`<text class="tick k-label" x="${x}" y="${HEIGHT - MARGIN.bottom + 16}" text-anchor="middle">${r.k}${flagged ? "!" : ""}</text>`);
     parts.push(`</g>`);
   }
   parts.push(`<text class="axis-title" x="${MARGIN.left + plotW / 2}" y="${HEIGHT - MARGIN.bottom + 38}" text-anchor="middle">Number of components (K); ▲ = shown below</text>`);
   // Legend: marker shape, line style and name for each series.
   const ly = HEIGHT - 6;
-  parts.push(`<path d="M${MARGIN.left},${ly - 4}h22" stroke="${BIC_COLOUR}" stroke-width="2"/>${marker("circle", MARGIN.left + 11, ly - 4, 4, `fill="${BIC_COLOUR}"`)}`);
+  parts.push(`<path d="M${MARGIN.left},${ly - 4}h22" stroke="${BIC_COLOUR}" stroke-width="2"/>${marker(BIC.shape, MARGIN.left + 11, ly - 4, 4, `fill="${BIC_COLOUR}"`)}`);
   parts.push(`<text class="legend" x="${MARGIN.left + 28}" y="${ly}">BIC</text>`);
-  parts.push(`<path d="M${MARGIN.left + 70},${ly - 4}h22" stroke="${ICL_COLOUR}" stroke-width="2" stroke-dasharray="6 4"/>${marker("square", MARGIN.left + 81, ly - 4, 4, `fill="${ICL_COLOUR}"`)}`);
+  parts.push(`<path d="M${MARGIN.left + 70},${ly - 4}h22" stroke="${ICL_COLOUR}" stroke-width="2" stroke-dasharray="${ICL.dash}"/>${marker(ICL.shape, MARGIN.left + 81, ly - 4, 4, `fill="${ICL_COLOUR}"`)}`);
   parts.push(`<text class="legend" x="${MARGIN.left + 98}" y="${ly}">ICL</text>`);
   parts.push(`<text class="legend" x="${MARGIN.left + 140}" y="${ly}">hollow, ! = not suggested</text>`);
   parts.push(`<text class="axis-title" transform="translate(13,${MARGIN.top + plotH / 2}) rotate(-90)" text-anchor="middle">lower is better</text>`);

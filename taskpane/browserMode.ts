@@ -3,7 +3,7 @@ import { formatAddress } from "./a1";
 import { element } from "./dom";
 import type { Grid } from "./grid";
 import { messageOf, type Pane } from "./pane";
-import { readWorkbookFile } from "./readWorkbookFile";
+import { readDataFile, type DataFile } from "./readWorkbookFile";
 import { SAMPLES, type Sample } from "./samples";
 
 /** A column counts as numeric when at least this share of its filled data cells are numbers. */
@@ -14,7 +14,7 @@ const NUMERIC_SHARE = 0.8;
  * column, x the numeric columns right after it (one block, as x must be). The
  * header row, when there is one, is included so the pane finds the names.
  */
-export function guessRanges(rows: unknown[][], sheet: string): { yAddress: string; xAddress: string } | null {
+export function guessRanges(rows: unknown[][], sheet: string, columns?: readonly { defaultPredictor: boolean }[]): { yAddress: string; xAddress: string } | null {
   const width = Math.max(0, ...rows.map((r) => r.length));
   const hasHeader = rows.length > 1 && rows[0].some((c) => typeof c === "string");
   const first = hasHeader ? 1 : 0;
@@ -28,7 +28,8 @@ export function guessRanges(rows: unknown[][], sheet: string): { yAddress: strin
       filled++;
       if (typeof v === "number") numbers++;
     }
-    numeric.push(filled > 0 && numbers / filled >= NUMERIC_SHARE);
+    // Dates, identifiers and constant columns (the column rule's verdict, when known) are no guess.
+    numeric.push(filled > 0 && numbers / filled >= NUMERIC_SHARE && columns?.[c]?.defaultPredictor !== false);
   }
   const y = numeric.indexOf(true);
   if (y < 0 || y + 1 >= width || !numeric[y + 1]) return null;
@@ -46,7 +47,7 @@ export function guessRanges(rows: unknown[][], sheet: string): { yAddress: strin
  * file (chooser or drop), or load a bundled sample. The rows go into the
  * built-in grid, and the ranges are set from the sample or a guess.
  */
-export function mountBrowserData(dataBody: HTMLElement, pane: Pane, grid: Grid, fetchText: (url: string) => Promise<string>): { loadRows(rows: unknown[][], ranges?: { yAddress: string; xAddress: string }, source?: string): Promise<void> } {
+export function mountBrowserData(dataBody: HTMLElement, pane: Pane, grid: Grid, fetchText: (url: string) => Promise<string>): { loadRows(rows: unknown[][], ranges?: { yAddress: string; xAddress: string }, source?: string, file?: DataFile): Promise<void> } {
   const box = element("div", { class: "browser-data" });
   box.appendChild(element("p", { class: "mode-note", id: "mode-note" }, "Running outside Excel: the data live in the sheet on this page. Open a file or load a sample, then pick ranges as in Excel."));
 
@@ -67,24 +68,25 @@ export function mountBrowserData(dataBody: HTMLElement, pane: Pane, grid: Grid, 
   box.append(sampleField, drop, loadStatus);
   dataBody.prepend(box);
 
-  const loadRows = async (rows: unknown[][], ranges?: { yAddress: string; xAddress: string }, source = "the file") => {
+  const loadRows = async (rows: unknown[][], ranges?: { yAddress: string; xAddress: string }, source = "the file", file?: DataFile) => {
     grid.load(rows);
-    const chosen = ranges ?? guessRanges(rows, grid.sheetName);
+    const chosen = ranges ?? guessRanges(rows, grid.sheetName, file?.columns);
+    // How the file was read (sheet, encoding, conversions, columns not guessed), in one short line.
+    const notices = file && file.notices.length > 0 ? ` ${file.notices.join(" ")}` : "";
     if (!chosen) {
-      loadStatus.textContent = `Loaded ${source} into the sheet (${rows.length} rows). Select the y and x columns there and press Use selection.`;
+      loadStatus.textContent = `Loaded ${source} into the sheet (${rows.length} rows). Select the y and x columns there and press Use selection.${notices}`;
       return;
     }
-    loadStatus.textContent = `Loaded ${source} into the sheet: ${rows.length} rows.${ranges ? "" : " The ranges below are a guess; change them if needed."}`;
+    loadStatus.textContent = `Loaded ${source} into the sheet: ${rows.length} rows.${ranges ? "" : " The ranges below are a guess; change them if needed."}${notices}`;
     await pane.setAddresses(chosen.yAddress, chosen.xAddress);
   };
 
   const readFile = async (file: File) => {
     loadStatus.textContent = `Reading ${file.name}…`;
     try {
-      const lower = file.name.toLowerCase();
-      const rows = lower.endsWith(".xlsx") || lower.endsWith(".xlsm") ? await readWorkbookFile(file.name, await file.arrayBuffer()) : parseCsv(await file.text());
-      if (rows.length === 0) throw new Error(`${file.name} holds no rows.`);
-      await loadRows(rows, undefined, file.name);
+      const data = await readDataFile(file.name, await file.arrayBuffer());
+      if (data.rows.length === 0) throw new Error(`${file.name} holds no rows.`);
+      await loadRows(data.rows, undefined, file.name, data);
     } catch (error) {
       loadStatus.textContent = messageOf(error);
     }

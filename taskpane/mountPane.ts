@@ -3,8 +3,8 @@ import { mountBrowserData } from "./browserMode";
 import { element } from "./dom";
 import { Grid } from "./grid";
 import type { SheetHost } from "./host";
+import type { EngineService } from "../src/service/engineService";
 import { Pane } from "./pane";
-import type { PaneEngine } from "./paneEngine";
 import { mountChecksSection } from "./sections/checksSection";
 import { mountComponentsSection } from "./sections/componentsSection";
 import { mountCountSection } from "./sections/countSection";
@@ -18,7 +18,7 @@ export interface MountedPane {
 }
 
 /** Builds the five sections into `root` against an Excel host. */
-export function mountExcelPane(root: HTMLElement, host: SheetHost, engine: PaneEngine): MountedPane {
+export function mountExcelPane(root: HTMLElement, host: SheetHost, engine: EngineService): MountedPane {
   const pane = new Pane(host, engine);
   mountSections(root, pane);
   void pane.restoreRanges();
@@ -29,7 +29,7 @@ export function mountExcelPane(root: HTMLElement, host: SheetHost, engine: PaneE
  * Plain-browser mode: the built-in sheet on the left (or on top in a narrow
  * window), the same five sections beside it.
  */
-export function mountBrowserPane(root: HTMLElement, engine: PaneEngine, fetchText: (url: string) => Promise<string>): MountedPane {
+export function mountBrowserPane(root: HTMLElement, engine: EngineService, fetchText: (url: string) => Promise<string>): MountedPane {
   root.classList.add("browser-mode");
   const sheetArea = element("div", { class: "sheet-area", role: "region", "aria-label": "Built-in sheet" });
   sheetArea.appendChild(element("h2", { class: "sheet-title" }, "Sheet: Data"));

@@ -1,8 +1,11 @@
 import { buildDesign, type Design } from "../src/engine/design";
 import { isSkeinError } from "../src/engine/errors";
-import type { RegressionData } from "../src/engine/mixtureTypes";
+import type { MixtureFit } from "../src/engine/mixtureTypes";
+import { Cancellation } from "../src/service/cancellation";
+import type { FitJobOptions } from "../src/service/engineJobs";
+import { regressionData, type EngineService } from "../src/service/engineService";
+import { hashCells } from "../src/service/hashCells";
 import type { SheetHost } from "./host";
-import { CancelFlag, type PaneEngine } from "./paneEngine";
 import { initialState, type PaneState } from "./paneState";
 
 /** Quiet time after the last edit before the pane refits: typing a column of numbers fires one refit, not one per cell. */
@@ -13,8 +16,16 @@ export function messageOf(error: unknown): string {
   return `Skein could not finish: ${error instanceof Error ? error.message : String(error)}`;
 }
 
-function regressionData(design: Design): RegressionData {
-  return { y: design.y, x: design.x, n: design.n, p: design.p };
+/** How the engine service knows the pane among the callers it remembers fits for. */
+export const PANE_VIEWER = "task pane";
+
+/** Rough memory a cached result keeps: the design's and the fit's per-row arrays (8 bytes a double). */
+function entryBytes(design: Design, k: number): number {
+  return design.n * (8 * (design.p + 1) + 8 * k + 8) + 1024;
+}
+
+function cancelledScan(): string {
+  return "Scan cancelled. The results shown before it (if any) are unchanged.";
 }
 
 /**
@@ -24,14 +35,16 @@ function regressionData(design: Design): RegressionData {
 export class Pane {
   state: PaneState = initialState();
   private readonly listeners: ((state: PaneState) => void)[] = [];
-  private scanFlag: CancelFlag | null = null;
-  private refitFlag: CancelFlag | null = null;
+  private scanFlag: Cancellation | null = null;
+  private refitFlag: Cancellation | null = null;
   private stopWatching: (() => void) | null = null;
   private refreshTimer: ReturnType<typeof setTimeout> | null = null;
   /** Bumped on each data read, so a slow read or refit that lost the race is dropped. */
   private dataVersion = 0;
+  /** Fingerprint of the cell values last read: the data version the engine service caches by. */
+  private dataKey = "";
 
-  constructor(readonly host: SheetHost, readonly engine: PaneEngine) {}
+  constructor(readonly host: SheetHost, readonly engine: EngineService) {}
 
   subscribe(listener: (state: PaneState) => void): void {
     this.listeners.push(listener);
@@ -84,7 +97,8 @@ export class Pane {
     try {
       const [y, x] = await Promise.all([this.host.readValues(yAddress), this.host.readValues(xAddress)]);
       if (version !== this.dataVersion) return null;
-      const design = buildDesign(y, x, { headers: "auto", intercept: true });
+      const design = buildDesign(y, x, { headers: "auto", intercept: this.state.intercept });
+      this.dataKey = `pane|${hashCells(y, x)}`;
       this.update({ design, dataProblem: null, rangeRows: y.length });
       return design;
     } catch (error) {
@@ -115,9 +129,32 @@ export class Pane {
     }, REFRESH_DELAY_MS);
   }
 
+  /** The fit options the pane's controls say, for k components. */
+  private fitOptions(k: number): FitJobOptions {
+    return { k, seed: this.state.seed, intercept: this.state.intercept, model: this.state.model };
+  }
+
   /**
-   * Re-reads the ranges and refits the shown K, warm-started from the shown fit so
-   * component 1 stays component 1 unless the data truly changed.
+   * Fits k components to `design` through the engine service: warm-started from `previous`
+   * and its components renumbered to match it, so component 1 stays component 1.
+   */
+  private refit(design: Design, k: number, previous: MixtureFit, flag: Cancellation): Promise<MixtureFit> {
+    const lease = this.engine.fit({
+      version: this.dataKey,
+      options: this.fitOptions(k),
+      build: () => ({ design }),
+      bytes: entryBytes(design, k),
+      viewer: PANE_VIEWER,
+      previous,
+      place: "worker",
+    });
+    flag.onAbort(() => lease.cancel());
+    return lease.promise.then((answer) => answer.fit);
+  }
+
+  /**
+   * Re-reads the ranges and refits the shown K, warm-started from the shown fit and matched to
+   * it, so component 1 stays component 1 unless the data truly changed.
    */
   async refresh(): Promise<void> {
     const previous = this.state.fit;
@@ -126,13 +163,12 @@ export class Pane {
     if (this.state.scan) this.update({ scanStale: true });
     if (!previous || this.state.chosenK === null) return;
     this.refitFlag?.abort();
-    const flag = new CancelFlag();
+    const flag = new Cancellation();
     this.refitFlag = flag;
     try {
-      const data = regressionData(design);
-      const fit = await this.engine.fit(data, { k: previous.k, seed: this.state.seed, intercept: true, previous }, flag);
+      const fit = await this.refit(design, previous.k, previous, flag);
       if (flag.aborted) return;
-      const description = await this.engine.describe(data, fit);
+      const description = await this.engine.describe(regressionData(design), fit, flag, "worker");
       if (flag.aborted) return;
       this.update({ fit, description, refreshNote: `Refitted with ${design.n} rows after the data changed; component numbers were kept by matching to the previous fit.` });
     } catch (error) {
@@ -144,18 +180,29 @@ export class Pane {
     const design = this.state.design ?? (await this.readData());
     if (!design) return;
     this.scanFlag?.abort();
-    const flag = new CancelFlag();
+    const flag = new Cancellation();
     this.scanFlag = flag;
-    const kMax = this.state.kMax;
+    const { kMax, seed, intercept, model } = this.state;
     this.update({ scanning: true, progress: { k: 0, kMax }, scanProblem: null });
     try {
-      const data = regressionData(design);
-      const scan = await this.engine.scan(data, { kMax, seed: this.state.seed, intercept: true }, (k, of) => this.update({ progress: { k, kMax: of } }), flag);
+      const lease = this.engine.scan({
+        version: this.dataKey,
+        key: [kMax, seed, intercept ? 1 : 0, model].join("|"),
+        prepare: () => ({ design, options: { kMax, seed, intercept, model } }),
+        bytes: entryBytes(design, kMax) * kMax,
+        onProgress: (k, of) => {
+          if (!flag.aborted) this.update({ progress: { k, kMax: of } });
+        },
+        place: "worker",
+      });
+      flag.onAbort(() => lease.cancel());
+      const { scan } = await lease.promise;
       if (flag.aborted) return;
       this.update({ scan, scanStale: false, scanning: false, progress: null, refreshNote: null });
       await this.chooseK(scan.chosenK);
     } catch (error) {
-      const problem = flag.aborted || (isSkeinError(error) && error.code === "cancelled") ? "Scan cancelled. The results shown before it (if any) are unchanged." : messageOf(error);
+      if (this.scanFlag !== flag) return;
+      const problem = flag.aborted || (isSkeinError(error) && error.code === "cancelled") ? cancelledScan() : messageOf(error);
       this.update({ scanning: false, progress: null, scanProblem: problem });
     } finally {
       if (this.scanFlag === flag) this.scanFlag = null;
@@ -164,24 +211,38 @@ export class Pane {
 
   cancelScan(): void {
     this.scanFlag?.abort();
-    this.update({ scanning: false, progress: null, scanProblem: "Scan cancelled. The results shown before it (if any) are unchanged." });
+    this.update({ scanning: false, progress: null, scanProblem: cancelledScan() });
   }
 
   /** Shows the scan's fit with k components in Components and Checks. */
   async chooseK(k: number): Promise<void> {
     const row = this.state.scan?.rows.find((r) => r.k === k);
-    if (!row || !this.state.design) return;
-    const data = regressionData(this.state.design);
+    const design = this.state.design;
+    if (!row || !design) return;
     try {
-      // After an edit the scan's fits describe the old rows: refit this K on the
-      // current rows, warm-started from the scan's fit.
-      const fit = this.state.scanStale ? await this.engine.fit(data, { k, seed: this.state.seed, intercept: true, previous: row.fit }, new CancelFlag()) : row.fit;
+      // After an edit the scan's fits describe the old rows: refit this K on the current
+      // rows, warm-started from the scan's fit and numbered like it.
+      const fit = this.state.scanStale ? await this.refit(design, k, row.fit, new Cancellation()) : row.fit;
       this.update({ chosenK: k, fit, description: null, refreshNote: null });
-      const description = await this.engine.describe(data, fit);
+      this.engine.memory.remember(PANE_VIEWER, fit);
+      const description = await this.engine.describe(regressionData(design), fit, new Cancellation(), "worker");
       if (this.state.fit === fit) this.update({ description });
     } catch (error) {
       this.update({ scanProblem: messageOf(error) });
     }
+  }
+
+  /**
+   * New intercept or model: the scan and fit shown were made with the old ones, so they go
+   * (as when the ranges change), and the data are read again (the checks on the predictors
+   * depend on the intercept).
+   */
+  async setFitOptions(change: Partial<Pick<PaneState, "intercept" | "model">>): Promise<void> {
+    const changed = (Object.keys(change) as (keyof typeof change)[]).some((name) => change[name] !== this.state[name]);
+    if (!changed) return;
+    this.scanFlag?.abort();
+    this.update({ ...change, scan: null, scanStale: false, chosenK: null, fit: null, description: null, refreshNote: null, scanProblem: null });
+    await this.readData();
   }
 
   setSeed(seed: number): void {

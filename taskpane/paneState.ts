@@ -1,7 +1,7 @@
 import type { Design } from "../src/engine/design";
-import type { MixtureFit } from "../src/engine/mixtureTypes";
+import type { MixtureFit, MixtureModel } from "../src/engine/mixtureTypes";
 import type { ScanResult } from "../src/engine/trustTypes";
-import type { FitDescription } from "./paneEngine";
+import type { FitDescription } from "../src/service/engineJobs";
 
 /** Everything the sections draw from. Only the Pane changes it; sections only read it. */
 export interface PaneState {
@@ -23,6 +23,9 @@ export interface PaneState {
   /** Set after a refit that followed a change to the data. */
   refreshNote: string | null;
   seed: number;
+  /** Fit an intercept in each component's regression. */
+  intercept: boolean;
+  model: MixtureModel;
   kMax: number;
 }
 
@@ -43,6 +46,8 @@ export function initialState(): PaneState {
     description: null,
     refreshNote: null,
     seed: 1,
+    intercept: true,
+    model: "plain",
     kMax: 5,
   };
 }

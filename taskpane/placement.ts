@@ -11,6 +11,9 @@ export interface PlacementRequest {
   rangeRows: number;
   k: number;
   seed: number;
+  /** The fit's intercept and model, when not the defaults, go into the formulas' settings too. */
+  intercept?: boolean;
+  model?: MixtureFit["model"];
   outputs: Output[];
   mode: "formulas" | "values";
 }
@@ -24,14 +27,17 @@ export interface PlacedBlock {
   cells: unknown[][];
 }
 
-function settingsText(seed: number): string {
-  return `"seed=${seed}"`;
+function settingsText(request: PlacementRequest): string {
+  const parts = [`seed=${request.seed}`];
+  if (request.intercept === false) parts.push("intercept=no");
+  if (request.model !== undefined && request.model !== "plain") parts.push(`model=${request.model}`);
+  return `"${parts.join("; ")}"`;
 }
 
 /** Formula text for one output, referring to the chosen ranges so it stays live. */
 export function formulaFor(output: Output, request: PlacementRequest): string {
   const name = output === "fit" ? "FIT" : output === "labels" ? "LABELS" : "MEMBERSHIP";
-  return `=SKEIN.${name}(${request.yAddress}, ${request.xAddress}, ${request.k}, ${settingsText(request.seed)})`;
+  return `=SKEIN.${name}(${request.yAddress}, ${request.xAddress}, ${request.k}, ${settingsText(request)})`;
 }
 
 /** How big each output spills: FIT K rows (plus a header) by 4 + p, LABELS the range's rows by 1, MEMBERSHIP by K. */

@@ -1,7 +1,11 @@
 import type { Design } from "../src/engine/design";
 import type { MixtureFit } from "../src/engine/mixtureTypes";
 import { mainPredictor } from "../src/report/componentPlot";
-import { scatterSvg, type ScatterLine, type ScatterSpec } from "../src/report/scatterSvg";
+import { NARROW_PLOT, scatterSvg, type ScatterLine, type ScatterSpec } from "../src/report/scatterSvg";
+
+/** The plot's width when the pane's width is unknown (jsdom), and its bounds otherwise. */
+const PLOT_WIDTH = 560;
+const SMALLEST_PLOT = 260;
 
 /** Which horizontal axis: a predictor's index, or "fitted" for each row's fitted value under its own component. */
 export type ScatterAxis = number | "fitted";
@@ -18,7 +22,9 @@ export function defaultAxis(design: Design, fit: MixtureFit): number {
  * each row sits off its component's line by exactly its residual. Against the
  * fitted value every component's line is y = ŷ.
  */
-export function scatterSpec(design: Design, fit: MixtureFit, axis: ScatterAxis): ScatterSpec {
+export function scatterSpec(design: Design, fit: MixtureFit, axis: ScatterAxis, width = PLOT_WIDTH): ScatterSpec {
+  // A narrow plot is taller than wide: its title and subtitle take more lines.
+  const height = width < NARROW_PLOT ? Math.round(width * 1.3) : 400;
   const { y, x, n, p } = design;
   const labels = fit.labels;
   const px = new Float64Array(n);
@@ -41,7 +47,7 @@ export function scatterSpec(design: Design, fit: MixtureFit, axis: ScatterAxis):
       high = Math.max(high, value);
     }
     fit.components.forEach((_, c) => lines.push({ group: c, x0: low, y0: low, x1: high, y1: high }));
-    return { title: `${design.yName} against its fitted value`, subtitle: ["Each row drawn as its most probable component; the line is y = fitted"], xLabel: "Fitted value", yLabel: design.yName, x: px, y: py, group: labels, groupNames, lines, width: 560, height: 400 };
+    return { title: `${design.yName} against its fitted value`, subtitle: ["Each row drawn as its most probable component; the line is y = fitted"], xLabel: "Fitted value", yLabel: design.yName, x: px, y: py, group: labels, groupNames, lines, width, height };
   }
 
   const m = axis;
@@ -76,12 +82,35 @@ export function scatterSpec(design: Design, fit: MixtureFit, axis: ScatterAxis):
     group: labels,
     groupNames,
     lines,
-    width: 560,
-    height: 400,
+    width,
+    height,
   };
 }
 
-/** Draws the scatter (the shared SVG renderer of src/report) into the container. */
+/** The drawing width for a container: its own width, so text is drawn at its real size. */
+function plotWidthFor(container: HTMLElement): number {
+  const available = container.clientWidth;
+  return available > 0 ? Math.max(SMALLEST_PLOT, Math.min(PLOT_WIDTH, Math.floor(available))) : PLOT_WIDTH;
+}
+
+/** The latest drawing of each container, redone when the pane's width changes. */
+const redraws = new WeakMap<HTMLElement, () => void>();
+
+/**
+ * Draws the scatter (the shared SVG renderer of src/report) into the container at
+ * the container's width; a narrow pane gets the narrow layout (legend under the
+ * plot). When the pane is resized the plot is drawn again for the new width.
+ */
 export function drawScatter(container: HTMLElement, design: Design, fit: MixtureFit, axis: ScatterAxis): void {
-  container.innerHTML = scatterSvg(scatterSpec(design, fit, axis));
+  let drawnWidth = 0;
+  const draw = () => {
+    drawnWidth = plotWidthFor(container);
+    container.innerHTML = scatterSvg(scatterSpec(design, fit, axis, drawnWidth));
+  };
+  draw();
+  const first = !redraws.has(container);
+  redraws.set(container, () => {
+    if (Math.abs(plotWidthFor(container) - drawnWidth) > 8) draw();
+  });
+  if (first && typeof ResizeObserver === "function") new ResizeObserver(() => redraws.get(container)?.()).observe(container);
 }

@@ -1,30 +1,24 @@
 /*
  * Task pane entry: decides where the data live (Excel, or the built-in sheet of
- * plain-browser mode), picks how the engine runs (a Web Worker where there is
- * one), and builds the pane.
+ * plain-browser mode) and builds the pane on the page's engine service (shared with
+ * the worksheet functions and the ribbon commands).
  */
+import { cssColourVariables } from "../src/report/componentStyle";
 import styles from "./taskpane.css";
 import { ExcelHost } from "./excelHost";
 import { mountBrowserPane, mountExcelPane } from "./mountPane";
-import { InlineEngine, WorkerEngine, type PaneEngine } from "./paneEngine";
+import { engineService } from "../src/service/engineService";
 import { detectHost } from "./startup";
-
-function makeEngine(): Promise<PaneEngine> | PaneEngine {
-  if (typeof Worker === "function") {
-    return new WorkerEngine(() => new Worker(new URL("./scanWorker.ts", import.meta.url)));
-  }
-  return import("./engineCalls").then((calls) => new InlineEngine(calls));
-}
 
 async function start(): Promise<void> {
   const style = document.createElement("style");
-  style.textContent = styles;
+  style.textContent = cssColourVariables() + styles;
   document.head.appendChild(style);
   const root = document.getElementById("app")!;
   const status = document.getElementById("status");
   const where = await detectHost();
   status?.remove();
-  const engine = await makeEngine();
+  const engine = engineService;
   const mounted = where === "excel"
     ? mountExcelPane(root, new ExcelHost(), engine)
     : mountBrowserPane(root, engine, async (url) => {

@@ -111,9 +111,20 @@ describe("skein fit on NIST StRD Longley", () => {
     expect(logRelativeError(report.components[0].coefficients[1], certified.b1.estimate)).toBeGreaterThanOrEqual(9);
   });
 
-  it("by default takes every other numeric column, and names the counter that duplicates YEAR", async () => {
+  it("by default leaves out the columns of distinct whole numbers (Obs, YEAR) and says so", async () => {
+    const result = await run("fit", LONGLEY, "--y", "TOTEMP", "--json");
+    expect(result.stderr).toBe("");
+    const report = JSON.parse(result.stdout);
+    expect(report.predictors).toEqual(["GNPDEFL", "GNP", "UNEMP", "ARMED", "POP"]);
+    expect(report.notices.join(" ")).toMatch(/Left out of the predictors: Obs \(identifier: every value a different whole number, as a counter\), YEAR \(identifier: every value a different whole number, as a counter\)/);
+    expect(report.columns.find((c: { name: string }) => c.name === "YEAR")).toMatchObject({ letter: "H", kind: "identifier", role: "not used" });
+    const text = await run("fit", LONGLEY, "--y", "TOTEMP");
+    expect(text.stdout).toMatch(/How the file was read:\n {2}- Left out of the predictors: Obs .*YEAR/);
+  });
+
+  it("names the counter that duplicates YEAR when both are asked for", async () => {
     // Longley's Obs column is YEAR − 1946 (read off test/fixtures/longley.csv).
-    expectOneLineError(await run("fit", LONGLEY, "--y", "TOTEMP"), /Predictor YEAR equals 1946 \+ 1 × Obs/);
+    expectOneLineError(await run("fit", LONGLEY, "--y", "TOTEMP", "--x", "Obs,GNP,YEAR"), /Predictor YEAR equals 1946 \+ 1 × Obs/);
   });
 });
 
@@ -192,16 +203,20 @@ describe("skein fit: bad files and arguments as a new user would try them", () =
 
   it("a ragged sheet", async () => {
     const file = await writeFile("ragged.csv", "a,b,y\n1,2,3\n4,5,6\n7,8\n9,10,11\n");
-    expectOneLineError(await run("fit", file, "--y", "y"), /Row 4 of ragged.csv \(counting the header row\) has 2 fields but the header row has 3/);
+    expectOneLineError(await run("fit", file, "--y", "y"), /Line 4 of ragged.csv has 2 fields but the header \(line 1\) has 3/);
   });
 
   it("a constant column", async () => {
     const file = await writeFile("constant.csv", "a,site,y\n1,5,3\n2,5,4\n3,5,8\n4,5,9\n");
-    expectOneLineError(await run("fit", file, "--y", "y"), /Predictor site has the same value \(5\) in every used row; remove it/);
+    expectOneLineError(await run("fit", file, "--y", "y", "--x", "a,site"), /Predictor site has the same value \(5\) in every used row; remove it/);
+    // Not asked for, it is left out of the predictors by name.
+    const result = await run("fit", file, "--y", "y", "--json");
+    expect(result.stderr).toBe("");
+    expect(JSON.parse(result.stdout).notices).toContain("Left out of the predictors: site (the same number in every row). Name a column in --x to use it.");
   });
 
   it("a missing column name lists the columns", async () => {
-    expectOneLineError(await run("fit", LONGLEY, "--y", "EMPLOYMENT"), /no column "EMPLOYMENT"; its columns are "Obs", "TOTEMP", "GNPDEFL", "GNP", "UNEMP", "ARMED", "POP", "YEAR"/);
+    expectOneLineError(await run("fit", LONGLEY, "--y", "EMPLOYMENT"), /no column "EMPLOYMENT"; its columns are A "Obs", B "TOTEMP", C "GNPDEFL", D "GNP", E "UNEMP", F "ARMED", G "POP", H "YEAR"/);
     expectOneLineError(await run("fit", LONGLEY, "--y", "TOTEMP", "--x", "GNP,POPULATION"), /no column "POPULATION"/);
   });
 

@@ -1,5 +1,5 @@
-import { describe, expect, it } from "vitest";
-import { mkdtempSync, writeFileSync } from "node:fs";
+import { afterAll, describe, expect, it } from "vitest";
+import { mkdtempSync, rmSync, writeFileSync } from "node:fs";
 import { tmpdir } from "node:os";
 import { join } from "node:path";
 import { main } from "../src/cli/main";
@@ -31,6 +31,7 @@ async function run(argv: string[]): Promise<{ status: number; stdout: string; st
 describe("skein scan and skein predict", () => {
   const dir = mkdtempSync(join(tmpdir(), "skein-scan-"));
   const file = writeTwoGroupFile(dir);
+  afterAll(() => rmSync(dir, { recursive: true, force: true }));
 
   it("scan --json gives chosenK and one row per K with the contract's fields", async () => {
     const { status, stdout } = await run(["scan", file, "--y", "y", "--x", "x1,x2", "--k-max", "3", "--seed", "2", "--json"]);

@@ -2,8 +2,8 @@ import { afterEach, beforeAll, describe, expect, it } from "vitest";
 import { createRandom } from "../src/engine/random";
 import { SkeinError } from "../src/engine/errors";
 import { check, fit, labels, membership, predict, scan } from "../src/functions/functions";
-import { engineCallCounts } from "../src/functions/engineRunner";
-import { addressMemory, fitCache, scanCache } from "../src/functions/sharedFit";
+import { engineCallCounts } from "../src/service/engineRunner";
+import { engineService } from "../src/service/engineService";
 import { SETTING_NAMES } from "../src/functions/settings";
 import { describeFailure, toWorksheetError } from "../src/functions/toWorksheetError";
 import { installCustomFunctionsDouble, WorksheetErrorDouble } from "./support/customFunctionsDouble";
@@ -21,9 +21,7 @@ beforeAll(() => {
 });
 
 afterEach(() => {
-  fitCache.clear();
-  scanCache.clear();
-  addressMemory.clear();
+  engineService.clear();
 });
 
 type Range = unknown[][];
@@ -264,8 +262,9 @@ describe("cell errors with messages", () => {
     const error = await worksheetError(labels(y, x, 7));
     expect(error.code).toBe("#VALUE!");
     // 7 components x (2 coefficients + 1) = 21 rows needed; 19 usable.
-    expect(error.message).toContain("needs at least 21 usable rows");
-    expect(error.message).toContain("there are 19");
+    // The engine's own row check, with the skipped rows added.
+    expect(error.message).toContain("need at least 21 rows");
+    expect(error.message).toContain("the data has 19");
     expect(error.message).toContain("1 row was skipped");
   });
 
@@ -326,7 +325,7 @@ describe("cancellation", () => {
     expect(error.code).toBe("#N/A");
     await new Promise((resolve) => setTimeout(resolve, 5));
     expect(engineCallCounts.fits - before).toBe(0);
-    expect(fitCache.statistics().entries).toBe(0);
+    expect(engineService.results.statistics().entries).toBe(0);
   });
 
   it("when one of two formulas sharing a fit is cancelled, the other still gets it", async () => {

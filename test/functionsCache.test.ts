@@ -1,9 +1,9 @@
 import { describe, expect, it } from "vitest";
 import type { MixtureFit } from "../src/engine/mixtureTypes";
-import { AddressMemory } from "../src/functions/addressMemory";
-import type { Cancellation } from "../src/functions/cancellation";
-import { FitCache } from "../src/functions/fitCache";
-import { hashCells } from "../src/functions/hashCells";
+import { FitMemory } from "../src/service/fitMemory";
+import type { Cancellation } from "../src/service/cancellation";
+import { ResultCache } from "../src/service/resultCache";
+import { hashCells } from "../src/service/hashCells";
 
 /** A computation the test settles by hand, recording the cancellation it was given. */
 function deferred<T>() {
@@ -20,9 +20,9 @@ function deferred<T>() {
 
 const tick = () => new Promise((resolve) => setTimeout(resolve, 0));
 
-describe("FitCache", () => {
+describe("ResultCache", () => {
   it("computes a key once for callers that arrive while it runs and after it finished", async () => {
-    const cache = new FitCache<string>();
+    const cache = new ResultCache<string>();
     let computations = 0;
     const compute = async () => {
       computations++;
@@ -38,7 +38,7 @@ describe("FitCache", () => {
   });
 
   it("evicts the least recently used finished entries beyond the byte limit", async () => {
-    const cache = new FitCache<string>(100, 10);
+    const cache = new ResultCache<string>(100, 10);
     for (const key of ["a", "b", "c"]) await cache.obtain(key, 40, async () => key).promise;
     // Three entries of 40 bytes exceed 100: "a", the least recently used, went.
     expect(cache.peek("a")).toBeUndefined();
@@ -51,14 +51,14 @@ describe("FitCache", () => {
   });
 
   it("evicts beyond the entry limit whatever the sizes", async () => {
-    const cache = new FitCache<number>(1e9, 2);
+    const cache = new ResultCache<number>(1e9, 2);
     for (let i = 0; i < 5; i++) await cache.obtain(`k${i}`, 1, async () => i).promise;
     expect(cache.statistics().entries).toBe(2);
     expect(await cache.peek("k4")).toBe(4);
   });
 
   it("never evicts an entry still being computed", async () => {
-    const cache = new FitCache<string>(50, 10);
+    const cache = new ResultCache<string>(50, 10);
     const running = deferred<string>();
     const lease = cache.obtain("running", 80, running.compute);
     await cache.obtain("small", 10, async () => "small").promise;
@@ -68,7 +68,7 @@ describe("FitCache", () => {
   });
 
   it("stops a computation only when every caller has cancelled", async () => {
-    const cache = new FitCache<string>();
+    const cache = new ResultCache<string>();
     const work = deferred<string>();
     const first = cache.obtain("k", 1, work.compute);
     const second = cache.obtain("k", 1, work.compute);
@@ -84,14 +84,14 @@ describe("FitCache", () => {
   });
 
   it("does not keep failures", async () => {
-    const cache = new FitCache<string>();
+    const cache = new ResultCache<string>();
     await expect(cache.obtain("k", 1, async () => Promise.reject(new Error("bad"))).promise).rejects.toThrow("bad");
     await tick();
     expect(await cache.obtain("k", 1, async () => "good").promise).toBe("good");
   });
 
   it("rejects its callers when the computation throws at once", async () => {
-    const cache = new FitCache<string>();
+    const cache = new ResultCache<string>();
     const throwing = () => {
       throw new Error("at once");
     };
@@ -129,7 +129,7 @@ describe("hashCells", () => {
   });
 });
 
-describe("AddressMemory", () => {
+describe("FitMemory", () => {
   const fitOf = (k: number, p: number, rows: number): MixtureFit =>
     ({
       k,
@@ -145,7 +145,7 @@ describe("AddressMemory", () => {
     }) as unknown as MixtureFit;
 
   it("returns a cell's previous fit only for the same shape, without its per-row arrays", () => {
-    const memory = new AddressMemory();
+    const memory = new FitMemory();
     memory.remember("Sheet1!A1", fitOf(2, 3, 1000));
     const shape = { k: 2, p: 3, intercept: true, model: "plain" as const };
     const previous = memory.previousFor("Sheet1!A1", shape)!;
@@ -158,7 +158,7 @@ describe("AddressMemory", () => {
   });
 
   it("forgets the least recently refreshed cells beyond its limit", () => {
-    const memory = new AddressMemory(2);
+    const memory = new FitMemory(2);
     for (const address of ["A1", "A2", "A1", "A3"]) memory.remember(address, fitOf(1, 1, 5));
     expect(memory.size).toBe(2);
     const shape = { k: 1, p: 1, intercept: true, model: "plain" as const };

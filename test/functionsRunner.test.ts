@@ -1,17 +1,19 @@
 import { afterEach, beforeAll, describe, expect, it } from "vitest";
 import { createRandom } from "../src/engine/random";
 import { fit, labels } from "../src/functions/functions";
-import { engineCallCounts, WORKER_MIN_CELLS, type WorkerReply, type WorkerRequest } from "../src/functions/engineRunner";
-import * as runner from "../src/functions/engineRunner";
-import { fitCache } from "../src/functions/sharedFit";
-import { Cancellation } from "../src/functions/cancellation";
+import { engineCallCounts, WORKER_MIN_CELLS, type WorkerReply, type WorkerRequest } from "../src/service/engineRunner";
+import * as runner from "../src/service/engineRunner";
+import { engineService } from "../src/service/engineService";
+import { Cancellation } from "../src/service/cancellation";
 import { SkeinError } from "../src/engine/errors";
+import { buildDesign } from "../src/engine/design";
+import { permuteComponents } from "../src/engine/alignComponents";
 import { installCustomFunctionsDouble, WorksheetErrorDouble } from "./support/customFunctionsDouble";
 
 /*
  * The path that keeps Excel responsive: large fits go to the fit worker. Node has no Web
  * Worker, so a stand-in plays the browser's part: it runs the real worker script
- * (src/functions/fitWorker.ts, loaded once into a fake worker scope) on this thread after a
+ * (src/service/engineWorker.ts, loaded once into a fake worker scope) on this thread after a
  * turn of the event loop, passes messages through structuredClone as the browser does, and
  * records terminate(). A stand-in for Excel's CustomFunctions error class is installed too.
  */
@@ -25,7 +27,7 @@ const workerScope = {
   onmessage: null as ((event: { data: WorkerRequest }) => void) | null,
   postMessage(reply: WorkerReply) {
     const worker = replyTo.get(reply.id);
-    replyTo.delete(reply.id);
+    if (reply.kind !== "progress") replyTo.delete(reply.id);
     if (worker && !worker.terminated) worker.onmessage?.({ data: structuredClone(reply) } as MessageEvent<WorkerReply>);
   },
 };
@@ -59,11 +61,11 @@ beforeAll(async () => {
   const scope = globalThis as Record<string, unknown>;
   installCustomFunctionsDouble();
   scope.self = workerScope;
-  await import("../src/functions/fitWorker");
+  await import("../src/service/engineWorker");
 });
 
 afterEach(() => {
-  fitCache.clear();
+  engineService.clear();
   delete (globalThis as Record<string, unknown>).Worker;
   mode = "works";
 });
@@ -94,9 +96,9 @@ describe("where fits run", () => {
     const inWorker = await fit(y, x, 2);
     expect(runner.lastJobPlace).toBe("worker");
     expect(workerUrls.length - before).toBe(1);
-    expect(workerUrls.at(-1)).toMatch(/fitWorker\.ts$/);
+    expect(workerUrls.at(-1)).toMatch(/engineWorker\.ts$/);
 
-    fitCache.clear();
+    engineService.clear();
     delete (globalThis as Record<string, unknown>).Worker;
     const onPage = await fit(y, x, 2);
     expect(runner.lastJobPlace).toBe("page");
@@ -125,7 +127,7 @@ describe("where fits run", () => {
     const { y, x } = demo(600, 9);
     const data = { y: Float64Array.from(y, (r) => r[0]), x: Float64Array.from(x, (r) => r[0]), n: 600, p: 1 };
     // k = 0 passes no check of the adapter (it is called directly here); fitMixture rejects it in the worker.
-    const failure = runner.runFit({ kind: "fit", data, options: { k: 0 } }, new Cancellation());
+    const failure = runner.runJob({ kind: "fit", data, options: { k: 0 } }, { cancellation: new Cancellation() });
     await expect(failure).rejects.toBeInstanceOf(SkeinError);
     await expect(failure).rejects.toMatchObject({ code: "bad-input" });
     expect(runner.lastJobPlace).toBe("worker");
@@ -150,6 +152,22 @@ describe("cancelling a fit in the worker", () => {
   });
 });
 
+describe("the engine worker's protocol", () => {
+  it("reports a scan's progress from the worker, one message per K, and gives the page's result", async () => {
+    useWorkers();
+    const { y, x } = demo(80, 17);
+    const data = { y: Float64Array.from(y, (r) => r[0]), x: Float64Array.from(x, (r) => r[0]), n: 80, p: 1 };
+    const progress: string[] = [];
+    const inWorker = await runner.runJob({ kind: "scan", data, options: { kMax: 3, seed: 2 } }, { cancellation: new Cancellation(), place: "worker", onProgress: (k, of) => progress.push(`${k}/${of}`) });
+    expect(runner.lastJobPlace).toBe("worker");
+    expect(progress).toEqual(["1/3", "2/3", "3/3"]);
+    delete (globalThis as Record<string, unknown>).Worker;
+    const onPage = await runner.runJob({ kind: "scan", data, options: { kMax: 3, seed: 2 } }, { cancellation: new Cancellation() });
+    expect(runner.lastJobPlace).toBe("page");
+    expect(inWorker.rows.map((r) => r.bic)).toEqual(onPage.rows.map((r) => r.bic));
+  });
+});
+
 describe("a host where the worker cannot start", () => {
   it("falls back to the page and stays there", async () => {
     useWorkers();
@@ -163,5 +181,21 @@ describe("a host where the worker cannot start", () => {
     mode = "works";
     await fit(...(Object.values(demo(700, 14)) as [number[][], number[][]]), 2);
     expect(runner.lastJobPlace).toBe("page");
+  });
+});
+
+describe("the engine service's cache", () => {
+  it("hands a cached fit to a caller with its own previous fit renumbered to match that fit", async () => {
+    const { y, x } = demo(90, 19);
+    const design = buildDesign(y, x);
+    const request = { version: "test|demo", options: { k: 2, seed: 1 }, build: () => ({ design }), bytes: 1 };
+    const first = await engineService.fit(request).promise;
+    const swapped = permuteComponents(first.fit, [1, 0]);
+    const again = engineService.fit({ ...request, previous: swapped });
+    expect(again.shared).toBe(true);
+    const shown = (await again.promise).fit;
+    expect(shown.components.map((c) => c.coefficients[1])).toEqual(swapped.components.map((c) => c.coefficients[1]));
+    // The cached entry itself keeps its own numbering for the other callers.
+    expect((await engineService.fit(request).promise).fit).toBe(first.fit);
   });
 });

@@ -3,7 +3,7 @@ import { readFileSync } from "node:fs";
 import { join } from "node:path";
 import ExcelJS from "exceljs";
 import { check, fit, labels, membership, predict, scan } from "../src/functions/functions";
-import { addressMemory, fitCache, scanCache } from "../src/functions/sharedFit";
+import { engineService } from "../src/service/engineService";
 import { main } from "../src/cli/main";
 import { installCustomFunctionsDouble } from "./support/customFunctionsDouble";
 
@@ -82,9 +82,7 @@ describe("README worksheet-function examples on the delivery-fleet workbook", as
     installCustomFunctionsDouble();
   });
   afterAll(() => {
-    fitCache.clear();
-    scanCache.clear();
-    addressMemory.clear();
+    engineService.clear();
   });
   const { data, skein, skeinFormulas } = await loadSheets();
   const sheets = { Data: data, Skein: skein };

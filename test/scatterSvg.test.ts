@@ -87,13 +87,45 @@ describe("scatterSvg", () => {
   });
 });
 
+describe("scatterSvg in a narrow pane", () => {
+  const narrow = () => {
+    const spec = threeGroups();
+    spec.title = "Fuel used on each trip against the distance driven, with the payload held at its average";
+    return scatterSvg({ ...spec, width: 300, height: 390 });
+  };
+  const numbers = (svg: string, pattern: RegExp) => [...svg.matchAll(pattern)].map((m) => Number(m[1]));
+
+  it("puts the legend under the plot frame and grows by its height", () => {
+    const svg = narrow();
+    expect(svg).toContain('height="' + (390 + 26 + 22 * 3) + '"');
+    const frame = /<rect x="([\d.]+)" y="([\d.]+)" width="([\d.]+)" height="([\d.]+)" fill="none"/.exec(svg)!;
+    const frameBottom = Number(frame[2]) + Number(frame[4]);
+    const legendYs = numbers(svg, /<text class="legend-entry" x="[\d.]+" y="([\d.]+)"/g);
+    expect(legendYs).toHaveLength(3);
+    for (const y of legendYs) expect(y).toBeGreaterThan(frameBottom + 40);
+    expect(Number(frame[1]) + Number(frame[3])).toBeLessThanOrEqual(300);
+  });
+
+  it("wraps a long title into lines that fit the width (about 0.56 em a character)", () => {
+    const lines = [...narrow().matchAll(/<text class="title"[^>]*font-size="(\d+)"[^>]*>([^<]*)</g)];
+    expect(lines.length).toBeGreaterThan(1);
+    for (const [, size, text] of lines) expect(10 + text.length * 0.56 * Number(size)).toBeLessThanOrEqual(300);
+  });
+
+  it("keeps the legend beside the plot at the demo's width", () => {
+    const svg = scatterSvg(threeGroups());
+    const legendXs = numbers(svg, /<text class="legend-entry" x="([\d.]+)"/g);
+    for (const x of legendXs) expect(x).toBeGreaterThan(720 - 190 - 8);
+  });
+});
+
 describe("componentStyle", () => {
-  it("gives six different shapes before any repeats, and uses the icon's colours first", () => {
-    expect(new Set(MARKER_SHAPES).size).toBe(6);
-    expect(new Set([0, 1, 2, 3, 4, 5].map((c) => componentStyle(c).shape)).size).toBe(6);
-    expect(COMPONENT_COLOURS.slice(0, 3)).toEqual(["#1b7f79", "#c7761a", "#6b3fa0"]);
+  it("gives ten different shapes and colours before any repeats", () => {
+    expect(new Set(Array.from({ length: 10 }, (_, c) => componentStyle(c).shape)).size).toBe(10);
+    expect(new Set(Array.from({ length: 10 }, (_, c) => componentStyle(c).colour)).size).toBe(10);
+    expect(componentStyle(0).colour).toBe(COMPONENT_COLOURS[0]);
     const paths = MARKER_SHAPES.map((shape) => markerPath(shape, 4));
-    expect(new Set(paths).size).toBe(6);
+    expect(new Set(paths).size).toBe(MARKER_SHAPES.length);
   });
 });
 

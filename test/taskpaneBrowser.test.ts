@@ -1,9 +1,7 @@
 // @vitest-environment jsdom
 import { beforeEach, describe, expect, it } from "vitest";
 import { mountBrowserPane } from "../taskpane/mountPane";
-import { CancelFlag, InlineEngine } from "../taskpane/paneEngine";
-import * as engineCalls from "../taskpane/engineCalls";
-import { buildDesign } from "../src/engine/design";
+import { EngineService } from "../src/service/engineService";
 import { inventedSheet } from "./support/taskpaneFixtures";
 
 const rows = inventedSheet();
@@ -19,7 +17,7 @@ beforeEach(() => {
 describe("plain-browser mode", () => {
   function mount() {
     const csv = rows.map((r) => r.map((v) => (v === null ? "" : String(v))).join(",")).join("\n");
-    return mountBrowserPane($("#app"), new InlineEngine(engineCalls), async () => csv);
+    return mountBrowserPane($("#app"), new EngineService(), async () => csv);
   }
 
   it("fills the built-in sheet from a file and guesses the ranges", async () => {
@@ -69,11 +67,32 @@ describe("plain-browser mode", () => {
     expect([1, 2]).toContain(grid!.get(1, 9));
   });
 
-  it("rejects a cancelled scan without touching the results", async () => {
-    const engine = new InlineEngine(engineCalls);
-    const design = buildDesign(rows.map((r) => [r[0]]), rows.map((r) => [r[1]]));
-    const flag = new CancelFlag();
-    flag.abort();
-    await expect(engine.scan(design, { kMax: 2 }, () => undefined, flag)).rejects.toMatchObject({ code: "cancelled" });
+  it("cancels a running scan without touching the results, and runs it afresh after", async () => {
+    const { loadRows, pane } = mount();
+    await loadRows!(rows, undefined, "invented.csv");
+    pane.setKMax(2);
+    const running = pane.runScan();
+    pane.cancelScan();
+    await running;
+    expect(pane.state.scan).toBeNull();
+    expect(pane.state.scanning).toBe(false);
+    expect(pane.state.scanProblem).toContain("Scan cancelled");
+    // The cancelled scan left nothing behind in the cache: the next one computes and shows its result.
+    await pane.runScan();
+    expect(pane.state.scan?.rows.map((r) => r.k)).toEqual([1, 2]);
+    expect(pane.state.scanProblem).toBeNull();
+  });
+
+  it("a newer scan replaces a running one, whose end changes nothing", async () => {
+    const { loadRows, pane } = mount();
+    await loadRows!(rows, undefined, "invented.csv");
+    pane.setKMax(3);
+    const first = pane.runScan();
+    pane.setKMax(2);
+    const second = pane.runScan();
+    await Promise.all([first, second]);
+    expect(pane.state.scan?.rows.map((r) => r.k)).toEqual([1, 2]);
+    expect(pane.state.scanProblem).toBeNull();
+    expect(pane.state.scanning).toBe(false);
   });
 });

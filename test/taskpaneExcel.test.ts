@@ -2,8 +2,9 @@
 import { afterEach, beforeEach, describe, expect, it, vi } from "vitest";
 import { ExcelHost } from "../taskpane/excelHost";
 import { mountExcelPane } from "../taskpane/mountPane";
-import { InlineEngine } from "../taskpane/paneEngine";
-import * as engineCalls from "../taskpane/engineCalls";
+import { EngineService } from "../src/service/engineService";
+import { fitMixture } from "../src/engine/fitMixture";
+import type { MixtureFit } from "../src/engine/mixtureTypes";
 import { REFRESH_DELAY_MS } from "../taskpane/pane";
 import { inventedSheet } from "./support/taskpaneFixtures";
 import { mockWorkbook, type MockWorkbook } from "./support/mockWorkbook";
@@ -67,7 +68,7 @@ describe("ExcelHost", () => {
 
 describe("the pane inside Excel", () => {
   function mount() {
-    return mountExcelPane($("#app"), new ExcelHost(), new InlineEngine(engineCalls));
+    return mountExcelPane($("#app"), new ExcelHost(), new EngineService());
   }
 
   it("takes y and x from the selection and reports rows used and skipped", async () => {
@@ -144,7 +145,7 @@ describe("the pane inside Excel", () => {
     }
   });
 
-  it("refits after an edit to the data, keeping the component order", async () => {
+  it("refits after an edit that swaps the components' sizes, keeping each component's number by matching", async () => {
     const { pane } = mount();
     await pane.setAddresses(`Sheet1!A1:A${last}`, `Sheet1!B1:B${last}`);
     pane.setKMax(2);
@@ -153,22 +154,39 @@ describe("the pane inside Excel", () => {
     await pane.chooseK(2);
     await settle();
     const before = pane.state.fit!;
+    // The fixture's line y = 12 − x keeps all its 60 rows, y = 1 + 2x loses two to skipped
+    // cells: the larger component, numbered 1 in the canonical order, is the falling line.
+    const slope = (fit: MixtureFit, c: number) => fit.components[c].coefficients[1];
+    expect(slope(before, 0)).toBeCloseTo(-1, 1);
+    expect(slope(before, 1)).toBeCloseTo(2, 1);
+    // The edit moves eight rows of the falling line (odd data rows 11 to 25) onto y = 1 + 2x,
+    // so the rising line now has 66 rows and the falling one 52: in the canonical order
+    // (largest first) they would swap numbers.
+    const edited: number[][] = [];
+    for (let i = 11; i <= 25; i++) edited.push([i % 2 === 1 ? Number((1 + 2 * (rows[i + 1][1] as number)).toFixed(3)) : (rows[i + 1][0] as number)]);
     vi.useFakeTimers();
-    // A small edit: one response nudged by a tenth of the noise SD.
-    await book.edit("Sheet1", "A3", [[(rows[2][0] as number) + 0.04]]);
-    await book.edit("Sheet1", "A4", [[(rows[3][0] as number) + 0.04]]);
-    // Both edits fall in one quiet period: one refit.
+    await book.edit("Sheet1", `A${11 + 2}`, edited);
     await vi.advanceTimersByTimeAsync(REFRESH_DELAY_MS);
+    // The refit runs after one turn of the event loop (the service yields before a fit on the page).
+    await vi.advanceTimersByTimeAsync(10);
     vi.useRealTimers();
     await settle();
     const after = pane.state.fit!;
     expect(after).not.toBe(before);
-    expect($("#refresh-note").hidden).toBe(false);
+    expect($("#refresh-note").textContent).toContain("component numbers were kept");
     expect($("#scan-stale").hidden).toBe(false);
-    // Same order: each component's slope stays nearest its own previous slope.
-    for (let c = 0; c < 2; c++) {
-      const distances = before.components.map((b) => Math.abs(b.coefficients[1] - after.components[c].coefficients[1]));
-      expect(distances.indexOf(Math.min(...distances))).toBe(c);
-    }
+
+    // Without matching, the new data's fit would put the rising line first.
+    const design = pane.state.design!;
+    const unmatched = fitMixture(design, { k: 2, seed: pane.state.seed });
+    expect(slope(unmatched, 0)).toBeCloseTo(2, 1);
+    expect(unmatched.components[0].weight).toBeGreaterThan(unmatched.components[1].weight);
+    // The pane's refit kept the numbers: component 1 is still the falling line, now the smaller.
+    expect(slope(after, 0)).toBeCloseTo(-1, 1);
+    expect(slope(after, 1)).toBeCloseTo(2, 1);
+    expect(after.components[0].weight).toBeLessThan(after.components[1].weight);
+    // Labels follow: data row 1 (index 1, on the falling line, not edited) is still in component 1.
+    expect(after.labels[design.rowIndex.indexOf(1)]).toBe(0);
   });
+
 });

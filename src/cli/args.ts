@@ -1,5 +1,6 @@
 import { SkeinError } from "../engine/errors";
 import type { MixtureModel } from "../engine/mixtureTypes";
+import { defaultText, optionSpec, readOptionValue, type OptionName, type OptionValue } from "../engine/options";
 
 /** How each flag of a command is used: followed by a value, or on its own. */
 export type FlagKinds = Record<string, "value" | "switch">;
@@ -71,18 +72,151 @@ export function parseWholeNumber(text: string, flag: string, command: string, mi
   return value;
 }
 
-/** The items of a comma-separated list, trimmed, empty items rejected. */
+/**
+ * The items of a comma-separated list, trimmed, empty items rejected. An item
+ * in double quotes may hold commas ("Cost, total"); "" inside quotes is a quote.
+ */
 export function parseList(text: string, flag: string, command: string): string[] {
-  const items = text.split(",").map((item) => item.trim());
-  if (items.some((item) => item === "")) {
-    throw usageError(command, `--${flag} has an empty name in "${text}"; separate names with single commas`);
+  const items: string[] = [];
+  let i = 0;
+  for (;;) {
+    while (text[i] === " ") i++;
+    let item: string;
+    if (text[i] === '"') {
+      let value = "";
+      let from = i + 1;
+      for (;;) {
+        const close = text.indexOf('"', from);
+        if (close < 0) throw usageError(command, `--${flag} has a quote that never closes in ${text}; close the quoted name`);
+        value += text.slice(from, close);
+        if (text[close + 1] === '"') {
+          value += '"';
+          from = close + 2;
+        } else {
+          i = close + 1;
+          break;
+        }
+      }
+      while (text[i] === " ") i++;
+      if (i < text.length && text[i] !== ",") throw usageError(command, `--${flag} has text after the quoted name "${value}"; put a comma after the closing quote`);
+      item = value.trim();
+    } else {
+      const comma = text.indexOf(",", i);
+      const end = comma < 0 ? text.length : comma;
+      item = text.slice(i, end).trim();
+      i = end;
+    }
+    if (item === "") throw usageError(command, `--${flag} has an empty name in "${text}"; separate names with single commas`);
+    items.push(item);
+    if (i >= text.length) return items;
+    i++; // the comma
   }
-  return items;
 }
 
-/** The --model value: plain (the default) or joint. */
+/** The largest row number of a worksheet. */
+const MAX_SHEET_ROW = 1_048_576;
+
+/** The --header-row value: the 1-based row (sheet row, or line of a text file) holding the column names. */
+export function parseHeaderRow(text: string | undefined, command: string): number | undefined {
+  return text === undefined ? undefined : parseWholeNumber(text, "header-row", command, 1, MAX_SHEET_ROW);
+}
+
+/** Help lines shared by the commands that read a data file. */
+export const FILE_OPTIONS_HELP = `
+Reading the file:
+  --sheet NAME        the worksheet of an .xlsx file (default: the first sheet
+                      holding a table of numbers; the output says which)
+  --header-row N      the row (line of a text file) holding the column names
+                      (default: the first non-empty one); rows above it are
+                      ignored, such as a grouping header
+Columns are named by header; when no header has the name, a letter (A, B,
+..., AA) or #number (#3 = column C) picks by position, so --x "#3,#4" or
+--x C,D. A name holding a comma can be quoted: --x '"Cost, total",Units'.
+`;
+
+/** The --model value: plain (the default) or joint, checked against the options table. */
 export function parseModel(text: string | undefined, command: string): MixtureModel {
-  if (text === undefined) return "plain";
-  if (text === "plain" || text === "joint") return text;
-  throw new SkeinError("bad-input", `--model must be plain or joint, not "${text}" (see skein ${command} --help)`);
+  const spec = optionSpec("model");
+  if (text === undefined) return spec.default as MixtureModel;
+  const value = readOptionValue(spec, text);
+  if (value === undefined) throw usageError(command, `--model must be ${spec.accepts}, not "${text}"`);
+  return value as MixtureModel;
+}
+
+/** What a flag's value is called in the help: --seed S, --k N, --model NAME. */
+const PLACEHOLDERS: Record<OptionName, string> = {
+  seed: "S",
+  intercept: "",
+  model: "plain|joint",
+  restarts: "N",
+  tolerance: "T",
+  max_iterations: "N",
+  k: "N",
+  kmax: "N",
+};
+
+const HELP_WIDTH = 78;
+
+/** `head` then `text` wrapped from column `column` (where a verb's help starts its explanations). */
+function wrapHelp(head: string, text: string, column: number): string {
+  const HELP_COLUMN = column;
+  const lines: string[] = [];
+  let line = head.length >= HELP_COLUMN ? head + "\n" + " ".repeat(HELP_COLUMN) : head.padEnd(HELP_COLUMN);
+  let lineLength = line.length - (line.lastIndexOf("\n") + 1);
+  for (const word of text.split(" ")) {
+    if (lineLength + word.length + 1 > HELP_WIDTH && lineLength > HELP_COLUMN) {
+      lines.push(line.trimEnd());
+      line = " ".repeat(HELP_COLUMN);
+      lineLength = HELP_COLUMN;
+    }
+    line += (lineLength > HELP_COLUMN ? " " : "") + word;
+    lineLength += (lineLength > HELP_COLUMN ? 1 : 0) + word.length;
+  }
+  lines.push(line.trimEnd());
+  return lines.join("\n");
+}
+
+/** The flag as typed: --seed, --no-intercept. */
+export function flagOf(name: OptionName): string {
+  return `--${optionSpec(name).flag}`;
+}
+
+/** Help lines for options of the table, made from it: flag, meaning, accepted values and default (or what `defaults` says instead, such as "required"). */
+export function optionHelp(names: readonly OptionName[], column: number, defaults: Partial<Record<OptionName, string>> = {}): string {
+  return names
+    .map((name) => {
+      const spec = optionSpec(name);
+      if (spec.type === "yes/no") return wrapHelp(`  --${spec.flag}`, `do not ${spec.meaning} (default: with one)`, column);
+      const head = `  --${spec.flag} ${PLACEHOLDERS[name]}`;
+      const range = spec.type === "choice" ? "" : `; ${spec.accepts}`;
+      const given = defaults[name];
+      return wrapHelp(head, `${spec.meaning}${range} (${given ?? `default ${defaultText(spec)}`})`, column);
+    })
+    .join("\n");
+}
+
+/** The flags of options of the table, for FlagKinds. */
+export function optionFlags(names: readonly OptionName[]): FlagKinds {
+  return Object.fromEntries(names.map((name) => [optionSpec(name).flag, optionSpec(name).type === "yes/no" ? "switch" : "value"]));
+}
+
+/**
+ * An option read from its flag, checked against the options table; the table's default when
+ * the flag is absent (a yes/no option's switch turns it off).
+ */
+export function readOption(parsed: ParsedArgs, name: OptionName, command: string): OptionValue {
+  const spec = optionSpec(name);
+  if (spec.type === "yes/no") return parsed.switches.has(spec.flag) ? !spec.default : spec.default;
+  const text = parsed.values.get(spec.flag);
+  if (text === undefined) return spec.default;
+  const value = readOptionValue(spec, text);
+  if (value === undefined) throw usageError(command, `--${spec.flag} must be ${spec.accepts}, not "${text}"`);
+  return value;
+}
+
+/** Like readOption, but undefined when the flag is absent (the engine then applies the default). */
+export function readGivenOption(parsed: ParsedArgs, name: OptionName, command: string): OptionValue | undefined {
+  const spec = optionSpec(name);
+  if (spec.type !== "yes/no" && !parsed.values.has(spec.flag)) return undefined;
+  return readOption(parsed, name, command);
 }

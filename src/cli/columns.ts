@@ -1,8 +1,10 @@
 import { SkeinError } from "../engine/errors";
+import { columnIndexOfLetters, columnLetter, type ColumnType } from "../io/columnTypes";
+import type { DataTable } from "../io/dataTable";
 
 /**
  * Column handling for tables read from files: the header row, picking
- * columns by name, and choosing numeric columns.
+ * columns by name, letter or number, and choosing numeric columns.
  */
 
 /** The header row's names; a bad-input SkeinError when the first row is not a row of names. */
@@ -64,4 +66,40 @@ export function columnRange(rows: unknown[][], column: number): unknown[][] {
 /** Several columns as a range, in the given order (header included). */
 export function columnsRange(rows: unknown[][], columns: readonly number[]): unknown[][] {
   return rows.map((row) => columns.map((j) => row[j]));
+}
+
+/**
+ * How a column is chosen on the command line, in this order: its header name
+ * exactly, its header name ignoring case, then its position: a column letter
+ * (A, B, ..., AA) or # and its 1-based number (#3 is column C). Letters and
+ * numbers count from the sheet's column A (a CSV file's first field is A).
+ */
+export const COLUMN_CHOICE_RULE =
+  "A column is named by its header, or by its letter (A, B, ..., AA) or #number (#3 = column C) when no header has that name.";
+
+/** The column a --y or --x item names in a table read by readDataTable; a bad-input SkeinError naming the columns otherwise. */
+export function chooseColumn(table: Pick<DataTable, "columns" | "where">, wanted: string): ColumnType {
+  const { columns, where } = table;
+  const exact = columns.find((c) => c.name === wanted);
+  if (exact) return exact;
+  const lower = wanted.toLowerCase();
+  const matches = columns.filter((c) => c.name.toLowerCase() === lower);
+  if (matches.length === 1) return matches[0];
+  if (matches.length > 1) {
+    throw new SkeinError("bad-input", `Column name "${wanted}" matches ${matches.map((c) => `"${c.name}" (${c.letter})`).join(" and ")} in ${where} when case is ignored; write it exactly as in the header, or give the column letter.`);
+  }
+  // A header used twice was renamed "Name (B)", "Name (E)": the plain name is ambiguous.
+  const renamed = columns.filter((c) => c.name.toLowerCase() === `${lower} (${c.letter.toLowerCase()})`);
+  if (renamed.length > 1) {
+    throw new SkeinError("bad-input", `The header "${wanted}" names ${renamed.length} columns of ${where} (${renamed.map((c) => c.letter).join(", ")}); choose one as ${renamed.map((c) => `"${c.name}"`).join(" or ")}, or by its letter.`);
+  }
+  const numbered = /^#\s*(\d+)$/.exec(wanted.trim());
+  const index = numbered ? Number(numbered[1]) - 1 : columnIndexOfLetters(wanted.trim());
+  if (index !== undefined) {
+    const found = columns.find((c) => columnIndexOfLetters(c.letter) === index);
+    if (found) return found;
+    const span = `${columns[0].letter} to ${columns[columns.length - 1].letter}`;
+    throw new SkeinError("bad-input", `${where} has no column named "${wanted}", and column ${columnLetter(index)} lies outside its data (columns ${span}); name a column by its header, its letter or #number.`);
+  }
+  throw new SkeinError("bad-input", `${where} has no column "${wanted}"; its columns are ${columns.map((c) => `${c.letter} "${c.name}"`).join(", ")}. Name a column by its header, its letter (A, B, ...) or #number (#1 is A).`);
 }

@@ -8,9 +8,14 @@ import { checkSeparation } from "../engine/checkSeparation";
 import { standardErrors } from "../engine/standardErrors";
 import type { MixtureFit, MixtureModel, RefinementReport, WarmStartReport } from "../engine/mixtureTypes";
 import type { SeparationReport } from "../engine/trustTypes";
-import { parseArgs, parseList, parseModel, parseWholeNumber, type FlagKinds } from "./args";
-import { loadDesign } from "./loadDesign";
+import type { OptionName } from "../engine/options";
+import { FILE_OPTIONS_HELP, optionFlags, optionHelp, parseArgs, parseHeaderRow, parseList, parseWholeNumber, readGivenOption, readOption, type FlagKinds } from "./args";
+import { loadDesign, type ColumnReport } from "./loadDesign";
 import { formatFitTable } from "./formatTable";
+import { formatNotices } from "./formatNotices";
+
+/** The options of the table that skein fit takes. */
+const FIT_OPTIONS: readonly OptionName[] = ["k", "model", "seed", "restarts", "tolerance", "max_iterations", "intercept"];
 
 export const FIT_USAGE = `Usage: skein fit FILE --y COLUMN [--x COLUMN,COLUMN,...] [options]
 
@@ -21,21 +26,15 @@ and listed.
 
   --y COLUMN        the response column (required)
   --x COLUMNS       predictor columns, separated by commas; default: every
-                    other column that holds mostly numbers
-  --sheet NAME      the worksheet of an .xlsx file (default: the first)
-  --k N             number of components (default 1)
-  --model NAME      plain (y given x per component, the default) or joint
-                    (each component also models where its x lie)
-  --restarts N      alternative starts refined briefly before the best is
-                    refined fully (default: the engine's choice)
-  --seed S          seed for the random starts of a mixture fit (default 1)
+                    other column of numbers or categories (dates and
+                    identifier columns are left out, and the output says so)
+${optionHelp(FIT_OPTIONS, 20)}
   --bootstrap N     standard errors from N bootstrap refits (components
                     matched to this fit in each) instead of the observed
                     information; slower
-  --no-intercept    fit without an intercept
   --json            write one JSON object instead of a table
   --help            show this help
-
+${FILE_OPTIONS_HELP}
 Example: skein fit sales.csv --y revenue --x price,advertising
 `;
 
@@ -43,25 +42,21 @@ const FIT_FLAGS: FlagKinds = {
   y: "value",
   x: "value",
   sheet: "value",
-  k: "value",
-  model: "value",
-  restarts: "value",
-  seed: "value",
+  "header-row": "value",
+  ...optionFlags(FIT_OPTIONS),
   bootstrap: "value",
-  "no-intercept": "switch",
   json: "switch",
   help: "switch",
   h: "switch",
 };
 
-/** Largest K the command accepts as an argument; the fit itself decides what is available. */
-const MAX_COMPONENTS = 50;
-
 export interface FitSettings {
   file: string;
   sheet?: string;
+  /** 1-based row (line) of the header; undefined: the first non-empty one. */
+  headerRow?: number;
   y: string;
-  /** Predictor names in the user's order; undefined: every other mostly numeric column. */
+  /** Predictor names (or letters, #numbers) in the user's order; undefined: every other number or category column. */
   x?: string[];
   k: number;
   seed: number;
@@ -69,6 +64,8 @@ export interface FitSettings {
   model: MixtureModel;
   /** undefined: the engine's default. */
   restarts?: number;
+  tolerance?: number;
+  maxIterations?: number;
   /** Bootstrap replicates for the standard errors; undefined: observed information. */
   bootstrap?: number;
   json: boolean;
@@ -118,6 +115,10 @@ export interface FitReport {
   /** Standard errors: per component coefficients (as in components[].stdErrors), weights and noise SDs. */
   stdErrors: { method: string; weights: number[]; sigmas: number[] };
   timings: { readMs: number; fitMs: number };
+  /** Every column of the file: its kind (number, category, date, identifier, text, empty) and role. */
+  columns: ColumnReport[];
+  /** How the file was read: encoding, sheet, conversions, renamed headers, columns left out. */
+  notices: string[];
 }
 
 /** What a model fit hands back, whatever the number of components. */
@@ -138,7 +139,8 @@ export interface ModelFit {
 
 /** Turns the fit command's arguments into settings, or "help". */
 export function parseFitSettings(argv: readonly string[]): FitSettings | "help" {
-  const { positionals, values, switches } = parseArgs(argv, FIT_FLAGS, "fit");
+  const parsed = parseArgs(argv, FIT_FLAGS, "fit");
+  const { positionals, values, switches } = parsed;
   if (switches.has("help") || switches.has("h")) return "help";
   if (positionals.length === 0) throw new SkeinError("bad-input", "No data file given; name one, as in: skein fit data.csv --y COLUMN");
   if (positionals.length > 1) {
@@ -147,20 +149,20 @@ export function parseFitSettings(argv: readonly string[]): FitSettings | "help" 
   const y = values.get("y");
   if (y === undefined) throw new SkeinError("bad-input", "No response column given; name it, as in --y COLUMN");
   const xText = values.get("x");
-  const kText = values.get("k");
-  const seedText = values.get("seed");
-  const restartsText = values.get("restarts");
   const bootstrapText = values.get("bootstrap");
   return {
     file: positionals[0],
     sheet: values.get("sheet"),
+    headerRow: parseHeaderRow(values.get("header-row"), "fit"),
     y,
     x: xText === undefined ? undefined : parseList(xText, "x", "fit"),
-    k: kText === undefined ? 1 : parseWholeNumber(kText, "k", "fit", 1, MAX_COMPONENTS),
-    seed: seedText === undefined ? 1 : parseWholeNumber(seedText, "seed", "fit", 0, 2 ** 32 - 1),
-    intercept: !switches.has("no-intercept"),
-    model: parseModel(values.get("model"), "fit"),
-    restarts: restartsText === undefined ? undefined : parseWholeNumber(restartsText, "restarts", "fit", 0, 1000),
+    k: readOption(parsed, "k", "fit") as number,
+    seed: readOption(parsed, "seed", "fit") as number,
+    intercept: readOption(parsed, "intercept", "fit") as boolean,
+    model: readOption(parsed, "model", "fit") as MixtureModel,
+    restarts: readGivenOption(parsed, "restarts", "fit") as number | undefined,
+    tolerance: readGivenOption(parsed, "tolerance", "fit") as number | undefined,
+    maxIterations: readGivenOption(parsed, "max_iterations", "fit") as number | undefined,
     bootstrap: bootstrapText === undefined ? undefined : parseWholeNumber(bootstrapText, "bootstrap", "fit", 10, 10000),
     json: switches.has("json"),
   };
@@ -172,14 +174,13 @@ export function parseFitSettings(argv: readonly string[]): FitSettings | "help" 
  * ordinary least squares, and the report gives the classical least-squares standard
  * errors (n − q degrees of freedom), the ones regression tables and NIST certify.
  */
-export function fitModel(design: Design, settings: Pick<FitSettings, "k" | "seed" | "intercept" | "model" | "restarts" | "bootstrap">): ModelFit {
-  const mixture = withColumnNames(design, settings.intercept, () =>
-    fitMixture(design, { k: settings.k, seed: settings.seed, intercept: settings.intercept, model: settings.model, restarts: settings.restarts }),
-  );
+export function fitModel(design: Design, settings: Pick<FitSettings, "k" | "seed" | "intercept" | "model" | "restarts" | "tolerance" | "maxIterations" | "bootstrap">): ModelFit {
+  const { k, seed, intercept, model, restarts, tolerance, maxIterations } = settings;
+  const mixture = withColumnNames(design, settings.intercept, () => fitMixture(design, { k, seed, intercept, model, restarts, tolerance, maxIterations }));
   const errors =
     settings.bootstrap === undefined
       ? standardErrors(design, mixture)
-      : standardErrors(design, mixture, { method: "bootstrap", replicates: settings.bootstrap, seed: settings.seed, fitOptions: { restarts: settings.restarts } });
+      : standardErrors(design, mixture, { method: "bootstrap", replicates: settings.bootstrap, seed: settings.seed, fitOptions: { restarts, tolerance, maxIterations } });
   let coefficientErrors = errors.coefficients.map((c) => Array.from(c));
   let method: string = errors.method;
   if (settings.k === 1 && settings.model === "plain" && settings.bootstrap === undefined) {
@@ -229,7 +230,7 @@ function classicalStdErrors(design: Design, intercept: boolean): number[] {
 /** Everything the command computes, before it is written out. */
 export async function computeFitReport(settings: FitSettings): Promise<{ report: FitReport; sheetName?: string }> {
   const readStart = performance.now();
-  const { design, sheetName } = await loadDesign(settings);
+  const { design, sheetName, columns, notices } = await loadDesign(settings);
   const readMs = performance.now() - readStart;
 
   const fitStart = performance.now();
@@ -262,6 +263,8 @@ export async function computeFitReport(settings: FitSettings): Promise<{ report:
     separation: model.separation,
     stdErrors: { method: model.stdErrorMethod, weights: model.weightStdErrors, sigmas: model.sigmaStdErrors },
     timings: { readMs, fitMs },
+    columns,
+    notices,
   };
   return { report, sheetName };
 }
@@ -275,6 +278,6 @@ export async function fitCommand(argv: readonly string[], io: { stdout: (s: stri
   }
   const { report, sheetName } = await computeFitReport(settings);
   if (settings.json) io.stdout(JSON.stringify(report) + "\n");
-  else io.stdout(formatFitTable(report, { file: path.basename(settings.file), sheetName }));
+  else io.stdout(formatFitTable(report, { file: path.basename(settings.file), sheetName }) + formatNotices(report.notices));
   return 0;
 }

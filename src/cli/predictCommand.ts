@@ -2,9 +2,15 @@ import * as path from "path";
 import { SkeinError } from "../engine/errors";
 import { fitMixture } from "../engine/fitMixture";
 import { predictRows } from "../engine/predictRows";
-import { parseArgs, parseList, parseModel, parseWholeNumber, type FlagKinds } from "./args";
+import type { MixtureModel } from "../engine/mixtureTypes";
+import type { OptionName } from "../engine/options";
+import { FILE_OPTIONS_HELP, optionFlags, optionHelp, parseArgs, parseHeaderRow, parseList, readGivenOption, readOption, type FlagKinds } from "./args";
+import { formatNotices } from "./formatNotices";
 import { formatNumber } from "./formatTable";
-import { loadDesign, loadNewRows } from "./loadDesign";
+import { loadDesign, loadNewRows, type ColumnReport } from "./loadDesign";
+
+/** The options of the table that skein predict takes. */
+const PREDICT_OPTIONS: readonly OptionName[] = ["k", "model", "seed", "restarts", "tolerance", "max_iterations", "intercept"];
 
 export const PREDICT_USAGE = `Usage: skein predict FILE --y COLUMN [--x COLUMN,COLUMN,...] --k N --new NEWFILE [options]
 
@@ -16,16 +22,16 @@ where the new row's x lie; with the plain model they are the weights.
 
   --y COLUMN          the response column of FILE (required)
   --x COLUMNS         predictor columns, separated by commas; default: every
-                      other column of FILE that holds mostly numbers
-  --k N               number of components (required)
+                      other column of FILE of numbers or categories (dates and
+                      identifier columns are left out, and the output says so)
   --new NEWFILE       .csv or .xlsx file of new rows (required)
-  --sheet NAME        the worksheet of an .xlsx FILE (default: the first)
-  --new-sheet NAME    the worksheet of an .xlsx NEWFILE (default: the first)
-  --seed S            seed for the random starts (default 1)
-  --model plain|joint (default plain)
-  --no-intercept      fit without an intercept
+  --new-sheet NAME    the worksheet of an .xlsx NEWFILE (default: the first
+                      sheet holding a table of numbers)
+${optionHelp(PREDICT_OPTIONS, 22, { k: "required" })}
   --json              write one JSON object instead of a table
   --help              show this help
+${FILE_OPTIONS_HELP}--sheet and --header-row apply to FILE; NEWFILE's column names are in its
+first non-empty row.
 
 Example: skein predict sales.csv --y revenue --x price,advertising --k 2 --new next.csv --model joint
 `;
@@ -33,19 +39,15 @@ Example: skein predict sales.csv --y revenue --x price,advertising --k 2 --new n
 const PREDICT_FLAGS: FlagKinds = {
   y: "value",
   x: "value",
-  k: "value",
   new: "value",
   sheet: "value",
+  "header-row": "value",
   "new-sheet": "value",
-  seed: "value",
-  model: "value",
-  "no-intercept": "switch",
+  ...optionFlags(PREDICT_OPTIONS),
   json: "switch",
   help: "switch",
   h: "switch",
 };
-
-const MAX_COMPONENTS = 50;
 
 /** One new row's prediction; null in `rows` for a new row skipped for a non-numeric cell. */
 export interface PredictedRow {
@@ -66,11 +68,16 @@ export interface PredictReport {
   rows: (PredictedRow | null)[];
   /** 1-based data rows of NEWFILE left out. */
   skipped: number[];
+  /** Every column of FILE: its kind and role. */
+  columns: ColumnReport[];
+  /** How FILE and NEWFILE were read: encoding, sheet, conversions, renamed headers, columns left out. */
+  notices: string[];
 }
 
 /** `skein predict`: returns the exit status; SkeinErrors propagate to main. */
 export async function predictCommand(argv: readonly string[], io: { stdout: (s: string) => void }): Promise<number> {
-  const { positionals, values, switches } = parseArgs(argv, PREDICT_FLAGS, "predict");
+  const parsed = parseArgs(argv, PREDICT_FLAGS, "predict");
+  const { positionals, values, switches } = parsed;
   if (switches.has("help") || switches.has("h")) {
     io.stdout(PREDICT_USAGE);
     return 0;
@@ -82,13 +89,27 @@ export async function predictCommand(argv: readonly string[], io: { stdout: (s: 
   if (kText === undefined) throw new SkeinError("bad-input", "skein predict needs the number of components, as in --k 2 (skein scan suggests one)");
   const newFile = values.get("new");
   if (newFile === undefined) throw new SkeinError("bad-input", "skein predict needs the file of new rows, as in --new new.csv");
-  const k = parseWholeNumber(kText, "k", "predict", 1, MAX_COMPONENTS);
-  const seedText = values.get("seed");
+  const k = readOption(parsed, "k", "predict") as number;
   const xText = values.get("x");
-  const model = parseModel(values.get("model"), "predict");
-  const intercept = !switches.has("no-intercept");
-  const { design } = await loadDesign({ file: positionals[0], sheet: values.get("sheet"), y, x: xText === undefined ? undefined : parseList(xText, "x", "predict"), intercept });
-  const fit = fitMixture(design, { k, seed: seedText === undefined ? 1 : parseWholeNumber(seedText, "seed", "predict", 0, 2 ** 32 - 1), intercept, model });
+  const model = readOption(parsed, "model", "predict") as MixtureModel;
+  const intercept = readOption(parsed, "intercept", "predict") as boolean;
+  const { design, columns, notices } = await loadDesign({
+    file: positionals[0],
+    sheet: values.get("sheet"),
+    headerRow: parseHeaderRow(values.get("header-row"), "predict"),
+    y,
+    x: xText === undefined ? undefined : parseList(xText, "x", "predict"),
+    intercept,
+  });
+  const fit = fitMixture(design, {
+    k,
+    seed: readOption(parsed, "seed", "predict") as number,
+    intercept,
+    model,
+    restarts: readGivenOption(parsed, "restarts", "predict") as number | undefined,
+    tolerance: readGivenOption(parsed, "tolerance", "predict") as number | undefined,
+    maxIterations: readGivenOption(parsed, "max_iterations", "predict") as number | undefined,
+  });
   const newRows = await loadNewRows(newFile, design.predictorNames, values.get("new-sheet"));
   const prediction = predictRows(fit, newRows.x, newRows.m);
   const rows: (PredictedRow | null)[] = new Array(newRows.inputRows).fill(null);
@@ -108,6 +129,8 @@ export async function predictCommand(argv: readonly string[], io: { stdout: (s: 
     components: fit.components.map((c) => ({ weight: c.weight, sigma: c.sigma, coefficients: Array.from(c.coefficients) })),
     rows,
     skipped: newRows.skipped,
+    columns,
+    notices: [...notices, ...newRows.notices],
   };
   if (switches.has("json")) {
     io.stdout(JSON.stringify(report) + "\n");
@@ -124,6 +147,6 @@ export async function predictCommand(argv: readonly string[], io: { stdout: (s: 
   const widths = header.map((_, j) => Math.max(...table.map((t) => t[j].length)));
   for (const t of table) lines.push("  " + t.map((cell, j) => cell.padStart(widths[j])).join("   "));
   if (newRows.skipped.length > 0) lines.push(`Skipped new rows (a predictor cell is not a number): ${newRows.skipped.join(", ")}`);
-  io.stdout(lines.join("\n") + "\n");
+  io.stdout(lines.join("\n") + "\n" + formatNotices(report.notices));
   return 0;
 }

@@ -2,9 +2,14 @@ import * as path from "path";
 import { SkeinError } from "../engine/errors";
 import type { MixtureModel } from "../engine/mixtureTypes";
 import { scanComponents } from "../engine/scanComponents";
-import { parseArgs, parseList, parseModel, parseWholeNumber, type FlagKinds } from "./args";
+import type { OptionName } from "../engine/options";
+import { FILE_OPTIONS_HELP, optionFlags, optionHelp, parseArgs, parseHeaderRow, parseList, readGivenOption, readOption, type FlagKinds } from "./args";
+import { formatNotices } from "./formatNotices";
 import { formatNumber } from "./formatTable";
-import { loadDesign } from "./loadDesign";
+import { loadDesign, type ColumnReport } from "./loadDesign";
+
+/** The options of the table that skein scan takes. */
+const SCAN_OPTIONS: readonly OptionName[] = ["kmax", "model", "seed", "restarts", "tolerance", "max_iterations", "intercept"];
 
 export const SCAN_USAGE = `Usage: skein scan FILE --y COLUMN [--x COLUMN,COLUMN,...] --k-max N [options]
 
@@ -15,18 +20,13 @@ It suggests a number of components and says why others were not suggested.
 
   --y COLUMN          the response column (required)
   --x COLUMNS         predictor columns, separated by commas; default: every
-                      other column that holds mostly numbers
-  --sheet NAME        the worksheet of an .xlsx file (default: the first)
-  --k-max N           the largest number of components tried (required)
-  --seed S            seed for the random starts (default 1)
-  --model plain|joint plain: y given x per component; joint: each component
-                      also models where its x lie (default plain)
-  --restarts R        random starts per fit
+                      other column of numbers or categories (dates and
+                      identifier columns are left out, and the output says so)
+${optionHelp(SCAN_OPTIONS, 22, { kmax: "required" })}
   --cross-validate    also report a 5-fold cross-validated log-likelihood per row
-  --no-intercept      fit without an intercept
   --json              write one JSON object instead of a table
   --help              show this help
-
+${FILE_OPTIONS_HELP}
 Example: skein scan sales.csv --y revenue --x price,advertising --k-max 5
 `;
 
@@ -34,19 +34,13 @@ const SCAN_FLAGS: FlagKinds = {
   y: "value",
   x: "value",
   sheet: "value",
-  "k-max": "value",
-  seed: "value",
-  model: "value",
-  restarts: "value",
+  "header-row": "value",
+  ...optionFlags(SCAN_OPTIONS),
   "cross-validate": "switch",
-  "no-intercept": "switch",
   json: "switch",
   help: "switch",
   h: "switch",
 };
-
-/** Largest K the command accepts. */
-const MAX_COMPONENTS = 20;
 
 export interface ScanReportRow {
   k: number;
@@ -72,11 +66,16 @@ export interface ScanReport {
   intercept: boolean;
   model: MixtureModel;
   rows: ScanReportRow[];
+  /** Every column of the file: its kind and role. */
+  columns: ColumnReport[];
+  /** How the file was read: encoding, sheet, conversions, renamed headers, columns left out. */
+  notices: string[];
 }
 
 /** `skein scan`: returns the exit status; SkeinErrors propagate to main, which reports them. */
 export async function scanCommand(argv: readonly string[], io: { stdout: (s: string) => void }): Promise<number> {
-  const { positionals, values, switches } = parseArgs(argv, SCAN_FLAGS, "scan");
+  const parsed = parseArgs(argv, SCAN_FLAGS, "scan");
+  const { positionals, values, switches } = parsed;
   if (switches.has("help") || switches.has("h")) {
     io.stdout(SCAN_USAGE);
     return 0;
@@ -86,15 +85,14 @@ export async function scanCommand(argv: readonly string[], io: { stdout: (s: str
   if (y === undefined) throw new SkeinError("bad-input", "skein scan needs the response column, as in --y COLUMN");
   const kMaxText = values.get("k-max");
   if (kMaxText === undefined) throw new SkeinError("bad-input", "skein scan needs the largest number of components, as in --k-max 5");
-  const kMax = parseWholeNumber(kMaxText, "k-max", "scan", 1, MAX_COMPONENTS);
-  const seedText = values.get("seed");
-  const restartsText = values.get("restarts");
+  const kMax = readOption(parsed, "kmax", "scan") as number;
   const xText = values.get("x");
-  const model = parseModel(values.get("model"), "scan");
-  const intercept = !switches.has("no-intercept");
-  const { design, sheetName } = await loadDesign({
+  const model = readOption(parsed, "model", "scan") as MixtureModel;
+  const intercept = readOption(parsed, "intercept", "scan") as boolean;
+  const { design, sheetName, columns, notices } = await loadDesign({
     file: positionals[0],
     sheet: values.get("sheet"),
+    headerRow: parseHeaderRow(values.get("header-row"), "scan"),
     y,
     x: xText === undefined ? undefined : parseList(xText, "x", "scan"),
     intercept,
@@ -102,10 +100,12 @@ export async function scanCommand(argv: readonly string[], io: { stdout: (s: str
   const crossValidate = switches.has("cross-validate");
   const scan = scanComponents(design, {
     kMax,
-    seed: seedText === undefined ? 1 : parseWholeNumber(seedText, "seed", "scan", 0, 2 ** 32 - 1),
+    seed: readOption(parsed, "seed", "scan") as number,
     intercept,
     model,
-    restarts: restartsText === undefined ? undefined : parseWholeNumber(restartsText, "restarts", "scan", 0, 1000),
+    restarts: readGivenOption(parsed, "restarts", "scan") as number | undefined,
+    tolerance: readGivenOption(parsed, "tolerance", "scan") as number | undefined,
+    maxIterations: readGivenOption(parsed, "max_iterations", "scan") as number | undefined,
     crossValidate,
   });
   const report: ScanReport = {
@@ -126,13 +126,15 @@ export async function scanCommand(argv: readonly string[], io: { stdout: (s: str
       ...(crossValidate || !Number.isNaN(row.crossValidatedLogLikelihood) ? { crossValidatedLogLikelihood: row.crossValidatedLogLikelihood } : {}),
       flag: row.flag,
     })),
+    columns,
+    notices,
   };
   if (switches.has("json")) {
     io.stdout(JSON.stringify(report) + "\n");
     return 0;
   }
   const file = path.basename(positionals[0]);
-  io.stdout(formatScanTable(report, sheetName ? `${file}, sheet ${sheetName}` : file));
+  io.stdout(formatScanTable(report, sheetName ? `${file}, sheet ${sheetName}` : file) + formatNotices(report.notices));
   return 0;
 }
 

@@ -12,6 +12,9 @@ import { finishOnAllRows } from "./mixture/finishOnAllRows";
 import { finishExactComponents } from "./mixture/finishExactComponents";
 import { reportFit } from "./mixture/reportFit";
 
+export { checkRowsForComponents } from "./mixture/mixtureSettings";
+export { DISAGREEMENT_RELATIVE } from "./mixture/compareFits";
+
 /**
  * Starts on large inputs run on a seeded subsample of max(SUBSAMPLE_MIN_ROWS,
  * SUBSAMPLE_ROWS_PER_PARAMETER · k · q) rows, used only when the data has more than twice that

@@ -1,5 +1,6 @@
 import { SkeinError } from "./errors";
-import { fitMixture } from "./fitMixture";
+import { DISAGREEMENT_RELATIVE, fitMixture } from "./fitMixture";
+import { DEFAULT_SEED } from "./options";
 import { leastSquares } from "./leastSquares";
 import type { MixtureComponent, MixtureFit, MixtureOptions, RegressionData } from "./mixtureTypes";
 import type { ScanOptions, ScanResult, ScanRow } from "./trustTypes";
@@ -42,7 +43,7 @@ export const BIC_TIE = 6;
  * by the data. A warm-start certificate that did not shrink while the starts agree is not a
  * reason on its own: on noisy data the narrowest residual scale stops at the noise level.
  */
-export const STARTS_DISAGREE = 0.01;
+export const STARTS_DISAGREE = DISAGREEMENT_RELATIVE;
 
 /**
  * Below this many rows per coefficient per component the suggestion is also checked by
@@ -77,7 +78,7 @@ export const CROSS_VALIDATION_FOLDS = 5;
 export function scanComponents(data: RegressionData, options: ScanOptions): ScanResult {
   const kMax = options.kMax;
   if (!Number.isInteger(kMax) || kMax < 1) throw new SkeinError("bad-input", `The largest number of components (kMax) must be a whole number of at least 1, not ${kMax}.`);
-  const seed = options.seed ?? 1;
+  const seed = options.seed ?? DEFAULT_SEED;
   const intercept = options.intercept ?? true;
   const model = options.model ?? "plain";
   const q = intercept ? data.p + 1 : data.p;
@@ -89,7 +90,7 @@ export function scanComponents(data: RegressionData, options: ScanOptions): Scan
       // Not even q + 1 rows per component: no fit of this K can be trusted, and larger K less.
       break;
     }
-    const fitOptions: MixtureOptions = { k, seed, intercept, model, restarts: options.restarts, signal: options.signal };
+    const fitOptions: MixtureOptions = { k, seed, intercept, model, restarts: options.restarts, tolerance: options.tolerance, maxIterations: options.maxIterations, signal: options.signal };
     if (previousFit !== null) {
       const start = addComponentStart(data, previousFit);
       if (start !== null) fitOptions.previous = start;

@@ -11,6 +11,9 @@ export interface ScanOptions {
   intercept?: boolean;
   model?: MixtureModel;
   restarts?: number;
+  /** Passed to each fit (see MixtureOptions). */
+  tolerance?: number;
+  maxIterations?: number;
   /** Also compute a cross-validated log-likelihood per K (Smyth 2000); slower. */
   crossValidate?: boolean;
   signal?: CancelSignal;

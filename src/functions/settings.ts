@@ -6,6 +6,7 @@
  */
 import { SkeinError } from "../engine/errors";
 import type { MixtureModel } from "../engine/mixtureTypes";
+import { OPTIONS, optionSpec, readOptionValue, type OptionName, type OptionSpec, type OptionValue } from "../engine/options";
 
 export interface FunctionSettings {
   /** Seed of the fit's one random generator. */
@@ -20,14 +21,13 @@ export interface FunctionSettings {
   headers: boolean | "auto";
 }
 
-/** Defaults: seed 1 (the engine's own default), an intercept, the plain model. */
-export const DEFAULT_SETTINGS: Readonly<FunctionSettings> = { seed: 1, intercept: true, model: "plain", headers: "auto" };
-
-/** Largest seed accepted: the generator uses the seed's 32-bit integer part. */
-const MAX_SEED = 4294967295;
-/** More restarts than this only slow a worksheet down; the command line has no such cap. */
-const MAX_RESTARTS = 1000;
-const MAX_ITERATIONS_CAP = 100000;
+/** Defaults: the options table's seed, intercept and model; the engine's own restarts, tolerance and iterations. */
+export const DEFAULT_SETTINGS: Readonly<FunctionSettings> = {
+  seed: optionSpec("seed").default as number,
+  intercept: optionSpec("intercept").default as boolean,
+  model: optionSpec("model").default as MixtureModel,
+  headers: "auto",
+};
 
 type Apply = (settings: FunctionSettings, value: unknown, name: string) => void;
 
@@ -36,66 +36,37 @@ interface SettingRule {
   apply: Apply;
 }
 
-function yesNo(value: unknown, name: string, accepts: string): boolean {
-  if (typeof value === "boolean") return value;
-  const text = typeof value === "string" ? value.trim().toLowerCase() : value;
-  if (text === "yes" || text === "true" || text === 1) return true;
-  if (text === "no" || text === "false" || text === 0) return false;
-  throw badValue(name, accepts, value);
+/** Where each engine option goes in FunctionSettings (k and kmax are arguments, not settings). */
+const STORED_AS: Partial<Record<OptionName, keyof FunctionSettings>> = {
+  seed: "seed",
+  intercept: "intercept",
+  model: "model",
+  restarts: "restarts",
+  tolerance: "tolerance",
+  max_iterations: "maxIterations",
+};
+
+function ruleOf(spec: OptionSpec, field: keyof FunctionSettings): SettingRule {
+  return {
+    accepts: spec.accepts,
+    apply: (settings, value, name) => {
+      const read = readOptionValue(spec, value);
+      if (read === undefined) throw badValue(name, spec.accepts, value);
+      (settings as unknown as Record<string, OptionValue>)[field] = read;
+    },
+  };
 }
 
-function wholeNumber(value: unknown, name: string, accepts: string, low: number, high: number): number {
-  const number = toNumber(value);
-  if (number === undefined || !Number.isInteger(number) || number < low || number > high) throw badValue(name, accepts, value);
-  return number;
-}
-
-function toNumber(value: unknown): number | undefined {
-  if (typeof value === "number") return value;
-  if (typeof value === "string" && value.trim() !== "") {
-    const number = Number(value.trim());
-    return Number.isFinite(number) ? number : undefined;
-  }
-  return undefined;
-}
-
-/** The table of settings: name as the user types it, what it accepts, how it is stored. */
+/** The table of settings: the engine's options table, then headers (which shapes only the output). */
 const RULES: Record<string, SettingRule> = {
-  seed: {
-    accepts: `a whole number from 0 to ${MAX_SEED}`,
-    apply: (s, v, n) => (s.seed = wholeNumber(v, n, RULES.seed.accepts, 0, MAX_SEED)),
-  },
-  intercept: {
-    accepts: "yes or no",
-    apply: (s, v, n) => (s.intercept = yesNo(v, n, RULES.intercept.accepts)),
-  },
-  model: {
-    accepts: "plain (y given x in each component) or joint (each component also models x)",
-    apply: (s, v, n) => {
-      const text = typeof v === "string" ? v.trim().toLowerCase() : "";
-      if (text !== "plain" && text !== "joint") throw badValue(n, RULES.model.accepts, v);
-      s.model = text;
-    },
-  },
-  restarts: {
-    accepts: `a whole number from 0 to ${MAX_RESTARTS}`,
-    apply: (s, v, n) => (s.restarts = wholeNumber(v, n, RULES.restarts.accepts, 0, MAX_RESTARTS)),
-  },
-  tolerance: {
-    accepts: "a number above 0 and below 1, such as 1e-8",
-    apply: (s, v, n) => {
-      const number = toNumber(v);
-      if (number === undefined || !(number > 0 && number < 1)) throw badValue(n, RULES.tolerance.accepts, v);
-      s.tolerance = number;
-    },
-  },
-  max_iterations: {
-    accepts: `a whole number from 1 to ${MAX_ITERATIONS_CAP}`,
-    apply: (s, v, n) => (s.maxIterations = wholeNumber(v, n, RULES.max_iterations.accepts, 1, MAX_ITERATIONS_CAP)),
-  },
+  ...Object.fromEntries(OPTIONS.filter((spec) => STORED_AS[spec.name] !== undefined).map((spec) => [spec.name, ruleOf(spec, STORED_AS[spec.name]!)])),
   headers: {
     accepts: "yes or no",
-    apply: (s, v, n) => (s.headers = yesNo(v, n, RULES.headers.accepts)),
+    apply: (s, v, n) => {
+      const read = readOptionValue(optionSpec("intercept"), v);
+      if (read === undefined) throw badValue(n, "yes or no", v);
+      s.headers = read as boolean;
+    },
   },
 };
 

@@ -1,29 +1,25 @@
 /**
- * One fit per data version, shared by the worksheet functions.
+ * One fit per data version, shared by the worksheet functions (through the engine service).
  *
  * SKEIN.FIT, LABELS, MEMBERSHIP, CHECK and PREDICT on the same y and x ranges, k and settings
- * ask for the same key (a fingerprint of the cells, k and the fit settings), so they get the
- * same fit object, the same component numbering, and one engine fit between them (fitCache).
- * When a formula's data change, the new fit starts from the fit that formula showed last
- * (addressMemory, by the cell address Excel passes under @requiresAddress) and is renumbered
- * to match it. Excel's cancellation of a call (its inputs changed mid-fit) withdraws that
- * call from the shared fit, which stops when nobody waits for it any more.
+ * ask the engine service for the same data version (a fingerprint of the cells) and options,
+ * so they get the same fit object, the same component numbering, and one engine fit between
+ * them. When a formula's data change, the new fit starts from the fit that formula showed last
+ * (the service remembers it by the cell address Excel passes under @requiresAddress) and is
+ * renumbered to match it. Excel's cancellation of a call (its inputs changed mid-fit)
+ * withdraws that call from the shared fit, which stops when nobody waits for it any more.
  */
 import { buildDesign, type Design } from "../engine/design";
 import { SkeinError } from "../engine/errors";
+import { checkRowsForComponents } from "../engine/fitMixture";
+import { DEFAULT_KMAX, MAX_COMPONENTS } from "../engine/options";
 import type { MixtureFit } from "../engine/mixtureTypes";
 import type { ScanResult, SeparationReport } from "../engine/trustTypes";
-import { AddressMemory } from "./addressMemory";
-import { runFit, runScan } from "./engineRunner";
-import { FitCache, type Lease } from "./fitCache";
-import { hashCells } from "./hashCells";
+import { engineService } from "../service/engineService";
+import { hashCells } from "../service/hashCells";
+import type { Lease } from "../service/resultCache";
 import { rowsThroughLastData, type RowLayout } from "./spill";
 import { fitSettingsKey, parseSettings, type FunctionSettings } from "./settings";
-
-/** Largest K the functions accept (the command line's cap too). */
-export const MAX_COMPONENTS = 50;
-/** SCAN's kmax when none is given: enough for most data, and cheap. */
-export const DEFAULT_KMAX = 5;
 
 /** A fit and the data it was made from, as cached (the same object for every formula). */
 export interface SharedFit {
@@ -49,10 +45,6 @@ export interface Answer<T> {
 /** What a call needs of Excel's invocation object (absent in direct calls and tests). */
 export type Invocation = Pick<CustomFunctions.CancelableInvocation, "address" | "onCanceled">;
 
-export const fitCache = new FitCache<SharedFit>();
-export const scanCache = new FitCache<SharedScan>();
-export const addressMemory = new AddressMemory();
-
 /** `value` as a whole number from `low` to `high`, or `fallback` when omitted. */
 export function readWholeNumber(value: unknown, name: string, fallback: number, low: number, high: number): number {
   if (value === null || value === undefined || (typeof value === "string" && value.trim() === "")) return fallback;
@@ -63,19 +55,14 @@ export function readWholeNumber(value: unknown, name: string, fallback: number, 
   return number;
 }
 
-/**
- * Each component needs at least one more row than it has coefficients (issue 3's minimum
- * component size), so K components need K x (coefficients + 1) usable rows.
- */
+/** The engine's own row check (K x (coefficients + 1) rows), said with the rows skipped, before any work starts. */
 export function checkRowsForK(design: Design, k: number, intercept: boolean): void {
-  const coefficients = design.p + (intercept ? 1 : 0);
-  const needed = k * (coefficients + 1);
-  if (design.n < needed) {
-    const skipped = design.skipped.length > 0 ? ` (${design.skipped.length} row${design.skipped.length === 1 ? " was" : "s were"} skipped for blanks, text or errors)` : "";
-    throw new SkeinError(
-      "bad-input",
-      `k = ${k} needs at least ${needed} usable rows (each component needs one more row than its ${coefficients} coefficient${coefficients === 1 ? "" : "s"}), but there are ${design.n}${skipped}. Use a smaller k or add rows.`,
-    );
+  try {
+    checkRowsForComponents(design.n, design.p + (intercept ? 1 : 0), k);
+  } catch (error) {
+    if (!(error instanceof SkeinError) || design.skipped.length === 0) throw error;
+    const skipped = `${design.skipped.length} row${design.skipped.length === 1 ? " was" : "s were"} skipped for blanks, text or errors`;
+    throw new SkeinError(error.code, `${error.message} (${skipped}.)`);
   }
 }
 
@@ -100,56 +87,44 @@ function follow<T>(lease: Lease<T>, invocation: Invocation | undefined): Promise
 export async function sharedFit(y: unknown, x: unknown, kArgument: unknown, settingsArgument: unknown, invocation?: Invocation): Promise<Answer<SharedFit>> {
   const settings = parseSettings(settingsArgument);
   const k = readWholeNumber(kArgument, "k", 1, 1, MAX_COMPONENTS);
-  const key = `fit|${hashCells(y, x)}|${k}|${fitSettingsKey(settings)}`;
-  const address = invocation?.address;
-  const lease = fitCache.obtain(key, entryBytes(y, x, k), async (cancellation) => {
-    const design = buildDesign(y as unknown[][], x as unknown[][], { intercept: settings.intercept });
-    checkRowsForK(design, k, settings.intercept);
-    const previous = addressMemory.previousFor(address, { k, p: design.p, intercept: settings.intercept, model: settings.model });
-    const fit = await runFit(
-      {
-        kind: "fit",
-        data: { y: design.y, x: design.x, n: design.n, p: design.p },
-        options: {
-          k,
-          seed: settings.seed,
-          intercept: settings.intercept,
-          model: settings.model,
-          restarts: settings.restarts,
-          tolerance: settings.tolerance,
-          maxIterations: settings.maxIterations,
-        },
-        previous,
-      },
-      cancellation,
-    );
-    return { design, fit, layout: layoutOf(design, y as unknown[][], x as unknown[][]) };
+  const lease = engineService.fit({
+    version: `cells|${hashCells(y, x)}`,
+    options: {
+      k,
+      seed: settings.seed,
+      intercept: settings.intercept,
+      model: settings.model,
+      restarts: settings.restarts,
+      tolerance: settings.tolerance,
+      maxIterations: settings.maxIterations,
+    },
+    bytes: entryBytes(y, x, k),
+    viewer: invocation?.address,
+    build: () => {
+      const design = buildDesign(y as unknown[][], x as unknown[][], { intercept: settings.intercept });
+      checkRowsForK(design, k, settings.intercept);
+      return { design, layout: layoutOf(design, y as unknown[][], x as unknown[][]) } as { design: Design; layout: RowLayout; separation?: SeparationReport };
+    },
   });
-  const shared = await follow(lease, invocation);
-  addressMemory.remember(address, shared.fit);
-  return { shared, settings };
+  return { shared: await follow(lease, invocation), settings };
 }
 
 /** The shared K scan for these arguments. */
 export async function sharedScan(y: unknown, x: unknown, kMaxArgument: unknown, settingsArgument: unknown, invocation?: Invocation): Promise<Answer<SharedScan>> {
   const settings = parseSettings(settingsArgument);
   const requested = readWholeNumber(kMaxArgument, "kmax", 0, 1, MAX_COMPONENTS);
-  const key = `scan|${hashCells(y, x)}|${requested}|${fitSettingsKey(settings)}`;
-  const lease = scanCache.obtain(key, entryBytes(y, x, Math.max(requested, DEFAULT_KMAX)) * Math.max(requested, DEFAULT_KMAX), async (cancellation) => {
-    const design = buildDesign(y as unknown[][], x as unknown[][], { intercept: settings.intercept });
-    const coefficients = design.p + (settings.intercept ? 1 : 0);
-    // Without kmax: up to DEFAULT_KMAX, as far as the rows allow; with it, every K must fit.
-    const kMax = requested === 0 ? Math.max(1, Math.min(DEFAULT_KMAX, Math.floor(design.n / (coefficients + 1)))) : requested;
-    checkRowsForK(design, kMax, settings.intercept);
-    const scan = await runScan(
-      {
-        kind: "scan",
-        data: { y: design.y, x: design.x, n: design.n, p: design.p },
-        options: { kMax, seed: settings.seed, intercept: settings.intercept, model: settings.model, restarts: settings.restarts },
-      },
-      cancellation,
-    );
-    return { design, scan };
+  const lease = engineService.scan({
+    version: `cells|${hashCells(y, x)}`,
+    key: `${requested}|${fitSettingsKey(settings)}`,
+    bytes: entryBytes(y, x, Math.max(requested, DEFAULT_KMAX)) * Math.max(requested, DEFAULT_KMAX),
+    prepare: () => {
+      const design = buildDesign(y as unknown[][], x as unknown[][], { intercept: settings.intercept });
+      const coefficients = design.p + (settings.intercept ? 1 : 0);
+      // Without kmax: up to DEFAULT_KMAX, as far as the rows allow; with it, every K must fit.
+      const kMax = requested === 0 ? Math.max(1, Math.min(DEFAULT_KMAX, Math.floor(design.n / (coefficients + 1)))) : requested;
+      checkRowsForK(design, kMax, settings.intercept);
+      return { design, options: { kMax, seed: settings.seed, intercept: settings.intercept, model: settings.model, restarts: settings.restarts, tolerance: settings.tolerance, maxIterations: settings.maxIterations } };
+    },
   });
   return { shared: await follow(lease, invocation), settings };
 }

@@ -4,7 +4,7 @@
  */
 import { checkSeparation } from "../engine/checkSeparation";
 import { SkeinError } from "../engine/errors";
-import { predictRows } from "../engine/predictRows";
+import { engineService } from "../service/engineService";
 import type { FunctionSettings } from "./settings";
 import type { SharedFit, SharedScan } from "./sharedFit";
 import { cell, perInputRow, rowsThroughLastData, showsHeader, table, type Cell, type RowLayout } from "./spill";
@@ -78,10 +78,11 @@ export function checkTable(shared: SharedFit, settings: FunctionSettings): Cell[
  * any cell that is not a number (blank, text, logical, error) gets "". A first row that is all
  * text is a header row.
  */
-export function predictionTable({ design, fit }: SharedFit, newX: unknown, settings: FunctionSettings): Cell[][] {
+export async function predictionTable({ design, fit }: SharedFit, newX: unknown, settings: FunctionSettings): Promise<Cell[][]> {
   const rows = readNewRows(newX, design.p);
   const k = fit.k;
-  const prediction = predictRows(fit, rows.x, rows.n);
+  // Through the engine service: many new rows go to the engine worker like a large fit.
+  const prediction = await engineService.predict(fit, rows.x, rows.n);
   const output = perInputRow(rows, k + 1, (i, out) => {
     for (let c = 0; c < k; c++) out[c] = cell(prediction.perComponent[i * k + c]);
     out[k] = cell(prediction.weighted[i]);

@@ -1,4 +1,6 @@
 import { SkeinError } from "../engine/errors";
+import { tableFromGrid, type DataTable, type HeaderChoice } from "./dataTable";
+import { readNumberText } from "./numberText";
 
 /**
  * Plain decimal numbers: optional sign, digits with an optional point (or a
@@ -7,41 +9,67 @@ import { SkeinError } from "../engine/errors";
  * that merely contains digits stays text and its row is reported.
  */
 const DECIMAL_POINT_NUMBER = /^[+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?$/;
-/** The same with a decimal comma, the convention of files delimited by semicolons. */
+/** The same with a decimal comma, the convention of files delimited by semicolons or tabs. */
 const DECIMAL_COMMA_NUMBER = /^[+-]?(?:\d+,?\d*|,\d+)(?:[eE][+-]?\d+)?$/;
 
 const QUOTE = 34; // "
 const CR = 13;
 const LF = 10;
 
+/** CSV text split into fields, before any cell is read as a number. */
+export interface CsvFields {
+  /** Fields as text; null for an empty (or all-whitespace) field. */
+  rows: (string | null)[][];
+  /** For each row, the 1-based line of the text it starts on. */
+  lines: number[];
+  /** The delimiter found on the first line: ",", ";" or "\t". */
+  delimiter: string;
+}
+
 /**
  * Parses CSV text as RFC 4180 describes it (quoted fields, "" for a quote
  * inside them, CRLF or LF line ends), leniently: a quote inside an unquoted
  * field is kept as a character. A byte-order mark is dropped. The delimiter
  * is the one of comma, semicolon or tab that occurs most often in the first
- * line (comma on a tie); with a semicolon, numbers may use a decimal comma.
+ * line (comma on a tie); with a semicolon or a tab, numbers may use a decimal
+ * comma (see decimalMarkOf).
  *
  * Cells that are plain decimal numbers become numbers; empty cells become
  * null; other text stays text. Empty lines, and rows of empty cells at the
  * end of the file (spreadsheet exports often leave some), are dropped.
+ * (The column-type rule in columnTypes.ts reads the other number styles:
+ * percentages, thousands separators, currency.)
  */
 export function parseCsv(text: string): unknown[][] {
+  const fields = splitCsv(text);
+  const comma = decimalMarkOf(fields) === ",";
+  const numberPattern = comma ? DECIMAL_COMMA_NUMBER : DECIMAL_POINT_NUMBER;
+  return fields.rows.map((row) =>
+    row.map((raw) => {
+      if (raw === null) return null;
+      const trimmed = raw.trim();
+      if (!numberPattern.test(trimmed)) return raw;
+      // "1e400" matches the pattern but overflows: it stays text, reported as such, never Infinity.
+      const value = Number(comma ? trimmed.replace(",", ".") : trimmed);
+      return Number.isFinite(value) ? value : raw;
+    }),
+  );
+}
+
+/** The fields of CSV text (see parseCsv for the dialect), each row with the line it starts on. */
+export function splitCsv(text: string): CsvFields {
   if (text.charCodeAt(0) === 0xfeff) text = text.slice(1);
   const delimiter = detectDelimiter(text);
   const delimiterCode = delimiter.charCodeAt(0);
-  const numberPattern = delimiter === ";" ? DECIMAL_COMMA_NUMBER : DECIMAL_POINT_NUMBER;
-  const toCell = (raw: string): unknown => {
-    const trimmed = raw.trim();
-    if (trimmed === "") return null;
-    if (numberPattern.test(trimmed)) return Number(delimiter === ";" ? trimmed.replace(",", ".") : trimmed);
-    return raw;
-  };
+  const toCell = (raw: string): string | null => (raw.trim() === "" ? null : raw);
 
-  const rows: unknown[][] = [];
-  let row: unknown[] = [];
+  const rows: (string | null)[][] = [];
+  const lines: number[] = [];
+  let row: (string | null)[] = [];
   let i = 0;
   const length = text.length;
   let line = 1;
+  let rowLine = 1;
   while (i < length) {
     let raw: string;
     if (text.charCodeAt(i) === QUOTE) {
@@ -85,17 +113,21 @@ export function parseCsv(text: string): unknown[][] {
     // Line end: CRLF, LF or a lone CR.
     i += code === CR && text.charCodeAt(i + 1) === LF ? 2 : 1;
     line++;
-    pushRow(rows, row);
+    pushRow(rows, lines, row, rowLine);
     row = [];
     // Empty lines hold no fields at all: skip them.
     while (i < length && (text.charCodeAt(i) === LF || text.charCodeAt(i) === CR)) {
-      if (text.charCodeAt(i) === LF) line++;
+      if (text.charCodeAt(i) === LF || text.charCodeAt(i + 1) !== LF) line++;
       i++;
     }
+    rowLine = line;
   }
-  if (row.length > 0) pushRow(rows, row);
-  while (rows.length > 0 && rows[rows.length - 1].every((cell) => cell === null)) rows.pop();
-  return rows;
+  if (row.length > 0) pushRow(rows, lines, row, rowLine);
+  while (rows.length > 0 && rows[rows.length - 1].every((cell) => cell === null)) {
+    rows.pop();
+    lines.pop();
+  }
+  return { rows, lines, delimiter };
 }
 
 function isFieldEnd(code: number, delimiterCode: number): boolean {
@@ -103,9 +135,10 @@ function isFieldEnd(code: number, delimiterCode: number): boolean {
 }
 
 /** Adds a row unless it is a line of nothing but whitespace. */
-function pushRow(rows: unknown[][], row: unknown[]): void {
+function pushRow(rows: (string | null)[][], lines: number[], row: (string | null)[], line: number): void {
   if (row.length === 1 && row[0] === null) return;
   rows.push(row);
+  lines.push(line);
 }
 
 /** The commonest of comma, semicolon and tab outside quotes on the first line; comma on a tie. */
@@ -126,4 +159,44 @@ function detectDelimiter(text: string): string {
   if (semicolons > commas && semicolons >= tabs) return ";";
   if (tabs > commas && tabs > semicolons) return "\t";
   return ",";
+}
+
+/**
+ * The decimal mark of a file separated by semicolons or tabs: a comma unless
+ * more cells read only with a decimal point ("1.5") than only with a decimal
+ * comma ("1,5"). Cells that read either way ("1.234") are no evidence.
+ * Comma-separated files always use a decimal point.
+ */
+export function decimalMarkOf(fields: CsvFields): "." | "," {
+  if (fields.delimiter === ",") return ".";
+  let onlyPoint = 0;
+  let onlyComma = 0;
+  for (const row of fields.rows) {
+    for (const cell of row) {
+      if (cell === null) continue;
+      const point = readNumberText(cell, ".") !== undefined;
+      const comma = readNumberText(cell, ",") !== undefined;
+      if (point && !comma) onlyPoint++;
+      else if (comma && !point) onlyComma++;
+    }
+  }
+  return onlyPoint > onlyComma ? "." : ",";
+}
+
+const DELIMITER_NAMES: Record<string, string> = { ",": "commas", ";": "semicolons", "\t": "tabs" };
+
+/** CSV text as a DataTable: fields split, the decimal mark chosen, the column rule applied. */
+export function csvTable(text: string, where: string, choice: HeaderChoice = {}): DataTable {
+  const fields = splitCsv(text);
+  if (fields.rows.length === 0) throw new SkeinError("bad-input", `${where} holds no data; it needs a header row and rows of data.`);
+  const decimal = decimalMarkOf(fields);
+  const table = tableFromGrid(
+    { rows: fields.rows, rowNumbers: fields.lines, rowWord: "line", strictWidth: true, rule: { decimalComma: decimal === "," }, where },
+    choice,
+  );
+  if (fields.delimiter !== ",") {
+    const mark = decimal === "," ? "a comma in a number is its decimal mark (1,5 is 1.5)" : "numbers use a decimal point";
+    table.notices.unshift(`Fields are separated by ${DELIMITER_NAMES[fields.delimiter]}; ${mark}.`);
+  }
+  return table;
 }

@@ -2,11 +2,12 @@ import ExcelJS from "exceljs";
 import type { Design } from "../engine/design";
 import type { MixtureFit } from "../engine/mixtureTypes";
 import type { StandardErrorReport } from "../engine/trustTypes";
+import { WORKBOOK_FILLS } from "../report/componentStyle";
 
-/** Skein's header colours (the icon's teal and plum) and the text on them. */
-const RESULT_FILL = "FF1B7F79";
-const DATA_FILL = "FF6B3FA0";
-const HEADER_TEXT = "FFFFFFFF";
+/** Header colours from the shared style module: Skein's columns, the input's columns, the text on both. */
+const RESULT_FILL = WORKBOOK_FILLS.result;
+const DATA_FILL = WORKBOOK_FILLS.data;
+const HEADER_TEXT = WORKBOOK_FILLS.headerText;
 
 export interface ResultsWorkbookInput {
   /** The table as read: header row first, then the data rows in input order. */

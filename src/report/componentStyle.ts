@@ -1,69 +1,173 @@
 /**
- * How components are drawn everywhere Skein draws them (plots, the task pane):
- * a colour and a marker shape per component, so components stay apart in
- * grey-scale print and for readers who do not see colour differences.
+ * Skein's one style module: how components are drawn everywhere Skein draws
+ * them (the demo's SVG plots, the task pane's scatter, chart and tables, the
+ * fills of result workbooks) and the pane's interface colours. Each component
+ * gets a colour, a marker shape and a line dash, so components stay apart in
+ * greyscale print and for readers who do not see some colour differences.
  *
- * The first three colours are the icon's; the fourth, a slate blue, sits apart
- * from them in hue and lightness. Colours and shapes follow the task pane's
- * (taskpane/markers.ts) in the same order, so component 2 looks the same in
- * the pane and in the demo's plots. Beyond four components the colours repeat
- * but the shapes do not (six shapes).
+ * COMPONENT COLOURS were derived here by search (scripts/choosePalette.ts,
+ * seeded, prints these values): simulated annealing over 8-bit sRGB,
+ * maximising the smallest pairwise colour difference ΔE_OK (Euclidean
+ * distance in OKLab; Ottosson 2020) over normal vision and simulated
+ * protanopia, deuteranopia and tritanopia (Machado, Oliveira & Fernandes
+ * 2009, severity 1, src/report/colourVision.ts), with normal vision asked for
+ * 1.4 times that difference; every colour has a 3:1 contrast with the plot's
+ * paper (WCAG 2.1, 1.4.11), OKLCh chroma ≥ 0.08 and CIE L* ≥ 30; the first
+ * four differ by ≥ 9 in CIE L* (greyscale print). The order makes the first
+ * three, four, five colours as far apart as the set allows, darker first on
+ * ties; colours 7 to 10 were added one at a time, each farthest from those
+ * before it. What the search printed (smallest ΔE_OK; normal / protanopia /
+ * deuteranopia / tritanopia):
+ *
+ *   first 3   0.296 / 0.202 / 0.276 / 0.238   smallest L* step 9.0
+ *   first 4   0.213 / 0.156 / 0.151 / 0.160   smallest L* step 9.0
+ *   first 6   0.211 / 0.152 / 0.151 / 0.151
+ *   first 10  0.113 / 0.085 / 0.081 / 0.083
+ *
+ *   1 #8a1c04 brick      L* 30.0    6 #2198ef sky        L* 60.8
+ *   2 #023eff ultramarine L* 39.0   7 #960cb7 violet     L* 38.1
+ *   3 #fd4c91 rose       L* 60.0    8 #b3486a raspberry  L* 46.0
+ *   4 #897700 olive      L* 50.1    9 #7b6cc0 lavender   L* 50.4
+ *   5 #2b4773 navy       L* 30.1   10 #799f00 moss       L* 60.7
+ *
+ * (A ΔE_OK of 0.02 is about one just-noticeable difference.) Beyond ten
+ * components the colours repeat with a shifted shape and dash, so every pair
+ * among the first hundred differs in colour or shape.
+ *
+ * MARKER SHAPES and LINE DASHES are this project's own: ten hole-free
+ * silhouettes (hexagon first) of about equal ink, and ten dash patterns
+ * (long dash first). test/componentStyle.test.ts checks that the shapes differ
+ * in outline and the dashes in rhythm.
+ *
+ * INTERFACE COLOURS (alert, caution, accent) are placed in OKLCh at hues chosen
+ * here (alert 18°, caution 68°, accent 220°), with lightness found by
+ * bisection so that text on them meets WCAG 2.1 contrast (7:1 for text on a
+ * wash, 4.5:1 for white on the accent); the same script prints them.
  */
-export const COMPONENT_COLOURS = ["#1b7f79", "#c7761a", "#6b3fa0", "#3b5b92"] as const;
 
-export type MarkerShape = "circle" | "triangle" | "square" | "diamond" | "cross" | "star";
+/** Component colours in component order (see above for how they were found). */
+export const COMPONENT_COLOURS = ["#8a1c04", "#023eff", "#fd4c91", "#897700", "#2b4773", "#2198ef", "#960cb7", "#b3486a", "#7b6cc0", "#799f00"] as const;
 
-export const MARKER_SHAPES: readonly MarkerShape[] = ["circle", "triangle", "square", "diamond", "cross", "star"];
+export type MarkerShape = "hexagon" | "dart" | "saltire" | "dome" | "kite" | "plus" | "hourglass" | "sparkle" | "slab" | "pennant";
 
-/** Dash patterns of the fitted lines, so lines too differ by more than colour. */
-const LINE_DASHES = ["", "8 4", "2 3", "10 3 2 3", "4 4", "1 5"];
+export const MARKER_SHAPES: readonly MarkerShape[] = ["hexagon", "dart", "saltire", "dome", "kite", "plus", "hourglass", "sparkle", "slab", "pennant"];
+
+/** SVG stroke-dasharray of each component's fitted line ("" is unbroken). */
+export const LINE_DASHES: readonly string[] = ["12 4", "", "2 3 8 3", "7 2 1.5 2 1.5 2", "1.5 3", "14 3 3 3 3 3", "4 4", "18 3 6 3", "2 6", "9 2 9 7"];
 
 export interface ComponentStyle {
   colour: string;
   shape: MarkerShape;
-  /** SVG stroke-dasharray of the component's fitted line ("" for solid). */
+  /** SVG stroke-dasharray of the component's fitted line ("" for unbroken). */
   dash: string;
 }
 
-/** The style of 0-based component `index`. */
+/** The style of 0-based component `index`; past ten, shapes and dashes shift by the round. */
 export function componentStyle(index: number): ComponentStyle {
+  const n = COMPONENT_COLOURS.length;
+  const round = Math.floor(index / n);
   return {
-    colour: COMPONENT_COLOURS[index % COMPONENT_COLOURS.length],
-    shape: MARKER_SHAPES[index % MARKER_SHAPES.length],
-    dash: LINE_DASHES[index % LINE_DASHES.length],
+    colour: COMPONENT_COLOURS[index % n],
+    shape: MARKER_SHAPES[(index + round) % MARKER_SHAPES.length],
+    dash: LINE_DASHES[(index + 3 * round) % LINE_DASHES.length],
   };
 }
 
+/** Points of a regular polygon of `corners` corners on a circle of `radius`, the first at `startDegrees` (0 = right, 90 = down). */
+function regular(corners: number, radius: number, startDegrees: number): [number, number][] {
+  return Array.from({ length: corners }, (_, i) => {
+    const angle = ((startDegrees + (360 * i) / corners) * Math.PI) / 180;
+    return [radius * Math.cos(angle), radius * Math.sin(angle)] as [number, number];
+  });
+}
+
 /**
- * SVG path data of a marker of the given shape centred on (0, 0), fitting in
- * a box of side 2·r. Shapes have about equal area so none looks heavier.
+ * Each shape as one closed outline in a box of about ±1.3 around (0, 0), y
+ * downwards, scaled so the shapes carry about the same ink (areas between
+ * 2.0 and 3.1 square units; a test measures them).
+ */
+export const MARKER_OUTLINES: Record<MarkerShape, readonly [number, number][]> = {
+  hexagon: regular(6, 1, -90),
+  dart: [[0, 1.3], [-1.3, -1.1], [0, -0.45], [1.3, -1.1]],
+  saltire: [[-0.75, -1.1], [0, -0.35], [0.75, -1.1], [1.1, -0.75], [0.35, 0], [1.1, 0.75], [0.75, 1.1], [0, 0.35], [-0.75, 1.1], [-1.1, 0.75], [-0.35, 0], [-1.1, -0.75]],
+  dome: regular(24, 1.3, 180).filter(([, y]) => y <= 1e-9).map(([x, y]) => [x, y + 0.55] as [number, number]),
+  kite: [[0, -1.45], [0.9, -0.55], [0, 1.35], [-0.9, -0.55]],
+  plus: [[-0.38, -1.15], [0.38, -1.15], [0.38, -0.38], [1.15, -0.38], [1.15, 0.38], [0.38, 0.38], [0.38, 1.15], [-0.38, 1.15], [-0.38, 0.38], [-1.15, 0.38], [-1.15, -0.38], [-0.38, -0.38]],
+  hourglass: [[-0.95, -1.15], [0.95, -1.15], [0.15, 0], [0.95, 1.15], [-0.95, 1.15], [-0.15, 0]],
+  sparkle: regular(8, 1, -90).map(([x, y], i) => (i % 2 === 0 ? [x * 1.45, y * 1.45] : [x * 0.5, y * 0.5]) as [number, number]),
+  slab: [[-0.5, -1.3], [0.5, -1.3], [0.5, 1.3], [-0.5, 1.3]],
+  pennant: [[-0.85, -1.1], [0.85, -1.1], [0.85, 1.15], [0, 0.2], [-0.85, 1.15]],
+};
+
+/**
+ * SVG path data of a marker of the given shape centred on (0, 0), about 2·r
+ * across (r is the radius the outlines' unit stands for).
  */
 export function markerPath(shape: MarkerShape, r: number): string {
-  const f = (v: number): string => (Math.round(v * 100) / 100).toString();
-  switch (shape) {
-    case "circle":
-      return `M${f(-r)},0A${f(r)},${f(r)} 0 1,0 ${f(r)},0A${f(r)},${f(r)} 0 1,0 ${f(-r)},0Z`;
-    case "square": {
-      const s = r * 0.85;
-      return `M${f(-s)},${f(-s)}H${f(s)}V${f(s)}H${f(-s)}Z`;
-    }
-    case "triangle":
-      return `M0,${f(-r * 1.1)}L${f(r)},${f(r * 0.7)}H${f(-r)}Z`;
-    case "star": {
-      // Five points: outer and inner radii alternate every 36 degrees, first point up.
-      const corners: string[] = [];
-      for (let i = 0; i < 10; i++) {
-        const radius = i % 2 === 0 ? r * 1.3 : r * 0.55;
-        const angle = -Math.PI / 2 + (i * Math.PI) / 5;
-        corners.push(`${f(radius * Math.cos(angle))},${f(radius * Math.sin(angle))}`);
-      }
-      return `M${corners.join("L")}Z`;
-    }
-    case "diamond":
-      return `M0,${f(-r * 1.15)}L${f(r * 0.9)},0L0,${f(r * 1.15)}L${f(-r * 0.9)},0Z`;
-    case "cross": {
-      const a = r * 0.35;
-      return `M${f(-a)},${f(-r)}H${f(a)}V${f(-a)}H${f(r)}V${f(a)}H${f(a)}V${f(r)}H${f(-a)}V${f(a)}H${f(-r)}V${f(-a)}H${f(-a)}Z`;
-    }
-  }
+  const f = (v: number): string => (Math.round(v * r * 100) / 100).toString();
+  return `M${MARKER_OUTLINES[shape].map(([x, y]) => `${f(x)},${f(y)}`).join("L")}Z`;
+}
+
+/**
+ * Neutral colours of the plots and the pane: text (12:1 on paper), secondary
+ * text (4.5:1 on white), paper and cards, rules and grid lines, plot frames,
+ * control edges (3:1 on white, WCAG 2.1 1.4.11) and header shading.
+ */
+export const NEUTRALS = {
+  ink: "#1f2a2e",
+  muted: "#4c5a5e",
+  paper: "#fdfcf9",
+  card: "#ffffff",
+  line: "#d9d4c9",
+  grid: "#e4e1da",
+  frame: "#9a968c",
+  control: "#858b89",
+  shade: "#eeece6",
+} as const;
+
+/** Interface colours derived by scripts/choosePalette.ts (see the module comment). */
+export const INTERFACE_COLOURS = {
+  accent: "#0081a0",
+  accentInk: "#006179",
+  accentWash: "#e2f8ff",
+  alertEdge: "#c03a4a",
+  alertInk: "#8c333b",
+  alertWash: "#ffeded",
+  cautionEdge: "#d78c29",
+  cautionInk: "#7e4300",
+  cautionWash: "#fff1e2",
+} as const;
+
+/** The two series of the chart of BIC and ICL against K: colour, marker and dash of each. */
+export const CRITERION_STYLES: Record<"bic" | "icl", ComponentStyle> = {
+  bic: { colour: INTERFACE_COLOURS.accentInk, shape: "hexagon", dash: "" },
+  icl: { colour: INTERFACE_COLOURS.cautionInk, shape: "kite", dash: "7 3" },
+};
+
+/** Colours of the header cells of result workbooks (ARGB, as the workbook writer takes them). */
+export const WORKBOOK_FILLS = {
+  /** Header cells of columns Skein added (component, fitted value, memberships) and of the Components sheet. */
+  result: argb(INTERFACE_COLOURS.accentInk),
+  /** Header cells of the columns read from the input. */
+  data: argb(NEUTRALS.muted),
+  headerText: "FFFFFFFF",
+} as const;
+
+function argb(hex: string): string {
+  return `FF${hex.slice(1).toUpperCase()}`;
+}
+
+function kebab(name: string): string {
+  return name.replace(/[A-Z]/g, (letter) => `-${letter.toLowerCase()}`);
+}
+
+/**
+ * The colours as CSS custom properties on :root (--ink, --accent-ink,
+ * --alert-wash, --component-1, …): the pane puts this in front of its style
+ * sheet, so taskpane.css names colours only through these variables.
+ */
+export function cssColourVariables(): string {
+  const entries = [...Object.entries(NEUTRALS), ...Object.entries(INTERFACE_COLOURS)].map(([name, hex]) => `--${kebab(name)}: ${hex};`);
+  COMPONENT_COLOURS.forEach((hex, i) => entries.push(`--component-${i + 1}: ${hex};`));
+  return `:root { ${entries.join(" ")} }\n`;
 }

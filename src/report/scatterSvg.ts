@@ -3,7 +3,7 @@
  * line per component and a legend, as an SVG document in a string. No DOM and
  * no Node: the command line writes it to a file, the task pane puts it in the page.
  */
-import { componentStyle, markerPath } from "./componentStyle";
+import { NEUTRALS, componentStyle, markerPath } from "./componentStyle";
 
 export interface ScatterLine {
   /** 0-based component the line belongs to. */
@@ -32,8 +32,8 @@ export interface ScatterSpec {
 }
 
 const FONT = "font-family=\"system-ui, -apple-system, 'Segoe UI', sans-serif\"";
-const INK = "#2b2b2b";
-const GRID = "#e4e1da";
+const INK = NEUTRALS.ink;
+const GRID = NEUTRALS.grid;
 const MARKER_RADIUS = 4;
 const TICK_TARGET = 6;
 
@@ -125,14 +125,45 @@ function clipSegment(line: ScatterLine, xLow: number, xHigh: number, yLow: numbe
   return { group: line.group, x0: line.x0 + t0 * dx, y0: line.y0 + t0 * dy, x1: line.x0 + t1 * dx, y1: line.y0 + t1 * dy };
 }
 
-/** The plot as a standalone SVG document. */
+/** Below this width (px) the legend goes under the plot instead of beside it. */
+export const NARROW_PLOT = 480;
+
+/** Splits text into lines of at most `maxWidth` px, estimating a character at 0.56 of the font size. */
+function wrapLines(text: string, maxWidth: number, fontSize: number): string[] {
+  const perLine = Math.max(8, Math.floor(maxWidth / (0.56 * fontSize)));
+  const lines: string[] = [];
+  let line = "";
+  for (const word of text.split(/\s+/)) {
+    if (line !== "" && line.length + 1 + word.length > perLine) {
+      lines.push(line);
+      line = word;
+    } else {
+      line = line === "" ? word : `${line} ${word}`;
+    }
+  }
+  if (line !== "") lines.push(line);
+  return lines;
+}
+
+/**
+ * The plot as a standalone SVG document. Narrower than NARROW_PLOT (a task
+ * pane), the legend moves under the plot and the drawing grows by its height,
+ * and the title and subtitle wrap to the width.
+ */
 export function scatterSvg(spec: ScatterSpec): string {
   const width = spec.width ?? 720;
-  const height = spec.height ?? 480;
   const groups = spec.groupNames.length;
-  const legendWidth = 190;
-  const subtitle = spec.subtitle ?? [];
-  const margin = { left: 72, right: legendWidth + 24, top: 44 + 17 * subtitle.length, bottom: 56 };
+  const narrow = width < NARROW_PLOT;
+  const legendWidth = narrow ? 0 : 190;
+  const legendBelow = narrow ? 26 + 22 * groups : 0;
+  const height = (spec.height ?? 480) + legendBelow;
+  const titleSize = narrow ? 15 : 17;
+  const textLeft = narrow ? 10 : 72;
+  const textWidth = width - textLeft - 10;
+  const title = wrapLines(spec.title, textWidth, titleSize);
+  const subtitle = (spec.subtitle ?? []).flatMap((line) => wrapLines(line, textWidth, 12));
+  const titleHeight = 26 + (title.length - 1) * (titleSize + 3);
+  const margin = { left: narrow ? 58 : 72, right: narrow ? 14 : legendWidth + 24, top: titleHeight + 18 + 17 * subtitle.length, bottom: 56 + legendBelow };
   const plotWidth = width - margin.left - margin.right;
   const plotHeight = height - margin.top - margin.bottom;
 
@@ -154,10 +185,12 @@ export function scatterSvg(spec: ScatterSpec): string {
   }
   out.push(`<clipPath id="skein-plot-area"><rect x="${margin.left}" y="${margin.top}" width="${plotWidth}" height="${plotHeight}"/></clipPath>`);
   out.push("</defs>");
-  out.push(`<rect width="${width}" height="${height}" fill="#fdfcf9"/>`);
-  out.push(`<text x="${margin.left}" y="26" ${FONT} font-size="17" font-weight="600" fill="${INK}">${escapeXml(spec.title)}</text>`);
+  out.push(`<rect width="${width}" height="${height}" fill="${NEUTRALS.paper}"/>`);
+  title.forEach((line, i) => {
+    out.push(`<text class="title" x="${textLeft}" y="${26 + i * (titleSize + 3)}" ${FONT} font-size="${titleSize}" font-weight="600" fill="${INK}">${escapeXml(line)}</text>`);
+  });
   subtitle.forEach((line, i) => {
-    out.push(`<text class="subtitle" x="${margin.left}" y="${46 + 17 * i}" ${FONT} font-size="12" fill="#5a5a5a">${escapeXml(line)}</text>`);
+    out.push(`<text class="subtitle" x="${textLeft}" y="${titleHeight + 20 + 17 * i}" ${FONT} font-size="12" fill="${NEUTRALS.muted}">${escapeXml(line)}</text>`);
   });
 
   // Grid and tick labels.
@@ -172,8 +205,8 @@ export function scatterSvg(spec: ScatterSpec): string {
     out.push(`<line x1="${margin.left}" y1="${y}" x2="${margin.left + plotWidth}" y2="${y}" stroke="${GRID}"/>`);
     out.push(`<text x="${margin.left - 6}" y="${y}" dy="0.32em" text-anchor="end">${tickLabel(t)}</text>`);
   }
-  out.push(`<rect x="${margin.left}" y="${margin.top}" width="${plotWidth}" height="${plotHeight}" fill="none" stroke="#9a968c"/>`);
-  out.push(`<text class="x-label" x="${px(margin.left + plotWidth / 2)}" y="${height - 14}" text-anchor="middle" font-size="13">${escapeXml(spec.xLabel)}</text>`);
+  out.push(`<rect x="${margin.left}" y="${margin.top}" width="${plotWidth}" height="${plotHeight}" fill="none" stroke="${NEUTRALS.frame}"/>`);
+  out.push(`<text class="x-label" x="${px(margin.left + plotWidth / 2)}" y="${margin.top + plotHeight + 42}" text-anchor="middle" font-size="13">${escapeXml(spec.xLabel)}</text>`);
   out.push(`<text class="y-label" transform="translate(18,${px(margin.top + plotHeight / 2)}) rotate(-90)" text-anchor="middle" font-size="13">${escapeXml(spec.yLabel)}</text>`);
   out.push("</g>");
 
@@ -200,12 +233,15 @@ export function scatterSvg(spec: ScatterSpec): string {
   }
   out.push("</g>");
   // Legend: marker, line sample and name per component.
-  const legendX = width - legendWidth - 8;
+  // Beside the plot, or under it (below the x-axis label) in a narrow plot.
+  const legendX = narrow ? textLeft : width - legendWidth - 8;
+  const legendTop = narrow ? margin.top + plotHeight + 60 : margin.top + 4;
+  const legendStep = narrow ? 22 : 24;
   out.push(`<g class="legend" ${FONT} font-size="12" fill="${INK}">`);
-  out.push(`<text x="${legendX}" y="${margin.top + 4}" font-weight="600">Components</text>`);
+  out.push(`<text x="${legendX}" y="${legendTop}" font-weight="600">Components</text>`);
   for (let g = 0; g < groups; g++) {
     const style = componentStyle(g);
-    const y = margin.top + 26 + g * 24;
+    const y = legendTop + (narrow ? 18 : 22) + g * legendStep;
     const dash = style.dash ? ` stroke-dasharray="${style.dash}"` : "";
     out.push(`<line x1="${legendX}" y1="${y}" x2="${legendX + 28}" y2="${y}" stroke="${style.colour}" stroke-width="2.2"${dash}/>`);
     out.push(`<use xlink:href="#skein-marker-${g}" href="#skein-marker-${g}" x="${legendX + 14}" y="${y}"/>`);

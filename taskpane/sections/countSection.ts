@@ -1,11 +1,10 @@
 import { drawBicChart } from "../bicChart";
 import { element, section } from "../dom";
 import { formatNumber } from "../format";
+import type { MixtureModel } from "../../src/engine/mixtureTypes";
+import { optionControl } from "../optionControls";
 import type { Pane } from "../pane";
 import type { PaneState } from "../paneState";
-
-/** Largest K offered: beyond this a scan gets slow and BIC rarely has data enough to support it. */
-export const K_MAX_LIMIT = 10;
 
 /**
  * How many components: the scan over K = 1..kMax with progress and cancel, the
@@ -16,29 +15,18 @@ export function mountCountSection(parent: HTMLElement, pane: Pane): { update(sta
   const { root, body } = section("count", "How many components");
   parent.appendChild(root);
   body.appendChild(element("p", { class: "hint" }, "Fit 1, 2, … components and compare them. Lower BIC and ICL are better; ICL also prefers components that are clearly apart."));
+  // The controls come from the engine's options table: same ranges and defaults as the SKEIN settings and the command line.
   const settings = element("div", { class: "inline settings" });
-  const kField = element("div", { class: "field small" });
-  kField.appendChild(element("label", { for: "k-max" }, "Most components to try"));
-  const kMaxInput = element("input", { id: "k-max", type: "number", min: "1", max: String(K_MAX_LIMIT), step: "1", value: "5" });
-  kField.appendChild(kMaxInput);
-  const seedField = element("div", { class: "field small" });
-  seedField.appendChild(element("label", { for: "seed" }, "Seed"));
-  const seedInput = element("input", { id: "seed", type: "number", min: "0", step: "1", value: "1", "aria-describedby": "seed-hint" });
-  seedField.append(seedInput, element("span", { id: "seed-hint", class: "visually-hidden" }, "The same seed gives the same fit again."));
-  settings.append(kField, seedField);
+  const kMax = optionControl("kmax", "Most components to try");
+  const seed = optionControl("seed", "Seed");
+  const model = optionControl("model", "Model");
+  const intercept = optionControl("intercept", "Intercept");
+  settings.append(kMax.field, seed.field, model.field, intercept.field);
   body.appendChild(settings);
-  kMaxInput.addEventListener("change", () => {
-    const value = Math.round(Number(kMaxInput.value));
-    const kMax = Number.isFinite(value) ? Math.max(1, Math.min(K_MAX_LIMIT, value)) : 5;
-    kMaxInput.value = String(kMax);
-    pane.setKMax(kMax);
-  });
-  seedInput.addEventListener("change", () => {
-    const value = Math.round(Number(seedInput.value));
-    const seed = Number.isFinite(value) && value >= 0 ? value : 1;
-    seedInput.value = String(seed);
-    pane.setSeed(seed);
-  });
+  kMax.input.addEventListener("change", () => pane.setKMax(kMax.read() as number));
+  seed.input.addEventListener("change", () => pane.setSeed(seed.read() as number));
+  model.input.addEventListener("change", () => void pane.setFitOptions({ model: model.read() as MixtureModel }));
+  intercept.input.addEventListener("change", () => void pane.setFitOptions({ intercept: intercept.read() as boolean }));
 
   const buttons = element("div", { class: "inline" });
   const run = element("button", { type: "button", id: "run-scan", class: "primary" }, "Run scan");
@@ -64,6 +52,9 @@ export function mountCountSection(parent: HTMLElement, pane: Pane): { update(sta
   body.appendChild(rule);
   const tableWrap = element("div", { class: "table-wrap" });
   body.appendChild(tableWrap);
+  // Notes under the table stay outside its scrolling box, so they wrap to the pane's width.
+  const notes = element("div", { id: "scan-notes" });
+  body.appendChild(notes);
 
   let drawn: unknown = null;
   let drawnK: number | null = null;
@@ -91,6 +82,7 @@ export function mountCountSection(parent: HTMLElement, pane: Pane): { update(sta
       if (!scan) {
         chart.innerHTML = "";
         tableWrap.innerHTML = "";
+        notes.innerHTML = "";
         rule.textContent = "";
         drawn = null;
         return;
@@ -127,12 +119,13 @@ export function mountCountSection(parent: HTMLElement, pane: Pane): { update(sta
       table.appendChild(tbody);
       tableWrap.innerHTML = "";
       tableWrap.appendChild(table);
+      notes.innerHTML = "";
       // Why a K is not suggested: full sentences, below the table where they have room.
       const flagged = scan.rows.filter((r) => r.k !== scan.chosenK && (r.flag || !r.converged));
       if (flagged.length > 0) {
         const list = element("ul", { id: "scan-flags", class: "compact hint", "aria-label": "Why some K are not suggested" });
         for (const r of flagged) list.appendChild(element("li", {}, `* ${r.k} components, not suggested: ${(r.flag ?? "the fit did not converge.").replace(/^not suggested[:,]?\s*/i, "")}`));
-        tableWrap.appendChild(list);
+        notes.appendChild(list);
       }
     },
   };

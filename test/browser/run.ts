@@ -3,13 +3,17 @@
  * plain-browser mode: load a sample, run the scan, pick K, see the components,
  * the chart and warning cases, place results, and cancel a scan. office.js
  * requests are refused, as on a machine without Office. Screenshots go to
- * test-results/. Prints one line per check and a closing "N passed, N failed";
+ * test-results/. Then the worksheet functions from the same build, called as Excel calls
+ * them (functionsInChromium.ts). Prints one line per check and a closing "N passed, N failed";
  * exits 1 when any check failed.
  */
 import { promises as fs } from "fs";
 import * as path from "path";
 import { chromium, type Page } from "playwright-core";
 import { parseCsv } from "../../src/io/readCsv";
+import { checkHelpLinks } from "./helpLinks";
+import { checkPaneWidths } from "./paneWidth";
+import { checkWorksheetFunctions } from "./functionsInChromium";
 import { serveDirectory } from "./staticServer";
 
 const ROOT = path.resolve(__dirname, "../..");
@@ -229,6 +233,8 @@ async function main(): Promise<void> {
       await page.setViewportSize({ width: 1280, height: 1100 });
     });
 
+    await step("pane at 320 and 350 px", () => checkPaneWidths(page, check, RESULTS));
+
     await step("open an XLSX file", async () => {
       const workbook = path.join(ROOT, "sample-workbooks", "shop-chain.xlsx");
       try {
@@ -247,8 +253,13 @@ async function main(): Promise<void> {
       await shot(page, "09-xlsx-opened.png", "body");
     });
 
+    await step("help links", () => checkHelpLinks(() => browser.newPage(), url, DIST, check, RESULTS));
+
     check("no errors from the pane", pageErrors.length === 0, pageErrors.slice(0, 3).join(" | "));
     if (otherErrors.length > 0) console.log(`note: functions.js/commands.js without office.js: ${otherErrors.join(" | ")}`);
+
+    // The worksheet functions, on their own page with a CustomFunctions stand-in.
+    await step("worksheet functions in the shared-runtime page", () => checkWorksheetFunctions(browser, url, check));
   } finally {
     await browser.close();
     server.close();

@@ -1,14 +1,10 @@
 import { SkeinError } from "../errors";
 import type { MixtureModel, MixtureOptions, RegressionData } from "../mixtureTypes";
+import { DEFAULT_MAX_ITERATIONS, DEFAULT_RESTARTS, DEFAULT_SEED, DEFAULT_TOLERANCE } from "../options";
 import type { Settings } from "./fitContext";
 import type { Guards } from "./mStep";
 
-const DEFAULT_SEED = 1;
-/** Random-partition starts besides the seeded ones (residual and location k-means++). */
-const DEFAULT_RESTARTS = 10;
-/** Relative change of the log-likelihood, |ΔL| / max(|L|, n), at which EM stops. */
-const DEFAULT_TOLERANCE = 1e-8;
-const DEFAULT_MAX_ITERATIONS = 500;
+// The user-settable defaults (seed, restarts, tolerance, iterations) live in the options table.
 const MODELS: readonly MixtureModel[] = ["plain", "joint"];
 
 /**
@@ -43,6 +39,18 @@ export function createGuards(q: number, yVariance: number): Guards {
   };
 }
 
+/**
+ * K components with q coefficients each need at least k·(q + 1) rows (each component one row
+ * more than its coefficients); fewer is a bad-input error saying so. Hosts call it before
+ * starting work, so the message comes before any fitting.
+ */
+export function checkRowsForComponents(n: number, q: number, k: number): void {
+  const needed = k * (q + ROWS_BEYOND_COEFFICIENTS);
+  if (n < needed) {
+    throw new SkeinError("bad-input", `k = ${k} components with ${q} coefficient${q === 1 ? "" : "s"} each need at least ${needed} rows (k·(coefficients + 1)); the data has ${n}. Use fewer components or predictors, or add rows.`);
+  }
+}
+
 /** Checks every option once, at the entrance, with messages naming the setting. */
 export function checkInput(data: RegressionData, options: MixtureOptions): Settings {
   const { n, p } = data;
@@ -67,10 +75,7 @@ export function checkInput(data: RegressionData, options: MixtureOptions): Setti
   if (typeof intercept !== "boolean") throw new SkeinError("bad-input", `intercept must be yes or no (true or false); received ${String(intercept)}.`);
   const q = intercept ? p + 1 : p;
   if (q < 1) throw new SkeinError("bad-input", "There is nothing to fit: no predictors and no intercept. Add a predictor column or turn the intercept on.");
-  const needed = k * (q + ROWS_BEYOND_COEFFICIENTS);
-  if (n < needed) {
-    throw new SkeinError("bad-input", `k = ${k} components with ${q} coefficients each need at least ${needed} rows (k·(coefficients + 1)); the data has ${n}. Use fewer components or predictors, or add rows.`);
-  }
+  checkRowsForComponents(n, q, k);
   const seed = options.seed ?? DEFAULT_SEED;
   if (typeof seed !== "number" || !Number.isFinite(seed)) throw new SkeinError("bad-input", `seed must be a finite number; received ${String(seed)}.`);
   const restarts = options.restarts ?? DEFAULT_RESTARTS;

@@ -1,7 +1,8 @@
 /**
- * The last fit each formula cell showed, by the cell's address (Excel passes it to functions
- * declared with @requiresAddress). When a formula's data change, its refit starts from that
- * fit (options.previous) and is renumbered to match it, so component 1 stays component 1.
+ * The last fit each viewer showed: a formula cell by its address (Excel passes it to functions
+ * declared with @requiresAddress), the task pane by its own name. When a viewer's data
+ * change, its refit starts from that fit (options.previous) and is renumbered to match it, so
+ * component 1 stays component 1.
  *
  * Only what a warm start and the renumbering read is kept: the components and the fit's
  * description, not the per-row memberships, so a thousand remembered cells cost a few hundred
@@ -9,8 +10,8 @@
  */
 import type { MixtureFit } from "../engine/mixtureTypes";
 
-/** Formula cells remembered; the least recently refreshed are forgotten first. */
-export const ADDRESS_LIMIT = 1000;
+/** Viewers remembered; the least recently refreshed are forgotten first. */
+export const VIEWER_LIMIT = 1000;
 
 export interface FitShape {
   k: number;
@@ -19,24 +20,24 @@ export interface FitShape {
   model: MixtureFit["model"];
 }
 
-export class AddressMemory {
+export class FitMemory {
   private readonly fits = new Map<string, MixtureFit>();
 
-  constructor(private readonly limit: number = ADDRESS_LIMIT) {}
+  constructor(private readonly limit: number = VIEWER_LIMIT) {}
 
-  /** The fit last shown at `address`, when it has the same shape as the fit about to be made. */
-  previousFor(address: string | undefined, shape: FitShape): MixtureFit | undefined {
-    if (!address) return undefined;
-    const fit = this.fits.get(address);
+  /** The fit `viewer` showed last, when it has the same shape as the fit about to be made. */
+  previousFor(viewer: string | undefined, shape: FitShape): MixtureFit | undefined {
+    if (!viewer) return undefined;
+    const fit = this.fits.get(viewer);
     if (fit === undefined) return undefined;
     const same = fit.k === shape.k && fit.p === shape.p && fit.intercept === shape.intercept && fit.model === shape.model;
     return same ? fit : undefined;
   }
 
-  remember(address: string | undefined, fit: MixtureFit): void {
-    if (!address) return;
-    this.fits.delete(address);
-    this.fits.set(address, slim(fit));
+  remember(viewer: string | undefined, fit: MixtureFit): void {
+    if (!viewer) return;
+    this.fits.delete(viewer);
+    this.fits.set(viewer, slim(fit));
     if (this.fits.size > this.limit) {
       const oldest = this.fits.keys().next().value;
       if (oldest !== undefined) this.fits.delete(oldest);

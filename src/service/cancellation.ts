@@ -1,7 +1,9 @@
 /**
- * A cancel flag the engine can read (CancelSignal: it checks `aborted` between passes) that
- * also tells listeners when it is raised, so a fit running in a Web Worker can be stopped at
- * once by terminating the worker.
+ * The one cancel flag of the engine service: the engine reads it (CancelSignal: it checks
+ * `aborted` between passes) and listeners hear when it is raised, so a fit running in a Web
+ * Worker is stopped at once by terminating the worker. The task pane raises it when the user
+ * cancels or a newer request replaces a running one; the worksheet functions when Excel
+ * cancels a call.
  */
 import type { CancelSignal } from "../engine/mixtureTypes";
 

@@ -1,8 +1,9 @@
 /**
- * The worksheet functions' cache of fits: one computation per data version, shared by every
- * formula that asks for it.
+ * The engine service's cache of fits and scans: one computation per data version and options,
+ * shared by every caller (worksheet formulas, the task pane) that asks for it.
  *
- * - Key: the caller's fingerprint of the cell values and the settings (hashCells, fitSettingsKey).
+ * - Key: made by the engine service from the caller's data version (a fingerprint of the cell
+ *   values, hashCells) and the options that change the result.
  * - Sharing: a key being computed is shared too, so SKEIN.FIT, LABELS, MEMBERSHIP and CHECK on
  *   the same ranges, recalculated together, wait on one fit instead of starting four.
  * - Bounded: least recently used entries go first once the entries' estimated memory passes
@@ -52,7 +53,7 @@ export interface CacheStatistics {
   bytes: number;
 }
 
-export class FitCache<T> {
+export class ResultCache<T> {
   // A Map iterates in insertion order; touching an entry re-inserts it, so the first key is the least recently used.
   private readonly entries = new Map<string, Entry<T>>();
   private totalBytes = 0;
