@@ -17,6 +17,9 @@
  * - each colour has OKLCh chroma of at least MIN_CHROMA and CIE L* of at
  *   least MIN_LIGHTNESS, so no component reads as the grey or near-black of
  *   axes and text (with the contrast rule, L* stays between 30 and about 62);
+ * - each colour has OKLCh chroma of at most MAX_CHROMA, off the sRGB cube's
+ *   most saturated corners (they glare on screen and colour printers do not
+ *   reproduce them);
  * - the first GREY_COUNT colours differ pairwise by at least GREY_STEP in CIE
  *   L*, so they stay apart in a greyscale print.
  * Then the order: among all orders of the set that keep the lightness rule
@@ -39,6 +42,7 @@ const TOTAL = 10;
 const GREY_COUNT = 4;
 const GREY_STEP = 9;
 const MIN_CHROMA = 0.08;
+const MAX_CHROMA = 0.25;
 const MIN_LIGHTNESS = 30;
 const MIN_CONTRAST = 3;
 const NORMAL_MARGIN = 1.4;
@@ -89,7 +93,7 @@ function smallestLightnessStep(colours: Seen[]): number {
 
 /** How far a colour breaks the per-colour constraints (0 when it keeps them). */
 function colourPenalty(c: Seen): number {
-  return Math.max(0, MIN_CONTRAST - c.contrast) + Math.max(0, MIN_CHROMA - c.chroma) * 10 + Math.max(0, MIN_LIGHTNESS - c.lightness) / 10;
+  return Math.max(0, MIN_CONTRAST - c.contrast) + Math.max(0, MIN_CHROMA - c.chroma) * 10 + Math.max(0, c.chroma - MAX_CHROMA) * 10 + Math.max(0, MIN_LIGHTNESS - c.lightness) / 10;
 }
 
 /** The annealing score of a set: smallest difference, less penalties for broken constraints. */

@@ -1,5 +1,6 @@
 import { buildDesign, type Design } from "../src/engine/design";
 import { isSkeinError } from "../src/engine/errors";
+import { alignToPrevious } from "../src/engine/alignComponents";
 import type { MixtureFit } from "../src/engine/mixtureTypes";
 import { Cancellation } from "../src/service/cancellation";
 import type { FitJobOptions } from "../src/service/engineJobs";
@@ -7,6 +8,9 @@ import { regressionData, type EngineService } from "../src/service/engineService
 import { hashCells } from "../src/service/hashCells";
 import type { SheetHost } from "./host";
 import { initialState, type PaneState } from "./paneState";
+
+/** The pane fits as the worksheet functions do by default: a background component when far-off rows call for one. */
+const BACKGROUND = "auto" as const;
 
 /** Quiet time after the last edit before the pane refits: typing a column of numbers fires one refit, not one per cell. */
 export const REFRESH_DELAY_MS = 600;
@@ -16,8 +20,13 @@ export function messageOf(error: unknown): string {
   return `Skein could not finish: ${error instanceof Error ? error.message : String(error)}`;
 }
 
-/** How the engine service knows the pane among the callers it remembers fits for. */
-export const PANE_VIEWER = "task pane";
+/**
+ * How the engine service knows the pane among the callers it remembers fits for: one name
+ * per K, so a fit of K components is numbered like the last one the pane showed with K.
+ */
+export function paneViewer(k: number): string {
+  return `task pane, K = ${k}`;
+}
 
 /** Rough memory a cached result keeps: the design's and the fit's per-row arrays (8 bytes a double). */
 function entryBytes(design: Design, k: number): number {
@@ -72,7 +81,7 @@ export class Pane {
     this.update({ yAddress, xAddress });
     if (changed) {
       this.scanFlag?.abort();
-      this.update({ scan: null, scanStale: false, chosenK: null, fit: null, description: null, refreshNote: null, scanProblem: null });
+      this.update({ scan: null, scanStale: false, chosenK: null, fit: null, description: null, refreshNote: null, scanProblem: null, leftOut: [] });
     }
     await this.readData();
     if (changed) {
@@ -97,8 +106,9 @@ export class Pane {
     try {
       const [y, x] = await Promise.all([this.host.readValues(yAddress), this.host.readValues(xAddress)]);
       if (version !== this.dataVersion) return null;
-      const design = buildDesign(y, x, { headers: "auto", intercept: this.state.intercept });
-      this.dataKey = `pane|${hashCells(y, x)}`;
+      const design = buildDesign(y, x, { headers: "auto", intercept: this.state.intercept, leaveOut: new Set(this.state.leftOut) });
+      // Rows set aside make another data version than the same cells with every row in.
+      this.dataKey = `pane|${hashCells(y, x)}|${this.state.leftOut.join(",")}`;
       this.update({ design, dataProblem: null, rangeRows: y.length });
       return design;
     } catch (error) {
@@ -131,7 +141,7 @@ export class Pane {
 
   /** The fit options the pane's controls say, for k components. */
   private fitOptions(k: number): FitJobOptions {
-    return { k, seed: this.state.seed, intercept: this.state.intercept, model: this.state.model };
+    return { k, seed: this.state.seed, intercept: this.state.intercept, model: this.state.model, background: BACKGROUND };
   }
 
   /**
@@ -144,7 +154,7 @@ export class Pane {
       options: this.fitOptions(k),
       build: () => ({ design }),
       bytes: entryBytes(design, k),
-      viewer: PANE_VIEWER,
+      viewer: paneViewer(k),
       previous,
       place: "worker",
     });
@@ -187,8 +197,8 @@ export class Pane {
     try {
       const lease = this.engine.scan({
         version: this.dataKey,
-        key: [kMax, seed, intercept ? 1 : 0, model].join("|"),
-        prepare: () => ({ design, options: { kMax, seed, intercept, model } }),
+        key: [kMax, seed, intercept ? 1 : 0, model, BACKGROUND].join("|"),
+        prepare: () => ({ design, options: { kMax, seed, intercept, model, background: BACKGROUND } }),
         bytes: entryBytes(design, kMax) * kMax,
         onProgress: (k, of) => {
           if (!flag.aborted) this.update({ progress: { k, kMax: of } });
@@ -220,11 +230,18 @@ export class Pane {
     const design = this.state.design;
     if (!row || !design) return;
     try {
+      // The fit the pane showed last with this K, if any, decides the numbering, so a new
+      // scan does not swap the numbers the user has been reading.
+      const shownBefore = this.engine.memory.previousFor(paneViewer(k), { k, p: design.p, intercept: this.state.intercept, model: this.state.model });
       // After an edit the scan's fits describe the old rows: refit this K on the current
-      // rows, warm-started from the scan's fit and numbered like it.
-      const fit = this.state.scanStale ? await this.refit(design, k, row.fit, new Cancellation()) : row.fit;
+      // rows, warm-started from the scan's fit and numbered like the fit shown before.
+      const fit = this.state.scanStale
+        ? await this.refit(design, k, shownBefore ?? row.fit, new Cancellation())
+        : shownBefore
+          ? alignToPrevious(row.fit, shownBefore, regressionData(design))
+          : row.fit;
       this.update({ chosenK: k, fit, description: null, refreshNote: null });
-      this.engine.memory.remember(PANE_VIEWER, fit);
+      this.engine.memory.remember(paneViewer(k), fit);
       const description = await this.engine.describe(regressionData(design), fit, new Cancellation(), "worker");
       if (this.state.fit === fit) this.update({ description });
     } catch (error) {
@@ -251,5 +268,15 @@ export class Pane {
 
   setKMax(kMax: number): void {
     this.update({ kMax });
+  }
+
+  /**
+   * Sets data rows (0-based, below any header) aside, or puts every set-aside row back with
+   * an empty list, then reads the data again and runs the scan on the rows that remain.
+   */
+  async setLeftOut(rows: readonly number[]): Promise<void> {
+    this.update({ leftOut: [...new Set(rows)].sort((a, b) => a - b), scan: null, scanStale: false, chosenK: null, fit: null, description: null });
+    const design = await this.readData();
+    if (design) await this.runScan();
   }
 }

@@ -1,6 +1,7 @@
 import type { Design } from "../src/engine/design";
 import type { MixtureFit, MixtureModel } from "../src/engine/mixtureTypes";
 import type { ScanResult } from "../src/engine/trustTypes";
+import { optionSpec } from "../src/engine/options";
 import type { FitDescription } from "../src/service/engineJobs";
 
 /** Everything the sections draw from. Only the Pane changes it; sections only read it. */
@@ -27,6 +28,8 @@ export interface PaneState {
   intercept: boolean;
   model: MixtureModel;
   kMax: number;
+  /** 0-based data rows the user set aside (stray rows left out of the fit). */
+  leftOut: number[];
 }
 
 export function initialState(): PaneState {
@@ -45,9 +48,10 @@ export function initialState(): PaneState {
     fit: null,
     description: null,
     refreshNote: null,
-    seed: 1,
-    intercept: true,
-    model: "plain",
-    kMax: 5,
+    seed: optionSpec("seed").default as number,
+    intercept: optionSpec("intercept").default as boolean,
+    model: optionSpec("model").default as MixtureModel,
+    kMax: optionSpec("kmax").default as number,
+    leftOut: [],
   };
 }

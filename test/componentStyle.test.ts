@@ -118,6 +118,14 @@ describe("component colours", () => {
     expect(four.value, four.pair).toBeGreaterThanOrEqual(8.5);
   });
 
+  it("are neither grey nor glaring: OKLCh chroma between 0.08 and 0.25", () => {
+    for (const hex of COMPONENT_COLOURS) {
+      const [, a, b] = hexToOklab(hex);
+      expect(Math.hypot(a, b), hex).toBeGreaterThanOrEqual(0.08);
+      expect(Math.hypot(a, b), hex).toBeLessThanOrEqual(0.25);
+    }
+  });
+
   it("show on the plot's paper: contrast at least 3:1 (WCAG 2.1 non-text contrast)", () => {
     for (const hex of COMPONENT_COLOURS) expect(contrastRatio(hex, NEUTRALS.paper), hex).toBeGreaterThanOrEqual(3);
   });

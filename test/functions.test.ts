@@ -378,8 +378,13 @@ describe("SKEIN.CHECK", () => {
     ]);
     expect(result[7][1]).toBe(100);
     expect(result[8][1]).toBe(0);
-    expect(result.slice(9).every((r) => r[0] === "warning")).toBe(true);
-    expect(result.length).toBeGreaterThan(9);
+    // Then the stray rows (a count, the rows one by one and their rule when there are any), then the warnings.
+    expect(result[9][0]).toBe("stray rows");
+    const strayCount = result[9][1] as number;
+    const after = result.slice(10).map((r) => r[0]);
+    expect(after.slice(0, strayCount === 0 ? 0 : strayCount + 1)).toEqual(strayCount === 0 ? [] : [...Array(strayCount).fill("stray row"), "stray row rule"]);
+    expect(after.slice(strayCount === 0 ? 0 : strayCount + 1).every((name) => name === "warning")).toBe(true);
+    expect(result.length).toBeGreaterThan(10);
   });
 });
 

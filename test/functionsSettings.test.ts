@@ -29,8 +29,13 @@ describe("the settings argument", () => {
       restarts: 4,
       tolerance: 1e-9,
       headers: true,
+      background: "auto",
     });
     expect(parseSettings([["max-iterations=20"]]).maxIterations).toBe(20);
+    expect(parseSettings([["background=YES"]]).background).toBe(true);
+    expect(parseSettings([["background=no"]]).background).toBe(false);
+    expect(parseSettings([["Background = Auto"]]).background).toBe("auto");
+    expect(() => parseSettings([["background=sometimes"]])).toThrow("The setting background must be auto, yes or no; it was \"sometimes\".");
   });
 
   it("reads a two-column range of names and values, with numbers and logical values as Excel passes them", () => {

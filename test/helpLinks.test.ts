@@ -69,6 +69,16 @@ describe("help links of the worksheet functions", async () => {
     }
   });
 
+  it("the help page shows each function with the arguments the metadata gives, in order", () => {
+    const html = readFileSync(join(ROOT, "taskpane", "help.html"), "utf8");
+    const all = (JSON.parse(result.metadataJson) as { functions: { id: string; parameters: { name: string; optional?: boolean }[] }[] }).functions;
+    for (const f of all) {
+      const signature = `SKEIN.${f.id}(${f.parameters.map((p) => (p.optional ? `[${p.name}]` : p.name)).join(", ")})`;
+      const section = new RegExp(`id="skein-${f.id.toLowerCase()}"[^>]*>\\s*<h2>([^<]+)</h2>`).exec(html);
+      expect(section?.[1], f.id).toBe(signature);
+    }
+  });
+
   it.skipIf(!existsSync(join(DIST, "functions.json")))("after a build: every helpUrl in dist/functions.json is a file in dist/ with the function's section", () => {
     const built = JSON.parse(readFileSync(join(DIST, "functions.json"), "utf8")) as { functions: { id: string; helpUrl?: string }[] };
     expect(built.functions.map((f) => f.id).sort()).toEqual(functions.map((f) => f.id).sort());

@@ -42,6 +42,15 @@ describe("the README's table of options", () => {
   });
 });
 
+describe("the worksheet functions' k and kmax", () => {
+  it("are documented with the table's K cap", () => {
+    const source = readFileSync(join(ROOT, "src", "functions", "functions.ts"), "utf8");
+    const documented = source.match(/@param \[k(max)?\] [^\n]*/g) ?? [];
+    expect(documented.length).toBe(6);
+    for (const line of documented) expect(line).toContain(`from 1 to ${MAX_COMPONENTS}`);
+  });
+});
+
 describe("the worksheet settings", () => {
   it("are the table's options (without the k argument) plus headers, with the table's defaults", () => {
     expect([...SETTING_NAMES].sort()).toEqual([...SETTINGS.map((spec) => spec.name), "headers"].sort());

@@ -187,6 +187,16 @@ describe("the pane inside Excel", () => {
     expect(after.components[0].weight).toBeLessThan(after.components[1].weight);
     // Labels follow: data row 1 (index 1, on the falling line, not edited) is still in component 1.
     expect(after.labels[design.rowIndex.indexOf(1)]).toBe(0);
+
+    // Running the scan again on the edited data: its fit comes in the canonical order (rising
+    // line first), but the pane shows it numbered like the fit it showed before.
+    await pane.runScan();
+    await settle();
+    const rescanned = pane.state.fit!;
+    expect(pane.state.chosenK).toBe(2);
+    expect(slope(pane.state.scan!.rows[1].fit, 0)).toBeCloseTo(2, 1);
+    expect(slope(rescanned, 0)).toBeCloseTo(-1, 1);
+    expect(slope(rescanned, 1)).toBeCloseTo(2, 1);
   });
 
 });

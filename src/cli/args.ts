@@ -1,5 +1,4 @@
 import { SkeinError } from "../engine/errors";
-import type { MixtureModel } from "../engine/mixtureTypes";
 import { defaultText, optionSpec, readOptionValue, type OptionName, type OptionValue } from "../engine/options";
 
 /** How each flag of a command is used: followed by a value, or on its own. */
@@ -134,14 +133,6 @@ Columns are named by header; when no header has the name, a letter (A, B,
 --x C,D. A name holding a comma can be quoted: --x '"Cost, total",Units'.
 `;
 
-/** The --model value: plain (the default) or joint, checked against the options table. */
-export function parseModel(text: string | undefined, command: string): MixtureModel {
-  const spec = optionSpec("model");
-  if (text === undefined) return spec.default as MixtureModel;
-  const value = readOptionValue(spec, text);
-  if (value === undefined) throw usageError(command, `--model must be ${spec.accepts}, not "${text}"`);
-  return value as MixtureModel;
-}
 
 /** What a flag's value is called in the help: --seed S, --k N, --model NAME. */
 const PLACEHOLDERS: Record<OptionName, string> = {
@@ -151,6 +142,7 @@ const PLACEHOLDERS: Record<OptionName, string> = {
   restarts: "N",
   tolerance: "T",
   max_iterations: "N",
+  background: "auto|yes|no",
   k: "N",
   kmax: "N",
 };
@@ -176,10 +168,6 @@ function wrapHelp(head: string, text: string, column: number): string {
   return lines.join("\n");
 }
 
-/** The flag as typed: --seed, --no-intercept. */
-export function flagOf(name: OptionName): string {
-  return `--${optionSpec(name).flag}`;
-}
 
 /** Help lines for options of the table, made from it: flag, meaning, accepted values and default (or what `defaults` says instead, such as "required"). */
 export function optionHelp(names: readonly OptionName[], column: number, defaults: Partial<Record<OptionName, string>> = {}): string {
@@ -219,4 +207,15 @@ export function readGivenOption(parsed: ParsedArgs, name: OptionName, command: s
   const spec = optionSpec(name);
   if (spec.type !== "yes/no" && !parsed.values.has(spec.flag)) return undefined;
   return readOption(parsed, name, command);
+}
+
+/** A comma-separated list of 1-based data row numbers, such as --leave-out 12,140. */
+export function parseRowList(text: string, flag: string, command: string): number[] {
+  return parseList(text, flag, command).map((item) => parseWholeNumber(item, flag, command, 1, 2 ** 31 - 1));
+}
+
+/** --background as the engine takes it: "auto" (the table's default), true for yes, false for no. */
+export function readBackground(parsed: ParsedArgs, command: string): boolean | "auto" {
+  const value = readOption(parsed, "background", command);
+  return value === "yes" ? true : value === "no" ? false : "auto";
 }

@@ -11,7 +11,8 @@ import { resultsWorkbook } from "../io/resultsWorkbook";
 import { readTable } from "../io/readTable";
 import { componentPlot } from "../report/componentPlot";
 import { scatterSvg } from "../report/scatterSvg";
-import { parseArgs, parseWholeNumber, type FlagKinds } from "./args";
+import { defaultText, optionSpec } from "../engine/options";
+import { parseArgs, readOption, type FlagKinds } from "./args";
 import { columnRange, columnsRange, findColumn, headerNames } from "./columns";
 import { compareWithTruth, type TruthComparison, type TruthComponent } from "./compareWithTruth";
 import { formatNumber } from "./formatTable";
@@ -28,7 +29,8 @@ from, and writes OUT/<name>-results.xlsx and OUT/<name>.svg.
   --samples DIR     folder holding truth.json and the workbooks
                     (default: sample-workbooks)
   --only NAME       run one scenario: delivery-fleet, shop-chain or lab-calibration
-  --seed S          seed of every fit (default 1)
+  --seed S          seed of every fit, ${optionSpec("seed").accepts}
+                    (default ${defaultText(optionSpec("seed"))})
   --help            show this help
 `;
 
@@ -255,7 +257,7 @@ export async function demoCommand(argv: readonly string[], io: CommandIO): Promi
   const options: DemoOptions = {
     samples: path.resolve(args.values.get("samples") ?? defaultSamples()),
     out: path.resolve(args.values.get("out") ?? "out"),
-    seed: args.values.has("seed") ? parseWholeNumber(args.values.get("seed") as string, "seed", "demo", 0, 2 ** 31 - 1) : 1,
+    seed: readOption(args, "seed", "demo") as number,
   };
   let scenarios = await readTruth(options.samples);
   const only = args.values.get("only");

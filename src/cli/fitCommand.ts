@@ -8,21 +8,23 @@ import { checkSeparation } from "../engine/checkSeparation";
 import { standardErrors } from "../engine/standardErrors";
 import type { MixtureFit, MixtureModel, RefinementReport, WarmStartReport } from "../engine/mixtureTypes";
 import type { SeparationReport } from "../engine/trustTypes";
+import { findStrayRows } from "../engine/strayRows";
 import type { OptionName } from "../engine/options";
-import { FILE_OPTIONS_HELP, optionFlags, optionHelp, parseArgs, parseHeaderRow, parseList, parseWholeNumber, readGivenOption, readOption, type FlagKinds } from "./args";
+import { FILE_OPTIONS_HELP, optionFlags, optionHelp, parseArgs, parseHeaderRow, parseList, parseRowList, parseWholeNumber, readBackground, readGivenOption, readOption, type FlagKinds } from "./args";
 import { loadDesign, type ColumnReport } from "./loadDesign";
 import { formatFitTable } from "./formatTable";
 import { formatNotices } from "./formatNotices";
 
 /** The options of the table that skein fit takes. */
-const FIT_OPTIONS: readonly OptionName[] = ["k", "model", "seed", "restarts", "tolerance", "max_iterations", "intercept"];
+const FIT_OPTIONS: readonly OptionName[] = ["k", "model", "seed", "restarts", "tolerance", "max_iterations", "background", "intercept"];
 
 export const FIT_USAGE = `Usage: skein fit FILE --y COLUMN [--x COLUMN,COLUMN,...] [options]
 
 Fits K linear regressions of the y column on the x columns, each holding for
 one hidden group of rows, to a .csv or .xlsx file whose first row names the
-columns. Rows with a blank, text or error cell in a used column are skipped
-and listed.
+columns. A predictor column of mostly text (or yes/no, TRUE/FALSE) becomes
+indicator columns against its most frequent value. Rows with a blank or error
+cell, or text in a numeric column, are skipped and listed.
 
   --y COLUMN        the response column (required)
   --x COLUMNS       predictor columns, separated by commas; default: every
@@ -32,6 +34,8 @@ ${optionHelp(FIT_OPTIONS, 20)}
   --bootstrap N     standard errors from N bootstrap refits (components
                     matched to this fit in each) instead of the observed
                     information; slower
+  --leave-out ROWS  data rows to leave out of the fit, separated by commas
+                    (counted from 1 below the header), e.g. stray rows
   --json            write one JSON object instead of a table
   --help            show this help
 ${FILE_OPTIONS_HELP}
@@ -45,6 +49,7 @@ const FIT_FLAGS: FlagKinds = {
   "header-row": "value",
   ...optionFlags(FIT_OPTIONS),
   bootstrap: "value",
+  "leave-out": "value",
   json: "switch",
   help: "switch",
   h: "switch",
@@ -68,6 +73,10 @@ export interface FitSettings {
   maxIterations?: number;
   /** Bootstrap replicates for the standard errors; undefined: observed information. */
   bootstrap?: number;
+  /** A flat background component (Banfield & Raftery 1993): always, never or "auto". */
+  background: boolean | "auto";
+  /** 1-based data rows to leave out. */
+  leaveOut?: number[];
   json: boolean;
 }
 
@@ -78,6 +87,16 @@ export interface ComponentReport {
   sigma: number;
   coefficients: number[];
   stdErrors: number[];
+}
+
+/** A row no component explains (rule in src/engine/strayRows.ts). */
+export interface StrayRowReport {
+  /** 1-based data row of the file. */
+  row: number;
+  /** Noise SDs to the nearest component. */
+  distance: number;
+  /** 1-based nearest component. */
+  nearest: number;
 }
 
 export interface SkippedReport {
@@ -119,6 +138,11 @@ export interface FitReport {
   columns: ColumnReport[];
   /** How the file was read: encoding, sheet, conversions, renamed headers, columns left out. */
   notices: string[];
+  /** Rows no component explains, and the rule that picks them. */
+  strayRows: StrayRowReport[];
+  strayRowsRule: string;
+  /** Weight of the background component (--background), else null. */
+  backgroundWeight: number | null;
 }
 
 /** What a model fit hands back, whatever the number of components. */
@@ -135,6 +159,8 @@ export interface ModelFit {
   stdErrorMethod: string;
   weightStdErrors: number[];
   sigmaStdErrors: number[];
+  /** Why standard errors are missing, when some are. */
+  stdErrorWarnings: string[];
 }
 
 /** Turns the fit command's arguments into settings, or "help". */
@@ -164,6 +190,8 @@ export function parseFitSettings(argv: readonly string[]): FitSettings | "help" 
     tolerance: readGivenOption(parsed, "tolerance", "fit") as number | undefined,
     maxIterations: readGivenOption(parsed, "max_iterations", "fit") as number | undefined,
     bootstrap: bootstrapText === undefined ? undefined : parseWholeNumber(bootstrapText, "bootstrap", "fit", 10, 10000),
+    background: readBackground(parsed, "fit"),
+    leaveOut: values.has("leave-out") ? parseRowList(values.get("leave-out") as string, "leave-out", "fit") : undefined,
     json: switches.has("json"),
   };
 }
@@ -174,16 +202,16 @@ export function parseFitSettings(argv: readonly string[]): FitSettings | "help" 
  * ordinary least squares, and the report gives the classical least-squares standard
  * errors (n − q degrees of freedom), the ones regression tables and NIST certify.
  */
-export function fitModel(design: Design, settings: Pick<FitSettings, "k" | "seed" | "intercept" | "model" | "restarts" | "tolerance" | "maxIterations" | "bootstrap">): ModelFit {
-  const { k, seed, intercept, model, restarts, tolerance, maxIterations } = settings;
-  const mixture = withColumnNames(design, settings.intercept, () => fitMixture(design, { k, seed, intercept, model, restarts, tolerance, maxIterations }));
+export function fitModel(design: Design, settings: Pick<FitSettings, "k" | "seed" | "intercept" | "model" | "restarts" | "tolerance" | "maxIterations" | "bootstrap"> & { background?: boolean | "auto" }): ModelFit {
+  const { k, seed, intercept, model, restarts, tolerance, maxIterations, background } = settings;
+  const mixture = withColumnNames(design, settings.intercept, () => fitMixture(design, { k, seed, intercept, model, restarts, tolerance, maxIterations, background }));
   const errors =
     settings.bootstrap === undefined
       ? standardErrors(design, mixture)
       : standardErrors(design, mixture, { method: "bootstrap", replicates: settings.bootstrap, seed: settings.seed, fitOptions: { restarts, tolerance, maxIterations } });
   let coefficientErrors = errors.coefficients.map((c) => Array.from(c));
   let method: string = errors.method;
-  if (settings.k === 1 && settings.model === "plain" && settings.bootstrap === undefined) {
+  if (settings.k === 1 && settings.model === "plain" && settings.bootstrap === undefined && mixture.background === undefined) {
     coefficientErrors = [classicalStdErrors(design, settings.intercept)];
     method = "least-squares";
   }
@@ -202,6 +230,7 @@ export function fitModel(design: Design, settings: Pick<FitSettings, "k" | "seed
     stdErrorMethod: method,
     weightStdErrors: Array.from(errors.weights),
     sigmaStdErrors: Array.from(errors.sigmas),
+    stdErrorWarnings: method === "least-squares" ? [] : errors.warnings,
   };
 }
 
@@ -241,6 +270,7 @@ export async function computeFitReport(settings: FitSettings): Promise<{ report:
   for (let i = 0; i < design.n; i++) labels[design.rowIndex[i]] = model.labels[i] + 1;
   // Schwarz (1978): BIC = −2 log L + ν ln n.
   const bic = -2 * model.logLikelihood + model.parameterCount * Math.log(design.n);
+  const stray = findStrayRows(design, model.mixture);
   const report: FitReport = {
     k: settings.k,
     n: design.n,
@@ -259,12 +289,15 @@ export async function computeFitReport(settings: FitSettings): Promise<{ report:
     seed: settings.seed,
     warmStart: model.mixture.warmStart,
     refinement: model.mixture.refinement,
-    warnings: [...model.mixture.warnings, ...(model.separation?.warnings ?? [])],
+    warnings: [...model.mixture.warnings, ...(model.separation?.warnings ?? []), ...model.stdErrorWarnings],
     separation: model.separation,
     stdErrors: { method: model.stdErrorMethod, weights: model.weightStdErrors, sigmas: model.sigmaStdErrors },
     timings: { readMs, fitMs },
     columns,
     notices,
+    strayRows: stray.rows.map((s) => ({ row: design.rowIndex[s.row] + 1, distance: s.distance, nearest: s.nearest + 1 })),
+    strayRowsRule: stray.rule,
+    backgroundWeight: model.mixture.background?.weight ?? null,
   };
   return { report, sheetName };
 }

@@ -3,6 +3,9 @@ import type { FitReport } from "./fitCommand";
 /** Skipped rows listed one by one before the rest are summarised. */
 const SKIPPED_ROWS_SHOWN = 10;
 
+/** Stray rows listed one by one in the table. */
+const STRAY_ROWS_SHOWN = 20;
+
 /** Significant digits shown: enough to compare runs, few enough to read. */
 const DIGITS = 6;
 
@@ -44,9 +47,11 @@ export function formatFitTable(report: FitReport, source: { file: string; sheetN
     lines.push("");
     lines.push(`Component ${c + 1}: weight ${formatNumber(component.weight)}, noise SD ${formatNumber(component.sigma)}`);
     const table: string[][] = [["term", "coefficient", "standard error"]];
-    if (report.intercept) table.push(["intercept", formatNumber(component.coefficients[0]), formatNumber(component.stdErrors[0])]);
+    // A standard error that could not be computed reads "not available"; the warnings say why.
+    const error = (value: number) => (Number.isNaN(value) ? "not available" : formatNumber(value));
+    if (report.intercept) table.push(["intercept", formatNumber(component.coefficients[0]), error(component.stdErrors[0])]);
     report.predictors.forEach((name, j) => {
-      table.push([name, formatNumber(component.coefficients[j + 1]), formatNumber(component.stdErrors[j + 1])]);
+      table.push([name, formatNumber(component.coefficients[j + 1]), error(component.stdErrors[j + 1])]);
     });
     lines.push(...alignColumns(table, "  "));
   });
@@ -62,6 +67,17 @@ export function formatFitTable(report: FitReport, source: { file: string; sheetN
     lines.push("");
     lines.push("Warnings:");
     for (const warning of report.warnings) lines.push(`  - ${warning}`);
+  }
+
+  lines.push("");
+  if (report.backgroundWeight !== null) lines.push(`Background component: weight ${formatNumber(report.backgroundWeight)} (rows far from every regression)`);
+  if (report.strayRows.length === 0) {
+    lines.push(`Stray rows: none (${report.strayRowsRule}).`);
+  } else {
+    const shown = report.strayRows.slice(0, STRAY_ROWS_SHOWN);
+    lines.push(`Stray rows: ${report.strayRows.length} (${report.strayRowsRule}); refit without them with --leave-out ${report.strayRows.map((s) => s.row).join(",")}`);
+    for (const s of shown) lines.push(`  data row ${s.row}: ${formatNumber(s.distance)} noise SDs from component ${s.nearest}, the nearest`);
+    if (report.strayRows.length > shown.length) lines.push(`  and ${report.strayRows.length - shown.length} more (all in --json)`);
   }
 
   if (report.rowsSkipped > 0) {

@@ -1,5 +1,6 @@
 import * as path from "path";
 import { buildDesign, type Design } from "../engine/design";
+import { encodeRow, encodedWidth, type PredictorColumn } from "../engine/categoryLevels";
 import { SkeinError } from "../engine/errors";
 import type { Cell, ColumnKind } from "../io/columnTypes";
 import { describeColumns, type DataTable } from "../io/dataTable";
@@ -16,6 +17,10 @@ export interface DesignSource {
   /** Predictor names, letters or #numbers; undefined: every other number or category column. */
   x?: string[];
   intercept: boolean;
+  /** The number of components asked for (named when there are too few rows). */
+  k?: number;
+  /** 1-based data rows to leave out of the fit (--leave-out). */
+  leaveOut?: number[];
 }
 
 /** One column of the file as the output reports it (the --json `columns` field). */
@@ -74,9 +79,20 @@ export async function loadDesign(source: DesignSource): Promise<LoadedDesign> {
   }
   const converted = describeColumns(table.columns.filter((c) => c.position === y || x.includes(c.position))).converted;
   if (converted.length > 0) notices.push(`Read as numbers: ${converted.join(", ")}.`);
+  const dataRows = table.rows.length;
+  const beyond = source.leaveOut?.find((row) => row > dataRows);
+  if (beyond !== undefined) throw new SkeinError("bad-input", `--leave-out names data row ${beyond}, but ${table.where} has ${dataRows} data row${dataRows === 1 ? "" : "s"}; count data rows from 1 below the header.`);
+  const leaveOut = source.leaveOut ? new Set(source.leaveOut.map((row) => row - 1)) : undefined;
+  // The reader's kinds decide which columns are categories: its "category" columns, and text
+  // columns it counted values of (one value, or too many: the design then says what is wrong);
+  // a column of numbers written in mixed styles stays numeric, its text cells skipping rows.
+  const categories = x.map((j) => {
+    const column = table.columns.find((c) => c.position === j) as (typeof table.columns)[number];
+    return column.kind === "category" || (column.kind === "text" && column.levels !== undefined);
+  });
   let design: Design;
   try {
-    design = buildDesign(columnCells(table, [y]), columnCells(table, x), { headers: true, intercept: source.intercept });
+    design = buildDesign(columnCells(table, [y]), columnCells(table, x), { headers: true, intercept: source.intercept, leaveOut, components: source.k, categories });
   } catch (error) {
     // Rows skipped for text in a column whose numbers mix styles: say why that column is text.
     const used = [y, ...x].map((j) => table.names[j]);
@@ -92,7 +108,8 @@ export async function loadDesign(source: DesignSource): Promise<LoadedDesign> {
     reason: c.reason,
     ...(c.converted ? { converted: c.converted } : {}),
   }));
-  return { design, sheetName: table.sheetName, columns, notices, fileRows: table.dataRowNumbers };
+  // The design's own notes (a category column made into indicators, its reference level) follow the file's.
+  return { design, sheetName: table.sheetName, columns, notices: [...notices, ...design.notices], fileRows: table.dataRowNumbers };
 }
 
 /** A column that cannot be found may sit under a grouping header: add the reader's hint to the message. */
@@ -112,12 +129,12 @@ function columnCells(table: DataTable, positions: readonly number[]): Cell[][] {
 }
 
 export interface NewRows {
-  /** Rows with a finite number in every predictor, m x p row-major. */
+  /** Rows usable for every predictor, encoded as the fit's design (category columns as indicators), m x p row-major. */
   x: Float64Array;
   m: number;
   /** For each of those rows, its 0-based data row in the file. */
   rowIndex: number[];
-  /** 1-based data rows left out for a predictor cell that is not a number. */
+  /** 1-based data rows left out for a blank cell, or one that is not a number where one is needed. */
   skipped: number[];
   inputRows: number;
   /** Every data row's cells in the predictors' order, converted by the column rule (text kept for categories). */
@@ -126,30 +143,29 @@ export interface NewRows {
 }
 
 /**
- * The named predictor columns of a file of new rows, as an m x p row-major block; rows with a
- * cell that is not a finite number are left out and listed (1-based data rows). A file with no
- * rows under its header is an error saying so.
+ * The predictor columns of a file of new rows (found by the names of the fitted input
+ * columns), encoded as the fit's design was, as an m x p row-major block; rows with a blank
+ * or non-numeric cell where a number is needed are left out and listed (1-based data rows).
+ * A category value the fit never saw is a bad-input SkeinError naming it. A file with no rows
+ * under its header is an error saying so.
  */
-export async function loadNewRows(file: string, predictorNames: readonly string[], sheet?: string): Promise<NewRows> {
+export async function loadNewRows(file: string, predictors: readonly PredictorColumn[], sheet?: string): Promise<NewRows> {
   const table = await readDataTable(file, { sheet });
+  const predictorNames = predictors.map((column) => column.name);
   if (table.rows.length === 0) {
     throw new SkeinError("bad-input", `${table.where} (--new) has column names but no rows below them, so there is nothing to predict; add one row per prediction with the columns ${predictorNames.join(", ")}.`);
   }
   const columns = predictorNames.map((name) => chooseColumn(table, name).position);
-  const p = columns.length;
-  const values: number[] = [];
+  const p = encodedWidth(predictors);
+  const values = new Float64Array(table.rows.length * p);
   const rowIndex: number[] = [];
   const skipped: number[] = [];
   const cells = table.rows.map((row) => columns.map((j) => row[j]));
   cells.forEach((row, r) => {
-    if (row.every((cell) => typeof cell === "number" && Number.isFinite(cell))) {
-      values.push(...(row as number[]));
-      rowIndex.push(r);
-    } else {
-      skipped.push(r + 1);
-    }
+    if (encodeRow(predictors, row, values, rowIndex.length * p, `Data row ${r + 1} of ${table.where}`)) rowIndex.push(r);
+    else skipped.push(r + 1);
   });
   const converted = describeColumns(table.columns.filter((c) => columns.includes(c.position))).converted;
   const notices = [...table.notices, ...(converted.length > 0 ? [`Read as numbers in ${path.basename(file)}: ${converted.join(", ")}.`] : [])];
-  return { x: Float64Array.from(values), m: values.length / Math.max(p, 1), rowIndex, skipped, inputRows: table.rows.length, cells, notices };
+  return { x: values.slice(0, rowIndex.length * p), m: rowIndex.length, rowIndex, skipped, inputRows: table.rows.length, cells, notices };
 }

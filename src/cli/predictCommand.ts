@@ -4,13 +4,13 @@ import { fitMixture } from "../engine/fitMixture";
 import { predictRows } from "../engine/predictRows";
 import type { MixtureModel } from "../engine/mixtureTypes";
 import type { OptionName } from "../engine/options";
-import { FILE_OPTIONS_HELP, optionFlags, optionHelp, parseArgs, parseHeaderRow, parseList, readGivenOption, readOption, type FlagKinds } from "./args";
+import { FILE_OPTIONS_HELP, optionFlags, optionHelp, parseArgs, parseHeaderRow, parseList, readBackground, readGivenOption, readOption, type FlagKinds } from "./args";
 import { formatNotices } from "./formatNotices";
 import { formatNumber } from "./formatTable";
 import { loadDesign, loadNewRows, type ColumnReport } from "./loadDesign";
 
 /** The options of the table that skein predict takes. */
-const PREDICT_OPTIONS: readonly OptionName[] = ["k", "model", "seed", "restarts", "tolerance", "max_iterations", "intercept"];
+const PREDICT_OPTIONS: readonly OptionName[] = ["k", "model", "seed", "restarts", "tolerance", "max_iterations", "background", "intercept"];
 
 export const PREDICT_USAGE = `Usage: skein predict FILE --y COLUMN [--x COLUMN,COLUMN,...] --k N --new NEWFILE [options]
 
@@ -100,6 +100,7 @@ export async function predictCommand(argv: readonly string[], io: { stdout: (s: 
     y,
     x: xText === undefined ? undefined : parseList(xText, "x", "predict"),
     intercept,
+    k,
   });
   const fit = fitMixture(design, {
     k,
@@ -109,8 +110,9 @@ export async function predictCommand(argv: readonly string[], io: { stdout: (s: 
     restarts: readGivenOption(parsed, "restarts", "predict") as number | undefined,
     tolerance: readGivenOption(parsed, "tolerance", "predict") as number | undefined,
     maxIterations: readGivenOption(parsed, "max_iterations", "predict") as number | undefined,
+    background: readBackground(parsed, "predict"),
   });
-  const newRows = await loadNewRows(newFile, design.predictorNames, values.get("new-sheet"));
+  const newRows = await loadNewRows(newFile, design.columns, values.get("new-sheet"));
   const prediction = predictRows(fit, newRows.x, newRows.m);
   const rows: (PredictedRow | null)[] = new Array(newRows.inputRows).fill(null);
   newRows.rowIndex.forEach((row, i) => {
@@ -146,7 +148,7 @@ export async function predictCommand(argv: readonly string[], io: { stdout: (s: 
   });
   const widths = header.map((_, j) => Math.max(...table.map((t) => t[j].length)));
   for (const t of table) lines.push("  " + t.map((cell, j) => cell.padStart(widths[j])).join("   "));
-  if (newRows.skipped.length > 0) lines.push(`Skipped new rows (a predictor cell is not a number): ${newRows.skipped.join(", ")}`);
+  if (newRows.skipped.length > 0) lines.push(`Skipped new rows (a predictor cell is blank, or not a number where one is needed): ${newRows.skipped.join(", ")}`);
   io.stdout(lines.join("\n") + "\n" + formatNotices(report.notices));
   return 0;
 }

@@ -2,14 +2,15 @@ import * as path from "path";
 import { SkeinError } from "../engine/errors";
 import type { MixtureModel } from "../engine/mixtureTypes";
 import { scanComponents } from "../engine/scanComponents";
+import { findStrayRows } from "../engine/strayRows";
 import type { OptionName } from "../engine/options";
-import { FILE_OPTIONS_HELP, optionFlags, optionHelp, parseArgs, parseHeaderRow, parseList, readGivenOption, readOption, type FlagKinds } from "./args";
+import { FILE_OPTIONS_HELP, optionFlags, optionHelp, parseArgs, parseHeaderRow, parseList, readBackground, readGivenOption, readOption, type FlagKinds } from "./args";
 import { formatNotices } from "./formatNotices";
 import { formatNumber } from "./formatTable";
 import { loadDesign, type ColumnReport } from "./loadDesign";
 
 /** The options of the table that skein scan takes. */
-const SCAN_OPTIONS: readonly OptionName[] = ["kmax", "model", "seed", "restarts", "tolerance", "max_iterations", "intercept"];
+const SCAN_OPTIONS: readonly OptionName[] = ["kmax", "model", "seed", "restarts", "tolerance", "max_iterations", "background", "intercept"];
 
 export const SCAN_USAGE = `Usage: skein scan FILE --y COLUMN [--x COLUMN,COLUMN,...] --k-max N [options]
 
@@ -70,6 +71,11 @@ export interface ScanReport {
   columns: ColumnReport[];
   /** How the file was read: encoding, sheet, conversions, renamed headers, columns left out. */
   notices: string[];
+  /** Why the scan stopped before --k-max, or null. */
+  stoppedEarly: string | null;
+  /** Rows no component of the suggested K explains (1-based data rows, as skein fit reports them). */
+  strayRows: { row: number; distance: number; nearest: number }[];
+  strayRowsRule: string;
 }
 
 /** `skein scan`: returns the exit status; SkeinErrors propagate to main, which reports them. */
@@ -107,7 +113,10 @@ export async function scanCommand(argv: readonly string[], io: { stdout: (s: str
     tolerance: readGivenOption(parsed, "tolerance", "scan") as number | undefined,
     maxIterations: readGivenOption(parsed, "max_iterations", "scan") as number | undefined,
     crossValidate,
+    background: readBackground(parsed, "scan"),
   });
+  const chosen = scan.rows.find((row) => row.k === scan.chosenK) ?? scan.rows[0];
+  const stray = findStrayRows(design, chosen.fit);
   const report: ScanReport = {
     chosenK: scan.chosenK,
     rule: scan.rule,
@@ -128,6 +137,9 @@ export async function scanCommand(argv: readonly string[], io: { stdout: (s: str
     })),
     columns,
     notices,
+    stoppedEarly: scan.stoppedEarly,
+    strayRows: stray.rows.map((r) => ({ row: design.rowIndex[r.row] + 1, distance: r.distance, nearest: r.nearest + 1 })),
+    strayRowsRule: stray.rule,
   };
   if (switches.has("json")) {
     io.stdout(JSON.stringify(report) + "\n");
@@ -161,7 +173,11 @@ export function formatScanTable(report: ScanReport, where: string): string {
   const widths = header.map((_, j) => Math.max(...table.map((r) => r[j].length)));
   for (const r of table) lines.push("  " + r.map((cell, j) => (j === r.length - 1 ? cell : cell.padStart(widths[j]))).join("   ").trimEnd());
   lines.push("");
+  if (report.stoppedEarly !== null) lines.push(report.stoppedEarly);
   lines.push(`Suggested: ${report.chosenK} component${report.chosenK === 1 ? "" : "s"}. Rule: ${report.rule}`);
+  if (report.strayRows.length > 0) {
+    lines.push(`Stray rows at K = ${report.chosenK}: data row${report.strayRows.length === 1 ? "" : "s"} ${report.strayRows.map((r) => r.row).join(", ")} (${report.strayRowsRule}); skein fit lists them and --leave-out sets them aside.`);
+  }
   const flagged = report.rows.filter((row) => row.flag !== null);
   if (flagged.length > 0) {
     lines.push("");

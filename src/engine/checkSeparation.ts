@@ -1,6 +1,7 @@
 import type { MixtureFit, RegressionData } from "./mixtureTypes";
 import type { SeparationPair, SeparationReport } from "./trustTypes";
 import { quadraticDifference, secondMoment } from "./secondMoment";
+import { mapFit, scaleData, scalesFor } from "./internalScaling";
 
 /**
  * Thresholds of the separation check, and why.
@@ -68,6 +69,13 @@ function formatShort(value: number): string {
  *   Reibstein & Robinson 1993): 1 for crisp memberships, 0 for memberships all 1/K.
  */
 export function checkSeparation(data: RegressionData, fit: MixtureFit): SeparationReport {
+  // Gaps, misclassification and entropy do not depend on units: values far from 1 are measured in the fit's scaled space.
+  const scales = scalesFor(data);
+  if (scales !== null) return separationOf(scaleData(data, scales), mapFit(fit, scales, -1));
+  return separationOf(data, fit);
+}
+
+function separationOf(data: RegressionData, fit: MixtureFit): SeparationReport {
   const k = fit.k;
   const n = fit.memberships.length / k;
   const moment = secondMoment(data);

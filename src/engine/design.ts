@@ -1,4 +1,5 @@
 import { SkeinError } from "./errors";
+import { categoryNotice, chooseLevels, encodedNames, encodedWidth, isCategoryColumn, levelOf, type PredictorColumn } from "./categoryLevels";
 
 /** A data row left out of the fit, and why. */
 export interface SkippedRow {
@@ -14,12 +15,17 @@ export interface SkippedRow {
 export interface Design {
   /** Response, length n, used rows only. */
   y: Float64Array;
-  /** Predictors, n*p row-major; no intercept column (see designMatrix). */
+  /** Predictors, n*p row-major; no intercept column (see designMatrix). A category column contributes one indicator column per non-reference level. */
   x: Float64Array;
   n: number;
   p: number;
   yName: string;
+  /** One name per design column: a numeric column's name, or "Region = South" for an indicator. */
   predictorNames: string[];
+  /** The input's predictor columns and how each was encoded (what new rows must match). */
+  columns: PredictorColumn[];
+  /** Plain-language notes on what was done to the input (category columns made into indicators). */
+  notices: string[];
   hasHeaderRow: boolean;
   /** Number of data rows in the input, excluding any header row. */
   inputRows: number;
@@ -34,8 +40,13 @@ export interface DesignOptions {
    * (default): it holds names when the y cell and every x cell are text.
    */
   headers?: boolean | "auto";
-  /** Fewest usable rows accepted; default p + 2 (an intercept, p slopes and one degree of freedom for the noise). */
+  /**
+   * Fewest usable rows accepted; default the larger of p + 2 (an intercept, p slopes and one
+   * degree of freedom for the noise) and components × (coefficients + 1).
+   */
   minRows?: number;
+  /** The number of components the rows are for (default 1); named in the too-few-rows message. */
+  components?: number;
   /**
    * Whether the fit will include an intercept (default true). With one, a
    * predictor that is a shifted multiple of another (x_b = a + c·x_a, such as
@@ -43,6 +54,17 @@ export interface DesignOptions {
    * and is reported the same way.
    */
   intercept?: boolean;
+  /**
+   * 0-based data rows (below any header row) to leave out of the fit, such as stray rows the
+   * user chose to set aside; each is listed among the skipped rows with reason "left out".
+   */
+  leaveOut?: ReadonlySet<number>;
+  /**
+   * Per x column, whether it is a category column (true) or a column of numbers whose other
+   * cells skip their rows (false), for a caller that has already decided (a file reader);
+   * absent: decided here by isCategoryColumn.
+   */
+  categories?: readonly boolean[];
 }
 
 /** Why a cell makes its row unusable. */
@@ -52,6 +74,7 @@ export const SKIP_REASONS = {
   logical: "logical value",
   error: "error value",
   date: "date value",
+  leftOut: "left out",
 } as const;
 
 /**
@@ -163,10 +186,10 @@ export function buildDesign(y: unknown[][], x: unknown[][], options: DesignOptio
     ? isNameText(yRows[0][0]) && xRows[0].every(isNameText)
     : headerSetting;
   const yName = hasHeaderRow && isNameText(yRows[0][0]) ? yRows[0][0].trim() : "y";
-  const predictorNames: string[] = [];
+  const columnNames: string[] = [];
   for (let j = 0; j < p; j++) {
     const cell = hasHeaderRow ? xRows[0][j] : undefined;
-    predictorNames.push(isNameText(cell) ? cell.trim() : `x${j + 1}`);
+    columnNames.push(isNameText(cell) ? cell.trim() : `x${j + 1}`);
   }
 
   const firstDataRow = hasHeaderRow ? 1 : 0;
@@ -174,11 +197,18 @@ export function buildDesign(y: unknown[][], x: unknown[][], options: DesignOptio
   if (inputRows === 0) {
     throw new SkeinError("bad-input", "The ranges hold only a header row; include the data rows below it.");
   }
+  // Category columns: mostly text or logical values (categoryLevels.ts).
+  const isCategory: boolean[] = [];
+  for (let j = 0; j < p; j++) isCategory.push(options.categories?.[j] ?? isCategoryColumn(xRows, firstDataRow, j, (text) => ERROR_TEXTS.has(text.toUpperCase())));
+  const anyCategory = isCategory.includes(true);
 
   // Written in place for every input row; a skipped row is overwritten by the
-  // next one, so the used rows end up packed at the front.
+  // next one, so the used rows end up packed at the front. A category cell is
+  // held as its level key until the levels of the used rows are known.
   const yValues = new Float64Array(inputRows);
-  const xValues = new Float64Array(inputRows * p);
+  const rawX = new Float64Array(inputRows * p);
+  const levelKeys: string[][] = isCategory.map(() => []);
+  const levelLabels: Map<string, string>[] = isCategory.map(() => new Map());
   const rowIndex = new Int32Array(inputRows);
   const skipped: SkippedRow[] = [];
   let n = 0;
@@ -200,14 +230,22 @@ export function buildDesign(y: unknown[][], x: unknown[][], options: DesignOptio
     for (let j = 0; j < p; j++) {
       const cell = xRow[j];
       const cellClass = classifyCell(cell);
-      if (cellClass === CELL_OK) {
-        xValues[offset + j] = cell as number;
+      if (cellClass === CELL_OK && !isCategory[j]) {
+        rawX[offset + j] = cell as number;
       } else if (cellClass === CELL_NON_FINITE) {
-        throw nonFinite(predictorNames[j], cell as number, r, hasHeaderRow);
+        throw nonFinite(columnNames[j], cell as number, r, hasHeaderRow);
+      } else if (isCategory[j] && (cellClass === CELL_OK || cellClass === SKIP_REASONS.text || cellClass === SKIP_REASONS.logical)) {
+        const [key, label] = levelOf(cell) as [string, string];
+        levelKeys[j][n] = key;
+        if (!levelLabels[j].has(key)) levelLabels[j].set(key, label);
       } else if (reason === undefined) {
         reason = cellClass as string;
-        column = predictorNames[j];
+        column = columnNames[j];
       }
+    }
+    if (reason === undefined && options.leaveOut?.has(r)) {
+      reason = SKIP_REASONS.leftOut;
+      column = yName;
     }
     if (reason === undefined) {
       rowIndex[n] = r;
@@ -217,16 +255,58 @@ export function buildDesign(y: unknown[][], x: unknown[][], options: DesignOptio
     }
   }
 
-  const minRows = options.minRows ?? p + 2;
-  if (n < minRows) throw tooFewRows(n, minRows, p, skipped);
+  const columns: PredictorColumn[] = [];
+  const notices: string[] = [];
+  let everyLevelUsed = options.intercept === false;
+  for (let j = 0; j < p; j++) {
+    if (!isCategory[j]) {
+      columns.push({ kind: "number", name: columnNames[j] });
+      continue;
+    }
+    const keys = levelKeys[j].slice(0, n);
+    // Labels as first seen among the used rows.
+    const labels = new Map<string, string>();
+    for (const key of keys) if (!labels.has(key)) labels.set(key, levelLabels[j].get(key) as string);
+    const encoded = n === 0 ? null : chooseLevels(columnNames[j], keys, labels, everyLevelUsed);
+    if (encoded === null) {
+      columns.push({ kind: "number", name: columnNames[j] });
+      continue;
+    }
+    everyLevelUsed = false;
+    columns.push(encoded);
+    notices.push(categoryNotice(encoded));
+  }
+  const width = encodedWidth(columns);
+  // Without category columns the values are already the design (the common case: no copy).
+  const xValues = anyCategory ? new Float64Array(n * width) : rawX.subarray(0, n * p).slice();
+  for (let i = 0; anyCategory && i < n; i++) {
+    let at = i * width;
+    for (let j = 0; j < p; j++) {
+      const encoding = columns[j];
+      if (encoding.kind === "number") {
+        xValues[at++] = rawX[i * p + j];
+      } else {
+        const key = levelKeys[j][i];
+        for (const level of encoding.levels) xValues[at++] = level.toLowerCase() === key ? 1 : 0;
+      }
+    }
+  }
+  const predictorNames = encodedNames(columns);
+
+  const components = options.components ?? 1;
+  const coefficients = width + (options.intercept === false ? 0 : 1);
+  const minRows = options.minRows ?? Math.max(width + 2, components * (coefficients + 1));
+  if (n < minRows) throw tooFewRows(n, minRows, width, skipped, components, coefficients);
 
   const design: Design = {
     y: yValues.slice(0, n),
-    x: xValues.slice(0, n * p),
+    x: xValues,
     n,
-    p,
+    p: width,
     yName,
     predictorNames,
+    columns,
+    notices,
     hasHeaderRow,
     inputRows,
     rowIndex: rowIndex.slice(0, n),
@@ -241,8 +321,9 @@ function nonFinite(column: string, value: number, row: number, hasHeaderRow: boo
   return new SkeinError("bad-input", `Column ${column} holds ${value} in ${where}; only finite numbers can be fitted. Replace it with a number or leave the cell blank to skip the row.`);
 }
 
-function tooFewRows(usable: number, needed: number, p: number, skipped: SkippedRow[]): SkeinError {
+function tooFewRows(usable: number, needed: number, p: number, skipped: SkippedRow[], components: number, coefficients: number): SkeinError {
   let message = `Only ${usable} usable row${usable === 1 ? "" : "s"}, but at least ${needed} are needed for ${p} predictor${p === 1 ? "" : "s"}`;
+  if (components > 1) message += ` and K = ${components} components (each needs one more row than its ${coefficients} coefficient${coefficients === 1 ? "" : "s"})`;
   if (skipped.length > 0) {
     // The most common (reason, column) pair points at the cause to fix.
     const counts = new Map<string, number>();
@@ -257,9 +338,9 @@ function tooFewRows(usable: number, needed: number, p: number, skipped: SkippedR
         commonestCount = count;
       }
     }
-    message += `; ${skipped.length} row${skipped.length === 1 ? " was" : "s were"} skipped, most often for ${commonest} (${commonestCount} row${commonestCount === 1 ? "" : "s"}). Fill or fix those cells so they hold numbers, or use fewer predictors.`;
+    message += `; ${skipped.length} row${skipped.length === 1 ? " was" : "s were"} skipped, most often for ${commonest} (${commonestCount} row${commonestCount === 1 ? "" : "s"}). Fill or fix those cells so they hold numbers, or use fewer ${components > 1 ? "components or " : ""}predictors.`;
   } else {
-    message += ". Add rows or use fewer predictors.";
+    message += components > 1 ? `. Add rows, or use fewer components or predictors.` : ". Add rows or use fewer predictors.";
   }
   return new SkeinError("bad-input", message);
 }

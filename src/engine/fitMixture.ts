@@ -11,6 +11,8 @@ import { restructure } from "./mixture/restructure";
 import { finishOnAllRows } from "./mixture/finishOnAllRows";
 import { finishExactComponents } from "./mixture/finishExactComponents";
 import { reportFit } from "./mixture/reportFit";
+import { withInternalScaling } from "./internalScaling";
+import { backgroundMayHelp, chooseBackground, withBackground } from "./mixture/backgroundComponent";
 
 export { checkRowsForComponents } from "./mixture/mixtureSettings";
 export { DISAGREEMENT_RELATIVE } from "./mixture/compareFits";
@@ -29,7 +31,16 @@ const SUBSAMPLE_ROWS_PER_PARAMETER = 20;
  * (Dempster, Laird & Rubin 1977). One generator made from options.seed feeds every random step.
  */
 export function fitMixture(data: RegressionData, options: MixtureOptions): MixtureFit {
-  return fitAtDepth(data, options, 0);
+  // Values far from 1 (beyond 1e100, or a column's size below 1e-100) are fitted scaled.
+  return withInternalScaling(data, options, fitWithBackgroundSetting);
+}
+
+function fitWithBackgroundSetting(data: RegressionData, options: MixtureOptions): MixtureFit {
+  if (options.background !== "auto") return fitAtDepth(data, options, 0);
+  // "auto": the background only when the fit without it shows rows far from every regression.
+  const plain = fitAtDepth(data, { ...options, background: false }, 0);
+  if (!backgroundMayHelp(data, plain)) return plain;
+  return chooseBackground(plain, fitAtDepth(data, { ...options, background: true }, 0));
 }
 
 /**
@@ -45,13 +56,13 @@ export function fitMixture(data: RegressionData, options: MixtureOptions): Mixtu
  */
 function fitAtDepth(data: RegressionData, options: MixtureOptions, depth: number, inherited?: Float64Array): MixtureFit {
   const settings = checkInput(data, options);
-  const full = createWorkspace(data, settings.k, settings.intercept, settings.model === "joint");
+  const full = withBackground(createWorkspace(data, settings.k, settings.intercept, settings.model === "joint"), settings.background);
   const guards = createGuards(full.q, full.yVariance);
   if (settings.k === 1) return fitSingleComponent(full, settings, guards);
   const random = createRandom(settings.seed);
   const subsampleSize = Math.max(SUBSAMPLE_MIN_ROWS, SUBSAMPLE_ROWS_PER_PARAMETER * settings.k * full.q);
   const subsampleRows = full.n > 2 * subsampleSize ? sampleIndices(full.n, subsampleSize, random) : null;
-  const working = subsampleRows ? createWorkspace(data, settings.k, settings.intercept, full.joint, subsampleRows) : full;
+  const working = subsampleRows ? withBackground(createWorkspace(data, settings.k, settings.intercept, full.joint, subsampleRows), settings.background, full) : full;
   const ctx: FitContext = {
     data, settings, guards, random, full, working, subsampleRows, depth, inherited,
     tolerance: settings.tolerance,

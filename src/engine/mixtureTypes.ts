@@ -35,6 +35,13 @@ export interface MixtureOptions {
   tolerance?: number;
   /** Cap on refinement iterations. */
   maxIterations?: number;
+  /**
+   * A background component with a flat density over the data's range (Banfield & Raftery
+   * 1993), so that rows far from every regression do not pull one onto themselves: true
+   * always, false never (the default), "auto" only when the fit without it shows signs of
+   * such rows (see chooseBackground in mixture/backgroundComponent.ts).
+   */
+  background?: boolean | "auto";
   /** A previous fit of the same model on (nearly) the same data: warm start and label order. */
   previous?: MixtureFit;
   signal?: CancelSignal;
@@ -109,4 +116,9 @@ export interface MixtureFit {
   warnings: string[];
   /** The seed used, so a host can show it and the fit can be reproduced. */
   seed: number;
+  /**
+   * The background component when the fit has one: its weight π₀ (the components' weights
+   * sum to 1 − π₀), ln of its flat density, and each used row's membership in it.
+   */
+  background?: { weight: number; logDensity: number; memberships: Float64Array };
 }

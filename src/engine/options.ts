@@ -6,7 +6,7 @@
  * (test/options.test.ts compares them). The engine's own defaults are these.
  */
 
-export type OptionName = "seed" | "intercept" | "model" | "restarts" | "tolerance" | "max_iterations" | "k" | "kmax";
+export type OptionName = "seed" | "intercept" | "model" | "restarts" | "tolerance" | "max_iterations" | "background" | "k" | "kmax";
 export type OptionValue = number | boolean | string;
 
 export interface OptionSpec {
@@ -100,6 +100,15 @@ export const OPTIONS: readonly OptionSpec[] = [
     default: DEFAULT_MAX_ITERATIONS,
     accepts: `a whole number from 1 to ${MAX_ITERATIONS_CAP}`,
     meaning: "the refinement stops after this many iterations",
+  },
+  {
+    name: "background",
+    flag: "background",
+    type: "choice",
+    choices: ["auto", "yes", "no"],
+    default: "auto",
+    accepts: "auto, yes or no",
+    meaning: "a background component with a flat density over the range of y takes rows far from every regression; auto adds it only when the fit without it has stray rows or a tiny component",
   },
   {
     name: "k",

@@ -38,14 +38,6 @@ import { gatherRows, selectRows } from "./rowSubset";
 export const BIC_TIE = 6;
 
 /**
- * Starts disagree when the two best differ by more than 1% of the coefficient scale at nearly
- * the same likelihood (fitMixture's own threshold): the K components are then not determined
- * by the data. A warm-start certificate that did not shrink while the starts agree is not a
- * reason on its own: on noisy data the narrowest residual scale stops at the noise level.
- */
-export const STARTS_DISAGREE = DISAGREEMENT_RELATIVE;
-
-/**
  * Below this many rows per coefficient per component the suggestion is also checked by
  * cross-validation (see scanComponents). Measured on generated problems (bench/scanAccuracy):
  * with 100 rows, 5 predictors and one true component, plain BIC picked 6 or 7 components in
@@ -84,13 +76,15 @@ export function scanComponents(data: RegressionData, options: ScanOptions): Scan
   const q = intercept ? data.p + 1 : data.p;
   const rows: ScanRow[] = [];
   let previousFit: MixtureFit | null = null;
+  let stoppedEarly: string | null = null;
   for (let k = 1; k <= kMax; k++) {
     if (options.signal?.aborted) throw new SkeinError("cancelled", "The scan was cancelled.");
     if (k * (q + 1) > data.n) {
       // Not even q + 1 rows per component: no fit of this K can be trusted, and larger K less.
+      stoppedEarly = `Tried K = 1 to ${k - 1}, not up to ${kMax}: K = ${k} needs at least ${k * (q + 1)} usable rows (each component needs one more row than its ${q} coefficient${q === 1 ? "" : "s"}), and there are ${data.n}. Add rows or use fewer predictors to try more components.`;
       break;
     }
-    const fitOptions: MixtureOptions = { k, seed, intercept, model, restarts: options.restarts, tolerance: options.tolerance, maxIterations: options.maxIterations, signal: options.signal };
+    const fitOptions: MixtureOptions = { k, seed, intercept, model, restarts: options.restarts, tolerance: options.tolerance, maxIterations: options.maxIterations, background: options.background, signal: options.signal };
     if (previousFit !== null) {
       const start = addComponentStart(data, previousFit);
       if (start !== null) fitOptions.previous = start;
@@ -99,7 +93,10 @@ export function scanComponents(data: RegressionData, options: ScanOptions): Scan
     try {
       fit = fitMixture(data, fitOptions);
     } catch (error) {
-      if (error instanceof SkeinError && error.code !== "cancelled" && k > 1) break;
+      if (error instanceof SkeinError && error.code !== "cancelled" && k > 1) {
+        stoppedEarly = `Tried K = 1 to ${k - 1}, not up to ${kMax}: the fit with K = ${k} failed (${error.message})`;
+        break;
+      }
       throw error;
     }
     rows.push(scanRow(data, fit));
@@ -146,7 +143,7 @@ export function scanComponents(data: RegressionData, options: ScanOptions): Scan
     `Smallest BIC among K whose refinement converged and whose best starts agree, with no near-degenerate component and every pair of components at least ${MIN_SUGGESTED_GAP} noise SD apart; ` +
     `the smallest such K within ${BIC_TIE} BIC units of that minimum. With fewer than ${SMALL_SAMPLE_ROWS_PER_COEFFICIENT} rows per coefficient per component, ` +
     `a K must also predict most held-out rows (${CROSS_VALIDATION_FOLDS}-fold cross-validation) at least as well as every smaller K.`;
-  return { rows, chosenK, rule };
+  return { rows, chosenK, rule, stoppedEarly };
 }
 
 function scanRow(data: RegressionData, fit: MixtureFit): ScanRow {
@@ -156,7 +153,12 @@ function scanRow(data: RegressionData, fit: MixtureFit): ScanRow {
   const converged = fit.warmStart.converged && fit.refinement.converged;
   const reasons: string[] = [];
   if (!fit.refinement.converged) reasons.push("the refinement did not converge");
-  if (fit.warmStart.disagreement > STARTS_DISAGREE) {
+  // Starts disagree when the two best differ by more than the driver's threshold
+  // (DISAGREEMENT_RELATIVE: 1% of the coefficient scale) at nearly the same likelihood: the K
+  // components are then not determined by the data. A warm-start certificate that did not
+  // shrink while the starts agree is not a reason on its own: on noisy data the narrowest
+  // residual scale stops at the noise level.
+  if (fit.warmStart.disagreement > DISAGREEMENT_RELATIVE) {
     reasons.push(`different starts reached nearly the same likelihood with components ${formatShort(100 * fit.warmStart.disagreement)}% of the coefficient scale apart`);
   }
   for (let c = 0; c < k; c++) {
@@ -256,7 +258,7 @@ function heldOutLogLikelihoods(data: RegressionData, fit: MixtureFit, options: S
     const training = selectRows(data, kept);
     let trained: MixtureFit;
     try {
-      trained = fitMixture(training, { k: fit.k, seed: seed + f, intercept: fit.intercept, model: fit.model, restarts: options.restarts, previous: fit, signal: options.signal });
+      trained = fitMixture(training, { k: fit.k, seed: seed + f, intercept: fit.intercept, model: fit.model, restarts: options.restarts, background: options.background, previous: fit, signal: options.signal });
     } catch (error) {
       if (error instanceof SkeinError && error.code === "cancelled") throw error;
       return null;

@@ -1,4 +1,5 @@
 import { invertPositiveDefinite } from "./cholesky";
+import { mapFit, scaleData, scalesFor, unscaleStandardErrors } from "./internalScaling";
 import { SkeinError } from "./errors";
 import type { MixtureFit, MixtureOptions, RegressionData } from "./mixtureTypes";
 import type { StandardErrorReport } from "./trustTypes";
@@ -40,6 +41,13 @@ export const DEFAULT_REPLICATES = 200;
  * McLachlan & Peel 1997, Computational Statistics).
  */
 export function standardErrors(data: RegressionData, fit: MixtureFit, options: StandardErrorOptions = {}): StandardErrorReport & { warnings: string[] } {
+  // Values far from 1 are handled in the fit's scaled space (internalScaling.ts).
+  const scales = scalesFor(data);
+  if (scales !== null) return unscaleStandardErrors(unscaledStandardErrors(scaleData(data, scales), mapFit(fit, scales, -1), options), scales);
+  return unscaledStandardErrors(data, fit, options);
+}
+
+function unscaledStandardErrors(data: RegressionData, fit: MixtureFit, options: StandardErrorOptions): StandardErrorReport & { warnings: string[] } {
   const method = options.method ?? "observed-information";
   if (method === "bootstrap") return bootstrapErrors(data, fit, options);
   if (method !== "observed-information") {
@@ -61,6 +69,13 @@ function emptyReport(fit: MixtureFit, method: StandardErrorReport["method"]): St
 
 function informationErrors(data: RegressionData, fit: MixtureFit): StandardErrorReport & { warnings: string[] } {
   const report = emptyReport(fit, "observed-information");
+  const exact = exactComponent(data, fit);
+  if (exact !== null) {
+    report.warnings.push(
+      `Standard errors are not available: component ${exact + 1} fits its rows exactly (noise SD ${Number(fit.components[exact].sigma.toPrecision(3))}, next to nothing beside the spread of y), so the data show no noise to measure uncertainty by. This happens when y is one of the predictors, a copy of one or an exact combination of them: check the columns chosen.`,
+    );
+    return report;
+  }
   const info = observedInformation(data, fit);
   const { size, q, k, varianceOffset, logitOffset } = info;
   const covariance = invertPositiveDefinite(info.matrix, size);
@@ -85,7 +100,7 @@ function informationErrors(data: RegressionData, fit: MixtureFit): StandardError
   }
   if (k === 1) {
     report.weights[0] = 0;
-    return report;
+    return withReason(report);
   }
   // Delta method for π = softmax(η): J_kj = ∂π_k/∂η_j = π_k (δ_kj − π_j), j < K.
   const weights = fit.components.map((c) => c.weight);
@@ -99,6 +114,33 @@ function informationErrors(data: RegressionData, fit: MixtureFit): StandardError
       }
     }
     report.weights[c] = Math.sqrt(Math.max(0, variance));
+  }
+  return withReason(report);
+}
+
+/**
+ * A noise SD below this fraction of the SD of y is an exact fit: rounding, not noise (the
+ * fit's own variance floor is 1e-10 of it).
+ */
+const EXACT_SIGMA_RELATIVE = 1e-8;
+
+/** The first component whose noise SD is at rounding level next to the spread of y, or null. */
+function exactComponent(data: RegressionData, fit: MixtureFit): number | null {
+  let mean = 0;
+  for (let i = 0; i < data.n; i++) mean += data.y[i];
+  mean /= data.n;
+  let squares = 0;
+  for (let i = 0; i < data.n; i++) squares += (data.y[i] - mean) ** 2;
+  const spread = Math.sqrt(squares / data.n);
+  const index = fit.components.findIndex((c) => !(c.sigma > EXACT_SIGMA_RELATIVE * spread));
+  return index < 0 ? null : index;
+}
+
+/** Standard errors that still came out as no number get a warning saying so, never a bare NaN. */
+function withReason(report: StandardErrorReport & { warnings: string[] }): StandardErrorReport & { warnings: string[] } {
+  const missing = report.coefficients.some((errors) => errors.some(Number.isNaN)) || report.sigmas.some(Number.isNaN) || report.weights.some(Number.isNaN);
+  if (missing && report.warnings.length === 0) {
+    report.warnings.push("Some standard errors could not be computed: the likelihood is flat in some direction at this fit (a component with too few rows, or two components that coincide). Use fewer components, or the bootstrap.");
   }
   return report;
 }

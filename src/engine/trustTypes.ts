@@ -11,6 +11,8 @@ export interface ScanOptions {
   intercept?: boolean;
   model?: MixtureModel;
   restarts?: number;
+  /** Give every fit a flat background component (Banfield & Raftery 1993); see MixtureOptions. */
+  background?: boolean | "auto";
   /** Passed to each fit (see MixtureOptions). */
   tolerance?: number;
   maxIterations?: number;
@@ -43,6 +45,8 @@ export interface ScanResult {
   chosenK: number;
   /** The rule that chose it, in plain words. */
   rule: string;
+  /** Why the scan stopped before kMax (too few rows, or a fit that failed), or null when it reached kMax. */
+  stoppedEarly: string | null;
 }
 
 export interface SeparationPair {

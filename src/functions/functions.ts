@@ -15,8 +15,8 @@ import { checkTable, componentTable, labelColumn, membershipTable, predictionTab
  * Fits k hidden groups, each with its own linear regression of y on x. Returns one row per component: component number, weight, noise SD, intercept, then one coefficient per predictor.
  * @customfunction FIT
  * @helpurl https://localhost:3000/help.html#skein-fit
- * @param y The outcome: one column of numbers. Rows with a blank, text or logical cell in y or x are skipped.
- * @param x The predictors: one or more columns of numbers, over the same rows as y.
+ * @param y The outcome: one column of numbers. Rows with a blank, text or logical cell in y or in a numeric x column are skipped.
+ * @param x The predictors: one or more columns over the same rows as y, of numbers or of text categories such as regions or yes/no (each made into indicator columns).
  * @param [k] Number of components, a whole number from 1 to 50 (default 1).
  * @param [settings] Text such as "seed=7; intercept=no; model=joint", or a two-column range of names and values.
  * @param invocation Supplied by Excel: the formula's cell, and cancellation when its inputs change.
@@ -35,8 +35,8 @@ export async function fit(y: any[][], x: any[][], k?: number, settings?: any[][]
  * For each row of the data, the number of the component it most probably belongs to; "" for rows that were skipped. Lines up with the input rows.
  * @customfunction LABELS
  * @helpurl https://localhost:3000/help.html#skein-labels
- * @param y The outcome: one column of numbers. Rows with a blank, text or logical cell in y or x are skipped.
- * @param x The predictors: one or more columns of numbers, over the same rows as y.
+ * @param y The outcome: one column of numbers. Rows with a blank, text or logical cell in y or in a numeric x column are skipped.
+ * @param x The predictors: one or more columns over the same rows as y, of numbers or of text categories such as regions or yes/no (each made into indicator columns).
  * @param [k] Number of components, a whole number from 1 to 50 (default 1).
  * @param [settings] Text such as "seed=7; intercept=no; model=joint", or a two-column range of names and values.
  * @param invocation Supplied by Excel: the formula's cell, and cancellation when its inputs change.
@@ -55,8 +55,8 @@ export async function labels(y: any[][], x: any[][], k?: number, settings?: any[
  * For each row of the data, the probability that it belongs to each component (one column per component, each row sums to 1); "" for rows that were skipped.
  * @customfunction MEMBERSHIP
  * @helpurl https://localhost:3000/help.html#skein-membership
- * @param y The outcome: one column of numbers. Rows with a blank, text or logical cell in y or x are skipped.
- * @param x The predictors: one or more columns of numbers, over the same rows as y.
+ * @param y The outcome: one column of numbers. Rows with a blank, text or logical cell in y or in a numeric x column are skipped.
+ * @param x The predictors: one or more columns over the same rows as y, of numbers or of text categories such as regions or yes/no (each made into indicator columns).
  * @param [k] Number of components, a whole number from 1 to 50 (default 1).
  * @param [settings] Text such as "seed=7; intercept=no; model=joint", or a two-column range of names and values.
  * @param invocation Supplied by Excel: the formula's cell, and cancellation when its inputs change.
@@ -75,8 +75,8 @@ export async function membership(y: any[][], x: any[][], k?: number, settings?: 
  * Fits 1 to kmax components and compares them, to help choose how many groups there are. One row per K: log-likelihood, BIC, ICL, smallest separation, converged, whether this K is suggested, and a note.
  * @customfunction SCAN
  * @helpurl https://localhost:3000/help.html#skein-scan
- * @param y The outcome: one column of numbers. Rows with a blank, text or logical cell in y or x are skipped.
- * @param x The predictors: one or more columns of numbers, over the same rows as y.
+ * @param y The outcome: one column of numbers. Rows with a blank, text or logical cell in y or in a numeric x column are skipped.
+ * @param x The predictors: one or more columns over the same rows as y, of numbers or of text categories such as regions or yes/no (each made into indicator columns).
  * @param [kmax] Largest number of components to try, from 1 to 50 (default 5, or fewer when there are few rows).
  * @param [settings] Text such as "seed=7; intercept=no; model=joint", or a two-column range of names and values.
  * @param invocation Supplied by Excel: the formula's cell, and cancellation when its inputs change.
@@ -92,11 +92,11 @@ export async function scan(y: any[][], x: any[][], kmax?: number, settings?: any
 }
 
 /**
- * How far to trust the fit: whether it converged, how well the components are separated, the estimated share of misclassified rows, the smallest weight, rows used and skipped, and warnings with what to try.
+ * How far to trust the fit: whether it converged, how well the components are separated, the estimated share of misclassified rows, the smallest weight, rows used and skipped, stray rows (rows no component explains), and warnings with what to try.
  * @customfunction CHECK
  * @helpurl https://localhost:3000/help.html#skein-check
- * @param y The outcome: one column of numbers. Rows with a blank, text or logical cell in y or x are skipped.
- * @param x The predictors: one or more columns of numbers, over the same rows as y.
+ * @param y The outcome: one column of numbers. Rows with a blank, text or logical cell in y or in a numeric x column are skipped.
+ * @param x The predictors: one or more columns over the same rows as y, of numbers or of text categories such as regions or yes/no (each made into indicator columns).
  * @param [k] Number of components, a whole number from 1 to 50 (default 1).
  * @param [settings] Text such as "seed=7; intercept=no; model=joint", or a two-column range of names and values.
  * @param invocation Supplied by Excel: the formula's cell, and cancellation when its inputs change.
@@ -117,7 +117,7 @@ export async function check(y: any[][], x: any[][], k?: number, settings?: any[]
  * @helpurl https://localhost:3000/help.html#skein-predict
  * @param y The outcome the model is fitted to: one column of numbers.
  * @param x The predictors the model is fitted to, over the same rows as y.
- * @param new_x The rows to predict for: the same predictor columns as x, in the same order.
+ * @param new_x The rows to predict for: the same predictor columns as x, in the same order (category columns take the same text values).
  * @param [k] Number of components, a whole number from 1 to 50 (default 1).
  * @param [settings] Text such as "seed=7; intercept=no; model=joint", or a two-column range of names and values.
  * @param invocation Supplied by Excel: the formula's cell, and cancellation when its inputs change.

@@ -1,8 +1,9 @@
 /**
  * The optional `settings` argument of every SKEIN function: either text such as
  * "seed=7; intercept=no; model=joint", or a two-column range of name/value pairs. Every name
- * and value is checked once, here, against the table below; a wrong one is rejected with a
- * message that names the setting, what it accepts and what it received.
+ * and value is checked once, here, against the engine's options table (src/engine/options.ts)
+ * plus the worksheet-only headers setting; a wrong one is rejected with a message that names
+ * the setting, what it accepts and what it received.
  */
 import { SkeinError } from "../engine/errors";
 import type { MixtureModel } from "../engine/mixtureTypes";
@@ -19,6 +20,8 @@ export interface FunctionSettings {
   maxIterations?: number;
   /** Header row on the results: yes, no, or "auto" (exactly when the input ranges start with one). */
   headers: boolean | "auto";
+  /** A flat background component beside the K regressions (Banfield & Raftery 1993): yes, no, or "auto" (only when the fit without it shows far-off rows). */
+  background: boolean | "auto";
 }
 
 /** Defaults: the options table's seed, intercept and model; the engine's own restarts, tolerance and iterations. */
@@ -27,7 +30,15 @@ export const DEFAULT_SETTINGS: Readonly<FunctionSettings> = {
   intercept: optionSpec("intercept").default as boolean,
   model: optionSpec("model").default as MixtureModel,
   headers: "auto",
+  background: backgroundSetting(optionSpec("background").default),
 };
+
+/** The background option's text ("auto", "yes", "no") or a logical cell as the engine takes it. */
+export function backgroundSetting(value: unknown): boolean | "auto" {
+  if (typeof value === "boolean") return value;
+  const read = readOptionValue(optionSpec("background"), value);
+  return read === "yes" ? true : read === "no" ? false : "auto";
+}
 
 type Apply = (settings: FunctionSettings, value: unknown, name: string) => void;
 
@@ -66,6 +77,13 @@ const RULES: Record<string, SettingRule> = {
       const read = readOptionValue(optionSpec("intercept"), v);
       if (read === undefined) throw badValue(n, "yes or no", v);
       s.headers = read as boolean;
+    },
+  },
+  background: {
+    accepts: optionSpec("background").accepts,
+    apply: (s, v, n) => {
+      if (typeof v !== "boolean" && readOptionValue(optionSpec("background"), v) === undefined) throw badValue(n, optionSpec("background").accepts, v);
+      s.background = backgroundSetting(v);
     },
   },
 };
@@ -154,5 +172,5 @@ function parseSettingsText(text: string, set: (name: string, value: unknown) => 
 
 /** The settings that change a fit, as text for a cache key (headers only change the layout). */
 export function fitSettingsKey(settings: FunctionSettings): string {
-  return [settings.seed, settings.intercept ? 1 : 0, settings.model, settings.restarts ?? "", settings.tolerance ?? "", settings.maxIterations ?? ""].join("|");
+  return [settings.seed, settings.intercept ? 1 : 0, settings.model, settings.restarts ?? "", settings.tolerance ?? "", settings.maxIterations ?? "", String(settings.background)].join("|");
 }

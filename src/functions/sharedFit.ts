@@ -15,6 +15,7 @@ import { checkRowsForComponents } from "../engine/fitMixture";
 import { DEFAULT_KMAX, MAX_COMPONENTS } from "../engine/options";
 import type { MixtureFit } from "../engine/mixtureTypes";
 import type { ScanResult, SeparationReport } from "../engine/trustTypes";
+import type { StrayRowsReport } from "../engine/strayRows";
 import { engineService } from "../service/engineService";
 import { hashCells } from "../service/hashCells";
 import type { Lease } from "../service/resultCache";
@@ -29,6 +30,8 @@ export interface SharedFit {
   layout: RowLayout;
   /** Filled the first time SKEIN.CHECK asks for it. */
   separation?: SeparationReport;
+  /** Rows no component explains; filled the first time SKEIN.CHECK asks for them. */
+  stray?: StrayRowsReport;
 }
 
 export interface SharedScan {
@@ -97,13 +100,14 @@ export async function sharedFit(y: unknown, x: unknown, kArgument: unknown, sett
       restarts: settings.restarts,
       tolerance: settings.tolerance,
       maxIterations: settings.maxIterations,
+      background: settings.background,
     },
     bytes: entryBytes(y, x, k),
     viewer: invocation?.address,
     build: () => {
       const design = buildDesign(y as unknown[][], x as unknown[][], { intercept: settings.intercept });
       checkRowsForK(design, k, settings.intercept);
-      return { design, layout: layoutOf(design, y as unknown[][], x as unknown[][]) } as { design: Design; layout: RowLayout; separation?: SeparationReport };
+      return { design, layout: layoutOf(design, y as unknown[][], x as unknown[][]) } as { design: Design; layout: RowLayout; separation?: SeparationReport; stray?: StrayRowsReport };
     },
   });
   return { shared: await follow(lease, invocation), settings };
@@ -119,11 +123,11 @@ export async function sharedScan(y: unknown, x: unknown, kMaxArgument: unknown, 
     bytes: entryBytes(y, x, Math.max(requested, DEFAULT_KMAX)) * Math.max(requested, DEFAULT_KMAX),
     prepare: () => {
       const design = buildDesign(y as unknown[][], x as unknown[][], { intercept: settings.intercept });
-      const coefficients = design.p + (settings.intercept ? 1 : 0);
-      // Without kmax: up to DEFAULT_KMAX, as far as the rows allow; with it, every K must fit.
-      const kMax = requested === 0 ? Math.max(1, Math.min(DEFAULT_KMAX, Math.floor(design.n / (coefficients + 1)))) : requested;
-      checkRowsForK(design, kMax, settings.intercept);
-      return { design, options: { kMax, seed: settings.seed, intercept: settings.intercept, model: settings.model, restarts: settings.restarts, tolerance: settings.tolerance, maxIterations: settings.maxIterations } };
+      // Without kmax: up to DEFAULT_KMAX, as far as the rows allow (the engine stops where the
+      // rows run out and says so in the scan's stoppedEarly); with it, every K must fit.
+      const kMax = requested === 0 ? DEFAULT_KMAX : requested;
+      checkRowsForK(design, requested === 0 ? 1 : kMax, settings.intercept);
+      return { design, options: { kMax, seed: settings.seed, intercept: settings.intercept, model: settings.model, restarts: settings.restarts, tolerance: settings.tolerance, maxIterations: settings.maxIterations, background: settings.background } };
     },
   });
   return { shared: await follow(lease, invocation), settings };

@@ -3,11 +3,16 @@
  * trade's words, see NAMES.md) and the rows (spill.ts shapes them).
  */
 import { checkSeparation } from "../engine/checkSeparation";
+import { encodeRow, levelOf, type PredictorColumn } from "../engine/categoryLevels";
+import { findStrayRows } from "../engine/strayRows";
 import { SkeinError } from "../engine/errors";
 import { engineService } from "../service/engineService";
 import type { FunctionSettings } from "./settings";
 import type { SharedFit, SharedScan } from "./sharedFit";
 import { cell, perInputRow, rowsThroughLastData, showsHeader, table, type Cell, type RowLayout } from "./spill";
+
+/** Stray rows CHECK lists one by one; the rest are counted. */
+const STRAY_ROWS_LISTED = 10;
 
 /** SKEIN.FIT: one row per component. The intercept column is "" when the fit has none. */
 export function componentTable({ design, fit }: SharedFit, settings: FunctionSettings): Cell[][] {
@@ -48,6 +53,11 @@ export function scanTable({ design, scan }: SharedScan, settings: FunctionSettin
     row.k === scan.chosenK,
     row.flag ?? "",
   ]);
+  // Why the scan stopped before kmax goes with the last K tried.
+  if (scan.stoppedEarly && rows.length > 0) {
+    const last = rows[rows.length - 1];
+    last[7] = last[7] === "" ? scan.stoppedEarly : `${last[7]} ${scan.stoppedEarly}`;
+  }
   return table(header, rows, showsHeader(settings, design.hasHeaderRow));
 }
 
@@ -66,6 +76,17 @@ export function checkTable(shared: SharedFit, settings: FunctionSettings): Cell[
     ["rows used", design.n],
     ["rows skipped", design.skipped.length],
   ];
+  for (const notice of design.notices) rows.push(["note", notice]);
+  if (fit.background) rows.push(["background weight", cell(fit.background.weight)]);
+  shared.stray ??= findStrayRows({ y: design.y, x: design.x, n: design.n, p: design.p }, fit);
+  const stray = shared.stray;
+  rows.push(["stray rows", stray.rows.length]);
+  const firstRangeRow = design.hasHeaderRow ? 2 : 1;
+  for (const s of stray.rows.slice(0, STRAY_ROWS_LISTED)) {
+    rows.push(["stray row", `row ${design.rowIndex[s.row] + firstRangeRow} of the ranges: ${Number(s.distance.toPrecision(3))} noise SDs from component ${s.nearest + 1}, the nearest`]);
+  }
+  if (stray.rows.length > STRAY_ROWS_LISTED) rows.push(["stray row", `and ${stray.rows.length - STRAY_ROWS_LISTED} more`]);
+  if (stray.rows.length > 0) rows.push(["stray row rule", stray.rule]);
   const warnings = [...new Set([...fit.warnings, ...separation.warnings])];
   if (warnings.length === 0) rows.push(["warning", "none"]);
   for (const warning of warnings) rows.push(["warning", warning]);
@@ -79,7 +100,7 @@ export function checkTable(shared: SharedFit, settings: FunctionSettings): Cell[
  * text is a header row.
  */
 export async function predictionTable({ design, fit }: SharedFit, newX: unknown, settings: FunctionSettings): Promise<Cell[][]> {
-  const rows = readNewRows(newX, design.p);
+  const rows = readNewRows(newX, design.columns, design.p);
   const k = fit.k;
   // Through the engine service: many new rows go to the engine worker like a large fit.
   const prediction = await engineService.predict(fit, rows.x, rows.n);
@@ -98,35 +119,40 @@ interface NewRows extends RowLayout {
 }
 
 /**
- * The usable rows of new_x. The rule is the data layer's: only finite numbers are used, and
- * a row with anything else is left out (its output row stays ""). The data layer's checks on
- * predictors (constant or duplicated columns) do not apply: one row to predict for is fine.
+ * The usable rows of new_x, one cell per input column of x, encoded as x was (a category
+ * column's text becomes its indicators; a value the fit never saw is refused by name). The
+ * rule for numbers is the data layer's: only finite numbers are used, and a row with anything
+ * else is left out (its output row stays ""). The data layer's checks on predictors (constant
+ * or duplicated columns) do not apply: one row to predict for is fine. A first row that is all
+ * text is a header row unless each of its cells is a known value of a category column.
  */
-function readNewRows(newX: unknown, p: number): NewRows {
+function readNewRows(newX: unknown, columns: readonly PredictorColumn[], p: number): NewRows {
   if (!Array.isArray(newX) || newX.length === 0 || !newX.every(Array.isArray)) {
     throw new SkeinError("bad-input", "new_x must be a range of rows of predictors to predict for; it is empty or not a range.");
   }
   const cells = newX as unknown[][];
+  const width = columns.length;
   for (let r = 0; r < cells.length; r++) {
-    if (cells[r].length !== p) {
-      throw new SkeinError("bad-input", `new_x has ${cells[r].length} column${cells[r].length === 1 ? "" : "s"} in row ${r + 1} but x has ${p}; give new_x the same predictor columns as x, in the same order.`);
+    if (cells[r].length !== width) {
+      throw new SkeinError("bad-input", `new_x has ${cells[r].length} column${cells[r].length === 1 ? "" : "s"} in row ${r + 1} but x has ${width}; give new_x the same predictor columns as x, in the same order.`);
     }
   }
-  const hasHeaderRow = cells[0].every((value) => typeof value === "string" && value.trim() !== "" && !value.trim().startsWith("#"));
+  const hasHeaderRow =
+    cells[0].every((value) => typeof value === "string" && value.trim() !== "" && !value.trim().startsWith("#")) &&
+    !cells[0].every((value, j) => isKnownLevel(columns[j], value));
   const first = hasHeaderRow ? 1 : 0;
   const inputRows = rowsThroughLastData([cells], first);
   const x = new Float64Array(inputRows * p);
   const rowIndex = new Int32Array(inputRows);
   let n = 0;
   for (let r = 0; r < inputRows; r++) {
-    const row = cells[r + first];
-    let usable = true;
-    for (let j = 0; j < p && usable; j++) {
-      const value = row[j];
-      usable = typeof value === "number" && Number.isFinite(value);
-      if (usable) x[n * p + j] = value as number;
-    }
-    if (usable) rowIndex[n++] = r;
+    if (encodeRow(columns, cells[r + first], x, n * p, `Row ${r + first + 1} of new_x`)) rowIndex[n++] = r;
   }
   return { x: x.slice(0, n * p), n, shownRows: inputRows, rowIndex: rowIndex.slice(0, n), hasHeaderRow };
+}
+
+function isKnownLevel(column: PredictorColumn, value: unknown): boolean {
+  if (column.kind !== "category") return false;
+  const level = levelOf(value);
+  return level !== null && column.counts.some((c) => c.level.toLowerCase() === level[0]);
 }

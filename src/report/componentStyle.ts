@@ -12,30 +12,32 @@
  * protanopia, deuteranopia and tritanopia (Machado, Oliveira & Fernandes
  * 2009, severity 1, src/report/colourVision.ts), with normal vision asked for
  * 1.4 times that difference; every colour has a 3:1 contrast with the plot's
- * paper (WCAG 2.1, 1.4.11), OKLCh chroma ≥ 0.08 and CIE L* ≥ 30; the first
- * four differ by ≥ 9 in CIE L* (greyscale print). The order makes the first
- * three, four, five colours as far apart as the set allows, darker first on
- * ties; colours 7 to 10 were added one at a time, each farthest from those
- * before it. What the search printed (smallest ΔE_OK; normal / protanopia /
+ * paper (WCAG 2.1, 1.4.11), OKLCh chroma between 0.08 and 0.25 (not grey,
+ * and off the sRGB cube's most saturated corners, which glare on screen and
+ * which colour printers do not reproduce) and CIE L* ≥ 30; the first four
+ * differ by ≥ 9 in CIE L* (greyscale print). The order makes the first three,
+ * four, five colours as far apart as the set allows, darker first on ties;
+ * colours 7 to 10 were added one at a time, each farthest from those before
+ * it. What the search printed (smallest ΔE_OK; normal / protanopia /
  * deuteranopia / tritanopia):
  *
- *   first 3   0.296 / 0.202 / 0.276 / 0.238   smallest L* step 9.0
- *   first 4   0.213 / 0.156 / 0.151 / 0.160   smallest L* step 9.0
- *   first 6   0.211 / 0.152 / 0.151 / 0.151
- *   first 10  0.113 / 0.085 / 0.081 / 0.083
+ *   first 3   0.305 / 0.217 / 0.155 / 0.281   smallest L* step 9.1
+ *   first 4   0.207 / 0.148 / 0.155 / 0.148   smallest L* step 9.1
+ *   first 6   0.207 / 0.148 / 0.148 / 0.148
+ *   first 10  0.116 / 0.083 / 0.083 / 0.087
  *
- *   1 #8a1c04 brick      L* 30.0    6 #2198ef sky        L* 60.8
- *   2 #023eff ultramarine L* 39.0   7 #960cb7 violet     L* 38.1
- *   3 #fd4c91 rose       L* 60.0    8 #b3486a raspberry  L* 46.0
- *   4 #897700 olive      L* 50.1    9 #7b6cc0 lavender   L* 50.4
- *   5 #2b4773 navy       L* 30.1   10 #799f00 moss       L* 60.7
+ *   1 #025310 forest   L* 30.0    6 #ff498c rose     L* 59.8
+ *   2 #aa0095 magenta  L* 39.1    7 #6d335e plum     L* 30.5
+ *   3 #3b98e6 sky      L* 60.9    8 #009065 jade     L* 52.8
+ *   4 #8b7503 olive    L* 49.8    9 #72a100 lime     L* 60.8
+ *   5 #4640ef indigo   L* 39.9   10 #c84db1 orchid   L* 52.7
  *
  * (A ΔE_OK of 0.02 is about one just-noticeable difference.) Beyond ten
  * components the colours repeat with a shifted shape and dash, so every pair
  * among the first hundred differs in colour or shape.
  *
  * MARKER SHAPES and LINE DASHES are this project's own: ten hole-free
- * silhouettes (hexagon first) of about equal ink, and ten dash patterns
+ * silhouettes (half-disc first) of about equal ink, and ten dash patterns
  * (long dash first). test/componentStyle.test.ts checks that the shapes differ
  * in outline and the dashes in rhythm.
  *
@@ -46,11 +48,16 @@
  */
 
 /** Component colours in component order (see above for how they were found). */
-export const COMPONENT_COLOURS = ["#8a1c04", "#023eff", "#fd4c91", "#897700", "#2b4773", "#2198ef", "#960cb7", "#b3486a", "#7b6cc0", "#799f00"] as const;
+export const COMPONENT_COLOURS = ["#025310", "#aa0095", "#3b98e6", "#8b7503", "#4640ef", "#ff498c", "#6d335e", "#009065", "#72a100", "#c84db1"] as const;
 
 export type MarkerShape = "hexagon" | "dart" | "saltire" | "dome" | "kite" | "plus" | "hourglass" | "sparkle" | "slab" | "pennant";
 
-export const MARKER_SHAPES: readonly MarkerShape[] = ["hexagon", "dart", "saltire", "dome", "kite", "plus", "hourglass", "sparkle", "slab", "pennant"];
+/**
+ * Marker order: the first three are the most unlike each other and unlike a dot
+ * at marker size (a half-disc, a four-point star, an upright bar); the hexagon,
+ * which reads as round when small, comes last.
+ */
+export const MARKER_SHAPES: readonly MarkerShape[] = ["dome", "sparkle", "slab", "pennant", "hourglass", "kite", "saltire", "dart", "plus", "hexagon"];
 
 /** SVG stroke-dasharray of each component's fitted line ("" is unbroken). */
 export const LINE_DASHES: readonly string[] = ["12 4", "", "2 3 8 3", "7 2 1.5 2 1.5 2", "1.5 3", "14 3 3 3 3 3", "4 4", "18 3 6 3", "2 6", "9 2 9 7"];

@@ -87,10 +87,14 @@ function runFitJob(job: FitJob, signal: CancelSignal): MixtureFit {
   return fitMixture(job.data, options);
 }
 
-function describeFit(data: RegressionData, fit: MixtureFit): FitDescription {
+export function describeFit(data: RegressionData, fit: MixtureFit): FitDescription {
   const separation = checkSeparation(data, fit);
   try {
-    return { separation, errors: standardErrors(data, fit), errorsProblem: null };
+    const errors = standardErrors(data, fit);
+    // Standard errors that could not be computed are shown as the reason, never as NaN.
+    const missing = errors.coefficients.some((values) => values.some(Number.isNaN)) || errors.sigmas.some(Number.isNaN);
+    if (missing) return { separation, errors: null, errorsProblem: errors.warnings.join(" ") };
+    return { separation, errors, errorsProblem: null };
   } catch (error) {
     // Standard errors can fail where the fit itself is fine (a singular information matrix
     // for a near-empty component); the estimates are then shown alone.

@@ -59,8 +59,8 @@ export type ScanAnswer<D extends Built> = D & { scan: ScanResult };
 
 /** The options that change a fit, in a fixed order: part of the cache key. */
 export function fitOptionsKey(options: FitJobOptions): string {
-  const { k, seed, intercept, model, restarts, tolerance, maxIterations } = options;
-  return [k, seed ?? "", intercept === false ? 0 : 1, model ?? "plain", restarts ?? "", tolerance ?? "", maxIterations ?? ""].join("|");
+  const { k, seed, intercept, model, restarts, tolerance, maxIterations, background } = options;
+  return [k, seed ?? "", intercept === false ? 0 : 1, model ?? "plain", restarts ?? "", tolerance ?? "", maxIterations ?? "", String(background ?? false)].join("|");
 }
 
 export function regressionData(design: Design): RegressionData {

@@ -1,8 +1,13 @@
 import { element, section } from "../dom";
-import { formatNumber, formatShare } from "../format";
+import { formatNumber, formatShare, plural } from "../format";
 import { markerSwatch } from "../markers";
 import type { Pane } from "../pane";
 import type { PaneState } from "../paneState";
+import { parseAddress } from "../a1";
+import { findStrayRows } from "../../src/engine/strayRows";
+
+/** Stray rows listed by number; the rest are counted. */
+const STRAY_SHOWN = 10;
 
 /**
  * A tenth of the rows skipped is enough to ask whether the skipped rows differ from
@@ -81,7 +86,14 @@ export function mountChecksSection(parent: HTMLElement, pane: Pane): { update(st
     if (seedInput) seedInput.value = String(pane.state.seed);
     void pane.runScan();
   });
-  body.append(empty, warnings, trySeed, measures, tableWrap);
+  const stray = element("div", { id: "stray-rows", "aria-live": "polite" });
+  const strayList = element("ul", { id: "stray-list", class: "compact", "aria-label": "Stray rows" });
+  const leaveOut = element("button", { type: "button", id: "leave-out-stray", class: "secondary", hidden: "" }, "Leave these rows out and run the scan again");
+  let strayDataRows: number[] = [];
+  leaveOut.addEventListener("click", () => void pane.setLeftOut([...pane.state.leftOut, ...strayDataRows]));
+  const straySummary = element("p", { id: "stray-summary" });
+  stray.append(straySummary, strayList, leaveOut);
+  body.append(empty, warnings, trySeed, stray, measures, tableWrap);
 
   return {
     update(state) {
@@ -92,9 +104,29 @@ export function mountChecksSection(parent: HTMLElement, pane: Pane): { update(st
         measures.innerHTML = "";
         tableWrap.innerHTML = "";
         trySeed.hidden = true;
+        stray.hidden = true;
         return;
       }
       empty.hidden = true;
+      // Stray rows: the engine's one rule (strayRows.ts), named by sheet row.
+      const design = state.design;
+      const report = findStrayRows({ y: design.y, x: design.x, n: design.n, p: design.p }, fit);
+      const top = parseAddress(state.yAddress)?.top ?? 0;
+      const firstSheetRow = top + (design.hasHeaderRow ? 1 : 0) + 1;
+      strayDataRows = report.rows.map((r) => design.rowIndex[r.row]);
+      stray.hidden = false;
+      strayList.innerHTML = "";
+      const bound = formatNumber(report.bound, 3);
+      if (report.rows.length === 0) {
+        straySummary.textContent = `Stray rows: none. Every row lies within ${bound} noise SDs of some component.`;
+      } else {
+        straySummary.textContent = `Stray rows: ${plural(report.rows.length, "row")} that no component explains (each lies more than ${bound} noise SDs from every component).${fit.background ? " A background component holds them, so they do not pull on the components." : ""}`;
+        for (const r of report.rows.slice(0, STRAY_SHOWN)) {
+          strayList.appendChild(element("li", {}, `Row ${firstSheetRow + design.rowIndex[r.row]}: ${formatNumber(r.distance, 3)} noise SDs from component ${r.nearest + 1}, the nearest`));
+        }
+        if (report.rows.length > STRAY_SHOWN) strayList.appendChild(element("li", {}, `and ${plural(report.rows.length - STRAY_SHOWN, "more row")}`));
+      }
+      leaveOut.hidden = report.rows.length === 0 || state.scanning;
       const list = warningsFor(state);
       warnings.innerHTML = "";
       if (list.length === 0) {

@@ -29,7 +29,7 @@ export function mountDataSection(parent: HTMLElement, pane: Pane): { body: HTMLE
     return input;
   };
   const yInput = makeField("y", "Response range (y)", "One column; a name in its first row is found on its own.");
-  const xInput = makeField("x", "Predictor range (x)", "One or more side-by-side columns over the same rows as y.");
+  const xInput = makeField("x", "Predictor range (x)", "One or more side-by-side columns over the same rows as y: numbers, or text categories such as regions or yes/no.");
   body.appendChild(fields);
   const commit = () => void pane.setAddresses(yInput.value.trim(), xInput.value.trim());
   for (const input of [yInput, xInput]) {
@@ -39,8 +39,11 @@ export function mountDataSection(parent: HTMLElement, pane: Pane): { body: HTMLE
     });
   }
   const summary = element("div", { id: "data-summary", class: "summary", "aria-live": "polite" });
+  const leftOut = element("p", { id: "data-left-out", hidden: "" });
+  const putBack = element("button", { type: "button", id: "put-back", class: "secondary", hidden: "" }, "Put them back and run the scan again");
+  putBack.addEventListener("click", () => void pane.setLeftOut([]));
   const problem = element("p", { id: "data-problem", class: "problem", role: "alert", hidden: "" });
-  body.append(summary, problem);
+  body.append(summary, leftOut, putBack, problem);
 
   return {
     body,
@@ -50,15 +53,25 @@ export function mountDataSection(parent: HTMLElement, pane: Pane): { body: HTMLE
       problem.hidden = state.dataProblem === null;
       problem.textContent = state.dataProblem ?? "";
       const design = state.design;
+      // Rows the user set aside from Checks, by sheet row, with the way back.
+      const firstSheetRow = (parseAddress(state.yAddress)?.top ?? 0) + (design?.hasHeaderRow ? 1 : 0) + 1;
+      leftOut.hidden = putBack.hidden = state.leftOut.length === 0;
+      leftOut.textContent = state.leftOut.length === 0 ? "" : `Left out of the fit at your request: row${state.leftOut.length === 1 ? "" : "s"} ${state.leftOut.map((r) => firstSheetRow + r).join(", ")}.`;
       if (!design) {
         summary.innerHTML = state.dataProblem ? "" : `<p class="hint">Choose the response and predictor ranges to begin.</p>`;
         return;
       }
       summary.innerHTML = "";
       const header = design.hasHeaderRow
-        ? `Header row found: y is “${design.yName}”, x is ${design.predictorNames.map((n) => `“${n}”`).join(", ")}.`
-        : `No header row: the columns are called ${design.yName} and ${design.predictorNames.join(", ")}.`;
+        ? `Header row found: y is “${design.yName}”, x is ${design.columns.map((c) => `“${c.name}”`).join(", ")}.`
+        : `No header row: the columns are called ${design.yName} and ${design.columns.map((c) => c.name).join(", ")}.`;
       summary.appendChild(element("p", { id: "data-headers" }, header));
+      if (design.notices.length > 0) {
+        // Category columns: which indicators they became and the reference level.
+        const notes = element("ul", { id: "data-notes", class: "compact", "aria-label": "What was done to the columns" });
+        for (const notice of design.notices) notes.appendChild(element("li", {}, notice));
+        summary.appendChild(notes);
+      }
       summary.appendChild(element("p", { id: "data-rows" }, `Rows used: ${design.n} of ${design.inputRows}. Rows skipped: ${design.skipped.length}${design.skipped.length > 0 ? ` (${formatShare(design.skipped.length / design.inputRows)})` : ""}.`));
       if (design.skipped.length > 0) {
         // Sheet row numbers, so the user can go straight to the cell.

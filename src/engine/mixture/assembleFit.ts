@@ -6,6 +6,8 @@ import { createParameters, permuteParameters, type MixtureParameters } from "./m
 import { computeResiduals, eStep } from "./eStep";
 import { mStepPredictorModel, type Guards } from "./mStep";
 import { canonicalOrder } from "./canonicalOrder";
+import { runEm } from "./runEm";
+import { createRandom } from "../random";
 
 /**
  * K = 1 is ordinary least squares: the QR core gives the coefficients, σ = sqrt(RSS/n) and
@@ -17,6 +19,14 @@ export function fitSingleComponent(ws: MixtureWorkspace, settings: Settings, gua
   params.weights[0] = 1;
   params.coefficients.set(fit.coefficients);
   params.variances[0] = fit.mlSigma * fit.mlSigma;
+  if (ws.background) {
+    // With a background the one regression is a weighted fit: EM from least squares.
+    const run = runEm(ws, params, { guards, tolerance: settings.tolerance, random: createRandom(settings.seed) }, settings.maxIterations);
+    const warmStart: WarmStartReport = { converged: true, method: "single-component", certificate: NaN, startsTried: 1, disagreement: 0 };
+    const refinement: RefinementReport = { converged: run.converged, iterations: run.iterations, logLikelihoodPath: [run.logLikelihood], reseeds: run.reseeds };
+    const warnings = run.converged ? [] : [`The fit stopped after ${run.iterations} iterations before the log-likelihood settled. Raise max_iterations or loosen tolerance.`];
+    return assembleFit(ws, params, run.logLikelihood, settings, warmStart, refinement, warnings, guards, undefined, true);
+  }
   ws.memberships.fill(1);
   ws.sizes[0] = ws.n;
   let logLikelihood = fit.logLikelihood;
@@ -95,6 +105,8 @@ export function assembleFit(
   // the joint model adds a mean (p) and a covariance (p(p + 1)/2) per component.
   let parameterCount = k * (q + 2) - 1;
   if (settings.model === "joint") parameterCount += k * (p + (p * (p + 1)) / 2);
+  // The background adds its weight π₀; its flat density is fixed by the data's range.
+  if (ws.background) parameterCount += 1;
   // BIC = −2 ln L + ν ln n (Schwarz 1978); ICL = BIC + 2 EN (Biernacki, Celeux & Govaert 2000).
   const bic = -2 * logLikelihood + parameterCount * Math.log(n);
   const icl = bic + 2 * entropy;
@@ -123,6 +135,7 @@ export function assembleFit(
     refinement,
     warnings,
     seed: settings.seed,
+    ...(ws.background ? { background: { weight: ws.background.weight, logDensity: ws.background.logDensity, memberships: ws.background.memberships.slice() } } : {}),
   };
 }
 

@@ -1,5 +1,6 @@
 import type { MixtureParameters } from "./mixtureParameters";
 import type { MixtureWorkspace } from "./mixtureWorkspace";
+import { backgroundLogTerm } from "./backgroundComponent";
 
 import { gaussianLogDensity, LOG_TWO_PI, membershipsFromLogTerms } from "../logDensities";
 
@@ -47,6 +48,10 @@ export function eStep(ws: MixtureWorkspace, params: MixtureParameters, withResid
   const xMeans = params.xMeans as Float64Array;
   const xFactors = params.xCholesky as Float64Array;
   const xLogDeterminants = params.xLogDeterminants as Float64Array;
+  // The flat background (Banfield & Raftery 1993) is one more term, the same for every row:
+  // term k of the row's log terms, its membership then moved to the background's own array.
+  const background = ws.background;
+  const backgroundTerm = background ? backgroundLogTerm(background) : 0;
   let total = 0;
   for (let i = 0; i < n; i++) {
     const offset = i * k;
@@ -65,7 +70,15 @@ export function eStep(ws: MixtureWorkspace, params: MixtureParameters, withResid
       if (joint) value += gaussianLogDensity(ws.predictors, i * ws.p, xMeans, c * ws.p, xFactors, c * ws.p * ws.p, xLogDeterminants[c], ws.p, ws.predictorScratch);
       logTerm[c] = value;
     }
-    const rowValue = membershipsFromLogTerms(logTerm, 0, k, memberships, offset);
+    let rowValue: number;
+    if (background) {
+      logTerm[k] = backgroundTerm;
+      rowValue = membershipsFromLogTerms(logTerm, 0, k + 1, logTerm, 0);
+      for (let c = 0; c < k; c++) memberships[offset + c] = logTerm[c];
+      background.memberships[i] = logTerm[k];
+    } else {
+      rowValue = membershipsFromLogTerms(logTerm, 0, k, memberships, offset);
+    }
     rowLogLikelihood[i] = rowValue;
     total += rowValue;
   }

@@ -1,6 +1,7 @@
 import { sampleIndices } from "../random";
 import type { FitContext } from "./fitContext";
 import { createWorkspace } from "./mixtureWorkspace";
+import { withBackground } from "./backgroundComponent";
 import type { Incumbent } from "./refineBest";
 import { runEm } from "./runEm";
 
@@ -29,7 +30,7 @@ export function finishOnAllRows(ctx: FitContext, incumbent: Incumbent): OnAllRow
   let subsampleIterations = incumbent.run.iterations;
   if (full.n > INTERMEDIATE_FRACTION * 2 * working.n) {
     const rows = sampleIndices(full.n, Math.floor(full.n / INTERMEDIATE_FRACTION), ctx.random);
-    const intermediate = createWorkspace(ctx.data, settings.k, settings.intercept, full.joint, rows);
+    const intermediate = withBackground(createWorkspace(ctx.data, settings.k, settings.intercept, full.joint, rows), settings.background, full);
     subsampleIterations += runEm(intermediate, params, ctx, settings.maxIterations).iterations;
   }
   const fromSubsample = incumbent.run;

@@ -13,6 +13,8 @@ export interface Settings {
   restarts: number;
   tolerance: number;
   maxIterations: number;
+  /** A flat background component beside the K regressions (backgroundComponent.ts). */
+  background: boolean;
 }
 
 /** What every EM run needs besides its rows and parameters. */

@@ -54,12 +54,14 @@ export function mStepCoefficients(ws: MixtureWorkspace, params: MixtureParameter
   // the others', since Σ_k τ_ik = 1: one component fewer to accumulate. Taking the largest keeps
   // the cancellation small: the error is about rounding × n / n_largest ≤ rounding × k.
   const total = totalGram(ws);
+  // With a background component the memberships of the K regressions no longer sum to 1.
+  const complement = k > 1 && ws.background === null;
   let largest = 0;
   for (let c = 1; c < k; c++) if (sizes[c] > sizes[largest]) largest = c;
   for (let start = 0; start < n; start += blockRows) {
     const end = Math.min(n, start + blockRows);
     for (let c = 0; c < k; c++) {
-      if (c === largest && k > 1) continue;
+      if (c === largest && complement) continue;
       // Gather the rows this component holds into column-major buffers of length m.
       let m = 0;
       for (let i = start; i < end; i++) {
@@ -81,7 +83,7 @@ export function mStepCoefficients(ws: MixtureWorkspace, params: MixtureParameter
       accumulateGramBlock(blockWeighted, blockColumns, blockRows, m, q, grams, gramOffset);
     }
   }
-  if (k > 1) {
+  if (complement) {
     const offset = largest * q * q;
     for (let j = 0; j < q; j++) {
       let rhs = total.rightHandSide[j];

@@ -84,5 +84,7 @@ export function checkInput(data: RegressionData, options: MixtureOptions): Setti
   if (typeof tolerance !== "number" || !(tolerance > 0) || !Number.isFinite(tolerance)) throw new SkeinError("bad-input", `tolerance must be a positive number such as 1e-8; received ${String(tolerance)}.`);
   const maxIterations = options.maxIterations ?? DEFAULT_MAX_ITERATIONS;
   if (!Number.isInteger(maxIterations) || maxIterations < 1) throw new SkeinError("bad-input", `max_iterations must be a whole number of 1 or more; received ${String(maxIterations)}.`);
-  return { k, seed, intercept, model, restarts, tolerance, maxIterations };
+  const background = options.background ?? false;
+  if (typeof background !== "boolean") throw new SkeinError("bad-input", `background must be yes, no or auto; received ${String(background)}.`);
+  return { k, seed, intercept, model, restarts, tolerance, maxIterations, background };
 }

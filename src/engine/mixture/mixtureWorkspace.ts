@@ -1,5 +1,6 @@
 import type { RegressionData } from "../mixtureTypes";
 import { choleskyScratchLength } from "../cholesky";
+import type { BackgroundComponent } from "./backgroundComponent";
 
 /**
  * One data set (the full data or a subsample) prepared for EM, with every scratch array the
@@ -45,10 +46,12 @@ export interface MixtureWorkspace {
   totalSquares: number;
   /** Σ_i τ_ik y_i² per component, from the last M-step. */
   weightedSquares: Float64Array;
-  /** Per-row scratch of length k. */
+  /** Per-row scratch of length k + 1 (the background's term last). */
   rowScratch: Float64Array;
   /** Per-row scratch of length p (joint model). */
   predictorScratch: Float64Array;
+  /** The flat background component (Banfield & Raftery 1993) when the fit has one, else null. */
+  background: BackgroundComponent | null;
 }
 
 export function createWorkspace(data: RegressionData, k: number, intercept: boolean, joint: boolean, rows?: Int32Array): MixtureWorkspace {
@@ -113,8 +116,9 @@ export function createWorkspace(data: RegressionData, k: number, intercept: bool
     totalRightHandSide: null,
     totalSquares: 0,
     weightedSquares: new Float64Array(k),
-    rowScratch: new Float64Array(k),
+    rowScratch: new Float64Array(k + 1),
     predictorScratch: new Float64Array(p),
+    background: null,
   };
 }
 

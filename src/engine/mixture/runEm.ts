@@ -6,6 +6,7 @@ import type { MixtureWorkspace } from "./mixtureWorkspace";
 import { computeResiduals, eStep } from "./eStep";
 import { mStepCoefficients, mStepVariances, mStepVariancesFromGram } from "./mStep";
 import { reseedComponent } from "./reseedComponent";
+import { updateBackgroundWeight } from "./backgroundComponent";
 
 /** Re-seedings allowed per run; beyond this the data does not support K components. */
 const MAX_RESEEDS = 10;
@@ -26,6 +27,7 @@ export function runEm(ws: MixtureWorkspace, params: MixtureParameters, em: EmCon
   for (let iteration = 0; iteration < maxIterations; iteration++) {
     checkSignal(signal);
     const report = mStepCoefficients(ws, params, guards);
+    if (ws.background) updateBackgroundWeight(ws.background, ws.n);
     const reseeded: number[] = [];
     if (report.collapsed.length > 0 && reseeds < MAX_RESEEDS) {
       for (const c of report.collapsed) {

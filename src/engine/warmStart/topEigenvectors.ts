@@ -13,11 +13,19 @@ export interface EigenPairs {
  * tridiagonalisation and QL, as in EISPACK tred2/tql2).
  */
 export function topEigenvectors(matrix: Float64Array, p: number, count: number, byMagnitude: boolean): EigenPairs {
+  // The solver squares entries (Householder norms, QL shifts): entries near 1e160 would
+  // overflow there, so the matrix is divided by (a power of two near) its largest magnitude first and the
+  // eigenvalues multiplied back (eigenvectors do not change).
+  let scale = 0;
+  for (let t = 0; t < p * p; t++) scale = Math.max(scale, Math.abs(matrix[t]));
+  if (!Number.isFinite(scale)) return coordinateVectors(p, count);
+  // A power of two, so that dividing by it is exact and ordinary matrices give the same pairs bit for bit.
+  scale = scale === 0 ? 1 : 2 ** Math.ceil(Math.log2(scale));
   const rows: number[][] = [];
   for (let a = 0; a < p; a++) {
     const row = new Array<number>(p);
     // Symmetrise: the caller may have filled only one triangle exactly.
-    for (let b = 0; b < p; b++) row[b] = 0.5 * (matrix[a * p + b] + matrix[b * p + a]);
+    for (let b = 0; b < p; b++) row[b] = 0.5 * (matrix[a * p + b] / scale + matrix[b * p + a] / scale);
     rows.push(row);
   }
   const decomposition = new EigenvalueDecomposition(new Matrix(rows), { assumeSymmetric: true });
@@ -30,10 +38,21 @@ export function topEigenvectors(matrix: Float64Array, p: number, count: number, 
   const vectors: Float64Array[] = [];
   for (let t = 0; t < take; t++) {
     const column = order[t];
-    values.push(eigenvalues[column]);
+    values.push(eigenvalues[column] * scale);
     const v = new Float64Array(p);
     for (let a = 0; a < p; a++) v[a] = eigenvectors.get(a, column);
     vectors.push(v);
   }
   return { values, vectors };
+}
+
+/** The first `count` coordinate axes, a neutral subspace when the matrix holds no usable numbers (no eigenvalues: NaN). */
+function coordinateVectors(p: number, count: number): EigenPairs {
+  const take = Math.min(count, p);
+  const vectors = Array.from({ length: take }, (_, t) => {
+    const v = new Float64Array(p);
+    v[t] = 1;
+    return v;
+  });
+  return { values: new Array<number>(take).fill(NaN), vectors };
 }

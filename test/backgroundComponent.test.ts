@@ -1,0 +1,109 @@
+import { describe, expect, it } from "vitest";
+import { fitMixture } from "../src/engine/fitMixture";
+import { scanComponents } from "../src/engine/scanComponents";
+import { createRandom } from "../src/engine/random";
+import type { RegressionData } from "../src/engine/mixtureTypes";
+import { backgroundLogDensity } from "../src/engine/mixture/backgroundComponent";
+
+/**
+ * Invented data: two groups of 150 rows each (y = 2 + 3x and y = 20 − x, noise SD about
+ * 0.4), x uniform on [0, 10]; `typoRow`'s y replaced by 1,000,000 as a typing slip would.
+ */
+function twoGroupsWithTypo(typoRow: number | null, seed = 11): RegressionData {
+  const n = 300;
+  const random = createRandom(seed);
+  const x = new Float64Array(n);
+  const y = new Float64Array(n);
+  for (let i = 0; i < n; i++) {
+    x[i] = 10 * random.next();
+    const noise = (random.next() + random.next() + random.next() - 1.5) * 0.8;
+    y[i] = i % 2 === 1 ? 2 + 3 * x[i] + noise : 20 - x[i] + noise;
+  }
+  if (typoRow !== null) y[typoRow] = 1_000_000;
+  return { x, y, n, p: 1 };
+}
+
+describe("background component (uniform noise component, Banfield & Raftery 1993)", () => {
+  const typoRow = 137;
+  const data = twoGroupsWithTypo(typoRow);
+
+  it("without it, the one typed-in value takes a component (the failure it exists for)", () => {
+    const fit = fitMixture(data, { k: 2, seed: 1 });
+    const smallest = Math.min(...fit.components.map((c) => c.weight));
+    expect(smallest * data.n).toBeLessThan(3);
+  });
+
+  it("with it, K = 2 recovers both groups and gives the typo to the background", () => {
+    const fit = fitMixture(data, { k: 2, seed: 1, background: true });
+    const slopes = fit.components.map((c) => c.coefficients[1]).sort((a, b) => a - b);
+    // The invented truth: slopes −1 and 3.
+    expect(slopes[0]).toBeCloseTo(-1, 1);
+    expect(slopes[1]).toBeCloseTo(3, 1);
+    expect(fit.background).toBeDefined();
+    expect(fit.background!.memberships[typoRow]).toBeGreaterThan(0.99);
+    // About one row in 300 is background; the weights and π₀ sum to 1.
+    expect(fit.background!.weight).toBeGreaterThan(0.5 / 300);
+    expect(fit.background!.weight).toBeLessThan(5 / 300);
+    const total = fit.components.reduce((s, c) => s + c.weight, 0) + fit.background!.weight;
+    expect(total).toBeCloseTo(1, 9);
+    // Every row's memberships, background included, sum to 1.
+    for (let i = 0; i < data.n; i++) {
+      const rowTotal = fit.memberships[2 * i] + fit.memberships[2 * i + 1] + fit.background!.memberships[i];
+      expect(rowTotal).toBeCloseTo(1, 12);
+    }
+  });
+
+  it("counts one more free parameter (π₀) in the BIC", () => {
+    const plain = fitMixture(data, { k: 2, seed: 1 });
+    const withBackground = fitMixture(data, { k: 2, seed: 1, background: true });
+    expect(withBackground.parameterCount).toBe(plain.parameterCount + 1);
+    expect(withBackground.bic).toBeCloseTo(-2 * withBackground.logLikelihood + withBackground.parameterCount * Math.log(data.n), 6);
+  });
+
+  it("the scan suggests K = 2 with the background and K = 1 without it", () => {
+    expect(scanComponents(data, { kMax: 4, seed: 1 }).chosenK).toBe(1);
+    expect(scanComponents(data, { kMax: 4, seed: 1, background: true }).chosenK).toBe(2);
+  });
+
+  it('"auto" adds the background only when the fit without it shows far-off rows, keeping the smaller BIC', () => {
+    const auto = fitMixture(data, { k: 2, seed: 1, background: "auto" });
+    expect(auto.background).toBeDefined();
+    expect(auto.background!.memberships[typoRow]).toBeGreaterThan(0.99);
+    expect(scanComponents(data, { kMax: 4, seed: 1, background: "auto" }).chosenK).toBe(2);
+    // Clean data: exactly the fit without a background (same log-likelihood, no background).
+    const clean = twoGroupsWithTypo(null);
+    const plain = fitMixture(clean, { k: 2, seed: 1 });
+    const cleanAuto = fitMixture(clean, { k: 2, seed: 1, background: "auto" });
+    expect(cleanAuto.background).toBeUndefined();
+    expect(cleanAuto.logLikelihood).toBe(plain.logLikelihood);
+  });
+
+  it("K = 1 with a background is a weighted least-squares fit that ignores the typo", () => {
+    const oneGroup = twoGroupsWithTypo(typoRow);
+    // Keep only the first group (even rows) and the typo.
+    const rows = Array.from({ length: oneGroup.n }, (_, i) => i).filter((i) => i % 2 === 0 || i === typoRow);
+    const subset: RegressionData = { x: Float64Array.from(rows, (i) => oneGroup.x[i]), y: Float64Array.from(rows, (i) => oneGroup.y[i]), n: rows.length, p: 1 };
+    const fit = fitMixture(subset, { k: 1, background: true });
+    expect(fit.components[0].coefficients[1]).toBeCloseTo(-1, 1);
+    expect(fit.components[0].sigma).toBeLessThan(1);
+    expect(Number.isFinite(fit.logLikelihood)).toBe(true);
+  });
+
+  it("on clean data the background stays nearly empty and the components hardly move", () => {
+    const clean = twoGroupsWithTypo(null);
+    const plain = fitMixture(clean, { k: 2, seed: 1 });
+    const withBackground = fitMixture(clean, { k: 2, seed: 1, background: true });
+    expect(withBackground.background!.weight).toBeLessThan(0.01);
+    for (let c = 0; c < 2; c++) {
+      expect(withBackground.components[c].coefficients[1]).toBeCloseTo(plain.components[c].coefficients[1], 1);
+    }
+  });
+
+  it("its flat density is one over the range of y (times each predictor's range in the joint model)", () => {
+    const y = Float64Array.from([3, -1, 7]);
+    const x = Float64Array.from([0, 1, 2, 10, 4, 5]);
+    // Ranges: y 8; predictor 1 from 0, 2, 4 = 4; predictor 2 from 1, 10, 5 = 9.
+    expect(backgroundLogDensity(y, 3, null, 2)).toBeCloseTo(-Math.log(8), 12);
+    expect(backgroundLogDensity(y, 3, x, 2)).toBeCloseTo(-Math.log(8 * 4 * 9), 12);
+  });
+});

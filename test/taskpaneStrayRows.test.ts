@@ -1,0 +1,68 @@
+// @vitest-environment jsdom
+import { beforeEach, describe, expect, it } from "vitest";
+import { mountBrowserPane } from "../taskpane/mountPane";
+import { EngineService } from "../src/service/engineService";
+import { createRandom } from "../src/engine/random";
+
+const $ = <T extends Element = HTMLElement>(selector: string) => document.querySelector<T>(selector)!;
+async function settle(rounds = 20): Promise<void> {
+  for (let i = 0; i < rounds; i++) await new Promise((resolve) => setTimeout(resolve, 0));
+}
+
+beforeEach(() => {
+  document.body.innerHTML = `<main id="app"></main>`;
+});
+
+/** Sheet row of the typo (header in row 1). */
+const TYPO_SHEET_ROW = 139;
+
+/** Invented: 300 rows from two groups (y = 2 + 3x, y = 20 − x), a region column, one y typed as 1,000,000. */
+function typoSheet(): unknown[][] {
+  const random = createRandom(11);
+  const rows: unknown[][] = [["Cost", "Distance", "Region"]];
+  for (let i = 0; i < 300; i++) {
+    const x = 10 * random.next();
+    const noise = (random.next() + random.next() + random.next() - 1.5) * 0.8;
+    const y = i + 2 === TYPO_SHEET_ROW ? 1_000_000 : i % 2 === 1 ? 2 + 3 * x + noise : 20 - x + noise;
+    rows.push([y, x, i % 3 === 0 ? "North" : "South"]);
+  }
+  return rows;
+}
+
+describe("the pane: category notes and stray rows", () => {
+  it("names the stray row by its sheet row and leaves it out on request, with a way back", async () => {
+    const rows = typoSheet();
+    const { loadRows, pane } = mountBrowserPane($("#app"), new EngineService(), async () => "");
+    await loadRows!(rows, undefined, "typo.csv");
+    await pane.setAddresses(`Data!A1:A${rows.length}`, `Data!B1:C${rows.length}`);
+    await settle();
+    expect(Array.from(document.querySelectorAll("#data-notes li")).map((li) => li.textContent)).toEqual([
+      "Region holds text values: made into indicator columns for North, each measured against South (the most frequent value, 200 rows).",
+    ]);
+    pane.setKMax(2);
+    await pane.runScan();
+    await settle();
+    expect(pane.state.chosenK).toBe(2);
+    expect($("#stray-summary").textContent).toContain("Stray rows: 1 row that no component explains");
+    const listed = Array.from(document.querySelectorAll("#stray-list li")).map((li) => li.textContent);
+    expect(listed).toHaveLength(1);
+    expect(listed[0]).toMatch(new RegExp(`^Row ${TYPO_SHEET_ROW}: `));
+    expect($("#leave-out-stray").hidden).toBe(false);
+
+    $<HTMLButtonElement>("#leave-out-stray").click();
+    await settle(200);
+    await settle(200);
+    expect(pane.state.leftOut).toEqual([TYPO_SHEET_ROW - 2]);
+    expect($("#data-left-out").textContent).toBe(`Left out of the fit at your request: row ${TYPO_SHEET_ROW}.`);
+    expect(pane.state.design!.n).toBe(299);
+    expect(pane.state.fit).not.toBeNull();
+    expect($("#stray-summary").textContent).toContain("Stray rows: none");
+
+    $<HTMLButtonElement>("#put-back").click();
+    await settle(200);
+    await settle(200);
+    expect(pane.state.leftOut).toEqual([]);
+    expect(pane.state.design!.n).toBe(300);
+    expect($("#data-left-out").hidden).toBe(true);
+  });
+});
