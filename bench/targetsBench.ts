@@ -61,8 +61,8 @@ export function runSmallBench(print: (line: string) => void): void {
 export function runFewerRowsBench(print: (line: string) => void): void {
   print("Noiseless, per-component design covariances, few rows per predictor per component (recovered = worst relative error <= 1e-6)");
   print(`    d  K n/(dK)   rows recovered  mean ms   max ms`);
-  for (const factor of [5, 4, 3]) {
-    for (const [d, k] of [[20, 5], [50, 7]] as const) {
+  for (const [d, k] of [[20, 5], [50, 7]] as const) {
+    for (const factor of [5, 4, 3]) {
       let recovered = 0;
       let time = 0;
       let slowest = 0;
