@@ -65,4 +65,16 @@ describe("the pane: category notes and stray rows", () => {
     expect(pane.state.design!.n).toBe(300);
     expect($("#data-left-out").hidden).toBe(true);
   });
+
+  it("says where the scan stopped when the rows do not allow the largest K asked", async () => {
+    // Invented: 8 rows on two lines; K = 3 would need 9.
+    const rows: unknown[][] = [["y", "x"], [2, 1], [4.1, 2], [5.9, 3], [8.2, 4], [5, 1], [4, 2], [3.1, 3], [1.8, 4]];
+    const { loadRows, pane } = mountBrowserPane($("#app"), new EngineService(), async () => "");
+    await loadRows!(rows, undefined, "small.csv");
+    await pane.setAddresses(`Data!A1:A9`, `Data!B1:B9`);
+    pane.setKMax(5);
+    await pane.runScan();
+    await settle();
+    expect($("#scan-stopped").textContent).toBe("Tried K = 1 to 2, not up to 5: K = 3 needs at least 9 usable rows (each component needs one more row than its 2 coefficients), and there are 8. Add rows or use fewer predictors to try more components.");
+  });
 });

@@ -127,6 +127,8 @@ export function mountCountSection(parent: HTMLElement, pane: Pane): { update(sta
         for (const r of flagged) list.appendChild(element("li", {}, `* ${r.k} components, not suggested: ${(r.flag ?? "the fit did not converge.").replace(/^not suggested[:,]?\s*/i, "")}`));
         notes.appendChild(list);
       }
+      // A scan that stopped before the largest K asked says where and why (too few rows, say).
+      if (scan.stoppedEarly) notes.appendChild(element("p", { id: "scan-stopped", class: "hint" }, scan.stoppedEarly));
     },
   };
 }
