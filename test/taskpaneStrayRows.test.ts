@@ -56,6 +56,7 @@ describe("the pane: category notes and stray rows", () => {
     expect(pane.state.leftOut).toEqual([TYPO_SHEET_ROW - 2]);
     expect($("#data-left-out").textContent).toBe(`Left out of the fit at your request: row ${TYPO_SHEET_ROW}.`);
     expect(pane.state.design!.n).toBe(299);
+    expect(Array.from(document.querySelectorAll("#data-skipped li")).map((li) => li.textContent)).toEqual([`Row ${TYPO_SHEET_ROW}: left out at your request`]);
     expect(pane.state.fit).not.toBeNull();
     expect($("#stray-summary").textContent).toContain("Stray rows: none");
 
