@@ -1,10 +1,9 @@
-import { NOISELESS_VARIANCE_RELATIVE } from "./fitMixture";
+import { EXACT_RELATIVE } from "./mixture/exactComponents";
 import type { MixtureFit } from "./mixtureTypes";
 
 /**
- * Which components fit their rows exactly (noise about 0): a noise variance at most
- * NOISELESS_VARIANCE_RELATIVE times the variance of y, the fit driver's own test for a
- * noiseless fit. Such a component's coefficients are known exactly given its rows, so its
+ * Which components fit their rows exactly (noise about 0): a noise SD at most EXACT_RELATIVE
+ * times the SD of y, the fit driver's own test for a noiseless fit (isNoiseless). Such a component's coefficients are known exactly given its rows, so its
  * standard errors are 0, and a gap to it is unlimited rather than a measured number.
  */
 export function exactComponents(fit: Pick<MixtureFit, "components">, y: Float64Array): boolean[] {
@@ -14,7 +13,7 @@ export function exactComponents(fit: Pick<MixtureFit, "components">, y: Float64A
   let variance = 0;
   for (let i = 0; i < y.length; i++) variance += (y[i] - mean) ** 2;
   variance /= Math.max(1, y.length);
-  return fit.components.map((component) => component.sigma * component.sigma <= NOISELESS_VARIANCE_RELATIVE * variance);
+  return fit.components.map((component) => component.sigma * component.sigma <= EXACT_RELATIVE * EXACT_RELATIVE * variance);
 }
 
 /** Every component fits its rows exactly: an exact fit (noise about 0). */
