@@ -31,13 +31,16 @@ describe("standard errors that cannot be computed say why", () => {
 
   it("skein fit prints 'not available' and the reason among the warnings", async () => {
     const dir = await fs.mkdtemp(path.join(os.tmpdir(), "skein-se-"));
-    const file = path.join(dir, "same.csv");
-    await fs.writeFile(file, "a,b,c\n" + a.map((v, i) => `${v},${b[i]},${v}`).join("\n") + "\n");
-    let stdout = "";
-    await main(["fit", file, "--y", "c", "--x", "a,b", "--k", "2"], { stdout: (s) => (stdout += s), stderr: () => undefined });
-    expect(stdout).not.toContain("NaN");
-    expect(stdout).toContain("not available");
-    expect(stdout).toContain("Standard errors are not available: component");
-    await fs.rm(dir, { recursive: true, force: true });
+    try {
+      const file = path.join(dir, "same.csv");
+      await fs.writeFile(file, "a,b,c\n" + a.map((v, i) => `${v},${b[i]},${v}`).join("\n") + "\n");
+      let stdout = "";
+      await main(["fit", file, "--y", "c", "--x", "a,b", "--k", "2"], { stdout: (s) => (stdout += s), stderr: () => undefined });
+      expect(stdout).not.toContain("NaN");
+      expect(stdout).toContain("not available");
+      expect(stdout).toContain("Standard errors are not available: component");
+    } finally {
+      await fs.rm(dir, { recursive: true, force: true });
+    }
   });
 });
