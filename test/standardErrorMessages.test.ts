@@ -32,13 +32,16 @@ describe("standard errors of an exact fit, and standard errors that cannot be co
 
   it("skein fit says exact fit (noise about 0), prints no NaN and no standard-error warning", async () => {
     const dir = await fs.mkdtemp(path.join(os.tmpdir(), "skein-se-"));
-    const file = path.join(dir, "same.csv");
-    await fs.writeFile(file, "a,b,c\n" + a.map((v, i) => `${v},${b[i]},${v}`).join("\n") + "\n");
-    let stdout = "";
-    await main(["fit", file, "--y", "c", "--x", "a,b", "--k", "2"], { stdout: (s) => (stdout += s), stderr: () => undefined });
-    expect(stdout).not.toContain("NaN");
-    expect(stdout).toContain("Exact fit (noise about 0)");
-    expect(stdout).not.toContain("Standard errors are not available");
-    await fs.rm(dir, { recursive: true, force: true });
+    try {
+      const file = path.join(dir, "same.csv");
+      await fs.writeFile(file, "a,b,c\n" + a.map((v, i) => `${v},${b[i]},${v}`).join("\n") + "\n");
+      let stdout = "";
+      await main(["fit", file, "--y", "c", "--x", "a,b", "--k", "2"], { stdout: (s) => (stdout += s), stderr: () => undefined });
+      expect(stdout).not.toContain("NaN");
+      expect(stdout).toContain("Exact fit (noise about 0)");
+      expect(stdout).not.toContain("Standard errors are not available");
+    } finally {
+      await fs.rm(dir, { recursive: true, force: true });
+    }
   });
 });
