@@ -254,8 +254,8 @@ describe("designMatrix", () => {
   });
 });
 
-describe("buildDesign: speed", () => {
-  it("handles 100 000 rows of 5 predictors well within a second", () => {
+describe("buildDesign: large input", () => {
+  it("handles 100 000 rows of 5 predictors", () => {
     // Invented demo data from a fixed linear congruential sequence (no randomness needed).
     const rows = 100_000;
     const p = 5;
@@ -272,10 +272,9 @@ describe("buildDesign: speed", () => {
       for (let j = 0; j < p; j++) row.push(next());
       x.push(row);
     }
-    const start = performance.now();
+    // Speed is measured by npm run bench, not asserted here (a shared machine makes timings noisy).
     const d = buildDesign(y, x);
-    const elapsed = performance.now() - start;
     expect(d.n).toBe(rows);
-    expect(elapsed).toBeLessThan(1000);
+    expect(d.x[d.x.length - 1]).toBe(x[rows - 1][p - 1]);
   });
 });
