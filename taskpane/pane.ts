@@ -9,8 +9,10 @@ import { hashCells } from "../src/service/hashCells";
 import type { SheetHost } from "./host";
 import { initialState, type PaneState } from "./paneState";
 
-/** The pane fits as the worksheet functions do by default: a background component when far-off rows call for one. */
-const BACKGROUND = "auto" as const;
+/** The background setting's text as the engine takes it: "auto", true for yes, false for no. */
+function backgroundOption(value: string): boolean | "auto" {
+  return value === "yes" ? true : value === "no" ? false : "auto";
+}
 
 /** Quiet time after the last edit before the pane refits: typing a column of numbers fires one refit, not one per cell. */
 export const REFRESH_DELAY_MS = 600;
@@ -141,7 +143,7 @@ export class Pane {
 
   /** The fit options the pane's controls say, for k components. */
   private fitOptions(k: number): FitJobOptions {
-    return { k, seed: this.state.seed, intercept: this.state.intercept, model: this.state.model, background: BACKGROUND };
+    return { k, seed: this.state.seed, intercept: this.state.intercept, model: this.state.model, background: backgroundOption(this.state.background) };
   }
 
   /**
@@ -192,13 +194,13 @@ export class Pane {
     this.scanFlag?.abort();
     const flag = new Cancellation();
     this.scanFlag = flag;
-    const { kMax, seed, intercept, model } = this.state;
+    const { kMax, seed, intercept, model, background } = this.state;
     this.update({ scanning: true, progress: { k: 0, kMax }, scanProblem: null });
     try {
       const lease = this.engine.scan({
         version: this.dataKey,
-        key: [kMax, seed, intercept ? 1 : 0, model, BACKGROUND].join("|"),
-        prepare: () => ({ design, options: { kMax, seed, intercept, model, background: BACKGROUND } }),
+        key: [kMax, seed, intercept ? 1 : 0, model, background].join("|"),
+        prepare: () => ({ design, options: { kMax, seed, intercept, model, background: backgroundOption(background) } }),
         bytes: entryBytes(design, kMax) * kMax,
         onProgress: (k, of) => {
           if (!flag.aborted) this.update({ progress: { k, kMax: of } });
@@ -254,7 +256,7 @@ export class Pane {
    * (as when the ranges change), and the data are read again (the checks on the predictors
    * depend on the intercept).
    */
-  async setFitOptions(change: Partial<Pick<PaneState, "intercept" | "model">>): Promise<void> {
+  async setFitOptions(change: Partial<Pick<PaneState, "intercept" | "model" | "background">>): Promise<void> {
     const changed = (Object.keys(change) as (keyof typeof change)[]).some((name) => change[name] !== this.state[name]);
     if (!changed) return;
     this.scanFlag?.abort();

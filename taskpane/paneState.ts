@@ -27,6 +27,8 @@ export interface PaneState {
   /** Fit an intercept in each component's regression. */
   intercept: boolean;
   model: MixtureModel;
+  /** The background component setting: "auto", "yes" or "no" (the options table's choices). */
+  background: string;
   kMax: number;
   /** 0-based data rows the user set aside (stray rows left out of the fit). */
   leftOut: number[];
@@ -51,6 +53,7 @@ export function initialState(): PaneState {
     seed: optionSpec("seed").default as number,
     intercept: optionSpec("intercept").default as boolean,
     model: optionSpec("model").default as MixtureModel,
+    background: optionSpec("background").default as string,
     kMax: optionSpec("kmax").default as number,
     leftOut: [],
   };

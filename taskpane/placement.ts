@@ -14,6 +14,8 @@ export interface PlacementRequest {
   /** The fit's intercept and model, when not the defaults, go into the formulas' settings too. */
   intercept?: boolean;
   model?: MixtureFit["model"];
+  /** The background setting ("auto", "yes", "no"), written into the formulas when not auto. */
+  background?: string;
   outputs: Output[];
   mode: "formulas" | "values";
 }
@@ -31,6 +33,7 @@ function settingsText(request: PlacementRequest): string {
   const parts = [`seed=${request.seed}`];
   if (request.intercept === false) parts.push("intercept=no");
   if (request.model !== undefined && request.model !== "plain") parts.push(`model=${request.model}`);
+  if (request.background !== undefined && request.background !== "auto") parts.push(`background=${request.background}`);
   return `"${parts.join("; ")}"`;
 }
 

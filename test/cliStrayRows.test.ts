@@ -69,6 +69,8 @@ describe("one typo among 300 rows of two groups", () => {
     expect(json.skipped).toEqual([{ row: TYPO_ROW, column: "cost", reason: "left out" }]);
     expect(json.strayRows).toEqual([]);
     expect(json.labels[TYPO_ROW - 1]).toBeNull();
+    const text = (await run("fit", typoFile, "--y", "cost", "--k", "2", "--leave-out", String(TYPO_ROW))).stdout;
+    expect(text).toContain(`data row ${TYPO_ROW}: left out (--leave-out)`);
   });
 
   it("--leave-out beyond the data and --background with a bad value are refused with a message", async () => {

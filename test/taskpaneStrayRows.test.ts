@@ -3,6 +3,7 @@ import { beforeEach, describe, expect, it } from "vitest";
 import { mountBrowserPane } from "../taskpane/mountPane";
 import { EngineService } from "../src/service/engineService";
 import { createRandom } from "../src/engine/random";
+import { formulaFor } from "../taskpane/placement";
 
 const $ = <T extends Element = HTMLElement>(selector: string) => document.querySelector<T>(selector)!;
 async function settle(rounds = 20): Promise<void> {
@@ -55,6 +56,7 @@ describe("the pane: category notes and stray rows", () => {
     expect(pane.state.leftOut).toEqual([TYPO_SHEET_ROW - 2]);
     expect($("#data-left-out").textContent).toBe(`Left out of the fit at your request: row ${TYPO_SHEET_ROW}.`);
     expect(pane.state.design!.n).toBe(299);
+    expect(Array.from(document.querySelectorAll("#data-skipped li")).map((li) => li.textContent)).toEqual([`Row ${TYPO_SHEET_ROW}: left out at your request`]);
     expect(pane.state.fit).not.toBeNull();
     expect($("#stray-summary").textContent).toContain("Stray rows: none");
 
@@ -64,5 +66,37 @@ describe("the pane: category notes and stray rows", () => {
     expect(pane.state.leftOut).toEqual([]);
     expect(pane.state.design!.n).toBe(300);
     expect($("#data-left-out").hidden).toBe(true);
+  });
+
+  it("says where the scan stopped when the rows do not allow the largest K asked", async () => {
+    // Invented: 8 rows on two lines; K = 3 would need 9.
+    const rows: unknown[][] = [["y", "x"], [2, 1], [4.1, 2], [5.9, 3], [8.2, 4], [5, 1], [4, 2], [3.1, 3], [1.8, 4]];
+    const { loadRows, pane } = mountBrowserPane($("#app"), new EngineService(), async () => "");
+    await loadRows!(rows, undefined, "small.csv");
+    await pane.setAddresses(`Data!A1:A9`, `Data!B1:B9`);
+    pane.setKMax(5);
+    await pane.runScan();
+    await settle();
+    expect($("#scan-stopped").textContent).toBe("Tried K = 1 to 2, not up to 5: K = 3 needs at least 9 usable rows (each component needs one more row than its 2 coefficients), and there are 8. Add rows or use fewer predictors to try more components.");
+  });
+
+  it("has a background control from the options table; 'no' lets the typo take the scan back to K = 1, and placed formulas carry it", async () => {
+    const rows = typoSheet();
+    const { loadRows, pane } = mountBrowserPane($("#app"), new EngineService(), async () => "");
+    await loadRows!(rows, undefined, "typo.csv");
+    await pane.setAddresses(`Data!A1:A${rows.length}`, `Data!B1:B${rows.length}`);
+    const control = $<HTMLSelectElement>("#background");
+    expect(control.value).toBe("auto");
+    expect(Array.from(control.options).map((o) => o.value)).toEqual(["auto", "yes", "no"]);
+    control.value = "no";
+    control.dispatchEvent(new Event("change"));
+    await settle();
+    expect(pane.state.background).toBe("no");
+    pane.setKMax(2);
+    await pane.runScan();
+    await settle();
+    expect(pane.state.chosenK).toBe(1);
+    expect(pane.state.fit!.background).toBeUndefined();
+    expect(formulaFor("fit", { yAddress: "Data!A1:A301", xAddress: "Data!B1:B301", rangeRows: 301, k: 1, seed: 1, background: "no", outputs: ["fit"], mode: "formulas" })).toContain('"seed=1; background=no"');
   });
 });

@@ -84,7 +84,7 @@ export function formatFitTable(report: FitReport, source: { file: string; sheetN
     lines.push("");
     const shown = report.skipped.slice(0, SKIPPED_ROWS_SHOWN);
     lines.push(report.rowsSkipped > shown.length ? `Skipped rows (first ${shown.length} of ${report.rowsSkipped}):` : "Skipped rows:");
-    for (const s of shown) lines.push(`  data row ${s.row}: ${s.reason} in ${s.column}`);
+    for (const s of shown) lines.push(`  data row ${s.row}: ${s.reason === "left out" ? "left out (--leave-out)" : `${s.reason} in ${s.column}`}`);
   }
   return lines.join("\n") + "\n";
 }

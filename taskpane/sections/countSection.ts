@@ -21,12 +21,14 @@ export function mountCountSection(parent: HTMLElement, pane: Pane): { update(sta
   const seed = optionControl("seed", "Seed");
   const model = optionControl("model", "Model");
   const intercept = optionControl("intercept", "Intercept");
-  settings.append(kMax.field, seed.field, model.field, intercept.field);
+  const background = optionControl("background", "Background");
+  settings.append(kMax.field, seed.field, model.field, intercept.field, background.field);
   body.appendChild(settings);
   kMax.input.addEventListener("change", () => pane.setKMax(kMax.read() as number));
   seed.input.addEventListener("change", () => pane.setSeed(seed.read() as number));
   model.input.addEventListener("change", () => void pane.setFitOptions({ model: model.read() as MixtureModel }));
   intercept.input.addEventListener("change", () => void pane.setFitOptions({ intercept: intercept.read() as boolean }));
+  background.input.addEventListener("change", () => void pane.setFitOptions({ background: background.read() as string }));
 
   const buttons = element("div", { class: "inline" });
   const run = element("button", { type: "button", id: "run-scan", class: "primary" }, "Run scan");
@@ -127,6 +129,8 @@ export function mountCountSection(parent: HTMLElement, pane: Pane): { update(sta
         for (const r of flagged) list.appendChild(element("li", {}, `* ${r.k} components, not suggested: ${(r.flag ?? "the fit did not converge.").replace(/^not suggested[:,]?\s*/i, "")}`));
         notes.appendChild(list);
       }
+      // A scan that stopped before the largest K asked says where and why (too few rows, say).
+      if (scan.stoppedEarly) notes.appendChild(element("p", { id: "scan-stopped", class: "hint" }, scan.stoppedEarly));
     },
   };
 }

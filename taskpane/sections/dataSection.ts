@@ -78,7 +78,7 @@ export function mountDataSection(parent: HTMLElement, pane: Pane): { body: HTMLE
         const top = parseAddress(state.yAddress)?.top ?? 0;
         const first = top + (design.hasHeaderRow ? 1 : 0) + 1;
         const list = element("ul", { id: "data-skipped", class: "compact", "aria-label": "First skipped rows" });
-        for (const s of design.skipped.slice(0, SKIPPED_SHOWN)) list.appendChild(element("li", {}, `Row ${first + s.row}: ${s.reason} in ${s.column}`));
+        for (const s of design.skipped.slice(0, SKIPPED_SHOWN)) list.appendChild(element("li", {}, `Row ${first + s.row}: ${s.reason === "left out" ? "left out at your request" : `${s.reason} in ${s.column}`}`));
         if (design.skipped.length > SKIPPED_SHOWN) list.appendChild(element("li", {}, `and ${plural(design.skipped.length - SKIPPED_SHOWN, "more row")}`));
         summary.appendChild(list);
       }

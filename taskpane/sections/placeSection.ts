@@ -96,7 +96,7 @@ export function mountPlaceSection(parent: HTMLElement, pane: Pane): { update(sta
     }
     try {
       const mode = radios.get("values")!.checked ? "values" : "formulas";
-      const blocks = planPlacement(where.value.trim(), { yAddress: state.yAddress, xAddress: state.xAddress, rangeRows: state.rangeRows, k: state.fit.k, seed: state.fit.seed, intercept: state.fit.intercept, model: state.fit.model, outputs: chosen, mode }, state.design, state.fit);
+      const blocks = planPlacement(where.value.trim(), { yAddress: state.yAddress, xAddress: state.xAddress, rangeRows: state.rangeRows, k: state.fit.k, seed: state.fit.seed, intercept: state.fit.intercept, model: state.fit.model, background: state.background, outputs: chosen, mode }, state.design, state.fit);
       const area = coveredArea(blocks);
       const occupied = await pane.host.occupiedCells(area.anchor, area.rows, area.columns);
       if (occupied > 0) {
