@@ -1,23 +1,21 @@
 /**
- * Accuracy bench of issue 3, item 6: (i) noiseless problems with per-component design
+ * Accuracy bench: (i) noiseless problems with per-component design
  * covariances, fraction recovered to relative error ≤ 1e-6 and fit time at n = 6, 10 and 14
  * rows per predictor per component; (ii) noisy problems with intercepts and shifted design
  * means, parameter error as a multiple of an oracle that knows the labels.
  *
  * The fit measured is the product's: fitMixture (moment warm start among its starts, EM
- * refinement, hard-assignment polish on noiseless data). The alternating least-squares polish
- * below (Späth 1979) is a measurement aid for the warm start alone (used by its unit tests).
+ * refinement, hard-assignment polish on noiseless data).
  */
 import { createRandom } from "../src/engine/random";
 import { leastSquares } from "../src/engine/leastSquares";
 import { gatherRows, rowsWithLabel } from "../src/engine/rowSubset";
 import { fitMixture } from "../src/engine/fitMixture";
-import { noiselessProblem, noisyProblem, type GeneratedProblem } from "./generateProblems";
+import { noiselessProblem, noisyProblem, relativeCoefficientError, totalCoefficientError, type GeneratedProblem } from "../src/synthetic/generateProblems";
 import { carefulEm, emFromTruth } from "./plainEm";
 
-/** Relative error at or below which a component counts as recovered (issue 3, item 6(i)). */
+/** Relative error at or below which a component counts as recovered (the accuracy target). */
 export const RECOVERY_TOLERANCE = 1e-6;
-const POLISH_ITERATIONS = 100;
 
 /** Full design with the intercept column when asked. */
 function fullDesign(problem: GeneratedProblem): { design: Float64Array; q: number } {
@@ -41,96 +39,6 @@ function fitLabel(design: Float64Array, q: number, y: Float64Array, labels: Int3
   } catch {
     return null;
   }
-}
-
-/** Alternating least squares from a start: measurement aid only, not the product's refinement. */
-export function polishByAlternatingLeastSquares(problem: GeneratedProblem, start: Float64Array[]): Float64Array[] {
-  const { design, q } = fullDesign(problem);
-  const { y, n } = problem.data;
-  const k = start.length;
-  let current: Float64Array[] = start.map((c) => Float64Array.from(c));
-  const labels = new Int32Array(n).fill(-1);
-  for (let iteration = 0; iteration < POLISH_ITERATIONS; iteration++) {
-    let changed = 0;
-    for (let i = 0; i < n; i++) {
-      let best = 0;
-      let bestResidual = Infinity;
-      for (let c = 0; c < k; c++) {
-        let fitted = 0;
-        for (let j = 0; j < q; j++) fitted += design[i * q + j] * current[c][j];
-        const r = Math.abs(y[i] - fitted);
-        if (r < bestResidual) {
-          bestResidual = r;
-          best = c;
-        }
-      }
-      if (labels[i] !== best) changed++;
-      labels[i] = best;
-    }
-    if (changed === 0) break;
-    current = current.map((c, label) => fitLabel(design, q, y, labels, label) ?? c);
-  }
-  return current;
-}
-
-/** Best matching of estimated to true components (all permutations; K ≤ 7 gives ≤ 5040). */
-function matchComponents(estimated: Float64Array[], truth: Float64Array[]): number[] {
-  const k = truth.length;
-  const cost = truth.map((t) => estimated.map((e) => {
-    let s = 0;
-    for (let j = 0; j < t.length; j++) s += (e[j] - t[j]) ** 2;
-    return s;
-  }));
-  let bestCost = Infinity;
-  let best: number[] = [];
-  const used = new Array<boolean>(k).fill(false);
-  const chosen: number[] = [];
-  const search = (row: number, total: number): void => {
-    if (total >= bestCost) return;
-    if (row === k) {
-      bestCost = total;
-      best = chosen.slice();
-      return;
-    }
-    for (let c = 0; c < k; c++) {
-      if (used[c]) continue;
-      used[c] = true;
-      chosen.push(c);
-      search(row + 1, total + cost[row][c]);
-      chosen.pop();
-      used[c] = false;
-    }
-  };
-  search(0, 0);
-  return best;
-}
-
-/** Largest relative error ‖β̂_k − β_k‖ / ‖β_k‖ over the matched components. */
-export function worstRelativeError(estimated: Float64Array[], truth: Float64Array[]): number {
-  const match = matchComponents(estimated, truth);
-  let worst = 0;
-  truth.forEach((t, index) => {
-    const e = estimated[match[index]];
-    let difference = 0;
-    let size = 0;
-    for (let j = 0; j < t.length; j++) {
-      difference += (e[j] - t[j]) ** 2;
-      size += t[j] * t[j];
-    }
-    worst = Math.max(worst, Math.sqrt(difference / Math.max(size, 1e-300)));
-  });
-  return worst;
-}
-
-/** Root of the summed squared coefficient errors over matched components. */
-function totalError(estimated: Float64Array[], truth: Float64Array[]): number {
-  const match = matchComponents(estimated, truth);
-  let s = 0;
-  truth.forEach((t, index) => {
-    const e = estimated[match[index]];
-    for (let j = 0; j < t.length; j++) s += (e[j] - t[j]) ** 2;
-  });
-  return Math.sqrt(s);
 }
 
 export interface FitOutcome {
@@ -181,7 +89,7 @@ export function runAccuracyBench(print: (line: string) => void): void {
         const elapsed = performance.now() - began;
         time += elapsed;
         slowest = Math.max(slowest, elapsed);
-        if (fit && worstRelativeError(fit.coefficients, problem.coefficients) <= RECOVERY_TOLERANCE) recovered++;
+        if (fit && relativeCoefficientError(fit.coefficients, problem.coefficients) <= RECOVERY_TOLERANCE) recovered++;
       }
       const [r, t] = totals.get(factor) ?? [0, 0];
       totals.set(factor, [r + recovered, t + NOISELESS_SEEDS_PER_CASE]);
@@ -202,10 +110,10 @@ export function runAccuracyBench(print: (line: string) => void): void {
         const problem = noisyProblem(d, k, factor, createRandom(problemSeed));
         const { design, q } = fullDesign(problem);
         const oracle = problem.coefficients.map((c, label) => fitLabel(design, q, problem.data.y, problem.labels, label) ?? c);
-        const oracleError = totalError(oracle, problem.coefficients);
+        const oracleError = totalCoefficientError(oracle, problem.coefficients);
         const fit = fitForBench(problem, problemSeed);
-        ratios.push(fit ? totalError(fit.coefficients, problem.coefficients) / oracleError : Infinity);
-        floors.push(totalError(emFromTruth(problem), problem.coefficients) / oracleError);
+        ratios.push(fit ? totalCoefficientError(fit.coefficients, problem.coefficients) / oracleError : Infinity);
+        floors.push(totalCoefficientError(emFromTruth(problem), problem.coefficients) / oracleError);
       }
       const median = (values: number[]): string => values.slice().sort((a, b) => a - b)[Math.floor(values.length / 2)].toFixed(2).padStart(7);
       const worst = (values: number[]): string => Math.max(...values).toFixed(2).padStart(7);

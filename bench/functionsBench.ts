@@ -1,5 +1,5 @@
 /**
- * Worksheet-function bench (issue 5, item 6): SKEIN.FIT on 100,000 rows x 10 predictors
+ * Worksheet-function bench: SKEIN.FIT on 100,000 rows x 10 predictors
  * through the function adapter, as Excel calls it (ranges as arrays of rows of numbers), and
  * what a cache hit costs. Printed, never asserted.
  *
@@ -14,7 +14,7 @@ import { engineCallCounts, WORKER_MIN_CELLS } from "../src/service/engineRunner"
 import { fit, labels } from "../src/functions/functions";
 import { hashCells } from "../src/service/hashCells";
 import { engineService } from "../src/service/engineService";
-import { noisyProblem } from "./generateProblems";
+import { noisyProblem } from "../src/synthetic/generateProblems";
 
 const K = 3;
 const PREDICTORS = 10;
@@ -69,7 +69,7 @@ export async function runFunctionsBench(print: (line: string) => void): Promise<
   const ranges = asRanges(problem);
   const rows = ranges.y.length;
   const cells = rows * (PREDICTORS + 1);
-  print(`  data: ${rows} rows x ${PREDICTORS} predictors, K = ${K}, noisy with intercepts (bench/generateProblems.ts, seed 2024)`);
+  print(`  data: ${rows} rows x ${PREDICTORS} predictors, K = ${K}, noisy with intercepts (src/synthetic/generateProblems.ts, seed 2024)`);
 
   // The parts of a first call, measured alone.
   const [, hashTime] = await time(() => hashCells(ranges.y, ranges.x));

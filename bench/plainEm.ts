@@ -5,8 +5,8 @@
  *  - EM started at the true parameters: its error is the likelihood maximum's own, so the gap
  *    between it and a labelled oracle belongs to the estimator, not to the search;
  *  - a careful EM with random-partition restarts, each run to convergence, the best likelihood
- *    kept and finished by hard assignment on noiseless data: the usual practice the issue
- *    compares the product with (recovery and time, measured here in the same process).
+ *    kept and finished by hard assignment on noiseless data: the usual practice the product is
+ *    compared with (recovery and time, measured here in the same process).
  */
 import { createWorkspace, type MixtureWorkspace } from "../src/engine/mixture/mixtureWorkspace";
 import { createParameters, type MixtureParameters } from "../src/engine/mixture/mixtureParameters";
@@ -16,7 +16,7 @@ import { reseedComponent } from "../src/engine/mixture/reseedComponent";
 import { hardAssignmentPolish } from "../src/engine/mixture/hardAssignmentPolish";
 import { randomPartitionLabels, setHardMemberships } from "../src/engine/mixture/starts";
 import type { Random } from "../src/engine/random";
-import type { GeneratedProblem } from "./generateProblems";
+import type { GeneratedProblem } from "../src/synthetic/generateProblems";
 
 const MAX_ITERATIONS = 500;
 /** The product's stopping rule and default: |ΔL| ≤ 1e-8 · max(|L|, n). */
@@ -66,6 +66,11 @@ export function emFromTruth(problem: GeneratedProblem): Float64Array[] {
  * when the problem has one).
  */
 export function carefulEm(problem: GeneratedProblem, restarts: number, random: Random): Float64Array[] {
+  return carefulEmFit(problem, restarts, random).coefficients;
+}
+
+/** Careful EM's coefficients and the log-likelihood of its best restart (after the polish when one applies). */
+export function carefulEmFit(problem: GeneratedProblem, restarts: number, random: Random): { coefficients: Float64Array[]; logLikelihood: number } {
   const { k, intercept } = problem;
   const ws = createWorkspace(problem.data, k, intercept, false);
   const guards = productGuards(ws);
@@ -85,5 +90,8 @@ export function carefulEm(problem: GeneratedProblem, restarts: number, random: R
     }
   }
   const polished = best ? hardAssignmentPolish(ws, best, guards) : null;
-  return coefficientsOf(polished ?? best!, ws.q);
+  const final = polished ?? best!;
+  computeResiduals(ws, final);
+  const logLikelihood = eStep(ws, final);
+  return { coefficients: coefficientsOf(final, ws.q), logLikelihood: polished && logLikelihood < bestLogLikelihood ? bestLogLikelihood : logLikelihood };
 }

@@ -3,6 +3,7 @@ import { runAccuracyBench } from "./accuracy";
 import { runScanAccuracyBench } from "./scanAccuracy";
 import { runFunctionsBench } from "./functionsBench";
 import { runBaselineBench } from "./baselineBench";
+import { runD100Bench, runFewerRowsBench, runLargeBench, runScanSixBench, runSmallBench } from "./targetsBench";
 
 /**
  * `npm run bench`: prints speed and accuracy figures (never asserted; see the unit tests for
@@ -14,6 +15,11 @@ const SECTIONS: Record<string, (print: (line: string) => void) => unknown> = {
   baseline: runBaselineBench,
   scan: runScanAccuracyBench,
   functions: runFunctionsBench,
+  small: runSmallBench,
+  fewer: runFewerRowsBench,
+  d100: runD100Bench,
+  large: runLargeBench,
+  scan6: runScanSixBench,
 };
 
 async function main(): Promise<void> {

@@ -11,10 +11,11 @@ const NUMERIC_SHARE = 0.8;
 
 /**
  * A first guess at y and x for a file the user opened: y is the first numeric
- * column, x the numeric columns right after it (one block, as x must be). The
- * header row, when there is one, is included so the pane finds the names.
+ * column, x the numeric (or, when the column rule's kinds are known, category)
+ * columns right after it (one block, as x must be). The header row, when there
+ * is one, is included so the pane finds the names.
  */
-export function guessRanges(rows: unknown[][], sheet: string, columns?: readonly { defaultPredictor: boolean }[]): { yAddress: string; xAddress: string } | null {
+export function guessRanges(rows: unknown[][], sheet: string, columns?: readonly { defaultPredictor: boolean; kind?: string }[]): { yAddress: string; xAddress: string } | null {
   const width = Math.max(0, ...rows.map((r) => r.length));
   const hasHeader = rows.length > 1 && rows[0].some((c) => typeof c === "string");
   const first = hasHeader ? 1 : 0;
@@ -31,10 +32,12 @@ export function guessRanges(rows: unknown[][], sheet: string, columns?: readonly
     // Dates, identifiers and constant columns (the column rule's verdict, when known) are no guess.
     numeric.push(filled > 0 && numbers / filled >= NUMERIC_SHARE && columns?.[c]?.defaultPredictor !== false);
   }
+  // A category column can be a predictor (indicator columns) but never the outcome.
+  const predictor = numeric.map((isNumeric, c) => isNumeric || columns?.[c]?.kind === "category");
   const y = numeric.indexOf(true);
-  if (y < 0 || y + 1 >= width || !numeric[y + 1]) return null;
+  if (y < 0 || y + 1 >= width || !predictor[y + 1]) return null;
   let right = y + 1;
-  while (right + 1 < width && numeric[right + 1]) right++;
+  while (right + 1 < width && predictor[right + 1]) right++;
   const bottom = rows.length - 1;
   return {
     yAddress: formatAddress({ sheet, top: 0, bottom, left: y, right: y }),

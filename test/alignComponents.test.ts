@@ -2,7 +2,7 @@ import { describe, expect, it } from "vitest";
 import { fitMixture } from "../src/engine/fitMixture";
 import { alignToPrevious, canonicalOrder, permuteComponents, refitFrom, solveAssignment } from "../src/engine/alignComponents";
 import { createRandom } from "../src/engine/random";
-import { wellSeparatedProblem } from "../bench/scanAccuracy";
+import { wellSeparatedProblem } from "../src/synthetic/generateProblems";
 import { computeMemberships } from "../src/engine/computeMemberships";
 import { dataMatrix } from "../src/engine/regressionMatrix";
 import type { MixtureFit, RegressionData } from "../src/engine/mixtureTypes";
@@ -38,7 +38,7 @@ describe("optimal assignment", () => {
 });
 
 describe("stable component numbering", () => {
-  // Invented demo data (bench/scanAccuracy generator): three well-separated components.
+  // Invented demo data (wellSeparatedProblem): three well-separated components.
   const random = createRandom(21);
   const problem = wellSeparatedProblem(3, random, 40);
   const fit = fitMixture(problem.data, { k: 3, seed: 2 });

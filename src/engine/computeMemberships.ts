@@ -1,76 +1,41 @@
-import { CholeskyDecomposition, Matrix } from "ml-matrix";
 import { SkeinError } from "./errors";
 import type { MixtureFit } from "./mixtureTypes";
 import { coefficientOffset } from "./regressionMatrix";
+import { choleskyScratchLength, scaledCholeskyLower } from "./cholesky";
+import { gaussianLogDensity, LOG_TWO_PI, normaliseLogDensities } from "./logDensities";
 
-const LOG_TWO_PI = Math.log(2 * Math.PI);
-
-/** Each joint component's x model, factored once: the mean, Σ⁻¹ and ln det Σ. */
+/** Each joint component's x model, factored once: the mean, the lower Cholesky factor of Σ and ln det Σ. */
 export interface PredictorModel {
   mean: Float64Array;
-  /** p x p row-major inverse covariance. */
-  precision: Float64Array;
+  /** p x p row-major lower factor L, Σ = L Lᵀ. */
+  lower: Float64Array;
   logDeterminant: number;
 }
 
 /**
- * Factors each component's x covariance (Cholesky) for the Gaussian x density of the joint
- * (cluster-weighted) model, Gershenfeld 1997; Ingrassia, Minotti & Vittadini 2012.
+ * Factors each component's x covariance (the Cholesky kernel, without its ridge) for the
+ * Gaussian x density of the joint (cluster-weighted) model, Gershenfeld 1997; Ingrassia,
+ * Minotti & Vittadini 2012.
  */
 export function predictorModels(fit: MixtureFit): PredictorModel[] {
   const p = fit.p;
+  const scratch = new Float64Array(choleskyScratchLength(p));
   return fit.components.map((component, k) => {
     if (!component.xMean || !component.xCovariance) {
       throw new SkeinError("bad-input", `Component ${k + 1} of this joint fit carries no model of x (mean and covariance); refit with model "joint".`);
     }
-    const covariance = new Matrix(p, p);
-    for (let a = 0; a < p; a++) for (let b = 0; b < p; b++) covariance.set(a, b, component.xCovariance[a * p + b]);
-    const cholesky = new CholeskyDecomposition(covariance);
-    if (!cholesky.isPositiveDefinite()) {
+    const lower = new Float64Array(p * p);
+    const logDeterminant = scaledCholeskyLower(component.xCovariance, p, lower, scratch, false);
+    if (Number.isNaN(logDeterminant)) {
       throw new SkeinError("numeric", `The x covariance of component ${k + 1} is not positive definite; refit, or remove a predictor that is constant within a group.`);
     }
-    const lower = cholesky.lowerTriangularMatrix;
-    let logDeterminant = 0;
-    for (let a = 0; a < p; a++) logDeterminant += 2 * Math.log(lower.get(a, a));
-    const inverse = cholesky.solve(Matrix.eye(p));
-    const precision = new Float64Array(p * p);
-    for (let a = 0; a < p; a++) for (let b = 0; b < p; b++) precision[a * p + b] = inverse.get(a, b);
-    return { mean: component.xMean, precision, logDeterminant };
+    return { mean: component.xMean, lower, logDeterminant };
   });
 }
 
 /** ln φ(x; μ, Σ) for one row x (length p starting at xOffset). */
 export function predictorLogDensity(model: PredictorModel, x: Float64Array, xOffset: number, p: number, scratch: Float64Array): number {
-  for (let a = 0; a < p; a++) scratch[a] = x[xOffset + a] - model.mean[a];
-  let quadratic = 0;
-  for (let a = 0; a < p; a++) {
-    let row = 0;
-    const offset = a * p;
-    for (let b = 0; b < p; b++) row += model.precision[offset + b] * scratch[b];
-    quadratic += scratch[a] * row;
-  }
-  return -0.5 * (p * LOG_TWO_PI + model.logDeterminant + quadratic);
-}
-
-/**
- * Turns a row-major m x k block of log joint densities ln(π_k f_k) into membership
- * probabilities in place, by log-sum-exp (subtracting the row's largest term keeps exp from
- * underflowing), and returns Σ_i ln Σ_k π_k f_k.
- */
-export function normaliseLogDensities(logDensities: Float64Array, m: number, k: number, rowLogLikelihood?: Float64Array): number {
-  let total = 0;
-  for (let i = 0; i < m; i++) {
-    const offset = i * k;
-    let largest = -Infinity;
-    for (let c = 0; c < k; c++) if (logDensities[offset + c] > largest) largest = logDensities[offset + c];
-    let sum = 0;
-    for (let c = 0; c < k; c++) sum += Math.exp(logDensities[offset + c] - largest);
-    const logSum = largest + Math.log(sum);
-    for (let c = 0; c < k; c++) logDensities[offset + c] = Math.exp(logDensities[offset + c] - logSum);
-    if (rowLogLikelihood) rowLogLikelihood[i] = logSum;
-    total += logSum;
-  }
-  return total;
+  return gaussianLogDensity(x, xOffset, model.mean, 0, model.lower, 0, model.logDeterminant, p, scratch);
 }
 
 /**

@@ -33,81 +33,133 @@ export interface ObservedInformation {
   logitOffset: number;
 }
 
+/**
+ * Accumulated in one pass over the rows with the structure of the gradient written out (a_ik
+ * is non-zero on component k's β (r x / v), its σ² and the logits), so that
+ * Σ_k τ B − (Σ_k τ a aᵀ − s sᵀ) becomes, per row, a few scalars times x xᵀ, x or 1:
+ *   β_c β_d:  x xᵀ · [δ_cd τ_c (1/v_c − α_c²) + τ_c α_c τ_d α_d],   α = r / v;
+ *   β_c σ²_d: x · [δ_cd τ_c α_c (1/v_c − γ_c) + τ_c α_c τ_d γ_d],     γ = (r²/v − 1)/(2v);
+ *   β_c η_j:  x · [−τ_c α_c (δ_cj − τ_j)];
+ *   σ²_c σ²_d: δ_cd τ_c (r²/v³ − 1/(2v²) − γ_c²) + τ_c γ_c τ_d γ_d;
+ *   σ²_c η_j: −τ_c γ_c (δ_cj − τ_j);   η_j η_l: n(π_j δ_jl − π_j π_l) − Σ_i (τ_j δ_jl − τ_j τ_l).
+ * Each β block is a weighted Gram matrix over flat arrays (upper triangle, mirrored at the
+ * end): about K(K + 1)/2 · q(q + 1)/2 multiply-adds per row instead of the dense (Kq)² of
+ * s sᵀ.
+ */
 export function observedInformation(data: RegressionData, fit: MixtureFit): ObservedInformation {
   const k = fit.k;
   const { matrix: design, q } = dataMatrix(data, fit.intercept);
   const n = data.n;
-  const { memberships } = computeMemberships(fit, design, q, data.y, data.x, n);
+  const y = data.y;
+  const { memberships } = computeMemberships(fit, design, q, y, data.x, n);
   const varianceOffset = k * q;
   const logitOffset = varianceOffset + k;
-  const size = logitOffset + (k - 1);
-  const info = new Float64Array(size * size);
-  const weights = fit.components.map((c) => c.weight);
-  const variances = fit.components.map((c) => c.sigma * c.sigma);
+  const logits = k - 1;
+  const size = logitOffset + logits;
+  const weights = Float64Array.from(fit.components, (c) => c.weight);
+  const variances = Float64Array.from(fit.components, (c) => c.sigma * c.sigma);
   const shift = fit.components[0].coefficients.length - q;
+  const coefficients = new Float64Array(k * q);
+  fit.components.forEach((c, index) => coefficients.set(c.coefficients.subarray(shift, shift + q), index * q));
 
-  // Scratch allocated once: the gradient of each component's term for the current row, and s_i.
-  const gradients = new Float64Array(k * size);
-  const score = new Float64Array(size);
-  // Positions of each component's non-zero gradient entries: its β block, its σ², all logits.
-  const support: Int32Array[] = [];
-  for (let c = 0; c < k; c++) {
-    const positions: number[] = [];
-    for (let j = 0; j < q; j++) positions.push(c * q + j);
-    positions.push(varianceOffset + c);
-    for (let j = 0; j < k - 1; j++) positions.push(logitOffset + j);
-    support.push(Int32Array.from(positions));
-  }
-  const add = (a: number, b: number, value: number): void => {
-    info[a * size + b] += value;
-  };
-
-  // The logit block of B_ik is the same for every k and every row; Σ_k τ_ik = 1, so it adds n times.
-  for (let j = 0; j < k - 1; j++) {
-    for (let l = 0; l < k - 1; l++) add(logitOffset + j, logitOffset + l, n * ((j === l ? weights[j] : 0) - weights[j] * weights[l]));
-  }
+  // Accumulators: one q x q Gram per component pair c ≤ d (upper triangle), q-vectors for the
+  // β-σ² and β-logit blocks, and the small σ²/logit blocks.
+  const pairs = (k * (k + 1)) / 2;
+  const grams = new Float64Array(pairs * q * q);
+  const betaVariance = new Float64Array(k * k * q);
+  const betaLogit = new Float64Array(k * logits * q);
+  const varianceVariance = new Float64Array(k * k);
+  const varianceLogit = new Float64Array(k * logits);
+  const logitLogit = new Float64Array(logits * logits);
+  // Per-row scalars, allocated once.
+  const tau = new Float64Array(k);
+  const alpha = new Float64Array(k);
+  const gamma = new Float64Array(k);
+  const curvature = new Float64Array(k);
+  const pairWeight = new Float64Array(pairs);
+  const vectorWeight = new Float64Array(k * k + k * logits);
 
   for (let i = 0; i < n; i++) {
     const row = i * q;
-    score.fill(0);
     for (let c = 0; c < k; c++) {
-      const tau = memberships[i * k + c];
-      const beta = fit.components[c].coefficients;
-      const v = variances[c];
       let fitted = 0;
-      for (let j = 0; j < q; j++) fitted += design[row + j] * beta[shift + j];
-      const r = data.y[i] - fitted;
-      const g = gradients.subarray(c * size, (c + 1) * size);
-      for (let j = 0; j < q; j++) g[c * q + j] = (r * design[row + j]) / v;
-      g[varianceOffset + c] = (r * r / v - 1) / (2 * v);
-      for (let j = 0; j < k - 1; j++) g[logitOffset + j] = (j === c ? 1 : 0) - weights[j];
-
-      if (tau === 0) continue;
-      // τ B_ik for the β and σ² blocks.
+      for (let j = 0; j < q; j++) fitted += design[row + j] * coefficients[c * q + j];
+      const r = y[i] - fitted;
+      const v = variances[c];
+      tau[c] = memberships[i * k + c];
+      alpha[c] = r / v;
+      gamma[c] = (r * r / v - 1) / (2 * v);
+      curvature[c] = r * r / (v * v * v) - 1 / (2 * v * v);
+    }
+    let t = 0;
+    for (let c = 0; c < k; c++) {
+      const ta = tau[c] * alpha[c];
+      for (let d = c; d < k; d++) pairWeight[t++] = (c === d ? tau[c] * (1 / variances[c] - alpha[c] * alpha[c]) : 0) + ta * tau[d] * alpha[d];
+    }
+    // Σ w_cd x xᵀ over the upper triangle, one contiguous row segment at a time.
+    for (let pair = 0; pair < pairs; pair++) {
+      const w = pairWeight[pair];
+      if (w === 0) continue;
+      const base = pair * q * q;
       for (let a = 0; a < q; a++) {
-        const xa = design[row + a];
-        for (let b = 0; b < q; b++) add(c * q + a, c * q + b, (tau * xa * design[row + b]) / v);
-        const cross = (tau * r * xa) / (v * v);
-        add(c * q + a, varianceOffset + c, cross);
-        add(varianceOffset + c, c * q + a, cross);
-      }
-      add(varianceOffset + c, varianceOffset + c, tau * ((r * r) / (v * v * v) - 1 / (2 * v * v)));
-      // − τ a aᵀ over the component's support, and s_i += τ a.
-      const positions = support[c];
-      for (let u = 0; u < positions.length; u++) {
-        const pu = positions[u];
-        const gu = tau * g[pu];
-        score[pu] += gu;
-        for (let w = 0; w < positions.length; w++) add(pu, positions[w], -gu * g[positions[w]]);
+        const wa = w * design[row + a];
+        const out = base + a * q;
+        for (let b = a; b < q; b++) grams[out + b] += wa * design[row + b];
       }
     }
-    // + s_i s_iᵀ (s_i is dense: every component's β, σ² and the logits).
-    for (let a = 0; a < size; a++) {
-      const sa = score[a];
-      if (sa === 0) continue;
-      const offset = a * size;
-      for (let b = 0; b < size; b++) info[offset + b] += sa * score[b];
+    for (let c = 0; c < k; c++) {
+      const ta = tau[c] * alpha[c];
+      const tg = tau[c] * gamma[c];
+      for (let d = 0; d < k; d++) {
+        vectorWeight[c * k + d] = (c === d ? ta * (1 / variances[c] - gamma[c]) : 0) + ta * tau[d] * gamma[d];
+        varianceVariance[c * k + d] += (c === d ? tau[c] * (curvature[c] - gamma[c] * gamma[c]) : 0) + tg * tau[d] * gamma[d];
+      }
+      for (let j = 0; j < logits; j++) {
+        const indicator = (c === j ? 1 : 0) - tau[j];
+        vectorWeight[k * k + c * logits + j] = -ta * indicator;
+        varianceLogit[c * logits + j] -= tg * indicator;
+      }
     }
+    for (let j = 0; j < logits; j++) {
+      for (let l = 0; l < logits; l++) logitLogit[j * logits + l] -= (j === l ? tau[j] : 0) - tau[j] * tau[l];
+    }
+    for (let a = 0; a < q; a++) {
+      const xa = design[row + a];
+      for (let e = 0; e < k * k; e++) betaVariance[e * q + a] += vectorWeight[e] * xa;
+      for (let e = 0; e < k * logits; e++) betaLogit[e * q + a] += vectorWeight[k * k + e] * xa;
+    }
+  }
+
+  const info = new Float64Array(size * size);
+  const set = (a: number, b: number, value: number): void => {
+    info[a * size + b] = value;
+    info[b * size + a] = value;
+  };
+  let pair = 0;
+  for (let c = 0; c < k; c++) {
+    for (let d = c; d < k; d++, pair++) {
+      for (let a = 0; a < q; a++) {
+        for (let b = 0; b < q; b++) {
+          const value = grams[pair * q * q + (a <= b ? a * q + b : b * q + a)];
+          info[(c * q + a) * size + d * q + b] = value;
+          info[(d * q + b) * size + c * q + a] = value;
+        }
+      }
+    }
+  }
+  for (let c = 0; c < k; c++) {
+    for (let d = 0; d < k; d++) {
+      for (let a = 0; a < q; a++) set(c * q + a, varianceOffset + d, betaVariance[(c * k + d) * q + a]);
+      info[(varianceOffset + c) * size + varianceOffset + d] = varianceVariance[c * k + d];
+    }
+    for (let j = 0; j < logits; j++) {
+      for (let a = 0; a < q; a++) set(c * q + a, logitOffset + j, betaLogit[(c * logits + j) * q + a]);
+      set(varianceOffset + c, logitOffset + j, varianceLogit[c * logits + j]);
+    }
+  }
+  // The logit block of B_ik is the same for every k and every row; Σ_k τ_ik = 1, so it adds n times.
+  for (let j = 0; j < logits; j++) {
+    for (let l = 0; l < logits; l++) info[(logitOffset + j) * size + logitOffset + l] = logitLogit[j * logits + l] + n * ((j === l ? weights[j] : 0) - weights[j] * weights[l]);
   }
   return { matrix: info, size, q, k, varianceOffset, logitOffset };
 }

@@ -1,7 +1,8 @@
 import { SkeinError } from "./errors";
 import type { MixtureFit } from "./mixtureTypes";
 import type { Prediction } from "./trustTypes";
-import { normaliseLogDensities, predictorLogDensity, predictorModels } from "./computeMemberships";
+import { predictorLogDensity, predictorModels } from "./computeMemberships";
+import { normaliseLogDensities } from "./logDensities";
 
 /**
  * Predictions for m new rows (newX: m x p row-major, the fit's predictors in its order,

@@ -57,10 +57,10 @@ export const CROSS_VALIDATION_FOLDS = 5;
  * cross-validated log-likelihood, convergence, the smallest separation and why the K may not
  * be suggested; then suggests a K by the rule above.
  *
- * Parameter count (Schwarz 1978 BIC = −2 ln L + ν ln n): ν = K(q + 2) − 1 for q coefficients per
- * component (intercept included), one noise variance each and K − 1 free weights; the joint
- * model adds K(p + p(p + 1)/2) for each component's x mean and covariance.
- * ICL = BIC + 2 EN, EN = −Σ_i Σ_k τ_ik ln τ_ik (Biernacki, Celeux & Govaert 2000, IEEE TPAMI).
+ * BIC and ICL are the fit's own (fitMixture: BIC = −2 ln L + ν ln n, Schwarz 1978, with
+ * ν = K(q + 2) − 1 for q coefficients per component, one noise variance each and K − 1 free
+ * weights, plus K(p + p(p + 1)/2) in the joint model; ICL = BIC + 2 EN, Biernacki, Celeux &
+ * Govaert 2000).
  *
  * Starts are reused across K: besides the fit's own starts, K is also started from the K − 1
  * fit plus one component fitted to the rows that fit worst under it (a "split/add" start, in
@@ -148,17 +148,7 @@ export function scanComponents(data: RegressionData, options: ScanOptions): Scan
 
 function scanRow(data: RegressionData, fit: MixtureFit): ScanRow {
   const k = fit.k;
-  const { p, n } = data;
-  const q = fit.q;
-  // ν as stated in the module comment (plus the background's weight when the fit has one).
-  const parameterCount = fit.parameterCount;
-  const bic = -2 * fit.logLikelihood + parameterCount * Math.log(n);
-  let entropy = 0;
-  for (let t = 0; t < fit.memberships.length; t++) {
-    const tau = fit.memberships[t];
-    if (tau > 0) entropy -= tau * Math.log(tau);
-  }
-  const icl = bic + 2 * entropy;
+  // BIC and ICL are the fit's own (computed once, when the fit is assembled).
   const separation = checkSeparation(data, fit);
   const converged = fit.warmStart.converged && fit.refinement.converged;
   const reasons: string[] = [];
@@ -182,8 +172,8 @@ function scanRow(data: RegressionData, fit: MixtureFit): ScanRow {
   return {
     k,
     logLikelihood: fit.logLikelihood,
-    bic,
-    icl,
+    bic: fit.bic,
+    icl: fit.icl,
     crossValidatedLogLikelihood: NaN,
     converged,
     minSeparation: separation.minGap,

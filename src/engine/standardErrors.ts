@@ -1,4 +1,4 @@
-import { CholeskyDecomposition, Matrix } from "ml-matrix";
+import { invertPositiveDefinite } from "./cholesky";
 import { mapFit, scaleData, scalesFor, unscaleStandardErrors } from "./internalScaling";
 import { SkeinError } from "./errors";
 import type { MixtureFit, MixtureOptions, RegressionData } from "./mixtureTypes";
@@ -65,37 +65,6 @@ function emptyReport(fit: MixtureFit, method: StandardErrorReport["method"]): St
     sigmas: new Float64Array(fit.k).fill(NaN),
     warnings: [],
   };
-}
-
-/**
- * (A)⁻¹ for a symmetric positive definite A, through Cholesky of the equilibrated D A D with
- * D = diag(1/sqrt(a_jj)) (van der Sluis 1969: the diagonal scaling nearly minimises the
- * condition number), which keeps parameters of very different scales (a coefficient of a
- * predictor in millions beside a weight logit) from losing digits. Null when A is not
- * positive definite.
- */
-export function invertPositiveDefinite(a: Float64Array, size: number): Float64Array | null {
-  const scale = new Float64Array(size);
-  for (let j = 0; j < size; j++) {
-    const d = a[j * size + j];
-    if (!(d > 0) || !Number.isFinite(d)) return null;
-    scale[j] = 1 / Math.sqrt(d);
-  }
-  const scaled = new Matrix(size, size);
-  // Symmetrised as it is scaled: sums accumulated in different orders differ in the last bits.
-  for (let r = 0; r < size; r++) {
-    for (let c = r; c < size; c++) {
-      const value = 0.5 * (a[r * size + c] + a[c * size + r]) * scale[r] * scale[c];
-      scaled.set(r, c, value);
-      scaled.set(c, r, value);
-    }
-  }
-  const cholesky = new CholeskyDecomposition(scaled);
-  if (!cholesky.isPositiveDefinite()) return null;
-  const inverse = cholesky.solve(Matrix.eye(size));
-  const out = new Float64Array(size * size);
-  for (let r = 0; r < size; r++) for (let c = 0; c < size; c++) out[r * size + c] = inverse.get(r, c) * scale[r] * scale[c];
-  return out;
 }
 
 function informationErrors(data: RegressionData, fit: MixtureFit): StandardErrorReport & { warnings: string[] } {

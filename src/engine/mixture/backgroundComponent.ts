@@ -36,6 +36,12 @@ export function createBackground(ws: MixtureWorkspace, logDensity?: number, weig
   return { logDensity: logDensity ?? backgroundLogDensity(ws.y, ws.n, ws.joint ? ws.predictors : null, ws.p), weight, memberships: new Float64Array(ws.n) };
 }
 
+/** The workspace with a background attached when the fit asks for one, sharing `full`'s flat density (one V for the whole fit). */
+export function withBackground(ws: MixtureWorkspace, background: boolean, full?: MixtureWorkspace): MixtureWorkspace {
+  if (background) ws.background = createBackground(ws, full?.background?.logDensity);
+  return ws;
+}
+
 /** −ln V for the box the rows span; a zero range counts as 1 (it cannot arise for y, which the data layer requires to vary). */
 export function backgroundLogDensity(y: Float64Array, n: number, predictors: Float64Array | null, p: number): number {
   let logVolume = Math.log(range(y, n, 1, 0));

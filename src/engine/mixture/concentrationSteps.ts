@@ -1,6 +1,6 @@
 import { HouseholderQR } from "../householderQR";
 import { gatherRows } from "../rowSubset";
-import { choleskyScratchLength, scaledCholeskySolve } from "./scaledCholeskySolve";
+import { choleskyScratchLength, scaledCholeskySolve } from "../cholesky";
 
 /**
  * Concentration steps ("C-steps") of least trimmed squares (Rousseeuw & Van Driessen 2006,

@@ -2,9 +2,7 @@ import type { MixtureParameters } from "./mixtureParameters";
 import type { MixtureWorkspace } from "./mixtureWorkspace";
 import { backgroundLogTerm } from "./backgroundComponent";
 
-const LOG_TWO_PI = Math.log(2 * Math.PI);
-/** ln(2⁻⁵³) ≈ −36.7: a term exp(−37) ≈ 8.5e-17 is below half an ulp of a sum that is at least 1. */
-const NEGLIGIBLE_LOG_RATIO = -37;
+import { gaussianLogDensity, LOG_TWO_PI, membershipsFromLogTerms } from "../logDensities";
 
 /**
  * Residuals r_ik = y_i − x_iᵀβ_k for every row and component, stored n x k. The M-step's
@@ -29,8 +27,7 @@ export function computeResiduals(ws: MixtureWorkspace, params: MixtureParameters
 /**
  * E-step (Dempster, Laird & Rubin 1977) from the stored residuals, in log space:
  * log τ_ik = log π_k + log φ(y_i; x_iᵀβ_k, σ_k²) [+ log φ(x_i; μ_k, Σ_k) in the joint model,
- * Gershenfeld 1997] − logsumexp over k. Subtracting the row maximum before exponentiating
- * keeps every term in range however small the variances (the log-sum-exp device).
+ * Gershenfeld 1997] − logsumexp over k, through the E-step kernel (logDensities.ts).
  *
  * @param withResiduals compute the residuals at the current coefficients first (row by row, in
  *   the same sweep) instead of reading those computeResiduals stored
@@ -48,13 +45,16 @@ export function eStep(ws: MixtureWorkspace, params: MixtureParameters, withResid
     curvature[c] = -0.5 / params.variances[c];
   }
   const joint = ws.joint && params.xMeans !== null;
-  // The flat background (Banfield & Raftery 1993) is one more term, the same for every row.
+  const xMeans = params.xMeans as Float64Array;
+  const xFactors = params.xCholesky as Float64Array;
+  const xLogDeterminants = params.xLogDeterminants as Float64Array;
+  // The flat background (Banfield & Raftery 1993) is one more term, the same for every row:
+  // term k of the row's log terms, its membership then moved to the background's own array.
   const background = ws.background;
-  const backgroundTerm = background ? backgroundLogTerm(background) : -Infinity;
+  const backgroundTerm = background ? backgroundLogTerm(background) : 0;
   let total = 0;
   for (let i = 0; i < n; i++) {
     const offset = i * k;
-    let largest = -Infinity;
     if (withResiduals) {
       // Fused with computeResiduals: one sweep of the design per iteration instead of two.
       const rowOffset = i * q;
@@ -67,49 +67,20 @@ export function eStep(ws: MixtureWorkspace, params: MixtureParameters, withResid
     for (let c = 0; c < k; c++) {
       const r = residuals[offset + c];
       let value = constant[c] + curvature[c] * r * r;
-      if (joint) value += predictorLogDensity(ws, params, i, c);
+      if (joint) value += gaussianLogDensity(ws.predictors, i * ws.p, xMeans, c * ws.p, xFactors, c * ws.p * ws.p, xLogDeterminants[c], ws.p, ws.predictorScratch);
       logTerm[c] = value;
-      if (value > largest) largest = value;
     }
-    if (backgroundTerm > largest) largest = backgroundTerm;
-    let sum = 0;
+    let rowValue: number;
     if (background) {
-      const e = Math.exp(backgroundTerm - largest);
-      background.memberships[i] = e;
-      sum = e;
+      logTerm[k] = backgroundTerm;
+      rowValue = membershipsFromLogTerms(logTerm, 0, k + 1, logTerm, 0);
+      for (let c = 0; c < k; c++) memberships[offset + c] = logTerm[c];
+      background.memberships[i] = logTerm[k];
+    } else {
+      rowValue = membershipsFromLogTerms(logTerm, 0, k, memberships, offset);
     }
-    for (let c = 0; c < k; c++) {
-      const difference = logTerm[c] - largest;
-      // Below NEGLIGIBLE_LOG_RATIO the term cannot change the sum (which is at least 1) in
-      // double precision, so the exponential is skipped and the membership is exactly 0.
-      const e = difference > NEGLIGIBLE_LOG_RATIO ? Math.exp(difference) : 0;
-      memberships[offset + c] = e;
-      sum += e;
-    }
-    const inverse = 1 / sum;
-    for (let c = 0; c < k; c++) memberships[offset + c] *= inverse;
-    if (background) background.memberships[i] *= inverse;
-    const rowValue = largest + Math.log(sum);
     rowLogLikelihood[i] = rowValue;
     total += rowValue;
   }
   return total;
-}
-
-/** log φ(x_i; μ_k, Σ_k) through the lower Cholesky factor: z = L⁻¹(x − μ), −½(p ln 2π + ln|Σ| + zᵀz). */
-function predictorLogDensity(ws: MixtureWorkspace, params: MixtureParameters, row: number, component: number): number {
-  const { p, predictors, predictorScratch: z } = ws;
-  const mean = params.xMeans as Float64Array;
-  const factor = params.xCholesky as Float64Array;
-  const logDeterminant = (params.xLogDeterminants as Float64Array)[component];
-  const factorOffset = component * p * p;
-  let squared = 0;
-  for (let j = 0; j < p; j++) {
-    let s = predictors[row * p + j] - mean[component * p + j];
-    for (let l = 0; l < j; l++) s -= factor[factorOffset + j * p + l] * z[l];
-    s /= factor[factorOffset + j * p + j];
-    z[j] = s;
-    squared += s * s;
-  }
-  return -0.5 * (p * LOG_TWO_PI + logDeterminant + squared);
 }

@@ -1,6 +1,6 @@
 import type { MixtureParameters } from "./mixtureParameters";
 import type { MixtureWorkspace } from "./mixtureWorkspace";
-import { scaledCholeskySolve } from "./scaledCholeskySolve";
+import { choleskyScratchLength, scaledCholeskyLower, scaledCholeskySolve } from "../cholesky";
 import { constrainedVariances } from "./constrainedVariances";
 
 /** What an M-step changed beyond the parameters themselves. */
@@ -312,30 +312,24 @@ export function mStepPredictorModel(ws: MixtureWorkspace, params: MixtureParamet
   factorPredictorCovariances(params);
 }
 
-/** Lower Cholesky factors and log determinants of every component's x covariance. */
+/** Lower Cholesky factors (the Cholesky kernel, ridge retry on) and log determinants of every component's x covariance. */
 export function factorPredictorCovariances(params: MixtureParameters): void {
   const { p, k } = params;
   const covariances = params.xCovariances as Float64Array;
   const factors = params.xCholesky as Float64Array;
   const logDeterminants = params.xLogDeterminants as Float64Array;
-  factors.fill(0);
+  const scratch = new Float64Array(choleskyScratchLength(p));
   for (let c = 0; c < k; c++) {
     const offset = c * p * p;
-    let logDeterminant = 0;
-    for (let j = 0; j < p; j++) {
-      for (let l = 0; l <= j; l++) {
-        let s = covariances[offset + j * p + l];
-        for (let m = 0; m < l; m++) s -= factors[offset + j * p + m] * factors[offset + l * p + m];
-        if (l === j) {
-          // The ridge makes s positive; the guard only protects against a non-finite input.
-          const root = Math.sqrt(s > 0 ? s : Number.MIN_VALUE);
-          factors[offset + j * p + j] = root;
-          logDeterminant += 2 * Math.log(root);
-        } else {
-          factors[offset + j * p + l] = s / factors[offset + l * p + l];
-        }
-      }
+    // The covariance ridge of the M-step keeps the matrix positive definite; a non-finite
+    // input fails the factorisation and leaves a unit factor with an infinite log
+    // determinant: a density of zero.
+    const factor = factors.subarray(offset, offset + p * p);
+    const logDeterminant = scaledCholeskyLower(covariances.subarray(offset, offset + p * p), p, factor, scratch);
+    if (Number.isNaN(logDeterminant)) {
+      factor.fill(0);
+      for (let j = 0; j < p; j++) factor[j * p + j] = 1;
     }
-    logDeterminants[c] = logDeterminant;
+    logDeterminants[c] = Number.isNaN(logDeterminant) ? Infinity : logDeterminant;
   }
 }

@@ -1,5 +1,5 @@
 import type { RegressionData } from "../mixtureTypes";
-import { choleskyScratchLength } from "./scaledCholeskySolve";
+import { choleskyScratchLength } from "../cholesky";
 import type { BackgroundComponent } from "./backgroundComponent";
 
 /**
@@ -46,7 +46,7 @@ export interface MixtureWorkspace {
   totalSquares: number;
   /** Σ_i τ_ik y_i² per component, from the last M-step. */
   weightedSquares: Float64Array;
-  /** Per-row scratch of length k. */
+  /** Per-row scratch of length k + 1 (the background's term last). */
   rowScratch: Float64Array;
   /** Per-row scratch of length p (joint model). */
   predictorScratch: Float64Array;
@@ -116,7 +116,7 @@ export function createWorkspace(data: RegressionData, k: number, intercept: bool
     totalRightHandSide: null,
     totalSquares: 0,
     weightedSquares: new Float64Array(k),
-    rowScratch: new Float64Array(k),
+    rowScratch: new Float64Array(k + 1),
     predictorScratch: new Float64Array(p),
     background: null,
   };

@@ -1,7 +1,7 @@
 import type { Random } from "../random";
 import type { MixtureParameters } from "./mixtureParameters";
 import type { MixtureWorkspace } from "./mixtureWorkspace";
-import { scaledCholeskySolve } from "./scaledCholeskySolve";
+import { scaledCholeskySolve } from "../cholesky";
 import { factorPredictorCovariances, type Guards } from "./mStep";
 
 /**

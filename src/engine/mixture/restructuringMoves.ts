@@ -1,61 +1,43 @@
-import type { MixtureFit, MixtureModel, MixtureOptions, RegressionData } from "../mixtureTypes";
-import type { Random } from "../random";
+import type { MixtureFit } from "../mixtureTypes";
+import { fitSubProblem } from "../fitMixture";
+import type { FitContext } from "./fitContext";
 import type { MixtureParameters } from "./mixtureParameters";
 import type { MixtureWorkspace } from "./mixtureWorkspace";
-import type { Guards } from "./mStep";
 import { computeResiduals, eStep } from "./eStep";
 import { parametersFromCoefficients } from "./starts";
-import { selectRows } from "../rowSubset";
+import { enoughRows, exactTolerance } from "./exactComponents";
 
 /**
- * Moves that restructure a converged fit by fitting part of it afresh on a subset of rows:
- * exact peeling, peeling of the best-determined component, and split-and-merge. Each returns a
- * proposed start; the driver refines it and keeps it only when the likelihood rises. The fit of
- * a subset comes in as `fitSubset` (the driver's own fit, one nesting level deeper), so this
- * module does not depend on the driver.
+ * Moves that restructure a fit by fitting part of it afresh on a subset of rows: exact
+ * peeling, peeling of the best-determined component, and split-and-merge. Each returns a
+ * proposed start; the calling phase refines it and keeps it only when the likelihood rises.
+ * The subset goes to the driver through its one sub-problem call (fitSubProblem), which runs
+ * the whole pipeline on those rows one level deeper.
+ *
+ * Each move works on `ws` (the context's working or full workspace); `rowMap` maps its rows
+ * to rows of the context's data (the subsample's rows, or null when `ws` holds them all).
  */
 
-/**
- * The driver's fit applied to a subset of rows, one nesting level deeper; `start` (k·q
- * coefficients, optional) is the parent's estimate of the components left to find, tried
- * before any other start.
- */
-export type SubsetFit = (data: RegressionData, options: MixtureOptions, depth: number, start?: Float64Array) => MixtureFit;
-
-/** The settings a subset fit inherits. */
-export interface SubsetSettings {
-  intercept: boolean;
-  model: MixtureModel;
-  restarts: number;
-  tolerance: number;
-  maxIterations: number;
-}
-
-/**
- * A row counts as fitted exactly by a noiseless component when its residual is below this
- * fraction of SD(y): a million times the noiseless SD limit's square root would be too loose,
- * so it sits between rounding (about 1e-14) and anything a real second component leaves.
- */
-const EXACT_RESIDUAL_RELATIVE = 1e-7;
+/** Rows within this many noise SDs of a kept component are set aside with it (2.5 SDs hold 98.8% of its rows). */
+const PEEL_WIDTH = 2.5;
+/** Random-partition restarts inside a split's two-component fit (two components rarely need more). */
+const SPLIT_RESTARTS = 3;
 
 /**
  * When some components fit their rows to rounding level and others do not, the rows the exact
  * components explain are removed and the remaining components fitted afresh on the other rows
- * (a recursive call with K − e components and the same settings, seeded from the same
- * generator). This is the remove-and-repeat step of moment descent (METHODS.md) applied to
- * a partial EM fit: K-lines is much easier with fewer lines. Returns combined coefficients as
- * a start for EM on all rows, or null when there is nothing to peel.
+ * (K − e components): the remove-and-repeat step of moment descent applied to a partial EM
+ * fit; K-lines is much easier with fewer lines. Returns combined coefficients as a start on
+ * `ws`, or null when there is nothing to peel.
  */
-export function peelExactComponents(data: RegressionData, ws: MixtureWorkspace, params: MixtureParameters, guards: Guards, settings: SubsetSettings, random: Random, depth: number, rowMap: Int32Array | null, fitSubset: SubsetFit): MixtureParameters | null {
+export function peelExactComponents(ctx: FitContext, ws: MixtureWorkspace, params: MixtureParameters, rowMap: Int32Array | null): MixtureParameters | null {
   const { n, q, k } = ws;
-  // Rows a component fits within EXACT_RESIDUAL_RELATIVE · SD(y) are its exact rows; any q rows
-  // can be fitted exactly, so a component counts as exact only with 2q of them or more.
-  const threshold = EXACT_RESIDUAL_RELATIVE * Math.sqrt(ws.yVariance);
+  const threshold = exactTolerance(ws);
   computeResiduals(ws, params);
   const exactRows = new Int32Array(k);
   for (let i = 0; i < n; i++) for (let c = 0; c < k; c++) if (Math.abs(ws.residuals[i * k + c]) <= threshold) exactRows[c]++;
   const exact: number[] = [];
-  for (let c = 0; c < k; c++) if (exactRows[c] >= 2 * q) exact.push(c);
+  for (let c = 0; c < k; c++) if (exactRows[c] >= enoughRows(q)) exact.push(c);
   if (exact.length === 0 || exact.length === k) return null;
   const remaining: number[] = [];
   for (let i = 0; i < n; i++) {
@@ -63,37 +45,20 @@ export function peelExactComponents(data: RegressionData, ws: MixtureWorkspace, 
     for (const c of exact) if (Math.abs(ws.residuals[i * k + c]) <= threshold) fitted = true;
     if (!fitted) remaining.push(rowMap ? rowMap[i] : i);
   }
-  const rest = k - exact.length;
-  if (remaining.length < rest * guards.minimumSize) return null;
-  // The components that are not exact yet are the sub-fit's first start: with the rows of the
-  // exact components removed they are often next to an exact fit of the rest, which then ends
-  // the sub-fit's search before its own warm start and restarts run.
-  const inherited = new Float64Array(rest * q);
-  let slot = 0;
-  for (let c = 0; c < k; c++) if (!exact.includes(c)) inherited.set(params.coefficients.subarray(c * q, c * q + q), (slot++) * q);
-  const sub = fitSubset(selectRows(data, remaining), {
-    k: rest,
-    seed: random.integer(2147483647),
-    intercept: settings.intercept,
-    model: settings.model,
-    restarts: settings.restarts,
-    tolerance: settings.tolerance,
-    maxIterations: settings.maxIterations,
-  }, depth + 1, inherited);
-  const coefficients = new Float64Array(k * q);
-  exact.forEach((c, j) => coefficients.set(params.coefficients.subarray(c * q, c * q + q), j * q));
-  sub.components.forEach((component, j) => coefficients.set(component.coefficients.subarray(settings.intercept ? 0 : 1), (exact.length + j) * q));
-  return parametersFromCoefficients(ws, coefficients, guards);
+  const others = otherComponents(params, exact);
+  if (remaining.length < others.length * ctx.guards.minimumSize) return null;
+  // The components not exact yet are the sub-problem's first start: with the exact rows
+  // removed they are often next to an exact fit of the rest.
+  const sub = fitSubProblem(ctx, { rows: remaining, k: others.length, start: coefficientsOf(params, others) });
+  return combine(ws, params, exact, sub, ctx);
 }
 
 /**
  * One split-and-merge move (Ueda, Nakano, Ghahramani & Hinton 2000, Neural Computation 12):
- * component `split` (the driver tries those with the largest unexplained variance n_k σ_k²) is split by a two-component fit
- * of the rows it holds (a recursive fitMixture), and the component whose removal costs the
- * least likelihood is dropped to keep K. Returns the proposed start, or null when no split
- * applies; the caller refines it and keeps it only if the likelihood rises.
+ * component `split` is split by a two-component fit of the rows it holds, and the component
+ * whose removal costs the least likelihood is dropped to keep K. Null when no split applies.
  */
-export function splitAndMerge(data: RegressionData, ws: MixtureWorkspace, params: MixtureParameters, split: number, guards: Guards, settings: SubsetSettings, random: Random, rowMap: Int32Array | null, depth: number, fitSubset: SubsetFit): MixtureParameters | null {
+export function splitAndMerge(ctx: FitContext, ws: MixtureWorkspace, params: MixtureParameters, split: number, rowMap: Int32Array | null): MixtureParameters | null {
   const { n, q, k } = ws;
   computeResiduals(ws, params);
   eStep(ws, params);
@@ -103,10 +68,10 @@ export function splitAndMerge(data: RegressionData, ws: MixtureWorkspace, params
     for (let c = 1; c < k; c++) if (ws.memberships[i * k + c] > ws.memberships[i * k + best]) best = c;
     if (best === split) rows.push(rowMap ? rowMap[i] : i);
   }
-  if (rows.length < 2 * guards.minimumSize) return null;
+  if (rows.length < 2 * ctx.guards.minimumSize) return null;
   let halves: MixtureFit;
   try {
-    halves = fitSubset(selectRows(data, rows), { k: 2, seed: random.integer(2147483647), intercept: settings.intercept, model: settings.model, restarts: Math.min(settings.restarts, SPLIT_RESTARTS), tolerance: settings.tolerance, maxIterations: settings.maxIterations }, depth + 1);
+    halves = fitSubProblem(ctx, { rows, k: 2, restarts: Math.min(ctx.settings.restarts, SPLIT_RESTARTS) });
   } catch {
     return null;
   }
@@ -115,15 +80,9 @@ export function splitAndMerge(data: RegressionData, ws: MixtureWorkspace, params
   let bestLogLikelihood = -Infinity;
   for (let drop = 0; drop < k; drop++) {
     if (drop === split) continue;
-    const coefficients = new Float64Array(k * q);
-    let slot = 0;
-    for (let c = 0; c < k; c++) {
-      if (c === split || c === drop) continue;
-      coefficients.set(params.coefficients.subarray(c * q, c * q + q), slot * q);
-      slot++;
-    }
-    for (const half of halves.components) coefficients.set(half.coefficients.subarray(settings.intercept ? 0 : 1), (slot++) * q);
-    const start = parametersFromCoefficients(ws, coefficients, guards);
+    const kept: number[] = [];
+    for (let c = 0; c < k; c++) if (c !== split && c !== drop) kept.push(c);
+    const start = combine(ws, params, kept, halves, ctx);
     computeResiduals(ws, start);
     const logLikelihood = eStep(ws, start);
     if (logLikelihood > bestLogLikelihood) {
@@ -136,39 +95,46 @@ export function splitAndMerge(data: RegressionData, ws: MixtureWorkspace, params
 
 /**
  * Keeps component `keep`, removes the rows within PEEL_WIDTH noise SDs of it and fits K − 1
- * components to the other rows (a recursive fitMixture): the remove-and-repeat idea of moment
- * descent (METHODS.md) applied to a noisy EM fit. The fit's other K − 1 components are the
- * sub-fit's first start (as in exact peeling), so with four or more of them the sub-fit skips
- * its random partitions. Returns the combined start or null.
+ * components to the other rows: the remove-and-repeat idea of moment descent applied to a
+ * noisy EM fit. The fit's other K − 1 components are the sub-problem's first start.
  */
-export function peelComponent(data: RegressionData, ws: MixtureWorkspace, params: MixtureParameters, keep: number, guards: Guards, settings: SubsetSettings, random: Random, rowMap: Int32Array | null, depth: number, fitSubset: SubsetFit): MixtureParameters | null {
+export function peelComponent(ctx: FitContext, ws: MixtureWorkspace, params: MixtureParameters, keep: number, rowMap: Int32Array | null): MixtureParameters | null {
   const { n, q, k } = ws;
   computeResiduals(ws, params);
   const width = PEEL_WIDTH * Math.sqrt(params.variances[keep]);
   const remaining: number[] = [];
   for (let i = 0; i < n; i++) if (Math.abs(ws.residuals[i * k + keep]) > width) remaining.push(rowMap ? rowMap[i] : i);
-  if (n - remaining.length < 2 * q || remaining.length < (k - 1) * guards.minimumSize) return null;
+  if (n - remaining.length < enoughRows(q) || remaining.length < (k - 1) * ctx.guards.minimumSize) return null;
   let rest: MixtureFit;
   try {
-    const others = new Float64Array((k - 1) * q);
-    let slot = 0;
-    for (let c = 0; c < k; c++) if (c !== keep) others.set(params.coefficients.subarray(c * q, c * q + q), (slot++) * q);
-    rest = fitSubset(selectRows(data, remaining), { k: k - 1, seed: random.integer(2147483647), intercept: settings.intercept, model: settings.model, restarts: settings.restarts, tolerance: settings.tolerance, maxIterations: settings.maxIterations }, depth + 1, others);
+    rest = fitSubProblem(ctx, { rows: remaining, k: k - 1, start: coefficientsOf(params, otherComponents(params, [keep])) });
   } catch {
     return null;
   }
-  const coefficients = new Float64Array(k * q);
-  coefficients.set(params.coefficients.subarray(keep * q, keep * q + q), 0);
-  rest.components.forEach((component, j) => coefficients.set(component.coefficients.subarray(settings.intercept ? 0 : 1), (j + 1) * q));
-  return parametersFromCoefficients(ws, coefficients, guards);
+  return combine(ws, params, [keep], rest, ctx);
 }
 
-/** Rows within this many noise SDs of a kept component are set aside with it (2.5 SDs hold 98.8% of its rows). */
-const PEEL_WIDTH = 2.5;
-/** Components tried as the kept one, smallest noise SD first. */
-export const PEEL_CANDIDATES = 2;
-/** Nesting depth below which noisy peeling may run (the top fit and one level of sub-fits). */
-export const MAX_PEELING_DEPTH = 2;
+/** Components of `params` not listed in `listed`, in order. */
+function otherComponents(params: MixtureParameters, listed: readonly number[]): number[] {
+  const others: number[] = [];
+  for (let c = 0; c < params.k; c++) if (!listed.includes(c)) others.push(c);
+  return others;
+}
 
-/** Random-partition restarts inside a split's two-component fit (two components rarely need more). */
-const SPLIT_RESTARTS = 3;
+/** The listed components' coefficients, one after another. */
+function coefficientsOf(params: MixtureParameters, components: readonly number[]): Float64Array {
+  const { q } = params;
+  const out = new Float64Array(components.length * q);
+  components.forEach((c, slot) => out.set(params.coefficients.subarray(c * q, c * q + q), slot * q));
+  return out;
+}
+
+/** A start on `ws`: the kept components of `params` first, then the sub-problem's components. */
+function combine(ws: MixtureWorkspace, params: MixtureParameters, kept: readonly number[], sub: MixtureFit, ctx: FitContext): MixtureParameters {
+  const { q } = ws;
+  const coefficients = new Float64Array(ws.k * q);
+  coefficients.set(coefficientsOf(params, kept));
+  const offset = ctx.settings.intercept ? 0 : 1;
+  sub.components.forEach((component, j) => coefficients.set(component.coefficients.subarray(offset), (kept.length + j) * q));
+  return parametersFromCoefficients(ws, coefficients, ctx.guards);
+}

@@ -4,7 +4,7 @@ import type { MixtureWorkspace } from "./mixtureWorkspace";
 import { createParameters } from "./mixtureParameters";
 import { computeResiduals } from "./eStep";
 import { mStepPredictorModel, mStepVariances, type Guards } from "./mStep";
-import { scaledCholeskySolve } from "./scaledCholeskySolve";
+import { scaledCholeskySolve } from "../cholesky";
 
 /**
  * Cheap starting points for EM. Each returns hard labels or coefficients; the driver turns

@@ -1,5 +1,6 @@
 import { HouseholderQR } from "../householderQR";
 import { gatherRows, rowsWithLabel } from "../rowSubset";
+import { choleskyScratchLength, scaledCholeskySolve } from "../cholesky";
 
 /**
  * Hard-assignment refinement of K regressions (k-lines / clusterwise regression, Späth 1979,
@@ -8,13 +9,6 @@ import { gatherRows, rowsWithLabel } from "../rowSubset";
  * the noise goes to 0, converges in few steps from a start within its (wide) basin, and in
  * noiseless data lands on exact fits, which certify the start.
  */
-/**
- * Absolute residual, relative to the SD of y, that counts as an exact fit: rounding in a
- * least-squares fit of tens of coefficients leaves relative residuals near 1e-14, while a row
- * of another component misses by the component separation (0.1 or more of the SD in any
- * problem worth fitting).
- */
-export const EXACT_FIT_RELATIVE = 1e-9;
 
 export interface AlternatingFit {
   coefficients: Float64Array[];
@@ -48,7 +42,7 @@ export function alternatingLeastSquares(
   // component goes through Householder QR for rounding-level exactness.
   const grams = new Float64Array(k * q * q);
   const rights = new Float64Array(k * q);
-  const factor = new Float64Array(q * q);
+  const scratch = new Float64Array(choleskyScratchLength(q));
   const changedComponent = new Uint8Array(k);
   const previous = new Int32Array(n).fill(-1);
   // Fitted values per row and component (n x k), recomputed only for the components whose
@@ -77,7 +71,7 @@ export function alternatingLeastSquares(
     for (let c = 0; c < k; c++) {
       if (!changedComponent[c] || counts[c] < minimumRows) continue;
       stale[c] = 1;
-      solveNormalEquations(grams.subarray(c * q * q, (c + 1) * q * q), rights.subarray(c * q, (c + 1) * q), q, factor, coefficients[c]);
+      scaledCholeskySolve(grams.subarray(c * q * q, (c + 1) * q * q), rights.subarray(c * q, (c + 1) * q), q, coefficients[c], scratch);
     }
   }
   // Final exact solve per component by QR.
@@ -106,7 +100,7 @@ export function alternatingLeastSquares(
   return { coefficients, labels, exactRows, scales, iterations };
 }
 
-/** Adds sign · (x xᵀ, x y) of one row to component c's normal equations (lower triangle). */
+/** Adds sign · (x xᵀ, x y) of one row to component c's normal equations (upper triangle). */
 function addOuterProduct(design: Float64Array, row: number, q: number, response: number, sign: number, grams: Float64Array, rights: Float64Array, c: number): void {
   const gramOffset = c * q * q;
   const rightOffset = c * q;
@@ -114,7 +108,7 @@ function addOuterProduct(design: Float64Array, row: number, q: number, response:
     const va = sign * design[row + a];
     rights[rightOffset + a] += va * response;
     const out = gramOffset + a * q;
-    for (let b = 0; b <= a; b++) grams[out + b] += va * design[row + b];
+    for (let b = a; b < q; b++) grams[out + b] += va * design[row + b];
   }
 }
 
@@ -161,31 +155,4 @@ function assign(design: Float64Array, n: number, q: number, y: Float64Array, coe
     best[i] = smallest;
   }
   return changed;
-}
-
-/** Cholesky solve of the normal equations (lower triangle of G given); leaves out untouched if singular. */
-function solveNormalEquations(gram: Float64Array, right: Float64Array, q: number, factor: Float64Array, out: Float64Array): void {
-  for (let a = 0; a < q; a++) {
-    for (let b = 0; b <= a; b++) {
-      let s = gram[a * q + b];
-      for (let t = 0; t < b; t++) s -= factor[a * q + t] * factor[b * q + t];
-      if (a === b) {
-        if (!(s > 1e-13 * Math.abs(gram[a * q + a]))) return;
-        factor[a * q + a] = Math.sqrt(s);
-      } else {
-        factor[a * q + b] = s / factor[b * q + b];
-      }
-    }
-  }
-  const w = new Float64Array(q);
-  for (let a = 0; a < q; a++) {
-    let s = right[a];
-    for (let t = 0; t < a; t++) s -= factor[a * q + t] * w[t];
-    w[a] = s / factor[a * q + a];
-  }
-  for (let a = q - 1; a >= 0; a--) {
-    let s = w[a];
-    for (let t = a + 1; t < q; t++) s -= factor[t * q + a] * out[t];
-    out[a] = s / factor[a * q + a];
-  }
 }

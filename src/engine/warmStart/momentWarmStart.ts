@@ -1,6 +1,7 @@
 import type { RegressionData } from "../mixtureTypes";
 import { sampleIndices, type Random } from "../random";
-import { alternatingLeastSquares, EXACT_FIT_RELATIVE, type AlternatingFit } from "./alternatingLeastSquares";
+import { alternatingLeastSquares, type AlternatingFit } from "./alternatingLeastSquares";
+import { enoughRows, EXACT_RELATIVE } from "../mixture/exactComponents";
 import { subspaceMixtureFit, randomPartition, type SubspaceMixture } from "./subspaceMixtureFit";
 import { whitenPredictors, unwhitenCoefficients, whitenCoefficients, type WhitenedPredictors } from "./whitenPredictors";
 import { responseMomentSubspace } from "./responseMomentSubspace";
@@ -82,7 +83,7 @@ export function momentWarmStart(data: RegressionData, k: number, intercept: bool
     if (intercept) design[i * q] = 1;
     design.set(whitened.x.subarray(i * p, i * p + p), i * q + offset);
   }
-  const exactTolerance = EXACT_FIT_RELATIVE * sdY;
+  const exactTolerance = EXACT_RELATIVE * sdY;
   const candidates = subspaceCandidates(whitened, y, k, intercept, random);
   let best: AlternatingFit | null = null;
   for (const start of candidates) {
@@ -123,7 +124,7 @@ function peelAndRestart(
     };
     for (let i = 0; i < n; i++) if (residualOf(i, best.coefficients[best.labels[i]]) <= exactTolerance) exactCount[best.labels[i]]++;
     const found: Float64Array[] = [];
-    for (let c = 0; c < k; c++) if (exactCount[c] >= exactRowsNeeded(q)) found.push(best.coefficients[c]);
+    for (let c = 0; c < k; c++) if (exactCount[c] >= enoughRows(q)) found.push(best.coefficients[c]);
     const missing = k - found.length;
     if (found.length === 0 || missing === 0) break;
     const rest: number[] = [];
@@ -143,14 +144,6 @@ function peelAndRestart(
   return best;
 }
 
-/**
- * Rows beyond the coefficient count q that a component must fit exactly to count as found:
- * any q rows are fitted exactly by some vector (a spurious fit, METHODS.md), so only clearly
- * more rows certify a component.
- */
-function exactRowsNeeded(q: number): number {
-  return q + Math.max(3, Math.ceil(0.1 * q));
-}
 
 /** Coefficients of the original predictors (intercept first when there is one) in whitened coordinates: γ = Lᵀβ, c₀ = b + ⟨β, x̄⟩. */
 function toWhitened(whitened: WhitenedPredictors, c: Float64Array, intercept: boolean, offset: number): Float64Array {

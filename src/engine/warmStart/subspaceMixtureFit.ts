@@ -1,4 +1,6 @@
 import type { Random } from "../random";
+import { choleskyScratchLength, scaledCholeskySolve } from "../cholesky";
+import { LOG_TWO_PI, normaliseLogDensities } from "../logDensities";
 
 /**
  * EM for a mixture of K regressions restricted to a K-dimensional subspace: the rows are the
@@ -31,6 +33,7 @@ export function subspaceMixtureFit(z: Float64Array, y: Float64Array, n: number, 
   const variances = new Float64Array(k);
   const weights = new Float64Array(k);
   const gram = new Float64Array(m * m);
+  const scratch = new Float64Array(choleskyScratchLength(m));
   const right = new Float64Array(m);
   const logDensity = new Float64Array(k);
   let meanSquare = 0;
@@ -69,10 +72,10 @@ export function subspaceMixtureFit(z: Float64Array, y: Float64Array, n: number, 
         for (let e = 0; e < width; e++) sums[e] += t * products[base + e];
       }
       let e = 0;
-      for (let a = 0; a < m; a++) for (let b = 0; b <= a; b++) gram[a * m + b] = sums[e++];
+      for (let a = 0; a < m; a++) for (let b = 0; b <= a; b++) gram[b * m + a] = sums[e++];
       for (let a = 0; a < m; a++) right[a] = sums[e++];
       weights[j] = Math.max(mass / n, 1e-12);
-      if (!solveSymmetric(gram, right, m, coefficients[j])) continue;
+      if (!scaledCholeskySolve(gram, right, m, coefficients[j], scratch, false)) continue;
       let rss = 0;
       for (let i = 0; i < n; i++) {
         const row = i * m;
@@ -82,28 +85,17 @@ export function subspaceMixtureFit(z: Float64Array, y: Float64Array, n: number, 
       }
       variances[j] = Math.max(floor, mass > 0 ? rss / mass : meanSquare);
     }
-    // E-step in log space (log-sum-exp).
-    for (let j = 0; j < k; j++) logDensity[j] = Math.log(weights[j]) - 0.5 * Math.log(2 * Math.PI * variances[j]);
-    logLikelihood = 0;
+    // E-step through the kernel (log-sum-exp).
+    for (let j = 0; j < k; j++) logDensity[j] = Math.log(weights[j]) - 0.5 * (LOG_TWO_PI + Math.log(variances[j]));
     for (let i = 0; i < n; i++) {
       const row = i * m;
-      let best = -Infinity;
       for (let j = 0; j < k; j++) {
         let fitted = 0;
         for (let a = 0; a < m; a++) fitted += z[row + a] * coefficients[j][a];
-        const l = logDensity[j] - (0.5 * (y[i] - fitted) ** 2) / variances[j];
-        tau[i * k + j] = l;
-        if (l > best) best = l;
+        tau[i * k + j] = logDensity[j] - (0.5 * (y[i] - fitted) ** 2) / variances[j];
       }
-      let total = 0;
-      for (let j = 0; j < k; j++) {
-        const e = Math.exp(tau[i * k + j] - best);
-        tau[i * k + j] = e;
-        total += e;
-      }
-      for (let j = 0; j < k; j++) tau[i * k + j] /= total;
-      logLikelihood += best + Math.log(total);
     }
+    logLikelihood = normaliseLogDensities(tau, n, k);
   }
   return { coefficients, memberships: tau, logLikelihood };
 }
@@ -113,33 +105,4 @@ export function randomPartition(n: number, k: number, random: Random, out: Float
   out.fill(0);
   for (let i = 0; i < n; i++) out[i * k + random.integer(k)] = 1;
   return out;
-}
-
-/** Solves G c = b for symmetric positive definite G (lower triangle given) by Cholesky; false if singular. */
-function solveSymmetric(gram: Float64Array, right: Float64Array, m: number, out: Float64Array): boolean {
-  const l = new Float64Array(m * m);
-  for (let a = 0; a < m; a++) {
-    for (let b = 0; b <= a; b++) {
-      let s = gram[a * m + b];
-      for (let t = 0; t < b; t++) s -= l[a * m + t] * l[b * m + t];
-      if (a === b) {
-        if (!(s > 1e-12 * (gram[0] + 1e-300))) return false;
-        l[a * m + a] = Math.sqrt(s);
-      } else {
-        l[a * m + b] = s / l[b * m + b];
-      }
-    }
-  }
-  const w = new Float64Array(m);
-  for (let a = 0; a < m; a++) {
-    let s = right[a];
-    for (let t = 0; t < a; t++) s -= l[a * m + t] * w[t];
-    w[a] = s / l[a * m + a];
-  }
-  for (let a = m - 1; a >= 0; a--) {
-    let s = w[a];
-    for (let t = a + 1; t < m; t++) s -= l[t * m + a] * out[t];
-    out[a] = s / l[a * m + a];
-  }
-  return true;
 }

@@ -10,6 +10,8 @@
  * squares on the rows the component fits. Without an intercept nothing is centred and S is
  * the raw second moment E[xxᵀ].
  */
+import { choleskyScratchLength, scaledCholeskyLower } from "../cholesky";
+
 export interface WhitenedPredictors {
   /** n x p row-major whitened predictors. */
   x: Float64Array;
@@ -20,13 +22,6 @@ export interface WhitenedPredictors {
   /** Lower Cholesky factor L of the second-moment matrix, p x p row-major. */
   cholesky: Float64Array;
 }
-
-/**
- * Relative size of the smallest Cholesky pivot (against the largest diagonal entry of S)
- * below which the predictors count as collinear and no whitening is attempted: far above
- * rounding (1e-16), far below the conditioning of designs worth fitting.
- */
-const PIVOT_TOLERANCE = 1e-12;
 
 /** Whitens the n x p predictors; null when they are (nearly) collinear or n ≤ p. */
 export function whitenPredictors(x: Float64Array, n: number, p: number, centre: boolean): WhitenedPredictors | null {
@@ -56,24 +51,17 @@ export function whitenPredictors(x: Float64Array, n: number, p: number, centre: 
   }
   let largest = 0;
   for (let a = 0; a < p; a++) {
-    for (let b = 0; b <= a; b++) second[a * p + b] /= n;
+    for (let b = 0; b <= a; b++) {
+      second[a * p + b] /= n;
+      second[b * p + a] = second[a * p + b];
+    }
     largest = Math.max(largest, second[a * p + a]);
   }
   if (!(largest > 0)) return null;
-  // Cholesky–Banachiewicz, S = L Lᵀ (Golub & Van Loan, 4th ed., algorithm 4.2.1).
+  // S = L Lᵀ by the Cholesky kernel without its ridge: a pivot below the kernel's tolerance
+  // (after equilibration) means collinear predictors, and then no whitening is attempted.
   const chol = new Float64Array(p * p);
-  for (let a = 0; a < p; a++) {
-    for (let b = 0; b <= a; b++) {
-      let s = second[a * p + b];
-      for (let m = 0; m < b; m++) s -= chol[a * p + m] * chol[b * p + m];
-      if (a === b) {
-        if (!(s > PIVOT_TOLERANCE * largest)) return null;
-        chol[a * p + a] = Math.sqrt(s);
-      } else {
-        chol[a * p + b] = s / chol[b * p + b];
-      }
-    }
-  }
+  if (Number.isNaN(scaledCholeskyLower(second, p, chol, new Float64Array(choleskyScratchLength(p)), false))) return null;
   // x̃ = L⁻¹ x by forward substitution, in place row by row.
   for (let i = 0; i < n; i++) {
     const row = i * p;

@@ -1,0 +1,130 @@
+/**
+ * Target sections of the bench, each printed with ratios to the careful EM (10 random-partition
+ * restarts to convergence, bench/plainEm.ts) or to one pass over the data, measured in the same
+ * run (the machine's other work moves absolute times; ratios within one run are comparable).
+ *
+ *  small:  small noisy sheets (n ≤ 2,000, d ≤ 10, K ≤ 4) against the careful EM, time and ln L;
+ *  fewer:  the noiseless grid at 3, 4 and 5 rows per predictor per component (d 20/50, K 5/7);
+ *  d100:   noiseless d = 100, K = 10 at 10 rows per predictor per component;
+ *  large:  200,000 x 10, K = 3: fit + standard errors + separation check in one-pass equivalents,
+ *          and 1,000,000 x 5, K = 3;
+ *  scan6:  a scan of K = 1..6 on a noisy 2,500 x 8 sheet.
+ */
+import { createRandom } from "../src/engine/random";
+import { fitMixture } from "../src/engine/fitMixture";
+import { standardErrors } from "../src/engine/standardErrors";
+import { checkSeparation } from "../src/engine/checkSeparation";
+import { scanComponents } from "../src/engine/scanComponents";
+import { generateProblem, noiselessProblem, noisyProblem, relativeCoefficientError } from "../src/synthetic/generateProblems";
+import { carefulEmFit } from "./plainEm";
+import { RECOVERY_TOLERANCE, fitForBench } from "./accuracy";
+import { timeOnePass } from "./speed";
+
+const RESTARTS = 10;
+
+/** Small noisy sheets: rows, predictors, components. */
+const SMALL_CASES: Array<[number, number, number]> = [
+  [600, 2, 2], [1200, 2, 3], [800, 3, 4], [1000, 5, 2], [1200, 5, 3], [2000, 5, 4],
+  [900, 8, 2], [1500, 8, 3], [2000, 10, 4], [600, 10, 2], [1800, 10, 3], [1000, 4, 4],
+];
+
+export function runSmallBench(print: (line: string) => void): void {
+  print(`Small noisy sheets (intercepts, shifted design means, noise SD 0.05-0.15): product vs careful EM (${RESTARTS} restarts), same process`);
+  print(`     n   d  K   product ms   careful EM ms   ratio   ln L product - careful EM   max rel. error`);
+  // Warm-up on other data, discarded: the first calls include the JavaScript engine's compilation.
+  const warmUp = noisyProblem(5, 3, 60, createRandom(69999));
+  fitMixture(warmUp.data, { k: 3, seed: 1 });
+  carefulEmFit(warmUp, RESTARTS, createRandom(1));
+  let productTotal = 0;
+  let emTotal = 0;
+  let notLower = 0;
+  SMALL_CASES.forEach(([n, d, k], index) => {
+    const seed = 70000 + index;
+    const problem = noisyProblem(d, k, n / (d * k), createRandom(seed));
+    let began = performance.now();
+    const fit = fitMixture(problem.data, { k, seed });
+    const productMs = performance.now() - began;
+    began = performance.now();
+    const em = carefulEmFit(problem, RESTARTS, createRandom(seed));
+    const emMs = performance.now() - began;
+    productTotal += productMs;
+    emTotal += emMs;
+    const gap = fit.logLikelihood - em.logLikelihood;
+    if (gap >= -1e-6 * Math.abs(em.logLikelihood)) notLower++;
+    const error = relativeCoefficientError(fit.components.map((c) => c.coefficients), problem.coefficients);
+    print(`  ${String(problem.data.n).padStart(5)} ${String(d).padStart(3)} ${String(k).padStart(2)}   ${productMs.toFixed(0).padStart(10)}   ${emMs.toFixed(0).padStart(13)}   ${(emMs / productMs).toFixed(2).padStart(5)}   ${gap.toExponential(2).padStart(25)}   ${error.toExponential(2).padStart(14)}`);
+  });
+  print(`  total: product ${productTotal.toFixed(0)} ms, careful EM ${emTotal.toFixed(0)} ms, careful EM / product = ${(emTotal / productTotal).toFixed(2)}; ln L at least the careful EM's on ${notLower}/${SMALL_CASES.length}`);
+}
+
+/** Noiseless grid at few rows: 3 is reported only. */
+export function runFewerRowsBench(print: (line: string) => void): void {
+  print("Noiseless, per-component design covariances, few rows per predictor per component (recovered = worst relative error <= 1e-6)");
+  print(`    d  K n/(dK)   rows recovered  mean ms   max ms`);
+  for (const [d, k] of [[20, 5], [50, 7]] as const) {
+    for (const factor of [5, 4, 3]) {
+      let recovered = 0;
+      let time = 0;
+      let slowest = 0;
+      let rows = 0;
+      const seeds = 2;
+      for (let s = 0; s < seeds; s++) {
+        const problemSeed = 1000 * d + 100 * k + 10 * factor + s;
+        const problem = noiselessProblem(d, k, factor, createRandom(problemSeed));
+        rows = problem.data.n;
+        const began = performance.now();
+        const fit = fitForBench(problem, problemSeed);
+        const elapsed = performance.now() - began;
+        time += elapsed;
+        slowest = Math.max(slowest, elapsed);
+        if (fit && relativeCoefficientError(fit.coefficients, problem.coefficients) <= RECOVERY_TOLERANCE) recovered++;
+      }
+      print(`  ${String(d).padStart(3)} ${String(k).padStart(2)} ${String(factor).padStart(6)} ${String(rows).padStart(6)} ${`${recovered}/${seeds}`.padStart(9)} ${(time / seeds).toFixed(0).padStart(8)} ${slowest.toFixed(0).padStart(8)}${factor === 3 ? "   (reported only)" : ""}`);
+    }
+  }
+}
+
+export function runD100Bench(print: (line: string) => void): void {
+  print("Noiseless d = 100, K = 10, 10 rows per predictor per component (n = 10,000)");
+  for (let s = 0; s < 2; s++) {
+    const problemSeed = 100000 + 1000 + 100 + s;
+    const problem = noiselessProblem(100, 10, 10, createRandom(problemSeed));
+    const began = performance.now();
+    const fit = fitForBench(problem, problemSeed);
+    const elapsed = performance.now() - began;
+    const error = fit ? relativeCoefficientError(fit.coefficients, problem.coefficients) : Infinity;
+    print(`  seed ${s}: ${(elapsed / 1000).toFixed(1)} s, worst relative error ${error.toExponential(2)} (${error <= RECOVERY_TOLERANCE ? "recovered" : "not recovered"})`);
+  }
+}
+
+export function runLargeBench(print: (line: string) => void): void {
+  for (const [n, p] of [[200000, 10], [1000000, 5]] as const) {
+    const problem = generateProblem({ n, p, k: 3, seed: 2024, sigma: 0.1, intercept: true, meanShift: 0.5, minSeparation: 0.5 });
+    const pass = timeOnePass(problem.data.x, n, p);
+    let began = performance.now();
+    const fit = fitMixture(problem.data, { k: 3, seed: 1 });
+    const fitMs = performance.now() - began;
+    began = performance.now();
+    standardErrors(problem.data, fit);
+    const seMs = performance.now() - began;
+    began = performance.now();
+    checkSeparation(problem.data, fit);
+    const separationMs = performance.now() - began;
+    const total = fitMs + seMs + separationMs;
+    const error = relativeCoefficientError(fit.components.map((c) => c.coefficients), problem.coefficients);
+    print(`${n} x ${p}, K = 3 (noise SD 0.1): one pass ${pass.toFixed(2)} ms; fit ${fitMs.toFixed(0)} ms (${(fitMs / pass).toFixed(0)} passes), standard errors ${seMs.toFixed(0)} ms (${(seMs / pass).toFixed(0)}), separation ${separationMs.toFixed(0)} ms (${(separationMs / pass).toFixed(0)}); together ${(total / pass).toFixed(0)} passes; max rel. error ${error.toExponential(2)}`);
+  }
+}
+
+export function runScanSixBench(print: (line: string) => void): void {
+  print("Scan K = 1..6 on noisy 2,500 x 8 sheets (true K 1-4, intercepts, shifted means; cross-validation where the rule uses it)");
+  for (const k of [1, 2, 3, 4]) {
+    const problem = k === 1
+      ? generateProblem({ n: 2500, p: 8, k: 1, seed: 9100, sigma: 0.3, intercept: true })
+      : noisyProblem(8, k, 2500 / (8 * k), createRandom(9100 + k));
+    const began = performance.now();
+    const scan = scanComponents(problem.data, { kMax: 6, seed: 1 });
+    const elapsed = performance.now() - began;
+    print(`  true K = ${k}: picked ${scan.chosenK} in ${(elapsed / 1000).toFixed(2)} s`);
+  }
+}

@@ -1,0 +1,141 @@
+import type { MixtureComponent, MixtureFit, RefinementReport, WarmStartReport } from "../mixtureTypes";
+import { leastSquares } from "../leastSquares";
+import type { Settings } from "./fitContext";
+import type { MixtureWorkspace } from "./mixtureWorkspace";
+import { createParameters, permuteParameters, type MixtureParameters } from "./mixtureParameters";
+import { computeResiduals, eStep } from "./eStep";
+import { mStepPredictorModel, type Guards } from "./mStep";
+import { canonicalOrder } from "./canonicalOrder";
+import { runEm } from "./runEm";
+import { createRandom } from "../random";
+
+/**
+ * K = 1 is ordinary least squares: the QR core gives the coefficients, σ = sqrt(RSS/n) and
+ * ln L = −n/2 (ln(2π σ²) + 1), exactly the single-regression values.
+ */
+export function fitSingleComponent(ws: MixtureWorkspace, settings: Settings, guards: Guards): MixtureFit {
+  const fit = leastSquares(ws.design, ws.n, ws.q, ws.y, { intercept: settings.intercept });
+  const params = createParameters(1, ws.q, ws.p, ws.joint);
+  params.weights[0] = 1;
+  params.coefficients.set(fit.coefficients);
+  params.variances[0] = fit.mlSigma * fit.mlSigma;
+  if (ws.background) {
+    // With a background the one regression is a weighted fit: EM from least squares.
+    const run = runEm(ws, params, { guards, tolerance: settings.tolerance, random: createRandom(settings.seed) }, settings.maxIterations);
+    const warmStart: WarmStartReport = { converged: true, method: "single-component", certificate: NaN, startsTried: 1, disagreement: 0 };
+    const refinement: RefinementReport = { converged: run.converged, iterations: run.iterations, logLikelihoodPath: [run.logLikelihood], reseeds: run.reseeds };
+    const warnings = run.converged ? [] : [`The fit stopped after ${run.iterations} iterations before the log-likelihood settled. Raise max_iterations or loosen tolerance.`];
+    return assembleFit(ws, params, run.logLikelihood, settings, warmStart, refinement, warnings, guards, undefined, true);
+  }
+  ws.memberships.fill(1);
+  ws.sizes[0] = ws.n;
+  let logLikelihood = fit.logLikelihood;
+  if (ws.joint) {
+    mStepPredictorModel(ws, params, guards);
+    // Add the x part of the likelihood; the y part stays the exact least-squares value.
+    const yOnly = createParameters(1, ws.q, ws.p, false);
+    computeResiduals(ws, params);
+    const both = eStep(ws, params);
+    ws.joint = false;
+    yOnly.variances[0] = params.variances[0];
+    yOnly.coefficients.set(params.coefficients);
+    const yPart = eStep(ws, yOnly);
+    ws.joint = true;
+    logLikelihood += both - yPart;
+  }
+  ws.memberships.fill(1);
+  const warmStart: WarmStartReport = { converged: true, method: "single-component", certificate: NaN, startsTried: 0, disagreement: 0 };
+  const refinement: RefinementReport = { converged: true, iterations: 0, logLikelihoodPath: [logLikelihood] };
+  return assembleFit(ws, params, logLikelihood, settings, warmStart, refinement, [], guards, fit.mlSigma);
+}
+
+export function assembleFit(
+  ws: MixtureWorkspace,
+  unordered: MixtureParameters,
+  logLikelihood: number,
+  settings: Settings,
+  warmStart: WarmStartReport,
+  refinement: RefinementReport,
+  warnings: string[],
+  guards: Guards,
+  exactSigma?: number,
+  membershipsCurrent = false,
+): MixtureFit {
+  const { n, p, q, k } = ws;
+  // Memberships from the reported parameters themselves, in one more E-step pass, unless the
+  // driver knows the workspace holds exactly those: it may still hold the memberships of a
+  // rejected proposal or of the same components in another order (restructuring moves and
+  // sub-fits reorder components).
+  if (!membershipsCurrent) {
+    computeResiduals(ws, unordered);
+    eStep(ws, unordered);
+  }
+  const order = canonicalOrder(unordered);
+  const params = permuteParameters(unordered, order);
+  const memberships = new Float64Array(n * k);
+  const labels = new Int32Array(n);
+  let entropy = 0;
+  for (let i = 0; i < n; i++) {
+    let best = 0;
+    for (let j = 0; j < k; j++) {
+      const tau = ws.memberships[i * k + order[j]];
+      memberships[i * k + j] = tau;
+      if (tau > memberships[i * k + best]) best = j;
+      // EN = −Σ τ ln τ (Biernacki, Celeux & Govaert 2000), with 0 ln 0 = 0.
+      if (tau > 0) entropy -= tau * Math.log(tau);
+    }
+    labels[i] = best;
+  }
+  const components: MixtureComponent[] = [];
+  for (let j = 0; j < k; j++) {
+    const coefficients = new Float64Array(p + 1);
+    coefficients.set(params.coefficients.subarray(j * q, j * q + q), settings.intercept ? 0 : 1);
+    const component: MixtureComponent = {
+      weight: params.weights[j],
+      sigma: exactSigma !== undefined ? exactSigma : Math.sqrt(params.variances[j]),
+      coefficients,
+    };
+    if (params.xMeans && params.xCovariances) {
+      component.xMean = params.xMeans.slice(j * p, j * p + p);
+      component.xCovariance = params.xCovariances.slice(j * p * p, (j + 1) * p * p);
+    }
+    components.push(component);
+  }
+  // ν = K(q + 2) − 1: q coefficients and one variance per component, K − 1 free weights;
+  // the joint model adds a mean (p) and a covariance (p(p + 1)/2) per component.
+  let parameterCount = k * (q + 2) - 1;
+  if (settings.model === "joint") parameterCount += k * (p + (p * (p + 1)) / 2);
+  // The background adds its weight π₀; its flat density is fixed by the data's range.
+  if (ws.background) parameterCount += 1;
+  // BIC = −2 ln L + ν ln n (Schwarz 1978); ICL = BIC + 2 EN (Biernacki, Celeux & Govaert 2000).
+  const bic = -2 * logLikelihood + parameterCount * Math.log(n);
+  const icl = bic + 2 * entropy;
+  const smallest = Math.min(...components.map((c) => c.weight));
+  if (k > 1 && smallest * n < 2 * guards.minimumSize) {
+    warnings.push(`The smallest component holds only about ${Math.round(smallest * n)} rows for ${q} coefficients; its estimates are unreliable. Use fewer components or add rows.`);
+  }
+  if (k > 1 && n < 5 * k * q) {
+    warnings.push(`There are only ${(n / (k * q)).toFixed(1)} rows per coefficient per component; mixtures of regressions need several times more to be found reliably. Add rows or use fewer components or predictors.`);
+  }
+  return {
+    k,
+    n,
+    p,
+    q,
+    intercept: settings.intercept,
+    model: settings.model,
+    components,
+    memberships,
+    labels,
+    logLikelihood,
+    parameterCount,
+    bic,
+    icl,
+    warmStart,
+    refinement,
+    warnings,
+    seed: settings.seed,
+    ...(ws.background ? { background: { weight: ws.background.weight, logDensity: ws.background.logDensity, memberships: ws.background.memberships.slice() } } : {}),
+  };
+}
+

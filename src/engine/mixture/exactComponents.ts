@@ -1,0 +1,183 @@
+import { leastSquares } from "../leastSquares";
+import { gatherRows } from "../rowSubset";
+import { alternatingLeastSquares } from "../warmStart/alternatingLeastSquares";
+import type { EmRun, FitContext } from "./fitContext";
+import type { MixtureParameters } from "./mixtureParameters";
+import type { MixtureWorkspace } from "./mixtureWorkspace";
+import type { Guards } from "./mStep";
+import { ConcentrationSteps } from "./concentrationSteps";
+import { parametersFromCoefficients } from "./starts";
+import { runEm } from "./runEm";
+
+/**
+ * Exact components: on noiseless data (or data where some groups lie exactly on their
+ * regressions) a component fits its own rows to rounding level. EM approaches such a fit only
+ * linearly, so a start heading for it is landed on it directly: concentration steps
+ * (Rousseeuw & Van Driessen 2006) find the exact components one at a time, hard assignment
+ * (Späth 1979) confirms a fit exact on every row, and trimmed refits snap the components
+ * already close. A fit exact on every row cannot be beaten by any other start.
+ */
+
+/**
+ * The one tolerance for "exact": a residual, or a component's noise SD, of at most
+ * EXACT_RELATIVE times SD(y). Rounding in least-squares fits of tens of coefficients leaves
+ * about 1e-14 of SD(y), and a row of another component misses by the separation of the
+ * components (0.1 of SD(y) or more in any problem worth fitting): 1e-6 is far from both.
+ * The variance floor (mixtureSettings.ts) sits far below its square, so EM on an exact
+ * component stops at the floor rather than near the tolerance.
+ */
+export const EXACT_RELATIVE = 1e-6;
+
+/**
+ * The one rule for "enough rows for a component": any q rows are fitted exactly by some
+ * coefficient vector (a spurious fit), so a component is identified, and an exact one
+ * certified, only by clearly more: q + max(3, ⌈q/10⌉) rows. (The EM guard that a component
+ * keeps more than q rows' worth of membership, mixtureSettings.ts, is the weaker condition
+ * under which its likelihood stays finite.)
+ */
+export function enoughRows(q: number): number {
+  return q + Math.max(3, Math.ceil(0.1 * q));
+}
+
+/** Absolute residual counted as exact on these rows. */
+export function exactTolerance(ws: MixtureWorkspace): number {
+  return EXACT_RELATIVE * Math.sqrt(ws.yVariance);
+}
+/** Rows within SNAP_WIDTH noise SDs of a near-exact component count as its own (4 SDs miss 6e-5 of them). */
+const SNAP_WIDTH = 4;
+/** Trimmed refits per near-exact component: the second uses the first's far smaller SD. */
+const SNAP_ROUNDS = 2;
+/** Hard-assignment steps tried: from inside its basin alternating least squares settles in a few; 50 leave room for slow last movers. */
+const EXACT_POLISH_ITERATIONS = 50;
+/**
+ * Concentration steps: subsets of half the rows a component holds (at least 1.5q, so the
+ * least-squares fits stay well determined), at most 20 steps (starts that lead to an exact
+ * fit reach it within about ten).
+ */
+const CONCENTRATION_MIN_SUBSET = 1.5;
+const CONCENTRATION_SUBSET_FRACTION = 0.5;
+const CONCENTRATION_STEPS = 20;
+
+/** Whether every component's noise SD is within the exact tolerance: the fit is exact on every row. */
+export function isNoiseless(params: MixtureParameters, ws: MixtureWorkspace): boolean {
+  const limit = EXACT_RELATIVE * EXACT_RELATIVE * ws.yVariance;
+  for (let c = 0; c < params.k; c++) if (!(params.variances[c] <= limit)) return false;
+  return true;
+}
+
+/**
+ * A component's noise SD has come at least halfway (on a log scale) from SD(y) down to the
+ * exact tolerance, √EXACT_RELATIVE · SD(y): EM is heading for an exact fit of it.
+ */
+function nearExact(variance: number, ws: MixtureWorkspace): boolean {
+  return variance <= EXACT_RELATIVE * ws.yVariance;
+}
+
+/** Some component near exact, but not every one exact yet. */
+function headingForExact(params: MixtureParameters, ws: MixtureWorkspace): boolean {
+  if (isNoiseless(params, ws)) return false;
+  for (let c = 0; c < params.k; c++) if (nearExact(params.variances[c], ws)) return true;
+  return false;
+}
+
+/** A briefly refined start after landing: its parameters and run, and what exact peeling should start from. */
+export interface Landed {
+  params: MixtureParameters;
+  run: EmRun;
+  peelFrom: MixtureParameters;
+}
+
+/**
+ * Phase of the start screen: a start heading for an exact fit is landed on it. Concentration
+ * steps from each component come first; failing those, a start that may run longer
+ * (`extraIterations`) gets more EM. Then hard assignment: exact on every row replaces the
+ * start; otherwise the near-exact components are snapped onto their own rows, and exact
+ * peeling starts from the result.
+ */
+export function landOnExactFit(ctx: FitContext, params: MixtureParameters, run: EmRun, extraIterations: number): Landed {
+  const { working: ws, guards } = ctx;
+  const concentrated = headingForExact(params, ws) ? concentrateComponents(ws, params, guards) : null;
+  if (!concentrated && extraIterations > 0 && !run.converged && headingForExact(params, ws)) run = runEm(ws, params, ctx, extraIterations);
+  if (!Number.isFinite(run.logLikelihood)) return { params, run, peelFrom: params };
+  if (concentrated && concentrated.exactComponents < ws.k) return { params, run, peelFrom: concentrated.params };
+  if (!concentrated && !headingForExact(params, ws)) return { params, run, peelFrom: params };
+  const exact = exactFitByHardAssignment(ws, concentrated ? concentrated.params : params, guards);
+  if (exact) return { params: exact, run: runEm(ws, exact, ctx, SHORT_ITERATIONS), peelFrom: exact };
+  return { params, run, peelFrom: snapNearExactComponents(ws, params, guards) ?? params };
+}
+
+/** EM iterations each start gets before the starts are compared (short exploratory runs, Biernacki, Celeux & Govaert 2003). */
+export const SHORT_ITERATIONS = 15;
+
+/**
+ * Alternating least squares from `params`' coefficients; parameters when it ends with every
+ * row fitted within the exact tolerance, else null.
+ */
+function exactFitByHardAssignment(ws: MixtureWorkspace, params: MixtureParameters, guards: Guards): MixtureParameters | null {
+  const { n, q, k } = ws;
+  const start: Float64Array[] = [];
+  for (let c = 0; c < k; c++) start.push(params.coefficients.slice(c * q, c * q + q));
+  const fit = alternatingLeastSquares(ws.design, n, q, ws.y, start, EXACT_POLISH_ITERATIONS, exactTolerance(ws), guards.minimumSize);
+  if (fit.exactRows < n) return null;
+  const coefficients = new Float64Array(k * q);
+  fit.coefficients.forEach((c, index) => coefficients.set(c, index * q));
+  return parametersFromCoefficients(ws, coefficients, guards);
+}
+
+/**
+ * Components whose variance is already far below the data's refitted by least squares on the
+ * rows within SNAP_WIDTH of their SDs, SNAP_ROUNDS times (trimmed least squares): on noiseless
+ * data those rows are the component's own, so the refit is exact to rounding. Null when no
+ * component qualifies.
+ */
+function snapNearExactComponents(ws: MixtureWorkspace, params: MixtureParameters, guards: Guards): MixtureParameters | null {
+  const { n, q, k } = ws;
+  const coefficients = params.coefficients.slice();
+  let snapped = false;
+  for (let c = 0; c < k; c++) {
+    if (!nearExact(params.variances[c], ws)) continue;
+    let width = SNAP_WIDTH * Math.sqrt(params.variances[c]);
+    for (let round = 0; round < SNAP_ROUNDS; round++) {
+      const rows: number[] = [];
+      for (let i = 0; i < n; i++) {
+        let fitted = 0;
+        for (let j = 0; j < q; j++) fitted += ws.design[i * q + j] * coefficients[c * q + j];
+        if (Math.abs(ws.y[i] - fitted) <= width) rows.push(i);
+      }
+      // Any q rows are fitted exactly by some vector: only clearly more identify the component.
+      if (rows.length < enoughRows(q)) break;
+      const chosen = gatherRows(ws.design, q, ws.y, rows);
+      let fit: ReturnType<typeof leastSquares>;
+      try {
+        fit = leastSquares(chosen.matrix, rows.length, q, chosen.y);
+      } catch {
+        break;
+      }
+      coefficients.set(fit.coefficients, c * q);
+      snapped = true;
+      width = Math.max(SNAP_WIDTH * fit.mlSigma, exactTolerance(ws));
+    }
+  }
+  return snapped ? parametersFromCoefficients(ws, coefficients, guards) : null;
+}
+
+/**
+ * Concentration steps from every component, with subsets of half the rows the component
+ * holds (at least 1.5q): the components that end fitting enough rows exactly take the exact
+ * coefficients. Null when none did.
+ */
+function concentrateComponents(ws: MixtureWorkspace, params: MixtureParameters, guards: Guards): { params: MixtureParameters; exactComponents: number } | null {
+  const { n, q, k } = ws;
+  const steps = new ConcentrationSteps(ws.design, n, q, ws.y);
+  const coefficients = params.coefficients.slice();
+  const tolerance = exactTolerance(ws);
+  let found = 0;
+  for (let c = 0; c < k; c++) {
+    const subset = Math.max(Math.ceil(CONCENTRATION_MIN_SUBSET * q), Math.floor(CONCENTRATION_SUBSET_FRACTION * params.weights[c] * n));
+    const result = steps.run(params.coefficients.subarray(c * q, c * q + q), subset, CONCENTRATION_STEPS, tolerance);
+    if (result.exactRows < enoughRows(q)) continue;
+    coefficients.set(result.coefficients, c * q);
+    found++;
+  }
+  return found > 0 ? { params: parametersFromCoefficients(ws, coefficients, guards), exactComponents: found } : null;
+}

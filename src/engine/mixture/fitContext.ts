@@ -1,0 +1,62 @@
+import type { CancelSignal, MixtureFit, MixtureModel, RegressionData } from "../mixtureTypes";
+import type { Random } from "../random";
+import type { MixtureParameters } from "./mixtureParameters";
+import type { MixtureWorkspace } from "./mixtureWorkspace";
+import type { Guards } from "./mStep";
+
+/** The options of one fit after the entrance checks (mixtureSettings.ts). */
+export interface Settings {
+  k: number;
+  seed: number;
+  intercept: boolean;
+  model: MixtureModel;
+  restarts: number;
+  tolerance: number;
+  maxIterations: number;
+  /** A flat background component beside the K regressions (backgroundComponent.ts). */
+  background: boolean;
+}
+
+/** What every EM run needs besides its rows and parameters. */
+export interface EmContext {
+  guards: Guards;
+  tolerance: number;
+  /** Re-seeding of collapsed components draws from it. */
+  random: Random;
+  signal?: CancelSignal;
+}
+
+/**
+ * One (sub-)problem as the phases see it: its rows, settings, guards and generator, the
+ * workspace on all its rows and the one the starts run on (a seeded subsample of large
+ * inputs, else the same workspace), and how deep it sits among sub-problems.
+ */
+export interface FitContext extends EmContext {
+  data: RegressionData;
+  settings: Settings;
+  full: MixtureWorkspace;
+  working: MixtureWorkspace;
+  /** Rows of `data` behind `working` when it is a subsample, else null. */
+  subsampleRows: Int32Array | null;
+  /** 0 for the user's fit, one more for each sub-problem (sub-fit of a subset of rows). */
+  depth: number;
+  /** A parent's estimate (k·q coefficients) of the components this sub-problem looks for. */
+  inherited?: Float64Array;
+  previous?: MixtureFit;
+}
+
+/** A start after its brief refinement: where it came from, its parameters and log-likelihood. */
+export interface Candidate {
+  method: string;
+  params: MixtureParameters;
+  logLikelihood: number;
+}
+
+/** How an EM run ended. */
+export interface EmRun {
+  logLikelihood: number;
+  iterations: number;
+  converged: boolean;
+  reseeds: number;
+  varianceBoundActive: boolean;
+}

@@ -1,0 +1,75 @@
+import type { MixtureFit, RefinementReport, WarmStartReport } from "../mixtureTypes";
+import type { FitContext } from "./fitContext";
+import type { Finished } from "./finishExactComponents";
+import type { OnAllRows } from "./finishOnAllRows";
+import type { Incumbent } from "./refineBest";
+import type { ScreenedStarts } from "./screenStarts";
+import { isNoiseless } from "./exactComponents";
+import { DISAGREEMENT_RELATIVE } from "./compareFits";
+import { assembleFit } from "./assembleFit";
+
+/** What the pipeline's phases produced, for the report. */
+export interface PipelineOutcome {
+  starts: ScreenedStarts;
+  incumbent: Incumbent;
+  splits: number;
+  onAllRows: OnAllRows;
+  finished: Finished;
+}
+
+/**
+ * Phase: the convergence reports and warnings, then the fit itself (memberships, labels, BIC,
+ * ICL, canonical order). The warm start is trusted when the best starts agree and either the
+ * moment certificate shrank enough or the fit is exact on every row (which no start can
+ * improve on); when split-and-merge or noisy peeling beat every start, the starts missed the
+ * fit reported, which is not trusted either unless exact.
+ */
+export function reportFit(ctx: FitContext, outcome: PipelineOutcome): MixtureFit {
+  const { full, settings, guards } = ctx;
+  const { starts, incumbent, splits, onAllRows, finished } = outcome;
+  const { params, run } = finished;
+  const { k } = settings;
+  const moment = starts.moment;
+  const method = incumbent.best.method;
+  const noiseless = isNoiseless(params, full);
+  const startsDisagree = incumbent.disagreement > DISAGREEMENT_RELATIVE;
+  const startsMissed = (method === "split-and-merge" || method === "peeling") && !noiseless;
+  const warmStart: WarmStartReport = {
+    converged: !startsDisagree && (moment === null || moment.converged || noiseless) && !startsMissed,
+    method,
+    certificate: moment ? moment.certificate : NaN,
+    startsTried: starts.candidates.length,
+    disagreement: incumbent.disagreement,
+  };
+  const refinement: RefinementReport = {
+    converged: run.converged,
+    iterations: run.iterations,
+    logLikelihoodPath: incumbent.path,
+    reseeds: run.reseeds,
+    subsampleRows: ctx.working === full ? 0 : ctx.working.n,
+    subsampleIterations: onAllRows.subsampleIterations,
+    polished: finished.polished,
+    peeled: finished.peeled,
+    splits,
+  };
+  const warnings: string[] = [];
+  if (!run.converged) {
+    warnings.push(`The fit stopped after ${run.iterations} iterations before the log-likelihood settled. Raise max_iterations or loosen tolerance, and check that the components are well separated.`);
+  }
+  if (startsDisagree) {
+    warnings.push(`Different starts reached nearly the same log-likelihood with different components (they differ by ${(100 * incumbent.disagreement).toFixed(1)}% of the coefficient scale), so these components are not well determined. Try more restarts, another seed, fewer components, or more rows.`);
+  }
+  if (run.reseeds > 0) {
+    warnings.push(`A component collapsed onto too few rows ${run.reseeds} time(s) and was re-seeded. The data may hold fewer than ${k} groups: compare BIC across K.`);
+  }
+  let smallestVariance = Infinity;
+  let largestVariance = 0;
+  for (let c = 0; c < k; c++) {
+    smallestVariance = Math.min(smallestVariance, params.variances[c]);
+    largestVariance = Math.max(largestVariance, params.variances[c]);
+  }
+  if (largestVariance > guards.varianceFloor * 1.000001 && smallestVariance <= guards.varianceRatioBound * largestVariance * 1.000001) {
+    warnings.push("The noise SDs of the components hit the bound on their ratio (one is over 1000 times another). A component may be fitting a few rows almost exactly: try fewer components.");
+  }
+  return assembleFit(full, params, finished.logLikelihood, settings, warmStart, refinement, warnings, guards, undefined, finished.membershipsCurrent);
+}

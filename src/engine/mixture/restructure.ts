@@ -1,0 +1,71 @@
+import type { FitContext } from "./fitContext";
+import type { MixtureParameters } from "./mixtureParameters";
+import type { Incumbent } from "./refineBest";
+import { isNoiseless, SHORT_ITERATIONS } from "./exactComponents";
+import { peelComponent, splitAndMerge } from "./restructuringMoves";
+import { checkSignal, runEm } from "./runEm";
+
+/** Split-and-merge rounds (each must raise ln L by MIN_GAIN). */
+const MAX_SPLIT_ROUNDS = 3;
+/** Components tried for a split per round, largest unexplained variance n_k σ_k² first. */
+const SPLIT_CANDIDATES = 3;
+/** Components tried as the one kept by peeling, smallest noise SD first. */
+const PEEL_CANDIDATES = 2;
+/** Sub-problem depth below which noisy peeling may run (the user's fit and one level of sub-problems). */
+const MAX_PEELING_DEPTH = 2;
+/** Gain in ln L a restructured fit must bring to be kept: 1 log unit, so rounding never counts. */
+const MIN_GAIN = 1;
+
+/**
+ * Phase, run only when no two starts agreed on the best fit: split-and-merge (on the user's
+ * fit only; a component that holds two groups shows as one with a large noise SD), then
+ * peeling of the best-determined component (down to MAX_PEELING_DEPTH). A proposal replaces
+ * the incumbent when its refinement gains MIN_GAIN in ln L. Returns how many splits were kept.
+ */
+export function restructure(ctx: FitContext, incumbent: Incumbent): number {
+  let splits = 0;
+  if (ctx.depth === 0 && !isNoiseless(incumbent.best.params, ctx.working)) {
+    for (let round = 0; round < MAX_SPLIT_ROUNDS; round++) {
+      if (!tryMoves(ctx, incumbent, "split-and-merge", splitOrder(incumbent.best.params), (split) => splitAndMerge(ctx, ctx.working, incumbent.best.params, split, ctx.subsampleRows))) break;
+      splits++;
+    }
+  }
+  if (ctx.depth < MAX_PEELING_DEPTH && !isNoiseless(incumbent.best.params, ctx.working)) {
+    tryMoves(ctx, incumbent, "peeling", peelOrder(incumbent.best.params), (keep) => peelComponent(ctx, ctx.working, incumbent.best.params, keep, ctx.subsampleRows));
+  }
+  return splits;
+}
+
+/** Tries `propose` on each component in order; the first proposal that gains MIN_GAIN becomes the incumbent. */
+function tryMoves(ctx: FitContext, incumbent: Incumbent, method: string, order: number[], propose: (component: number) => MixtureParameters | null): boolean {
+  const ws = ctx.working;
+  for (const component of order) {
+    checkSignal(ctx.signal);
+    const proposal = propose(component);
+    if (!proposal) continue;
+    // Split proposals get a brief run first; only one already ahead is refined fully.
+    const briefRun = method === "split-and-merge" ? runEm(ws, proposal, ctx, 2 * SHORT_ITERATIONS) : null;
+    if (briefRun && !(briefRun.logLikelihood > incumbent.best.logLikelihood + MIN_GAIN)) continue;
+    const run = briefRun?.converged ? briefRun : runEm(ws, proposal, ctx, ctx.settings.maxIterations);
+    if (!(run.logLikelihood > incumbent.best.logLikelihood + MIN_GAIN)) continue;
+    incumbent.best.params = proposal;
+    incumbent.best.logLikelihood = run.logLikelihood;
+    incumbent.best.method = method;
+    incumbent.run = run;
+    if (ws === ctx.full) incumbent.path.push(run.logLikelihood);
+    return true;
+  }
+  return false;
+}
+
+function splitOrder(params: MixtureParameters): number[] {
+  const order = Array.from({ length: params.k }, (_, c) => c);
+  order.sort((a, b) => params.weights[b] * params.variances[b] - params.weights[a] * params.variances[a] || a - b);
+  return order.slice(0, SPLIT_CANDIDATES);
+}
+
+function peelOrder(params: MixtureParameters): number[] {
+  const order = Array.from({ length: params.k }, (_, c) => c);
+  order.sort((a, b) => params.variances[a] - params.variances[b] || a - b);
+  return order.slice(0, PEEL_CANDIDATES);
+}

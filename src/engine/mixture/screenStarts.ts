@@ -1,0 +1,191 @@
+import { SkeinError } from "../errors";
+import type { MixtureFit, RegressionData } from "../mixtureTypes";
+import { sampleIndices, type Random } from "../random";
+import { selectRows } from "../rowSubset";
+import { momentWarmStart, type MomentWarmStart } from "../warmStart/momentWarmStart";
+import type { Candidate, FitContext } from "./fitContext";
+import { createParameters, type MixtureParameters } from "./mixtureParameters";
+import type { MixtureWorkspace } from "./mixtureWorkspace";
+import { computeResiduals } from "./eStep";
+import { factorPredictorCovariances, mStepCoefficients, mStepVariances, type Guards } from "./mStep";
+import { reseedComponent } from "./reseedComponent";
+import { locationSeedingLabels, parametersFromCoefficients, randomPartitionLabels, residualSeedingLabels, setHardMemberships } from "./starts";
+import { isNoiseless, landOnExactFit, SHORT_ITERATIONS } from "./exactComponents";
+import { peelExactComponents } from "./restructuringMoves";
+import { bestFoundTwice } from "./compareFits";
+import { checkSignal, runEm } from "./runEm";
+
+/**
+ * A start that usually lands next to the answer (the moment warm start, a parent's estimate),
+ * where EM on noiseless data needs a few dozen iterations to reach the exact fit that ends the
+ * search, gets that many.
+ */
+const LANDING_ITERATIONS = 60;
+/**
+ * The moment warm start sees at most max(MOMENT_MIN_ROWS, MOMENT_ROWS_PER_PARAMETER · k · q)
+ * rows: its sample size grows like the dimension, its cost like rows times its many passes,
+ * and its output is only a start that EM then refines on more rows.
+ */
+const MOMENT_MIN_ROWS = 1000;
+const MOMENT_ROWS_PER_PARAMETER = 40;
+/**
+ * Starts tried before the "best found twice" rule may stop the search: the moment warm start
+ * and both seeded starts, which between them cover slope, offset and location differences.
+ */
+const MIN_STARTS = 3;
+/**
+ * Sub-problems of this many components or more that carry a parent's estimate skip the
+ * random-partition starts: in tens of dimensions those essentially never reach the exact fit
+ * of four or more components, and the parent refines the combined fit on all rows whatever
+ * the sub-problem returns.
+ */
+const INHERITED_COMPONENTS_WITHOUT_PARTITIONS = 4;
+
+/** The screened starts, best first; whether the search stopped because the best was found twice. */
+export interface ScreenedStarts {
+  candidates: Candidate[];
+  foundTwice: boolean;
+  moment: MomentWarmStart | null;
+}
+
+interface StartSource {
+  method: string;
+  make: () => MixtureParameters | null;
+  /** EM iterations beyond the short run a start heading for an exact fit may take. */
+  extraIterations: number;
+}
+
+/**
+ * Phase: draw the starts one at a time on the working rows and refine each briefly (many short
+ * runs before a long one: Biernacki, Celeux & Govaert 2003). The search stops once a start fits
+ * every row to rounding level (it cannot be beaten), or once the best fit so far has been
+ * reached from two different starts.
+ */
+export function screenStarts(ctx: FitContext): ScreenedStarts {
+  const candidates: Candidate[] = [];
+  const moment: { result: MomentWarmStart | null } = { result: null };
+  let foundTwice = false;
+  for (const source of startSources(ctx, moment)) {
+    checkSignal(ctx.signal);
+    const params = source.make();
+    const candidate = params ? screenStart(ctx, source.method, params, source.extraIterations) : null;
+    if (!candidate) continue;
+    candidates.push(candidate);
+    if (isNoiseless(candidate.params, ctx.working)) break;
+    if (candidates.length >= MIN_STARTS && (bestFoundTwice(candidates) || (candidates.length === MIN_STARTS && leadersAgree(ctx, candidates)))) {
+      foundTwice = true;
+      break;
+    }
+  }
+  if (candidates.length === 0) {
+    throw new SkeinError("numeric", "Every start failed: the predictors are (nearly) collinear within the groups tried. Remove a predictor that repeats others, or use fewer components.");
+  }
+  candidates.sort((a, b) => b.logLikelihood - a.logLikelihood);
+  return { candidates, foundTwice, moment: moment.result };
+}
+
+/**
+ * EM iterations that confirm two leading starts: inside a basin noisy EM converges in a few
+ * dozen; a pair still apart after this many is not in one basin (overfitted K converges slowly
+ * and is left to the remaining starts).
+ */
+const CONFIRMING_ITERATIONS = 60;
+
+/**
+ * Whether the two leading starts, refined to convergence (at most CONFIRMING_ITERATIONS), reach the same fit: brief runs stop
+ * short of the optimum, so two starts in one basin can look apart after them. Inside the basin
+ * EM converges fast (Balakrishnan, Wainwright & Yu 2017), so confirming costs far less than
+ * the remaining starts and restructuring moves it saves. The refined parameters and
+ * likelihoods stay on the candidates.
+ */
+function leadersAgree(ctx: FitContext, candidates: Candidate[]): boolean {
+  const leaders = candidates.slice().sort((a, b) => b.logLikelihood - a.logLikelihood).slice(0, 2);
+  for (const leader of leaders) leader.logLikelihood = runEm(ctx.working, leader.params, ctx, Math.min(CONFIRMING_ITERATIONS, ctx.settings.maxIterations)).logLikelihood;
+  return bestFoundTwice(leaders);
+}
+
+/**
+ * The starts in the order tried, each made only when reached (making one draws from the
+ * generator): a parent's estimate, a previous fit, the moment warm start, residual and
+ * location seeding, random partitions.
+ */
+function* startSources(ctx: FitContext, moment: { result: MomentWarmStart | null }): Generator<StartSource> {
+  const { working: ws, guards, random, settings, inherited, previous } = ctx;
+  if (inherited && inherited.length === ws.k * ws.q) {
+    yield { method: "inherited", make: () => parametersFromCoefficients(ws, inherited, guards), extraIterations: LANDING_ITERATIONS - SHORT_ITERATIONS };
+  }
+  if (previous && previous.k === ws.k && previous.p === ws.p && previous.intercept === settings.intercept) {
+    yield { method: "previous", make: () => parametersFromFit(ws, previous, guards), extraIterations: 0 };
+  }
+  const momentStart = (): MixtureParameters | null => {
+    moment.result = momentWarmStart(momentRows(ws, random), ws.k, settings.intercept, random);
+    if (!moment.result) return null;
+    const coefficients = new Float64Array(ws.k * ws.q);
+    moment.result.coefficients.forEach((vector, c) => coefficients.set(vector, c * ws.q));
+    return parametersFromCoefficients(ws, coefficients, guards);
+  };
+  yield { method: "moment-subspace", make: momentStart, extraIterations: LANDING_ITERATIONS - SHORT_ITERATIONS };
+  yield { method: "residual-seeding", make: () => parametersFromLabels(ws, residualSeedingLabels(ws, random), guards, random), extraIterations: 0 };
+  yield { method: "location-seeding", make: () => parametersFromLabels(ws, locationSeedingLabels(ws, random), guards, random), extraIterations: 0 };
+  const partitions = !inherited || ws.k < INHERITED_COMPONENTS_WITHOUT_PARTITIONS ? settings.restarts : 0;
+  for (let r = 0; r < partitions; r++) {
+    yield { method: "random-partition", make: () => parametersFromLabels(ws, randomPartitionLabels(ws.n, ws.k, random), guards, random), extraIterations: 0 };
+  }
+}
+
+/**
+ * One start: a short EM run, landing on an exact fit when it heads for one, then exact peeling
+ * when some of its components are exact and others not (decisive on noiseless data). Null
+ * when the run fails.
+ */
+function screenStart(ctx: FitContext, method: string, start: MixtureParameters, extraIterations: number): Candidate | null {
+  const ws = ctx.working;
+  const shortRun = runEm(ws, start, ctx, SHORT_ITERATIONS);
+  const { params, run, peelFrom } = landOnExactFit(ctx, start, shortRun, extraIterations);
+  if (!Number.isFinite(run.logLikelihood)) return null;
+  const candidate: Candidate = { method, params, logLikelihood: run.logLikelihood };
+  if (isNoiseless(params, ws)) return candidate;
+  const peeled = peelExactComponents(ctx, ws, peelFrom, ctx.subsampleRows);
+  if (!peeled) return candidate;
+  const peeledRun = runEm(ws, peeled, ctx, ctx.settings.maxIterations);
+  if (!(peeledRun.logLikelihood > candidate.logLikelihood)) return candidate;
+  return { method: `${method}+exact-peeling`, params: peeled, logLikelihood: peeledRun.logLikelihood };
+}
+
+/** The rows the moment warm start sees: all working rows, or a seeded subsample of large inputs. */
+function momentRows(ws: MixtureWorkspace, random: Random): RegressionData {
+  const wanted = Math.max(MOMENT_MIN_ROWS, MOMENT_ROWS_PER_PARAMETER * ws.k * ws.q);
+  const data: RegressionData = { x: ws.predictors, y: ws.y, n: ws.n, p: ws.p };
+  return ws.n > 2 * wanted ? selectRows(data, sampleIndices(ws.n, wanted, random)) : data;
+}
+
+/** A start from a hard partition: memberships 0/1, then one M-step. */
+function parametersFromLabels(ws: MixtureWorkspace, labels: Int32Array, guards: Guards, random: Random): MixtureParameters {
+  const params = createParameters(ws.k, ws.q, ws.p, ws.joint);
+  setHardMemberships(ws, labels);
+  // Rows the partition gives no component: the worst-fitted under no fit are any rows, so
+  // re-seeding here starts from rows drawn at random.
+  ws.rowLogLikelihood.fill(0);
+  const report = mStepCoefficients(ws, params, guards);
+  for (const c of report.collapsed) reseedComponent(ws, params, c, guards, random);
+  computeResiduals(ws, params);
+  mStepVariances(ws, params, guards, report.collapsed);
+  return params;
+}
+
+/** A start from a previous fit's parameters (same K, predictors and intercept). */
+function parametersFromFit(ws: MixtureWorkspace, previous: MixtureFit, guards: Guards): MixtureParameters {
+  const coefficients = new Float64Array(ws.k * ws.q);
+  previous.components.forEach((component, c) => coefficients.set(component.coefficients.subarray(component.coefficients.length - ws.q), c * ws.q));
+  const params = parametersFromCoefficients(ws, coefficients, guards);
+  previous.components.forEach((component, c) => {
+    if (component.weight > 0) params.weights[c] = component.weight;
+    if (component.sigma > 0) params.variances[c] = Math.max(component.sigma * component.sigma, guards.varianceFloor);
+    if (ws.joint && component.xMean && component.xCovariance && params.xMeans && params.xCovariances) {
+      params.xMeans.set(component.xMean, c * ws.p);
+      params.xCovariances.set(component.xCovariance, c * ws.p * ws.p);
+    }
+  });
+  if (ws.joint) factorPredictorCovariances(params);
+  return params;
+}
