@@ -19,8 +19,8 @@ export const FORMULA_SHEET = "Skein";
 export const ABOUT_SHEET = "About";
 /** Seed given to every SKEIN formula, so the sheet shows the same fit on every machine. */
 export const FORMULA_SEED = 7;
-/** Columns SKEIN.SCAN spills: K, log-likelihood, BIC, ICL, smallest separation, converged, suggested, note. */
-const SCAN_COLUMNS = 8;
+/** Columns SKEIN.SCAN spills: K, BIC, ICL, log-likelihood, smallest gap, starts agree, converged, suggested, note. */
+const SCAN_COLUMNS = 9;
 
 /** Skein's own colours (shared with the icon): header fills and accents. */
 const TEAL = "FF1B7F79";
@@ -106,17 +106,17 @@ function addFormulaSheet(workbook: ExcelJS.Workbook, scenario: Scenario): void {
 
   let row = 6;
   sectionTitle(sheet, row, `How many components: SKEIN.SCAN tries K = 1 to ${scenario.kMax}`);
-  note(sheet, row + 1, "One row per K: log-likelihood, BIC, ICL, smallest separation, converged, and which K is suggested.");
+  note(sheet, row + 1, "One row per K: BIC, ICL, log-likelihood, smallest gap (noise SDs), starts agree, converged, which K is suggested, and why each other K is not.");
   put(row + 2, 1, `SKEIN.SCAN(${y},${x},${scenario.kMax},${settings})`);
   row += scenario.kMax + 5;
 
   sectionTitle(sheet, row, `Components: SKEIN.FIT with K = ${k}`);
-  headerCells(sheet, row + 1, 1, ["Component", "Weight", "Noise SD", "Intercept", ...scenario.predictors]);
+  headerCells(sheet, row + 1, 1, ["component", "weight (%)", "noise SD", "intercept", ...scenario.predictors]);
   put(row + 2, 1, `SKEIN.FIT(${y},${x},${k},${settings})`);
   row += k + 5;
 
   sectionTitle(sheet, row, "Checks: SKEIN.CHECK");
-  note(sheet, row + 1, "Diagnostics of the same fit: convergence, iterations, separation, estimated misclassification, smallest weight, warnings.");
+  note(sheet, row + 1, "Checks of the same fit: starts agree, converged, iterations, smallest gap (noise SDs), misassigned rows (%), membership clarity, smallest weight (%), warnings.");
   put(row + 2, 1, `SKEIN.CHECK(${y},${x},${k},${settings})`);
   row += 16;
 
@@ -128,15 +128,15 @@ function addFormulaSheet(workbook: ExcelJS.Workbook, scenario: Scenario): void {
       sheet.getCell(row + 3 + i, 1 + j).value = value;
     });
   });
-  const newX = `A${row + 3}:${columnLetter(scenario.predictors.length)}${row + 2 + scenario.newRows.length}`;
+  const newRows = `A${row + 3}:${columnLetter(scenario.predictors.length)}${row + 2 + scenario.newRows.length}`;
   const predictColumn = scenario.predictors.length + 2;
   headerCells(
     sheet,
     row + 2,
     predictColumn,
-    [...scenario.components.map((_, c) => `Component ${c + 1}`), "Weighted"],
+    [...scenario.components.map((_, c) => `component ${c + 1} prediction`), "weighted prediction"],
   );
-  put(row + 3, predictColumn, `SKEIN.PREDICT(${y},${x},${newX},${k},${settings})`);
+  put(row + 3, predictColumn, `SKEIN.PREDICT(${y},${x},${newRows},${k},${settings})`);
 
   // Per-row results go to the right of every block above, so their spills never collide:
   // SCAN spills SCAN_COLUMNS columns, FIT 4 + p, PREDICT k + 1 beside the new rows.
@@ -144,7 +144,7 @@ function addFormulaSheet(workbook: ExcelJS.Workbook, scenario: Scenario): void {
   const perRowTitle = sheet.getCell(6, perRowColumn);
   perRowTitle.value = "Per data row (row 8 here is data row 2)";
   perRowTitle.font = { bold: true, color: { argb: AMBER }, size: 12 };
-  headerCells(sheet, 7, perRowColumn, ["Label", ...scenario.components.map((_, c) => `Membership ${c + 1}`)]);
+  headerCells(sheet, 7, perRowColumn, ["component", ...scenario.components.map((_, c) => `membership ${c + 1}`)]);
   put(8, perRowColumn, `SKEIN.LABELS(${y},${x},${k},${settings})`);
   put(8, perRowColumn + 1, `SKEIN.MEMBERSHIP(${y},${x},${k},${settings})`);
 

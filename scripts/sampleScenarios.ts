@@ -220,7 +220,9 @@ export function labCalibration(): Scenario {
     // Settings are rounded as the instrument records them; the reading is
     // computed from the rounded settings, so it is exactly linear in what the sheet holds.
     const settings = spread.mean.map((mean, j) => round(mean + spread.sd[j] * random.normal(), decimals[j]));
-    rows.push([`R${String(i + 1).padStart(4, "0")}`, linear(components[labels[i]], settings), ...settings]);
+    // Twelve significant digits hold the exact decimal reading and drop binary rounding noise
+    // (55.124700000000004 is written 55.1247).
+    rows.push([`R${String(i + 1).padStart(4, "0")}`, Number(linear(components[labels[i]], settings).toPrecision(12)), ...settings]);
   }
   return {
     name: "lab-calibration",

@@ -21,6 +21,9 @@ export interface ChartRow {
   flag: string | null;
 }
 
+/** The mark of a K that cannot be suggested (ruled out by the rule), the same in the chart and the scan table. */
+export const CANNOT_BE_SUGGESTED_MARK = "*";
+
 const WIDTH = 360;
 const HEIGHT = 220;
 const MARGIN = { left: 62, right: 14, top: 18, bottom: 58 };
@@ -80,7 +83,7 @@ export function drawBicChart(container: HTMLElement, rows: ChartRow[], suggested
   for (const r of rows) {
     const x = xOf(r.k);
     const flagged = r.flag !== null;
-    const label = `${r.k} component${r.k === 1 ? "" : "s"}: BIC ${formatNumber(r.bic, 6)}, ICL ${formatNumber(r.icl, 6)}${r.k === suggested ? ", suggested" : ""}${flagged ? `, not suggested: ${r.flag}` : ""}${r.k === selected ? ", shown below" : ""}`;
+    const label = `${r.k} component${r.k === 1 ? "" : "s"}: BIC ${formatNumber(r.bic)}, ICL ${formatNumber(r.icl)}${r.k === suggested ? ", suggested" : ""}${flagged ? `, cannot be suggested: ${r.flag?.replace(/^not suggested[:,]?\s*/i, "")}` : ""}${r.k === selected ? ", shown below" : ""}`;
     const fillBic = flagged ? NEUTRALS.card : BIC_COLOUR;
     const fillIcl = flagged ? NEUTRALS.card : ICL_COLOUR;
     parts.push(`<g class="k-point${r.k === selected ? " selected" : ""}${flagged ? " flagged" : ""}" data-k="${r.k}" role="button" tabindex="${r.k === (selected ?? suggested) ? 0 : -1}" aria-label="${label}" aria-pressed="${r.k === selected}">`);
@@ -92,7 +95,7 @@ export function drawBicChart(container: HTMLElement, rows: ChartRow[], suggested
     if (r.k === selected) parts.push(`<path class="selection-pointer" d="M${x},${HEIGHT - MARGIN.bottom + 20}l-5,7h10z"/>`);
     if (Number.isFinite(r.bic)) parts.push(marker(BIC.shape, x, yOf(r.bic), 4.5, `fill="${fillBic}" stroke="${BIC_COLOUR}" stroke-width="2"`));
     if (Number.isFinite(r.icl)) parts.push(marker(ICL.shape, x, yOf(r.icl), 4.5, `fill="${fillIcl}" stroke="${ICL_COLOUR}" stroke-width="2"`));
-    parts.push(`<text class="tick k-label" x="${x}" y="${HEIGHT - MARGIN.bottom + 16}" text-anchor="middle">${r.k}${flagged ? "!" : ""}</text>`);
+    parts.push(`<text class="tick k-label" x="${x}" y="${HEIGHT - MARGIN.bottom + 16}" text-anchor="middle">${r.k}${flagged ? CANNOT_BE_SUGGESTED_MARK : ""}</text>`);
     parts.push(`</g>`);
   }
   parts.push(`<text class="axis-title" x="${MARGIN.left + plotW / 2}" y="${HEIGHT - MARGIN.bottom + 38}" text-anchor="middle">Number of components (K); ▲ = shown below</text>`);
@@ -102,7 +105,7 @@ export function drawBicChart(container: HTMLElement, rows: ChartRow[], suggested
   parts.push(`<text class="legend" x="${MARGIN.left + 28}" y="${ly}">BIC</text>`);
   parts.push(`<path d="M${MARGIN.left + 70},${ly - 4}h22" stroke="${ICL_COLOUR}" stroke-width="2" stroke-dasharray="${ICL.dash}"/>${marker(ICL.shape, MARGIN.left + 81, ly - 4, 4, `fill="${ICL_COLOUR}"`)}`);
   parts.push(`<text class="legend" x="${MARGIN.left + 98}" y="${ly}">ICL</text>`);
-  parts.push(`<text class="legend" x="${MARGIN.left + 140}" y="${ly}">hollow, ! = not suggested</text>`);
+  parts.push(`<text class="legend" x="${MARGIN.left + 140}" y="${ly}">hollow, ${CANNOT_BE_SUGGESTED_MARK} = ruled out</text>`);
   parts.push(`<text class="axis-title" transform="translate(13,${MARGIN.top + plotH / 2}) rotate(-90)" text-anchor="middle">lower is better</text>`);
 
   container.innerHTML = `<svg class="bic-chart" viewBox="0 0 ${WIDTH} ${HEIGHT}" role="group" aria-label="BIC and ICL against the number of components. Choose a number to see its fit.">${parts.join("")}</svg>`;

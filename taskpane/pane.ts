@@ -17,9 +17,18 @@ function backgroundOption(value: string): boolean | "auto" {
 /** Quiet time after the last edit before the pane refits: typing a column of numbers fires one refit, not one per cell. */
 export const REFRESH_DELAY_MS = 600;
 
+/** Office's error codes for a range that is not there or not a range (Excel JavaScript API, OfficeExtension.ErrorCodes). */
+const RANGE_NOT_FOUND_CODES = new Set(["ItemNotFound", "InvalidArgument", "InvalidReference", "InvalidSelection"]);
+
+/** A failure as the pane shows it: the engine's own message, or a plain sentence. */
 export function messageOf(error: unknown): string {
   if (isSkeinError(error)) return error.message;
-  return `Skein could not finish: ${error instanceof Error ? error.message : String(error)}`;
+  const code = (error as { code?: unknown } | null)?.code;
+  if (typeof code === "string" && RANGE_NOT_FOUND_CODES.has(code)) {
+    return "Excel has no such range: check the sheet name and the cell addresses (as in Sheet1!B2:B101), or select the cells and press Use selection.";
+  }
+  const text = error instanceof Error ? error.message : String(error);
+  return `${text.replace(/\.?$/, ".")} If this keeps happening, please report it.`;
 }
 
 /**
@@ -114,7 +123,8 @@ export class Pane {
       this.update({ design, dataProblem: null, rangeRows: y.length });
       return design;
     } catch (error) {
-      if (version === this.dataVersion) this.update({ design: null, dataProblem: messageOf(error) });
+      const problem = isSkeinError(error) ? error.message : `Could not read ${yAddress} and ${xAddress}. ${messageOf(error)}`;
+      if (version === this.dataVersion) this.update({ design: null, dataProblem: problem });
       return null;
     }
   }

@@ -1,3 +1,4 @@
+import { SkeinError } from "../src/engine/errors";
 import type { Design } from "../src/engine/design";
 import type { MixtureFit } from "../src/engine/mixtureTypes";
 import { formatAddress, parseAddress, type CellBlock } from "./a1";
@@ -55,7 +56,7 @@ function size(output: Output, request: PlacementRequest, p: number): { rows: num
  */
 export function planPlacement(anchorAddress: string, request: PlacementRequest, design: Design, fit: MixtureFit | null): PlacedBlock[] {
   const anchor = parseAddress(anchorAddress);
-  if (!anchor) throw new Error(`"${anchorAddress}" is not a cell address; type one such as H2, or select a cell and press "Use selection".`);
+  if (!anchor) throw new SkeinError("bad-input", `"${anchorAddress}" is not a cell address; type one such as H2, or select a cell and press "Use selection".`);
   const blocks: PlacedBlock[] = [];
   let column = anchor.left;
   for (const output of request.outputs) {
@@ -81,16 +82,16 @@ export function coveredArea(blocks: PlacedBlock[]): { anchor: string; rows: numb
 function valuesFor(output: Output, request: PlacementRequest, design: Design, fit: MixtureFit): unknown[][] {
   const k = fit.k;
   if (output === "fit") {
-    const header: unknown[] = ["Component", "Weight", "Noise SD", "Intercept", ...design.predictorNames];
+    const header: unknown[] = ["component", "weight (%)", "noise SD", "intercept", ...design.predictorNames];
     const rows: unknown[][] = [header];
-    fit.components.forEach((c, i) => rows.push([i + 1, c.weight, c.sigma, ...Array.from(c.coefficients)]));
+    fit.components.forEach((c, i) => rows.push([i + 1, 100 * c.weight, c.sigma, ...Array.from(c.coefficients)]));
     return rows;
   }
   // Per-row outputs line up with the range's rows: a header row gets a header, skipped rows stay empty ("").
   const offset = design.hasHeaderRow ? 1 : 0;
   const width = output === "labels" ? 1 : k;
   const rows: unknown[][] = Array.from({ length: request.rangeRows }, () => new Array(width).fill(""));
-  if (design.hasHeaderRow) rows[0] = output === "labels" ? ["Component"] : Array.from({ length: k }, (_, c) => `Membership ${c + 1}`);
+  if (design.hasHeaderRow) rows[0] = output === "labels" ? ["component"] : Array.from({ length: k }, (_, c) => `membership ${c + 1}`);
   for (let i = 0; i < design.n; i++) {
     const target = rows[design.rowIndex[i] + offset];
     if (output === "labels") target[0] = fit.labels[i] + 1;

@@ -1,3 +1,4 @@
+import { formatShare } from "./format";
 import type { Design } from "../src/engine/design";
 import type { MixtureFit } from "../src/engine/mixtureTypes";
 import { mainPredictor } from "../src/report/componentPlot";
@@ -32,7 +33,7 @@ export function scatterSpec(design: Design, fit: MixtureFit, axis: ScatterAxis, 
   const lines: ScatterLine[] = [];
   const counts = new Array<number>(fit.k).fill(0);
   for (let i = 0; i < n; i++) counts[labels[i]]++;
-  const groupNames = fit.components.map((c, k) => `${k + 1}: weight ${c.weight.toFixed(2)}, ${counts[k]} rows`);
+  const groupNames = fit.components.map((c, k) => `${k + 1}: weight ${formatShare(c.weight)}, ${counts[k]} rows`);
 
   if (axis === "fitted") {
     let low = Infinity;
@@ -76,7 +77,7 @@ export function scatterSpec(design: Design, fit: MixtureFit, axis: ScatterAxis, 
     title: `${design.yName} against ${design.predictorNames[m]}`,
     subtitle: others.length === 0 ? ["Each row drawn as its most probable component"] : [`Adjusted to the average ${others.length === 1 ? others[0] : "of the other predictors"}`, "Each row drawn as its most probable component"],
     xLabel: design.predictorNames[m],
-    yLabel: others.length === 0 ? design.yName : `${design.yName} (adjusted)`,
+    yLabel: others.length === 0 ? design.yName : `${design.yName}, other predictors at their average`,
     x: px,
     y: py,
     group: labels,

@@ -38,7 +38,7 @@ describe("checkSeparation", () => {
     expect(report.normalisedEntropy).toBeCloseTo(1 - entropy / (4 * Math.log(2)), 12);
     expect(report.smallestWeight).toBe(0.5);
     // 18.75% > 10%: the labels warning; gap 2.5 ≥ 2: no overlap warning.
-    expect(report.warnings.some((w) => /wrong component/.test(w))).toBe(true);
+    expect(report.warnings.some((w) => /Misassigned rows are estimated at/.test(w))).toBe(true);
     expect(report.warnings.some((w) => /overlap/.test(w))).toBe(false);
   });
 
@@ -58,7 +58,7 @@ describe("checkSeparation", () => {
     expect(report.warnings.find((w) => /Components 1 and 2 overlap/.test(w))).toMatch(/fewer components/);
   });
 
-  it("flags a near-degenerate component: weight·n below q + 2 rows", () => {
+  it("flags a component with too few rows: weight·n below q + 2 rows", () => {
     // 100 rows; component 2 holds 3 of them for q = 2 coefficients (3 < 2 + 2).
     const n = 100;
     const memberships: number[] = [];
@@ -74,7 +74,7 @@ describe("checkSeparation", () => {
     );
     const report = checkSeparation({ y: new Float64Array(n), x, n, p: 1 }, fit);
     expect(report.smallestWeight).toBe(0.03);
-    expect(report.warnings.find((w) => /Near-degenerate component: component 2/.test(w))).toBeDefined();
+    expect(report.warnings.find((w) => /Too few rows: component 2/.test(w))).toBeDefined();
   });
 
   it("one component: minGap Infinity, normalised entropy 1, no warnings (definitions in trustTypes)", () => {

@@ -97,9 +97,15 @@ describe("skein fit on NIST StRD Longley", () => {
     expect(result.status).toBe(0);
     expect(result.stdout).toMatch(/TOTEMP regressed on GNPDEFL, GNP, UNEMP, ARMED, POP, YEAR/);
     expect(result.stdout).toMatch(/16 rows used, 0 skipped/);
-    // Certified b6 = 1829.15146461355 and its standard error 455.478499142212, shown in 6 digits (NIST StRD Longley).
-    expect(result.stdout).toMatch(/YEAR\s+1829\.15\s+455\.478/);
+    // Certified b6 = 1829.15146461355 and its standard error 455.478499142212 (NIST StRD Longley),
+    // rounded where the standard error says: two significant digits of it, whole units kept.
+    expect(result.stdout).toMatch(/YEAR\s+1829\s+455\n/);
     expect(result.stdout).toMatch(/intercept\s+-3482259\s+890420/);
+    // Certified b3 = -2.02022980381683, SE 0.488399681651699: two significant digits of the SE.
+    expect(result.stdout).toMatch(/UNEMP\s+-2\.02\s+0\.49\n/);
+    // Without --k, the K the scan suggests, said in a line.
+    expect(result.stdout).toMatch(/K = 1, the number the scan of K = 1 to 2 suggests/);
+    expect(result.stdout).toMatch(/Component of each row \(data rows 1 to 10 of 16; --out FILE writes them all\)/);
   });
 
   it("matches column names ignoring case when there is no exact match", async () => {
@@ -233,7 +239,7 @@ describe("skein fit: bad files and arguments as a new user would try them", () =
   });
 
   it("y listed among the predictors, or a predictor twice", async () => {
-    expectOneLineError(await run("fit", LONGLEY, "--y", "TOTEMP", "--x", "GNP,TOTEMP"), /TOTEMP is the response \(--y\); leave it out of --x/);
+    expectOneLineError(await run("fit", LONGLEY, "--y", "TOTEMP", "--x", "GNP,TOTEMP"), /TOTEMP is the outcome \(--y\); leave it out of --x/);
     expectOneLineError(await run("fit", LONGLEY, "--y", "TOTEMP", "--x", "GNP,gnp"), /GNP appears twice in --x/);
   });
 
@@ -264,6 +270,17 @@ describe("skein fit: bad files and arguments as a new user would try them", () =
     expect(report.separation.pairs).toHaveLength(1);
     expect(report.stdErrors.weights).toHaveLength(2);
     expect(Array.isArray(report.warnings)).toBe(true);
+    // An exact fit says so: standard errors 0, no convergence or standard-error warning.
+    expect(report.exactFit).toBe(true);
+    expect(report.startsAgree).toBe(true);
+    expect(report.converged).toBe(true);
+    expect(report.warnings.filter((w: string) => /converge|Standard errors are not available|peak/.test(w))).toEqual([]);
+    for (const component of report.components) expect(component.stdErrors).toEqual([0, 0]);
+    const text = (await run("fit", file, "--y", "y", "--x", "x", "--k", "2")).stdout;
+    expect(text).toContain("Exact fit (noise about 0)");
+    expect(text).toMatch(/noise SD about 0 \(exact fit\)/);
+    expect(text).toContain("no overlap between components (noise about 0)");
+    expect(text).not.toMatch(/e-1\d/);
   });
 
   it("gives bootstrap standard errors of the same size as the observed-information ones", async () => {
@@ -300,7 +317,7 @@ describe("skein fit: bad files and arguments as a new user would try them", () =
     expectOneLineError(await run("fit", LONGLEY, "--y", "TOTEMP", "--components", "2"), /Unknown option --components for skein fit/);
     expectOneLineError(await run("fit", LONGLEY, "--y", "TOTEMP", "--json", "--json"), /--json is given twice/);
     expectOneLineError(await run("fit", LONGLEY, "--y", "TOTEMP", "--x", "GNP,,POP"), /--x has an empty name/);
-    expectOneLineError(await run("fit", LONGLEY), /No response column given/);
+    expectOneLineError(await run("fit", LONGLEY), /No outcome column given/);
     expectOneLineError(await run("fit", "--y", "TOTEMP"), /No data file given/);
     // "--x GNP, POP" typed with a space: POP becomes a second file name.
     expectOneLineError(await run("fit", LONGLEY, "--y", "TOTEMP", "--x", "GNP,", "POP"), /takes one data file but got 2 .*without spaces/);

@@ -47,12 +47,12 @@ async function checkFiles(result: DemoScenarioResult): Promise<void> {
   const rows = workbook.getWorksheet("Rows") as ExcelJS.Worksheet;
   const header = (rows.getRow(1).values as unknown[]).slice(1);
   const k = result.fit.k;
-  expect(header.slice(-(k + 3))).toEqual(["Component", "Fitted value", "Residual", ...Array.from({ length: k }, (_, c) => `Membership ${c + 1}`)]);
+  expect(header.slice(-(k + 3))).toEqual(["component", "fitted value", "residual", ...Array.from({ length: k }, (_, c) => `membership ${c + 1}`)]);
   expect(rows.rowCount).toBe(result.truth.rows + 1);
   // Row 2 of the sheet is used row 0: its label and memberships are the fit's.
   const second = (rows.getRow(2).values as unknown[]).slice(1);
-  expect(second[header.indexOf("Component")]).toBe(result.fit.labels[0] + 1);
-  expect(second[header.indexOf("Membership 1")]).toBeCloseTo(result.fit.memberships[0], 12);
+  expect(second[header.indexOf("component")]).toBe(result.fit.labels[0] + 1);
+  expect(second[header.indexOf("membership 1")]).toBeCloseTo(result.fit.memberships[0], 12);
 
   const svg = await fs.readFile(svgFile, "utf8");
   expect(svg.startsWith("<svg")).toBe(true);
@@ -123,7 +123,7 @@ describe("skein demo", () => {
     expect(status).toBe(0);
     const text = printed.join("");
     expect(text).toMatch(/invented data/);
-    for (const part of ["How many components: K = 2", "Components (estimate ± standard error", "Separation:", "Warnings", "Against the invented truth", "Time:", "shop-chain-results.xlsx", "shop-chain.svg"]) {
+    for (const part of ["How many components: K = 2", "Components (estimate ± standard error", "Checks:", "Warnings", "Starts agree:", "Against the invented truth", "Time:", "shop-chain-results.xlsx", "shop-chain.svg"]) {
       expect(text).toContain(part);
     }
     await expect(fs.stat(path.join(out, "shop-chain.svg"))).resolves.toBeTruthy();

@@ -205,8 +205,8 @@ describe("buildDesign: errors with clear messages", () => {
     expect(d.p).toBe(2);
   });
 
-  it("rejects a constant response", () => {
-    expect(errorMessage(() => buildDesign([[3], [3], [3], [3]], [[1], [2], [3], [4]]))).toMatch(/response y has the same value \(3\)/);
+  it("rejects a constant outcome", () => {
+    expect(errorMessage(() => buildDesign([[3], [3], [3], [3]], [[1], [2], [3], [4]]))).toMatch(/outcome y has the same value \(3\)/);
   });
 
   it("rejects too few usable rows, saying how many are usable, how many skipped and the commonest reason", () => {

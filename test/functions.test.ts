@@ -68,11 +68,12 @@ describe("SKEIN.FIT", () => {
     const { y, x } = twoLines([60, 40]);
     const result = await fit(y, x, 2);
     expect(result).toHaveLength(3);
-    expect(result[0]).toEqual(["component", "weight", "noise SD", "intercept", "price"]);
+    expect(result[0]).toEqual(["component", "weight (%)", "noise SD", "intercept", "price"]);
     const rows = result.slice(1);
     expect(rows.map((r) => r[0])).toEqual([1, 2]);
     expect(rows.every((r) => r.length === 5)).toBe(true);
-    expect((rows[0][1] as number) + (rows[1][1] as number)).toBeCloseTo(1, 12);
+    // Weights are percentages.
+    expect((rows[0][1] as number) + (rows[1][1] as number)).toBeCloseTo(100, 10);
     // The invented truth: intercepts 1 and 8, slopes 2 and −1.5, noise 0.3 (to within sampling error).
     const bySlope = [...rows].sort((a, b) => (b[4] as number) - (a[4] as number));
     expect(bySlope[0][3]).toBeCloseTo(1, 0);
@@ -82,12 +83,18 @@ describe("SKEIN.FIT", () => {
     for (const row of rows) expect(Math.abs((row[2] as number) - 0.3)).toBeLessThan(0.1);
   });
 
-  it("defaults to one component, which is the least-squares line (weight 1)", async () => {
+  it("without k, fits the K the scan suggests (2 for the two invented lines), and CHECK says so", async () => {
     const { y, x } = twoLines([30, 30], 3, false);
     const result = await fit(y, x);
-    expect(result).toHaveLength(1);
-    expect(result[0][0]).toBe(1);
-    expect(result[0][1]).toBeCloseTo(1, 12);
+    const scanned = await scan(y, x);
+    const suggested = scanned.find((r) => r[7] === true)![0];
+    expect(suggested).toBe(2);
+    expect(result).toHaveLength(2);
+    expect(result).toEqual(await fit(y, x, 2));
+    const checks = await check(y, x);
+    expect(checks.find((r) => r[0] === "components (K)")![1]).toBe(2);
+    expect(checks.some((r) => r[0] === "note" && /the scan suggests \(no k was given\)/.test(String(r[1])))).toBe(true);
+    expect((await check(y, x, 2)).some((r) => r[0] === "note" && /no k was given/.test(String(r[1])))).toBe(false);
   });
 
   it("leaves the intercept column empty with intercept=no, and the header follows headers=no", async () => {
@@ -100,7 +107,7 @@ describe("SKEIN.FIT", () => {
   it("adds a header row with headers=yes when the ranges have none", async () => {
     const { y, x } = twoLines([40, 40], 6, false);
     const result = await fit(y, x, 2, [["headers=yes"]]);
-    expect(result[0]).toEqual(["component", "weight", "noise SD", "intercept", "x1"]);
+    expect(result[0]).toEqual(["component", "weight (%)", "noise SD", "intercept", "x1"]);
     expect(result).toHaveLength(3);
   });
 });
@@ -141,7 +148,7 @@ describe("per-row results line up with the input rows", () => {
     const { y, x, skippedRows } = messy();
     const result = await membership(y, x, 2);
     expect(result).toHaveLength(y.length);
-    expect(result[0]).toEqual(["component 1", "component 2"]);
+    expect(result[0]).toEqual(["membership 1", "membership 2"]);
     for (let r = 1; r < y.length; r++) {
       expect(result[r]).toHaveLength(2);
       if (skippedRows.includes(r)) {
@@ -344,12 +351,15 @@ describe("SKEIN.SCAN", () => {
   it("spills one row per K with exactly one suggested K, and suggests 2 for the two invented lines", async () => {
     const { y, x } = twoLines([60, 40], 71);
     const result = await scan(y, x, 3);
-    expect(result[0]).toEqual(["K", "log-likelihood", "BIC", "ICL", "smallest separation", "converged", "suggested", "note"]);
+    expect(result[0]).toEqual(["K", "BIC", "ICL", "log-likelihood", "smallest gap (noise SDs)", "starts agree", "converged", "suggested", "note"]);
     expect(result.slice(1).map((r) => r[0])).toEqual([1, 2, 3]);
-    expect(result.slice(1).filter((r) => r[6] === true)).toHaveLength(1);
-    expect(result.slice(1).find((r) => r[6] === true)![0]).toBe(2);
-    // K = 1 has no pair of components: its separation cell is empty rather than Infinity.
+    expect(result.slice(1).filter((r) => r[7] === true)).toHaveLength(1);
+    expect(result.slice(1).find((r) => r[7] === true)![0]).toBe(2);
+    // K = 1 has no pair of components: its gap cell is empty rather than Infinity.
     expect(result[1][4]).toBe("");
+    // Every K but the suggested one says why it is not suggested, the smaller K = 1 included.
+    for (const row of result.slice(1)) expect(row[8] === "").toBe(row[7] === true);
+    expect(String(result[1][8])).toMatch(/^Not suggested: lost on BIC/);
   });
 
   it("without kmax tries up to 5, or fewer when the rows allow fewer", async () => {
@@ -361,30 +371,52 @@ describe("SKEIN.SCAN", () => {
 });
 
 describe("SKEIN.CHECK", () => {
+  it("reports starts agree and converged apart, and its advice names the settings it has", async () => {
+    // Invented overlapping data: three lines 1.5 noise SDs apart, stopped after one iteration.
+    const random = createRandom(5);
+    const y: Range = [];
+    const x: Range = [];
+    for (let i = 0; i < 200; i++) {
+      const xv = 10 * random.next();
+      y.push([(i % 3 === 0 ? 1 + 0.5 * xv : i % 3 === 1 ? 2 + 0.3 * xv : 3) + 1.5 * random.normal()]);
+      x.push([xv]);
+    }
+    const result = await check(y, x, 3, [["max_iterations=1; tolerance=1e-12"]]);
+    expect(result.find((r) => r[0] === "converged")![1]).toBe(false);
+    expect(typeof result.find((r) => r[0] === "starts agree")![1]).toBe("boolean");
+    const notConverged = result.find((r) => r[0] === "warning" && /^Not converged/.test(String(r[1])));
+    expect(notConverged![1]).toMatch(/stopped after 1 iteration while .* or allow more iterations with the max_iterations setting\.$/);
+  });
+
   it("returns name/value pairs in a fixed order, then the warnings", async () => {
     const { y, x } = twoLines([60, 40], 79);
     const result = await check(y, x, 2);
     expect(result.every((r) => r.length === 2)).toBe(true);
-    expect(result.slice(0, 9).map((r) => r[0])).toEqual([
+    expect(result.slice(0, 11).map((r) => r[0])).toEqual([
       "diagnostic",
-      "warm start converged",
-      "refinement converged",
+      "components (K)",
+      "starts agree",
+      "converged",
       "iterations",
-      "smallest separation",
-      "estimated misclassification",
-      "smallest weight",
+      "smallest gap (noise SDs)",
+      "misassigned rows (%)",
+      "membership clarity",
+      "smallest weight (%)",
       "rows used",
       "rows skipped",
     ]);
-    expect(result[7][1]).toBe(100);
-    expect(result[8][1]).toBe(0);
+    expect(result[1][1]).toBe(2);
+    expect(result[9][1]).toBe(100);
+    expect(result[10][1]).toBe(0);
+    // Shares are percentages: the smaller of two components of 60 and 40 rows holds about 40%.
+    expect(result[8][1]).toBeGreaterThan(30);
     // Then the stray rows (a count, the rows one by one and their rule when there are any), then the warnings.
-    expect(result[9][0]).toBe("stray rows");
-    const strayCount = result[9][1] as number;
-    const after = result.slice(10).map((r) => r[0]);
+    expect(result[11][0]).toBe("stray rows");
+    const strayCount = result[11][1] as number;
+    const after = result.slice(12).map((r) => r[0]);
     expect(after.slice(0, strayCount === 0 ? 0 : strayCount + 1)).toEqual(strayCount === 0 ? [] : [...Array(strayCount).fill("stray row"), "stray row rule"]);
     expect(after.slice(strayCount === 0 ? 0 : strayCount + 1).every((name) => name === "warning")).toBe(true);
-    expect(result.length).toBeGreaterThan(10);
+    expect(result.length).toBeGreaterThan(12);
   });
 });
 
@@ -392,27 +424,27 @@ describe("SKEIN.PREDICT", () => {
   it("predicts each component's line and the weighted mean for new rows, leaving unusable rows empty", async () => {
     const { y, x } = twoLines([60, 40], 83);
     const components = await fit(y, x, 2);
-    const newX = [["price"], [1], [""], [5], ["abc"], [9.5]];
-    const result = await predict(y, x, newX, 2);
-    expect(result).toHaveLength(newX.length);
-    expect(result[0]).toEqual(["component 1", "component 2", "weighted"]);
+    const newRows = [["price"], [1], [""], [5], ["abc"], [9.5]];
+    const result = await predict(y, x, newRows, 2);
+    expect(result).toHaveLength(newRows.length);
+    expect(result[0]).toEqual(["component 1 prediction", "component 2 prediction", "weighted prediction"]);
     expect(result[2]).toEqual(["", "", ""]);
     expect(result[4]).toEqual(["", "", ""]);
     for (const r of [1, 3, 5]) {
-      const xv = newX[r][0] as number;
+      const xv = newRows[r][0] as number;
       const [c1, c2] = [components[1], components[2]].map((row) => (row[3] as number) + (row[4] as number) * xv);
       expect(result[r][0]).toBeCloseTo(c1, 10);
       expect(result[r][1]).toBeCloseTo(c2, 10);
-      // Plain model: weighted by the component weights.
-      expect(result[r][2]).toBeCloseTo((components[1][1] as number) * c1 + (components[2][1] as number) * c2, 10);
+      // Plain model: weighted by the component weights (FIT shows them as percentages).
+      expect(result[r][2]).toBeCloseTo(((components[1][1] as number) * c1 + (components[2][1] as number) * c2) / 100, 10);
     }
   });
 
-  it("#VALUE! when new_x has a different number of columns than x", async () => {
+  it("#VALUE! when new_rows has a different number of columns than x", async () => {
     const { y, x } = twoLines([40, 40], 89);
     const error = await worksheetError(predict(y, x, [[1, 2]], 2));
     expect(error.code).toBe("#VALUE!");
-    expect(error.message).toContain("new_x has 2 columns in row 1 but x has 1");
+    expect(error.message).toContain("new_rows has 2 columns in row 1 but x has 1");
   });
 });
 
@@ -426,8 +458,8 @@ describe("whole-column references", () => {
     }
     const result = await labels(y, x, 2);
     expect(result).toHaveLength(81);
-    const newX = [[1], [2], [null], [""]];
-    expect(await predict(y, x, newX, 2)).toHaveLength(2);
+    const newRows = [[1], [2], [null], [""]];
+    expect(await predict(y, x, newRows, 2)).toHaveLength(2);
   });
 });
 

@@ -32,7 +32,7 @@ const speciesOnly = x.map((row) => [row[0]]);
 describe("worksheet functions with a category predictor", () => {
   it("SKEIN.FIT names each indicator 'Species = level' and gives the group-mean differences at K = 1", async () => {
     const result = await fit(y, speciesOnly, 1);
-    expect(result[0]).toEqual(["component", "weight", "noise SD", "intercept", "Species = versicolor", "Species = virginica"]);
+    expect(result[0]).toEqual(["component", "weight (%)", "noise SD", "intercept", "Species = versicolor", "Species = virginica"]);
     expect(result[1][3]).toBeCloseTo(5.006, 9);
     expect(result[1][4]).toBeCloseTo(0.93, 9);
     expect(result[1][5]).toBeCloseTo(1.582, 9);
@@ -47,7 +47,7 @@ describe("worksheet functions with a category predictor", () => {
   it("SKEIN.PREDICT takes the same text values, with or without a header row", async () => {
     const newRows = [["Species", "Petal width"], ["virginica", 2], ["SETOSA", 0.2], ["", 1]];
     const result = await predict(y, x, newRows, 1);
-    expect(result[0]).toEqual(["component 1", "weighted"]);
+    expect(result[0]).toEqual(["component 1 prediction", "weighted prediction"]);
     expect(result).toHaveLength(4);
     expect(typeof result[1][0]).toBe("number");
     expect(result[3]).toEqual(["", ""]);
@@ -61,7 +61,7 @@ describe("worksheet functions with a category predictor", () => {
   it("SKEIN.PREDICT refuses a value the fit never saw, by name", async () => {
     const error = await worksheetError(predict(y, speciesOnly, [["Species"], ["versicolor"], ["chinensis"]], 1));
     expect(error.code).toBe("#VALUE!");
-    expect(error.message).toBe('Row 3 of new_x has Species = "chinensis", a value the fitted rows do not hold; Species takes "setosa", "versicolor", "virginica". Use one of those, or refit with rows that hold "chinensis".');
+    expect(error.message).toBe('Row 3 of new_rows has Species = "chinensis", a value the fitted rows do not hold; Species takes "setosa", "versicolor", "virginica". Use one of those, or refit with rows that hold "chinensis".');
   });
 
   it("#VALUE! naming the column when a text column has more than 20 values", async () => {

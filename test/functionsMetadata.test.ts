@@ -29,10 +29,10 @@ const EXPECTED: Record<string, string[]> = {
   MEMBERSHIP: ["y", "x", "[k]", "[settings]"],
   SCAN: ["y", "x", "[kmax]", "[settings]"],
   CHECK: ["y", "x", "[k]", "[settings]"],
-  PREDICT: ["y", "x", "new_x", "[k]", "[settings]"],
+  PREDICT: ["y", "x", "new_rows", "[k]", "[settings]"],
 };
 /** Range arguments reach the function as 2-D arrays; k and kmax are single numbers. */
-const RANGES = new Set(["y", "x", "new_x", "settings"]);
+const RANGES = new Set(["y", "x", "new_rows", "settings"]);
 
 describe("generated worksheet function metadata", async () => {
   const result = await generateCustomFunctionsMetadata([join(__dirname, "..", "src", "functions", "functions.ts")], false);

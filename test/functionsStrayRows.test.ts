@@ -32,7 +32,7 @@ function typoRanges(): { y: unknown[][]; x: unknown[][] } {
 describe("stray rows and the background component in the worksheet functions", () => {
   it("SKEIN.SCAN suggests K = 2 by default (background=auto), K = 1 with background=no", async () => {
     const { y, x } = typoRanges();
-    const suggested = (table: unknown[][]) => (table.slice(1).find((row) => row[6] === true) as unknown[])[0];
+    const suggested = (table: unknown[][]) => (table.slice(1).find((row) => row[7] === true) as unknown[])[0];
     expect(suggested(await scan(y, x, 4))).toBe(2);
     expect(suggested(await scan(y, x, 4, [["background=no"]]))).toBe(1);
   });
@@ -44,7 +44,7 @@ describe("stray rows and the background component in the worksheet functions", (
     expect(value("stray rows")).toEqual([1]);
     expect(value("stray row")[0]).toMatch(new RegExp(`^row ${TYPO_RANGE_ROW} of the ranges: \\d+(\\.\\d+)?e?\\+?\\d* noise SDs from component [12], the nearest$`));
     expect(value("stray row rule")[0]).toContain("Bonferroni");
-    expect(value("background weight")[0]).toBeGreaterThan(0);
+    expect(value("background weight (%)")[0]).toBeGreaterThan(0);
     // The components are the two invented groups, not the typo.
     const components = await fit(y, x, 2);
     const slopes = components.slice(1).map((row) => row[4] as number).sort((a, b) => a - b);
@@ -57,7 +57,7 @@ describe("stray rows and the background component in the worksheet functions", (
     y[TYPO_RANGE_ROW - 1] = [20 - (x[TYPO_RANGE_ROW - 1][0] as number)];
     const table = await check(y, x, 2);
     expect(table.find((row) => row[0] === "stray rows")).toEqual(["stray rows", 0]);
-    expect(table.some((row) => row[0] === "background weight")).toBe(false);
+    expect(table.some((row) => row[0] === "background weight (%)")).toBe(false);
   });
 
   it("SKEIN.SCAN without kmax says when the rows cut the default kmax", async () => {
@@ -66,6 +66,6 @@ describe("stray rows and the background component in the worksheet functions", (
     const x = [[1], [2], [3], [4], [1], [2], [3], [4]];
     const table = await scan(y, x);
     expect(table).toHaveLength(2);
-    expect(table[1][7]).toContain("Tried K = 1 to 2, not up to 5: K = 3 needs at least 9 usable rows");
+    expect(table[1][8]).toContain("Tried K = 1 to 2, not up to 5: K = 3 needs at least 9 usable rows");
   });
 });

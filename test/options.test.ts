@@ -88,7 +88,7 @@ describe("the command line", () => {
         expect(help, `${verb} --${spec.flag}`).toContain(`--${spec.flag}`);
         expect(help, `${verb} --${spec.flag}`).toContain(oneLine(spec.meaning));
         if (spec.type === "whole number" || spec.type === "number") expect(help, `${verb} --${spec.flag}`).toContain(spec.accepts);
-        const required = (verb === "scan" && name === "kmax") || (verb === "predict" && name === "k");
+        const required = verb === "scan" && name === "kmax";
         if (required) expect(help).toContain(`(required)`);
         else if (spec.type !== "yes/no") expect(help, `${verb} --${spec.flag}`).toContain(`(default ${defaultText(spec)})`);
       }
@@ -111,6 +111,8 @@ describe("the command line", () => {
     const report = JSON.parse(stdout);
     expect(report.refinement.iterations).toBeLessThanOrEqual(2);
     expect(report.refinement.converged).toBe(false);
+    // The not-converged warning names the control skein fit has.
+    expect(report.warnings.find((w: string) => /^Not converged/.test(w))).toMatch(/or allow more iterations with --max-iterations\.$/);
     const bad = await run("fit", SAMPLE, "--y", "Fuel used (L)", "--tolerance", "2");
     expect(bad.status).toBe(2);
     expect(bad.stderr).toContain(`--tolerance must be ${optionSpec("tolerance").accepts}`);

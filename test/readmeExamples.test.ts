@@ -97,19 +97,21 @@ describe("README worksheet-function examples on the delivery-fleet workbook", as
     const result = await evaluate(byName("SCAN"), sheets);
     const numeric = result.filter((row) => typeof row[0] === "number");
     expect(numeric.map((row) => row[0])).toEqual([1, 2, 3, 4, 5]);
-    // Column order as the README lists it: K, log-likelihood, BIC, ICL, smallest separation,
-    // converged, suggested, note.
-    const suggestedColumn = 6;
-    for (const row of numeric) expect(row).toHaveLength(8);
+    // Column order as the README lists it: K, BIC, ICL, log-likelihood, smallest gap (noise SDs),
+    // starts agree, converged, suggested, note.
+    const suggestedColumn = 7;
+    for (const row of numeric) expect(row).toHaveLength(9);
     expect(numeric.filter((row) => row[suggestedColumn] === true).map((row) => row[0])).toEqual([3]);
+    // Every other K, the smaller ones too, carries a note saying why it is not suggested.
+    for (const row of numeric) expect(row[8] === "").toBe(row[0] === 3);
   });
 
-  it("FIT: three components with weights about 0.50, 0.30 and 0.20", async () => {
+  it("FIT: three components with weights about 50%, 30% and 20%", async () => {
     const rows = (await evaluate(byName("FIT"), sheets)).filter((row) => typeof row[0] === "number");
     expect(rows).toHaveLength(3);
-    expect(rows[0]).toHaveLength(6); // component, weight, noise SD, intercept, 2 coefficients
+    expect(rows[0]).toHaveLength(6); // component, weight (%), noise SD, intercept, 2 coefficients
     const weights = rows.map((row) => row[1] as number);
-    [0.5, 0.3, 0.2].forEach((expected, c) => expect(Math.abs(weights[c] - expected)).toBeLessThan(0.02));
+    [50, 30, 20].forEach((expected, c) => expect(Math.abs(weights[c] - expected)).toBeLessThan(2));
   });
 
   it("LABELS: 600 component numbers; MEMBERSHIP: 600 rows that sum to 1", async () => {
@@ -125,7 +127,7 @@ describe("README worksheet-function examples on the delivery-fleet workbook", as
     const table = await evaluate(byName("CHECK"), sheets);
     for (const row of table) expect(row).toHaveLength(2);
     const names = table.map((row) => String(row[0]).toLowerCase()).join(" | ");
-    for (const item of ["warm start", "refinement", "iterations", "separation", "misclassification", "weight", "rows used", "rows skipped"]) expect(names).toContain(item);
+    for (const item of ["components (k)", "starts agree", "converged", "iterations", "smallest gap (noise sds)", "misassigned rows (%)", "membership clarity", "smallest weight (%)", "rows used", "rows skipped"]) expect(names).toContain(item);
     const predictions = (await evaluate(byName("PREDICT"), sheets)).filter((row) => typeof row[0] === "number");
     expect(predictions).toHaveLength(3);
     for (const row of predictions) {

@@ -55,6 +55,11 @@ describe("scanComponents", () => {
     // The held-out likelihood of the true K beats one component (common practice: CV rewards real structure).
     expect(scan.rows[1].crossValidatedLogLikelihood).toBeGreaterThan(scan.rows[0].crossValidatedLogLikelihood);
     expect(scan.rule).toMatch(/BIC/);
+    // Every K but the suggested one says why it is not suggested; the smaller K = 1 lost on BIC.
+    for (const row of scan.rows) expect(row.note === null).toBe(row.k === scan.chosenK);
+    expect(scan.rows[0].note).toMatch(/^Not suggested: lost on BIC, \d+ higher than that of K = 2\.$/);
+    // "Starts agree" and "converged" are reported apart.
+    for (const row of scan.rows) expect(typeof row.startsAgree).toBe("boolean");
   });
 
   it("on one noisy regression with few rows, larger K that fit noise are flagged, not suggested", () => {

@@ -172,6 +172,6 @@ describe("componentPlot", () => {
       const slope = (line.y1 - line.y0) / (line.x1 - line.x0);
       expect(spec.y[i]).toBeCloseTo(line.y0 + slope * (spec.x[i] - line.x0), 9);
     }
-    expect(spec.groupNames).toEqual(["1: weight 0.50, 20 rows", "2: weight 0.50, 20 rows"]);
+    expect(spec.groupNames).toEqual(["1: weight 50.0%, 20 rows", "2: weight 50.0%, 20 rows"]);
   });
 });

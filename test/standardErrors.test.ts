@@ -117,3 +117,25 @@ describe("observed-information standard errors for well-separated components", (
     }
   });
 });
+
+describe("standard errors of an exact fit (noise about 0)", () => {
+  it("are 0 for coefficients and noise SDs, sqrt(w(1 − w)/n) for weights, with no warning", () => {
+    // Invented noiseless data: two lines, y = 1 + 2x on 30 rows and y = 8 − 1.5x on 20 rows.
+    const random = createRandom(11);
+    const n = 50;
+    const x = Float64Array.from({ length: n }, () => 10 * random.next());
+    const y = Float64Array.from(x, (value, i) => (i < 30 ? 1 + 2 * value : 8 - 1.5 * value));
+    const data = { y, x, n, p: 1 };
+    const fit = fitMixture(data, { k: 2, seed: 3 });
+    const report = standardErrors(data, fit);
+    expect(report.method).toBe("exact-fit");
+    expect(report.warnings).toEqual([]);
+    for (let c = 0; c < 2; c++) {
+      expect(Array.from(report.coefficients[c])).toEqual([0, 0]);
+      expect(report.sigmas[c]).toBe(0);
+      const w = fit.components[c].weight;
+      // Binomial standard error of a share of known labels (derivation in standardErrors.ts).
+      expect(report.weights[c]).toBeCloseTo(Math.sqrt((w * (1 - w)) / n), 12);
+    }
+  });
+});

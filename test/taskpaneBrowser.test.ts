@@ -56,13 +56,14 @@ describe("plain-browser mode", () => {
     $<HTMLButtonElement>("#place-button").click();
     await settle();
     expect($("#place-result").textContent).toContain("Placed 2 results");
-    // The components table: header, then one row per component with its weight.
-    expect(grid!.get(0, 3)).toBe("Component");
+    // The components table: header (as SKEIN.FIT's), then one row per component with its weight in %.
+    expect(grid!.get(0, 3)).toBe("component");
+    expect(grid!.get(0, 4)).toBe("weight (%)");
     const fit = pane.state.fit!;
-    expect(grid!.get(1, 4)).toBe(fit.components[0].weight);
-    expect(grid!.get(2, 4)).toBe(fit.components[1].weight);
+    expect(grid!.get(1, 4)).toBe(100 * fit.components[0].weight);
+    expect(grid!.get(2, 4)).toBe(100 * fit.components[1].weight);
     // Labels start 4 + p + 1 columns to the right: column J; a skipped row stays empty.
-    expect(grid!.get(0, 9)).toBe("Component");
+    expect(grid!.get(0, 9)).toBe("component");
     expect(grid!.get(5, 9)).toBe("");
     expect([1, 2]).toContain(grid!.get(1, 9));
   });

@@ -10,6 +10,10 @@ import { initialState } from "../taskpane/paneState";
 import { buildDesign } from "../src/engine/design";
 import { fitMixture } from "../src/engine/fitMixture";
 import { inventedSheet } from "./support/taskpaneFixtures";
+import { messageOf, Pane } from "../taskpane/pane";
+import type { EngineService } from "../src/service/engineService";
+import type { SheetHost } from "../taskpane/host";
+import { SkeinError } from "../src/engine/errors";
 
 describe("A1 addresses", () => {
   it("turns column letters into indices and back", () => {
@@ -67,7 +71,7 @@ describe("planPlacement", () => {
   it("writes values lined up with the range's rows, skipped rows left empty", () => {
     const [labels] = planPlacement("Sheet1!D1", { ...request, outputs: ["labels"], mode: "values" }, design, fit);
     expect(labels.cells.length).toBe(sheet.length);
-    expect(labels.cells[0]).toEqual(["Component"]);
+    expect(labels.cells[0]).toEqual(["component"]);
     // Sheet rows 5 and 9 (0-based, header at 0) were skipped by the design.
     expect(labels.cells[5]).toEqual([""]);
     expect(labels.cells[9]).toEqual([""]);
@@ -80,11 +84,17 @@ describe("warningsFor", () => {
   const design = buildDesign(sheet.map((r) => [r[0]]), sheet.map((r) => [r[1]]));
   const fit = fitMixture(design, { k: 2, seed: 3 });
 
-  it("explains a warm start that did not converge, with what to try", () => {
-    const unsettled = { ...fit, warmStart: { ...fit.warmStart, converged: false } };
-    const warning = warningsFor({ ...initialState(), design, fit: unsettled }).find((w) => w.id === "warm-start");
-    expect(warning).toBeDefined();
-    for (const remedy of ["another seed", "restarts", "rescaling", "fewer components"]) expect(warning!.text).toContain(remedy);
+  it("explains starts that disagree, naming only controls the pane has", () => {
+    const unsettled = { ...fit, warmStart: { ...fit.warmStart, disagreement: 0.2 } };
+    const warnings = warningsFor({ ...initialState(), design, fit: unsettled });
+    const warning = warnings.find((w) => w.id === "warm-start");
+    expect(warning?.title).toBe("Starts disagree");
+    for (const remedy of ["another seed", "Seed", "rescaling", "fewer components"]) expect(warning!.text).toContain(remedy);
+    // The pane has no restarts, tolerance or iteration controls, so its advice does not name them.
+    for (const text of warnings.map((w) => w.text)) expect(text).not.toMatch(/restarts|tolerance|max_iterations|iterations setting/);
+    // A moment certificate that did not shrink, with the starts agreeing, is not a warning.
+    const certificateOnly = { ...fit, warmStart: { ...fit.warmStart, converged: false, disagreement: 0 } };
+    expect(warningsFor({ ...initialState(), design, fit: certificateOnly }).some((w) => w.id === "warm-start")).toBe(false);
   });
 
   it("warns about many skipped rows only above a tenth of the rows", () => {
@@ -140,5 +150,26 @@ describe("Grid", () => {
     editor.dispatchEvent(new KeyboardEvent("keydown", { key: "Enter", bubbles: true }));
     expect(grid.get(1, 0)).toBe(42);
     expect(changes).toEqual(["Data!A2"]);
+  });
+});
+
+describe("a mistyped address in the pane", () => {
+  it("reads as a plain message, not as a failure of Skein", async () => {
+    // Excel rejects a range on a sheet that does not exist with an error whose code is ItemNotFound
+    // (Excel JavaScript API, OfficeExtension.ErrorCodes).
+    const officeError = Object.assign(new Error("The requested resource doesn't exist."), { code: "ItemNotFound" });
+    const host = {
+      kind: "excel",
+      readValues: () => Promise.reject(officeError),
+      watch: () => Promise.resolve(() => undefined),
+      saveRanges: () => Promise.resolve(),
+    } as unknown as SheetHost;
+    const pane = new Pane(host, {} as EngineService);
+    await pane.setAddresses("Shet1!A1:A10", "Sheet1!B1:B10");
+    expect(pane.state.dataProblem).toMatch(/^Could not read Shet1!A1:A10 and Sheet1!B1:B10\. Excel has no such range: check the sheet name/);
+    expect(pane.state.dataProblem).not.toMatch(/Skein could not finish/);
+    // An address that is not an address at all: the placement's own plain message.
+    expect(messageOf(new SkeinError("bad-input", '"H" is not a cell address'))).toBe('"H" is not a cell address');
+    expect(() => planPlacement("H", { yAddress: "A1:A3", xAddress: "B1:B3", rangeRows: 3, k: 1, seed: 1, outputs: ["fit"], mode: "formulas" }, buildDesign([[1], [2], [3], [4]], [[1], [3], [2], [5]]), null)).toThrow(/is not a cell address; type one such as H2/);
   });
 });

@@ -15,7 +15,9 @@ import { defaultText, optionSpec } from "../engine/options";
 import { parseArgs, readOption, type FlagKinds } from "./args";
 import { columnRange, columnsRange, findColumn, headerNames } from "./columns";
 import { compareWithTruth, type TruthComparison, type TruthComponent } from "./compareWithTruth";
-import { formatNumber } from "./formatTable";
+import { alignColumns, formatColumn, formatExact, formatGap, formatNoiseSd, formatNumber, formatPercent, formatPlusMinus } from "../report/formatNumber";
+import { exactComponents, isExactFit } from "../engine/exactFit";
+import { startsAgree } from "../engine/scanComponents";
 import type { CommandIO } from "./main";
 
 export const DEMO_USAGE = `Usage: skein demo [options]
@@ -31,10 +33,11 @@ from, and writes OUT/<name>-results.xlsx and OUT/<name>.svg.
   --only NAME       run one scenario: delivery-fleet, shop-chain or lab-calibration
   --seed S          seed of every fit, ${optionSpec("seed").accepts}
                     (default ${defaultText(optionSpec("seed"))})
+  --verbose         also show how the starts were made
   --help            show this help
 `;
 
-const DEMO_FLAGS: FlagKinds = { out: "value", samples: "value", only: "value", seed: "value", help: "switch", h: "switch" };
+const DEMO_FLAGS: FlagKinds = { out: "value", samples: "value", only: "value", seed: "value", verbose: "switch", help: "switch", h: "switch" };
 
 /** One scenario as sample-workbooks/truth.json describes it. */
 export interface ScenarioTruth {
@@ -59,6 +62,8 @@ export interface DemoOptions {
   samples: string;
   out: string;
   seed: number;
+  /** Also show how the starts were made. */
+  verbose?: boolean;
 }
 
 export interface DemoScenarioResult {
@@ -99,73 +104,43 @@ function seconds(ms: number): string {
   return `${(ms / 1000).toFixed(2)} s`;
 }
 
-/**
- * "value ± se" with the standard error to two significant digits and the
- * estimate to the same decimal place: digits beyond those are noise.
- */
-function withError(value: number, se: number): string {
-  if (!Number.isFinite(se)) return `${formatNumber(value)} (SE not available)`;
-  if (se === 0) return `${formatNumber(value)} ± 0`;
-  const decimals = Math.min(12, Math.max(0, 1 - Math.floor(Math.log10(se))));
-  return `${value.toFixed(decimals)} ± ${se.toFixed(decimals)}`;
-}
-
-/**
- * A separation gap in noise SDs. Past a million the number only says how close
- * to zero the noise floor is, so it is shown as a bound.
- */
-function gapText(gap: number): string {
-  if (!Number.isFinite(gap)) return gap > 0 ? "unlimited" : "-";
-  return gap > 1e6 ? "> 1e6" : formatNumber(gap);
-}
-
-function percent(share: number): string {
-  return `${(100 * share).toFixed(1)}%`;
-}
-
-/** The columns of a small text table, first column left-aligned, the rest right-aligned. */
-function table(rows: string[][], indent: string): string[] {
-  const widths = rows[0].map((_, j) => Math.max(...rows.map((row) => row[j].length)));
-  return rows.map((row) => indent + row.map((cell, j) => (j === 0 ? cell.padEnd(widths[j]) : cell.padStart(widths[j]))).join("  ").trimEnd());
-}
-
-function formatScenario(result: Omit<DemoScenarioResult, "report">, outDisplay: string): string {
+function formatScenario(result: Omit<DemoScenarioResult, "report">, outDisplay: string, verbose = false): string {
   const { truth, design, scan, fit, separation, errors, comparison, timings } = result;
   const lines: string[] = [];
   const skipped = design.skipped.length ? `, ${design.skipped.length} skipped` : "";
+  const exact = exactComponents(fit, design.y);
+  const exactFit = exact.every(Boolean);
   lines.push(`== ${truth.title}`);
   lines.push(`   ${truth.workbook}, sheet ${truth.dataSheet}: ${truth.response} on ${truth.predictors.join(", ")}; ${design.n} rows${skipped}; ${fit.model} model`);
   lines.push("");
 
   lines.push(`How many components: K = ${scan.chosenK}`);
   lines.push(`   Rule: ${scan.rule}`);
-  const scanTable = [["K", "log-likelihood", "BIC", "ICL", "smallest gap", "converged", "note"]];
+  const bic = formatColumn(scan.rows.map((row) => row.bic));
+  const icl = formatColumn(scan.rows.map((row) => row.icl));
+  const logLikelihood = formatColumn(scan.rows.map((row) => row.logLikelihood));
+  const scanTable = [["K", "BIC", "ICL", "log-likelihood", "smallest gap (noise SDs)", "starts agree", "converged", "note"]];
   const footnotes: string[] = [];
-  for (const row of scan.rows) {
-    const note = row.k === scan.chosenK ? "suggested" : row.flag ? `(${footnotes.push(`(${footnotes.length + 1}) K = ${row.k}: ${row.flag}`)})` : "";
-    scanTable.push([
-      String(row.k),
-      formatNumber(row.logLikelihood),
-      formatNumber(row.bic),
-      formatNumber(row.icl),
-      row.k === 1 ? "-" : gapText(row.minSeparation),
-      row.converged ? "yes" : "no",
-      note,
-    ]);
-  }
-  lines.push(...table(scanTable, "   "));
+  scan.rows.forEach((row, r) => {
+    const note = row.k === scan.chosenK ? "suggested" : row.note ? `(${footnotes.push(`(${footnotes.length + 1}) K = ${row.k}: ${row.note}`)})` : "";
+    const rowExact = isExactFit(row.fit, design.y);
+    scanTable.push([String(row.k), bic[r], icl[r], logLikelihood[r], row.k === 1 ? "-" : rowExact ? formatGap(Infinity) : formatGap(row.minSeparation), row.startsAgree ? "yes" : "no", row.converged ? "yes" : "no", note]);
+  });
+  lines.push(...alignColumns(scanTable, "   ", 2));
   for (const footnote of footnotes) lines.push(`   ${footnote}`);
   lines.push("");
 
-  // Noiseless fits have no curvature to take standard errors from; say so once, not per number.
   const anyErrors = [...errors.weights, ...errors.sigmas].some(Number.isFinite);
-  const source = errors.method === "bootstrap" ? "bootstrap" : "observed information";
+  const source = errors.method === "bootstrap" ? "bootstrap" : errors.method === "exact-fit" ? "exact fit: coefficients known exactly" : "from the curvature of the likelihood";
   lines.push(anyErrors ? `Components (estimate ± standard error, ${source})` : "Components (standard errors not available, see the warnings)");
-  const show = (value: number, se: number): string => (anyErrors ? withError(value, se) : formatNumber(value));
+  if (exactFit) lines.push("   Exact fit (noise about 0): every row lies on its component's regression.");
+  const show = (value: number, se: number): string => (anyErrors ? formatPlusMinus(value, se) : formatNumber(value));
   const coefficientNames = ["intercept", ...design.predictorNames];
   fit.components.forEach((component, c) => {
-    lines.push(`   ${c + 1}: weight ${show(component.weight, errors.weights[c])}, noise SD ${show(component.sigma, errors.sigmas[c])}`);
-    const parts = coefficientNames.map((name, j) => `${name} ${show(component.coefficients[j], errors.coefficients[c][j])}`);
+    const weight = anyErrors ? `${formatPlusMinus(100 * component.weight, 100 * errors.weights[c])} %` : formatPercent(component.weight);
+    const noise = exact[c] ? formatNoiseSd(component.sigma, true) : show(component.sigma, errors.sigmas[c]);
+    lines.push(`   ${c + 1}: weight ${weight}, noise SD ${noise}`);
+    const parts = coefficientNames.map((name, j) => `${name} ${exact[c] ? formatExact(component.coefficients[j]) : show(component.coefficients[j], errors.coefficients[c][j])}`);
     if (!fit.intercept) parts.shift();
     // A few coefficients a line keeps lines readable with many predictors.
     const perLine = parts.length > 4 ? 3 : 2;
@@ -175,14 +150,16 @@ function formatScenario(result: Omit<DemoScenarioResult, "report">, outDisplay: 
 
   if (fit.k > 1) {
     const closest = separation.pairs.reduce((a, b) => (b.gap < a.gap ? b : a));
-    lines.push(`Separation: closest pair ${closest.a + 1} and ${closest.b + 1}, gap ${gapText(closest.gap)} noise SDs; estimated misclassification ${percent(separation.misclassification)}; entropy-based crispness ${formatNumber(separation.normalisedEntropy)}`);
+    const gap = exactFit ? "no overlap between components (noise about 0)" : `smallest gap ${formatGap(closest.gap)} noise SDs (components ${closest.a + 1} and ${closest.b + 1})`;
+    lines.push(`Checks: ${gap}; misassigned rows ${formatPercent(separation.misclassification)}; membership clarity ${formatNumber(separation.normalisedEntropy)}`);
   } else {
-    lines.push("Separation: one component, nothing to separate");
+    lines.push("Checks: one component, no gap to measure");
   }
-  const warnings = [...new Set([...fit.warnings, ...separation.warnings, ...errors.warnings])];
+  const warnings = demoWarnings(result);
   lines.push(warnings.length ? `Warnings:` : "Warnings: none");
   for (const warning of warnings) lines.push(`   - ${warning}`);
-  lines.push(`Convergence: warm start ${fit.warmStart.converged ? "converged" : "NOT converged"} (${fit.warmStart.method}), refinement ${fit.refinement.converged ? "converged" : "NOT converged"} after ${fit.refinement.iterations} iteration${fit.refinement.iterations === 1 ? "" : "s"}`);
+  const iterations = `${fit.refinement.iterations} iteration${fit.refinement.iterations === 1 ? "" : "s"}`;
+  lines.push(`Starts agree: ${startsAgree(fit.warmStart) ? "yes" : "no"}. Converged: ${fit.refinement.converged ? "yes" : "no"} (${iterations}).${verbose ? ` Best start: ${fit.warmStart.method}, ${fit.warmStart.startsTried} tried.` : ""}`);
 
   const kVerdict = scan.chosenK === comparison.trueK ? "found" : `NOT found (suggested ${scan.chosenK})`;
   const matched = comparison.match.map((c, t) => ({ c, t })).filter(({ c }) => c >= 0);
@@ -193,10 +170,15 @@ function formatScenario(result: Omit<DemoScenarioResult, "report">, outDisplay: 
     const seText = Number.isFinite(inSe) ? ` (${formatNumber(inSe)} standard errors)` : "";
     errorText = `; largest coefficient difference ${formatNumber(comparison.coefficientError[worst.t])}${seText}, in "${truth.components[worst.t].name}"`;
   }
-  lines.push(`Against the invented truth: K = ${comparison.trueK} ${kVerdict}${errorText}; ${percent(comparison.labelAgreement)} of rows given their true component`);
+  lines.push(`Against the invented truth: K = ${comparison.trueK} ${kVerdict}${errorText}; ${formatPercent(comparison.labelAgreement)} of rows given their true component`);
   lines.push(`Time: read ${seconds(timings.read)}, scan K = 1..${truth.kMax} ${seconds(timings.scan)}, standard errors and checks ${seconds(timings.checks)}, files ${seconds(timings.write)}`);
   lines.push(`Wrote ${result.files.map((file) => path.join(outDisplay, path.basename(file))).join(" and ")}`);
   return lines.join("\n") + "\n";
+}
+
+/** Every warning the demo prints for a scenario (the results workbook carries the same). */
+function demoWarnings(result: Pick<DemoScenarioResult, "fit" | "separation" | "errors">): string[] {
+  return [...new Set([...result.fit.warnings, ...result.separation.warnings, ...result.errors.warnings])];
 }
 
 /** Runs one scenario: read, scan, fit the suggested K, check, compare with the truth, write files. */
@@ -231,6 +213,8 @@ export async function runDemoScenario(truth: ScenarioTruth, options: DemoOptions
     design,
     fit,
     standardErrors: errors,
+    separation,
+    warnings: demoWarnings({ fit, separation, errors }),
     notes: [
       `Invented demo data (${truth.workbook}); K = ${fit.k} suggested by the scan: ${scan.rule}`,
       `Written by skein demo with seed ${options.seed}.`,
@@ -243,7 +227,7 @@ export async function runDemoScenario(truth: ScenarioTruth, options: DemoOptions
 
   const partial = { truth, design, scan, fit, separation, errors, comparison, timings: { read, scan: scanTime, checks, write }, files: [workbookFile, svgFile] };
   const outDisplay = path.relative(process.cwd(), options.out) || ".";
-  return { ...partial, report: formatScenario(partial, outDisplay) };
+  return { ...partial, report: formatScenario(partial, outDisplay, options.verbose) };
 }
 
 /** `skein demo`: every sample scenario (or --only one), one report each, then the total time. */
@@ -258,6 +242,7 @@ export async function demoCommand(argv: readonly string[], io: CommandIO): Promi
     samples: path.resolve(args.values.get("samples") ?? defaultSamples()),
     out: path.resolve(args.values.get("out") ?? "out"),
     seed: readOption(args, "seed", "demo") as number,
+    verbose: args.switches.has("verbose"),
   };
   let scenarios = await readTruth(options.samples);
   const only = args.values.get("only");

@@ -12,7 +12,13 @@ import { findStrayRows } from "../engine/strayRows";
 import type { OptionName } from "../engine/options";
 import { FILE_OPTIONS_HELP, optionFlags, optionHelp, parseArgs, parseHeaderRow, parseList, parseRowList, parseWholeNumber, readBackground, readGivenOption, readOption, type FlagKinds } from "./args";
 import { loadDesign, type ColumnReport } from "./loadDesign";
-import { formatFitTable } from "./formatTable";
+import { formatFitTable, kChoiceText } from "./formatTable";
+import { isExactFit } from "../engine/exactFit";
+import { defaultKMax, scanComponents, startsAgree } from "../engine/scanComponents";
+import type { CommandIO } from "./main";
+import { scanProgress } from "./scanProgress";
+import { writeRowResults } from "./writeRowResults";
+import { readDataTable } from "../io/readTable";
 import { formatNotices } from "./formatNotices";
 
 /** The options of the table that skein fit takes. */
@@ -20,20 +26,25 @@ const FIT_OPTIONS: readonly OptionName[] = ["k", "model", "seed", "restarts", "t
 
 export const FIT_USAGE = `Usage: skein fit FILE --y COLUMN [--x COLUMN,COLUMN,...] [options]
 
-Fits K linear regressions of the y column on the x columns, each holding for
-one hidden group of rows, to a .csv or .xlsx file whose first row names the
-columns. A predictor column of mostly text (or yes/no, TRUE/FALSE) becomes
-indicator columns against its most frequent value. Rows with a blank or error
-cell, or text in a numeric column, are skipped and listed.
+Fits K components to a .csv or .xlsx file whose first row names the columns.
+A component is a group of rows sharing one linear regression of the outcome
+(--y) on the predictors (--x). A predictor column of mostly text (or yes/no,
+TRUE/FALSE) becomes indicator columns against its most frequent value. Rows
+with a blank or error cell, or text in a numeric column, are skipped and
+listed. The output shows each component, the checks, the stray rows, and the
+component of the first rows.
 
-  --y COLUMN        the response column (required)
+  --y COLUMN        the outcome column (required)
   --x COLUMNS       predictor columns, separated by commas; default: every
                     other column of numbers or categories (dates and
                     identifier columns are left out, and the output says so)
 ${optionHelp(FIT_OPTIONS, 20)}
+  --out FILE        also write every row with its component, fitted value,
+                    residual and memberships to FILE (.csv or .xlsx)
   --bootstrap N     standard errors from N bootstrap refits (components
-                    matched to this fit in each) instead of the observed
-                    information; slower
+                    matched to this fit in each) instead of from the
+                    curvature of the likelihood; slower
+  --verbose         also show how the starts were made
   --leave-out ROWS  data rows to leave out of the fit, separated by commas
                     (counted from 1 below the header), e.g. stray rows
   --json            write one JSON object instead of a table
@@ -49,6 +60,8 @@ const FIT_FLAGS: FlagKinds = {
   "header-row": "value",
   ...optionFlags(FIT_OPTIONS),
   bootstrap: "value",
+  out: "value",
+  verbose: "switch",
   "leave-out": "value",
   json: "switch",
   help: "switch",
@@ -63,7 +76,8 @@ export interface FitSettings {
   y: string;
   /** Predictor names (or letters, #numbers) in the user's order; undefined: every other number or category column. */
   x?: string[];
-  k: number;
+  /** undefined: the K the scan suggests. */
+  k?: number;
   seed: number;
   intercept: boolean;
   model: MixtureModel;
@@ -73,6 +87,9 @@ export interface FitSettings {
   maxIterations?: number;
   /** Bootstrap replicates for the standard errors; undefined: observed information. */
   bootstrap?: number;
+  /** --out: a .csv or .xlsx file for every row's results. */
+  out?: string;
+  verbose: boolean;
   /** A flat background component (Banfield & Raftery 1993): always, never or "auto". */
   background: boolean | "auto";
   /** 1-based data rows to leave out. */
@@ -109,12 +126,17 @@ export interface SkippedReport {
 /** The --json output. Later versions add fields; they never rename these. */
 export interface FitReport {
   k: number;
+  /** How K was chosen: given with --k, or the scan's suggestion over K = 1..kMax. */
+  kChosenBy: { by: "given" } | { by: "scan"; kMax: number };
   /** Rows used in the fit. */
   n: number;
   /** Rows used in the fit (the same as n). */
   rowsUsed: number;
   rowsSkipped: number;
   skipped: SkippedReport[];
+  /** The outcome column's name. */
+  outcome: string;
+  /** The same as outcome (its older name). */
   response: string;
   predictors: string[];
   intercept: boolean;
@@ -129,7 +151,19 @@ export interface FitReport {
   warmStart: WarmStartReport;
   refinement: RefinementReport;
   warnings: string[];
-  /** Pairwise separation, estimated misclassification, entropy (null for one component). */
+  /** The two best starts reached the same components. */
+  startsAgree: boolean;
+  /** The refinement stopped by its tolerance. */
+  converged: boolean;
+  /** Every component fits its rows exactly (noise about 0). */
+  exactFit: boolean;
+  /** Smallest gap between two components, noise SDs (null for one component, or unlimited). */
+  smallestGap: number | null;
+  /** Misassigned rows, percent. */
+  misassignedRows: number;
+  /** Membership clarity, 0 to 1. */
+  membershipClarity: number;
+  /** Older name of the checks: pairs, minGap, misclassification (a share), normalisedEntropy; null for one component. */
   separation: SeparationReport | null;
   /** Standard errors: per component coefficients (as in components[].stdErrors), weights and noise SDs. */
   stdErrors: { method: string; weights: number[]; sigmas: number[] };
@@ -173,7 +207,7 @@ export function parseFitSettings(argv: readonly string[]): FitSettings | "help" 
     throw new SkeinError("bad-input", `fit takes one data file but got ${positionals.length} (${positionals.join(", ")}); list predictors as --x A,B without spaces, or quote the list`);
   }
   const y = values.get("y");
-  if (y === undefined) throw new SkeinError("bad-input", "No response column given; name it, as in --y COLUMN");
+  if (y === undefined) throw new SkeinError("bad-input", "No outcome column given; name it, as in --y COLUMN");
   const xText = values.get("x");
   const bootstrapText = values.get("bootstrap");
   return {
@@ -182,7 +216,7 @@ export function parseFitSettings(argv: readonly string[]): FitSettings | "help" 
     headerRow: parseHeaderRow(values.get("header-row"), "fit"),
     y,
     x: xText === undefined ? undefined : parseList(xText, "x", "fit"),
-    k: readOption(parsed, "k", "fit") as number,
+    k: readGivenOption(parsed, "k", "fit") as number | undefined,
     seed: readOption(parsed, "seed", "fit") as number,
     intercept: readOption(parsed, "intercept", "fit") as boolean,
     model: readOption(parsed, "model", "fit") as MixtureModel,
@@ -190,6 +224,8 @@ export function parseFitSettings(argv: readonly string[]): FitSettings | "help" 
     tolerance: readGivenOption(parsed, "tolerance", "fit") as number | undefined,
     maxIterations: readGivenOption(parsed, "max_iterations", "fit") as number | undefined,
     bootstrap: bootstrapText === undefined ? undefined : parseWholeNumber(bootstrapText, "bootstrap", "fit", 10, 10000),
+    out: checkOutFile(values.get("out")),
+    verbose: switches.has("verbose"),
     background: readBackground(parsed, "fit"),
     leaveOut: values.has("leave-out") ? parseRowList(values.get("leave-out") as string, "leave-out", "fit") : undefined,
     json: switches.has("json"),
@@ -202,7 +238,7 @@ export function parseFitSettings(argv: readonly string[]): FitSettings | "help" 
  * ordinary least squares, and the report gives the classical least-squares standard
  * errors (n − q degrees of freedom), the ones regression tables and NIST certify.
  */
-export function fitModel(design: Design, settings: Pick<FitSettings, "k" | "seed" | "intercept" | "model" | "restarts" | "tolerance" | "maxIterations" | "bootstrap"> & { background?: boolean | "auto" }): ModelFit {
+export function fitModel(design: Design, settings: Pick<FitSettings, "seed" | "intercept" | "model" | "restarts" | "tolerance" | "maxIterations" | "bootstrap"> & { k: number; background?: boolean | "auto" }): ModelFit {
   const { k, seed, intercept, model, restarts, tolerance, maxIterations, background } = settings;
   const mixture = withColumnNames(design, settings.intercept, () => fitMixture(design, { k, seed, intercept, model, restarts, tolerance, maxIterations, background }));
   const errors =
@@ -230,8 +266,15 @@ export function fitModel(design: Design, settings: Pick<FitSettings, "k" | "seed
     stdErrorMethod: method,
     weightStdErrors: Array.from(errors.weights),
     sigmaStdErrors: Array.from(errors.sigmas),
-    stdErrorWarnings: method === "least-squares" ? [] : errors.warnings,
+    stdErrorWarnings: method === "least-squares" ? [] : settings.bootstrap === undefined ? errors.warnings.map((w) => `${w} Or give --bootstrap N.`) : errors.warnings,
   };
+}
+
+/** The --out file, checked before any work: .csv or .xlsx. */
+function checkOutFile(file: string | undefined): string | undefined {
+  if (file === undefined) return undefined;
+  if (!/\.(csv|xlsx)$/i.test(file)) throw new SkeinError("bad-input", `--out must name a .csv or .xlsx file, not "${file}" (see skein fit --help)`);
+  return file;
 }
 
 /** Runs a fit, adding the column names to a singular-design message. */
@@ -257,26 +300,38 @@ function classicalStdErrors(design: Design, intercept: boolean): number[] {
 }
 
 /** Everything the command computes, before it is written out. */
-export async function computeFitReport(settings: FitSettings): Promise<{ report: FitReport; sheetName?: string }> {
+export async function computeFitReport(settings: FitSettings, progress?: (k: number, kMax: number) => void): Promise<{ report: FitReport; sheetName?: string; design: Design; fit: MixtureFit; separation: SeparationReport | null }> {
   const readStart = performance.now();
   const { design, sheetName, columns, notices } = await loadDesign(settings);
   const readMs = performance.now() - readStart;
 
   const fitStart = performance.now();
-  const model = fitModel(design, settings);
+  let k = settings.k;
+  let kChosenBy: FitReport["kChosenBy"] = { by: "given" };
+  if (k === undefined) {
+    const kMax = defaultKMax(design.n, design.p + (settings.intercept ? 1 : 0));
+    const scan = scanComponents(design, { kMax, seed: settings.seed, intercept: settings.intercept, model: settings.model, restarts: settings.restarts, tolerance: settings.tolerance, maxIterations: settings.maxIterations, background: settings.background, onProgress: progress });
+    k = scan.chosenK;
+    kChosenBy = { by: "scan", kMax: scan.rows.length };
+  }
+  const model = fitModel(design, { ...settings, k });
   const fitMs = performance.now() - fitStart;
 
   const labels: (number | null)[] = new Array(design.inputRows).fill(null);
   for (let i = 0; i < design.n; i++) labels[design.rowIndex[i]] = model.labels[i] + 1;
   // Schwarz (1978): BIC = −2 log L + ν ln n.
   const bic = -2 * model.logLikelihood + model.parameterCount * Math.log(design.n);
+  const separation = model.separation;
+  const exactFit = isExactFit(model.mixture, design.y);
   const stray = findStrayRows(design, model.mixture);
   const report: FitReport = {
-    k: settings.k,
+    k,
+    kChosenBy,
     n: design.n,
     rowsUsed: design.n,
     rowsSkipped: design.skipped.length,
     skipped: design.skipped.map((s) => ({ row: s.row + 1, column: s.column, reason: s.reason })),
+    outcome: design.yName,
     response: design.yName,
     predictors: design.predictorNames,
     intercept: settings.intercept,
@@ -289,8 +344,17 @@ export async function computeFitReport(settings: FitSettings): Promise<{ report:
     seed: settings.seed,
     warmStart: model.mixture.warmStart,
     refinement: model.mixture.refinement,
-    warnings: [...model.mixture.warnings, ...(model.separation?.warnings ?? []), ...model.stdErrorWarnings],
-    separation: model.separation,
+    // The engine's advice names only what every surface has; skein fit can also allow more iterations.
+    warnings: [...new Set([...model.mixture.warnings, ...(separation?.warnings ?? []), ...model.stdErrorWarnings])].map((warning) =>
+      /^Not converged:/.test(warning) ? `${warning.replace(/\.$/, "")}, or allow more iterations with --max-iterations.` : warning,
+    ),
+    startsAgree: startsAgree(model.mixture.warmStart),
+    converged: model.mixture.refinement.converged,
+    exactFit,
+    smallestGap: separation && Number.isFinite(separation.minGap) && !exactFit ? separation.minGap : null,
+    misassignedRows: 100 * (separation?.misclassification ?? 0),
+    membershipClarity: separation?.normalisedEntropy ?? 1,
+    separation,
     stdErrors: { method: model.stdErrorMethod, weights: model.weightStdErrors, sigmas: model.sigmaStdErrors },
     timings: { readMs, fitMs },
     columns,
@@ -299,18 +363,26 @@ export async function computeFitReport(settings: FitSettings): Promise<{ report:
     strayRowsRule: stray.rule,
     backgroundWeight: model.mixture.background?.weight ?? null,
   };
-  return { report, sheetName };
+  return { report, sheetName, design, fit: model.mixture, separation };
 }
 
 /** `skein fit`: returns the exit status; SkeinErrors propagate to main, which reports them. */
-export async function fitCommand(argv: readonly string[], io: { stdout: (s: string) => void }): Promise<number> {
+export async function fitCommand(argv: readonly string[], io: CommandIO): Promise<number> {
   const settings = parseFitSettings(argv);
   if (settings === "help") {
     io.stdout(FIT_USAGE);
     return 0;
   }
-  const { report, sheetName } = await computeFitReport(settings);
+  const progress = settings.k === undefined ? scanProgress(io) : undefined;
+  const { report, sheetName, design, fit, separation } = await computeFitReport(settings, progress?.onProgress);
+  progress?.finish();
+  if (settings.out !== undefined) {
+    // The table as the design read it (header row, converted numbers), so rows line up with the fit.
+    const table = await readDataTable(settings.file, { sheet: settings.sheet, headerRow: settings.headerRow });
+    const rows: unknown[][] = [table.names, ...table.rows];
+    await writeRowResults(settings.out, { rows, design, fit, separation: separation ?? undefined, warnings: report.warnings, notes: [`skein fit ${path.basename(settings.file)}, seed ${settings.seed}; ${kChoiceText(report)}`] });
+  }
   if (settings.json) io.stdout(JSON.stringify(report) + "\n");
-  else io.stdout(formatFitTable(report, { file: path.basename(settings.file), sheetName }) + formatNotices(report.notices));
+  else io.stdout(formatFitTable(report, { file: path.basename(settings.file), sheetName, verbose: settings.verbose, out: settings.out }) + formatNotices(report.notices));
   return 0;
 }

@@ -1,66 +1,72 @@
+import { alignColumns, formatColumn, formatGap, formatNoiseSd, formatNumber, formatPercent, formatPlusMinus, formatWithError } from "../report/formatNumber";
 import type { FitReport } from "./fitCommand";
 
 /** Skipped rows listed one by one before the rest are summarised. */
 const SKIPPED_ROWS_SHOWN = 10;
 
+/** Rows whose component the text output shows; --out writes them all. */
+export const ROWS_SHOWN = 10;
 /** Stray rows listed one by one in the table. */
 const STRAY_ROWS_SHOWN = 20;
 
-/** Significant digits shown: enough to compare runs, few enough to read. */
-const DIGITS = 6;
-
-/** A number in at most DIGITS significant digits, without exponent noise for ordinary sizes. */
-export function formatNumber(value: number): string {
-  if (!Number.isFinite(value)) return String(value);
-  if (value === 0) return "0";
-  const magnitude = Math.abs(value);
-  if (magnitude >= 1e-4 && magnitude < 1e15) {
-    // toPrecision, then drop trailing zeros of the fraction ("1.50000" -> "1.5").
-    const text = value.toPrecision(DIGITS);
-    if (!text.includes("e")) return text.includes(".") ? text.replace(/\.?0+$/, "") : text;
-    return Math.round(value).toString();
-  }
-  return value.toExponential(DIGITS - 1).replace(/\.?0+e/, "e");
+/** How K was chosen, in words. */
+export function kChoiceText(report: Pick<FitReport, "k" | "kChosenBy">): string {
+  return report.kChosenBy.by === "scan"
+    ? `K = ${report.k}, the number the scan of K = 1 to ${report.kChosenBy.kMax} suggests (give --k to choose another)`
+    : `K = ${report.k}, as given with --k`;
 }
 
-/** Columns of text, the first left-aligned and the rest right-aligned. */
-function alignColumns(rows: string[][], indent: string): string[] {
-  const widths = rows[0].map((_, j) => Math.max(...rows.map((row) => row[j].length)));
-  return rows.map((row) => indent + row.map((cell, j) => (j === 0 ? cell.padEnd(widths[j]) : cell.padStart(widths[j]))).join("   ").trimEnd());
+function yesNo(value: boolean): string {
+  return value ? "yes" : "no";
 }
 
 /** The readable report of `skein fit`. */
-export function formatFitTable(report: FitReport, source: { file: string; sheetName?: string }): string {
+export function formatFitTable(report: FitReport, source: { file: string; sheetName?: string; verbose?: boolean; out?: string }): string {
   const lines: string[] = [];
   const where = source.sheetName ? `${source.file}, sheet ${source.sheetName}` : source.file;
   const componentWord = report.k === 1 ? "1 component" : `${report.k} components`;
-  lines.push(`${report.response} regressed on ${report.predictors.join(", ")} (${componentWord}, ${report.intercept ? "with" : "without"} intercept)`);
+  lines.push(`${report.outcome} regressed on ${report.predictors.join(", ")} (${componentWord}, ${report.intercept ? "with" : "without"} intercept)`);
+  lines.push(kChoiceText(report));
   lines.push(`Data: ${where}; ${report.rowsUsed} rows used, ${report.rowsSkipped} skipped`);
   lines.push(`Log-likelihood ${formatNumber(report.logLikelihood)}; BIC ${formatNumber(report.bic)}; ICL ${formatNumber(report.icl)}`);
   if (report.k > 1) {
-    const start = report.warmStart;
     const refinement = report.refinement;
-    lines.push(`Warm start: ${start.converged ? "converged" : "NOT converged"} (${start.method}, ${start.startsTried} starts); refinement: ${refinement.converged ? "converged" : "NOT converged"} after ${refinement.iterations} iterations`);
+    lines.push(`Starts agree: ${yesNo(report.startsAgree)}. Converged: ${yesNo(report.converged)} (${refinement.iterations} iteration${refinement.iterations === 1 ? "" : "s"}).`);
+  } else if (!report.converged) {
+    lines.push(`Converged: no (${report.refinement.iterations} iterations).`);
   }
+  if (source.verbose) {
+    const start = report.warmStart;
+    lines.push(`Starts: best from ${start.method}, ${start.startsTried} tried${Number.isFinite(start.certificate) ? `; narrowest residual scale of the search ${formatNumber(start.certificate)} of the outcome's SD` : ""}.`);
+  }
+  if (report.exactFit) lines.push("Exact fit (noise about 0): every row lies on its component's regression, so the standard errors are 0.");
 
   report.components.forEach((component, c) => {
     lines.push("");
-    lines.push(`Component ${c + 1}: weight ${formatNumber(component.weight)}, noise SD ${formatNumber(component.sigma)}`);
+    const weightSe = report.stdErrors.weights[c];
+    const sigmaSe = report.stdErrors.sigmas[c];
+    const weight = Number.isFinite(weightSe) && report.k > 1 ? `${formatPlusMinus(100 * component.weight, 100 * weightSe)} %` : formatPercent(component.weight);
+    const noise = report.exactFit ? formatNoiseSd(component.sigma, true) : Number.isFinite(sigmaSe) ? formatPlusMinus(component.sigma, sigmaSe) : formatNumber(component.sigma);
+    lines.push(`Component ${c + 1}: weight ${weight}, noise SD ${noise}`);
     const table: string[][] = [["term", "coefficient", "standard error"]];
-    // A standard error that could not be computed reads "not available"; the warnings say why.
-    const error = (value: number) => (Number.isNaN(value) ? "not available" : formatNumber(value));
-    if (report.intercept) table.push(["intercept", formatNumber(component.coefficients[0]), error(component.stdErrors[0])]);
-    report.predictors.forEach((name, j) => {
-      table.push([name, formatNumber(component.coefficients[j + 1]), error(component.stdErrors[j + 1])]);
-    });
+    const term = (name: string, j: number) => {
+      const shown = formatWithError(component.coefficients[j], component.stdErrors[j]);
+      table.push([name, shown.value, shown.error]);
+    };
+    if (report.intercept) term("intercept", 0);
+    report.predictors.forEach((name, j) => term(name, j + 1));
     lines.push(...alignColumns(table, "  "));
   });
 
-  if (report.separation) {
+  if (report.separation && report.k > 1) {
+    const separation = report.separation;
     lines.push("");
-    lines.push(`Separation: smallest gap ${formatNumber(report.separation.minGap)} noise SDs; estimated misclassification ${formatNumber(report.separation.misclassification)}; normalised entropy ${formatNumber(report.separation.normalisedEntropy)}`);
-    const gaps = report.separation.pairs.map((pair) => `${pair.a + 1}-${pair.b + 1}: ${formatNumber(pair.gap)}`);
-    lines.push(`  gaps between components ${gaps.join(", ")}`);
+    const gap = report.exactFit ? "no overlap between components (noise about 0)" : `smallest gap ${formatGap(separation.minGap)} noise SDs`;
+    lines.push(`Checks: ${gap}; misassigned rows ${formatPercent(separation.misclassification)}; membership clarity ${formatNumber(separation.normalisedEntropy)}; smallest weight ${formatPercent(separation.smallestWeight)}`);
+    if (!report.exactFit && separation.pairs.length > 1) {
+      const gaps = separation.pairs.map((pair) => `${pair.a + 1} and ${pair.b + 1}: ${formatGap(pair.gap)}`);
+      lines.push(`  gap (noise SDs) of each pair of components: ${gaps.join("; ")}`);
+    }
   }
 
   if (report.warnings.length > 0) {
@@ -70,7 +76,7 @@ export function formatFitTable(report: FitReport, source: { file: string; sheetN
   }
 
   lines.push("");
-  if (report.backgroundWeight !== null) lines.push(`Background component: weight ${formatNumber(report.backgroundWeight)} (rows far from every regression)`);
+  if (report.backgroundWeight !== null) lines.push(`Background component: weight ${formatPercent(report.backgroundWeight)} (rows far from every regression)`);
   if (report.strayRows.length === 0) {
     lines.push(`Stray rows: none (${report.strayRowsRule}).`);
   } else {
@@ -86,5 +92,16 @@ export function formatFitTable(report: FitReport, source: { file: string; sheetN
     lines.push(report.rowsSkipped > shown.length ? `Skipped rows (first ${shown.length} of ${report.rowsSkipped}):` : "Skipped rows:");
     for (const s of shown) lines.push(`  data row ${s.row}: ${s.reason === "left out" ? "left out (--leave-out)" : `${s.reason} in ${s.column}`}`);
   }
+
+  lines.push("");
+  const first = report.labels.slice(0, ROWS_SHOWN);
+  const all = report.labels.length;
+  const more = source.out ? `; every row is in ${source.out}` : all > first.length ? "; --out FILE writes them all" : "";
+  lines.push(`Component of each row (data rows 1 to ${first.length} of ${all}${more}):`);
+  const rowTable: string[][] = [["data row", "component"]];
+  first.forEach((label, r) => rowTable.push([String(r + 1), label === null ? "skipped" : String(label)]));
+  lines.push(...alignColumns(rowTable, "  "));
   return lines.join("\n") + "\n";
 }
+
+export { formatColumn, formatNumber };

@@ -65,7 +65,7 @@ export async function loadDesign(source: DesignSource): Promise<LoadedDesign> {
   let x: number[];
   if (source.x !== undefined) {
     x = source.x.map((wanted) => withHeaderHint(table, () => chooseColumn(table, wanted)).position);
-    if (x.includes(y)) throw new SkeinError("bad-input", `${table.names[y]} is the response (--y); leave it out of --x.`);
+    if (x.includes(y)) throw new SkeinError("bad-input", `${table.names[y]} is the outcome (--y); leave it out of --x.`);
     const repeated = x.find((j, i) => x.indexOf(j) !== i);
     if (repeated !== undefined) throw new SkeinError("bad-input", `${table.names[repeated]} appears twice in --x; list each predictor once.`);
   } else {

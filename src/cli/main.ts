@@ -7,12 +7,15 @@ import { scanCommand } from "./scanCommand";
 export interface CommandIO {
   stdout: (s: string) => void;
   stderr: (s: string) => void;
+  /** stderr is a terminal: long scans show their progress there. */
+  progress?: boolean;
 }
 
 export const USAGE = `Usage: skein COMMAND [arguments]
 
-Skein finds hidden groups of rows in a table and fits one linear regression
-per group (a mixture of linear regressions).
+Skein finds the components of a table: groups of rows that each share one
+linear regression of the outcome on the predictors (a mixture of linear
+regressions). It is an Excel add-in; this is its command line.
 
 Commands:
   fit       fit the regressions to a .csv or .xlsx file
@@ -73,6 +76,7 @@ export function runAsProcess(): void {
   void main(process.argv.slice(2), {
     stdout: (s) => process.stdout.write(s),
     stderr: (s) => process.stderr.write(s),
+    progress: process.stderr.isTTY === true,
   }).then((status) => {
     // exitCode rather than process.exit(): lets piped output finish writing.
     process.exitCode = status;

@@ -6,7 +6,9 @@ import { findStrayRows } from "../engine/strayRows";
 import type { OptionName } from "../engine/options";
 import { FILE_OPTIONS_HELP, optionFlags, optionHelp, parseArgs, parseHeaderRow, parseList, parseRowList, readBackground, readGivenOption, readOption, type FlagKinds } from "./args";
 import { formatNotices } from "./formatNotices";
-import { formatNumber } from "./formatTable";
+import { alignColumns, formatColumn, formatGap } from "../report/formatNumber";
+import type { CommandIO } from "./main";
+import { scanProgress } from "./scanProgress";
 import { loadDesign, type ColumnReport } from "./loadDesign";
 
 /** The options of the table that skein scan takes. */
@@ -15,18 +17,21 @@ const SCAN_OPTIONS: readonly OptionName[] = ["kmax", "model", "seed", "restarts"
 export const SCAN_USAGE = `Usage: skein scan FILE --y COLUMN [--x COLUMN,COLUMN,...] --k-max N [options]
 
 Fits 1, 2, ..., N components to a .csv or .xlsx file whose first row names the
-columns, and compares them: log-likelihood, BIC, ICL, whether the fit
-converged, and how far apart the closest two components are (in noise SDs).
-It suggests a number of components and says why others were not suggested.
+columns, and compares them: BIC, ICL, log-likelihood, the smallest gap between
+two components (in noise SDs), whether the starts agree and whether the fit
+converged. It suggests a number of components and says why each other number
+is not suggested. A scan that runs longer than a second or two shows its
+progress on stderr (when stderr is a terminal).
 
-  --y COLUMN          the response column (required)
+  --y COLUMN          the outcome column (required)
   --x COLUMNS         predictor columns, separated by commas; default: every
                       other column of numbers or categories (dates and
                       identifier columns are left out, and the output says so)
 ${optionHelp(SCAN_OPTIONS, 22, { kmax: "required" })}
   --leave-out ROWS    data rows to leave out, separated by commas (counted from
                       1 below the header), e.g. stray rows
-  --cross-validate    also report a 5-fold cross-validated log-likelihood per row
+  --cross-validate    also report the held-out log-likelihood per row
+                      (5-fold cross-validation)
   --json              write one JSON object instead of a table
   --help              show this help
 ${FILE_OPTIONS_HELP}
@@ -51,13 +56,20 @@ export interface ScanReportRow {
   logLikelihood: number;
   bic: number;
   icl: number;
+  /** The two best starts reached the same components. */
+  startsAgree: boolean;
+  /** The refinement stopped by its tolerance. */
   converged: boolean;
-  /** Smallest gap between two components in noise SDs; null for K = 1 (no pair). */
+  /** Smallest gap between two components in noise SDs; null for K = 1 (no pair) or unlimited (noise 0). */
+  smallestGap: number | null;
+  /** The same as smallestGap (its older name). */
   minSeparation: number | null;
   /** Present with --cross-validate. */
   crossValidatedLogLikelihood?: number;
-  /** Why this K is not suggested, or null. */
+  /** Why this K cannot be suggested (did not converge, starts disagree, ...), or null. */
   flag: string | null;
+  /** For every K but the suggested one, why it is not suggested; null for the suggested K. */
+  note: string | null;
 }
 
 /** The --json output of skein scan. */
@@ -65,6 +77,9 @@ export interface ScanReport {
   chosenK: number;
   rule: string;
   n: number;
+  /** The outcome column's name. */
+  outcome: string;
+  /** The same as outcome (its older name). */
   response: string;
   predictors: string[];
   intercept: boolean;
@@ -82,7 +97,7 @@ export interface ScanReport {
 }
 
 /** `skein scan`: returns the exit status; SkeinErrors propagate to main, which reports them. */
-export async function scanCommand(argv: readonly string[], io: { stdout: (s: string) => void }): Promise<number> {
+export async function scanCommand(argv: readonly string[], io: CommandIO): Promise<number> {
   const parsed = parseArgs(argv, SCAN_FLAGS, "scan");
   const { positionals, values, switches } = parsed;
   if (switches.has("help") || switches.has("h")) {
@@ -91,7 +106,7 @@ export async function scanCommand(argv: readonly string[], io: { stdout: (s: str
   }
   if (positionals.length !== 1) throw new SkeinError("bad-input", `skein scan takes one data file, as in: skein scan data.csv --y COLUMN --k-max 5`);
   const y = values.get("y");
-  if (y === undefined) throw new SkeinError("bad-input", "skein scan needs the response column, as in --y COLUMN");
+  if (y === undefined) throw new SkeinError("bad-input", "skein scan needs the outcome column, as in --y COLUMN");
   const kMaxText = values.get("k-max");
   if (kMaxText === undefined) throw new SkeinError("bad-input", "skein scan needs the largest number of components, as in --k-max 5");
   const kMax = readOption(parsed, "kmax", "scan") as number;
@@ -108,7 +123,9 @@ export async function scanCommand(argv: readonly string[], io: { stdout: (s: str
     leaveOut: values.has("leave-out") ? parseRowList(values.get("leave-out") as string, "leave-out", "scan") : undefined,
   });
   const crossValidate = switches.has("cross-validate");
+  const progress = scanProgress(io);
   const scan = scanComponents(design, {
+    onProgress: progress.onProgress,
     kMax,
     seed: readOption(parsed, "seed", "scan") as number,
     intercept,
@@ -119,12 +136,14 @@ export async function scanCommand(argv: readonly string[], io: { stdout: (s: str
     crossValidate,
     background: readBackground(parsed, "scan"),
   });
+  progress.finish();
   const chosen = scan.rows.find((row) => row.k === scan.chosenK) ?? scan.rows[0];
   const stray = findStrayRows(design, chosen.fit);
   const report: ScanReport = {
     chosenK: scan.chosenK,
     rule: scan.rule,
     n: design.n,
+    outcome: design.yName,
     response: design.yName,
     predictors: design.predictorNames,
     intercept,
@@ -134,10 +153,13 @@ export async function scanCommand(argv: readonly string[], io: { stdout: (s: str
       logLikelihood: row.logLikelihood,
       bic: row.bic,
       icl: row.icl,
+      startsAgree: row.startsAgree,
       converged: row.converged,
+      smallestGap: Number.isFinite(row.minSeparation) ? row.minSeparation : null,
       minSeparation: Number.isFinite(row.minSeparation) ? row.minSeparation : null,
       ...(crossValidate || !Number.isNaN(row.crossValidatedLogLikelihood) ? { crossValidatedLogLikelihood: row.crossValidatedLogLikelihood } : {}),
       flag: row.flag,
+      note: row.note,
     })),
     columns,
     notices,
@@ -154,38 +176,44 @@ export async function scanCommand(argv: readonly string[], io: { stdout: (s: str
   return 0;
 }
 
-/** The readable table of skein scan. */
+/** The readable table of skein scan: one row per K, then why each other K is not suggested. */
 export function formatScanTable(report: ScanReport, where: string): string {
   const lines: string[] = [];
-  lines.push(`${report.response} regressed on ${report.predictors.join(", ")} (${report.model} model, ${report.intercept ? "with" : "without"} intercept); ${where}, ${report.n} rows`);
+  lines.push(`${report.outcome} regressed on ${report.predictors.join(", ")} (${report.model} model, ${report.intercept ? "with" : "without"} intercept); ${where}, ${report.n} rows`);
   lines.push("");
-  const hasCv = report.rows.some((row) => row.crossValidatedLogLikelihood !== undefined);
-  const header = ["K", "log-likelihood", "BIC", "ICL", ...(hasCv ? ["held-out LL/row"] : []), "converged", "closest pair (noise SDs)", ""];
+  const rows = report.rows;
+  const hasCv = rows.some((row) => row.crossValidatedLogLikelihood !== undefined);
+  const header = ["K", "BIC", "ICL", "log-likelihood", ...(hasCv ? ["held-out log-likelihood per row"] : []), "smallest gap (noise SDs)", "starts agree", "converged", ""];
+  const bic = formatColumn(rows.map((row) => row.bic));
+  const icl = formatColumn(rows.map((row) => row.icl));
+  const logLikelihood = formatColumn(rows.map((row) => row.logLikelihood));
+  const heldOut = formatColumn(rows.map((row) => row.crossValidatedLogLikelihood ?? NaN));
+  const gaps = rows.map((row) => (row.k === 1 ? "-" : row.smallestGap === null ? formatGap(Infinity) : formatGap(row.smallestGap)));
   const table: string[][] = [header];
-  for (const row of report.rows) {
+  rows.forEach((row, r) => {
     table.push([
       String(row.k),
-      formatNumber(row.logLikelihood),
-      formatNumber(row.bic),
-      formatNumber(row.icl),
-      ...(hasCv ? [row.crossValidatedLogLikelihood === undefined ? "" : formatNumber(row.crossValidatedLogLikelihood)] : []),
+      bic[r],
+      icl[r],
+      logLikelihood[r],
+      ...(hasCv ? [row.crossValidatedLogLikelihood === undefined ? "" : heldOut[r]] : []),
+      gaps[r],
+      row.startsAgree ? "yes" : "no",
       row.converged ? "yes" : "no",
-      row.minSeparation === null ? "-" : formatNumber(row.minSeparation),
-      row.k === report.chosenK ? "<- suggested" : row.flag !== null ? "flagged" : "",
+      row.k === report.chosenK ? "<- suggested" : "",
     ]);
-  }
-  const widths = header.map((_, j) => Math.max(...table.map((r) => r[j].length)));
-  for (const r of table) lines.push("  " + r.map((cell, j) => (j === r.length - 1 ? cell : cell.padStart(widths[j]))).join("   ").trimEnd());
+  });
+  lines.push(...alignColumns(table, "  "));
   lines.push("");
   if (report.stoppedEarly !== null) lines.push(report.stoppedEarly);
   lines.push(`Suggested: ${report.chosenK} component${report.chosenK === 1 ? "" : "s"}. Rule: ${report.rule}`);
   if (report.strayRows.length > 0) {
     lines.push(`Stray rows at K = ${report.chosenK}: data row${report.strayRows.length === 1 ? "" : "s"} ${report.strayRows.map((r) => r.row).join(", ")} (${report.strayRowsRule}); --leave-out ${report.strayRows.map((r) => r.row).join(",")} sets them aside.`);
   }
-  const flagged = report.rows.filter((row) => row.flag !== null);
-  if (flagged.length > 0) {
+  const noted = rows.filter((row) => row.note !== null);
+  if (noted.length > 0) {
     lines.push("");
-    for (const row of flagged) lines.push(`K = ${row.k}: ${row.flag}`);
+    for (const row of noted) lines.push(`K = ${row.k}: ${row.note}`);
   }
   return lines.join("\n") + "\n";
 }

@@ -42,7 +42,7 @@ export function degenerateComponentReason(fit: MixtureFit, c: number): string | 
   const component = fit.components[c];
   const rows = component.weight * n;
   if (rows < q + DEGENERATE_ROWS_EXTRA) {
-    return `component ${c + 1} holds about ${formatShort(rows)} rows, fewer than its ${q} coefficients plus ${DEGENERATE_ROWS_EXTRA} need`;
+    return `component ${c + 1} holds about ${formatShort(rows)} rows, fewer than the ${q + DEGENERATE_ROWS_EXTRA} its ${q} coefficients need`;
   }
   if (fit.k > 1 && rows < SMALL_ROWS_PER_COEFFICIENT * q) {
     const others = fit.components.filter((_, j) => j !== c).map((o) => o.sigma).sort((a, b) => a - b);
@@ -113,25 +113,25 @@ function separationOf(data: RegressionData, fit: MixtureFit): SeparationReport {
   for (const pair of pairs) {
     if (pair.gap < OVERLAP_GAP) {
       warnings.push(
-        `Components ${pair.a + 1} and ${pair.b + 1} overlap: their regressions differ by only ${formatShort(pair.gap)} noise SDs on average (below ${OVERLAP_GAP}), so many rows could belong to either. Try fewer components, or add a predictor that tells the groups apart.`,
+        `Components ${pair.a + 1} and ${pair.b + 1} overlap: the gap between them is only ${formatShort(pair.gap)} noise SDs (below ${OVERLAP_GAP}), so many rows could belong to either. Try fewer components, or add a predictor that tells them apart.`,
       );
     }
   }
   if (k > 1 && misclassification > MISCLASSIFICATION_WARNING) {
     warnings.push(
-      `About ${Math.round(100 * misclassification)}% of rows are estimated to be in the wrong component (above ${100 * MISCLASSIFICATION_WARNING}%); treat row labels as uncertain and look at the membership probabilities instead.`,
+      `Misassigned rows are estimated at ${(100 * misclassification).toFixed(1)}% (above ${100 * MISCLASSIFICATION_WARNING}%): treat each row's component as uncertain and look at the memberships instead.`,
     );
   }
   for (let c = 0; c < k; c++) {
     const reason = degenerateComponentReason(fit, c);
     if (reason !== null) {
-      warnings.push(`Near-degenerate component: ${reason}. Try fewer components.`);
+      warnings.push(`Too few rows: ${reason}. Try fewer components.`);
       continue;
     }
     const rows = fit.components[c].weight * fit.n;
     if (k > 1 && rows < SMALL_ROWS_PER_COEFFICIENT * fit.q) {
       warnings.push(
-        `Component ${c + 1} is small: about ${formatShort(rows)} rows for ${fit.q} coefficients (fewer than ${SMALL_ROWS_PER_COEFFICIENT} per coefficient), so its coefficients are poorly determined. Add rows or use fewer components.`,
+        `Small component: component ${c + 1} holds about ${formatShort(rows)} rows for ${fit.q} coefficients (fewer than ${SMALL_ROWS_PER_COEFFICIENT} per coefficient), so its coefficients are poorly pinned down. Add rows or use fewer components.`,
       );
     }
   }

@@ -27,7 +27,7 @@ export function predictorModels(fit: MixtureFit): PredictorModel[] {
     const lower = new Float64Array(p * p);
     const logDeterminant = scaledCholeskyLower(component.xCovariance, p, lower, scratch, false);
     if (Number.isNaN(logDeterminant)) {
-      throw new SkeinError("numeric", `The x covariance of component ${k + 1} is not positive definite; refit, or remove a predictor that is constant within a group.`);
+      throw new SkeinError("numeric", `The predictors of component ${k + 1} do not vary independently within it (one is constant or a combination of others there); refit, or remove a predictor that is constant within a component.`);
     }
     return { mean: component.xMean, lower, logDeterminant };
   });

@@ -356,7 +356,7 @@ function checkPredictors(design: Design, intercept: boolean): void {
   let yConstant = true;
   for (let i = 1; i < n && yConstant; i++) yConstant = y[i] === y[0];
   if (yConstant) {
-    throw new SkeinError("bad-input", `The response ${design.yName} has the same value (${y[0]}) in every used row; there is nothing to fit. Check that the right column was chosen as y.`);
+    throw new SkeinError("bad-input", `The outcome ${design.yName} has the same value (${y[0]}) in every used row; there is nothing to fit. Check that the right column was chosen as y.`);
   }
   const largest = new Float64Array(p);
   const rowOfMin = new Int32Array(p);

@@ -128,7 +128,7 @@ export class HouseholderQR {
    */
   solve(y: Float64Array, rowWeights?: Float64Array): Float64Array {
     if (!this.isFullRank) {
-      throw new SkeinError("numeric", "The design is singular: a predictor is a combination of the others. Remove one of them.");
+      throw new SkeinError("numeric", "Predictors repeat information: one predictor is a combination of the others, so their coefficients cannot be told apart. Remove one of them.");
     }
     const { rows: n, columns: q, r, columnScale } = this;
     const b = new Float64Array(n);

@@ -57,7 +57,7 @@ export function leastSquares(x: Float64Array, n: number, q: number, y: Float64Ar
   }
   const qr = new HouseholderQR(x, n, q, rowWeights);
   if (!qr.isFullRank) {
-    throw new SkeinError("numeric", `The design is singular: column ${qr.firstDependentColumn + 1} is (nearly) a combination of the earlier columns. Remove a predictor that repeats information held by the others.`);
+    throw new SkeinError("numeric", `Predictors repeat information: column ${qr.firstDependentColumn + 1} of the fit is (nearly) a combination of the earlier ones, so their coefficients cannot be told apart. Remove a predictor that repeats information held by the others.`);
   }
   const coefficients = qr.solve(y, rowWeights);
   const residuals = new Float64Array(n);

@@ -1,6 +1,6 @@
 import type { MixtureFit, RegressionData } from "./mixtureTypes";
-import { computeMemberships } from "./computeMemberships";
-import { dataMatrix } from "./regressionMatrix";
+import { predictorLogDensity, predictorModels } from "./computeMemberships";
+import { LOG_TWO_PI, membershipsFromLogTerms } from "./logDensities";
 
 /**
  * The observed information matrix of a mixture of regressions at a fit's parameters, by
@@ -48,10 +48,18 @@ export interface ObservedInformation {
  */
 export function observedInformation(data: RegressionData, fit: MixtureFit): ObservedInformation {
   const k = fit.k;
-  const { matrix: design, q } = dataMatrix(data, fit.intercept);
+  const p = data.p;
+  const q = fit.intercept ? p + 1 : p;
   const n = data.n;
   const y = data.y;
-  const { memberships } = computeMemberships(fit, design, q, y, data.x, n);
+  const x = data.x;
+  // Memberships come from the E-step kernel in the same pass (no n x k array, no design copy:
+  // each row's design values go to a q-long scratch).
+  const models = fit.model === "joint" ? predictorModels(fit) : null;
+  const predictorScratch = new Float64Array(p);
+  const design = new Float64Array(q);
+  const logTerm = new Float64Array(k);
+  const residual = new Float64Array(k);
   const varianceOffset = k * q;
   const logitOffset = varianceOffset + k;
   const logits = k - 1;
@@ -59,6 +67,7 @@ export function observedInformation(data: RegressionData, fit: MixtureFit): Obse
   const weights = Float64Array.from(fit.components, (c) => c.weight);
   const variances = Float64Array.from(fit.components, (c) => c.sigma * c.sigma);
   const shift = fit.components[0].coefficients.length - q;
+  const constant = Float64Array.from(fit.components, (c) => Math.log(c.weight) - 0.5 * (LOG_TWO_PI + Math.log(c.sigma * c.sigma)));
   const coefficients = new Float64Array(k * q);
   fit.components.forEach((c, index) => coefficients.set(c.coefficients.subarray(shift, shift + q), index * q));
 
@@ -80,13 +89,21 @@ export function observedInformation(data: RegressionData, fit: MixtureFit): Obse
   const vectorWeight = new Float64Array(k * k + k * logits);
 
   for (let i = 0; i < n; i++) {
-    const row = i * q;
+    if (fit.intercept) design[0] = 1;
+    for (let j = 0; j < p; j++) design[q - p + j] = x[i * p + j];
     for (let c = 0; c < k; c++) {
       let fitted = 0;
-      for (let j = 0; j < q; j++) fitted += design[row + j] * coefficients[c * q + j];
+      for (let j = 0; j < q; j++) fitted += design[j] * coefficients[c * q + j];
       const r = y[i] - fitted;
+      residual[c] = r;
+      let value = constant[c] - (0.5 * r * r) / variances[c];
+      if (models) value += predictorLogDensity(models[c], x, i * p, p, predictorScratch);
+      logTerm[c] = value;
+    }
+    membershipsFromLogTerms(logTerm, 0, k, tau, 0);
+    for (let c = 0; c < k; c++) {
+      const r = residual[c];
       const v = variances[c];
-      tau[c] = memberships[i * k + c];
       alpha[c] = r / v;
       gamma[c] = (r * r / v - 1) / (2 * v);
       curvature[c] = r * r / (v * v * v) - 1 / (2 * v * v);
@@ -102,9 +119,9 @@ export function observedInformation(data: RegressionData, fit: MixtureFit): Obse
       if (w === 0) continue;
       const base = pair * q * q;
       for (let a = 0; a < q; a++) {
-        const wa = w * design[row + a];
+        const wa = w * design[a];
         const out = base + a * q;
-        for (let b = a; b < q; b++) grams[out + b] += wa * design[row + b];
+        for (let b = a; b < q; b++) grams[out + b] += wa * design[b];
       }
     }
     for (let c = 0; c < k; c++) {
@@ -124,7 +141,7 @@ export function observedInformation(data: RegressionData, fit: MixtureFit): Obse
       for (let l = 0; l < logits; l++) logitLogit[j * logits + l] -= (j === l ? tau[j] : 0) - tau[j] * tau[l];
     }
     for (let a = 0; a < q; a++) {
-      const xa = design[row + a];
+      const xa = design[a];
       for (let e = 0; e < k * k; e++) betaVariance[e * q + a] += vectorWeight[e] * xa;
       for (let e = 0; e < k * logits; e++) betaLogit[e * q + a] += vectorWeight[k * k + e] * xa;
     }

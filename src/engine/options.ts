@@ -42,6 +42,8 @@ export const DEFAULT_MAX_ITERATIONS = 500;
 export const MAX_ITERATIONS_CAP = 100000;
 /** The scan's largest K when none is given: enough for most data, and cheap. */
 export const DEFAULT_KMAX = 5;
+/** k's default as users read it: a K left out is the one the scan suggests. */
+export const K_FROM_SCAN = "the K the scan suggests";
 
 export const OPTIONS: readonly OptionSpec[] = [
   {
@@ -116,7 +118,8 @@ export const OPTIONS: readonly OptionSpec[] = [
     type: "whole number",
     low: 1,
     high: MAX_COMPONENTS,
-    default: 1,
+    // Left out, every surface uses the K the scan suggests (kmax DEFAULT_KMAX, or fewer when rows are few).
+    default: K_FROM_SCAN,
     accepts: `a whole number from 1 to ${MAX_COMPONENTS}`,
     meaning: "number of components",
   },

@@ -1,8 +1,9 @@
 import { SkeinError } from "./errors";
+import { DEFAULT_KMAX } from "./options";
 import { DISAGREEMENT_RELATIVE, fitMixture } from "./fitMixture";
 import { DEFAULT_SEED } from "./options";
 import { leastSquares } from "./leastSquares";
-import type { MixtureComponent, MixtureFit, MixtureOptions, RegressionData } from "./mixtureTypes";
+import type { MixtureComponent, MixtureFit, MixtureOptions, RegressionData, WarmStartReport } from "./mixtureTypes";
 import type { ScanOptions, ScanResult, ScanRow } from "./trustTypes";
 import { checkSeparation, degenerateComponentReason } from "./checkSeparation";
 import { computeMemberships } from "./computeMemberships";
@@ -14,7 +15,7 @@ import { gatherRows, selectRows } from "./rowSubset";
  * Suggestion rule, in words (the README repeats it):
  *
  *   A K is eligible when its refinement converged and its best starts agree, no component is
- *   near-degenerate (fewer rows than its coefficients + 2, or a noise SD under 1/20 of the
+ *   too small to be trusted (fewer rows than its coefficients + 2, or a noise SD under 1/20 of the
  *   others while holding few rows; see checkSeparation.ts) and every pair of components is at
  *   least MIN_SUGGESTED_GAP noise SDs apart. Among eligible K, take the smallest BIC; then
  *   step down to the smallest eligible K whose BIC is within BIC_TIE of that minimum.
@@ -38,6 +39,19 @@ import { gatherRows, selectRows } from "./rowSubset";
 export const BIC_TIE = 6;
 
 /**
+ * Starts disagree when the two best differ by more than 1% of the coefficient scale at nearly
+ * the same likelihood (fitMixture's own threshold): the K components are then not determined
+ * by the data. A warm-start certificate that did not shrink while the starts agree is not a
+ * reason on its own: on noisy data the narrowest residual scale stops at the noise level.
+ */
+export const STARTS_DISAGREE = DISAGREEMENT_RELATIVE;
+
+/** "Starts agree": the two best starts reached the same components (within STARTS_DISAGREE). */
+export function startsAgree(warmStart: Pick<WarmStartReport, "disagreement">): boolean {
+  return !(warmStart.disagreement > STARTS_DISAGREE);
+}
+
+/**
  * Below this many rows per coefficient per component the suggestion is also checked by
  * cross-validation (see scanComponents). Measured on generated problems (bench/scanAccuracy):
  * with 100 rows, 5 predictors and one true component, plain BIC picked 6 or 7 components in
@@ -45,6 +59,14 @@ export const BIC_TIE = 6;
  */
 export const SMALL_SAMPLE_ROWS_PER_COEFFICIENT = 20;
 export const MIN_SUGGESTED_GAP = 1;
+
+/**
+ * kmax when none is given: DEFAULT_KMAX, or fewer when the rows cannot hold that many
+ * components of `coefficients` coefficients with at least one spare row each.
+ */
+export function defaultKMax(rows: number, coefficients: number): number {
+  return Math.max(1, Math.min(DEFAULT_KMAX, Math.floor(rows / (coefficients + 1))));
+}
 
 /**
  * Folds of the cross-validated log-likelihood (Smyth 2000, Statistics and Computing 10, uses
@@ -135,39 +157,54 @@ export function scanComponents(data: RegressionData, options: ScanOptions): Scan
       }
     }
     if (better === undefined) break;
-    const reason = `most held-out rows are predicted better with K = ${better.k} (cross-validated log-likelihood per row ${formatShort(chosen.crossValidatedLogLikelihood)} against ${formatShort(better.crossValidatedLogLikelihood)}), so its extra components fit noise`;
+    const reason = `most rows left out of the fit are predicted better with K = ${better.k} (held-out log-likelihood per row ${formatShort(chosen.crossValidatedLogLikelihood)} against ${formatShort(better.crossValidatedLogLikelihood)}), so its extra components fit noise`;
     chosen.flag = chosen.flag === null ? `Not suggested: ${reason}.` : `${chosen.flag.slice(0, -1)}; ${reason}.`;
     chosenK = suggestK(rows);
   }
   const rule =
-    `Smallest BIC among K whose refinement converged and whose best starts agree, with no near-degenerate component and every pair of components at least ${MIN_SUGGESTED_GAP} noise SD apart; ` +
-    `the smallest such K within ${BIC_TIE} BIC units of that minimum. With fewer than ${SMALL_SAMPLE_ROWS_PER_COEFFICIENT} rows per coefficient per component, ` +
-    `a K must also predict most held-out rows (${CROSS_VALIDATION_FOLDS}-fold cross-validation) at least as well as every smaller K.`;
+    `Among the K whose fit converged, whose starts agree, whose components each hold enough rows, and whose components are all at least a gap of ${MIN_SUGGESTED_GAP} noise SD apart, ` +
+    `take the lowest BIC, then the smallest K within ${BIC_TIE} BIC of it. With fewer than ${SMALL_SAMPLE_ROWS_PER_COEFFICIENT} rows per coefficient per component, ` +
+    `a K must also predict most rows left out of the fit (${CROSS_VALIDATION_FOLDS}-fold cross-validation) at least as well as every smaller K.`;
+  for (const row of rows) row.note = noteFor(row, rows, chosenK);
   return { rows, chosenK, rule, stoppedEarly };
+}
+
+/**
+ * Why a K is not suggested, for every K but the suggested one: the reasons it could not be
+ * suggested (flag), or else how it lost on BIC to the suggested K. Null for the suggested K.
+ */
+function noteFor(row: ScanRow, rows: readonly ScanRow[], chosenK: number): string | null {
+  if (row.k === chosenK) return null;
+  if (row.flag !== null && row.k !== 1) return row.flag;
+  const chosen = rows[chosenK - 1];
+  const eligible = rows.filter((r) => r.flag === null || r.k === 1);
+  const best = Math.min(...eligible.map((r) => r.bic));
+  const bestK = eligible.find((r) => r.bic === best)?.k ?? chosenK;
+  const behind = row.bic - best;
+  if (behind > BIC_TIE) {
+    return `Not suggested: lost on BIC, ${formatShort(behind)} higher than that of K = ${bestK}.`;
+  }
+  if (row.k > chosenK) {
+    return `Not suggested: its BIC is not more than ${BIC_TIE} below that of K = ${chosen.k}, so the smaller K is preferred.`;
+  }
+  return row.flag;
 }
 
 function scanRow(data: RegressionData, fit: MixtureFit): ScanRow {
   const k = fit.k;
   // BIC and ICL are the fit's own (computed once, when the fit is assembled).
   const separation = checkSeparation(data, fit);
-  const converged = fit.warmStart.converged && fit.refinement.converged;
+  const agree = startsAgree(fit.warmStart);
   const reasons: string[] = [];
-  if (!fit.refinement.converged) reasons.push("the refinement did not converge");
-  // Starts disagree when the two best differ by more than the driver's threshold
-  // (DISAGREEMENT_RELATIVE: 1% of the coefficient scale) at nearly the same likelihood: the K
-  // components are then not determined by the data. A warm-start certificate that did not
-  // shrink while the starts agree is not a reason on its own: on noisy data the narrowest
-  // residual scale stops at the noise level.
-  if (fit.warmStart.disagreement > DISAGREEMENT_RELATIVE) {
-    reasons.push(`different starts reached nearly the same likelihood with components ${formatShort(100 * fit.warmStart.disagreement)}% of the coefficient scale apart`);
-  }
+  if (!fit.refinement.converged) reasons.push(`did not converge (stopped after ${fit.refinement.iterations} iterations)`);
+  if (!agree) reasons.push("starts disagree: different starts reached nearly the same log-likelihood with different components");
   for (let c = 0; c < k; c++) {
     const reason = degenerateComponentReason(fit, c);
-    if (reason !== null) reasons.push(`near-degenerate: ${reason}`);
+    if (reason !== null) reasons.push(`too few rows: ${reason}`);
   }
   if (k > 1 && separation.minGap < MIN_SUGGESTED_GAP) {
     const pair = separation.pairs.reduce((a, b) => (b.gap < a.gap ? b : a));
-    reasons.push(`components ${pair.a + 1} and ${pair.b + 1} are only ${Number(pair.gap.toPrecision(2))} noise SDs apart`);
+    reasons.push(`components too close: ${pair.a + 1} and ${pair.b + 1} are a gap of only ${Number(pair.gap.toPrecision(2))} noise SDs apart`);
   }
   return {
     k,
@@ -175,9 +212,11 @@ function scanRow(data: RegressionData, fit: MixtureFit): ScanRow {
     bic: fit.bic,
     icl: fit.icl,
     crossValidatedLogLikelihood: NaN,
-    converged,
+    startsAgree: agree,
+    converged: fit.refinement.converged,
     minSeparation: separation.minGap,
     flag: reasons.length > 0 ? `Not suggested: ${reasons.join("; ")}.` : null,
+    note: null,
     fit,
   };
 }
@@ -289,7 +328,8 @@ function medianDifference(a: Float64Array, b: Float64Array): number {
   return m % 2 === 1 ? d[(m - 1) / 2] : 0.5 * (d[m / 2 - 1] + d[m / 2]);
 }
 
+/** Three significant digits, or a whole number from 100 up (a BIC difference of 35 912, not 35 900). */
 function formatShort(value: number): string {
-  return Number(value.toPrecision(3)).toString();
+  return Math.abs(value) >= 100 ? Math.round(value).toString() : Number(value.toPrecision(3)).toString();
 }
 

@@ -8,6 +8,7 @@ import { alignToPrevious } from "./alignComponents";
 import { createRandom } from "./random";
 import { fitMixture } from "./fitMixture";
 import { selectRows } from "./rowSubset";
+import { isExactFit } from "./exactFit";
 
 export interface StandardErrorOptions {
   method?: "observed-information" | "bootstrap";
@@ -67,12 +68,30 @@ function emptyReport(fit: MixtureFit, method: StandardErrorReport["method"]): St
   };
 }
 
+/**
+ * An exact fit (every component's noise about 0, exactFit.ts) has no curvature to invert: its
+ * coefficients and noise SDs are known exactly given each component's rows, so their standard
+ * errors are 0. Its memberships are 0 or 1, so the weights are sample shares of known
+ * labels, with the binomial standard error sqrt(π(1 − π)/n).
+ */
+function exactFitErrors(fit: MixtureFit): StandardErrorReport & { warnings: string[] } {
+  const report = emptyReport(fit, "exact-fit");
+  for (let c = 0; c < fit.k; c++) {
+    report.coefficients[c].fill(0);
+    report.sigmas[c] = 0;
+    const weight = fit.components[c].weight;
+    report.weights[c] = fit.k === 1 ? 0 : Math.sqrt((weight * (1 - weight)) / fit.n);
+  }
+  return report;
+}
+
 function informationErrors(data: RegressionData, fit: MixtureFit): StandardErrorReport & { warnings: string[] } {
+  if (isExactFit(fit, data.y)) return exactFitErrors(fit);
   const report = emptyReport(fit, "observed-information");
   const exact = exactComponent(data, fit);
   if (exact !== null) {
     report.warnings.push(
-      `Standard errors are not available: component ${exact + 1} fits its rows exactly (noise SD ${Number(fit.components[exact].sigma.toPrecision(3))}, next to nothing beside the spread of y), so the data show no noise to measure uncertainty by. This happens when y is one of the predictors, a copy of one or an exact combination of them: check the columns chosen.`,
+      `Standard errors are not available: component ${exact + 1} fits its rows exactly (noise about 0) while the others do not, so the fit has no curvature to measure its uncertainty by. If that is not expected, check that the outcome is not one of the predictors, a copy of one or an exact combination of them.`,
     );
     return report;
   }
@@ -81,7 +100,7 @@ function informationErrors(data: RegressionData, fit: MixtureFit): StandardError
   const covariance = invertPositiveDefinite(info.matrix, size);
   if (covariance === null) {
     report.warnings.push(
-      "The observed information is not positive definite, so the fit is not at a clear maximum of the likelihood (it may not have converged, or two components may be the same). Standard errors are not available; refit with more iterations or fewer components, or use the bootstrap.",
+      "Standard errors are not available: the fit does not sit at a clear peak of the likelihood (it may not have converged, or two components may be the same). Try fewer components.",
     );
     return report;
   }
@@ -140,7 +159,7 @@ function exactComponent(data: RegressionData, fit: MixtureFit): number | null {
 function withReason(report: StandardErrorReport & { warnings: string[] }): StandardErrorReport & { warnings: string[] } {
   const missing = report.coefficients.some((errors) => errors.some(Number.isNaN)) || report.sigmas.some(Number.isNaN) || report.weights.some(Number.isNaN);
   if (missing && report.warnings.length === 0) {
-    report.warnings.push("Some standard errors could not be computed: the likelihood is flat in some direction at this fit (a component with too few rows, or two components that coincide). Use fewer components, or the bootstrap.");
+    report.warnings.push("Some standard errors could not be computed: the fit does not sit at a clear peak of the likelihood in every direction (a component with too few rows, or two components that coincide). Use fewer components.");
   }
   return report;
 }

@@ -30,12 +30,16 @@ export interface ScanRow {
   icl: number;
   /** Cross-validated log-likelihood per row, when asked for (NaN otherwise). */
   crossValidatedLogLikelihood: number;
-  /** Warm start and refinement both converged. */
+  /** The two best starts reached the same components (scanComponents' startsAgree). */
+  startsAgree: boolean;
+  /** The refinement stopped by its tolerance, not by running out of iterations. */
   converged: boolean;
   /** Smallest pairwise separation (noise units); Infinity when K = 1. */
   minSeparation: number;
-  /** Why this K may not be suggested (non-convergence, a near-degenerate component), or null. */
+  /** Why this K cannot be suggested (did not converge, starts disagree, too few rows, components too close), or null. */
   flag: string | null;
+  /** For every K but the suggested one, why it is not suggested (its flag, or how it lost on BIC); null for the suggested K. */
+  note: string | null;
   fit: MixtureFit;
 }
 
@@ -71,7 +75,8 @@ export interface SeparationReport {
 }
 
 export interface StandardErrorReport {
-  method: "observed-information" | "bootstrap";
+  /** "exact-fit": every component fits its rows exactly, so coefficient and noise SD errors are 0. */
+  method: "observed-information" | "bootstrap" | "exact-fit";
   /** Per component: one per coefficient (intercept slot first, 0 when there is none). */
   coefficients: Float64Array[];
   weights: Float64Array;

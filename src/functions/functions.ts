@@ -12,12 +12,12 @@ import { worksheetCall } from "./toWorksheetError";
 import { checkTable, componentTable, labelColumn, membershipTable, predictionTable, scanTable } from "./worksheetResults";
 
 /**
- * Fits k hidden groups, each with its own linear regression of y on x. Returns one row per component: component number, weight, noise SD, intercept, then one coefficient per predictor.
+ * Fits K components (a component is a group of rows sharing one linear regression of the outcome on the predictors). Returns one row per component: component number, weight (%), noise SD, intercept, then one coefficient per predictor.
  * @customfunction FIT
  * @helpurl https://localhost:3000/help.html#skein-fit
  * @param y The outcome: one column of numbers. Rows with a blank, text or logical cell in y or in a numeric x column are skipped.
  * @param x The predictors: one or more columns over the same rows as y, of numbers or of text categories such as regions or yes/no (each made into indicator columns).
- * @param [k] Number of components, a whole number from 1 to 50 (default 1).
+ * @param [k] Number of components (K), a whole number from 1 to 50. Left out: the K that SKEIN.SCAN suggests (kmax 5, or fewer when rows are few).
  * @param [settings] Text such as "seed=7; intercept=no; model=joint", or a two-column range of names and values.
  * @param invocation Supplied by Excel: the formula's cell, and cancellation when its inputs change.
  * @returns One row per component (a header row when settings say headers=yes).
@@ -32,12 +32,12 @@ export async function fit(y: any[][], x: any[][], k?: number, settings?: any[][]
 }
 
 /**
- * For each row of the data, the number of the component it most probably belongs to; "" for rows that were skipped. Lines up with the input rows.
+ * For each row of the data, its component: the one it most probably belongs to; "" for rows that were skipped. Lines up with the input rows.
  * @customfunction LABELS
  * @helpurl https://localhost:3000/help.html#skein-labels
  * @param y The outcome: one column of numbers. Rows with a blank, text or logical cell in y or in a numeric x column are skipped.
  * @param x The predictors: one or more columns over the same rows as y, of numbers or of text categories such as regions or yes/no (each made into indicator columns).
- * @param [k] Number of components, a whole number from 1 to 50 (default 1).
+ * @param [k] Number of components (K), a whole number from 1 to 50. Left out: the K that SKEIN.SCAN suggests (kmax 5, or fewer when rows are few).
  * @param [settings] Text such as "seed=7; intercept=no; model=joint", or a two-column range of names and values.
  * @param invocation Supplied by Excel: the formula's cell, and cancellation when its inputs change.
  * @returns One component number per input row.
@@ -52,12 +52,12 @@ export async function labels(y: any[][], x: any[][], k?: number, settings?: any[
 }
 
 /**
- * For each row of the data, the probability that it belongs to each component (one column per component, each row sums to 1); "" for rows that were skipped.
+ * For each row of the data, its membership in each component: the probability that it belongs there (one column per component; each row adds up to 1); "" for rows that were skipped.
  * @customfunction MEMBERSHIP
  * @helpurl https://localhost:3000/help.html#skein-membership
  * @param y The outcome: one column of numbers. Rows with a blank, text or logical cell in y or in a numeric x column are skipped.
  * @param x The predictors: one or more columns over the same rows as y, of numbers or of text categories such as regions or yes/no (each made into indicator columns).
- * @param [k] Number of components, a whole number from 1 to 50 (default 1).
+ * @param [k] Number of components (K), a whole number from 1 to 50. Left out: the K that SKEIN.SCAN suggests (kmax 5, or fewer when rows are few).
  * @param [settings] Text such as "seed=7; intercept=no; model=joint", or a two-column range of names and values.
  * @param invocation Supplied by Excel: the formula's cell, and cancellation when its inputs change.
  * @returns One row per input row, one column per component.
@@ -72,7 +72,7 @@ export async function membership(y: any[][], x: any[][], k?: number, settings?: 
 }
 
 /**
- * Fits 1 to kmax components and compares them, to help choose how many groups there are. One row per K: log-likelihood, BIC, ICL, smallest separation, converged, whether this K is suggested, and a note.
+ * Fits 1 to kmax components and compares them, to help choose how many there are. One row per K: BIC, ICL, log-likelihood, smallest gap (noise SDs), starts agree, converged, whether this K is suggested, and a note saying why any other K is not.
  * @customfunction SCAN
  * @helpurl https://localhost:3000/help.html#skein-scan
  * @param y The outcome: one column of numbers. Rows with a blank, text or logical cell in y or in a numeric x column are skipped.
@@ -92,12 +92,12 @@ export async function scan(y: any[][], x: any[][], kmax?: number, settings?: any
 }
 
 /**
- * How far to trust the fit: whether it converged, how well the components are separated, the estimated share of misclassified rows, the smallest weight, rows used and skipped, stray rows (rows no component explains), and warnings with what to try.
+ * How far to trust the fit: K, whether the starts agree and the fit converged, the smallest gap (noise SDs), misassigned rows (%), membership clarity, the smallest weight (%), rows used and skipped, stray rows (rows no component explains), and warnings with what to try.
  * @customfunction CHECK
  * @helpurl https://localhost:3000/help.html#skein-check
  * @param y The outcome: one column of numbers. Rows with a blank, text or logical cell in y or in a numeric x column are skipped.
  * @param x The predictors: one or more columns over the same rows as y, of numbers or of text categories such as regions or yes/no (each made into indicator columns).
- * @param [k] Number of components, a whole number from 1 to 50 (default 1).
+ * @param [k] Number of components (K), a whole number from 1 to 50. Left out: the K that SKEIN.SCAN suggests (kmax 5, or fewer when rows are few).
  * @param [settings] Text such as "seed=7; intercept=no; model=joint", or a two-column range of names and values.
  * @param invocation Supplied by Excel: the formula's cell, and cancellation when its inputs change.
  * @returns A two-column table of diagnostics and their values.
@@ -107,27 +107,27 @@ export async function scan(y: any[][], x: any[][], kmax?: number, settings?: any
 export async function check(y: any[][], x: any[][], k?: number, settings?: any[][], invocation?: CustomFunctions.CancelableInvocation): Promise<any[][]> {
   return worksheetCall(async () => {
     const answer = await sharedFit(y, x, k, settings, invocation);
-    return checkTable(answer.shared, answer.settings);
+    return checkTable(answer.shared, answer.settings, answer.kFromScan);
   });
 }
 
 /**
- * Predicts y for new rows of predictors: one column per component, then the weighted prediction (weighted by membership from x under model=joint, by the component weights otherwise).
+ * Predicts the outcome for new rows of predictors: one column per component, then the weighted prediction (weighted by where the new row lies under model=joint, by the component weights otherwise).
  * @customfunction PREDICT
  * @helpurl https://localhost:3000/help.html#skein-predict
- * @param y The outcome the model is fitted to: one column of numbers.
- * @param x The predictors the model is fitted to, over the same rows as y.
- * @param new_x The rows to predict for: the same predictor columns as x, in the same order (category columns take the same text values).
- * @param [k] Number of components, a whole number from 1 to 50 (default 1).
+ * @param y The outcome the components are fitted to: one column of numbers.
+ * @param x The predictors the components are fitted to, over the same rows as y.
+ * @param new_rows The rows to predict for: the same predictor columns as x, in the same order (category columns take the same text values).
+ * @param [k] Number of components (K), a whole number from 1 to 50. Left out: the K that SKEIN.SCAN suggests (kmax 5, or fewer when rows are few).
  * @param [settings] Text such as "seed=7; intercept=no; model=joint", or a two-column range of names and values.
  * @param invocation Supplied by Excel: the formula's cell, and cancellation when its inputs change.
- * @returns One row per row of new_x.
+ * @returns One row per row of new_rows.
  * @requiresAddress
  * @cancelable
  */
-export async function predict(y: any[][], x: any[][], new_x: any[][], k?: number, settings?: any[][], invocation?: CustomFunctions.CancelableInvocation): Promise<any[][]> {
+export async function predict(y: any[][], x: any[][], new_rows: any[][], k?: number, settings?: any[][], invocation?: CustomFunctions.CancelableInvocation): Promise<any[][]> {
   return worksheetCall(async () => {
     const answer = await sharedFit(y, x, k, settings, invocation);
-    return predictionTable(answer.shared, new_x, answer.settings);
+    return predictionTable(answer.shared, new_rows, answer.settings);
   });
 }

@@ -19,6 +19,7 @@ import type { StrayRowsReport } from "../engine/strayRows";
 import { engineService } from "../service/engineService";
 import { hashCells } from "../service/hashCells";
 import type { Lease } from "../service/resultCache";
+import { defaultKMax } from "../engine/scanComponents";
 import { rowsThroughLastData, type RowLayout } from "./spill";
 import { fitSettingsKey, parseSettings, type FunctionSettings } from "./settings";
 
@@ -43,6 +44,8 @@ export interface SharedScan {
 export interface Answer<T> {
   shared: T;
   settings: FunctionSettings;
+  /** True when k was left out and the scan's suggested K was used. */
+  kFromScan?: boolean;
 }
 
 /** What a call needs of Excel's invocation object (absent in direct calls and tests). */
@@ -89,7 +92,10 @@ function follow<T>(lease: Lease<T>, invocation: Invocation | undefined): Promise
 /** The shared fit for these arguments, computing it if no formula has yet. */
 export async function sharedFit(y: unknown, x: unknown, kArgument: unknown, settingsArgument: unknown, invocation?: Invocation): Promise<Answer<SharedFit>> {
   const settings = parseSettings(settingsArgument);
-  const k = readWholeNumber(kArgument, "k", 1, 1, MAX_COMPONENTS);
+  // k left out: the K the scan suggests (kmax DEFAULT_KMAX, or fewer when rows are few).
+  const given = readWholeNumber(kArgument, "k", 0, 1, MAX_COMPONENTS);
+  const kFromScan = given === 0;
+  const k = kFromScan ? (await sharedScan(y, x, undefined, settingsArgument, invocation)).shared.scan.chosenK : given;
   const lease = engineService.fit({
     version: `cells|${hashCells(y, x)}`,
     options: {
@@ -110,7 +116,7 @@ export async function sharedFit(y: unknown, x: unknown, kArgument: unknown, sett
       return { design, layout: layoutOf(design, y as unknown[][], x as unknown[][]) } as { design: Design; layout: RowLayout; separation?: SeparationReport; stray?: StrayRowsReport };
     },
   });
-  return { shared: await follow(lease, invocation), settings };
+  return { shared: await follow(lease, invocation), settings, kFromScan };
 }
 
 /** The shared K scan for these arguments. */

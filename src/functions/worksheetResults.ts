@@ -1,12 +1,16 @@
 /**
  * What each SKEIN function shows, built from a shared fit or scan: the column headers (the
- * trade's words, see NAMES.md) and the rows (spill.ts shapes them).
+ * words of docs/glossary.md) and the rows (spill.ts shapes them). Shares of rows (weights,
+ * misassigned rows) are percentages, as on every other surface.
  */
 import { checkSeparation } from "../engine/checkSeparation";
 import { encodeRow, levelOf, type PredictorColumn } from "../engine/categoryLevels";
 import { findStrayRows } from "../engine/strayRows";
 import { SkeinError } from "../engine/errors";
 import { engineService } from "../service/engineService";
+import { isExactFit } from "../engine/exactFit";
+import { startsAgree } from "../engine/scanComponents";
+import { formatNumber } from "../report/formatNumber";
 import type { FunctionSettings } from "./settings";
 import type { SharedFit, SharedScan } from "./sharedFit";
 import { cell, perInputRow, rowsThroughLastData, showsHeader, table, type Cell, type RowLayout } from "./spill";
@@ -16,10 +20,10 @@ const STRAY_ROWS_LISTED = 10;
 
 /** SKEIN.FIT: one row per component. The intercept column is "" when the fit has none. */
 export function componentTable({ design, fit }: SharedFit, settings: FunctionSettings): Cell[][] {
-  const header: Cell[] = ["component", "weight", "noise SD", "intercept", ...design.predictorNames];
+  const header: Cell[] = ["component", "weight (%)", "noise SD", "intercept", ...design.predictorNames];
   const rows = fit.components.map((component, c): Cell[] => {
     const coefficients = Array.from(component.coefficients, cell);
-    return [c + 1, cell(component.weight), cell(component.sigma), fit.intercept ? coefficients[0] : "", ...coefficients.slice(1)];
+    return [c + 1, percent(component.weight), cell(component.sigma), fit.intercept ? coefficients[0] : "", ...coefficients.slice(1)];
   });
   return table(header, rows, showsHeader(settings, design.hasHeaderRow));
 }
@@ -36,71 +40,84 @@ export function membershipTable({ design, fit, layout }: SharedFit, settings: Fu
   const rows = perInputRow(layout, k, (i, out) => {
     for (let c = 0; c < k; c++) out[c] = cell(fit.memberships[i * k + c]);
   });
-  const header = Array.from({ length: k }, (_, c): Cell => `component ${c + 1}`);
+  const header = Array.from({ length: k }, (_, c): Cell => `membership ${c + 1}`);
   return table(header, rows, showsHeader(settings, design.hasHeaderRow));
+}
+
+/** A share (0 to 1) as a percentage cell. */
+function percent(share: number): Cell {
+  return cell(100 * share);
 }
 
 /** SKEIN.SCAN: one row per K with the figures that choose it, the suggested K marked TRUE. */
 export function scanTable({ design, scan }: SharedScan, settings: FunctionSettings): Cell[][] {
-  const header: Cell[] = ["K", "log-likelihood", "BIC", "ICL", "smallest separation", "converged", "suggested", "note"];
+  const header: Cell[] = ["K", "BIC", "ICL", "log-likelihood", "smallest gap (noise SDs)", "starts agree", "converged", "suggested", "note"];
   const rows = scan.rows.map((row): Cell[] => [
     row.k,
-    cell(row.logLikelihood),
     cell(row.bic),
     cell(row.icl),
+    cell(row.logLikelihood),
     cell(row.minSeparation),
+    row.startsAgree,
     row.converged,
     row.k === scan.chosenK,
-    row.flag ?? "",
+    row.note ?? "",
   ]);
   // Why the scan stopped before kmax goes with the last K tried.
   if (scan.stoppedEarly && rows.length > 0) {
     const last = rows[rows.length - 1];
-    last[7] = last[7] === "" ? scan.stoppedEarly : `${last[7]} ${scan.stoppedEarly}`;
+    last[8] = last[8] === "" ? scan.stoppedEarly : `${last[8]} ${scan.stoppedEarly}`;
   }
   return table(header, rows, showsHeader(settings, design.hasHeaderRow));
 }
 
 /** SKEIN.CHECK: a two-column table of diagnostics, then one row per warning. */
-export function checkTable(shared: SharedFit, settings: FunctionSettings): Cell[][] {
+export function checkTable(shared: SharedFit, settings: FunctionSettings, kFromScan = false): Cell[][] {
   const { design, fit } = shared;
   shared.separation ??= checkSeparation({ y: design.y, x: design.x, n: design.n, p: design.p }, fit);
   const separation = shared.separation;
+  const exact = isExactFit(fit, design.y);
   const rows: Cell[][] = [
-    ["warm start converged", fit.warmStart.converged],
-    ["refinement converged", fit.refinement.converged],
+    ["components (K)", fit.k],
+    ["starts agree", startsAgree(fit.warmStart)],
+    ["converged", fit.refinement.converged],
     ["iterations", fit.refinement.iterations],
-    ["smallest separation", fit.k === 1 ? "one component" : cell(separation.minGap)],
-    ["estimated misclassification", cell(separation.misclassification)],
-    ["smallest weight", cell(separation.smallestWeight)],
+    ["smallest gap (noise SDs)", fit.k === 1 ? "one component" : exact ? "no overlap (noise about 0)" : cell(separation.minGap)],
+    ["misassigned rows (%)", percent(separation.misclassification)],
+    ["membership clarity", cell(separation.normalisedEntropy)],
+    ["smallest weight (%)", percent(separation.smallestWeight)],
     ["rows used", design.n],
     ["rows skipped", design.skipped.length],
   ];
+  if (exact) rows.push(["note", "exact fit (noise about 0)"]);
+  if (kFromScan) rows.push(["note", `K = ${fit.k}, the number the scan suggests (no k was given)`]);
   for (const notice of design.notices) rows.push(["note", notice]);
-  if (fit.background) rows.push(["background weight", cell(fit.background.weight)]);
+  if (fit.background) rows.push(["background weight (%)", percent(fit.background.weight)]);
   shared.stray ??= findStrayRows({ y: design.y, x: design.x, n: design.n, p: design.p }, fit);
   const stray = shared.stray;
   rows.push(["stray rows", stray.rows.length]);
   const firstRangeRow = design.hasHeaderRow ? 2 : 1;
   for (const s of stray.rows.slice(0, STRAY_ROWS_LISTED)) {
-    rows.push(["stray row", `row ${design.rowIndex[s.row] + firstRangeRow} of the ranges: ${Number(s.distance.toPrecision(3))} noise SDs from component ${s.nearest + 1}, the nearest`]);
+    rows.push(["stray row", `row ${design.rowIndex[s.row] + firstRangeRow} of the ranges: ${formatNumber(s.distance)} noise SDs from component ${s.nearest + 1}, the nearest`]);
   }
   if (stray.rows.length > STRAY_ROWS_LISTED) rows.push(["stray row", `and ${stray.rows.length - STRAY_ROWS_LISTED} more`]);
   if (stray.rows.length > 0) rows.push(["stray row rule", stray.rule]);
-  const warnings = [...new Set([...fit.warnings, ...separation.warnings])];
+  // The engine's advice names only what every surface has; here the settings can also allow more iterations.
+  const withSettings = (warning: string) => (/^Not converged:/.test(warning) ? `${warning.replace(/\.$/, "")}, or allow more iterations with the max_iterations setting.` : warning);
+  const warnings = [...new Set([...fit.warnings, ...separation.warnings])].map(withSettings);
   if (warnings.length === 0) rows.push(["warning", "none"]);
   for (const warning of warnings) rows.push(["warning", warning]);
   return table(["diagnostic", "value"], rows, showsHeader(settings, design.hasHeaderRow));
 }
 
 /**
- * SKEIN.PREDICT: per row of new_x, each component's prediction and the weighted prediction
- * (weights from x in the joint model, the mixing weights in the plain one). A new_x row with
+ * SKEIN.PREDICT: per row of new_rows, each component's prediction and the weighted prediction
+ * (weights from x in the joint model, the mixing weights in the plain one). A new_rows row with
  * any cell that is not a number (blank, text, logical, error) gets "". A first row that is all
  * text is a header row.
  */
-export async function predictionTable({ design, fit }: SharedFit, newX: unknown, settings: FunctionSettings): Promise<Cell[][]> {
-  const rows = readNewRows(newX, design.columns, design.p);
+export async function predictionTable({ design, fit }: SharedFit, newRowCells: unknown, settings: FunctionSettings): Promise<Cell[][]> {
+  const rows = readNewRows(newRowCells, design.columns, design.p);
   const k = fit.k;
   // Through the engine service: many new rows go to the engine worker like a large fit.
   const prediction = await engineService.predict(fit, rows.x, rows.n);
@@ -108,7 +125,7 @@ export async function predictionTable({ design, fit }: SharedFit, newX: unknown,
     for (let c = 0; c < k; c++) out[c] = cell(prediction.perComponent[i * k + c]);
     out[k] = cell(prediction.weighted[i]);
   });
-  const header: Cell[] = [...Array.from({ length: k }, (_, c): Cell => `component ${c + 1}`), "weighted"];
+  const header: Cell[] = [...Array.from({ length: k }, (_, c): Cell => `component ${c + 1} prediction`), "weighted prediction"];
   return table(header, output, showsHeader(settings, rows.hasHeaderRow));
 }
 
@@ -119,22 +136,22 @@ interface NewRows extends RowLayout {
 }
 
 /**
- * The usable rows of new_x, one cell per input column of x, encoded as x was (a category
+ * The usable rows of new_rows, one cell per input column of x, encoded as x was (a category
  * column's text becomes its indicators; a value the fit never saw is refused by name). The
  * rule for numbers is the data layer's: only finite numbers are used, and a row with anything
  * else is left out (its output row stays ""). The data layer's checks on predictors (constant
  * or duplicated columns) do not apply: one row to predict for is fine. A first row that is all
  * text is a header row unless each of its cells is a known value of a category column.
  */
-function readNewRows(newX: unknown, columns: readonly PredictorColumn[], p: number): NewRows {
-  if (!Array.isArray(newX) || newX.length === 0 || !newX.every(Array.isArray)) {
-    throw new SkeinError("bad-input", "new_x must be a range of rows of predictors to predict for; it is empty or not a range.");
+function readNewRows(newRowCells: unknown, columns: readonly PredictorColumn[], p: number): NewRows {
+  if (!Array.isArray(newRowCells) || newRowCells.length === 0 || !newRowCells.every(Array.isArray)) {
+    throw new SkeinError("bad-input", "new_rows must be a range of rows of predictors to predict for; it is empty or not a range.");
   }
-  const cells = newX as unknown[][];
+  const cells = newRowCells as unknown[][];
   const width = columns.length;
   for (let r = 0; r < cells.length; r++) {
     if (cells[r].length !== width) {
-      throw new SkeinError("bad-input", `new_x has ${cells[r].length} column${cells[r].length === 1 ? "" : "s"} in row ${r + 1} but x has ${width}; give new_x the same predictor columns as x, in the same order.`);
+      throw new SkeinError("bad-input", `new_rows has ${cells[r].length} column${cells[r].length === 1 ? "" : "s"} in row ${r + 1} but x has ${width}; give new_rows the same predictor columns as x, in the same order.`);
     }
   }
   const hasHeaderRow =
@@ -146,7 +163,7 @@ function readNewRows(newX: unknown, columns: readonly PredictorColumn[], p: numb
   const rowIndex = new Int32Array(inputRows);
   let n = 0;
   for (let r = 0; r < inputRows; r++) {
-    if (encodeRow(columns, cells[r + first], x, n * p, `Row ${r + first + 1} of new_x`)) rowIndex[n++] = r;
+    if (encodeRow(columns, cells[r + first], x, n * p, `Row ${r + first + 1} of new_rows`)) rowIndex[n++] = r;
   }
   return { x: x.slice(0, n * p), n, shownRows: inputRows, rowIndex: rowIndex.slice(0, n), hasHeaderRow };
 }

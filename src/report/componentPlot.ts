@@ -1,3 +1,4 @@
+import { formatPercent } from "./formatNumber";
 /**
  * Turns a fitted mixture into a scatter-plot description: the response
  * against the predictor that matters most, each row drawn as its most
@@ -86,7 +87,7 @@ export function componentPlot(data: PlotData, fit: PlotFit, title: string): Scat
 
   const counts = new Array<number>(k).fill(0);
   for (let i = 0; i < n; i++) counts[fit.labels[i]]++;
-  const groupNames = fit.components.map((component, c) => `${c + 1}: weight ${component.weight.toFixed(2)}, ${counts[c]} rows`);
+  const groupNames = fit.components.map((component, c) => `${c + 1}: weight ${formatPercent(component.weight)}, ${counts[c]} rows`);
 
   const others = data.predictorNames.filter((_, j) => j !== m);
   const subtitle = [`${k} component${k === 1 ? "" : "s"}; each row drawn as its most probable component, each line a fitted component`];
@@ -97,7 +98,7 @@ export function componentPlot(data: PlotData, fit: PlotFit, title: string): Scat
     title,
     subtitle,
     xLabel: m >= 0 ? data.predictorNames[m] : "Row",
-    yLabel: others.length === 0 ? data.yName : `${data.yName} (adjusted)`,
+    yLabel: others.length === 0 ? data.yName : `${data.yName}, other predictors at their average`,
     x: px,
     y: py,
     group: fit.labels,

@@ -1,5 +1,8 @@
 import { element, section } from "../dom";
 import { formatNumber, formatShare, plural } from "../format";
+import { isExactFit } from "../../src/engine/exactFit";
+import { startsAgree } from "../../src/engine/scanComponents";
+import { formatGap } from "../../src/report/formatNumber";
 import { markerSwatch } from "../markers";
 import type { Pane } from "../pane";
 import type { PaneState } from "../paneState";
@@ -17,7 +20,7 @@ export const SKIPPED_SHARE_WARNING = 0.1;
 
 /** How a gap in noise units reads (the thresholds follow the separation check's OVERLAP_GAP = 2). */
 function gapReading(gap: number): string {
-  if (gap < 2) return "overlapping";
+  if (gap < 2) return "overlap";
   if (gap < 4) return "apart, with some shared rows";
   return "well apart";
 }
@@ -33,18 +36,18 @@ export function warningsFor(state: PaneState): Warning[] {
   const { fit, design, description } = state;
   const out: Warning[] = [];
   if (!fit || !design) return out;
-  if (!fit.warmStart.converged) {
+  if (!startsAgree(fit.warmStart)) {
     out.push({
       id: "warm-start",
-      title: "The starting search did not settle",
-      text: `The search for good starting values (${fit.warmStart.method}, ${fit.warmStart.startsTried} starts) did not converge, so this fit may be one of several that describe the data about equally well. Try: another seed (change Seed and run the scan again), more restarts (the restarts setting of the SKEIN formulas), rescaling predictors whose sizes differ by powers of ten, or fewer components.`,
+      title: "Starts disagree",
+      text: `Different starts reached nearly the same log-likelihood with different components, so this fit may be one of several that describe the data about equally well. Try another seed (change Seed and run the scan again), fewer components, or rescaling predictors whose sizes differ by powers of ten.`,
     });
   }
   if (!fit.refinement.converged) {
     out.push({
       id: "refinement",
-      title: "The fit stopped before it settled",
-      text: `The refinement stopped after ${fit.refinement.iterations} iterations with the log-likelihood still changing. Try another seed, fewer components, or rescaling the predictors.`,
+      title: "Not converged",
+      text: `The fit stopped after ${fit.refinement.iterations} iterations with the log-likelihood still changing. Try another seed (change Seed and run the scan again), fewer components, or rescaling the predictors.`,
     });
   }
   const skippedShare = design.skipped.length / design.inputRows;
@@ -56,14 +59,15 @@ export function warningsFor(state: PaneState): Warning[] {
     });
   }
   const seen = new Set<string>();
-  const engineWarnings = [...(description?.separation.warnings ?? []), ...fit.warnings];
+  // The engine's own not-converged and starts-disagree warnings are shown above, with the pane's controls.
+  const engineWarnings = [...(description?.separation.warnings ?? []), ...fit.warnings].filter((text) => !/^(Not converged|Starts disagree):/.test(text));
   for (const text of engineWarnings) {
     if (seen.has(text)) continue;
     seen.add(text);
     const lower = text.toLowerCase();
-    const title = lower.includes("overlap") || lower.includes("apart") || lower.includes("misclass")
+    const title = lower.includes("overlap") || lower.includes("apart") || lower.includes("misassigned")
       ? "Components overlap"
-      : lower.includes("degenerate") || lower.includes("is small") || lower.includes("smallest component") || lower.includes("few rows") || lower.includes("tiny")
+      : lower.includes("too few rows") || lower.includes("small component") || lower.includes("few rows") || lower.includes("tiny")
         ? "A component is very small"
         : "Note from the fit";
     out.push({ id: `engine-${seen.size}`, title, text });
@@ -138,7 +142,7 @@ export function mountChecksSection(parent: HTMLElement, pane: Pane): { update(st
         box.appendChild(element("p", {}, w.text));
         warnings.appendChild(box);
       }
-      const unsettled = !fit.warmStart.converged || !fit.refinement.converged;
+      const unsettled = !startsAgree(fit.warmStart) || !fit.refinement.converged;
       trySeed.hidden = !unsettled || state.scanning;
       trySeed.textContent = `Run the scan again with seed ${state.seed + 1}`;
 
@@ -148,19 +152,24 @@ export function mountChecksSection(parent: HTMLElement, pane: Pane): { update(st
         return;
       }
       const s = description.separation;
+      const exact = isExactFit(fit, state.design.y);
+      const smallestGap = fit.k === 1 ? "— (one component)" : exact ? "no overlap (noise about 0)" : formatGap(s.minGap);
       measures.innerHTML =
-        `<div><dt>Smallest gap between components</dt><dd>${fit.k === 1 ? "— (one component)" : `${formatNumber(s.minGap, 3)} noise SDs`}</dd></div>` +
-        `<div><dt>Estimated share of rows given the wrong component</dt><dd>${formatShare(s.misclassification)}</dd></div>` +
-        `<div><dt>Clarity of memberships (1 = every row clearly in one component)</dt><dd>${formatNumber(s.normalisedEntropy, 3)}</dd></div>` +
-        `<div><dt>Smallest weight</dt><dd>${formatNumber(s.smallestWeight, 3)}</dd></div>`;
+        (exact ? `<div><dt>Exact fit</dt><dd>exact fit (noise about 0): every row lies on its component's regression</dd></div>` : "") +
+        `<div><dt>Starts agree</dt><dd>${startsAgree(fit.warmStart) ? "yes" : "no"}</dd></div>` +
+        `<div><dt>Converged</dt><dd>${fit.refinement.converged ? "yes" : "no"} (${plural(fit.refinement.iterations, "iteration")})</dd></div>` +
+        `<div><dt>Smallest gap (noise SDs)</dt><dd>${smallestGap}</dd></div>` +
+        `<div><dt>Misassigned rows (estimated share given the wrong component)</dt><dd>${formatShare(s.misclassification)}</dd></div>` +
+        `<div><dt>Membership clarity (1 = every row clearly in one component)</dt><dd>${formatNumber(s.normalisedEntropy)}</dd></div>` +
+        `<div><dt>Smallest weight</dt><dd>${formatShare(s.smallestWeight)}</dd></div>`;
       if (s.pairs.length === 0) {
         tableWrap.innerHTML = "";
         return;
       }
       const rows = s.pairs
-        .map((pair) => `<tr><th scope="row">${markerSwatch(pair.a)} ${pair.a + 1} and ${markerSwatch(pair.b)} ${pair.b + 1}</th><td>${formatNumber(pair.gap, 3)}</td><td>${gapReading(pair.gap)}</td></tr>`)
+        .map((pair) => `<tr><th scope="row">${markerSwatch(pair.a)} ${pair.a + 1} and ${markerSwatch(pair.b)} ${pair.b + 1}</th><td>${exact ? "no overlap" : formatGap(pair.gap)}</td><td>${gapReading(pair.gap)}</td></tr>`)
         .join("");
-      tableWrap.innerHTML = `<p class="hint" id="separation-caption">Gap between each pair of components, in noise SDs (2 or less: overlapping)</p><table id="separation-table" class="numbers" aria-describedby="separation-caption"><thead><tr><th scope="col">Components</th><th scope="col">Gap</th><th scope="col">Reading</th></tr></thead><tbody>${rows}</tbody></table>`;
+      tableWrap.innerHTML = `<p class="hint" id="separation-caption">Gap (noise SDs) between each pair of components; under 2, they overlap</p><table id="separation-table" class="numbers" aria-describedby="separation-caption"><thead><tr><th scope="col">Components</th><th scope="col">Gap (noise SDs)</th><th scope="col">Reading</th></tr></thead><tbody>${rows}</tbody></table>`;
     },
   };
 }

@@ -1,5 +1,6 @@
 import { element, escapeHtml, section } from "../dom";
-import { formatNumber } from "../format";
+import { formatNumber, formatWithError } from "../format";
+import { exactComponents } from "../../src/engine/exactFit";
 import { markerSwatch } from "../markers";
 import type { Pane } from "../pane";
 import type { PaneState } from "../paneState";
@@ -8,10 +9,11 @@ import { defaultAxis, drawScatter, type ScatterAxis } from "../scatterPlot";
 export const USE_WITH_CARE =
   "Use with care: every number here is an estimate from the rows given. A component is a pattern in the numbers, not proof that a real group exists. Decisions about people need review by someone qualified and must follow local rules.";
 
-/** An estimate with its standard error in brackets, or the estimate alone when none is known. */
-function withError(value: number, error: number | undefined): string {
-  const shown = formatNumber(value);
-  return error === undefined || !Number.isFinite(error) ? shown : `${shown}<span class="se">(${formatNumber(error, 2)})</span>`;
+/** An estimate with its standard error in brackets (both rounded where the error says), or the estimate alone when none is known. */
+function withError(value: number, error: number | undefined, unit = ""): string {
+  if (error === undefined || !Number.isFinite(error)) return `${formatNumber(value)}${unit}`;
+  const shown = formatWithError(value, error);
+  return `${shown.value}${unit}<span class="se">(${shown.error})</span>`;
 }
 
 /**
@@ -28,7 +30,7 @@ export function mountComponentsSection(parent: HTMLElement, _pane: Pane): { upda
   const tableWrap = element("div", { class: "table-wrap" });
   const seNote = element("p", { class: "hint", id: "se-note" });
   const axisField = element("div", { class: "field small" });
-  axisField.appendChild(element("label", { for: "scatter-axis" }, "Plot the response against"));
+  axisField.appendChild(element("label", { for: "scatter-axis" }, "Plot the outcome against"));
   const axisSelect = element("select", { id: "scatter-axis" });
   axisField.appendChild(axisSelect);
   const plot = element("div", { id: "scatter", class: "chart" });
@@ -76,13 +78,17 @@ export function mountComponentsSection(parent: HTMLElement, _pane: Pane): { upda
       const header = fit.components.map((_, c) => `<th scope="col" class="component">${markerSwatch(c)} Component ${c + 1}</th>`).join("");
       const row = (name: string, cell: (c: number) => string, id: string) => `<tr data-row="${id}"><th scope="row">${escapeHtml(name)}</th>${fit.components.map((_, c) => `<td>${cell(c)}</td>`).join("")}</tr>`;
       let html = `<table id="components-table" class="numbers"><caption class="visually-hidden">Estimates per component, each with its standard error in brackets below it</caption><thead><tr><th scope="col">Estimate</th>${header}</tr></thead><tbody>`;
-      html += row("Weight", (c) => withError(fit.components[c].weight, errors?.weights[c]), "weight");
-      html += row("Noise SD", (c) => withError(fit.components[c].sigma, errors?.sigmas[c]), "sigma");
+      const exact = exactComponents(fit, design.y);
+      const weightError = (c: number) => (errors ? 100 * errors.weights[c] : undefined);
+      html += row("Weight", (c) => withError(100 * fit.components[c].weight, weightError(c), "%"), "weight");
+      html += row("Noise SD", (c) => (exact[c] ? "about 0 (exact fit)" : withError(fit.components[c].sigma, errors?.sigmas[c])), "sigma");
       for (let j = start; j < names.length; j++) html += row(names[j], (c) => withError(fit.components[c].coefficients[j], errors?.coefficients[c]?.[j]), `coefficient-${j}`);
       html += `</tbody></table>`;
       tableWrap.innerHTML = html;
       seNote.textContent = errors
-        ? `Standard errors in brackets under each estimate (${errors.method === "bootstrap" ? "bootstrap" : "from the observed information"}).`
+        ? errors.method === "exact-fit"
+          ? "Exact fit (noise about 0): every row lies on its component's regression, so the standard errors of the coefficients are 0."
+          : `Standard errors in brackets under each estimate (${errors.method === "bootstrap" ? "bootstrap" : "from the curvature of the likelihood"}).`
         : state.description?.errorsProblem
           ? `No standard errors: ${state.description.errorsProblem}`
           : state.description ? "" : "Working out standard errors…";

@@ -1,6 +1,8 @@
 import { drawBicChart } from "../bicChart";
 import { element, section } from "../dom";
-import { formatNumber } from "../format";
+import { formatColumn, formatNumber, plural } from "../format";
+import { CANNOT_BE_SUGGESTED_MARK } from "../bicChart";
+import { formatGap } from "../../src/report/formatNumber";
 import type { MixtureModel } from "../../src/engine/mixtureTypes";
 import { optionControl } from "../optionControls";
 import type { Pane } from "../pane";
@@ -14,7 +16,7 @@ import type { PaneState } from "../paneState";
 export function mountCountSection(parent: HTMLElement, pane: Pane): { update(state: PaneState): void } {
   const { root, body } = section("count", "How many components");
   parent.appendChild(root);
-  body.appendChild(element("p", { class: "hint" }, "Fit 1, 2, … components and compare them. Lower BIC and ICL are better; ICL also prefers components that are clearly apart."));
+  body.appendChild(element("p", { class: "hint" }, "Fit 1, 2, … components and compare them (a component is a group of rows sharing one regression). Lower BIC and ICL are better; ICL also prefers components that are clearly apart."));
   // The controls come from the engine's options table: same ranges and defaults as the SKEIN settings and the command line.
   const settings = element("div", { class: "inline settings" });
   const kMax = optionControl("kmax", "Most components to try");
@@ -72,7 +74,7 @@ export function mountCountSection(parent: HTMLElement, pane: Pane): { update(sta
         progress.value = state.progress.k;
         status.textContent = state.progress.k < state.progress.kMax ? `Fitting ${state.progress.k + 1} of ${state.progress.kMax} components…` : "Finishing…";
       } else if (state.scan && !state.scanning) {
-        status.textContent = `Scan done: ${state.scan.chosenK} suggested. Showing ${state.chosenK ?? state.scan.chosenK}.`;
+        status.textContent = `Scan done: K = ${state.scan.chosenK} suggested. Showing K = ${state.chosenK ?? state.scan.chosenK}.`;
       } else {
         status.textContent = "";
       }
@@ -99,7 +101,10 @@ export function mountCountSection(parent: HTMLElement, pane: Pane): { update(sta
 
       const table = element("table", { id: "scan-table", class: "numbers" });
       table.appendChild(element("caption", { class: "visually-hidden" }, "Scan results by number of components"));
-      table.innerHTML += `<thead><tr><th scope="col">Show</th><th scope="col">K</th><th scope="col">BIC</th><th scope="col">ICL</th><th scope="col">Log-likelihood</th><th scope="col">Smallest gap</th><th scope="col"><span class="visually-hidden">Note</span></th></tr></thead>`;
+      table.innerHTML += `<thead><tr><th scope="col">Show</th><th scope="col">K</th><th scope="col">BIC</th><th scope="col">ICL</th><th scope="col">Log-likelihood</th><th scope="col">Smallest gap (noise SDs)</th><th scope="col">Starts agree</th><th scope="col">Converged</th><th scope="col"><span class="visually-hidden">Note</span></th></tr></thead>`;
+      const bic = formatColumn(scan.rows.map((r) => r.bic));
+      const icl = formatColumn(scan.rows.map((r) => r.icl));
+      const logLikelihood = formatColumn(scan.rows.map((r) => r.logLikelihood));
       const tbody = element("tbody");
       for (const row of scan.rows) {
         const tr = element("tr", { class: row.k === state.chosenK ? "chosen" : "" });
@@ -110,11 +115,15 @@ export function mountCountSection(parent: HTMLElement, pane: Pane): { update(sta
         pick.appendChild(radio);
         tr.appendChild(pick);
         tr.appendChild(element("th", { scope: "row" }, String(row.k)));
-        tr.appendChild(element("td", {}, formatNumber(row.bic, 6)));
-        tr.appendChild(element("td", {}, formatNumber(row.icl, 6)));
-        tr.appendChild(element("td", {}, formatNumber(row.logLikelihood, 6)));
-        tr.appendChild(element("td", {}, row.k === 1 ? "—" : formatNumber(row.minSeparation, 3)));
-        const note = row.k === scan.chosenK ? "suggested" : row.flag || !row.converged ? "*" : "";
+        const r = row.k - 1;
+        tr.appendChild(element("td", {}, bic[r]));
+        tr.appendChild(element("td", {}, icl[r]));
+        tr.appendChild(element("td", {}, logLikelihood[r]));
+        tr.appendChild(element("td", {}, row.k === 1 ? "—" : formatGap(row.minSeparation)));
+        tr.appendChild(element("td", {}, row.startsAgree ? "yes" : "no"));
+        tr.appendChild(element("td", {}, row.converged ? "yes" : "no"));
+        // The same mark as the chart's: * on a K that cannot be suggested.
+        const note = row.k === scan.chosenK ? "suggested" : row.flag !== null ? CANNOT_BE_SUGGESTED_MARK : "";
         tr.appendChild(element("td", { class: "note-cell" }, note));
         tbody.appendChild(tr);
       }
@@ -122,11 +131,14 @@ export function mountCountSection(parent: HTMLElement, pane: Pane): { update(sta
       tableWrap.innerHTML = "";
       tableWrap.appendChild(table);
       notes.innerHTML = "";
-      // Why a K is not suggested: full sentences, below the table where they have room.
-      const flagged = scan.rows.filter((r) => r.k !== scan.chosenK && (r.flag || !r.converged));
-      if (flagged.length > 0) {
-        const list = element("ul", { id: "scan-flags", class: "compact hint", "aria-label": "Why some K are not suggested" });
-        for (const r of flagged) list.appendChild(element("li", {}, `* ${r.k} components, not suggested: ${(r.flag ?? "the fit did not converge.").replace(/^not suggested[:,]?\s*/i, "")}`));
+      // Why each other K is not suggested: full sentences, below the table where they have room.
+      const noted = scan.rows.filter((r) => r.note !== null);
+      if (noted.length > 0) {
+        const list = element("ul", { id: "scan-flags", class: "compact hint", "aria-label": "Why the other K are not suggested" });
+        for (const r of noted) {
+          const mark = r.flag !== null ? `${CANNOT_BE_SUGGESTED_MARK} ` : "";
+          list.appendChild(element("li", {}, `${mark}${plural(r.k, "component")}, not suggested: ${(r.note ?? "").replace(/^not suggested[:,]?\s*/i, "")}`));
+        }
         notes.appendChild(list);
       }
       // A scan that stopped before the largest K asked says where and why (too few rows, say).

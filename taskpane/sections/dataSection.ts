@@ -28,7 +28,7 @@ export function mountDataSection(parent: HTMLElement, pane: Pane): { body: HTMLE
     fields.appendChild(field);
     return input;
   };
-  const yInput = makeField("y", "Response range (y)", "One column; a name in its first row is found on its own.");
+  const yInput = makeField("y", "Outcome range (y)", "One column; a name in its first row is found on its own.");
   const xInput = makeField("x", "Predictor range (x)", "One or more side-by-side columns over the same rows as y: numbers, or text categories such as regions or yes/no.");
   body.appendChild(fields);
   const commit = () => void pane.setAddresses(yInput.value.trim(), xInput.value.trim());
@@ -58,7 +58,7 @@ export function mountDataSection(parent: HTMLElement, pane: Pane): { body: HTMLE
       leftOut.hidden = putBack.hidden = state.leftOut.length === 0;
       leftOut.textContent = state.leftOut.length === 0 ? "" : `Left out of the fit at your request: row${state.leftOut.length === 1 ? "" : "s"} ${state.leftOut.map((r) => firstSheetRow + r).join(", ")}.`;
       if (!design) {
-        summary.innerHTML = state.dataProblem ? "" : `<p class="hint">Choose the response and predictor ranges to begin.</p>`;
+        summary.innerHTML = state.dataProblem ? "" : `<p class="hint">Choose the outcome and predictor ranges to begin.</p>`;
         return;
       }
       summary.innerHTML = "";

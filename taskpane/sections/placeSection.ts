@@ -17,7 +17,7 @@ export function mountPlaceSection(parent: HTMLElement, pane: Pane): { update(sta
 
   const what = element("fieldset");
   what.appendChild(element("legend", {}, "What to place"));
-  const outputs: [Output, string][] = [["fit", "Components table (SKEIN.FIT)"], ["labels", "Component of each row (SKEIN.LABELS)"], ["membership", "Membership probabilities (SKEIN.MEMBERSHIP)"]];
+  const outputs: [Output, string][] = [["fit", "Components table (SKEIN.FIT)"], ["labels", "Component of each row (SKEIN.LABELS)"], ["membership", "Memberships of each row (SKEIN.MEMBERSHIP)"]];
   const boxes = new Map<Output, HTMLInputElement>();
   for (const [value, label] of outputs) {
     const id = `place-${value}`;

@@ -140,7 +140,8 @@ export async function checkWorksheetFunctions(browser: Browser, url: string, che
       check("functions: FIT matches skein fit --json", false, `${fitted.code} ${fitted.message}`);
     } else {
       const table = fitted.value.slice(1);
-      const fromCli = fitReport.components.flatMap((c: { weight: number; sigma: number; coefficients: number[] }) => [c.weight, c.sigma, ...c.coefficients]);
+      // FIT shows weights as percentages (the glossary's one style for shares).
+      const fromCli = fitReport.components.flatMap((c: { weight: number; sigma: number; coefficients: number[] }) => [100 * c.weight, c.sigma, ...c.coefficients]);
       const fromSheet = table.flatMap((row) => row.slice(1));
       const worst = largestDifference(fromSheet, fromCli);
       check("functions: FIT matches skein fit --json", table.length === K && worst <= AGREEMENT, `${table.length} components, largest relative difference ${worst.toExponential(1)}`);
@@ -169,10 +170,11 @@ export async function checkWorksheetFunctions(browser: Browser, url: string, che
     if (!scanned.ok) check("functions: SCAN matches skein scan --json", false, `${scanned.code} ${scanned.message}`);
     else {
       const fromSheet = scanned.value.slice(1).flatMap((row) => row.slice(1, 4));
-      const fromCli = scanReport.rows.flatMap((row: { logLikelihood: number; bic: number; icl: number }) => [row.logLikelihood, row.bic, row.icl]);
+      // SCAN's columns: K, BIC, ICL, log-likelihood, smallest gap, starts agree, converged, suggested, note.
+      const fromCli = scanReport.rows.flatMap((row: { logLikelihood: number; bic: number; icl: number }) => [row.bic, row.icl, row.logLikelihood]);
       const worst = largestDifference(fromSheet, fromCli);
-      const suggested = scanned.value.slice(1).findIndex((row) => row[6] === true) + 1;
-      check("functions: SCAN matches skein scan --json", worst <= AGREEMENT && suggested === scanReport.chosenK, `log-likelihood, BIC, ICL of K = 1..${K_MAX}: largest relative difference ${worst.toExponential(1)}; suggested ${suggested}, command line ${scanReport.chosenK}`);
+      const suggested = scanned.value.slice(1).findIndex((row) => row[7] === true) + 1;
+      check("functions: SCAN matches skein scan --json", worst <= AGREEMENT && suggested === scanReport.chosenK, `BIC, ICL, log-likelihood of K = 1..${K_MAX}: largest relative difference ${worst.toExponential(1)}; suggested ${suggested}, command line ${scanReport.chosenK}`);
     }
 
     // PREDICT: new rows as a range with a header row.

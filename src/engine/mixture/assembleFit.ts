@@ -86,36 +86,14 @@ export function assembleFit(
     }
     labels[i] = best;
   }
-  const components: MixtureComponent[] = [];
-  for (let j = 0; j < k; j++) {
-    const coefficients = new Float64Array(p + 1);
-    coefficients.set(params.coefficients.subarray(j * q, j * q + q), settings.intercept ? 0 : 1);
-    const component: MixtureComponent = {
-      weight: params.weights[j],
-      sigma: exactSigma !== undefined ? exactSigma : Math.sqrt(params.variances[j]),
-      coefficients,
-    };
-    if (params.xMeans && params.xCovariances) {
-      component.xMean = params.xMeans.slice(j * p, j * p + p);
-      component.xCovariance = params.xCovariances.slice(j * p * p, (j + 1) * p * p);
-    }
-    components.push(component);
-  }
-  // ν = K(q + 2) − 1: q coefficients and one variance per component, K − 1 free weights;
-  // the joint model adds a mean (p) and a covariance (p(p + 1)/2) per component.
-  let parameterCount = k * (q + 2) - 1;
-  if (settings.model === "joint") parameterCount += k * (p + (p * (p + 1)) / 2);
-  // The background adds its weight π₀; its flat density is fixed by the data's range.
-  if (ws.background) parameterCount += 1;
-  // BIC = −2 ln L + ν ln n (Schwarz 1978); ICL = BIC + 2 EN (Biernacki, Celeux & Govaert 2000).
-  const bic = -2 * logLikelihood + parameterCount * Math.log(n);
-  const icl = bic + 2 * entropy;
+  const components = reportedComponents(params, p, q, settings.intercept, exactSigma);
+  const { parameterCount, bic, icl } = informationCriteria(ws, settings, logLikelihood, entropy);
   const smallest = Math.min(...components.map((c) => c.weight));
   if (k > 1 && smallest * n < 2 * guards.minimumSize) {
-    warnings.push(`The smallest component holds only about ${Math.round(smallest * n)} rows for ${q} coefficients; its estimates are unreliable. Use fewer components or add rows.`);
+    warnings.push(`Small component: the smallest component holds only about ${Math.round(smallest * n)} rows for ${q} coefficients, so its estimates are unreliable. Use fewer components or add rows.`);
   }
   if (k > 1 && n < 5 * k * q) {
-    warnings.push(`There are only ${(n / (k * q)).toFixed(1)} rows per coefficient per component; mixtures of regressions need several times more to be found reliably. Add rows or use fewer components or predictors.`);
+    warnings.push(`There are only ${(n / (k * q)).toFixed(1)} rows per coefficient per component; components need several times more to be found reliably. Add rows or use fewer components or predictors.`);
   }
   return {
     k,
@@ -139,3 +117,38 @@ export function assembleFit(
   };
 }
 
+/** The components as reported: coefficients with the intercept slot first (0 without one), weight, noise SD, x model. */
+function reportedComponents(params: MixtureParameters, p: number, q: number, intercept: boolean, exactSigma?: number): MixtureComponent[] {
+  const components: MixtureComponent[] = [];
+  for (let j = 0; j < params.k; j++) {
+    const coefficients = new Float64Array(p + 1);
+    coefficients.set(params.coefficients.subarray(j * q, j * q + q), intercept ? 0 : 1);
+    const component: MixtureComponent = {
+      weight: params.weights[j],
+      sigma: exactSigma !== undefined ? exactSigma : Math.sqrt(params.variances[j]),
+      coefficients,
+    };
+    if (params.xMeans && params.xCovariances) {
+      component.xMean = params.xMeans.slice(j * p, j * p + p);
+      component.xCovariance = params.xCovariances.slice(j * p * p, (j + 1) * p * p);
+    }
+    components.push(component);
+  }
+  return components;
+}
+
+/**
+ * BIC and ICL, computed once here for every surface (the scan reads them off the fit).
+ * ν = K(q + 2) − 1: q coefficients and one variance per component, K − 1 free weights; the
+ * joint model adds a mean (p) and a covariance (p(p + 1)/2) per component; the background adds
+ * its weight π₀ (its flat density is fixed by the data's range). BIC = −2 ln L + ν ln n
+ * (Schwarz 1978); ICL = BIC + 2 EN with EN = −Σ τ ln τ (Biernacki, Celeux & Govaert 2000).
+ */
+function informationCriteria(ws: MixtureWorkspace, settings: Settings, logLikelihood: number, entropy: number): { parameterCount: number; bic: number; icl: number } {
+  const { n, p, q, k } = ws;
+  let parameterCount = k * (q + 2) - 1;
+  if (settings.model === "joint") parameterCount += k * (p + (p * (p + 1)) / 2);
+  if (ws.background) parameterCount += 1;
+  const bic = -2 * logLikelihood + parameterCount * Math.log(n);
+  return { parameterCount, bic, icl: bic + 2 * entropy };
+}

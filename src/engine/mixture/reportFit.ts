@@ -54,13 +54,13 @@ export function reportFit(ctx: FitContext, outcome: PipelineOutcome): MixtureFit
   };
   const warnings: string[] = [];
   if (!run.converged) {
-    warnings.push(`The fit stopped after ${run.iterations} iterations before the log-likelihood settled. Raise max_iterations or loosen tolerance, and check that the components are well separated.`);
+    warnings.push(`Not converged: the fit stopped after ${run.iterations} iteration${run.iterations === 1 ? "" : "s"} while the log-likelihood was still changing, so it may not be at its best. Try fewer components or another seed.`);
   }
   if (startsDisagree) {
-    warnings.push(`Different starts reached nearly the same log-likelihood with different components (they differ by ${(100 * incumbent.disagreement).toFixed(1)}% of the coefficient scale), so these components are not well determined. Try more restarts, another seed, fewer components, or more rows.`);
+    warnings.push(`Starts disagree: different starts reached nearly the same log-likelihood with different components, so the data do not pin these ${k} components down. Try fewer components, another seed, or more rows.`);
   }
   if (run.reseeds > 0) {
-    warnings.push(`A component collapsed onto too few rows ${run.reseeds} time(s) and was re-seeded. The data may hold fewer than ${k} groups: compare BIC across K.`);
+    warnings.push(`A component was left with too few rows ${run.reseeds} time(s) and was started again. The data may hold fewer than ${k} components: compare BIC across K.`);
   }
   let smallestVariance = Infinity;
   let largestVariance = 0;
@@ -69,7 +69,7 @@ export function reportFit(ctx: FitContext, outcome: PipelineOutcome): MixtureFit
     largestVariance = Math.max(largestVariance, params.variances[c]);
   }
   if (largestVariance > guards.varianceFloor * 1.000001 && smallestVariance <= guards.varianceRatioBound * largestVariance * 1.000001) {
-    warnings.push("The noise SDs of the components hit the bound on their ratio (one is over 1000 times another). A component may be fitting a few rows almost exactly: try fewer components.");
+    warnings.push("One component's noise SD is held at a thousandth of another's, the smallest Skein allows: that component may be fitting a few rows almost exactly. Try fewer components.");
   }
   return assembleFit(full, params, finished.logLikelihood, settings, warmStart, refinement, warnings, guards, undefined, finished.membershipsCurrent);
 }

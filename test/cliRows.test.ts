@@ -1,0 +1,107 @@
+import { afterAll, describe, expect, it } from "vitest";
+import { mkdtempSync, readFileSync, rmSync } from "node:fs";
+import { tmpdir } from "node:os";
+import { join } from "node:path";
+import ExcelJS from "exceljs";
+import { main } from "../src/cli/main";
+import { PROGRESS_AFTER_MS, scanProgress } from "../src/cli/scanProgress";
+
+const root = join(__dirname, "..");
+const SHOPS = join(root, "sample-workbooks", "shop-chain.csv");
+const out = mkdtempSync(join(tmpdir(), "skein-rows-"));
+afterAll(() => rmSync(out, { recursive: true, force: true }));
+
+async function run(...argv: string[]): Promise<{ status: number; stdout: string; stderr: string }> {
+  let stdout = "";
+  let stderr = "";
+  const status = await main(argv, { stdout: (s) => (stdout += s), stderr: (s) => (stderr += s) });
+  return { status, stdout, stderr };
+}
+
+describe("skein fit: every row's component", () => {
+  it("without --k fits the suggested K, says so, and shows the first rows' components", async () => {
+    const result = await run("fit", SHOPS, "--y", "Units sold", "--x", "Price,Promotion");
+    expect(result.status).toBe(0);
+    // The invented shop chain has two kinds of neighbourhood (sample-workbooks/truth.json).
+    expect(result.stdout).toMatch(/^K = 2, the number the scan of K = 1 to 5 suggests/m);
+    expect(result.stdout).toMatch(/Component of each row \(data rows 1 to 10 of 480; --out FILE writes them all\)/);
+    const rowLines = result.stdout.slice(result.stdout.indexOf("  data row   component")).trim().split("\n").slice(1);
+    expect(rowLines).toHaveLength(10);
+    for (const line of rowLines) expect(line).toMatch(/^\s+\d+\s+[12]$/);
+    // The start method is detail: only with --verbose.
+    expect(result.stdout).not.toMatch(/moment|random-partition|Starts: best from/);
+    expect((await run("fit", SHOPS, "--y", "Units sold", "--x", "Price,Promotion", "--k", "2", "--verbose")).stdout).toMatch(/Starts: best from \S+, \d+ tried/);
+  });
+
+  it("--out FILE.csv writes every row with its component, fitted value, residual and memberships", async () => {
+    const file = join(out, "shops.csv");
+    const json = JSON.parse((await run("fit", SHOPS, "--y", "Units sold", "--x", "Price,Promotion", "--k", "2", "--json", "--out", file)).stdout);
+    const lines = readFileSync(file, "utf8").trim().split("\n");
+    expect(lines[0]).toBe("Shop,Week,Units sold,Price,Promotion,component,fitted value,residual,membership 1,membership 2");
+    expect(lines).toHaveLength(481);
+    lines.slice(1).forEach((line, r) => {
+      const cells = line.split(",");
+      expect(Number(cells[5])).toBe(json.labels[r]);
+      // fitted + residual = the outcome; memberships add up to 1 (to the 10 digits written).
+      expect(Number(cells[6]) + Number(cells[7])).toBeCloseTo(Number(cells[2]), 6);
+      expect(Number(cells[8]) + Number(cells[9])).toBeCloseTo(1, 8);
+    });
+  });
+
+  it("--out FILE.xlsx writes the rows, and a Checks sheet with every warning the command printed", async () => {
+    const file = join(out, "shops.xlsx");
+    const result = await run("fit", SHOPS, "--y", "Units sold", "--x", "Price,Promotion", "--k", "2", "--out", file);
+    const json = JSON.parse((await run("fit", SHOPS, "--y", "Units sold", "--x", "Price,Promotion", "--k", "2", "--json")).stdout);
+    expect(json.warnings.length).toBeGreaterThan(0);
+    const workbook = new ExcelJS.Workbook();
+    await workbook.xlsx.readFile(file);
+    expect(workbook.getWorksheet("Rows")!.rowCount).toBe(481);
+    const checks = workbook.getWorksheet("Checks")!;
+    const warnings: string[] = [];
+    checks.eachRow((row) => {
+      if (row.getCell(1).value === "warning") warnings.push(String(row.getCell(2).value));
+    });
+    expect(warnings).toEqual(json.warnings);
+    for (const warning of json.warnings) expect(result.stdout).toContain(warning);
+    // Shares are numbers with a percentage format, not text.
+    const weight = workbook.getWorksheet("Components")!.getRow(2).getCell(2);
+    expect(typeof weight.value).toBe("number");
+    expect(weight.numFmt).toBe("0.0%");
+  });
+
+  it("refuses an --out file that is neither .csv nor .xlsx, before fitting", async () => {
+    const result = await run("fit", SHOPS, "--y", "Units sold", "--out", join(out, "rows.txt"));
+    expect(result.status).toBe(2);
+    expect(result.stderr).toMatch(/--out must name a \.csv or \.xlsx file/);
+  });
+});
+
+describe("scan progress on stderr", () => {
+  it("stays quiet for a quick scan and when stderr is not a terminal", () => {
+    let clock = 0;
+    const written: string[] = [];
+    const quiet = scanProgress({ stderr: (s) => written.push(s), progress: true }, () => clock);
+    clock = PROGRESS_AFTER_MS - 1;
+    quiet.onProgress(1, 3);
+    quiet.finish();
+    const piped = scanProgress({ stderr: (s) => written.push(s), progress: false }, () => clock);
+    clock += 10 * PROGRESS_AFTER_MS;
+    piped.onProgress(2, 3);
+    piped.finish();
+    expect(written).toEqual([]);
+  });
+
+  it("after about 1.5 s rewrites one line per K on a terminal, and ends it", () => {
+    let clock = 0;
+    const written: string[] = [];
+    const progress = scanProgress({ stderr: (s) => written.push(s), progress: true }, () => clock);
+    clock = 2000;
+    progress.onProgress(2, 5);
+    clock = 3100;
+    progress.onProgress(5, 5);
+    progress.finish();
+    expect(written[0]).toMatch(/^\rscan: K = 1 to 2 of 5 done in 2\.0 s, fitting K = 3/);
+    expect(written[1]).toMatch(/^\rscan: K = 1 to 5 of 5 done in 3\.1 s/);
+    expect(written[2]).toBe("\n");
+  });
+});
