@@ -44,7 +44,7 @@ describe("category predictors: detection, reference level, names", () => {
     expect(d.columns[0]).toMatchObject({ kind: "category", name: "Region", reference: "North", levels: ["South", "East"] });
     expect(d.columns[2]).toEqual({ kind: "number", name: "Price" });
     expect(d.notices[0]).toBe("Region holds text values: made into indicator columns for South, East, each measured against North (the most frequent value, 3 rows).");
-    expect(d.notices[1]).toContain("measured against yes");
+    expect(d.notices[1]).toBe("Member holds text values: made into an indicator column for no, measured against yes (the most frequent value, 4 rows).");
   });
 
   it("takes TRUE/FALSE as a two-level column", () => {

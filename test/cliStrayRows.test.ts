@@ -105,3 +105,25 @@ describe("messages about rows and K", () => {
     expect(result.stderr).toContain("at least 9");
   });
 });
+
+describe("a typo so large it hides the groups (y = 1.5e154)", () => {
+  it("skein scan names the row and, with --leave-out, finds the two groups", async () => {
+    // Invented: the same two groups as above, one y typed as 1.5e154.
+    const random = createRandom(5);
+    const lines = ["x,y"];
+    for (let i = 0; i < 300; i++) {
+      const x = 10 * random.next();
+      const noise = (random.next() + random.next() + random.next() - 1.5) * 0.8;
+      lines.push(`${x},${i === 41 ? 1.5e154 : i % 2 === 1 ? 2 + 3 * x + noise : 20 - x + noise}`);
+    }
+    const file = path.join(dir, "huge-typo.csv");
+    await fs.writeFile(file, lines.join("\n") + "\n");
+    const named = JSON.parse((await run("scan", file, "--y", "y", "--k-max", "3", "--json")).stdout);
+    expect(named.strayRows.map((s: { row: number }) => s.row)).toEqual([42]);
+    expect(named.rows.every((row: { logLikelihood: number }) => Number.isFinite(row.logLikelihood))).toBe(true);
+    const text = (await run("scan", file, "--y", "y", "--k-max", "3")).stdout;
+    expect(text).toContain("--leave-out 42 sets them aside");
+    const without = JSON.parse((await run("scan", file, "--y", "y", "--k-max", "3", "--leave-out", "42", "--json")).stdout);
+    expect(without.chosenK).toBe(2);
+  });
+});

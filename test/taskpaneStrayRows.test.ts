@@ -38,7 +38,7 @@ describe("the pane: category notes and stray rows", () => {
     await pane.setAddresses(`Data!A1:A${rows.length}`, `Data!B1:C${rows.length}`);
     await settle();
     expect(Array.from(document.querySelectorAll("#data-notes li")).map((li) => li.textContent)).toEqual([
-      "Region holds text values: made into indicator columns for North, each measured against South (the most frequent value, 200 rows).",
+      "Region holds text values: made into an indicator column for North, measured against South (the most frequent value, 200 rows).",
     ]);
     pane.setKMax(2);
     await pane.runScan();

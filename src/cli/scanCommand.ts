@@ -4,7 +4,7 @@ import type { MixtureModel } from "../engine/mixtureTypes";
 import { scanComponents } from "../engine/scanComponents";
 import { findStrayRows } from "../engine/strayRows";
 import type { OptionName } from "../engine/options";
-import { FILE_OPTIONS_HELP, optionFlags, optionHelp, parseArgs, parseHeaderRow, parseList, readBackground, readGivenOption, readOption, type FlagKinds } from "./args";
+import { FILE_OPTIONS_HELP, optionFlags, optionHelp, parseArgs, parseHeaderRow, parseList, parseRowList, readBackground, readGivenOption, readOption, type FlagKinds } from "./args";
 import { formatNotices } from "./formatNotices";
 import { alignColumns, formatColumn, formatGap } from "../report/formatNumber";
 import type { CommandIO } from "./main";
@@ -28,6 +28,8 @@ progress on stderr (when stderr is a terminal).
                       other column of numbers or categories (dates and
                       identifier columns are left out, and the output says so)
 ${optionHelp(SCAN_OPTIONS, 22, { kmax: "required" })}
+  --leave-out ROWS    data rows to leave out, separated by commas (counted from
+                      1 below the header), e.g. stray rows
   --cross-validate    also report the held-out log-likelihood per row
                       (5-fold cross-validation)
   --json              write one JSON object instead of a table
@@ -43,6 +45,7 @@ const SCAN_FLAGS: FlagKinds = {
   "header-row": "value",
   ...optionFlags(SCAN_OPTIONS),
   "cross-validate": "switch",
+  "leave-out": "value",
   json: "switch",
   help: "switch",
   h: "switch",
@@ -117,6 +120,7 @@ export async function scanCommand(argv: readonly string[], io: CommandIO): Promi
     y,
     x: xText === undefined ? undefined : parseList(xText, "x", "scan"),
     intercept,
+    leaveOut: values.has("leave-out") ? parseRowList(values.get("leave-out") as string, "leave-out", "scan") : undefined,
   });
   const crossValidate = switches.has("cross-validate");
   const progress = scanProgress(io);
@@ -204,7 +208,7 @@ export function formatScanTable(report: ScanReport, where: string): string {
   if (report.stoppedEarly !== null) lines.push(report.stoppedEarly);
   lines.push(`Suggested: ${report.chosenK} component${report.chosenK === 1 ? "" : "s"}. Rule: ${report.rule}`);
   if (report.strayRows.length > 0) {
-    lines.push(`Stray rows at K = ${report.chosenK}: data row${report.strayRows.length === 1 ? "" : "s"} ${report.strayRows.map((r) => r.row).join(", ")} (${report.strayRowsRule}); skein fit lists them and --leave-out sets them aside.`);
+    lines.push(`Stray rows at K = ${report.chosenK}: data row${report.strayRows.length === 1 ? "" : "s"} ${report.strayRows.map((r) => r.row).join(", ")} (${report.strayRowsRule}); --leave-out ${report.strayRows.map((r) => r.row).join(",")} sets them aside.`);
   }
   const noted = rows.filter((row) => row.note !== null);
   if (noted.length > 0) {

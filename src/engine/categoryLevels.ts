@@ -103,7 +103,8 @@ export function categoryNotice(column: Extract<PredictorColumn, { kind: "categor
     return `${column.name} holds text values: made into one indicator column per value (${indicators}), each the level's own intercept, since the fit has no intercept.`;
   }
   const rows = column.counts.find((c) => c.level === column.reference)?.rows ?? 0;
-  return `${column.name} holds text values: made into indicator columns for ${indicators}, each measured against ${column.reference} (the most frequent value, ${rows} row${rows === 1 ? "" : "s"}).`;
+  const made = column.levels.length === 1 ? `an indicator column for ${indicators}, measured` : `indicator columns for ${indicators}, each measured`;
+  return `${column.name} holds text values: made into ${made} against ${column.reference} (the most frequent value, ${rows} row${rows === 1 ? "" : "s"}).`;
 }
 
 /** Number of design columns the input columns become. */

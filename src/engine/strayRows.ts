@@ -34,7 +34,7 @@ export interface StrayRowsReport {
 
 /** The rule as a sentence, with its bound for n rows. */
 export function strayRowsRule(n: number): string {
-  return `a row is stray when it lies more than ${strayBound(n).toFixed(2)} noise SDs from every component (the Bonferroni bound for ${n} rows at level ${STRAY_ROWS_LEVEL})`;
+  return `a row is stray when it lies more than ${strayBound(n).toFixed(2)} noise SDs from every component, the Bonferroni bound for ${n} rows at level ${STRAY_ROWS_LEVEL}`;
 }
 
 /** z_n = Φ⁻¹(1 − α / (2n)). */
