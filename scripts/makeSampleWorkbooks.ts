@@ -12,6 +12,7 @@ import * as path from "path";
 import ExcelJS from "exceljs";
 import { markDynamicArrays } from "./markDynamicArrays";
 import { allScenarios, type Scenario } from "./sampleScenarios";
+import { INTERFACE_COLOURS, WORKBOOK_FILLS } from "../src/report/componentStyle";
 
 export const OUTPUT_DIRECTORY = path.resolve(__dirname, "..", "sample-workbooks");
 export const DATA_SHEET = "Data";
@@ -22,11 +23,15 @@ export const FORMULA_SEED = 7;
 /** Columns SKEIN.SCAN spills: K, BIC, ICL, log-likelihood, smallest gap, starts agree, converged, suggested, note. */
 const SCAN_COLUMNS = 9;
 
-/** Skein's own colours (shared with the icon): header fills and accents. */
-const TEAL = "FF1B7F79";
-const AMBER = "FFC7761A";
-const PLUM = "FF6B3FA0";
-const WHITE = "FFFFFFFF";
+/** Header fills and accents from the one style module (pane, plots and result workbooks use the same). */
+const HEADING = argbOf(INTERFACE_COLOURS.accentInk);
+const CAUTION = argbOf(INTERFACE_COLOURS.cautionInk);
+const SKEIN_HEADER = WORKBOOK_FILLS.result;
+const WHITE = WORKBOOK_FILLS.headerText;
+
+function argbOf(hex: string): string {
+  return `FF${hex.slice(1).toUpperCase()}`;
+}
 
 /** Column letters of a 1-based column number (1 → A, 27 → AA). */
 export function columnLetter(column: number): string {
@@ -59,7 +64,7 @@ function styleHeader(row: ExcelJS.Row, fill: string): void {
 function addDataSheet(workbook: ExcelJS.Workbook, scenario: Scenario): void {
   const sheet = workbook.addWorksheet(DATA_SHEET, { views: [{ state: "frozen", ySplit: 1 }] });
   for (const row of scenario.rows) sheet.addRow(row);
-  styleHeader(sheet.getRow(1), TEAL);
+  styleHeader(sheet.getRow(1), HEADING);
   scenario.rows[0].forEach((header, j) => {
     sheet.getColumn(j + 1).width = Math.max(10, String(header).length + 2);
   });
@@ -69,7 +74,7 @@ function addDataSheet(workbook: ExcelJS.Workbook, scenario: Scenario): void {
 function sectionTitle(sheet: ExcelJS.Worksheet, row: number, text: string): void {
   const cell = sheet.getCell(row, 1);
   cell.value = text;
-  cell.font = { bold: true, color: { argb: AMBER }, size: 12 };
+  cell.font = { bold: true, color: { argb: CAUTION }, size: 12 };
 }
 
 function note(sheet: ExcelJS.Worksheet, row: number, text: string, column = 1): void {
@@ -83,7 +88,7 @@ function headerCells(sheet: ExcelJS.Worksheet, row: number, column: number, labe
     const cell = sheet.getCell(row, column + j);
     cell.value = label;
     cell.font = { bold: true, color: { argb: WHITE } };
-    cell.fill = { type: "pattern", pattern: "solid", fgColor: { argb: PLUM } };
+    cell.fill = { type: "pattern", pattern: "solid", fgColor: { argb: SKEIN_HEADER } };
   });
 }
 
@@ -99,7 +104,7 @@ function addFormulaSheet(workbook: ExcelJS.Workbook, scenario: Scenario): void {
 
   const title = sheet.getCell(1, 1);
   title.value = `Skein formulas on the ${DATA_SHEET} sheet (${scenario.title})`;
-  title.font = { bold: true, size: 14, color: { argb: TEAL } };
+  title.font = { bold: true, size: 14, color: { argb: HEADING } };
   note(sheet, 2, "These cells hold Skein worksheet functions. Excel shows #NAME? until the Skein add-in is loaded; once it is, each formula spills its table below and to the right of its cell.");
   note(sheet, 3, "If #NAME? stays after the add-in has loaded, re-enter the formulas: select a formula cell, press F2 then Enter (or use Find and Replace on this sheet, replacing = with =).");
   note(sheet, 4, `Data: y = ${y} (${scenario.response}), x = ${x} (${scenario.predictors.join(", ")}); ${rows} rows. Settings ${settings}.`);
@@ -143,7 +148,7 @@ function addFormulaSheet(workbook: ExcelJS.Workbook, scenario: Scenario): void {
   const perRowColumn = Math.max(SCAN_COLUMNS, 4 + scenario.predictors.length, predictColumn + k) + 2;
   const perRowTitle = sheet.getCell(6, perRowColumn);
   perRowTitle.value = "Per data row (row 8 here is data row 2)";
-  perRowTitle.font = { bold: true, color: { argb: AMBER }, size: 12 };
+  perRowTitle.font = { bold: true, color: { argb: CAUTION }, size: 12 };
   headerCells(sheet, 7, perRowColumn, ["component", ...scenario.components.map((_, c) => `membership ${c + 1}`)]);
   put(8, perRowColumn, `SKEIN.LABELS(${y},${x},${k},${settings})`);
   put(8, perRowColumn + 1, `SKEIN.MEMBERSHIP(${y},${x},${k},${settings})`);
@@ -158,20 +163,20 @@ function addAboutSheet(workbook: ExcelJS.Workbook, scenario: Scenario): void {
   sheet.getColumn(2).width = 30;
   const title = sheet.getCell(1, 1);
   title.value = scenario.title;
-  title.font = { bold: true, size: 14, color: { argb: TEAL } };
+  title.font = { bold: true, size: 14, color: { argb: HEADING } };
   const warning = sheet.getCell(2, 1);
   warning.value = `INVENTED DATA: every number in this workbook was made up by scripts/makeSampleWorkbooks.ts (seed ${scenario.seed}) for Skein's demo; it describes no real ${scenario.name.replace("-", " ")}.`;
-  warning.font = { bold: true, color: { argb: AMBER } };
+  warning.font = { bold: true, color: { argb: CAUTION } };
   let row = 4;
   for (const line of scenario.story) sheet.getCell(row++, 1).value = line;
   row++;
   const heading = sheet.getCell(row++, 1);
   heading.value = "Hidden structure used to generate the data (what a good fit should find)";
-  heading.font = { bold: true, color: { argb: TEAL } };
+  heading.font = { bold: true, color: { argb: HEADING } };
   sheet.getCell(row++, 1).value = `${scenario.response} = intercept + one coefficient per predictor + noise with the component's noise SD; each row comes from one component.`;
   const header = sheet.getRow(row++);
   header.values = ["Component", "Name", "Weight", "Noise SD", "Intercept", ...scenario.predictors];
-  styleHeader(header, TEAL);
+  styleHeader(header, HEADING);
   scenario.components.forEach((component, c) => {
     sheet.getRow(row++).values = [c + 1, component.name, component.weight, component.noiseSD, component.intercept, ...component.coefficients];
   });
