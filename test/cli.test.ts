@@ -3,24 +3,13 @@ import { promises as fs } from "fs";
 import * as os from "os";
 import * as path from "path";
 import ExcelJS from "exceljs";
-import { main } from "../src/cli/main";
 import certifiedFile from "./fixtures/longley-certified.json";
+import { runCli, type CliRun as Run } from "./support/runCli";
 
 const LONGLEY = path.join(__dirname, "fixtures", "longley.csv");
 const LONGLEY_PREDICTORS = "GNPDEFL,GNP,UNEMP,ARMED,POP,YEAR";
 
-interface Run {
-  status: number;
-  stdout: string;
-  stderr: string;
-}
-
-async function run(...argv: string[]): Promise<Run> {
-  let stdout = "";
-  let stderr = "";
-  const status = await main(argv, { stdout: (s) => (stdout += s), stderr: (s) => (stderr += s) });
-  return { status, stdout, stderr };
-}
+const run = runCli;
 
 /** A user mistake: exit 2, nothing on stdout, exactly one line on stderr, no stack trace. */
 function expectOneLineError(result: Run, pattern: RegExp): void {

@@ -3,19 +3,14 @@ import { promises as fs } from "fs";
 import * as os from "os";
 import * as path from "path";
 import ExcelJS from "exceljs";
-import { main } from "../src/cli/main";
+import { runCli } from "./support/runCli";
 
 // Invented files of test/fixtures/reading (see its README) through the command line: what the
 // user reads about columns left out, converted, renamed, and the messages for files that fail.
 const fixture = (name: string) => path.join(__dirname, "fixtures", "reading", name);
 const TRIPS = fixture("trips.csv");
 
-async function run(...argv: string[]): Promise<{ status: number; stdout: string; stderr: string }> {
-  let stdout = "";
-  let stderr = "";
-  const status = await main(argv, { stdout: (s) => (stdout += s), stderr: (s) => (stderr += s) });
-  return { status, stdout, stderr };
-}
+const run = runCli;
 
 async function json(...argv: string[]) {
   const result = await run(...argv, "--json");

@@ -3,20 +3,15 @@ import { mkdtempSync, readFileSync, rmSync } from "node:fs";
 import { tmpdir } from "node:os";
 import { join } from "node:path";
 import ExcelJS from "exceljs";
-import { main } from "../src/cli/main";
 import { PROGRESS_AFTER_MS, scanProgress } from "../src/cli/scanProgress";
+import { runCli } from "./support/runCli";
 
 const root = join(__dirname, "..");
 const SHOPS = join(root, "sample-workbooks", "shop-chain.csv");
 const out = mkdtempSync(join(tmpdir(), "skein-rows-"));
 afterAll(() => rmSync(out, { recursive: true, force: true }));
 
-async function run(...argv: string[]): Promise<{ status: number; stdout: string; stderr: string }> {
-  let stdout = "";
-  let stderr = "";
-  const status = await main(argv, { stdout: (s) => (stdout += s), stderr: (s) => (stderr += s) });
-  return { status, stdout, stderr };
-}
+const run = runCli;
 
 describe("skein fit: every row's component", () => {
   it("without --k fits the suggested K, says so, and shows the first rows' components", async () => {

@@ -2,8 +2,8 @@ import { afterAll, describe, expect, it } from "vitest";
 import { mkdtempSync, rmSync, writeFileSync } from "node:fs";
 import { tmpdir } from "node:os";
 import { join } from "node:path";
-import { main } from "../src/cli/main";
 import { createRandom } from "../src/engine/random";
+import { runCli, type CliRun } from "./support/runCli";
 
 /** Invented demo data: two regressions far apart (intercepts 1 and −3, different slopes, noise SD 0.3). */
 function writeTwoGroupFile(dir: string): string {
@@ -21,11 +21,8 @@ function writeTwoGroupFile(dir: string): string {
   return file;
 }
 
-async function run(argv: string[]): Promise<{ status: number; stdout: string; stderr: string }> {
-  let stdout = "";
-  let stderr = "";
-  const status = await main(argv, { stdout: (s) => (stdout += s), stderr: (s) => (stderr += s) });
-  return { status, stdout, stderr };
+function run(argv: string[]): Promise<CliRun> {
+  return runCli(...argv);
 }
 
 describe("skein scan and skein predict", () => {

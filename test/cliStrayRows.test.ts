@@ -2,15 +2,10 @@ import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { promises as fs } from "fs";
 import * as os from "os";
 import * as path from "path";
-import { main } from "../src/cli/main";
 import { createRandom } from "../src/engine/random";
+import { runCli } from "./support/runCli";
 
-async function run(...argv: string[]): Promise<{ status: number; stdout: string; stderr: string }> {
-  let stdout = "";
-  let stderr = "";
-  const status = await main(argv, { stdout: (s) => (stdout += s), stderr: (s) => (stderr += s) });
-  return { status, stdout, stderr };
-}
+const run = runCli;
 
 let dir: string;
 let typoFile: string;

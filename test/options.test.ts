@@ -8,7 +8,6 @@ import { readFileSync } from "node:fs";
 import { join } from "node:path";
 import { describe, expect, it } from "vitest";
 import { FIT_USAGE } from "../src/cli/fitCommand";
-import { main } from "../src/cli/main";
 import { PREDICT_USAGE } from "../src/cli/predictCommand";
 import { SCAN_USAGE } from "../src/cli/scanCommand";
 import { defaultText, MAX_COMPONENTS, OPTIONS, optionSpec, type OptionName } from "../src/engine/options";
@@ -17,18 +16,14 @@ import { EngineService } from "../src/service/engineService";
 import { mountBrowserPane } from "../taskpane/mountPane";
 import { formulaFor } from "../taskpane/placement";
 import { inventedSheet } from "./support/taskpaneFixtures";
+import { runCli } from "./support/runCli";
 
 const ROOT = join(__dirname, "..");
 const SAMPLE = join(ROOT, "sample-workbooks", "delivery-fleet.csv");
 /** Settings are the options that are not the k / kmax argument. */
 const SETTINGS = OPTIONS.filter((spec) => spec.name !== "k" && spec.name !== "kmax");
 
-async function run(...argv: string[]): Promise<{ status: number; stdout: string; stderr: string }> {
-  let stdout = "";
-  let stderr = "";
-  const status = await main(argv, { stdout: (s) => (stdout += s), stderr: (s) => (stderr += s) });
-  return { status, stdout, stderr };
-}
+const run = runCli;
 
 const oneLine = (text: string) => text.replace(/\s+/g, " ");
 
