@@ -62,6 +62,29 @@ describe("skein fit: every row's component", () => {
     const weight = workbook.getWorksheet("Components")!.getRow(2).getCell(2);
     expect(typeof weight.value).toBe("number");
     expect(weight.numFmt).toBe("0.0%");
+    // Noise SD, coefficients and their standard errors carry a number format in the one number
+    // style (standard error to two significant digits, estimate to the same decimal place),
+    // not General, which would show a raw double's ten digits.
+    const components = workbook.getWorksheet("Components")!;
+    const names = (components.getRow(1).values as unknown[]).slice(1).map(String);
+    for (const name of ["noise SD", "intercept", "Price", "Promotion"]) {
+      const column = names.indexOf(name) + 1;
+      const errorColumn = names.indexOf(`standard error: ${name}`) + 1;
+      expect(column).toBeGreaterThan(0);
+      for (let r = 2; r <= 3; r++) {
+        const estimate = components.getRow(r).getCell(column);
+        expect(estimate.numFmt, `${name} row ${r}`).toMatch(/^0(\.0+)?$/);
+        const decimals = (estimate.numFmt.split(".")[1] ?? "").length;
+        if (errorColumn > 0) {
+          const error = components.getRow(r).getCell(errorColumn);
+          expect(error.numFmt).toBe(estimate.numFmt);
+          expect(decimals).toBe(Math.max(0, 1 - Math.floor(Math.log10(Number(error.value)))));
+        } else {
+          // No standard error: four significant digits.
+          expect(decimals).toBe(Math.max(0, 3 - Math.floor(Math.log10(Math.abs(Number(estimate.value))))));
+        }
+      }
+    }
   });
 
   it("refuses an --out file that is neither .csv nor .xlsx, before fitting", async () => {

@@ -5,6 +5,7 @@ import type { MixtureFit } from "../engine/mixtureTypes";
 import { startsAgree } from "../engine/scanComponents";
 import type { SeparationReport, StandardErrorReport } from "../engine/trustTypes";
 import { WORKBOOK_FILLS } from "../report/componentStyle";
+import { ERROR_DIGITS, decimalsFor } from "../report/formatNumber";
 
 /** Header colours from the shared style module: Skein's columns, the input's columns, the text on both. */
 const RESULT_FILL = WORKBOOK_FILLS.result;
@@ -15,6 +16,24 @@ const HEADER_TEXT = WORKBOOK_FILLS.headerText;
 const PERCENT_FORMAT = "0.0%";
 const NUMBER_FORMAT = "0.0000";
 const WHOLE_FORMAT = "0";
+
+/** A fixed-decimals number format ("0", "0.00"). */
+function decimalsFormat(decimals: number): string {
+  const d = Math.max(0, Math.min(12, decimals));
+  return d === 0 ? "0" : `0.${"0".repeat(d)}`;
+}
+
+/**
+ * The number format of an estimate and of its standard error, in the one number style: the
+ * standard error to two significant digits and the estimate to the same decimal place; with no
+ * standard error four significant digits; an exactly known value (standard error 0) as General,
+ * which drops the rounding noise past its last digit.
+ */
+function estimateFormat(value: number, standardError: number | null): string {
+  if (standardError === 0) return "General";
+  if (standardError !== null && Number.isFinite(standardError) && standardError > 0) return decimalsFormat(ERROR_DIGITS - 1 - Math.floor(Math.log10(standardError)));
+  return decimalsFormat(decimalsFor(value));
+}
 
 export interface ResultsWorkbookInput {
   /** The table as read: header row first, then the data rows in input order. */
@@ -131,7 +150,17 @@ export function resultsWorkbook(input: ResultsWorkbookInput): ExcelJS.Workbook {
       values.push(finite(se.weights[c]), finite(se.sigmas[c]));
       for (let j = offset; j < se.coefficients[c].length; j++) values.push(finite(se.coefficients[c][j]));
     }
-    summary.addRow(values);
+    const row = summary.addRow(values);
+    // Noise SD and coefficients (and their standard errors) rounded where their standard errors say.
+    for (let col = 3; col <= 3 + coefficientNames.length; col++) {
+      const value = values[col - 1];
+      if (typeof value !== "number") continue;
+      const errorCol = se ? col + 2 + coefficientNames.length : -1;
+      const error = se ? values[errorCol - 1] : null;
+      const format = exact[c] ? "General" : estimateFormat(value, typeof error === "number" ? error : null);
+      row.getCell(col).numFmt = format;
+      if (se && typeof error === "number") row.getCell(errorCol).numFmt = format;
+    }
   });
   summary.getColumn(1).numFmt = WHOLE_FORMAT;
   summary.getColumn(2).numFmt = PERCENT_FORMAT;
