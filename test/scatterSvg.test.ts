@@ -112,6 +112,19 @@ describe("scatterSvg in a narrow pane", () => {
     for (const [, size, text] of lines) expect(10 + text.length * 0.56 * Number(size)).toBeLessThanOrEqual(300);
   });
 
+  it("keeps a long y label within the plot's height, so it does not run into the subtitle above", () => {
+    const spec = threeGroups();
+    spec.yLabel = "Fuel used (L), other predictors at their average";
+    spec.subtitle = ["Outcome at the average Payload (t)", "Each row drawn as its most probable component"];
+    const svg = scatterSvg({ ...spec, width: 300, height: 390 });
+    const frame = /<rect x="([\d.]+)" y="([\d.]+)" width="([\d.]+)" height="([\d.]+)" fill="none"/.exec(svg)!;
+    const plotHeight = Number(frame[4]);
+    const labels = [...svg.matchAll(/<text class="y-label"[^>]*font-size="(\d+)"[^>]*>([^<]*)</g)];
+    expect(labels.length).toBeGreaterThan(0);
+    expect(labels.map((m) => m[2]).join(" ")).toBe(spec.yLabel);
+    for (const [, size, text] of labels) expect(text.length * 0.56 * Number(size)).toBeLessThanOrEqual(plotHeight);
+  });
+
   it("keeps the legend beside the plot at the demo's width", () => {
     const svg = scatterSvg(threeGroups());
     const legendXs = numbers(svg, /<text class="legend-entry" x="([\d.]+)"/g);

@@ -207,7 +207,13 @@ export function scatterSvg(spec: ScatterSpec): string {
   }
   out.push(`<rect x="${margin.left}" y="${margin.top}" width="${plotWidth}" height="${plotHeight}" fill="none" stroke="${NEUTRALS.frame}"/>`);
   out.push(`<text class="x-label" x="${px(margin.left + plotWidth / 2)}" y="${margin.top + plotHeight + 42}" text-anchor="middle" font-size="13">${escapeXml(spec.xLabel)}</text>`);
-  out.push(`<text class="y-label" transform="translate(18,${px(margin.top + plotHeight / 2)}) rotate(-90)" text-anchor="middle" font-size="13">${escapeXml(spec.yLabel)}</text>`);
+  // The y label wraps to the plot's height (two lines at most) so that it never runs into the subtitle above.
+  const yLabel = wrapLines(spec.yLabel, plotHeight, 13);
+  const yLabelLines = yLabel.length <= 2 ? yLabel : [yLabel[0], yLabel.slice(1).join(" ")];
+  yLabelLines.forEach((line, i) => {
+    const x = yLabelLines.length === 1 ? 18 : 14 + 14 * i;
+    out.push(`<text class="y-label" transform="translate(${x},${px(margin.top + plotHeight / 2)}) rotate(-90)" text-anchor="middle" font-size="13">${escapeXml(line)}</text>`);
+  });
   out.push("</g>");
 
   out.push(`<g class="lines">`);
