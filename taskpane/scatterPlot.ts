@@ -75,7 +75,7 @@ export function scatterSpec(design: Design, fit: MixtureFit, axis: ScatterAxis, 
   const others = design.predictorNames.filter((_, j) => j !== m);
   return {
     title: `${design.yName} against ${design.predictorNames[m]}`,
-    subtitle: others.length === 0 ? ["Each row drawn as its most probable component"] : [`Adjusted to the average ${others.length === 1 ? others[0] : "of the other predictors"}`, "Each row drawn as its most probable component"],
+    subtitle: others.length === 0 ? ["Each row drawn as its most probable component"] : [others.length === 1 ? `${others[0]} held at its average` : "Other predictors held at their average", "Each row drawn as its most probable component"],
     xLabel: design.predictorNames[m],
     yLabel: others.length === 0 ? design.yName : `${design.yName}, other predictors at their average`,
     x: px,

@@ -123,6 +123,7 @@ describe("the glossary's retired words stay out of what users read", () => {
     expect(retiredIn("smallest gap 2.5 noise SDs")).toEqual([]);
     expect(retiredIn("Warm start converged (moment-subspace)")).toEqual(expect.arrayContaining(["warm start converged", "moment-subspace"]));
     expect(retiredIn("Fuel used (adjusted)")).toEqual(["(adjusted)"]);
+    expect(retiredIn("Adjusted to the average Payload (t)")).toEqual(["adjusted to"]);
     expect(retiredIn("Label")).toEqual(["Label"]);
     // Not a retired word: code names, the function LABELS, a form field's <label>.
     expect(retiredIn('id="separation-table"; SKEIN.LABELS; element("label")')).toEqual([]);

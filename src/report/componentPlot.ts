@@ -92,7 +92,7 @@ export function componentPlot(data: PlotData, fit: PlotFit, title: string): Scat
   const others = data.predictorNames.filter((_, j) => j !== m);
   const subtitle = [`${k} component${k === 1 ? "" : "s"}; each row drawn as its most probable component, each line a fitted component`];
   if (others.length > 0) {
-    subtitle.push(`${data.yName} adjusted to the average ${others.length === 1 ? others[0] : "of the other predictors"} (each row keeps its residual)`);
+    subtitle.push(`${data.yName} with ${others.length === 1 ? `${others[0]} held at its average` : "the other predictors held at their average"} (each row keeps its residual)`);
   }
   return {
     title,
