@@ -14,7 +14,7 @@ const STRAY_SHOWN = 10;
 
 /**
  * A tenth of the rows skipped is enough to ask whether the skipped rows differ from
- * the used ones (a group that is mostly blanks would be missing from the fit).
+ * the used ones (a component that is mostly blanks would be missing from the fit).
  */
 export const SKIPPED_SHARE_WARNING = 0.1;
 
@@ -55,7 +55,7 @@ export function warningsFor(state: PaneState): Warning[] {
     out.push({
       id: "skipped",
       title: "Many rows were skipped",
-      text: `${design.skipped.length} of ${design.inputRows} rows (${formatShare(skippedShare)}) were left out for blanks, text or errors (see Data). If those rows differ from the others, a group may be missing from the fit; fill or fix those cells where you can.`,
+      text: `${design.skipped.length} of ${design.inputRows} rows (${formatShare(skippedShare)}) were left out for blanks, text or errors (see Data). If those rows differ from the others, a component may be missing from the fit; fill or fix those cells where you can.`,
     });
   }
   const seen = new Set<string>();
