@@ -393,7 +393,7 @@ describe("SKEIN.CHECK", () => {
     const result = await check(y, x, 2);
     expect(result.every((r) => r.length === 2)).toBe(true);
     expect(result.slice(0, 11).map((r) => r[0])).toEqual([
-      "diagnostic",
+      "check",
       "components (K)",
       "starts agree",
       "converged",

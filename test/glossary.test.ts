@@ -124,6 +124,7 @@ describe("the glossary's retired words stay out of what users read", () => {
     expect(retiredIn("Warm start converged (moment-subspace)")).toEqual(expect.arrayContaining(["warm start converged", "moment-subspace"]));
     expect(retiredIn("Fuel used (adjusted)")).toEqual(["(adjusted)"]);
     expect(retiredIn("Adjusted to the average Payload (t)")).toEqual(["adjusted to"]);
+    expect(retiredIn("A two-column table of diagnostics and their values.")).toEqual(["diagnostics"]);
     expect(retiredIn("Label")).toEqual(["Label"]);
     // Not a retired word: code names, the function LABELS, a form field's <label>.
     expect(retiredIn('id="separation-table"; SKEIN.LABELS; element("label")')).toEqual([]);

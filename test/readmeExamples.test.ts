@@ -123,7 +123,7 @@ describe("README worksheet-function examples on the delivery-fleet workbook", as
     for (const row of memberships) expect((row as number[]).reduce((a, b) => a + b, 0)).toBeCloseTo(1, 9);
   });
 
-  it("CHECK: a two-column table naming the diagnostics; PREDICT: three rows of four numbers", async () => {
+  it("CHECK: a two-column table naming the checks; PREDICT: three rows of four numbers", async () => {
     const table = await evaluate(byName("CHECK"), sheets);
     for (const row of table) expect(row).toHaveLength(2);
     const names = table.map((row) => String(row[0]).toLowerCase()).join(" | ");

@@ -100,7 +100,7 @@ export async function scan(y: any[][], x: any[][], kmax?: number, settings?: any
  * @param [k] Number of components (K), a whole number from 1 to 50. Left out: the K that SKEIN.SCAN suggests (kmax 5, or fewer when rows are few).
  * @param [settings] Text such as "seed=7; intercept=no; model=joint", or a two-column range of names and values.
  * @param invocation Supplied by Excel: the formula's cell, and cancellation when its inputs change.
- * @returns A two-column table of diagnostics and their values.
+ * @returns A two-column table of checks and their values.
  * @requiresAddress
  * @cancelable
  */

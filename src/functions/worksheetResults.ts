@@ -71,7 +71,7 @@ export function scanTable({ design, scan }: SharedScan, settings: FunctionSettin
   return table(header, rows, showsHeader(settings, design.hasHeaderRow));
 }
 
-/** SKEIN.CHECK: a two-column table of diagnostics, then one row per warning. */
+/** SKEIN.CHECK: a two-column table of checks, then one row per warning. */
 export function checkTable(shared: SharedFit, settings: FunctionSettings, kFromScan = false): Cell[][] {
   const { design, fit } = shared;
   shared.separation ??= checkSeparation({ y: design.y, x: design.x, n: design.n, p: design.p }, fit);
@@ -107,7 +107,7 @@ export function checkTable(shared: SharedFit, settings: FunctionSettings, kFromS
   const warnings = [...new Set([...fit.warnings, ...separation.warnings])].map(withSettings);
   if (warnings.length === 0) rows.push(["warning", "none"]);
   for (const warning of warnings) rows.push(["warning", warning]);
-  return table(["diagnostic", "value"], rows, showsHeader(settings, design.hasHeaderRow));
+  return table(["check", "value"], rows, showsHeader(settings, design.hasHeaderRow));
 }
 
 /**
