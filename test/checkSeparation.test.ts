@@ -1,5 +1,6 @@
 import { describe, expect, it } from "vitest";
 import { checkSeparation, OVERLAP_GAP } from "../src/engine/checkSeparation";
+import { formatNumber } from "../src/report/formatNumber";
 import type { MixtureComponent, MixtureFit, RegressionData } from "../src/engine/mixtureTypes";
 
 /** A hand-built fit (invented demo values) over the given memberships. */
@@ -56,6 +57,8 @@ describe("checkSeparation", () => {
     expect(report.minGap).toBeCloseTo(1, 12);
     expect(report.minGap).toBeLessThan(OVERLAP_GAP);
     expect(report.warnings.find((w) => /Components 1 and 2 overlap/.test(w))).toMatch(/fewer components/);
+    // The gap reads as in the checks beside it (four significant digits), not at a second precision.
+    expect(report.warnings.find((w) => /Components 1 and 2 overlap/.test(w))).toContain(`only ${formatNumber(report.minGap)} noise SDs`);
   });
 
   it("flags a component with too few rows: weight·n below q + 2 rows", () => {

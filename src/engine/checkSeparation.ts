@@ -2,6 +2,7 @@ import type { MixtureFit, RegressionData } from "./mixtureTypes";
 import type { SeparationPair, SeparationReport } from "./trustTypes";
 import { quadraticDifference, secondMoment } from "./secondMoment";
 import { mapFit, scaleData, scalesFor } from "./internalScaling";
+import { formatNumber } from "../report/formatNumber";
 
 /**
  * Thresholds of the separation check, and why.
@@ -113,7 +114,7 @@ function separationOf(data: RegressionData, fit: MixtureFit): SeparationReport {
   for (const pair of pairs) {
     if (pair.gap < OVERLAP_GAP) {
       warnings.push(
-        `Components ${pair.a + 1} and ${pair.b + 1} overlap: the gap between them is only ${formatShort(pair.gap)} noise SDs (below ${OVERLAP_GAP}), so many rows could belong to either. Try fewer components, or add a predictor that tells them apart.`,
+        `Components ${pair.a + 1} and ${pair.b + 1} overlap: the gap between them is only ${formatNumber(pair.gap)} noise SDs (below ${OVERLAP_GAP}), so many rows could belong to either. Try fewer components, or add a predictor that tells them apart.`,
       );
     }
   }
