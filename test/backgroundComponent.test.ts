@@ -27,6 +27,15 @@ describe("background component (uniform noise component, Banfield & Raftery 1993
   const typoRow = 137;
   const data = twoGroupsWithTypo(typoRow);
 
+  it("a one-component fit with it that stops early says so like any other fit, naming no control the host may lack", () => {
+    const fit = fitMixture(data, { k: 1, seed: 1, background: true, maxIterations: 1 });
+    expect(fit.refinement.converged).toBe(false);
+    const warning = fit.warnings.find((w) => /stopped after/.test(w));
+    // Hosts recognise "Not converged:" and add their own control (--max-iterations, the max_iterations setting).
+    expect(warning).toMatch(/^Not converged: the fit stopped after 1 iteration /);
+    expect(warning).not.toMatch(/max_iterations|tolerance/);
+  });
+
   it("without it, the one typed-in value takes a component (the failure it exists for)", () => {
     const fit = fitMixture(data, { k: 2, seed: 1 });
     const smallest = Math.min(...fit.components.map((c) => c.weight));

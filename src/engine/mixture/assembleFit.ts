@@ -24,7 +24,8 @@ export function fitSingleComponent(ws: MixtureWorkspace, settings: Settings, gua
     const run = runEm(ws, params, { guards, tolerance: settings.tolerance, random: createRandom(settings.seed) }, settings.maxIterations);
     const warmStart: WarmStartReport = { converged: true, method: "single-component", certificate: NaN, startsTried: 1, disagreement: 0 };
     const refinement: RefinementReport = { converged: run.converged, iterations: run.iterations, logLikelihoodPath: [run.logLikelihood], reseeds: run.reseeds };
-    const warnings = run.converged ? [] : [`The fit stopped after ${run.iterations} iterations before the log-likelihood settled. Raise max_iterations or loosen tolerance.`];
+    // Worded like the K > 1 warning (reportFit), naming no control: each host adds the control it has.
+    const warnings = run.converged ? [] : [`Not converged: the fit stopped after ${run.iterations} iteration${run.iterations === 1 ? "" : "s"} while the log-likelihood was still changing, so it may not be at its best. Try another seed.`];
     return assembleFit(ws, params, run.logLikelihood, settings, warmStart, refinement, warnings, guards, undefined, true);
   }
   ws.memberships.fill(1);
