@@ -124,6 +124,15 @@ describe("skein fit on NIST StRD Longley", () => {
 });
 
 describe("skein fit on small files", () => {
+  it("a one-component fit that stops after one iteration says '1 iteration' and no control the text does not offer", async () => {
+    const shops = path.join(__dirname, "..", "sample-workbooks", "shop-chain.csv");
+    const result = await run("fit", shops, "--y", "Units sold", "--x", "Price,Promotion", "--k", "1", "--background", "yes", "--max-iterations", "1");
+    expect(result.status).toBe(0);
+    expect(result.stdout).toContain("Converged: no (1 iteration).");
+    expect(result.stdout).toMatch(/Not converged: .*allow more iterations with --max-iterations\./);
+    expect(result.stdout).not.toMatch(/max_iterations|loosen tolerance/);
+  });
+
   it("skips rows with text and blanks, reporting 1-based data rows, and labels them null", async () => {
     // Invented demo data: y = 1 + 2x exactly on the used rows, plus one outlier so the noise SD is not 0.
     const file = await writeFile("gaps.csv", "name,x,y\na,1,3\nb,n/a,5\nc,3,7\nd,,9\ne,5,11\nf,6,14\n");

@@ -33,7 +33,7 @@ export function formatFitTable(report: FitReport, source: { file: string; sheetN
     const refinement = report.refinement;
     lines.push(`Starts agree: ${yesNo(report.startsAgree)}. Converged: ${yesNo(report.converged)} (${refinement.iterations} iteration${refinement.iterations === 1 ? "" : "s"}).`);
   } else if (!report.converged) {
-    lines.push(`Converged: no (${report.refinement.iterations} iterations).`);
+    lines.push(`Converged: no (${report.refinement.iterations} iteration${report.refinement.iterations === 1 ? "" : "s"}).`);
   }
   if (source.verbose) {
     const start = report.warmStart;
