@@ -43,21 +43,18 @@ export function degenerateComponentReason(fit: MixtureFit, c: number): string | 
   const component = fit.components[c];
   const rows = component.weight * n;
   if (rows < q + DEGENERATE_ROWS_EXTRA) {
-    return `component ${c + 1} holds about ${formatShort(rows)} rows, fewer than the ${q + DEGENERATE_ROWS_EXTRA} its ${q} coefficients need`;
+    return `component ${c + 1} holds about ${formatNumber(rows)} rows, fewer than the ${q + DEGENERATE_ROWS_EXTRA} its ${q} coefficients need`;
   }
   if (fit.k > 1 && rows < SMALL_ROWS_PER_COEFFICIENT * q) {
     const others = fit.components.filter((_, j) => j !== c).map((o) => o.sigma).sort((a, b) => a - b);
     const median = others.length % 2 === 1 ? others[(others.length - 1) / 2] : 0.5 * (others[others.length / 2 - 1] + others[others.length / 2]);
     if (median > 0 && component.sigma < NARROW_NOISE_RATIO * median) {
-      return `component ${c + 1} holds only about ${formatShort(rows)} rows and its noise SD is ${formatShort(component.sigma / median)} times that of the others: it may be fitting a few rows exactly`;
+      return `component ${c + 1} holds only about ${formatNumber(rows)} rows and its noise SD is ${formatNumber(component.sigma / median)} times that of the others: it may be fitting a few rows exactly`;
     }
   }
   return null;
 }
 
-function formatShort(value: number): string {
-  return Number(value.toPrecision(3)).toString();
-}
 
 /**
  * How well a fit's components are told apart.
@@ -132,7 +129,7 @@ function separationOf(data: RegressionData, fit: MixtureFit): SeparationReport {
     const rows = fit.components[c].weight * fit.n;
     if (k > 1 && rows < SMALL_ROWS_PER_COEFFICIENT * fit.q) {
       warnings.push(
-        `Small component: component ${c + 1} holds about ${formatShort(rows)} rows for ${fit.q} coefficients (fewer than ${SMALL_ROWS_PER_COEFFICIENT} per coefficient), so its coefficients are poorly pinned down. Add rows or use fewer components.`,
+        `Small component: component ${c + 1} holds about ${formatNumber(rows)} rows for ${fit.q} coefficients (fewer than ${SMALL_ROWS_PER_COEFFICIENT} per coefficient), so its coefficients are poorly pinned down. Add rows or use fewer components.`,
       );
     }
   }

@@ -10,6 +10,7 @@ import { computeMemberships } from "./computeMemberships";
 import { createRandom, shuffleInPlace } from "./random";
 import { regressionMatrix } from "./regressionMatrix";
 import { gatherRows, selectRows } from "./rowSubset";
+import { formatNumber } from "../report/formatNumber";
 
 /**
  * Suggestion rule, in words (the README repeats it):
@@ -157,7 +158,7 @@ export function scanComponents(data: RegressionData, options: ScanOptions): Scan
       }
     }
     if (better === undefined) break;
-    const reason = `most rows left out of the fit are predicted better with K = ${better.k} (held-out log-likelihood per row ${formatShort(chosen.crossValidatedLogLikelihood)} against ${formatShort(better.crossValidatedLogLikelihood)}), so its extra components fit noise`;
+    const reason = `most rows left out of the fit are predicted better with K = ${better.k} (held-out log-likelihood per row ${formatNumber(chosen.crossValidatedLogLikelihood)} against ${formatNumber(better.crossValidatedLogLikelihood)}), so its extra components fit noise`;
     chosen.flag = chosen.flag === null ? `Not suggested: ${reason}.` : `${chosen.flag.slice(0, -1)}; ${reason}.`;
     chosenK = suggestK(rows);
   }
@@ -182,7 +183,7 @@ function noteFor(row: ScanRow, rows: readonly ScanRow[], chosenK: number): strin
   const bestK = eligible.find((r) => r.bic === best)?.k ?? chosenK;
   const behind = row.bic - best;
   if (behind > BIC_TIE) {
-    return `Not suggested: lost on BIC, ${formatShort(behind)} higher than that of K = ${bestK}.`;
+    return `Not suggested: lost on BIC, ${formatBicDifference(behind)} higher than that of K = ${bestK}.`;
   }
   if (row.k > chosenK) {
     return `Not suggested: its BIC is not more than ${BIC_TIE} below that of K = ${chosen.k}, so the smaller K is preferred.`;
@@ -328,8 +329,7 @@ function medianDifference(a: Float64Array, b: Float64Array): number {
   return m % 2 === 1 ? d[(m - 1) / 2] : 0.5 * (d[m / 2 - 1] + d[m / 2]);
 }
 
-/** Three significant digits, or a whole number from 100 up (a BIC difference of 35 912, not 35 900). */
-function formatShort(value: number): string {
-  return Math.abs(value) >= 100 ? Math.round(value).toString() : Number(value.toPrecision(3)).toString();
+/** A BIC difference: whole units from 100 up (35912, not 3.591e4), four significant digits below. */
+function formatBicDifference(value: number): string {
+  return Math.abs(value) >= 100 ? Math.round(value).toString() : formatNumber(value);
 }
-
