@@ -26,7 +26,7 @@ export function fitSingleComponent(ws: MixtureWorkspace, settings: Settings, gua
     const refinement: RefinementReport = { converged: run.converged, iterations: run.iterations, logLikelihoodPath: [run.logLikelihood], reseeds: run.reseeds };
     // Worded like the K > 1 warning (reportFit), naming no control: each host adds the control it has.
     const warnings = run.converged ? [] : [`Not converged: the fit stopped after ${run.iterations} iteration${run.iterations === 1 ? "" : "s"} while the log-likelihood was still changing, so it may not be at its best. Try another seed.`];
-    return assembleFit(ws, params, run.logLikelihood, settings, warmStart, refinement, warnings, guards, undefined, true);
+    return assembleFit(ws, params, run.logLikelihood, settings, warmStart, refinement, warnings, undefined, true);
   }
   ws.memberships.fill(1);
   ws.sizes[0] = ws.n;
@@ -47,7 +47,7 @@ export function fitSingleComponent(ws: MixtureWorkspace, settings: Settings, gua
   ws.memberships.fill(1);
   const warmStart: WarmStartReport = { converged: true, method: "single-component", certificate: NaN, startsTried: 0, disagreement: 0 };
   const refinement: RefinementReport = { converged: true, iterations: 0, logLikelihoodPath: [logLikelihood] };
-  return assembleFit(ws, params, logLikelihood, settings, warmStart, refinement, [], guards, fit.mlSigma);
+  return assembleFit(ws, params, logLikelihood, settings, warmStart, refinement, [], fit.mlSigma);
 }
 
 export function assembleFit(
@@ -58,7 +58,6 @@ export function assembleFit(
   warmStart: WarmStartReport,
   refinement: RefinementReport,
   warnings: string[],
-  guards: Guards,
   exactSigma?: number,
   membershipsCurrent = false,
 ): MixtureFit {
@@ -89,10 +88,8 @@ export function assembleFit(
   }
   const components = reportedComponents(params, p, q, settings.intercept, exactSigma);
   const { parameterCount, bic, icl } = informationCriteria(ws, settings, logLikelihood, entropy);
-  const smallest = Math.min(...components.map((c) => c.weight));
-  if (k > 1 && smallest * n < 2 * guards.minimumSize) {
-    warnings.push(`Small component: the smallest component holds only about ${Math.round(smallest * n)} rows for ${q} coefficients, so its estimates are unreliable. Use fewer components or add rows.`);
-  }
+  // Small components are named by the separation check (checkSeparation), which every surface
+  // runs beside the fit; warning here too would say the same thing twice in other words.
   if (k > 1 && n < 5 * k * q) {
     warnings.push(`There are only ${(n / (k * q)).toFixed(1)} rows per coefficient per component; components need several times more to be found reliably. Add rows or use fewer components or predictors.`);
   }

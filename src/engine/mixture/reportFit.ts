@@ -71,5 +71,5 @@ export function reportFit(ctx: FitContext, outcome: PipelineOutcome): MixtureFit
   if (largestVariance > guards.varianceFloor * 1.000001 && smallestVariance <= guards.varianceRatioBound * largestVariance * 1.000001) {
     warnings.push("One component's noise SD is held at a thousandth of another's, the smallest Skein allows: that component may be fitting a few rows almost exactly. Try fewer components.");
   }
-  return assembleFit(full, params, finished.logLikelihood, settings, warmStart, refinement, warnings, guards, undefined, finished.membershipsCurrent);
+  return assembleFit(full, params, finished.logLikelihood, settings, warmStart, refinement, warnings, undefined, finished.membershipsCurrent);
 }
