@@ -1,5 +1,5 @@
 import { describe, expect, it } from "vitest";
-import { parseCsv } from "../src/io/readCsv";
+import { csvTable, parseCsv } from "../src/io/readCsv";
 import { SkeinError } from "../src/engine/errors";
 
 // Expected rows are read off each input string by hand (derivation in this
@@ -82,5 +82,17 @@ describe("parseCsv", () => {
       expect((error as SkeinError).code).toBe("bad-input");
       expect((error as SkeinError).message).toMatch(/starts on line 3.*never ends/);
     }
+  });
+});
+
+describe("csvTable decimal mark", () => {
+  it("reads decimal points in a semicolon file whose points cannot separate thousands (invented values)", () => {
+    // "2.501" alone could be 2501 with a thousands point, but "0.512" cannot: the
+    // file writes decimal points. Before, every cell was read as thousands: 2501, 512, 13584.
+    const table = csvTable("x;y\n2.501;5.708\n0.512;13.584\n", "points.csv");
+    expect(table.rows).toEqual([[2.501, 5.708], [0.512, 13.584]]);
+    expect(table.notices[0]).toBe("Fields are separated by semicolons; numbers use a decimal point.");
+    // A file with decimal commas and thousands points still reads them so.
+    expect(csvTable("x;y\n1.234,5;2\n2,25;3\n", "commas.csv").rows).toEqual([[1234.5, 2], [2.25, 3]]);
   });
 });

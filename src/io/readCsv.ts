@@ -175,12 +175,20 @@ export function decimalMarkOf(fields: CsvFields): "." | "," {
     for (const cell of row) {
       if (cell === null) continue;
       const point = readNumberText(cell, ".") !== undefined;
-      const comma = readNumberText(cell, ",") !== undefined;
+      // "0.512" or "13.25" reads with a decimal comma only by taking its point for a
+      // thousands separator, which it cannot be: such a cell shows a decimal point.
+      const comma = readNumberText(cell, ",") !== undefined && !pointCannotGroup(cell);
       if (point && !comma) onlyPoint++;
       else if (comma && !point) onlyComma++;
     }
   }
   return onlyPoint > onlyComma ? "." : ",";
+}
+
+/** A number with one point and no comma, where the point cannot separate thousands ("0.512", "13.25", "1234.5"). */
+function pointCannotGroup(cell: string): boolean {
+  const body = cell.replace(/[\s%+\-\u2212$€£¥₹₩₽₺₪₫₴₦฿]/g, "");
+  return /^\d*\.\d+$/.test(body) && !/^[1-9]\d{0,2}\.\d{3}$/.test(body);
 }
 
 const DELIMITER_NAMES: Record<string, string> = { ",": "commas", ";": "semicolons", "\t": "tabs" };
