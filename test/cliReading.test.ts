@@ -119,6 +119,21 @@ describe("skein fit/scan/predict say how the file was read", () => {
     expect((await run("fit", path.join(dir, "book.xlsx"), "--y", "y")).stdout).toMatch(/^Data: book\.xlsx, sheet Data; 8 rows used, 0 skipped$/m);
   });
 
+  it("takes a sheet whose only predictor is a column of distinct whole numbers, and says to name it with --x", async () => {
+    // Invented trips: Distance holds 40 different whole numbers, so it is left out as an
+    // identifier; before, the sheet was refused as holding "no columns of numbers".
+    const book = new ExcelJS.Workbook();
+    const trips = book.addWorksheet("Trips");
+    trips.addRow(["Distance", "Cost"]);
+    for (let i = 0; i < 40; i++) trips.addRow([1 + ((i * 37) % 50), 5 + 1.2 * (1 + ((i * 37) % 50)) + ((i % 5) - 2) * 0.4]);
+    const file = path.join(dir, "distances.xlsx");
+    await book.xlsx.writeFile(file);
+    const message = await failure("fit", file, "--y", "Cost");
+    expect(message).not.toMatch(/no columns of numbers/);
+    expect(message).toMatch(/sheet "Trips" has no column of numbers or categories besides Cost \(left out: Distance \(identifier: .*\)\); name the predictors with --x/);
+    expect((await json("fit", file, "--y", "Cost", "--x", "Distance", "--k", "1")).rowsUsed).toBe(40);
+  });
+
   it("names the sheets of a workbook that holds no table of numbers", async () => {
     expect(await failure("fit", path.join(dir, "covers.xlsx"), "--y", "y")).toMatch(/No sheet of covers.xlsx holds a table of numbers .*"Cover" \(0 data rows\), "Notes" \(0 data rows\)/);
   });

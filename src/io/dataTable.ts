@@ -119,7 +119,11 @@ export function describeColumns(columns: readonly ColumnType[]): { converted: st
 
 /** Whether a table can be fitted at all: a number column and at least one more usable column, over two or more rows. */
 export function holdsNumericTable(table: DataTable): boolean {
-  const usable = table.columns.filter((c) => c.kind === "number" || c.kind === "category").length;
+  // A column of distinct whole numbers is left out of the default predictors as an identifier,
+  // but it still holds numbers that --x can name: it counts here.
+  const numericIdentifier = (c: DataTable["columns"][number]): boolean =>
+    c.kind === "identifier" && table.rows.every((row) => row[c.position] === null || typeof row[c.position] === "number");
+  const usable = table.columns.filter((c) => c.kind === "number" || c.kind === "category" || numericIdentifier(c)).length;
   return table.rows.length >= 2 && table.columns.some((c) => c.kind === "number") && usable >= 2;
 }
 
