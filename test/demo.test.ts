@@ -100,7 +100,7 @@ describe("skein demo", () => {
     const result = await runDemoScenario(truth, { samples: SAMPLES, out, seed: 1 });
     expect(result.scan.chosenK).toBe(4);
     expect(result.fit.model).toBe("joint");
-    // Noiseless data: exact recovery is expected; issue 3's bar is a relative error of 1e-6.
+    // Noiseless data: exact recovery is expected; the bar is a relative error of 1e-6.
     truth.components.forEach((component, t) => {
       const c = result.comparison.match[t];
       const trueVector = [component.intercept, ...component.coefficients];

@@ -22,7 +22,7 @@ interface FunctionMetadata {
   options?: { cancelable?: boolean; requiresAddress?: boolean; stream?: boolean; volatile?: boolean };
 }
 
-/** The functions and their arguments as NAMES.md lists them; [name] is optional. */
+/** The functions and their arguments as the README lists them; [name] is optional. */
 const EXPECTED: Record<string, string[]> = {
   FIT: ["y", "x", "[k]", "[settings]"],
   LABELS: ["y", "x", "[k]", "[settings]"],

@@ -24,7 +24,7 @@ function designWithIntercept(rows: number[][]): { x: Float64Array; n: number; q:
 
 describe("least squares against NIST StRD Longley (higher difficulty)", () => {
   // Source: NIST Statistical Reference Datasets, linear least squares, "Longley";
-  // data and certified values copied from ../shared/reference into test/fixtures.
+  // data and certified values copied into test/fixtures (test/fixtures/longley-certified.json).
   const lines = readFileSync(join(fixtures, "longley.csv"), "utf8").trim().split(/\r?\n/).slice(1);
   const table = lines.map((line) => line.split(",").map(Number));
   const certified = JSON.parse(readFileSync(join(fixtures, "longley-certified.json"), "utf8"));

@@ -64,7 +64,7 @@ describe("moment warm start on noiseless mixtures with per-component design cova
 
 describe("response-moment subspace (Yi, Caramanis & Sanghavi 2014)", () => {
   it("for standard Gaussian x and noiseless y the top-K eigenvectors of mean(y²(xxᵀ − I)) span the component vectors", () => {
-    // Identity (METHODS.md): E[y²(xxᵀ − I)] = 2 Σ_k π_k β_k β_kᵀ for x ~ N(0, I). With n rows
+    // Identity (Yi, Caramanis & Sanghavi 2014): E[y²(xxᵀ − I)] = 2 Σ_k π_k β_k β_kᵀ for x ~ N(0, I). With n rows
     // the empirical matrix deviates by O(sqrt(d/n)) in operator norm, so with n = 20000, d = 6
     // and eigenvalue gap 2·min π_k ‖β_k‖² ≈ 0.5, the part of each β_k outside the span is of
     // order sqrt(6/20000)/0.5 ≈ 0.035; 0.1 leaves room.

@@ -40,8 +40,8 @@ const ALS_ITERATIONS = 25;
 const CONVERGED_CERTIFICATE = 0.25;
 
 /**
- * Moment-based warm start for a K-component mixture of linear regressions (METHODS.md,
- * "Moment-based warm starts"):
+ * Moment-based warm start for a K-component mixture of linear regressions (the moment
+ * method of Yi, Caramanis & Sanghavi 2014):
  * 1. whiten x (centred on x̄ when there is an intercept);
  * 2. the top 2K eigenvectors of the response-weighted moment mean(y²(x̃x̃ᵀ − I)) span the
  *    components up to the part the per-component design covariances hide (Yi, Caramanis &
@@ -101,7 +101,7 @@ export function momentWarmStart(data: RegressionData, k: number, intercept: bool
 }
 
 /**
- * Peeling (METHODS.md: remove the rows a found component fits and repeat for the rest): the
+ * Peeling (remove the rows a found component fits and repeat for the rest): the
  * components of the best fit that fit clearly more than q rows exactly are kept, their rows
  * removed, and the start is searched again on the remaining rows with the remaining K'
  * components, where the response moment has fewer components to separate. Repeats while it

@@ -2,7 +2,7 @@
  * Whitening of the predictors, the first step of every moment method for mixed linear
  * regression (Yi, Caramanis & Sanghavi 2014; Zhong, Jain & Dhillon 2016): with S = L Lᵀ the
  * (centred or raw) second-moment matrix of x, the whitened rows x̃ = L⁻¹(x − x̄) have identity
- * second moment, so the moment identities of METHODS.md hold in these coordinates.
+ * second moment, so the moment identities for x ~ N(0, I) (Yi, Caramanis & Sanghavi 2014) hold in these coordinates.
  *
  * Intercept: when the fit has one, x is centred on its overall mean x̄ (and the caller centres
  * y on ȳ); a coefficient vector γ in whitened coordinates is then a slope vector
