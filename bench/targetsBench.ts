@@ -17,7 +17,7 @@ import { checkSeparation } from "../src/engine/checkSeparation";
 import { scanComponents } from "../src/engine/scanComponents";
 import { generateProblem, noiselessProblem, noisyProblem, relativeCoefficientError } from "../src/synthetic/generateProblems";
 import { carefulEmFit } from "./plainEm";
-import { RECOVERY_TOLERANCE, fitForBench } from "./accuracy";
+import { RECOVERY_TOLERANCE, fitForBench, noiselessBenchProblem } from "./accuracy";
 import { timeOnePass } from "./speed";
 
 const RESTARTS = 10;
@@ -69,8 +69,7 @@ export function runFewerRowsBench(print: (line: string) => void): void {
       let rows = 0;
       const seeds = 2;
       for (let s = 0; s < seeds; s++) {
-        const problemSeed = 1000 * d + 100 * k + 10 * factor + s;
-        const problem = noiselessProblem(d, k, factor, createRandom(problemSeed));
+        const { problem, problemSeed } = noiselessBenchProblem(d, k, factor, s);
         rows = problem.data.n;
         const began = performance.now();
         const fit = fitForBench(problem, problemSeed);

