@@ -121,14 +121,16 @@ function informationErrors(data: RegressionData, fit: MixtureFit): StandardError
     report.weights[0] = 0;
     return withReason(report);
   }
-  // Delta method for π = softmax(η): J_kj = ∂π_k/∂η_j = π_k (δ_kj − π_j), j < K.
+  // Delta method for π = (1 − π₀) softmax(η), π₀ the background's weight (0 without one) held
+  // at its estimate: J_kj = ∂π_k/∂η_j = π_k (δ_kj − w_j), j < K, w_j = π_j / (1 − π₀).
   const weights = fit.components.map((c) => c.weight);
+  const share = 1 - (fit.background?.weight ?? 0);
   for (let c = 0; c < k; c++) {
     let variance = 0;
     for (let j = 0; j < k - 1; j++) {
-      const jc = weights[c] * ((c === j ? 1 : 0) - weights[j]);
+      const jc = weights[c] * ((c === j ? 1 : 0) - weights[j] / share);
       for (let l = 0; l < k - 1; l++) {
-        const lc = weights[c] * ((c === l ? 1 : 0) - weights[l]);
+        const lc = weights[c] * ((c === l ? 1 : 0) - weights[l] / share);
         variance += jc * covariance[(logitOffset + j) * size + logitOffset + l] * lc;
       }
     }
