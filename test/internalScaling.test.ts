@@ -4,6 +4,7 @@ import { standardErrors } from "../src/engine/standardErrors";
 import { checkSeparation } from "../src/engine/checkSeparation";
 import { scanComponents } from "../src/engine/scanComponents";
 import { findStrayRows } from "../src/engine/strayRows";
+import { isExactFit } from "../src/engine/exactFit";
 import { createRandom } from "../src/engine/random";
 import type { MixtureFit, RegressionData } from "../src/engine/mixtureTypes";
 
@@ -89,5 +90,21 @@ describe("internal scaling of values far from 1", () => {
     }
     const scan = scanComponents(data, { kMax: 3, seed: 1, background: "auto" });
     expect(scan.rows.every((row) => Number.isFinite(row.bic))).toBe(true);
+  });
+  it("one y of 1e154 among ordinary values: K = 2 with a background still finds both invented lines and their noise, not an exact fit", () => {
+    const data = { ...base, y: base.y.slice() };
+    data.y[17] = 1e154;
+    const result = fitMixture(data, { k: 2, seed: 1, background: "auto" });
+    // The invented truth: slopes 2 and −1.5, noise SD 0.3. Before, the 1e154 set the scale
+    // and the floors, and both components came out as one line with noise "about 0".
+    const slopes = result.components.map((c) => c.coefficients[1]).sort((a, b) => a - b);
+    expect(slopes[0]).toBeCloseTo(-1.5, 1);
+    expect(slopes[1]).toBeCloseTo(2, 1);
+    for (const component of result.components) {
+      expect(component.sigma).toBeGreaterThan(0.2);
+      expect(component.sigma).toBeLessThan(0.4);
+    }
+    expect(isExactFit(result, data.y)).toBe(false);
+    expect(result.background!.memberships[17]).toBeGreaterThan(0.99);
   });
 });

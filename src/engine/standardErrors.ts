@@ -9,6 +9,7 @@ import { createRandom } from "./random";
 import { fitMixture } from "./fitMixture";
 import { selectRows } from "./rowSubset";
 import { isExactFit } from "./exactFit";
+import { referenceVariance } from "./referenceVariance";
 
 export interface StandardErrorOptions {
   method?: "observed-information" | "bootstrap";
@@ -147,12 +148,7 @@ const EXACT_SIGMA_RELATIVE = 1e-8;
 
 /** The first component whose noise SD is at rounding level next to the spread of y, or null. */
 function exactComponent(data: RegressionData, fit: MixtureFit): number | null {
-  let mean = 0;
-  for (let i = 0; i < data.n; i++) mean += data.y[i];
-  mean /= data.n;
-  let squares = 0;
-  for (let i = 0; i < data.n; i++) squares += (data.y[i] - mean) ** 2;
-  const spread = Math.sqrt(squares / data.n);
+  const spread = Math.sqrt(referenceVariance(data.y, data.n));
   const index = fit.components.findIndex((c) => !(c.sigma > EXACT_SIGMA_RELATIVE * spread));
   return index < 0 ? null : index;
 }
