@@ -1,4 +1,4 @@
-import { referenceVariance } from "./referenceVariance";
+import { referenceSpread } from "./referenceVariance";
 import { EXACT_RELATIVE } from "./mixture/exactComponents";
 import type { MixtureFit } from "./mixtureTypes";
 
@@ -8,8 +8,9 @@ import type { MixtureFit } from "./mixtureTypes";
  * standard errors are 0, and a gap to it is unlimited rather than a measured number.
  */
 export function exactComponents(fit: Pick<MixtureFit, "components">, y: Float64Array): boolean[] {
-  const variance = y.length > 0 ? referenceVariance(y, y.length) : 0;
-  return fit.components.map((component) => component.sigma * component.sigma <= EXACT_RELATIVE * EXACT_RELATIVE * variance);
+  // The spread, not the variance: the user's own y may be near 1e300, whose square overflows.
+  const spread = y.length > 0 ? referenceSpread(y, y.length) : 0;
+  return fit.components.map((component) => component.sigma <= EXACT_RELATIVE * spread);
 }
 
 /** Every component fits its rows exactly: an exact fit (noise about 0). */

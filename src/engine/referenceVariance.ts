@@ -11,22 +11,51 @@
  */
 const DOMINATED_RATIO = 1e6;
 const MAD_TO_SD = 1.4826;
+/** Below this magnitude squares and their sums cannot overflow, and the variance is computed directly. */
+const DIRECT_LIMIT = 1e150;
 
 export function referenceVariance(values: Float64Array, n: number): number {
-  let mean = 0;
-  for (let i = 0; i < n; i++) mean += values[i];
-  mean /= n;
-  let total = 0;
-  for (let i = 0; i < n; i++) {
-    const d = values[i] - mean;
-    total += d * d;
+  let largest = 0;
+  for (let i = 0; i < n; i++) largest = Math.max(largest, Math.abs(values[i]));
+  if (!(largest <= DIRECT_LIMIT)) {
+    const spread = referenceSpread(values, n);
+    return spread * spread;
   }
-  // Two-pass variance (mean first, then centred squares: Chan, Golub & LeVeque 1983).
-  const plain = total / n;
+  const plain = plainVariance(values, n, 1);
   if (!(plain > 0) || !Number.isFinite(plain) || n < 3) return plain;
   const robustSd = MAD_TO_SD * medianAbsoluteDeviation(values, n);
   const robust = robustSd * robustSd;
   return robust > 0 && plain > DOMINATED_RATIO * robust ? robust : plain;
+}
+
+/**
+ * The square root of referenceVariance, computed in units of the largest magnitude so that it
+ * stays finite for values up to the largest doubles (the command line and the worksheet
+ * results test exact fits on the user's own numbers, which the fit's scaling never touched).
+ */
+export function referenceSpread(values: Float64Array, n: number): number {
+  let largest = 0;
+  for (let i = 0; i < n; i++) largest = Math.max(largest, Math.abs(values[i]));
+  if (!(largest > 0) || !Number.isFinite(largest)) return largest === 0 ? 0 : NaN;
+  if (largest <= DIRECT_LIMIT) return Math.sqrt(referenceVariance(values, n));
+  const plain = plainVariance(values, n, largest);
+  if (n < 3) return largest * Math.sqrt(plain);
+  const robustSd = (MAD_TO_SD * medianAbsoluteDeviation(values, n)) / largest;
+  const robust = robustSd * robustSd;
+  return largest * Math.sqrt(robust > 0 && plain > DOMINATED_RATIO * robust ? robust : plain);
+}
+
+/** Two-pass variance of values / unit (mean first, then centred squares: Chan, Golub & LeVeque 1983). */
+function plainVariance(values: Float64Array, n: number, unit: number): number {
+  let mean = 0;
+  for (let i = 0; i < n; i++) mean += unit === 1 ? values[i] : values[i] / unit;
+  mean /= n;
+  let total = 0;
+  for (let i = 0; i < n; i++) {
+    const d = (unit === 1 ? values[i] : values[i] / unit) - mean;
+    total += d * d;
+  }
+  return total / n;
 }
 
 function medianAbsoluteDeviation(values: Float64Array, n: number): number {

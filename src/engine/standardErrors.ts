@@ -9,7 +9,8 @@ import { createRandom } from "./random";
 import { fitMixture } from "./fitMixture";
 import { selectRows } from "./rowSubset";
 import { isExactFit } from "./exactFit";
-import { referenceVariance } from "./referenceVariance";
+import { referenceSpread } from "./referenceVariance";
+import { LOG_TWO_PI } from "./logDensities";
 
 export interface StandardErrorOptions {
   method?: "observed-information" | "bootstrap";
@@ -42,12 +43,51 @@ export const DEFAULT_REPLICATES = 200;
  * the spread is taken, since a refit may number them differently (Basford, Greenway,
  * McLachlan & Peel 1997, Computational Statistics).
  */
-export function standardErrors(data: RegressionData, fit: MixtureFit, options: StandardErrorOptions = {}): StandardErrorReport & { warnings: string[] } {
+export function standardErrors(fullData: RegressionData, fit: MixtureFit, options: StandardErrorOptions = {}): StandardErrorReport & { warnings: string[] } {
+  const data = options.method === "bootstrap" ? fullData : withoutBackgroundRows(fullData, fit);
   // Values far from 1 are handled in the fit's scaled space (internalScaling.ts).
   const scales = scalesFor(data);
   if (scales !== null) return unscaleStandardErrors(unscaledStandardErrors(scaleData(data, scales), mapFit(fit, scales, -1), options), scales);
   return unscaledStandardErrors(data, fit, options);
 }
+
+/**
+ * The data without the rows whose membership in every component is 0 to double precision
+ * next to the background's (a log-density lower by more than BACKGROUND_ONLY_GAP): such a row
+ * adds exactly nothing to the observed information, since each of its terms carries its
+ * membership as a factor. Taken out first, a typed-in 1e154 no longer sets the scale of the
+ * computation or turns 0 times an overflowed square into NaN (its squared residual over σ²
+ * is beyond the double range), and the rest are computed at their own scale.
+ */
+function withoutBackgroundRows(data: RegressionData, fit: MixtureFit): RegressionData {
+  const background = fit.background;
+  if (!background || !(background.weight > 0)) return data;
+  const { n, p } = data;
+  const backgroundTerm = Math.log(background.weight) + background.logDensity;
+  const shift = fit.intercept ? 0 : 1;
+  const kept: number[] = [];
+  for (let i = 0; i < n; i++) {
+    let nearest = -Infinity;
+    for (const component of fit.components) {
+      const b = component.coefficients;
+      let fitted = shift === 0 ? b[0] : 0;
+      for (let j = 0; j < p; j++) fitted += b[j + 1] * data.x[i * p + j];
+      // (r / σ)² from r / σ, so a residual near 1e154 overflows only to +Infinity here.
+      const z = (data.y[i] - fitted) / component.sigma;
+      const term = Math.log(component.weight) - Math.log(component.sigma) - 0.5 * LOG_TWO_PI - 0.5 * z * z;
+      if (term > nearest || Number.isNaN(term)) nearest = Number.isNaN(term) ? Infinity : term;
+    }
+    // The joint model adds each component's x density, which this leaves out: there only rows
+    // whose squared residual overflowed (a term of −Infinity) are certain to have membership 0.
+    const outside = fit.model === "joint" ? nearest === -Infinity : nearest < backgroundTerm - BACKGROUND_ONLY_GAP;
+    if (!outside) kept.push(i);
+  }
+  if (kept.length === n || kept.length === 0) return data;
+  return selectRows(data, Int32Array.from(kept));
+}
+
+/** e^-800 is 0 in double precision (the smallest subnormal is about e^-745). */
+const BACKGROUND_ONLY_GAP = 800;
 
 function unscaledStandardErrors(data: RegressionData, fit: MixtureFit, options: StandardErrorOptions): StandardErrorReport & { warnings: string[] } {
   const method = options.method ?? "observed-information";
@@ -148,7 +188,7 @@ const EXACT_SIGMA_RELATIVE = 1e-8;
 
 /** The first component whose noise SD is at rounding level next to the spread of y, or null. */
 function exactComponent(data: RegressionData, fit: MixtureFit): number | null {
-  const spread = Math.sqrt(referenceVariance(data.y, data.n));
+  const spread = referenceSpread(data.y, data.n);
   const index = fit.components.findIndex((c) => !(c.sigma > EXACT_SIGMA_RELATIVE * spread));
   return index < 0 ? null : index;
 }
