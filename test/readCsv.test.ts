@@ -1,5 +1,5 @@
 import { describe, expect, it } from "vitest";
-import { csvTable, parseCsv } from "../src/io/readCsv";
+import { csvTable, parseCsv, splitCsv } from "../src/io/readCsv";
 import { SkeinError } from "../src/engine/errors";
 
 // Expected rows are read off each input string by hand (derivation in this
@@ -32,6 +32,15 @@ describe("parseCsv", () => {
   it("handles quoted fields with delimiters, escaped quotes and line breaks", () => {
     const text = 'id,comment\n1,"red, green"\n2,"she said ""hi"""\n3,"two\nlines"\n4,""\n';
     expect(parseCsv(text)).toEqual([["id", "comment"], [1, "red, green"], [2, 'she said "hi"'], [3, "two\nlines"], [4, null]]);
+  });
+
+  it("reads lines with quotes or lone carriage returns like plain lines around them, with each row's line", () => {
+    // Plain lines take a quicker road than lines holding a quote or a lone CR; the fields and
+    // the 1-based lines (counted by hand here) must not depend on which.
+    const text = 'a,b\r\n1,2\r"x,\ny",3\n4, 5 \r\n\r\n\n6,"7"\n8,\n';
+    const fields = splitCsv(text);
+    expect(fields.rows).toEqual([["a", "b"], ["1", "2"], ["x,\ny", "3"], ["4", " 5 "], ["6", "7"], ["8", null]]);
+    expect(fields.lines).toEqual([1, 2, 3, 5, 8, 9]);
   });
 
   it("converts quoted numbers too (quotes only protect characters in CSV)", () => {

@@ -61,7 +61,6 @@ export function splitCsv(text: string): CsvFields {
   if (text.charCodeAt(0) === 0xfeff) text = text.slice(1);
   const delimiter = detectDelimiter(text);
   const delimiterCode = delimiter.charCodeAt(0);
-  const toCell = (raw: string): string | null => (raw.trim() === "" ? null : raw);
 
   const rows: (string | null)[][] = [];
   const lines: number[] = [];
@@ -70,7 +69,33 @@ export function splitCsv(text: string): CsvFields {
   const length = text.length;
   let line = 1;
   let rowLine = 1;
+  // Next quote and next carriage return at or after i (length when none): a line holding
+  // neither is split by the native String.split, the common case of large files.
+  let nextQuote = -1;
+  let nextReturn = -1;
   while (i < length) {
+    if (row.length === 0) {
+      if (nextQuote < i) nextQuote = indexOrLength(text, '"', i);
+      if (nextReturn < i) nextReturn = indexOrLength(text, "\r", i);
+      const lineEnd = indexOrLength(text, "\n", i);
+      if (nextQuote >= lineEnd && nextReturn >= lineEnd - 1) {
+        // Only a CRLF's CR may stand in the line, at its end.
+        const contentEnd = nextReturn === lineEnd - 1 ? lineEnd - 1 : lineEnd;
+        const fields = text.slice(i, contentEnd).split(delimiter);
+        for (let f = 0; f < fields.length; f++) row.push(toCell(fields[f]));
+        if (lineEnd >= length) break;
+        i = lineEnd + 1;
+        line++;
+        pushRow(rows, lines, row, rowLine);
+        row = [];
+        while (i < length && (text.charCodeAt(i) === LF || text.charCodeAt(i) === CR)) {
+          if (text.charCodeAt(i) === LF || text.charCodeAt(i + 1) !== LF) line++;
+          i++;
+        }
+        rowLine = line;
+        continue;
+      }
+    }
     let raw: string;
     if (text.charCodeAt(i) === QUOTE) {
       // Quoted field: runs to the next quote not followed by another quote.
@@ -128,6 +153,16 @@ export function splitCsv(text: string): CsvFields {
     lines.pop();
   }
   return { rows, lines, delimiter };
+}
+
+/** A field as a cell: null when empty or all whitespace. */
+function toCell(raw: string): string | null {
+  return raw.length === 0 || raw.trim() === "" ? null : raw;
+}
+
+function indexOrLength(text: string, search: string, from: number): number {
+  const at = text.indexOf(search, from);
+  return at < 0 ? text.length : at;
 }
 
 function isFieldEnd(code: number, delimiterCode: number): boolean {
