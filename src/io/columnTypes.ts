@@ -153,12 +153,13 @@ export function typeColumns(header: readonly RawCell[], body: readonly (readonly
   const firstColumn = options.firstColumn ?? 0;
   const width = header.length;
   const { names, notices } = headerNamesOf(header, width, firstColumn);
-  const rows: Cell[][] = body.map(() => new Array<Cell>(width).fill(null));
+  // Every cell is assigned below, column by column. The placeholder 0 (not null) keeps a row
+  // that ends up all numbers an array of unboxed doubles: a third of the memory of boxed ones.
+  const rows: Cell[][] = body.map(() => new Array<Cell>(width).fill(0));
   const columns: ColumnType[] = [];
   const decimal: "." | "," = options.decimalComma ? "," : ".";
   for (let j = 0; j < width; j++) {
-    const cells = body.map((row) => row[j] ?? null);
-    const decided = decideColumn(names[j], cells, decimal, options.fromWorkbook ?? false, options.date1904 ? DAYS_1900_TO_1904 : 0);
+    const decided = decideColumn(names[j], body, j, decimal, options.fromWorkbook ?? false, options.date1904 ? DAYS_1900_TO_1904 : 0);
     decided.values.forEach((value, i) => (rows[i][j] = value));
     columns.push({ name: names[j], position: j, letter: columnLetter(firstColumn + j), ...decided.type });
     if (decided.notice) notices.push(decided.notice);
@@ -176,14 +177,15 @@ interface Decision {
  * The column rule for one column, in three phases: number text read in one
  * style, date text read in one day/month order, then the column's kind.
  */
-function decideColumn(name: string, cells: RawCell[], decimal: "." | ",", fromWorkbook: boolean, dateShift: number): Decision {
-  // One pass: blanks to null, text trimmed, workbook dates to serial numbers.
-  const values: Cell[] = new Array<Cell>(cells.length);
+function decideColumn(name: string, body: readonly (readonly RawCell[])[], column: number, decimal: "." | ",", fromWorkbook: boolean, dateShift: number): Decision {
+  // One pass over the column (read in place: no copy of a million cells): blanks to null, text
+  // trimmed, workbook dates to serial numbers.
+  const values: Cell[] = new Array<Cell>(body.length);
   let filled = 0;
   let workbookDates = 0;
   const texts: number[] = [];
-  for (let i = 0; i < cells.length; i++) {
-    const cell = cells[i];
+  for (let i = 0; i < body.length; i++) {
+    const cell = body[i][column];
     if (typeof cell === "string") {
       const trimmed = cell.trim();
       values[i] = trimmed === "" ? null : trimmed;
