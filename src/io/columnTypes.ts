@@ -153,18 +153,21 @@ export function typeColumns(header: readonly RawCell[], body: readonly (readonly
   const firstColumn = options.firstColumn ?? 0;
   const width = header.length;
   const { names, notices } = headerNamesOf(header, width, firstColumn);
-  // Every cell is assigned below, column by column. The placeholder 0 (not null) keeps a row
-  // that ends up all numbers an array of unboxed doubles: a third of the memory of boxed ones.
-  const rows: Cell[][] = body.map(() => new Array<Cell>(width).fill(0));
+  // The body's own rows are the table's while no column changes a cell (a file of plain
+  // numbers read as numbers): a million rows are not copied. The first column that changes
+  // one copies them; rows shorter than the header are copied from the start.
+  let rows: Cell[][] | null = body.every((row) => row.length === width) ? null : body.map(() => new Array<Cell>(width).fill(0));
   const columns: ColumnType[] = [];
   const decimal: "." | "," = options.decimalComma ? "," : ".";
   for (let j = 0; j < width; j++) {
     const decided = decideColumn(names[j], body, j, decimal, options.fromWorkbook ?? false, options.date1904 ? DAYS_1900_TO_1904 : 0);
-    decided.values.forEach((value, i) => (rows[i][j] = value));
+    const values = decided.values;
+    if (rows === null && values.some((value, i) => value !== body[i][j])) rows = body.map((row) => row.slice() as Cell[]);
+    if (rows !== null) for (let i = 0; i < values.length; i++) rows[i][j] = values[i];
     columns.push({ name: names[j], position: j, letter: columnLetter(firstColumn + j), ...decided.type });
     if (decided.notice) notices.push(decided.notice);
   }
-  return { names, rows, columns, notices };
+  return { names, rows: rows ?? (body as Cell[][]), columns, notices };
 }
 
 interface Decision {
