@@ -88,5 +88,9 @@ describe("worksheet ranges holding numbers written as text", () => {
     const predicted = await predict(salesY, shareX, [["Discount"], ["10%"], [0.2]], 1);
     expect(predicted[1][1]).toBeCloseTo(70, 0);
     expect(predicted[2][1]).toBeCloseTo(90, 0);
+    // Without a header row, a first row of percent text is a row to predict for, not names.
+    const bare = await predict(salesY, shareX, [["10%"], ["20%"]], 1);
+    expect(bare).toHaveLength(2);
+    expect(bare[0][1]).toBeCloseTo(70, 0);
   });
 });
