@@ -1,5 +1,6 @@
 import type { RegressionData } from "../mixtureTypes";
 import { choleskyScratchLength } from "../cholesky";
+import { blockRowsFor } from "../weightedGram";
 import type { BackgroundComponent } from "./backgroundComponent";
 
 /**
@@ -54,14 +55,21 @@ export interface MixtureWorkspace {
   background: BackgroundComponent | null;
 }
 
-export function createWorkspace(data: RegressionData, k: number, intercept: boolean, joint: boolean, rows?: Int32Array): MixtureWorkspace {
+/**
+ * @param rows the rows of `data` this workspace holds (a subsample), or all rows in order
+ * @param copyPredictors whether a subsample keeps its own n x p copy of the predictors (the
+ *   joint model's x, location seeding and the moment warm start read it); a workspace only
+ *   EM runs on in the plain model does without (empty), which saves a large fresh array
+ */
+export function createWorkspace(data: RegressionData, k: number, intercept: boolean, joint: boolean, rows?: Int32Array, copyPredictors = true): MixtureWorkspace {
   const p = data.p;
   const q = intercept ? p + 1 : p;
   const n = rows ? rows.length : data.n;
   const design = new Float64Array(n * q);
   const y = new Float64Array(n);
-  // The full data's predictors are used in place; a subsample gets its own copy.
-  const predictors = rows ? new Float64Array(n * p) : data.x.subarray(0, n * p);
+  // The full data's predictors are used in place; a subsample gets its own copy when asked.
+  const copy = rows !== undefined && (copyPredictors || joint);
+  const predictors = !rows ? data.x.subarray(0, n * p) : new Float64Array(copy ? n * p : 0);
   // Copied value by value: a subarray view per row would allocate an object per row.
   const x = data.x;
   for (let i = 0; i < n; i++) {
@@ -72,23 +80,24 @@ export function createWorkspace(data: RegressionData, k: number, intercept: bool
     if (intercept) design[offset] = 1;
     const to = intercept ? offset + 1 : offset;
     for (let j = 0; j < p; j++) design[to + j] = x[from + j];
-    if (rows) for (let j = 0; j < p; j++) predictors[i * p + j] = x[from + j];
+    if (copy) for (let j = 0; j < p; j++) predictors[i * p + j] = x[from + j];
   }
   // Two passes over the rows (means, then centred squares: Chan, Golub & LeVeque 1983), each
-  // reading rows in order rather than one strided sweep per predictor.
+  // reading rows in order rather than one strided sweep per predictor; from the design's
+  // predictor columns, which every workspace holds.
+  const first = intercept ? 1 : 0;
   const predictorMeans = new Float64Array(p);
-  for (let i = 0; i < n; i++) for (let j = 0; j < p; j++) predictorMeans[j] += predictors[i * p + j];
+  for (let i = 0; i < n; i++) for (let j = 0; j < p; j++) predictorMeans[j] += design[i * q + first + j];
   for (let j = 0; j < p; j++) predictorMeans[j] /= n;
   const predictorVariances = new Float64Array(p);
   for (let i = 0; i < n; i++) {
     for (let j = 0; j < p; j++) {
-      const d = predictors[i * p + j] - predictorMeans[j];
+      const d = design[i * q + first + j] - predictorMeans[j];
       predictorVariances[j] += d * d;
     }
   }
   for (let j = 0; j < p; j++) predictorVariances[j] /= n;
-  // Two q x blockRows buffers of doubles fit in about 256 KB, a typical L2 cache.
-  const blockRows = Math.max(32, Math.floor(BLOCK_DOUBLES / Math.max(q, 1)));
+  const blockRows = blockRowsFor(q);
   return {
     n,
     p,
@@ -121,9 +130,6 @@ export function createWorkspace(data: RegressionData, k: number, intercept: bool
     background: null,
   };
 }
-
-/** Doubles per M-step block buffer (16384 x 8 bytes = 128 KB each). */
-const BLOCK_DOUBLES = 16384;
 
 /** Two-pass variance (mean first, then centred squares: Chan, Golub & LeVeque 1983). */
 function variance(values: Float64Array, n: number): number {
