@@ -43,7 +43,7 @@ export const NEGLIGIBLE_MEMBERSHIP = 1e-12;
  * is bound by stores to a q x q array.
  */
 export function mStepCoefficients(ws: MixtureWorkspace, params: MixtureParameters, guards: Guards): MStepReport {
-  const { n, q, k, design, y, memberships, grams, rightHandSides, sizes } = ws;
+  const { n, q, k, rowValues, rowStride, implicitOnes, y, memberships, grams, rightHandSides, sizes } = ws;
   const { blockRows, blockColumns, blockWeighted, blockY } = ws;
   const weightedSquares = ws.weightedSquares;
   grams.fill(0);
@@ -68,9 +68,10 @@ export function mStepCoefficients(ws: MixtureWorkspace, params: MixtureParameter
       for (let i = start; i < end; i++) {
         const w = memberships[i * k + c];
         if (w < NEGLIGIBLE_MEMBERSHIP) continue;
-        const rowOffset = i * q;
+        // Column j of the design is rowValues[rowOffset + j] after the implicit 1s (mixtureWorkspace.ts).
+        const rowOffset = i * rowStride - implicitOnes;
         for (let j = 0; j < q; j++) {
-          const value = design[rowOffset + j];
+          const value = j < implicitOnes ? 1 : rowValues[rowOffset + j];
           blockColumns[j * blockRows + m] = value;
           blockWeighted[j * blockRows + m] = w * value;
         }
@@ -121,13 +122,14 @@ export function mStepCoefficients(ws: MixtureWorkspace, params: MixtureParameter
 /** XᵀX and Xᵀy over all rows of the workspace, accumulated on first use. */
 function totalGram(ws: MixtureWorkspace): { gram: Float64Array; rightHandSide: Float64Array; squares: number } {
   if (ws.totalGram && ws.totalRightHandSide) return { gram: ws.totalGram, rightHandSide: ws.totalRightHandSide, squares: ws.totalSquares };
-  const { n, q, design, y, blockRows, blockColumns, blockY } = ws;
+  const { n, q, rowValues, rowStride, implicitOnes, y, blockRows, blockColumns, blockY } = ws;
   const gram = new Float64Array(q * q);
   const rightHandSide = new Float64Array(q);
   for (let start = 0; start < n; start += blockRows) {
     const m = Math.min(n, start + blockRows) - start;
     for (let r = 0; r < m; r++) {
-      for (let j = 0; j < q; j++) blockColumns[j * blockRows + r] = design[(start + r) * q + j];
+      const rowOffset = (start + r) * rowStride - implicitOnes;
+      for (let j = 0; j < q; j++) blockColumns[j * blockRows + r] = j < implicitOnes ? 1 : rowValues[rowOffset + j];
       blockY[r] = y[start + r];
     }
     for (let j = 0; j < q; j++) {

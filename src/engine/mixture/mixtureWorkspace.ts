@@ -15,8 +15,22 @@ export interface MixtureWorkspace {
   k: number;
   intercept: boolean;
   joint: boolean;
-  /** Row-major n x q design, a leading 1 per row when intercept. */
-  design: Float64Array;
+  /**
+   * Row-major n x q design, a leading 1 per row when intercept. On the full data it is made
+   * on first use only (the EM kernels read `rowValues` instead), so a large fit that never
+   * needs it saves the copy.
+   */
+  readonly design: Float64Array;
+  /**
+   * What the EM kernels read, row by row: `rowStride` values per row in `rowValues`, after
+   * `implicitOnes` leading 1s (the intercept column). The full data's own predictors when the
+   * workspace holds all rows (stride p, one implicit 1 with an intercept); a subsample's copied
+   * design otherwise (stride q, none). Column j of row i is 1 for j < implicitOnes, else
+   * rowValues[i·rowStride + j − implicitOnes].
+   */
+  rowValues: Float64Array;
+  rowStride: number;
+  implicitOnes: number;
   y: Float64Array;
   /** Row-major n x p predictors (the joint model's x). */
   predictors: Float64Array;
@@ -65,34 +79,45 @@ export function createWorkspace(data: RegressionData, k: number, intercept: bool
   const p = data.p;
   const q = intercept ? p + 1 : p;
   const n = rows ? rows.length : data.n;
-  const design = new Float64Array(n * q);
-  const y = new Float64Array(n);
-  // The full data's predictors are used in place; a subsample gets its own copy when asked.
-  const copy = rows !== undefined && (copyPredictors || joint);
-  const predictors = !rows ? data.x.subarray(0, n * p) : new Float64Array(copy ? n * p : 0);
-  // Copied value by value: a subarray view per row would allocate an object per row.
-  const x = data.x;
-  for (let i = 0; i < n; i++) {
-    const source = rows ? rows[i] : i;
-    y[i] = data.y[source];
-    const from = source * p;
-    const offset = i * q;
-    if (intercept) design[offset] = 1;
-    const to = intercept ? offset + 1 : offset;
-    for (let j = 0; j < p; j++) design[to + j] = x[from + j];
-    if (copy) for (let j = 0; j < p; j++) predictors[i * p + j] = x[from + j];
+  const ones = intercept ? 1 : 0;
+  // All rows: the data's own responses and predictors, used in place (no fresh n-sized copies:
+  // on this kind of machine the first touch of new memory costs more than a pass over it).
+  let design: Float64Array | null = null;
+  let y = data.y.subarray(0, n);
+  let predictors = data.x.subarray(0, n * p);
+  let rowValues = predictors;
+  let rowStride = p;
+  let implicitOnes = ones;
+  if (rows) {
+    // A subsample copies its rows' design (and predictors when asked), value by value: a
+    // subarray view per row would allocate an object per row.
+    design = new Float64Array(n * q);
+    y = new Float64Array(n);
+    const copy = copyPredictors || joint;
+    predictors = new Float64Array(copy ? n * p : 0);
+    const x = data.x;
+    for (let i = 0; i < n; i++) {
+      const from = rows[i] * p;
+      const offset = i * q;
+      y[i] = data.y[rows[i]];
+      if (intercept) design[offset] = 1;
+      for (let j = 0; j < p; j++) design[offset + ones + j] = x[from + j];
+      if (copy) for (let j = 0; j < p; j++) predictors[i * p + j] = x[from + j];
+    }
+    rowValues = design;
+    rowStride = q;
+    implicitOnes = 0;
   }
   // Two passes over the rows (means, then centred squares: Chan, Golub & LeVeque 1983), each
-  // reading rows in order rather than one strided sweep per predictor; from the design's
-  // predictor columns, which every workspace holds.
-  const first = intercept ? 1 : 0;
+  // reading rows in order rather than one strided sweep per predictor.
+  const first = rowStride - p;
   const predictorMeans = new Float64Array(p);
-  for (let i = 0; i < n; i++) for (let j = 0; j < p; j++) predictorMeans[j] += design[i * q + first + j];
+  for (let i = 0; i < n; i++) for (let j = 0; j < p; j++) predictorMeans[j] += rowValues[i * rowStride + first + j];
   for (let j = 0; j < p; j++) predictorMeans[j] /= n;
   const predictorVariances = new Float64Array(p);
   for (let i = 0; i < n; i++) {
     for (let j = 0; j < p; j++) {
-      const d = design[i * q + first + j] - predictorMeans[j];
+      const d = rowValues[i * rowStride + first + j] - predictorMeans[j];
       predictorVariances[j] += d * d;
     }
   }
@@ -105,7 +130,13 @@ export function createWorkspace(data: RegressionData, k: number, intercept: bool
     k,
     intercept,
     joint,
-    design,
+    get design(): Float64Array {
+      design ??= designFromPredictors(data.x, n, p, intercept);
+      return design;
+    },
+    rowValues,
+    rowStride,
+    implicitOnes,
     y,
     predictors,
     memberships: new Float64Array(n * k),
@@ -129,6 +160,18 @@ export function createWorkspace(data: RegressionData, k: number, intercept: bool
     predictorScratch: new Float64Array(p),
     background: null,
   };
+}
+
+/** The n x q design of the first n rows: a leading 1 per row when intercept, then the p predictors. */
+function designFromPredictors(x: Float64Array, n: number, p: number, intercept: boolean): Float64Array {
+  const q = intercept ? p + 1 : p;
+  const ones = q - p;
+  const design = new Float64Array(n * q);
+  for (let i = 0; i < n; i++) {
+    if (intercept) design[i * q] = 1;
+    for (let j = 0; j < p; j++) design[i * q + ones + j] = x[i * p + j];
+  }
+  return design;
 }
 
 /** Two-pass variance (mean first, then centred squares: Chan, Golub & LeVeque 1983). */
