@@ -5,8 +5,9 @@ import type { BackgroundComponent } from "./backgroundComponent";
 
 /**
  * One data set (the full data or a subsample) prepared for EM, with every scratch array the
- * phases need allocated once. Memory: n·(q + 2k + 1) doubles plus n·p in the joint model,
- * linear in rows × (predictors + components).
+ * phases need allocated once. Memory: n·(2k + 1) doubles on all rows (the data's own x and y
+ * are read in place; n·q more once the design is asked for), n·(q + 2k + 2) on a subsample plus
+ * n·p for its predictors when kept: linear in rows × (predictors + components).
  */
 export interface MixtureWorkspace {
   n: number;
