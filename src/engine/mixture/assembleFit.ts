@@ -86,8 +86,8 @@ export function assembleFit(
       const tau = row[j];
       memberships[i * k + j] = tau;
       if (tau > row[best]) best = j;
-      // EN = −Σ τ ln τ (Biernacki, Celeux & Govaert 2000), with 0 ln 0 = 0.
-      if (tau > 0) entropy -= tau * Math.log(tau);
+      // EN = −Σ τ ln τ (Biernacki, Celeux & Govaert 2000), with 0 ln 0 = 0 (and 1 ln 1 = 0 skipped).
+      if (tau > 0 && tau < 1) entropy -= tau * Math.log(tau);
     }
     labels[i] = best;
   }
