@@ -298,7 +298,10 @@ function heldOutLogLikelihoods(data: RegressionData, fit: MixtureFit, options: S
     const training = selectRows(data, kept);
     let trained: MixtureFit;
     try {
-      trained = fitMixture(training, { k: fit.k, seed: seed + f, intercept: fit.intercept, model: fit.model, restarts: options.restarts, background: options.background, previous: fit, signal: options.signal });
+      // The same model as the K's own fit, background included or not: with "auto", a fold
+      // that holds out the one slip would otherwise be fitted without it, and the slip then
+      // scored under the regressions alone.
+      trained = fitMixture(training, { k: fit.k, seed: seed + f, intercept: fit.intercept, model: fit.model, restarts: options.restarts, background: Boolean(fit.background), previous: fit, signal: options.signal });
     } catch (error) {
       if (error instanceof SkeinError && error.code === "cancelled") throw error;
       return null;
@@ -307,9 +310,22 @@ function heldOutLogLikelihoods(data: RegressionData, fit: MixtureFit, options: S
     const { matrix, q } = regressionMatrix(test.x, test.n, p, fit.intercept);
     const rowValues = new Float64Array(test.n);
     computeMemberships(trained, matrix, q, test.y, test.x, test.n, rowValues);
+    if (trained.background) {
+      // A held-out row's density includes the background's share π₀ / V (Banfield & Raftery
+      // 1993), with V the range of the whole data, as in the K's own fit.
+      const term = Math.log(trained.background.weight) + (fit.background?.logDensity ?? trained.background.logDensity);
+      for (let t = 0; t < test.n; t++) rowValues[t] = logAddExp(rowValues[t], term);
+    }
     held.forEach((row, t) => (values[row] = rowValues[t]));
   }
   return values;
+}
+
+/** ln(e^a + e^b) without overflow. */
+function logAddExp(a: number, b: number): number {
+  const high = Math.max(a, b);
+  if (high === -Infinity) return -Infinity;
+  return high + Math.log(Math.exp(a - high) + Math.exp(b - high));
 }
 
 function mean(values: Float64Array): number {

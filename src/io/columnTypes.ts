@@ -11,9 +11,11 @@
  * - Dates (workbook date cells, or date text) become serial day numbers, as
  *   Excel hands them to a function, and the column is kind "date".
  * - A column named like an identifier (ID, "Trip ID", customer_id, "Order
- *   no."), or whose values are all different whole numbers lying close
- *   together as a counter's do (over at least IDENTIFIER_MIN_ROWS rows), or
- *   all different text, is kind "identifier".
+ *   no."), or whose values are different whole numbers rising down the rows
+ *   and lying close together as a counter's do (over at least
+ *   IDENTIFIER_MIN_ROWS rows), or all different text, is kind "identifier".
+ *   Different whole numbers in any other order (Distance, Dose) are
+ *   measurements and stay predictors.
  * - A column holding one value only is no default predictor (it carries no
  *   information beside the intercept).
  * - A column of mostly text or booleans, with at most CATEGORY_MAX_LEVELS
@@ -264,7 +266,7 @@ function kindOf(name: string, values: readonly Cell[], filled: number, mixedStyl
   }
   if (looksLikeIdentifierName(name)) return { kind: "identifier", defaultPredictor: false, reason: "identifier, by its name" };
   if (2 * numbers > filled) {
-    if (numbers === filled && wholeAndDistinct && numbers >= IDENTIFIER_MIN_ROWS && isDense(values)) {
+    if (numbers === filled && wholeAndDistinct && numbers >= IDENTIFIER_MIN_ROWS && isCounter(values)) {
       return { kind: "identifier", defaultPredictor: false, reason: "identifier: every value a different whole number, as a counter" };
     }
     if (new Set(values.filter((v) => typeof v === "number")).size === 1) return { kind: "number", defaultPredictor: false, reason: "the same number in every row" };
@@ -281,21 +283,25 @@ function kindOf(name: string, values: readonly Cell[], filled: number, mixedStyl
 }
 
 /**
- * Whether different whole numbers lie close together, as a counter or a run
- * of codes does: max - min + 1 at most IDENTIFIER_SPREAD times their count.
- * Measured whole numbers (populations, amounts in cents) spread far wider.
+ * Whether different whole numbers run as a counter or a run of codes does:
+ * rising from each row to the next, and close together (max - min + 1 at
+ * most IDENTIFIER_SPREAD times their count). Measured whole numbers spread
+ * far wider (populations, amounts in cents) or come in no order (distances,
+ * doses): those are predictors.
  */
-function isDense(values: readonly Cell[]): boolean {
-  let min = Infinity;
-  let max = -Infinity;
+function isCounter(values: readonly Cell[]): boolean {
+  let first = NaN;
+  let previous = -Infinity;
   let count = 0;
   for (const v of values) {
     if (typeof v !== "number") continue;
+    if (!(v > previous)) return false;
+    if (count === 0) first = v;
+    previous = v;
     count++;
-    if (v < min) min = v;
-    if (v > max) max = v;
   }
-  return max - min + 1 <= IDENTIFIER_SPREAD * count;
+  // Rising, so the first is the smallest and the last the largest.
+  return previous - first + 1 <= IDENTIFIER_SPREAD * count;
 }
 
 /** "day first", "month first" or "unclear" for a column of a/b/year dates; "known" dates vote for neither. */

@@ -1,3 +1,4 @@
+import { referenceVariance } from "../referenceVariance";
 import type { RegressionData } from "../mixtureTypes";
 import { choleskyScratchLength } from "../cholesky";
 import { blockRowsFor } from "../weightedGram";
@@ -143,7 +144,7 @@ export function createWorkspace(data: RegressionData, k: number, intercept: bool
     memberships: new Float64Array(n * k),
     residuals: new Float64Array(n * k),
     rowLogLikelihood: new Float64Array(n),
-    yVariance: variance(y, n),
+    yVariance: referenceVariance(y, n),
     predictorVariances,
     grams: new Float64Array(k * q * q),
     rightHandSides: new Float64Array(k * q),
@@ -175,15 +176,3 @@ function designFromPredictors(x: Float64Array, n: number, p: number, intercept: 
   return design;
 }
 
-/** Two-pass variance (mean first, then centred squares: Chan, Golub & LeVeque 1983). */
-function variance(values: Float64Array, n: number): number {
-  let mean = 0;
-  for (let i = 0; i < n; i++) mean += values[i];
-  mean /= n;
-  let total = 0;
-  for (let i = 0; i < n; i++) {
-    const d = values[i] - mean;
-    total += d * d;
-  }
-  return total / n;
-}
