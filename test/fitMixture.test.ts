@@ -200,7 +200,7 @@ describe("the warm start is not reported as converged when a restructuring move 
   // Invented noisy demo data (4 components, 3 predictors, noise SD 0.3, 400 rows): on these
   // seeds split-and-merge or peeling found a fit no start reached (warmStart.converged
   // false "when the best starts disagree", which the pane shows as a warning).
-  it.each([2, 17])("seed %i", (seed) => {
+  it.each([26, 39])("seed %i", (seed) => {
     const problem = generateProblem({ n: 400, p: 3, k: 4, seed, sigma: 0.3, intercept: true, meanShift: 0.5 });
     const fit = fitMixture(problem.data, { k: 4, seed: 1 });
     expect(["split-and-merge", "peeling"]).toContain(fit.warmStart.method);

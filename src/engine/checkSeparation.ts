@@ -99,7 +99,8 @@ function separationOf(data: RegressionData, fit: MixtureFit): SeparationReport {
     for (let c = 0; c < k; c++) {
       const t = fit.memberships[i * k + c];
       if (t > largest) largest = t;
-      if (t > 0) entropy -= t * Math.log(t);
+      // 0 ln 0 = 0 and 1 ln 1 = 0: only memberships strictly between take a logarithm.
+      if (t > 0 && t < 1) entropy -= t * Math.log(t);
     }
     sumOfMax += largest;
   }

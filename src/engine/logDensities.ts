@@ -20,16 +20,26 @@ const NEGLIGIBLE_LOG_RATIO = -37;
  */
 export function membershipsFromLogTerms(terms: Float64Array, termOffset: number, k: number, memberships: Float64Array, offset: number): number {
   let largest = -Infinity;
-  for (let c = 0; c < k; c++) if (terms[termOffset + c] > largest) largest = terms[termOffset + c];
+  let at = 0;
+  for (let c = 0; c < k; c++) {
+    if (terms[termOffset + c] > largest) {
+      largest = terms[termOffset + c];
+      at = c;
+    }
+  }
   let sum = 0;
   for (let c = 0; c < k; c++) {
     const difference = terms[termOffset + c] - largest;
     // Below NEGLIGIBLE_LOG_RATIO the term cannot change the sum (which is at least 1) in
-    // double precision, so the exponential is skipped and the membership is exactly 0.
-    const e = difference > NEGLIGIBLE_LOG_RATIO ? Math.exp(difference) : 0;
+    // double precision, so the exponential is skipped and the membership is exactly 0; the
+    // largest term's own is exp(0) = 1.
+    const e = difference > NEGLIGIBLE_LOG_RATIO ? (c === at ? 1 : Math.exp(difference)) : 0;
     memberships[offset + c] = e;
     sum += e;
   }
+  // A row whose other terms are all negligible (most rows of well separated components) has
+  // memberships 0 and 1 already and ln Σ = largest + ln 1: no division, no logarithm.
+  if (sum === 1) return largest + 0;
   const inverse = 1 / sum;
   for (let c = 0; c < k; c++) memberships[offset + c] *= inverse;
   return largest + Math.log(sum);

@@ -1,6 +1,8 @@
 import type { MixtureFit, RegressionData } from "./mixtureTypes";
 import { predictorLogDensity, predictorModels } from "./computeMemberships";
 import { LOG_TWO_PI, membershipsFromLogTerms } from "./logDensities";
+import { accumulateGramBlock, blockRowsFor, dot } from "./weightedGram";
+import { NEGLIGIBLE_MEMBERSHIP } from "./mixture/mStep";
 
 /**
  * The observed information matrix of a mixture of regressions at a fit's parameters, by
@@ -51,9 +53,11 @@ export interface ObservedInformation {
  *   β_c η_j:  x · [−τ_c α_c (δ_cj − τ_j)];
  *   σ²_c σ²_d: δ_cd τ_c (r²/v³ − 1/(2v²) − γ_c²) + τ_c γ_c τ_d γ_d;
  *   σ²_c η_j: −τ_c γ_c (δ_cj − τ_j);   η_j η_l: n(π_j δ_jl − π_j π_l) − Σ_i (τ_j δ_jl − τ_j τ_l).
- * Each β block is a weighted Gram matrix over flat arrays (upper triangle, mirrored at the
- * end): about K(K + 1)/2 · q(q + 1)/2 multiply-adds per row instead of the dense (Kq)² of
- * s sᵀ.
+ * The rows go a block at a time: the per-row scalars first, then each β block as a weighted
+ * Gram matrix (the weighted-Gram kernel, weightedGram.ts) over the rows where both memberships
+ * reach NEGLIGIBLE_MEMBERSHIP (a term with a smaller one is below rounding: τ α stays under
+ * about 7.4e-12 / σ however far the row lies), and the q-vectors as dot products over the
+ * block. No n-sized array is made.
  */
 export function observedInformation(data: RegressionData, fit: MixtureFit): ObservedInformation {
   const k = fit.k;
@@ -62,10 +66,9 @@ export function observedInformation(data: RegressionData, fit: MixtureFit): Obse
   const n = data.n;
   const y = data.y;
   const x = data.x;
-  // Memberships come from the E-step kernel in the same pass (no n x k array, no design copy:
-  // each row's design values go to a q-long scratch).
   const models = fit.model === "joint" ? predictorModels(fit) : null;
   const predictorScratch = new Float64Array(p);
+  // Each row's design values (a q-long scratch: no design copy).
   const design = new Float64Array(q);
   const background = fit.background ?? null;
   // One more log term for the background, when the fit has one.
@@ -82,6 +85,8 @@ export function observedInformation(data: RegressionData, fit: MixtureFit): Obse
   const componentShare = background ? 1 - background.weight : 1;
   const weights = Float64Array.from(fit.components, (c) => c.weight / componentShare);
   const variances = Float64Array.from(fit.components, (c) => c.sigma * c.sigma);
+  const inverseVariances = variances.map((v) => 1 / v);
+  const intercept = fit.intercept;
   const shift = fit.components[0].coefficients.length - q;
   const constant = Float64Array.from(fit.components, (c) => Math.log(c.weight) - 0.5 * (LOG_TWO_PI + Math.log(c.sigma * c.sigma)));
   const coefficients = new Float64Array(k * q);
@@ -91,8 +96,9 @@ export function observedInformation(data: RegressionData, fit: MixtureFit): Obse
   // β-σ² and β-logit blocks, and the small σ²/logit blocks.
   const pairs = (k * (k + 1)) / 2;
   const grams = new Float64Array(pairs * q * q);
-  const betaVariance = new Float64Array(k * k * q);
-  const betaLogit = new Float64Array(k * logits * q);
+  const vectors = k * k + k * logits;
+  // β-σ² vectors (k·k of them) then β-logit vectors (k·logits), q each.
+  const betaVectors = new Float64Array(vectors * q);
   const varianceVariance = new Float64Array(k * k);
   const varianceLogit = new Float64Array(k * logits);
   const logitLogit = new Float64Array(logits * logits);
@@ -101,74 +107,93 @@ export function observedInformation(data: RegressionData, fit: MixtureFit): Obse
   const alpha = new Float64Array(k);
   const gamma = new Float64Array(k);
   const curvature = new Float64Array(k);
-  const pairWeight = new Float64Array(pairs);
-  const vectorWeight = new Float64Array(k * k + k * logits);
+  // Block buffers: the design (column-major), each row's memberships, pair and vector weights,
+  // and the gathered columns of one pair's rows.
+  const blockRows = blockRowsFor(q);
+  const block = new Float64Array(q * blockRows);
+  const blockTau = new Float64Array(k * blockRows);
+  const pairWeights = new Float64Array(pairs * blockRows);
+  const vectorWeights = new Float64Array(vectors * blockRows);
+  const gathered = new Float64Array(q * blockRows);
+  const weighted = new Float64Array(q * blockRows);
+  const pairFirst = new Int32Array(pairs);
+  const pairSecond = new Int32Array(pairs);
+  for (let c = 0, t = 0; c < k; c++) for (let d = c; d < k; d++, t++) [pairFirst[t], pairSecond[t]] = [c, d];
 
-  for (let i = 0; i < n; i++) {
-    if (fit.intercept) design[0] = 1;
-    for (let j = 0; j < p; j++) design[q - p + j] = x[i * p + j];
-    for (let c = 0; c < k; c++) {
-      let fitted = 0;
-      for (let j = 0; j < q; j++) fitted += design[j] * coefficients[c * q + j];
-      const r = y[i] - fitted;
-      residual[c] = r;
-      let value = constant[c] - (0.5 * r * r) / variances[c];
-      if (models) value += predictorLogDensity(models[c], x, i * p, p, predictorScratch);
-      logTerm[c] = value;
-    }
-    membershipsFromLogTerms(logTerm, 0, terms, posterior, 0);
-    let total = 0;
-    for (let c = 0; c < k; c++) {
-      tau[c] = posterior[c];
-      total += posterior[c];
-    }
-    const outside = 1 - total;
-    for (let c = 0; c < k; c++) {
-      const r = residual[c];
-      const v = variances[c];
-      alpha[c] = r / v;
-      gamma[c] = (r * r / v - 1) / (2 * v);
-      curvature[c] = r * r / (v * v * v) - 1 / (2 * v * v);
-    }
-    let t = 0;
-    for (let c = 0; c < k; c++) {
-      const ta = tau[c] * alpha[c];
-      for (let d = c; d < k; d++) pairWeight[t++] = (c === d ? tau[c] * (1 / variances[c] - alpha[c] * alpha[c]) : 0) + ta * tau[d] * alpha[d];
-    }
-    // Σ w_cd x xᵀ over the upper triangle, one contiguous row segment at a time.
-    for (let pair = 0; pair < pairs; pair++) {
-      const w = pairWeight[pair];
-      if (w === 0) continue;
-      const base = pair * q * q;
-      for (let a = 0; a < q; a++) {
-        const wa = w * design[a];
-        const out = base + a * q;
-        for (let b = a; b < q; b++) grams[out + b] += wa * design[b];
+  for (let start = 0; start < n; start += blockRows) {
+    const m = Math.min(n, start + blockRows) - start;
+    for (let r = 0; r < m; r++) {
+      const i = start + r;
+      if (intercept) design[0] = 1;
+      for (let j = 0; j < p; j++) design[q - p + j] = x[i * p + j];
+      for (let j = 0; j < q; j++) block[j * blockRows + r] = design[j];
+      for (let c = 0; c < k; c++) {
+        let fitted = 0;
+        for (let j = 0; j < q; j++) fitted += design[j] * coefficients[c * q + j];
+        const residualValue = y[i] - fitted;
+        residual[c] = residualValue;
+        let value = constant[c] - (0.5 * residualValue * residualValue) / variances[c];
+        if (models) value += predictorLogDensity(models[c], x, i * p, p, predictorScratch);
+        logTerm[c] = value;
       }
-    }
-    for (let c = 0; c < k; c++) {
-      const ta = tau[c] * alpha[c];
-      const tg = tau[c] * gamma[c];
-      for (let d = 0; d < k; d++) {
-        vectorWeight[c * k + d] = (c === d ? ta * (1 / variances[c] - gamma[c]) : 0) + ta * tau[d] * gamma[d];
-        varianceVariance[c * k + d] += (c === d ? tau[c] * (curvature[c] - gamma[c] * gamma[c]) : 0) + tg * tau[d] * gamma[d];
+      membershipsFromLogTerms(logTerm, 0, terms, posterior, 0);
+      let total = 0;
+      for (let c = 0; c < k; c++) {
+        tau[c] = posterior[c];
+        total += posterior[c];
+      }
+      const outside = 1 - total;
+      for (let c = 0; c < k; c++) {
+        const rc = residual[c];
+        const w = inverseVariances[c];
+        alpha[c] = rc * w;
+        gamma[c] = 0.5 * (rc * rc * w - 1) * w;
+        curvature[c] = (rc * rc * w - 0.5) * w * w;
+        blockTau[c * blockRows + r] = tau[c];
+      }
+      for (let t = 0; t < pairs; t++) {
+        const c = pairFirst[t];
+        const d = pairSecond[t];
+        pairWeights[t * blockRows + r] = (c === d ? tau[c] * (inverseVariances[c] - alpha[c] * alpha[c]) : 0) + tau[c] * alpha[c] * tau[d] * alpha[d];
+      }
+      for (let c = 0; c < k; c++) {
+        const ta = tau[c] * alpha[c];
+        const tg = tau[c] * gamma[c];
+        for (let d = 0; d < k; d++) {
+          vectorWeights[(c * k + d) * blockRows + r] = (c === d ? ta * (inverseVariances[c] - gamma[c]) : 0) + ta * tau[d] * gamma[d];
+          varianceVariance[c * k + d] += (c === d ? tau[c] * (curvature[c] - gamma[c] * gamma[c]) : 0) + tg * tau[d] * gamma[d];
+        }
+        for (let j = 0; j < logits; j++) {
+          const indicator = (c === j ? 1 : 0) - tau[j] - outside * weights[j];
+          vectorWeights[(k * k + c * logits + j) * blockRows + r] = -ta * indicator;
+          varianceLogit[c * logits + j] -= tg * indicator;
+        }
       }
       for (let j = 0; j < logits; j++) {
-        const indicator = (c === j ? 1 : 0) - tau[j] - outside * weights[j];
-        vectorWeight[k * k + c * logits + j] = -ta * indicator;
-        varianceLogit[c * logits + j] -= tg * indicator;
+        for (let l = 0; l < logits; l++) {
+          logitLogit[j * logits + l] +=
+            (j === l ? (total * weights[j] - tau[j]) : 0) + tau[j] * tau[l] + outside * (tau[j] * weights[l] + weights[j] * tau[l]) - (2 * total - total * total) * weights[j] * weights[l];
+        }
       }
     }
-    for (let j = 0; j < logits; j++) {
-      for (let l = 0; l < logits; l++) {
-        logitLogit[j * logits + l] +=
-          (j === l ? (total * weights[j] - tau[j]) : 0) + tau[j] * tau[l] + outside * (tau[j] * weights[l] + weights[j] * tau[l]) - (2 * total - total * total) * weights[j] * weights[l];
-      }
+    for (let e = 0; e < vectors; e++) {
+      for (let a = 0; a < q; a++) betaVectors[e * q + a] += dot(vectorWeights, e * blockRows, block, a * blockRows, m);
     }
-    for (let a = 0; a < q; a++) {
-      const xa = design[a];
-      for (let e = 0; e < k * k; e++) betaVariance[e * q + a] += vectorWeight[e] * xa;
-      for (let e = 0; e < k * logits; e++) betaLogit[e * q + a] += vectorWeight[k * k + e] * xa;
+    for (let t = 0; t < pairs; t++) {
+      const c = pairFirst[t];
+      const d = pairSecond[t];
+      let rows = 0;
+      for (let r = 0; r < m; r++) {
+        if (blockTau[c * blockRows + r] < NEGLIGIBLE_MEMBERSHIP || blockTau[d * blockRows + r] < NEGLIGIBLE_MEMBERSHIP) continue;
+        const w = pairWeights[t * blockRows + r];
+        for (let j = 0; j < q; j++) {
+          const value = block[j * blockRows + r];
+          gathered[j * blockRows + rows] = value;
+          weighted[j * blockRows + rows] = w * value;
+        }
+        rows++;
+      }
+      if (rows > 0) accumulateGramBlock(weighted, gathered, blockRows, rows, q, grams, t * q * q);
     }
   }
 
@@ -191,11 +216,11 @@ export function observedInformation(data: RegressionData, fit: MixtureFit): Obse
   }
   for (let c = 0; c < k; c++) {
     for (let d = 0; d < k; d++) {
-      for (let a = 0; a < q; a++) set(c * q + a, varianceOffset + d, betaVariance[(c * k + d) * q + a]);
+      for (let a = 0; a < q; a++) set(c * q + a, varianceOffset + d, betaVectors[(c * k + d) * q + a]);
       info[(varianceOffset + c) * size + varianceOffset + d] = varianceVariance[c * k + d];
     }
     for (let j = 0; j < logits; j++) {
-      for (let a = 0; a < q; a++) set(c * q + a, logitOffset + j, betaLogit[(c * logits + j) * q + a]);
+      for (let a = 0; a < q; a++) set(c * q + a, logitOffset + j, betaVectors[(k * k + c * logits + j) * q + a]);
       set(varianceOffset + c, logitOffset + j, varianceLogit[c * logits + j]);
     }
   }

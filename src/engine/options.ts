@@ -91,7 +91,7 @@ export const OPTIONS: readonly OptionSpec[] = [
     high: 1,
     default: DEFAULT_TOLERANCE,
     accepts: "a number above 0 and below 1, such as 1e-8",
-    meaning: "the refinement stops when the log-likelihood changes by less than this (relative)",
+    meaning: "the refinement stops when the log-likelihood changes, or is set to gain in all further iterations, by less than this (relative)",
   },
   {
     name: "max_iterations",

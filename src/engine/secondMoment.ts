@@ -1,4 +1,5 @@
 import type { RegressionData } from "./mixtureTypes";
+import { accumulateGramBlock, blockRowsFor } from "./weightedGram";
 
 /**
  * Ê[xxᵀ] = (1/n) Σ_i x̃_i x̃_iᵀ over the rows, with x̃_i = (1, x_i): (p + 1) x (p + 1) row-major,
@@ -9,16 +10,14 @@ export function secondMoment(data: RegressionData): Float64Array {
   const { x, n, p } = data;
   const size = p + 1;
   const moment = new Float64Array(size * size);
-  const row = new Float64Array(size);
-  row[0] = 1;
-  for (let i = 0; i < n; i++) {
-    for (let j = 0; j < p; j++) row[j + 1] = x[i * p + j];
-    // Upper triangle only; mirrored below.
-    for (let a = 0; a < size; a++) {
-      const ra = row[a];
-      const offset = a * size;
-      for (let b = a; b < size; b++) moment[offset + b] += ra * row[b];
-    }
+  // A block of rows at a time through the weighted-Gram kernel (unit weights): upper triangle.
+  const blockRows = blockRowsFor(size);
+  const columns = new Float64Array(size * blockRows);
+  columns.fill(1, 0, blockRows);
+  for (let start = 0; start < n; start += blockRows) {
+    const m = Math.min(n, start + blockRows) - start;
+    for (let r = 0; r < m; r++) for (let j = 0; j < p; j++) columns[(j + 1) * blockRows + r] = x[(start + r) * p + j];
+    accumulateGramBlock(columns, columns, blockRows, m, size, moment, 0);
   }
   for (let a = 0; a < size; a++) {
     for (let b = a; b < size; b++) {

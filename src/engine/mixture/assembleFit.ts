@@ -72,17 +72,22 @@ export function assembleFit(
   }
   const order = canonicalOrder(unordered);
   const params = permuteParameters(unordered, order);
-  const memberships = new Float64Array(n * k);
+  // The workspace's memberships, put in the reported order in place, become the fit's: the
+  // workspace ends with the fit, and a fresh n x k array on large inputs costs more than the
+  // pass that fills it (the operating system zeroes every new page on first touch).
+  const memberships = ws.memberships;
+  const row = ws.rowScratch;
   const labels = new Int32Array(n);
   let entropy = 0;
   for (let i = 0; i < n; i++) {
+    for (let j = 0; j < k; j++) row[j] = memberships[i * k + order[j]];
     let best = 0;
     for (let j = 0; j < k; j++) {
-      const tau = ws.memberships[i * k + order[j]];
+      const tau = row[j];
       memberships[i * k + j] = tau;
-      if (tau > memberships[i * k + best]) best = j;
-      // EN = −Σ τ ln τ (Biernacki, Celeux & Govaert 2000), with 0 ln 0 = 0.
-      if (tau > 0) entropy -= tau * Math.log(tau);
+      if (tau > row[best]) best = j;
+      // EN = −Σ τ ln τ (Biernacki, Celeux & Govaert 2000), with 0 ln 0 = 0 (and 1 ln 1 = 0 skipped).
+      if (tau > 0 && tau < 1) entropy -= tau * Math.log(tau);
     }
     labels[i] = best;
   }

@@ -15,11 +15,31 @@ export const DISAGREEMENT_RELATIVE = 0.01;
  */
 const SAME_FIT_RELATIVE = 0.05;
 
-/** Whether the best candidate's fit was also reached by another start (same ln L, same coefficients). */
-export function bestFoundTwice(candidates: readonly Candidate[]): boolean {
+/**
+ * Whether the best candidate's fit was also reached by another start (same ln L, same
+ * coefficients); with `freshFrom`, one of the two must be candidate freshFrom or later.
+ */
+export function bestFoundTwice(candidates: readonly Candidate[], freshFrom = 0): boolean {
+  const best = bestOf(candidates);
+  const bestIsFresh = candidates.indexOf(best) >= freshFrom;
+  return candidates.some((c, index) => c !== best && (bestIsFresh || index >= freshFrom) && sameFit(c, best));
+}
+
+/** Whether every candidate reached the best one's fit. */
+export function allFoundAlike(candidates: readonly Candidate[]): boolean {
+  const best = bestOf(candidates);
+  return candidates.every((c) => c === best || sameFit(c, best));
+}
+
+function bestOf(candidates: readonly Candidate[]): Candidate {
   let best = candidates[0];
   for (const c of candidates) if (c.logLikelihood > best.logLikelihood) best = c;
-  return candidates.some((c) => c !== best && c.logLikelihood >= best.logLikelihood - LIKELIHOOD_TIE && coefficientDistance(c.params, best.params) <= SAME_FIT_RELATIVE);
+  return best;
+}
+
+/** Same ln L (within LIKELIHOOD_TIE below the best) and the same coefficients (within SAME_FIT_RELATIVE). */
+function sameFit(candidate: Candidate, best: Candidate): boolean {
+  return candidate.logLikelihood >= best.logLikelihood - LIKELIHOOD_TIE && coefficientDistance(candidate.params, best.params) <= SAME_FIT_RELATIVE;
 }
 
 /**

@@ -10,15 +10,17 @@ import { gaussianLogDensity, LOG_TWO_PI, membershipsFromLogTerms } from "../logD
  * residuals once.
  */
 export function computeResiduals(ws: MixtureWorkspace, params: MixtureParameters): void {
-  const { n, q, k, design, y, residuals } = ws;
+  const { n, q, k, rowValues, rowStride, implicitOnes, y, residuals } = ws;
   const beta = params.coefficients;
   for (let i = 0; i < n; i++) {
-    const rowOffset = i * q;
+    // Column j of the design is rowValues[rowOffset + j] (after the implicit 1s: mixtureWorkspace.ts).
+    const rowOffset = i * rowStride - implicitOnes;
     const yi = y[i];
     for (let c = 0; c < k; c++) {
       const betaOffset = c * q;
       let fitted = 0;
-      for (let j = 0; j < q; j++) fitted += design[rowOffset + j] * beta[betaOffset + j];
+      for (let j = 0; j < implicitOnes; j++) fitted += beta[betaOffset + j];
+      for (let j = implicitOnes; j < q; j++) fitted += rowValues[rowOffset + j] * beta[betaOffset + j];
       residuals[i * k + c] = yi - fitted;
     }
   }
@@ -34,7 +36,7 @@ export function computeResiduals(ws: MixtureWorkspace, params: MixtureParameters
  * @returns the log-likelihood Σ_i log Σ_k π_k φ_ik; the per-row terms go to ws.rowLogLikelihood
  */
 export function eStep(ws: MixtureWorkspace, params: MixtureParameters, withResiduals = false): number {
-  const { n, q, k, design, y, residuals, memberships, rowLogLikelihood } = ws;
+  const { n, q, k, rowValues, rowStride, implicitOnes, y, residuals, memberships, rowLogLikelihood } = ws;
   const beta = params.coefficients;
   const logTerm = ws.rowScratch;
   // Per-component constants: log π_k − ½ ln(2π σ_k²) and −1/(2σ_k²).
@@ -57,10 +59,11 @@ export function eStep(ws: MixtureWorkspace, params: MixtureParameters, withResid
     const offset = i * k;
     if (withResiduals) {
       // Fused with computeResiduals: one sweep of the design per iteration instead of two.
-      const rowOffset = i * q;
+      const rowOffset = i * rowStride - implicitOnes;
       for (let c = 0; c < k; c++) {
         let fitted = 0;
-        for (let j = 0; j < q; j++) fitted += design[rowOffset + j] * beta[c * q + j];
+        for (let j = 0; j < implicitOnes; j++) fitted += beta[c * q + j];
+        for (let j = implicitOnes; j < q; j++) fitted += rowValues[rowOffset + j] * beta[c * q + j];
         residuals[offset + c] = y[i] - fitted;
       }
     }

@@ -30,7 +30,8 @@ export function finishOnAllRows(ctx: FitContext, incumbent: Incumbent): OnAllRow
   let subsampleIterations = incumbent.run.iterations;
   if (full.n > INTERMEDIATE_FRACTION * 2 * working.n) {
     const rows = sampleIndices(full.n, Math.floor(full.n / INTERMEDIATE_FRACTION), ctx.random);
-    const intermediate = withBackground(createWorkspace(ctx.data, settings.k, settings.intercept, full.joint, rows), settings.background, full);
+    // Only EM runs here: no copy of the predictors beyond the design (the joint model keeps one).
+    const intermediate = withBackground(createWorkspace(ctx.data, settings.k, settings.intercept, full.joint, rows, false), settings.background, full);
     subsampleIterations += runEm(intermediate, params, ctx, settings.maxIterations).iterations;
   }
   const fromSubsample = incumbent.run;

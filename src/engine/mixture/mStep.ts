@@ -2,6 +2,7 @@ import type { MixtureParameters } from "./mixtureParameters";
 import type { MixtureWorkspace } from "./mixtureWorkspace";
 import { choleskyScratchLength, scaledCholeskyLower, scaledCholeskySolve } from "../cholesky";
 import { constrainedVariances } from "./constrainedVariances";
+import { accumulateGramBlock, dot } from "../weightedGram";
 
 /** What an M-step changed beyond the parameters themselves. */
 export interface MStepReport {
@@ -42,7 +43,7 @@ export const NEGLIGIBLE_MEMBERSHIP = 1e-12;
  * is bound by stores to a q x q array.
  */
 export function mStepCoefficients(ws: MixtureWorkspace, params: MixtureParameters, guards: Guards): MStepReport {
-  const { n, q, k, design, y, memberships, grams, rightHandSides, sizes } = ws;
+  const { n, q, k, rowValues, rowStride, implicitOnes, y, memberships, grams, rightHandSides, sizes } = ws;
   const { blockRows, blockColumns, blockWeighted, blockY } = ws;
   const weightedSquares = ws.weightedSquares;
   grams.fill(0);
@@ -67,9 +68,10 @@ export function mStepCoefficients(ws: MixtureWorkspace, params: MixtureParameter
       for (let i = start; i < end; i++) {
         const w = memberships[i * k + c];
         if (w < NEGLIGIBLE_MEMBERSHIP) continue;
-        const rowOffset = i * q;
+        // Column j of the design is rowValues[rowOffset + j] after the implicit 1s (mixtureWorkspace.ts).
+        const rowOffset = i * rowStride - implicitOnes;
         for (let j = 0; j < q; j++) {
-          const value = design[rowOffset + j];
+          const value = j < implicitOnes ? 1 : rowValues[rowOffset + j];
           blockColumns[j * blockRows + m] = value;
           blockWeighted[j * blockRows + m] = w * value;
         }
@@ -120,13 +122,14 @@ export function mStepCoefficients(ws: MixtureWorkspace, params: MixtureParameter
 /** XᵀX and Xᵀy over all rows of the workspace, accumulated on first use. */
 function totalGram(ws: MixtureWorkspace): { gram: Float64Array; rightHandSide: Float64Array; squares: number } {
   if (ws.totalGram && ws.totalRightHandSide) return { gram: ws.totalGram, rightHandSide: ws.totalRightHandSide, squares: ws.totalSquares };
-  const { n, q, design, y, blockRows, blockColumns, blockY } = ws;
+  const { n, q, rowValues, rowStride, implicitOnes, y, blockRows, blockColumns, blockY } = ws;
   const gram = new Float64Array(q * q);
   const rightHandSide = new Float64Array(q);
   for (let start = 0; start < n; start += blockRows) {
     const m = Math.min(n, start + blockRows) - start;
     for (let r = 0; r < m; r++) {
-      for (let j = 0; j < q; j++) blockColumns[j * blockRows + r] = design[(start + r) * q + j];
+      const rowOffset = (start + r) * rowStride - implicitOnes;
+      for (let j = 0; j < q; j++) blockColumns[j * blockRows + r] = j < implicitOnes ? 1 : rowValues[rowOffset + j];
       blockY[r] = y[start + r];
     }
     for (let j = 0; j < q; j++) {
@@ -140,61 +143,6 @@ function totalGram(ws: MixtureWorkspace): { gram: Float64Array; rightHandSide: F
   ws.totalRightHandSide = rightHandSide;
   ws.totalSquares = squares;
   return { gram, rightHandSide, squares };
-}
-
-/**
- * Adds the upper triangle of Wᵀ X for one block (W = weighted columns, X = plain columns, both
- * q x m column-major with stride `stride`) into gram[offset + j·q + l], l ≥ j. Four weighted
- * columns share each load of a plain column (a 4 x 1 register block), so each loaded value
- * feeds four multiply-adds instead of one.
- */
-function accumulateGramBlock(weighted: Float64Array, columns: Float64Array, stride: number, m: number, q: number, gram: Float64Array, offset: number): void {
-  let j = 0;
-  for (; j + 3 < q; j += 4) {
-    const w0 = j * stride;
-    const w1 = w0 + stride;
-    const w2 = w1 + stride;
-    const w3 = w2 + stride;
-    for (let l = j; l < q; l++) {
-      const x = l * stride;
-      let s0 = 0;
-      let s1 = 0;
-      let s2 = 0;
-      let s3 = 0;
-      for (let i = 0; i < m; i++) {
-        const value = columns[x + i];
-        s0 += weighted[w0 + i] * value;
-        s1 += weighted[w1 + i] * value;
-        s2 += weighted[w2 + i] * value;
-        s3 += weighted[w3 + i] * value;
-      }
-      // Entries left of the diagonal (l < j + t) are the lower triangle: computed, not stored.
-      gram[offset + j * q + l] += s0;
-      if (l >= j + 1) gram[offset + (j + 1) * q + l] += s1;
-      if (l >= j + 2) gram[offset + (j + 2) * q + l] += s2;
-      if (l >= j + 3) gram[offset + (j + 3) * q + l] += s3;
-    }
-  }
-  for (; j < q; j++) {
-    for (let l = j; l < q; l++) gram[offset + j * q + l] += dot(weighted, j * stride, columns, l * stride, m);
-  }
-}
-
-/** Σ a[aOffset + i] b[bOffset + i] for i < m, four partial sums to shorten the dependency chain. */
-function dot(a: Float64Array, aOffset: number, b: Float64Array, bOffset: number, m: number): number {
-  let s0 = 0;
-  let s1 = 0;
-  let s2 = 0;
-  let s3 = 0;
-  let i = 0;
-  for (; i + 3 < m; i += 4) {
-    s0 += a[aOffset + i] * b[bOffset + i];
-    s1 += a[aOffset + i + 1] * b[bOffset + i + 1];
-    s2 += a[aOffset + i + 2] * b[bOffset + i + 2];
-    s3 += a[aOffset + i + 3] * b[bOffset + i + 3];
-  }
-  for (; i < m; i++) s0 += a[aOffset + i] * b[bOffset + i];
-  return s0 + s1 + (s2 + s3);
 }
 
 /**

@@ -1,12 +1,14 @@
 import { referenceVariance } from "../referenceVariance";
 import type { RegressionData } from "../mixtureTypes";
 import { choleskyScratchLength } from "../cholesky";
+import { blockRowsFor } from "../weightedGram";
 import type { BackgroundComponent } from "./backgroundComponent";
 
 /**
  * One data set (the full data or a subsample) prepared for EM, with every scratch array the
- * phases need allocated once. Memory: n·(q + 2k + 1) doubles plus n·p in the joint model,
- * linear in rows × (predictors + components).
+ * phases need allocated once. Memory: n·(2k + 1) doubles on all rows (the data's own x and y
+ * are read in place; n·q more once the design is asked for), n·(q + 2k + 2) on a subsample plus
+ * n·p for its predictors when kept: linear in rows × (predictors + components).
  */
 export interface MixtureWorkspace {
   n: number;
@@ -15,8 +17,22 @@ export interface MixtureWorkspace {
   k: number;
   intercept: boolean;
   joint: boolean;
-  /** Row-major n x q design, a leading 1 per row when intercept. */
-  design: Float64Array;
+  /**
+   * Row-major n x q design, a leading 1 per row when intercept. On the full data it is made
+   * on first use only (the EM kernels read `rowValues` instead), so a large fit that never
+   * needs it saves the copy.
+   */
+  readonly design: Float64Array;
+  /**
+   * What the EM kernels read, row by row: `rowStride` values per row in `rowValues`, after
+   * `implicitOnes` leading 1s (the intercept column). The full data's own predictors when the
+   * workspace holds all rows (stride p, one implicit 1 with an intercept); a subsample's copied
+   * design otherwise (stride q, none). Column j of row i is 1 for j < implicitOnes, else
+   * rowValues[i·rowStride + j − implicitOnes].
+   */
+  rowValues: Float64Array;
+  rowStride: number;
+  implicitOnes: number;
   y: Float64Array;
   /** Row-major n x p predictors (the joint model's x). */
   predictors: Float64Array;
@@ -55,41 +71,60 @@ export interface MixtureWorkspace {
   background: BackgroundComponent | null;
 }
 
-export function createWorkspace(data: RegressionData, k: number, intercept: boolean, joint: boolean, rows?: Int32Array): MixtureWorkspace {
+/**
+ * @param rows the rows of `data` this workspace holds (a subsample), or all rows in order
+ * @param copyPredictors whether a subsample keeps its own n x p copy of the predictors (the
+ *   joint model's x, location seeding and the moment warm start read it); a workspace only
+ *   EM runs on in the plain model does without (empty), which saves a large fresh array
+ */
+export function createWorkspace(data: RegressionData, k: number, intercept: boolean, joint: boolean, rows?: Int32Array, copyPredictors = true): MixtureWorkspace {
   const p = data.p;
   const q = intercept ? p + 1 : p;
   const n = rows ? rows.length : data.n;
-  const design = new Float64Array(n * q);
-  const y = new Float64Array(n);
-  // The full data's predictors are used in place; a subsample gets its own copy.
-  const predictors = rows ? new Float64Array(n * p) : data.x.subarray(0, n * p);
-  // Copied value by value: a subarray view per row would allocate an object per row.
-  const x = data.x;
-  for (let i = 0; i < n; i++) {
-    const source = rows ? rows[i] : i;
-    y[i] = data.y[source];
-    const from = source * p;
-    const offset = i * q;
-    if (intercept) design[offset] = 1;
-    const to = intercept ? offset + 1 : offset;
-    for (let j = 0; j < p; j++) design[to + j] = x[from + j];
-    if (rows) for (let j = 0; j < p; j++) predictors[i * p + j] = x[from + j];
+  const ones = intercept ? 1 : 0;
+  // All rows: the data's own responses and predictors, used in place (no fresh n-sized copies:
+  // on this kind of machine the first touch of new memory costs more than a pass over it).
+  let design: Float64Array | null = null;
+  let y = data.y.subarray(0, n);
+  let predictors = data.x.subarray(0, n * p);
+  let rowValues = predictors;
+  let rowStride = p;
+  let implicitOnes = ones;
+  if (rows) {
+    // A subsample copies its rows' design (and predictors when asked), value by value: a
+    // subarray view per row would allocate an object per row.
+    design = new Float64Array(n * q);
+    y = new Float64Array(n);
+    const copy = copyPredictors || joint;
+    predictors = new Float64Array(copy ? n * p : 0);
+    const x = data.x;
+    for (let i = 0; i < n; i++) {
+      const from = rows[i] * p;
+      const offset = i * q;
+      y[i] = data.y[rows[i]];
+      if (intercept) design[offset] = 1;
+      for (let j = 0; j < p; j++) design[offset + ones + j] = x[from + j];
+      if (copy) for (let j = 0; j < p; j++) predictors[i * p + j] = x[from + j];
+    }
+    rowValues = design;
+    rowStride = q;
+    implicitOnes = 0;
   }
   // Two passes over the rows (means, then centred squares: Chan, Golub & LeVeque 1983), each
   // reading rows in order rather than one strided sweep per predictor.
+  const first = rowStride - p;
   const predictorMeans = new Float64Array(p);
-  for (let i = 0; i < n; i++) for (let j = 0; j < p; j++) predictorMeans[j] += predictors[i * p + j];
+  for (let i = 0; i < n; i++) for (let j = 0; j < p; j++) predictorMeans[j] += rowValues[i * rowStride + first + j];
   for (let j = 0; j < p; j++) predictorMeans[j] /= n;
   const predictorVariances = new Float64Array(p);
   for (let i = 0; i < n; i++) {
     for (let j = 0; j < p; j++) {
-      const d = predictors[i * p + j] - predictorMeans[j];
+      const d = rowValues[i * rowStride + first + j] - predictorMeans[j];
       predictorVariances[j] += d * d;
     }
   }
   for (let j = 0; j < p; j++) predictorVariances[j] /= n;
-  // Two q x blockRows buffers of doubles fit in about 256 KB, a typical L2 cache.
-  const blockRows = Math.max(32, Math.floor(BLOCK_DOUBLES / Math.max(q, 1)));
+  const blockRows = blockRowsFor(q);
   return {
     n,
     p,
@@ -97,7 +132,13 @@ export function createWorkspace(data: RegressionData, k: number, intercept: bool
     k,
     intercept,
     joint,
-    design,
+    get design(): Float64Array {
+      design ??= designFromPredictors(data.x, n, p, intercept);
+      return design;
+    },
+    rowValues,
+    rowStride,
+    implicitOnes,
     y,
     predictors,
     memberships: new Float64Array(n * k),
@@ -123,6 +164,15 @@ export function createWorkspace(data: RegressionData, k: number, intercept: bool
   };
 }
 
-/** Doubles per M-step block buffer (16384 x 8 bytes = 128 KB each). */
-const BLOCK_DOUBLES = 16384;
+/** The n x q design of the first n rows: a leading 1 per row when intercept, then the p predictors. */
+function designFromPredictors(x: Float64Array, n: number, p: number, intercept: boolean): Float64Array {
+  const q = intercept ? p + 1 : p;
+  const ones = q - p;
+  const design = new Float64Array(n * q);
+  for (let i = 0; i < n; i++) {
+    if (intercept) design[i * q] = 1;
+    for (let j = 0; j < p; j++) design[i * q + ones + j] = x[i * p + j];
+  }
+  return design;
+}
 
