@@ -119,19 +119,30 @@ describe("skein fit/scan/predict say how the file was read", () => {
     expect((await run("fit", path.join(dir, "book.xlsx"), "--y", "y")).stdout).toMatch(/^Data: book\.xlsx, sheet Data; 8 rows used, 0 skipped$/m);
   });
 
-  it("takes a sheet whose only predictor is a column of distinct whole numbers, and says to name it with --x", async () => {
-    // Invented trips: Distance holds 40 different whole numbers, so it is left out as an
-    // identifier; before, the sheet was refused as holding "no columns of numbers".
+  it("keeps a column of different whole numbers in no order (Distance) as a predictor; a counter is left out and can be named with --x", async () => {
+    // Invented trips: Distance holds 40 different whole numbers in no order down the rows, a
+    // measurement. Before, it was left out as an identifier and the fit refused the sheet.
     const book = new ExcelJS.Workbook();
     const trips = book.addWorksheet("Trips");
     trips.addRow(["Distance", "Cost"]);
     for (let i = 0; i < 40; i++) trips.addRow([1 + ((i * 37) % 50), 5 + 1.2 * (1 + ((i * 37) % 50)) + ((i % 5) - 2) * 0.4]);
     const file = path.join(dir, "distances.xlsx");
     await book.xlsx.writeFile(file);
-    const message = await failure("fit", file, "--y", "Cost");
-    expect(message).not.toMatch(/no columns of numbers/);
-    expect(message).toMatch(/sheet "Trips" has no column of numbers or categories besides Cost \(left out: Distance \(identifier: .*\)\); name the predictors with --x/);
-    expect((await json("fit", file, "--y", "Cost", "--x", "Distance", "--k", "1")).rowsUsed).toBe(40);
+    const fitted = await json("fit", file, "--y", "Cost", "--k", "1");
+    expect(fitted.predictors).toEqual(["Distance"]);
+    expect(fitted.rowsUsed).toBe(40);
+    expect(fitted.notices.join(" ")).not.toMatch(/Left out/);
+    // The same sheet with a trip counter (1, 2, ..., 40) as its only predictor: the counter is
+    // left out as an identifier, the message says so and how to use it anyway.
+    const counted = new ExcelJS.Workbook();
+    const sheet = counted.addWorksheet("Trips");
+    sheet.addRow(["Trip", "Cost"]);
+    for (let i = 0; i < 40; i++) sheet.addRow([i + 1, 5 + ((i * 7) % 11)]);
+    const counterFile = path.join(dir, "counter.xlsx");
+    await counted.xlsx.writeFile(counterFile);
+    const message = await failure("fit", counterFile, "--y", "Cost");
+    expect(message).toMatch(/sheet "Trips" has no column of numbers or categories besides Cost \(left out: Trip \(identifier: every value a different whole number, as a counter\)\); name the predictors with --x/);
+    expect((await json("fit", counterFile, "--y", "Cost", "--x", "Trip", "--k", "1")).rowsUsed).toBe(40);
   });
 
   it("names the sheets of a workbook that holds no table of numbers", async () => {

@@ -91,6 +91,16 @@ describe("the column rule", () => {
     expect(one("Population", counter.map((v) => v * 97)).column.kind).toBe("number");
     // Fewer than ten rows prove nothing.
     expect(one("Row", counter.slice(0, 9)).column.kind).toBe("number");
+    // Invented measurements: different whole numbers close together but in no order down the
+    // rows (distances in km, doses in mg) are predictors. Before, any close-together distinct
+    // whole numbers were left out as an identifier.
+    const distances = [12, 7, 19, 3, 15, 22, 9, 4, 17, 11, 6, 20];
+    expect(one("Distance", distances).column).toMatchObject({ kind: "number", defaultPredictor: true, reason: "numbers" });
+    expect(one("Dose", [40, 10, 30, 20, 50, 25, 35, 15, 45, 5]).column.kind).toBe("number");
+    // The same values rising down the rows read as a counter.
+    expect(one("Distance", [...distances].sort((a, b) => a - b)).column.kind).toBe("identifier");
+    // A counter with blank cells between its values is still a counter.
+    expect(one("Row", [1, 2, null, 3, 4, 5, 6, 7, 8, 9, 10]).column.kind).toBe("identifier");
     expect(one("Trip", ["T1", "T2", "T3"]).column).toMatchObject({ kind: "identifier", reason: "identifier: every value different" });
   });
 

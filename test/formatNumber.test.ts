@@ -28,6 +28,18 @@ describe("one number style", () => {
     expect(formatPlusMinus(59.6113, 2.94)).toBe("59.6 ± 2.9");
   });
 
+  it("puts an estimate and a standard error beyond fixed notation in exponent form, never a row of zeros", () => {
+    // Invented values of a fit on y near 1e-305. Before, both printed as 0.000000000000.
+    expect(formatWithError(3.8412e-306, 2.2e-307)).toEqual({ value: "3.84e-306", error: "2.2e-307" });
+    expect(formatWithError(-1.00812e-305, 1.07e-308)).toEqual({ value: "-1.0081e-305", error: "1.1e-308" });
+    // An estimate smaller than its error keeps the error's place: no digits below it.
+    expect(formatWithError(3e-310, 4.1e-308)).toEqual({ value: "3e-310", error: "4.1e-308" });
+    // Large: the estimate to the place of the error's second digit, 1e195.
+    expect(formatWithError(2.0128e200, 6.3e196)).toEqual({ value: "2.01280e+200", error: "6.3e+196" });
+    // Errors down to about 1e-11 stay in fixed notation.
+    expect(formatWithError(1.078, 0.00000058)).toEqual({ value: "1.07800000", error: "0.00000058" });
+  });
+
   it("shows shares as percentages and gaps of noiseless components as no overlap", () => {
     expect(formatPercent(0.143)).toBe("14.3%");
     expect(formatPercent(1)).toBe("100.0%");

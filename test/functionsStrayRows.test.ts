@@ -37,6 +37,20 @@ describe("stray rows and the background component in the worksheet functions", (
     expect(suggested(await scan(y, x, 4, [["background=no"]]))).toBe(1);
   });
 
+  it("SKEIN.SCAN lists the suggested K's stray rows in its note, by row of the ranges, as CHECK does", async () => {
+    const { y, x } = typoRanges();
+    const table = await scan(y, x, 3);
+    const suggestedRow = table.slice(1).find((row) => row[7] === true) as unknown[];
+    expect(suggestedRow[0]).toBe(2);
+    // Before, the suggested K's note was empty and only CHECK named the row.
+    expect(suggestedRow[8]).toMatch(new RegExp(`^Stray rows at K = 2: row ${TYPO_RANGE_ROW} of the ranges \\(.+ noise SDs from component [12]\\); a row is stray when .*Bonferroni.*\\. A blank outcome cell leaves a row out\\.$`));
+    // Clean data: no stray rows, and the suggested K's note stays empty.
+    const clean = typoRanges();
+    clean.y[TYPO_RANGE_ROW - 1] = [20 - (clean.x[TYPO_RANGE_ROW - 1][0] as number)];
+    const cleanTable = await scan(clean.y, clean.x, 3);
+    expect((cleanTable.slice(1).find((row) => row[7] === true) as unknown[])[8]).toBe("");
+  });
+
   it("SKEIN.CHECK names the stray row by its row in the ranges, with the rule", async () => {
     const { y, x } = typoRanges();
     const table = await check(y, x, 2);

@@ -4,6 +4,7 @@ import { standardErrors } from "../src/engine/standardErrors";
 import { checkSeparation } from "../src/engine/checkSeparation";
 import { scanComponents } from "../src/engine/scanComponents";
 import { findStrayRows } from "../src/engine/strayRows";
+import { isExactFit } from "../src/engine/exactFit";
 import { createRandom } from "../src/engine/random";
 import type { MixtureFit, RegressionData } from "../src/engine/mixtureTypes";
 
@@ -89,5 +90,53 @@ describe("internal scaling of values far from 1", () => {
     }
     const scan = scanComponents(data, { kMax: 3, seed: 1, background: "auto" });
     expect(scan.rows.every((row) => Number.isFinite(row.bic))).toBe(true);
+  });
+  it("one y of 1e154 among ordinary values: K = 2 with a background still finds both invented lines and their noise, not an exact fit", () => {
+    const data = { ...base, y: base.y.slice() };
+    data.y[17] = 1e154;
+    const result = fitMixture(data, { k: 2, seed: 1, background: "auto" });
+    // The invented truth: slopes 2 and −1.5, noise SD 0.3. Before, the 1e154 set the scale
+    // and the floors, and both components came out as one line with noise "about 0".
+    const slopes = result.components.map((c) => c.coefficients[1]).sort((a, b) => a - b);
+    expect(slopes[0]).toBeCloseTo(-1.5, 1);
+    expect(slopes[1]).toBeCloseTo(2, 1);
+    for (const component of result.components) {
+      expect(component.sigma).toBeGreaterThan(0.2);
+      expect(component.sigma).toBeLessThan(0.4);
+    }
+    expect(isExactFit(result, data.y)).toBe(false);
+    expect(result.background!.memberships[17]).toBeGreaterThan(0.99);
+  });
+
+  it("one y of 1e154 with a background: standard errors as without that row, and the row's distance in the fit's own noise SDs", () => {
+    const data = { ...base, y: base.y.slice() };
+    data.y[17] = 1e154;
+    const result = fitMixture(data, { k: 2, seed: 1, background: "auto" });
+    const errors = standardErrors(data, result);
+    // Before, the 1e154 row made every standard error "not available" (0 times an overflowed
+    // square is NaN), with a warning that the fit was not at a clear peak.
+    expect(errors.warnings).toEqual([]);
+    const kept = Int32Array.from({ length: data.n - 1 }, (_, i) => (i < 17 ? i : i + 1));
+    const rest: RegressionData = { n: data.n - 1, p: 1, x: Float64Array.from(kept, (i) => data.x[i]), y: Float64Array.from(kept, (i) => data.y[i]) };
+    const restFit = fitMixture(rest, { k: 2, seed: 1, background: false });
+    const restErrors = standardErrors(rest, restFit);
+    const bySlope = (fit: MixtureFit) => [0, 1].sort((a, b) => fit.components[a].coefficients[1] - fit.components[b].coefficients[1]);
+    const [a, b] = [bySlope(result), bySlope(restFit)];
+    for (let m = 0; m < 2; m++) {
+      expect(errors.sigmas[a[m]] / restErrors.sigmas[b[m]]).toBeCloseTo(1, 1);
+      for (let j = 0; j < 2; j++) expect(errors.coefficients[a[m]][j] / restErrors.coefficients[b[m]][j]).toBeCloseTo(1, 1);
+    }
+    // 1e154 away from lines near 10 with noise SD 0.3: about 3e154 noise SDs (before, a floor
+    // set by the plain spread of y, 1e143, made it 1e11).
+    const stray = findStrayRows(data, result).rows.find((r) => r.row === 17)!;
+    expect(stray.distance).toBeGreaterThan(1e154);
+  });
+
+  it("y near 1e200 throughout with ordinary relative noise is not an exact fit (its variance overflows)", () => {
+    const data = times(base, 1e200, 1);
+    const result = fitMixture(data, { k: 2, seed: 3 });
+    // Noise SD about 0.3e200 against a spread of about 5e200: far from exact. Before, the
+    // plain variance of y was Infinity and every noise SD counted as "about 0".
+    expect(isExactFit(result, data.y)).toBe(false);
   });
 });

@@ -45,3 +45,39 @@ describe("standard errors of an exact fit, and standard errors that cannot be co
     }
   });
 });
+
+describe("why standard errors are not available, in plain words", () => {
+  /** Invented: y = 1 + 2x and y = 8 − 1.5x, 40 rows each, noise SD 0.3. */
+  function twoLines(): { x: Float64Array; y: Float64Array; n: number; p: number } {
+    const n = 80;
+    const x = Float64Array.from({ length: n }, (_, i) => (i % 40) / 4);
+    const y = Float64Array.from(x, (v, i) => (i < 40 ? 1 + 2 * v : 8 - 1.5 * v) + 0.3 * Math.sin(7 * i));
+    return { x, y, n, p: 1 };
+  }
+
+  it("two components that are one regression are named, with the K to fit instead", () => {
+    const lines = twoLines();
+    const fit = fitMixture(lines, { k: 2, seed: 1, background: false });
+    // The fit with its second component copied into a third: components 2 and 3 are one regression.
+    const copy = { ...fit.components[1], weight: fit.components[1].weight / 2 };
+    const three = { ...fit, k: 3, components: [fit.components[0], copy, { ...copy }] };
+    const errors = standardErrors(lines, three);
+    // Before: "the fit does not sit at a clear peak of the likelihood (it may not have converged, or two components may be the same)".
+    expect(errors.warnings).toEqual([
+      "Standard errors are not available: components 2 and 3 are the same regression (equal coefficients and noise SD), so the data cannot tell how their rows divide between them. Fit 2 components.",
+    ]);
+  });
+
+  it("a row 1e200 away under a fit without a background: the sizes of the outcome's values are named", () => {
+    const lines = twoLines();
+    const fit = fitMixture(lines, { k: 2, seed: 1, background: false });
+    // The same fit read on data whose row 5 was typed as 1e200: its squared residual over σ²
+    // leaves the range of doubles, so the curvature cannot be summed.
+    const slipped = { ...lines, y: lines.y.slice() };
+    slipped.y[5] = 1e200;
+    const errors = standardErrors(slipped, fit);
+    expect(errors.warnings).toHaveLength(1);
+    expect(errors.warnings[0]).toMatch(/^Standard errors are not available: the outcome's values are too far apart in size \(from .* to 1\.000e\+200 in size\)/);
+    expect(errors.warnings[0]).toContain("check the stray rows");
+  });
+});

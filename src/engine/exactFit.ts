@@ -1,19 +1,16 @@
+import { referenceSpread } from "./referenceVariance";
 import { EXACT_RELATIVE } from "./mixture/exactComponents";
 import type { MixtureFit } from "./mixtureTypes";
 
 /**
  * Which components fit their rows exactly (noise about 0): a noise SD at most EXACT_RELATIVE
- * times the SD of y, the fit driver's own test for a noiseless fit (isNoiseless). Such a component's coefficients are known exactly given its rows, so its
+ * times the SD of y (referenceVariance.ts), the fit driver's own test for a noiseless fit (isNoiseless). Such a component's coefficients are known exactly given its rows, so its
  * standard errors are 0, and a gap to it is unlimited rather than a measured number.
  */
 export function exactComponents(fit: Pick<MixtureFit, "components">, y: Float64Array): boolean[] {
-  let mean = 0;
-  for (let i = 0; i < y.length; i++) mean += y[i];
-  mean /= Math.max(1, y.length);
-  let variance = 0;
-  for (let i = 0; i < y.length; i++) variance += (y[i] - mean) ** 2;
-  variance /= Math.max(1, y.length);
-  return fit.components.map((component) => component.sigma * component.sigma <= EXACT_RELATIVE * EXACT_RELATIVE * variance);
+  // The spread, not the variance: the user's own y may be near 1e300, whose square overflows.
+  const spread = y.length > 0 ? referenceSpread(y, y.length) : 0;
+  return fit.components.map((component) => component.sigma <= EXACT_RELATIVE * spread);
 }
 
 /** Every component fits its rows exactly: an exact fit (noise about 0). */

@@ -72,7 +72,7 @@ function fitAtDepth(data: RegressionData, options: MixtureOptions, depth: number
 
   const starts = screenStarts(ctx);
   const incumbent = refineBest(ctx, starts.candidates);
-  const splits = starts.foundTwice ? 0 : restructure(ctx, incumbent);
+  const splits = starts.foundTwice || options.restructure === false ? 0 : restructure(ctx, incumbent);
   const onAllRows = finishOnAllRows(ctx, incumbent);
   const finished = finishExactComponents(ctx, incumbent, onAllRows.membershipsCurrent);
   return reportFit(ctx, { starts, incumbent, splits, onAllRows, finished });

@@ -4,7 +4,7 @@ import type { MixtureComponent, MixtureFit, RegressionData } from "./mixtureType
  * Internal scaling for values far from 1. Squares of 1e155 or of 1e-163 leave the range of
  * doubles, so sums of squares, variances and Gram matrices of such data overflow to Infinity
  * or vanish to 0. The fit runs instead on y / s_y and x_j / s_j, each scale the root mean
- * square of its column, and every result is mapped back: a model on scaled data is the same
+ * square of its column (for a column beyond 1e100, see columnScale), and every result is mapped back: a model on scaled data is the same
  * model on the original data with β_j = β'_j s_y / s_j, intercept β'_0 s_y, σ = σ' s_y, and
  * the density of y changes by the Jacobian 1 / s_y per row, so ln L = ln L' − n ln s_y (also
  * − n Σ ln s_j in the joint model, which models x too), and BIC and ICL rise by twice that.
@@ -54,7 +54,23 @@ function columnScale(values: Float64Array, n: number, stride: number, offset: nu
   }
   const rms = largest * Math.sqrt(sum / n);
   if (largest <= LARGEST_UNSCALED && rms >= SMALLEST_UNSCALED) return 1;
+  if (largest > LARGEST_UNSCALED) {
+    // Divided by the root mean square, one huge value (a typed-in 1e154 among values near 10)
+    // would push the rest down to 1e-152, where their squares sit at the bottom of the double
+    // range and the fit's floors swamp their noise. So the scale is the smallest that brings
+    // the largest value to LARGEST_UNSCALED, or the column's median magnitude when that is
+    // larger (a column that is huge throughout comes to about 1).
+    return Math.max(largest / LARGEST_UNSCALED, medianMagnitude(values, n, stride, offset));
+  }
   return rms > 0 && Number.isFinite(rms) ? rms : largest;
+}
+
+function medianMagnitude(values: Float64Array, n: number, stride: number, offset: number): number {
+  const magnitudes = new Float64Array(n);
+  for (let i = 0, at = offset; i < n; i++, at += stride) magnitudes[i] = Math.abs(values[at]);
+  magnitudes.sort();
+  const half = n >> 1;
+  return n % 2 === 1 ? magnitudes[half] : 0.5 * (magnitudes[half - 1] + magnitudes[half]);
 }
 
 /** The data divided by their scales. */

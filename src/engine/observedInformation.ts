@@ -20,6 +20,15 @@ import { LOG_TWO_PI, membershipsFromLogTerms } from "./logDensities";
  * In the joint model the memberships include the x densities, but the x-model parameters
  * (μ_k, Σ_k) are held at their estimates: this is the information about (β, σ², η) given
  * them, which leaves out the (usually small) share of uncertainty they pass on.
+ *
+ * With a background component (flat density, weight π₀; Banfield & Raftery 1993) the
+ * components' weights are π_k = (1 − π₀) w_k with w = softmax(η), and π₀ is held at its
+ * estimate like the x-model. The background term has no gradient in θ but takes its share of
+ * each row's membership, so τ_ik are the full posteriors and T_i = Σ_k τ_ik ≤ 1; a row the
+ * background owns adds nothing. The logit pieces then carry T_i (derived from the same sums):
+ *   β_c η_j, σ²_c η_j: the factor (δ_cj − τ_j) becomes (δ_cj − τ_j − (1 − T) w_j);
+ *   η_j η_l: T w_j δ_jl − τ_j δ_jl + τ_j τ_l + (1 − T)(τ_j w_l + w_j τ_l) − (2T − T²) w_j w_l.
+ * Without a background T = 1 and w = π, and these are the pieces below.
  */
 export interface ObservedInformation {
   /** P x P row-major, P = K·q + K + (K − 1). */
@@ -58,13 +67,20 @@ export function observedInformation(data: RegressionData, fit: MixtureFit): Obse
   const models = fit.model === "joint" ? predictorModels(fit) : null;
   const predictorScratch = new Float64Array(p);
   const design = new Float64Array(q);
-  const logTerm = new Float64Array(k);
+  const background = fit.background ?? null;
+  // One more log term for the background, when the fit has one.
+  const terms = background ? k + 1 : k;
+  const logTerm = new Float64Array(terms);
+  const posterior = new Float64Array(terms);
+  if (background) logTerm[k] = Math.log(background.weight) + background.logDensity;
   const residual = new Float64Array(k);
   const varianceOffset = k * q;
   const logitOffset = varianceOffset + k;
   const logits = k - 1;
   const size = logitOffset + logits;
-  const weights = Float64Array.from(fit.components, (c) => c.weight);
+  // The softmax weights w (the components' share of 1 − π₀).
+  const componentShare = background ? 1 - background.weight : 1;
+  const weights = Float64Array.from(fit.components, (c) => c.weight / componentShare);
   const variances = Float64Array.from(fit.components, (c) => c.sigma * c.sigma);
   const shift = fit.components[0].coefficients.length - q;
   const constant = Float64Array.from(fit.components, (c) => Math.log(c.weight) - 0.5 * (LOG_TWO_PI + Math.log(c.sigma * c.sigma)));
@@ -100,7 +116,13 @@ export function observedInformation(data: RegressionData, fit: MixtureFit): Obse
       if (models) value += predictorLogDensity(models[c], x, i * p, p, predictorScratch);
       logTerm[c] = value;
     }
-    membershipsFromLogTerms(logTerm, 0, k, tau, 0);
+    membershipsFromLogTerms(logTerm, 0, terms, posterior, 0);
+    let total = 0;
+    for (let c = 0; c < k; c++) {
+      tau[c] = posterior[c];
+      total += posterior[c];
+    }
+    const outside = 1 - total;
     for (let c = 0; c < k; c++) {
       const r = residual[c];
       const v = variances[c];
@@ -132,13 +154,16 @@ export function observedInformation(data: RegressionData, fit: MixtureFit): Obse
         varianceVariance[c * k + d] += (c === d ? tau[c] * (curvature[c] - gamma[c] * gamma[c]) : 0) + tg * tau[d] * gamma[d];
       }
       for (let j = 0; j < logits; j++) {
-        const indicator = (c === j ? 1 : 0) - tau[j];
+        const indicator = (c === j ? 1 : 0) - tau[j] - outside * weights[j];
         vectorWeight[k * k + c * logits + j] = -ta * indicator;
         varianceLogit[c * logits + j] -= tg * indicator;
       }
     }
     for (let j = 0; j < logits; j++) {
-      for (let l = 0; l < logits; l++) logitLogit[j * logits + l] -= (j === l ? tau[j] : 0) - tau[j] * tau[l];
+      for (let l = 0; l < logits; l++) {
+        logitLogit[j * logits + l] +=
+          (j === l ? (total * weights[j] - tau[j]) : 0) + tau[j] * tau[l] + outside * (tau[j] * weights[l] + weights[j] * tau[l]) - (2 * total - total * total) * weights[j] * weights[l];
+      }
     }
     for (let a = 0; a < q; a++) {
       const xa = design[a];
@@ -174,9 +199,8 @@ export function observedInformation(data: RegressionData, fit: MixtureFit): Obse
       set(varianceOffset + c, logitOffset + j, varianceLogit[c * logits + j]);
     }
   }
-  // The logit block of B_ik is the same for every k and every row; Σ_k τ_ik = 1, so it adds n times.
   for (let j = 0; j < logits; j++) {
-    for (let l = 0; l < logits; l++) info[(logitOffset + j) * size + logitOffset + l] = logitLogit[j * logits + l] + n * ((j === l ? weights[j] : 0) - weights[j] * weights[l]);
+    for (let l = 0; l < logits; l++) info[(logitOffset + j) * size + logitOffset + l] = logitLogit[j * logits + l];
   }
   return { matrix: info, size, q, k, varianceOffset, logitOffset };
 }

@@ -9,6 +9,9 @@ import { createRandom } from "./random";
 import { fitMixture } from "./fitMixture";
 import { selectRows } from "./rowSubset";
 import { isExactFit } from "./exactFit";
+import { referenceSpread } from "./referenceVariance";
+import { LOG_TWO_PI } from "./logDensities";
+import { formatNumber } from "../report/formatNumber";
 
 export interface StandardErrorOptions {
   method?: "observed-information" | "bootstrap";
@@ -41,20 +44,60 @@ export const DEFAULT_REPLICATES = 200;
  * the spread is taken, since a refit may number them differently (Basford, Greenway,
  * McLachlan & Peel 1997, Computational Statistics).
  */
-export function standardErrors(data: RegressionData, fit: MixtureFit, options: StandardErrorOptions = {}): StandardErrorReport & { warnings: string[] } {
+export function standardErrors(fullData: RegressionData, fit: MixtureFit, options: StandardErrorOptions = {}): StandardErrorReport & { warnings: string[] } {
+  const data = options.method === "bootstrap" ? fullData : withoutBackgroundRows(fullData, fit);
   // Values far from 1 are handled in the fit's scaled space (internalScaling.ts).
   const scales = scalesFor(data);
-  if (scales !== null) return unscaleStandardErrors(unscaledStandardErrors(scaleData(data, scales), mapFit(fit, scales, -1), options), scales);
-  return unscaledStandardErrors(data, fit, options);
+  if (scales !== null) return unscaleStandardErrors(unscaledStandardErrors(scaleData(data, scales), mapFit(fit, scales, -1), options, data.y), scales);
+  return unscaledStandardErrors(data, fit, options, data.y);
 }
 
-function unscaledStandardErrors(data: RegressionData, fit: MixtureFit, options: StandardErrorOptions): StandardErrorReport & { warnings: string[] } {
+/**
+ * The data without the rows whose membership in every component is 0 to double precision
+ * next to the background's (a log-density lower by more than BACKGROUND_ONLY_GAP): such a row
+ * adds exactly nothing to the observed information, since each of its terms carries its
+ * membership as a factor. Taken out first, a typed-in 1e154 no longer sets the scale of the
+ * computation or turns 0 times an overflowed square into NaN (its squared residual over σ²
+ * is beyond the double range), and the rest are computed at their own scale.
+ */
+function withoutBackgroundRows(data: RegressionData, fit: MixtureFit): RegressionData {
+  const background = fit.background;
+  if (!background || !(background.weight > 0)) return data;
+  const { n, p } = data;
+  const backgroundTerm = Math.log(background.weight) + background.logDensity;
+  const shift = fit.intercept ? 0 : 1;
+  const kept: number[] = [];
+  for (let i = 0; i < n; i++) {
+    let nearest = -Infinity;
+    for (const component of fit.components) {
+      const b = component.coefficients;
+      let fitted = shift === 0 ? b[0] : 0;
+      for (let j = 0; j < p; j++) fitted += b[j + 1] * data.x[i * p + j];
+      // (r / σ)² from r / σ, so a residual near 1e154 overflows only to +Infinity here.
+      const z = (data.y[i] - fitted) / component.sigma;
+      const term = Math.log(component.weight) - Math.log(component.sigma) - 0.5 * LOG_TWO_PI - 0.5 * z * z;
+      if (term > nearest || Number.isNaN(term)) nearest = Number.isNaN(term) ? Infinity : term;
+    }
+    // The joint model adds each component's x density, which this leaves out: there only rows
+    // whose squared residual overflowed (a term of −Infinity) are certain to have membership 0.
+    const outside = fit.model === "joint" ? nearest === -Infinity : nearest < backgroundTerm - BACKGROUND_ONLY_GAP;
+    if (!outside) kept.push(i);
+  }
+  if (kept.length === n || kept.length === 0) return data;
+  return selectRows(data, Int32Array.from(kept));
+}
+
+/** e^-800 is 0 in double precision (the smallest subnormal is about e^-745). */
+const BACKGROUND_ONLY_GAP = 800;
+
+/** `outcome` is y as the user gave it, for messages (data may be scaled). */
+function unscaledStandardErrors(data: RegressionData, fit: MixtureFit, options: StandardErrorOptions, outcome: Float64Array): StandardErrorReport & { warnings: string[] } {
   const method = options.method ?? "observed-information";
   if (method === "bootstrap") return bootstrapErrors(data, fit, options);
   if (method !== "observed-information") {
     throw new SkeinError("bad-input", `The standard error method must be "observed-information" or "bootstrap", not "${String(method)}".`);
   }
-  return informationErrors(data, fit);
+  return informationErrors(data, fit, outcome);
 }
 
 function emptyReport(fit: MixtureFit, method: StandardErrorReport["method"]): StandardErrorReport & { warnings: string[] } {
@@ -85,7 +128,7 @@ function exactFitErrors(fit: MixtureFit): StandardErrorReport & { warnings: stri
   return report;
 }
 
-function informationErrors(data: RegressionData, fit: MixtureFit): StandardErrorReport & { warnings: string[] } {
+function informationErrors(data: RegressionData, fit: MixtureFit, outcome: Float64Array): StandardErrorReport & { warnings: string[] } {
   if (isExactFit(fit, data.y)) return exactFitErrors(fit);
   const report = emptyReport(fit, "observed-information");
   const exact = exactComponent(data, fit);
@@ -97,11 +140,13 @@ function informationErrors(data: RegressionData, fit: MixtureFit): StandardError
   }
   const info = observedInformation(data, fit);
   const { size, q, k, varianceOffset, logitOffset } = info;
+  if (!info.matrix.every(Number.isFinite)) {
+    report.warnings.push(`Standard errors are not available: ${sizeReason(outcome, outcome.length)}`);
+    return report;
+  }
   const covariance = invertPositiveDefinite(info.matrix, size);
   if (covariance === null) {
-    report.warnings.push(
-      "Standard errors are not available: the fit does not sit at a clear peak of the likelihood (it may not have converged, or two components may be the same). Try fewer components.",
-    );
+    report.warnings.push(`Standard errors are not available: ${flatReason(fit)}`);
     return report;
   }
   const shift = fit.components[0].coefficients.length - q;
@@ -121,20 +166,73 @@ function informationErrors(data: RegressionData, fit: MixtureFit): StandardError
     report.weights[0] = 0;
     return withReason(report);
   }
-  // Delta method for π = softmax(η): J_kj = ∂π_k/∂η_j = π_k (δ_kj − π_j), j < K.
+  // Delta method for π = (1 − π₀) softmax(η), π₀ the background's weight (0 without one) held
+  // at its estimate: J_kj = ∂π_k/∂η_j = π_k (δ_kj − w_j), j < K, w_j = π_j / (1 − π₀).
   const weights = fit.components.map((c) => c.weight);
+  const share = 1 - (fit.background?.weight ?? 0);
   for (let c = 0; c < k; c++) {
     let variance = 0;
     for (let j = 0; j < k - 1; j++) {
-      const jc = weights[c] * ((c === j ? 1 : 0) - weights[j]);
+      const jc = weights[c] * ((c === j ? 1 : 0) - weights[j] / share);
       for (let l = 0; l < k - 1; l++) {
-        const lc = weights[c] * ((c === l ? 1 : 0) - weights[l]);
+        const lc = weights[c] * ((c === l ? 1 : 0) - weights[l] / share);
         variance += jc * covariance[(logitOffset + j) * size + logitOffset + l] * lc;
       }
     }
     report.weights[c] = Math.sqrt(Math.max(0, variance));
   }
   return withReason(report);
+}
+
+/** Coefficients and noise SDs that agree to this fraction of their size make two components one regression. */
+const SAME_COMPONENT_RELATIVE = 1e-6;
+
+/**
+ * Why the likelihood has no clear peak to measure the uncertainty by, in the terms a user can
+ * check: two components that are one regression, a component with no more rows than
+ * coefficients, or else the general reason.
+ */
+function flatReason(fit: MixtureFit): string {
+  const { components, k, n } = fit;
+  for (let a = 0; a < k; a++) {
+    for (let b = a + 1; b < k; b++) {
+      const ca = components[a];
+      const cb = components[b];
+      let size = Math.max(ca.sigma, cb.sigma);
+      for (let j = 0; j < ca.coefficients.length; j++) size = Math.max(size, Math.abs(ca.coefficients[j]), Math.abs(cb.coefficients[j]));
+      let differ = Math.abs(ca.sigma - cb.sigma) > SAME_COMPONENT_RELATIVE * size;
+      for (let j = 0; j < ca.coefficients.length && !differ; j++) differ = Math.abs(ca.coefficients[j] - cb.coefficients[j]) > SAME_COMPONENT_RELATIVE * size;
+      if (!differ) {
+        return `components ${a + 1} and ${b + 1} are the same regression (equal coefficients and noise SD), so the data cannot tell how their rows divide between them. Fit ${k - 1} component${k - 1 === 1 ? "" : "s"}.`;
+      }
+    }
+  }
+  const q = fit.q;
+  const smallest = components.reduce((best, c, index) => (c.weight < components[best].weight ? index : best), 0);
+  const rows = components[smallest].weight * n;
+  if (rows <= q + 1) {
+    return `component ${smallest + 1} holds about ${formatNumber(rows)} rows, too few for its ${q} coefficients and noise SD to have a measurable uncertainty. Try fewer components.`;
+  }
+  return "the fit does not sit at a clear peak of the likelihood (it may not have converged, or two components may be nearly the same). Try fewer components.";
+}
+
+/**
+ * Why the curvature could not be computed when its sums left the range of double-precision
+ * numbers: in words a user can act on, with the sizes of the outcome's values.
+ */
+function sizeReason(y: Float64Array, n: number): string {
+  let smallest = Infinity;
+  let largest = 0;
+  for (let i = 0; i < n; i++) {
+    const magnitude = Math.abs(y[i]);
+    if (magnitude > 0 && magnitude < smallest) smallest = magnitude;
+    if (magnitude > largest) largest = magnitude;
+  }
+  const span = smallest < Infinity && largest > 0 ? ` (from ${formatNumber(smallest)} to ${formatNumber(largest)} in size)` : "";
+  return (
+    `the outcome's values are too far apart in size${span} for the fit's curvature to be computed with the computer's numbers, ` +
+    `even though the fit itself is finite. A row far from all the others is usually a typing slip: check the stray rows, fix or leave them out, and fit again.`
+  );
 }
 
 /**
@@ -145,12 +243,7 @@ const EXACT_SIGMA_RELATIVE = 1e-8;
 
 /** The first component whose noise SD is at rounding level next to the spread of y, or null. */
 function exactComponent(data: RegressionData, fit: MixtureFit): number | null {
-  let mean = 0;
-  for (let i = 0; i < data.n; i++) mean += data.y[i];
-  mean /= data.n;
-  let squares = 0;
-  for (let i = 0; i < data.n; i++) squares += (data.y[i] - mean) ** 2;
-  const spread = Math.sqrt(squares / data.n);
+  const spread = referenceSpread(data.y, data.n);
   const index = fit.components.findIndex((c) => !(c.sigma > EXACT_SIGMA_RELATIVE * spread));
   return index < 0 ? null : index;
 }

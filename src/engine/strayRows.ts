@@ -1,3 +1,4 @@
+import { referenceSpread } from "./referenceVariance";
 import type { MixtureFit, RegressionData } from "./mixtureTypes";
 
 /**
@@ -50,7 +51,9 @@ export function findStrayRows(data: RegressionData, fit: MixtureFit): StrayRowsR
   const { n, p, x, y } = data;
   const bound = strayBound(n);
   // Noise SDs at rounding level (an exact fit) are measured against the rounding instead.
-  const floor = EXACT_FIT_RELATIVE * spreadOf(y, n);
+  // The spread is the fit's own reference (robust when a few huge values dominate the plain
+  // one), so a typed-in 1e154 does not raise the floor to 1e143 and hide how far it lies.
+  const floor = EXACT_FIT_RELATIVE * (referenceSpread(y, n) || 0);
   const rows: StrayRow[] = [];
   const k = fit.k;
   for (let i = 0; i < n; i++) {
@@ -85,19 +88,6 @@ export function findStrayRows(data: RegressionData, fit: MixtureFit): StrayRowsR
  * exactly has residuals of rounding size (about 1e-16 of y), which are no evidence against a row.
  */
 const EXACT_FIT_RELATIVE = 1e-10;
-
-/** Root mean square deviation of y, scaled by its largest magnitude so that it cannot overflow. */
-function spreadOf(y: Float64Array, n: number): number {
-  let largest = 0;
-  for (let i = 0; i < n; i++) largest = Math.max(largest, Math.abs(y[i]));
-  if (!(largest > 0) || !Number.isFinite(largest)) return 0;
-  let mean = 0;
-  for (let i = 0; i < n; i++) mean += y[i] / largest;
-  mean /= n;
-  let squares = 0;
-  for (let i = 0; i < n; i++) squares += (y[i] / largest - mean) ** 2;
-  return largest * Math.sqrt(squares / n);
-}
 
 /**
  * Upper-tail normal quantile: z with P(Z > z) = tail, for 0 < tail ≤ 0.5, by bisection on the

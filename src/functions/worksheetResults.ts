@@ -44,6 +44,11 @@ export function membershipTable({ design, fit, layout }: SharedFit, settings: Fu
   return table(header, rows, showsHeader(settings, design.hasHeaderRow));
 }
 
+/** The row of the input ranges (1 = their first row, the header row when there is one) that a fitted row came from. */
+function rangeRow(design: SharedFit["design"], fittedRow: number): number {
+  return design.rowIndex[fittedRow] + (design.hasHeaderRow ? 2 : 1);
+}
+
 /** A share (0 to 1) as a percentage cell. */
 function percent(share: number): Cell {
   return cell(100 * share);
@@ -63,6 +68,18 @@ export function scanTable({ design, scan }: SharedScan, settings: FunctionSettin
     row.k === scan.chosenK,
     row.note ?? "",
   ]);
+  // The suggested K's stray rows go in its note, as the command line's scan lists them.
+  const suggested = scan.rows.findIndex((row) => row.k === scan.chosenK);
+  if (suggested >= 0) {
+    const stray = findStrayRows({ y: design.y, x: design.x, n: design.n, p: design.p }, scan.rows[suggested].fit);
+    if (stray.rows.length > 0) {
+      const listed = stray.rows.slice(0, STRAY_ROWS_LISTED).map((s) => `row ${rangeRow(design, s.row)} of the ranges (${formatNumber(s.distance)} noise SDs from component ${s.nearest + 1})`);
+      if (stray.rows.length > STRAY_ROWS_LISTED) listed.push(`and ${stray.rows.length - STRAY_ROWS_LISTED} more`);
+      const note = `Stray rows at K = ${scan.chosenK}: ${listed.join(", ")}; ${stray.rule}. A blank outcome cell leaves a row out.`;
+      const current = rows[suggested][8];
+      rows[suggested][8] = current === "" ? note : `${current} ${note}`;
+    }
+  }
   // Why the scan stopped before kmax goes with the last K tried.
   if (scan.stoppedEarly && rows.length > 0) {
     const last = rows[rows.length - 1];
@@ -96,9 +113,8 @@ export function checkTable(shared: SharedFit, settings: FunctionSettings, kFromS
   shared.stray ??= findStrayRows({ y: design.y, x: design.x, n: design.n, p: design.p }, fit);
   const stray = shared.stray;
   rows.push(["stray rows", stray.rows.length]);
-  const firstRangeRow = design.hasHeaderRow ? 2 : 1;
   for (const s of stray.rows.slice(0, STRAY_ROWS_LISTED)) {
-    rows.push(["stray row", `row ${design.rowIndex[s.row] + firstRangeRow} of the ranges: ${formatNumber(s.distance)} noise SDs from component ${s.nearest + 1}, the nearest`]);
+    rows.push(["stray row", `row ${rangeRow(design, s.row)} of the ranges: ${formatNumber(s.distance)} noise SDs from component ${s.nearest + 1}, the nearest`]);
   }
   if (stray.rows.length > STRAY_ROWS_LISTED) rows.push(["stray row", `and ${stray.rows.length - STRAY_ROWS_LISTED} more`]);
   if (stray.rows.length > 0) rows.push(["stray row rule", stray.rule]);

@@ -7,7 +7,9 @@
  *   same decimal place (the rule of ISO/IEC Guide 98-3, GUM section 7.2.6, common practice in
  *   reporting), except that digits before the decimal point are kept (455, not 460). A
  *   standard error of 0 (an exact fit) means every digit is known: the estimate is shown in
- *   up to EXACT_DIGITS digits, rounding noise and trailing zeros dropped (12, 0.004).
+ *   up to EXACT_DIGITS digits, rounding noise and trailing zeros dropped (12, 0.004). A
+ *   standard error too small or too large for fixed notation puts both in exponent form
+ *   (3.84e-306 ± 2.2e-307), never a row of zeros.
  * - Any other number: four significant digits, trailing zeros kept (so a column reads at one
  *   precision); digits before the decimal point are never rounded away (37225, not 3.723e4).
  * - Shares of rows (weights, misassigned rows, skipped rows) as percentages.
@@ -68,9 +70,20 @@ export function formatColumn(values: readonly number[], digits = SIGNIFICANT_DIG
 export function formatWithError(value: number, standardError: number): { value: string; error: string } {
   if (!Number.isFinite(standardError) || standardError < 0) return { value: formatNumber(value), error: "not available" };
   if (standardError === 0) return { value: formatExact(value), error: "0" };
-  const decimals = Math.min(12, Math.max(0, ERROR_DIGITS - 1 - Math.floor(Math.log10(standardError))));
-  return { value: value.toFixed(decimals), error: standardError.toFixed(decimals) };
+  const errorExponent = Math.floor(Math.log10(standardError));
+  const decimals = ERROR_DIGITS - 1 - errorExponent;
+  if (decimals > MOST_DECIMALS || standardError >= 1e15 || Math.abs(value) >= 1e15) {
+    // Beyond fixed notation (a standard error of 2.2e-307 would print as 0.000000000000):
+    // both in exponent form, the estimate to the decimal place of the error's second digit.
+    const valueExponent = value === 0 || !Number.isFinite(value) ? errorExponent : Math.floor(Math.log10(Math.abs(value)));
+    const fractionDigits = Math.min(20, Math.max(0, valueExponent - errorExponent + ERROR_DIGITS - 1));
+    return { value: Number.isFinite(value) ? value.toExponential(fractionDigits) : formatNumber(value), error: standardError.toExponential(ERROR_DIGITS - 1) };
+  }
+  return { value: value.toFixed(Math.max(0, decimals)), error: standardError.toFixed(Math.max(0, decimals)) };
 }
+
+/** Decimal places fixed notation goes to for an estimate with a standard error (an error down to about 1e-11). */
+const MOST_DECIMALS = 12;
 
 /** "value ± error" on one line. */
 export function formatPlusMinus(value: number, standardError: number): string {

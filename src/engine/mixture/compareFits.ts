@@ -29,19 +29,25 @@ export function bestFoundTwice(candidates: readonly Candidate[]): boolean {
  */
 export function coefficientDistance(a: MixtureParameters, b: MixtureParameters): number {
   const { k, q } = a;
+  // Everything in units of the largest coefficient magnitude, so that squares of coefficients
+  // near 1e155 (a fit on values that large) do not overflow; the ratio returned is unchanged.
+  let unit = 0;
+  for (let i = 0; i < k * q; i++) unit = Math.max(unit, Math.abs(a.coefficients[i]), Math.abs(b.coefficients[i]));
+  if (!(unit > 0)) return unit === 0 ? 0 : Infinity;
+  if (!Number.isFinite(unit)) return Infinity;
   const cost = new Float64Array(k * k);
   let scale = 0;
   for (let i = 0; i < k; i++) {
     let na = 0;
     let nb = 0;
     for (let l = 0; l < q; l++) {
-      na += a.coefficients[i * q + l] ** 2;
-      nb += b.coefficients[i * q + l] ** 2;
+      na += (a.coefficients[i * q + l] / unit) ** 2;
+      nb += (b.coefficients[i * q + l] / unit) ** 2;
     }
     scale = Math.max(scale, Math.sqrt(na), Math.sqrt(nb));
     for (let j = 0; j < k; j++) {
       let s = 0;
-      for (let l = 0; l < q; l++) s += (a.coefficients[i * q + l] - b.coefficients[j * q + l]) ** 2;
+      for (let l = 0; l < q; l++) s += (a.coefficients[i * q + l] / unit - b.coefficients[j * q + l] / unit) ** 2;
       cost[i * k + j] = s;
     }
   }

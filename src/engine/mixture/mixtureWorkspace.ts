@@ -1,3 +1,4 @@
+import { referenceVariance } from "../referenceVariance";
 import type { RegressionData } from "../mixtureTypes";
 import { choleskyScratchLength } from "../cholesky";
 import type { BackgroundComponent } from "./backgroundComponent";
@@ -102,7 +103,7 @@ export function createWorkspace(data: RegressionData, k: number, intercept: bool
     memberships: new Float64Array(n * k),
     residuals: new Float64Array(n * k),
     rowLogLikelihood: new Float64Array(n),
-    yVariance: variance(y, n),
+    yVariance: referenceVariance(y, n),
     predictorVariances,
     grams: new Float64Array(k * q * q),
     rightHandSides: new Float64Array(k * q),
@@ -125,15 +126,3 @@ export function createWorkspace(data: RegressionData, k: number, intercept: bool
 /** Doubles per M-step block buffer (16384 x 8 bytes = 128 KB each). */
 const BLOCK_DOUBLES = 16384;
 
-/** Two-pass variance (mean first, then centred squares: Chan, Golub & LeVeque 1983). */
-function variance(values: Float64Array, n: number): number {
-  let mean = 0;
-  for (let i = 0; i < n; i++) mean += values[i];
-  mean /= n;
-  let total = 0;
-  for (let i = 0; i < n; i++) {
-    const d = values[i] - mean;
-    total += d * d;
-  }
-  return total / n;
-}

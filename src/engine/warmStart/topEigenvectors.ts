@@ -8,6 +8,14 @@ export interface EigenPairs {
 }
 
 /**
+ * Entries this small next to the largest (1) are set to 0. The QL iteration stops when an
+ * off-diagonal entry falls below machine epsilon times the largest row sum seen so far, and
+ * has no iteration cap of its own: with a first row of subnormal numbers that bound is itself
+ * 0 and a subnormal entry might never reach it. Ordinary matrices hold no such entries.
+ */
+const NEGLIGIBLE_ENTRY = 1e-200;
+
+/**
  * The `count` leading eigenpairs of a symmetric p x p matrix (row-major), by value or by
  * absolute value. Small dense algebra: ml-matrix's symmetric eigensolver (Householder
  * tridiagonalisation and QL, as in EISPACK tred2/tql2).
@@ -25,7 +33,10 @@ export function topEigenvectors(matrix: Float64Array, p: number, count: number, 
   for (let a = 0; a < p; a++) {
     const row = new Array<number>(p);
     // Symmetrise: the caller may have filled only one triangle exactly.
-    for (let b = 0; b < p; b++) row[b] = 0.5 * (matrix[a * p + b] / scale + matrix[b * p + a] / scale);
+    for (let b = 0; b < p; b++) {
+      const value = 0.5 * (matrix[a * p + b] / scale + matrix[b * p + a] / scale);
+      row[b] = Math.abs(value) < NEGLIGIBLE_ENTRY ? 0 : value;
+    }
     rows.push(row);
   }
   const decomposition = new EigenvalueDecomposition(new Matrix(rows), { assumeSymmetric: true });

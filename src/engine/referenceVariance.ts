@@ -1,0 +1,72 @@
+/**
+ * The variance of y that the fit's floors and its exact-fit test are measured against.
+ *
+ * Usually the plain variance. When a few extreme values dominate it (a typed-in 1e154 among
+ * values near 10), a floor relative to it would sit far above the real noise, and every
+ * component would look exact or be held at that floor. So when the plain variance exceeds
+ * DOMINATED_RATIO times a robust one, the robust one is used: (1.4826 · MAD)², the median
+ * absolute deviation from the median scaled to the normal SD (Hampel 1974). Ordinary data
+ * never come near that ratio (for normal data the two agree to a few percent), so their fits
+ * are unchanged.
+ */
+const DOMINATED_RATIO = 1e6;
+const MAD_TO_SD = 1.4826;
+/** Below this magnitude squares and their sums cannot overflow, and the variance is computed directly. */
+const DIRECT_LIMIT = 1e150;
+
+export function referenceVariance(values: Float64Array, n: number): number {
+  let largest = 0;
+  for (let i = 0; i < n; i++) largest = Math.max(largest, Math.abs(values[i]));
+  if (!(largest <= DIRECT_LIMIT)) {
+    const spread = referenceSpread(values, n);
+    return spread * spread;
+  }
+  const plain = plainVariance(values, n, 1);
+  if (!(plain > 0) || !Number.isFinite(plain) || n < 3) return plain;
+  const robustSd = MAD_TO_SD * medianAbsoluteDeviation(values, n);
+  const robust = robustSd * robustSd;
+  return robust > 0 && plain > DOMINATED_RATIO * robust ? robust : plain;
+}
+
+/**
+ * The square root of referenceVariance, computed in units of the largest magnitude so that it
+ * stays finite for values up to the largest doubles (the command line and the worksheet
+ * results test exact fits on the user's own numbers, which the fit's scaling never touched).
+ */
+export function referenceSpread(values: Float64Array, n: number): number {
+  let largest = 0;
+  for (let i = 0; i < n; i++) largest = Math.max(largest, Math.abs(values[i]));
+  if (!(largest > 0) || !Number.isFinite(largest)) return largest === 0 ? 0 : NaN;
+  if (largest <= DIRECT_LIMIT) return Math.sqrt(referenceVariance(values, n));
+  const plain = plainVariance(values, n, largest);
+  if (n < 3) return largest * Math.sqrt(plain);
+  const robustSd = (MAD_TO_SD * medianAbsoluteDeviation(values, n)) / largest;
+  const robust = robustSd * robustSd;
+  return largest * Math.sqrt(robust > 0 && plain > DOMINATED_RATIO * robust ? robust : plain);
+}
+
+/** Two-pass variance of values / unit (mean first, then centred squares: Chan, Golub & LeVeque 1983). */
+function plainVariance(values: Float64Array, n: number, unit: number): number {
+  let mean = 0;
+  for (let i = 0; i < n; i++) mean += unit === 1 ? values[i] : values[i] / unit;
+  mean /= n;
+  let total = 0;
+  for (let i = 0; i < n; i++) {
+    const d = (unit === 1 ? values[i] : values[i] / unit) - mean;
+    total += d * d;
+  }
+  return total / n;
+}
+
+function medianAbsoluteDeviation(values: Float64Array, n: number): number {
+  const sorted = Float64Array.from(values.subarray(0, n)).sort();
+  const centre = median(sorted);
+  for (let i = 0; i < n; i++) sorted[i] = Math.abs(values[i] - centre);
+  return median(sorted.sort());
+}
+
+function median(sorted: Float64Array): number {
+  const n = sorted.length;
+  const half = n >> 1;
+  return n % 2 === 1 ? sorted[half] : 0.5 * (sorted[half - 1] + sorted[half]);
+}
