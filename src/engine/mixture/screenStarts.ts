@@ -93,6 +93,7 @@ export function screenStarts(ctx: FitContext): ScreenedStarts {
     candidates.push(candidate);
     if (isNoiseless(candidate.params, ctx.working)) break;
     if (ctx.working.k >= COMPONENTS_WITHOUT_PARTITIONS) noteExactComponents(ctx, screen, candidate);
+    // On rows expected to be exact, two starts agreeing on a fit that is not exact ends nothing.
     if (!ctx.expectExact && candidates.length >= MIN_STARTS && (bestFoundTwice(candidates) || (candidates.length === MIN_STARTS && leadersAgree(ctx, candidates)))) {
       foundTwice = true;
       break;
