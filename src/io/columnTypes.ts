@@ -393,3 +393,19 @@ function distinctExamples(texts: string[], count: number): string[] {
   }
   return shown;
 }
+
+/**
+ * The number-text phase of the rule for one column of a worksheet range, as Excel hands it
+ * to a function or the pane reads it: text cells that read as numbers in one style become
+ * numbers in `values` (in place), read with a decimal point as in comma-separated files and
+ * described as a workbook's are ("numbers stored as text" when plain).
+ */
+export function readNumberTextCells(name: string, values: Cell[]): { converted?: string; notice?: string } {
+  const texts: number[] = [];
+  for (let i = 0; i < values.length; i++) {
+    const value = values[i];
+    if (typeof value === "string" && value.trim() !== "" && !isErrorText(value)) texts.push(i);
+  }
+  if (texts.length === 0) return {};
+  return readNumberColumn(name, values, texts, ".", true);
+}
