@@ -110,6 +110,7 @@ export function screenStarts(ctx: FitContext): ScreenedStarts {
     candidates.push(candidate);
     if (isNoiseless(candidate.params, ctx.working)) break;
     if (ctx.working.k >= COMPONENTS_WITHOUT_PARTITIONS) noteExactComponents(ctx, screen, candidate);
+    // On rows expected to be exact, two starts agreeing on a fit that is not exact ends nothing.
     if (!ctx.expectExact && searchSettled(ctx, candidates, cheapFirst)) {
       foundTwice = true;
       break;
