@@ -58,10 +58,21 @@ function plainVariance(values: Float64Array, n: number, unit: number): number {
   return total / n;
 }
 
+/**
+ * Rows the median absolute deviation is taken over at most: evenly spaced through the rows
+ * beyond that. Two sorts of a million rows took about a second per workspace; 4096 rows put
+ * the MAD within a few percent of the full one (the standard error of a sample median is
+ * about 1.25 σ / sqrt(m)), far inside the factor of 1e6 it is compared at.
+ */
+const MAD_SAMPLE = 4096;
+
 function medianAbsoluteDeviation(values: Float64Array, n: number): number {
-  const sorted = Float64Array.from(values.subarray(0, n)).sort();
+  const m = Math.min(n, MAD_SAMPLE);
+  const sample = new Float64Array(m);
+  for (let t = 0; t < m; t++) sample[t] = values[m === n ? t : Math.floor((t * n) / m)];
+  const sorted = Float64Array.from(sample).sort();
   const centre = median(sorted);
-  for (let i = 0; i < n; i++) sorted[i] = Math.abs(values[i] - centre);
+  for (let t = 0; t < m; t++) sorted[t] = Math.abs(sample[t] - centre);
   return median(sorted.sort());
 }
 

@@ -252,7 +252,9 @@ function scanRow(data: RegressionData, fit: MixtureFit): ScanRow {
 
 /** The suggestion rule of the module comment. */
 export function suggestK(rows: readonly Pick<ScanRow, "k" | "bic" | "flag">[]): number {
-  const eligible = rows.filter((row) => row.flag === null || row.k === 1);
+  // A BIC that is no number cannot win (with it, the least of the BICs would be NaN and no K
+  // would be within the tie of it).
+  const eligible = rows.filter((row) => (row.flag === null || row.k === 1) && !Number.isNaN(row.bic));
   if (eligible.length === 0) return 1;
   const best = Math.min(...eligible.map((row) => row.bic));
   const within = eligible.filter((row) => row.bic <= best + BIC_TIE);

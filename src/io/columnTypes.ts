@@ -308,8 +308,7 @@ function kindOf(name: string, values: readonly Cell[], filled: number, mixedStyl
   const distinctNumbers = (): number => countDistinct(numberValues.subarray(0, numbers));
   if (looksLikeIdentifierName(name)) return { kind: "identifier", defaultPredictor: false, reason: "identifier, by its name" };
   if (2 * numbers > filled) {
-    // A counter rises down the rows, so its values all differ.
-    if (numbers === filled && allWhole && numbers >= IDENTIFIER_MIN_ROWS && isCounter(values)) {
+    if (numbers === filled && allWhole && numbers >= IDENTIFIER_MIN_ROWS && isCounter(values) && distinctNumbers() === numbers) {
       return { kind: "identifier", defaultPredictor: false, reason: "identifier: every value a different whole number, as a counter" };
     }
     if (allEqual(numberValues.subarray(0, numbers))) return { kind: "number", defaultPredictor: false, reason: "the same number in every row" };
@@ -393,4 +392,20 @@ function distinctExamples(texts: string[], count: number): string[] {
     if (shown.length === count) break;
   }
   return shown;
+}
+
+/**
+ * The number-text phase of the rule for one column of a worksheet range, as Excel hands it
+ * to a function or the pane reads it: text cells that read as numbers in one style become
+ * numbers in `values` (in place), read with a decimal point as in comma-separated files and
+ * described as a workbook's are ("numbers stored as text" when plain).
+ */
+export function readNumberTextCells(name: string, values: Cell[]): { converted?: string; notice?: string } {
+  const texts: number[] = [];
+  for (let i = 0; i < values.length; i++) {
+    const value = values[i];
+    if (typeof value === "string" && value.trim() !== "" && !isErrorText(value)) texts.push(i);
+  }
+  if (texts.length === 0) return {};
+  return readNumberColumn(name, values, texts, ".", true);
 }

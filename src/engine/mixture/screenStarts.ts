@@ -10,7 +10,7 @@ import { computeResiduals } from "./eStep";
 import { factorPredictorCovariances, mStepCoefficients, mStepVariances, type Guards } from "./mStep";
 import { reseedComponent } from "./reseedComponent";
 import { locationSeedingLabels, parametersFromCoefficients, randomPartitionLabels, residualSeedingLabels, setHardMemberships } from "./starts";
-import { isNoiseless, landOnExactFit, SHORT_ITERATIONS } from "./exactComponents";
+import { exactComponentsOf, isNoiseless, landOnExactFit, SHORT_ITERATIONS } from "./exactComponents";
 import { peelExactComponents } from "./restructuringMoves";
 import { bestFoundTwice } from "./compareFits";
 import { checkSignal, runEm } from "./runEm";
@@ -37,15 +37,35 @@ const MIN_STARTS = 3;
  * Sub-problems of this many components or more that carry a parent's estimate skip the
  * random-partition starts: in tens of dimensions those essentially never reach the exact fit
  * of four or more components, and the parent refines the combined fit on all rows whatever
- * the sub-problem returns.
+ * the sub-problem returns. In the user's fit of that many components, once the data has shown
+ * an exact component, the random partitions stop after PARTITIONS_WITHOUT_EXACT in a row
+ * reached no exact component (in a few dimensions they do reach some, and exact peeling
+ * completes them; in tens they reach none, and peeling the exact component found elsewhere,
+ * restructure.ts, is what completes the fit).
  */
-const INHERITED_COMPONENTS_WITHOUT_PARTITIONS = 4;
+const COMPONENTS_WITHOUT_PARTITIONS = 4;
+const PARTITIONS_WITHOUT_EXACT = 3;
 
 /** The screened starts, best first; whether the search stopped because the best was found twice. */
 export interface ScreenedStarts {
   candidates: Candidate[];
   foundTwice: boolean;
   moment: MomentWarmStart | null;
+}
+
+/** What the start sources read of the screen so far (exact components counted only for COMPONENTS_WITHOUT_PARTITIONS or more). */
+interface ScreenState {
+  moment: MomentWarmStart | null;
+  /** Some screened start fitted a component exactly. */
+  exactSeen: boolean;
+  /** Random partitions in a row, up to the last, that fitted no component exactly. */
+  partitionsWithoutExact: number;
+}
+
+function noteExactComponents(ctx: FitContext, screen: ScreenState, candidate: Candidate): void {
+  const exact = exactComponentsOf(ctx.working, candidate.params).length > 0;
+  screen.exactSeen ||= exact;
+  if (candidate.method.startsWith("random-partition")) screen.partitionsWithoutExact = exact ? 0 : screen.partitionsWithoutExact + 1;
 }
 
 interface StartSource {
@@ -63,16 +83,17 @@ interface StartSource {
  */
 export function screenStarts(ctx: FitContext): ScreenedStarts {
   const candidates: Candidate[] = [];
-  const moment: { result: MomentWarmStart | null } = { result: null };
+  const screen: ScreenState = { moment: null, exactSeen: false, partitionsWithoutExact: 0 };
   let foundTwice = false;
-  for (const source of startSources(ctx, moment)) {
+  for (const source of startSources(ctx, screen)) {
     checkSignal(ctx.signal);
     const params = source.make();
     const candidate = params ? screenStart(ctx, source.method, params, source.extraIterations) : null;
     if (!candidate) continue;
     candidates.push(candidate);
     if (isNoiseless(candidate.params, ctx.working)) break;
-    if (candidates.length >= MIN_STARTS && (bestFoundTwice(candidates) || (candidates.length === MIN_STARTS && leadersAgree(ctx, candidates)))) {
+    if (ctx.working.k >= COMPONENTS_WITHOUT_PARTITIONS) noteExactComponents(ctx, screen, candidate);
+    if (!ctx.expectExact && candidates.length >= MIN_STARTS && (bestFoundTwice(candidates) || (candidates.length === MIN_STARTS && leadersAgree(ctx, candidates)))) {
       foundTwice = true;
       break;
     }
@@ -81,7 +102,7 @@ export function screenStarts(ctx: FitContext): ScreenedStarts {
     throw new SkeinError("numeric", "Every start failed: the predictors are (nearly) collinear within the groups tried. Remove a predictor that repeats others, or use fewer components.");
   }
   candidates.sort((a, b) => b.logLikelihood - a.logLikelihood);
-  return { candidates, foundTwice, moment: moment.result };
+  return { candidates, foundTwice, moment: screen.moment };
 }
 
 /**
@@ -109,7 +130,7 @@ function leadersAgree(ctx: FitContext, candidates: Candidate[]): boolean {
  * generator): a parent's estimate, a previous fit, the moment warm start, residual and
  * location seeding, random partitions.
  */
-function* startSources(ctx: FitContext, moment: { result: MomentWarmStart | null }): Generator<StartSource> {
+function* startSources(ctx: FitContext, screen: ScreenState): Generator<StartSource> {
   const { working: ws, guards, random, settings, inherited, previous } = ctx;
   if (inherited && inherited.length === ws.k * ws.q) {
     yield { method: "inherited", make: () => parametersFromCoefficients(ws, inherited, guards), extraIterations: LANDING_ITERATIONS - SHORT_ITERATIONS };
@@ -118,17 +139,18 @@ function* startSources(ctx: FitContext, moment: { result: MomentWarmStart | null
     yield { method: "previous", make: () => parametersFromFit(ws, previous, guards), extraIterations: 0 };
   }
   const momentStart = (): MixtureParameters | null => {
-    moment.result = momentWarmStart(momentRows(ws, random), ws.k, settings.intercept, random);
-    if (!moment.result) return null;
+    const moment = momentWarmStart(momentRows(ws, random), ws.k, settings.intercept, random);
+    screen.moment = moment;
+    if (!moment) return null;
     const coefficients = new Float64Array(ws.k * ws.q);
-    moment.result.coefficients.forEach((vector, c) => coefficients.set(vector, c * ws.q));
+    moment.coefficients.forEach((vector, c) => coefficients.set(vector, c * ws.q));
     return parametersFromCoefficients(ws, coefficients, guards);
   };
   yield { method: "moment-subspace", make: momentStart, extraIterations: LANDING_ITERATIONS - SHORT_ITERATIONS };
   yield { method: "residual-seeding", make: () => parametersFromLabels(ws, residualSeedingLabels(ws, random), guards, random), extraIterations: 0 };
   yield { method: "location-seeding", make: () => parametersFromLabels(ws, locationSeedingLabels(ws, random), guards, random), extraIterations: 0 };
-  const partitions = !inherited || ws.k < INHERITED_COMPONENTS_WITHOUT_PARTITIONS ? settings.restarts : 0;
-  for (let r = 0; r < partitions; r++) {
+  for (let r = 0; r < settings.restarts; r++) {
+    if (ws.k >= COMPONENTS_WITHOUT_PARTITIONS && (inherited || (screen.exactSeen && screen.partitionsWithoutExact >= PARTITIONS_WITHOUT_EXACT))) return;
     yield { method: "random-partition", make: () => parametersFromLabels(ws, randomPartitionLabels(ws.n, ws.k, random), guards, random), extraIterations: 0 };
   }
 }
