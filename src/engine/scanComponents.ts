@@ -92,7 +92,7 @@ export const CROSS_VALIDATION_FOLDS = 5;
  *    K, what the fit's own restructuring (split-and-merge, peeling by sub-fits) does within
  *    one K, so the scan's fits skip restructuring: it was most of a scan's time, spent on K
  *    beyond the true one, and left every suggestion of the bench's scan problems unchanged.
- *  - K beyond the lowest BIC so far (once BIC has risen) get no random-partition restarts:
+ *  - A K whose predecessor's BIC is above the lowest so far gets no random-partition restarts:
  *    the add start, the moment warm start and the seeded starts place them.
  *  - The cross-validation folds start from the full-data fit of the same K and only refine it.
  */
@@ -179,7 +179,7 @@ export function scanComponents(data: RegressionData, options: ScanOptions): Scan
 /**
  * The options of the scan's fit of K: the user's settings, without restructuring (the add
  * start carries the fit of K − 1 over instead), and without random-partition restarts for K
- * beyond the lowest BIC so far (`rows` are the K fitted before).
+ * whose predecessor's BIC is above the lowest so far (`rows` are the K fitted before).
  */
 function scanFitOptions(k: number, seed: number, options: ScanOptions, rows: readonly ScanRow[]): MixtureOptions {
   const lowest = Math.min(...rows.map((row) => row.bic));
