@@ -7,7 +7,8 @@
  *  fewer:  the noiseless grid at 3, 4 and 5 rows per predictor per component (d 20/50, K 5/7);
  *  d100:   noiseless d = 100, K = 10 at 10 rows per predictor per component;
  *  large:  200,000 x 10, K = 3: fit + standard errors + separation check in one-pass equivalents,
- *          and 1,000,000 x 5, K = 3;
+ *          and 1,000,000 x 5, K = 3, also as whole command-line processes on a CSV file (skein
+ *          fit --k 3, skein scan --k-max 4: wall time, peak resident memory, read and fit times);
  *  scan6:  a scan of K = 1..6 on a noisy 2,500 x 8 sheet.
  */
 import { createRandom } from "../src/engine/random";
@@ -15,10 +16,11 @@ import { fitMixture } from "../src/engine/fitMixture";
 import { standardErrors } from "../src/engine/standardErrors";
 import { checkSeparation } from "../src/engine/checkSeparation";
 import { scanComponents } from "../src/engine/scanComponents";
-import { generateProblem, noiselessProblem, noisyProblem, relativeCoefficientError } from "../src/synthetic/generateProblems";
+import { generateProblem, noiselessProblem, noisyProblem, relativeCoefficientError, type GeneratedProblem } from "../src/synthetic/generateProblems";
 import { carefulEmFit } from "./plainEm";
 import { RECOVERY_TOLERANCE, fitForBench, noiselessBenchProblem } from "./accuracy";
 import { timeOnePass } from "./speed";
+import { cliBuilt, runCli, writeProblemCsv } from "./wholeProcess";
 
 const RESTARTS = 10;
 /** Timings per small problem, product and careful EM in turn; the medians are printed (single timings move by a factor of two on a shared machine). */
@@ -118,6 +120,7 @@ export function runLargeBench(print: (line: string) => void): void {
   checkSeparation(warmUp.data, warmFit);
   for (const [n, p] of [[200000, 10], [1000000, 5]] as const) {
     const problem = generateProblem({ n, p, k: 3, seed: 2024, sigma: 0.1, intercept: true, meanShift: 0.5, minSeparation: 0.5 });
+    if (n === 1000000) printWholeProcess(problem, print);
     const pass = timeOnePass(problem.data.x, n, p);
     let began = performance.now();
     const fit = fitMixture(problem.data, { k: 3, seed: 1 });
@@ -144,5 +147,34 @@ export function runScanSixBench(print: (line: string) => void): void {
     const scan = scanComponents(problem.data, { kMax: 6, seed: 1 });
     const elapsed = performance.now() - began;
     print(`  true K = ${k}: picked ${scan.chosenK} in ${(elapsed / 1000).toFixed(2)} s`);
+  }
+}
+
+/**
+ * `skein fit --k 3` and `skein scan --k-max 4` on the problem written as a CSV file, each as its
+ * own process (targets for 1,000,000 x 5: fit within about 5 s and 500 MB, scan within about 20 s).
+ */
+function printWholeProcess(problem: GeneratedProblem, print: (line: string) => void): void {
+  const { n, p } = problem.data;
+  if (!cliBuilt()) {
+    print(`${n} x ${p} whole process: skipped, dist/cli/skein.js is not built (npm run build)`);
+    return;
+  }
+  const { file, cleanup } = writeProblemCsv(problem);
+  try {
+    for (const args of [["fit", file, "--y", "y", "--k", "3"], ["scan", file, "--y", "y", "--k-max", "4"]]) {
+      const figures = runCli(args);
+      const label = `skein ${args[0]} ${args.slice(4).join(" ")}`;
+      if (typeof figures === "string") {
+        print(`${n} x ${p} CSV, ${label}: failed (${figures})`);
+        continue;
+      }
+      const timings = figures.json.timings as { readMs?: number; fitMs?: number } | undefined;
+      const inner = timings ? `; its own timings: read ${timings.readMs?.toFixed(0)} ms, fit ${timings.fitMs?.toFixed(0)} ms` : "";
+      const picked = args[0] === "scan" ? `; suggested K = ${figures.json.chosenK}` : "";
+      print(`${n} x ${p} CSV, ${label}: whole process ${(figures.wallMs / 1000).toFixed(1)} s, peak resident ${figures.peakMegabytes.toFixed(0)} MB${inner}${picked}`);
+    }
+  } finally {
+    cleanup();
   }
 }

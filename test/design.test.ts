@@ -95,7 +95,7 @@ describe("buildDesign: skipped rows", () => {
       [3, 5], // row 2 used
       [4, 3], // row 3: y ""
       [5, undefined], // row 4: b undefined
-      ["7", 1], // row 5: a is numeric-looking text, never parsed
+      ["seven", 1], // row 5: a is text
       [7, 2], // row 6: y whitespace only
       [8, true], // row 7: b logical
       [9, "#DIV/0!"], // row 8: b error text
@@ -119,6 +119,39 @@ describe("buildDesign: skipped rows", () => {
       { row: 8, column: "b", reason: "error value" },
       { row: 9, column: "a", reason: "error value" },
     ]);
+  });
+
+  it("reads numbers written as text by the file readers' rule and says so in a notice", () => {
+    // Invented ranges as Excel hands them: Share typed as "12.3%" text, Price as "$1,234.50"
+    // text, y with one number stored as text. Before, each such row was skipped as text (and a
+    // column of percent text became a category column, one indicator per value).
+    const y = [["Sales"], [10], ["12"], [14], [15], [17], [18]];
+    const x = [
+      ["Share", "Price"],
+      ["12.3%", "$1,234.50"],
+      ["4%", "$980.00"],
+      ["7.5%", "$1,010.25"],
+      ["10%", "$1,100.00"],
+      ["11%", "$1,150.00"],
+      ["15%", "$1,300.00"],
+    ];
+    const d = buildDesign(y, x);
+    expect(d.n).toBe(6);
+    expect(d.predictorNames).toEqual(["Share", "Price"]);
+    expect(Array.from(d.x.subarray(0, 2))).toEqual([0.123, 1234.5]);
+    expect(d.y[1]).toBe(12);
+    expect(d.notices).toEqual([
+      "Read as numbers: Sales (numbers stored as text).",
+      "Read as numbers: Share (percent, 12.3% read as 0.123), Price (currency $, thousands separator \",\").",
+    ]);
+    // Mixed styles stay text, with the readers' notice; those rows are skipped as text.
+    const mixed = buildDesign([[1], [2], [3], [4], [5]], [["5%"], ["0.2"], [3], [4], [6]]);
+    expect(mixed.notices[0]).toMatch(/^x1 writes numbers in more than one way \("5%", "0.2"\); its cells are kept as text/);
+    expect(mixed.n).toBe(3);
+    // A caller whose reader already applied the rule turns it off: the text stays text.
+    const asText = buildDesign(y, [["Week"], [1], [2], [3], [4], [5], [6]], { numberText: false });
+    expect(asText.notices).toEqual([]);
+    expect(asText.skipped).toEqual([{ row: 1, column: "Sales", reason: "text" }]);
   });
 
   it("reports the first unusable column of a row (y before x, then x in order)", () => {

@@ -62,3 +62,35 @@ describe("worksheet functions with a category predictor", () => {
     expect(error.message).toContain("Column Name holds 150 different text values");
   });
 });
+
+describe("worksheet ranges holding numbers written as text", () => {
+  // Invented: 30 weeks of sales (y = 50 + 200 × discount share), the share typed as "12%" text
+  // in the sheet; a few weeks' sales stored as text.
+  const rows = Array.from({ length: 30 }, (_, i) => {
+    const share = 2 + ((i * 7) % 25);
+    return { share: `${share}%`, sales: 50 + 2 * share + ((i % 3) - 1) * 0.5 };
+  });
+  const salesY = [["Sales"], ...rows.map((r, i) => [i % 10 === 0 ? String(r.sales) : r.sales])];
+  const shareX = [["Discount"], ...rows.map((r) => [r.share])];
+
+  it("SKEIN.FIT reads them as numbers, and SKEIN.CHECK says so as the command line does", async () => {
+    // Before, Discount (mostly text) became a category column of 25 values: #VALUE! beyond 20.
+    const table = await fit(salesY, shareX, 1);
+    expect(table[0]).toEqual(["component", "weight (%)", "noise SD", "intercept", "Discount"]);
+    // y = 50 + 200 × share (share 0.12 for 12%): the invented slope.
+    expect(table[1][4]).toBeCloseTo(200, 0);
+    const notes = (await check(salesY, shareX, 1)).filter((row) => row[0] === "note").map((row) => row[1]);
+    expect(notes).toContain("Read as numbers: Sales (numbers stored as text).");
+    expect(notes).toContain("Read as numbers: Discount (percent, 12.3% read as 0.123).");
+  });
+
+  it("SKEIN.PREDICT takes the same percent text in new_rows", async () => {
+    const predicted = await predict(salesY, shareX, [["Discount"], ["10%"], [0.2]], 1);
+    expect(predicted[1][1]).toBeCloseTo(70, 0);
+    expect(predicted[2][1]).toBeCloseTo(90, 0);
+    // Without a header row, a first row of percent text is a row to predict for, not names.
+    const bare = await predict(salesY, shareX, [["10%"], ["20%"]], 1);
+    expect(bare).toHaveLength(2);
+    expect(bare[0][1]).toBeCloseTo(70, 0);
+  });
+});

@@ -9,6 +9,10 @@ import { mStepCoefficients, mStepVariances, mStepVariancesFromGram } from "../sr
 import { computeResiduals } from "../src/engine/mixture/eStep";
 import { generateProblem } from "../src/synthetic/generateProblems";
 import { ConcentrationSteps } from "../src/engine/mixture/concentrationSteps";
+import { enoughRows, exactComponentsOf } from "../src/engine/mixture/exactComponents";
+import { parametersFromCoefficients } from "../src/engine/mixture/starts";
+import { createGuards } from "../src/engine/mixture/mixtureSettings";
+import type { RegressionData } from "../src/engine/mixtureTypes";
 
 describe("weighted least squares by scaled Cholesky of XᵀWX", () => {
   it("agrees with the Householder QR core to 1e-10 on a weighted design with columns of very different scale", () => {
@@ -167,5 +171,47 @@ describe("concentration steps (least trimmed squares C-steps)", () => {
     for (let s = 1; s <= 6; s++) path.push(trimmed(steps.run(start, h, s, 1e-9).coefficients));
     for (let s = 1; s < path.length; s++) expect(path[s]).toBeLessThanOrEqual(path[s - 1] * (1 + 1e-12));
     expect(path[path.length - 1]).toBeLessThan(path[0]);
+  });
+});
+
+describe("exact components (the one tolerance and the one enough-rows rule)", () => {
+  // Invented noiseless data: 40 rows on y = xᵀa, 30 on y = xᵀb, and 6 rows on y = xᵀc, x
+  // standard normal in 5 dimensions (no intercept).
+  function threeLines(): { data: RegressionData; a: Float64Array; b: Float64Array; c: Float64Array } {
+    const random = createRandom(43);
+    const p = 5;
+    const [a, b, c] = [0, 1, 2].map(() => Float64Array.from({ length: p }, () => random.normal()));
+    const sizes = [40, 30, 6];
+    const n = sizes.reduce((s, v) => s + v, 0);
+    const x = new Float64Array(n * p);
+    const y = new Float64Array(n);
+    let row = 0;
+    sizes.forEach((size, group) => {
+      const beta = [a, b, c][group];
+      for (let r = 0; r < size; r++, row++) {
+        for (let j = 0; j < p; j++) {
+          x[row * p + j] = random.normal();
+          y[row] += x[row * p + j] * beta[j];
+        }
+      }
+    });
+    return { data: { x, y, n, p }, a, b, c };
+  }
+
+  it("counts a component as exact only when it fits enoughRows(q) rows within the tolerance", () => {
+    const { data, a, b, c } = threeLines();
+    const q = data.p;
+    const ws = createWorkspace(data, 3, false, false);
+    const coefficients = new Float64Array(3 * q);
+    // a exactly; b 1% off (fits none of its rows exactly); c exactly but with only 6 rows,
+    // fewer than enoughRows(5) = 8: any 5 rows are fitted exactly by some vector.
+    coefficients.set(a, 0);
+    coefficients.set(b.map((v) => v * 1.01), q);
+    coefficients.set(c, 2 * q);
+    expect(enoughRows(q)).toBe(8);
+    const params = parametersFromCoefficients(ws, coefficients, createGuards(q, ws.yVariance));
+    expect(exactComponentsOf(ws, params)).toEqual([0]);
+    coefficients.set(b, q);
+    expect(exactComponentsOf(ws, parametersFromCoefficients(ws, coefficients, createGuards(q, ws.yVariance)))).toEqual([0, 1]);
   });
 });

@@ -1,5 +1,5 @@
 import { describe, expect, it } from "vitest";
-import { csvTable, parseCsv } from "../src/io/readCsv";
+import { csvTable, parseCsv, plainNumberGrid, splitCsv } from "../src/io/readCsv";
 import { SkeinError } from "../src/engine/errors";
 
 // Expected rows are read off each input string by hand (derivation in this
@@ -32,6 +32,15 @@ describe("parseCsv", () => {
   it("handles quoted fields with delimiters, escaped quotes and line breaks", () => {
     const text = 'id,comment\n1,"red, green"\n2,"she said ""hi"""\n3,"two\nlines"\n4,""\n';
     expect(parseCsv(text)).toEqual([["id", "comment"], [1, "red, green"], [2, 'she said "hi"'], [3, "two\nlines"], [4, null]]);
+  });
+
+  it("reads lines with quotes or lone carriage returns like plain lines around them, with each row's line", () => {
+    // Plain lines take a quicker road than lines holding a quote or a lone CR; the fields and
+    // the 1-based lines (counted by hand here) must not depend on which.
+    const text = 'a,b\r\n1,2\r"x,\ny",3\n4, 5 \r\n\r\n\n6,"7"\n8,\n';
+    const fields = splitCsv(text);
+    expect(fields.rows).toEqual([["a", "b"], ["1", "2"], ["x,\ny", "3"], ["4", " 5 "], ["6", "7"], ["8", null]]);
+    expect(fields.lines).toEqual([1, 2, 3, 5, 8, 9]);
   });
 
   it("converts quoted numbers too (quotes only protect characters in CSV)", () => {
@@ -94,5 +103,29 @@ describe("csvTable decimal mark", () => {
     expect(table.notices[0]).toBe("Fields are separated by semicolons; numbers use a decimal point.");
     // A file with decimal commas and thousands points still reads them so.
     expect(csvTable("x;y\n1.234,5;2\n2,25;3\n", "commas.csv").rows).toEqual([[1234.5, 2], [2.25, 3]]);
+  });
+});
+
+describe("csvTable on files of plain numbers (the one-pass road)", () => {
+  // Invented files; expected values read off the text by hand.
+  it("reads blanks, CRLF line ends and empty lines as the field splitter does, with each row's line", () => {
+    const text = "y,x\r\n1,2\r\n3, \r\n\r\n-0.5,1e3\r\n";
+    expect(plainNumberGrid(text)).not.toBeNull();
+    const table = csvTable(text, "plain.csv");
+    expect(table.rows).toEqual([[1, 2], [3, null], [-0.5, 1000]]);
+    expect(table.dataRowNumbers).toEqual([2, 3, 5]);
+    expect(table.columns.map((c) => c.kind)).toEqual(["number", "number"]);
+  });
+
+  it("leaves any other file to the field splitter, with the same table as before", () => {
+    // A percentage three lines down: the column mixes styles and stays text (columnTypes rule).
+    const mixed = "y,x\n1,2\n3,4\n5,12%\n";
+    expect(plainNumberGrid(mixed)).toBeNull();
+    const table = csvTable(mixed, "mixed.csv");
+    expect(table.rows).toEqual([[1, "2"], [3, "4"], [5, "12%"]]);
+    expect(table.notices.join(" ")).toMatch(/x writes numbers in more than one way/);
+    // A quoted field, a blank header name: the splitter's road too.
+    expect(plainNumberGrid('y,x\n1,"2"\n')).toBeNull();
+    expect(plainNumberGrid("y,\n1,2\n")).toBeNull();
   });
 });

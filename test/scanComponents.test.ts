@@ -17,6 +17,18 @@ describe("suggestK (the rule stated in scanComponents.ts)", () => {
     rows[2].bic = 300 - 2 * BIC_TIE;
     expect(suggestK(rows)).toBe(3);
   });
+
+  it("a BIC that is no number cannot win, and never turns the suggestion into no K at all", () => {
+    // Invented BIC values. Before, a NaN BIC made the least BIC NaN and the suggestion
+    // Math.min() of nothing, Infinity, which the scan then used as a row index.
+    const rows = [
+      { k: 1, bic: 500, flag: null },
+      { k: 2, bic: NaN, flag: null },
+      { k: 3, bic: 300, flag: null },
+    ];
+    expect(suggestK(rows)).toBe(3);
+    expect(suggestK([{ k: 1, bic: NaN, flag: null }])).toBe(1);
+  });
 });
 
 describe("scanComponents", () => {

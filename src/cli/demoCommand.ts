@@ -188,7 +188,7 @@ export async function runDemoScenario(truth: ScenarioTruth, options: DemoOptions
   const names = headerNames(table.rows, truth.workbook);
   const yColumn = findColumn(names, truth.response, truth.workbook);
   const xColumns = truth.predictors.map((name) => findColumn(names, name, truth.workbook));
-  const design = buildDesign(columnRange(table.rows, yColumn), columnsRange(table.rows, xColumns), { headers: true });
+  const design = buildDesign(columnRange(table.rows, yColumn), columnsRange(table.rows, xColumns), { headers: true, numberText: false });
   const read = performance.now() - started;
 
   started = performance.now();

@@ -92,7 +92,7 @@ export async function loadDesign(source: DesignSource): Promise<LoadedDesign> {
   });
   let design: Design;
   try {
-    design = buildDesign(columnCells(table, [y]), columnCells(table, x), { headers: true, intercept: source.intercept, leaveOut, components: source.k, categories });
+    design = buildDesign(columnCells(table, [y]), columnCells(table, x), { headers: true, intercept: source.intercept, leaveOut, components: source.k, categories, numberText: false });
   } catch (error) {
     // Rows skipped for text in a column whose numbers mix styles: say why that column is text.
     const used = [y, ...x].map((j) => table.names[j]);

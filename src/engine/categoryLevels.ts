@@ -1,3 +1,4 @@
+import { readNumberText } from "../io/numberText";
 import { SkeinError } from "./errors";
 
 /**
@@ -133,8 +134,10 @@ export function encodeRow(columns: readonly PredictorColumn[], cells: readonly u
     const column = columns[j];
     const value = cells[j];
     if (column.kind === "number") {
-      if (typeof value !== "number" || !Number.isFinite(value)) return false;
-      out[at++] = value;
+      // Number text ("12.3%", "$3.50") is read as the fitted rows' was (buildDesign).
+      const number = typeof value === "string" ? readNumberText(value, ".")?.value : value;
+      if (typeof number !== "number" || !Number.isFinite(number)) return false;
+      out[at++] = number;
       continue;
     }
     const level = levelOf(value);

@@ -1,5 +1,7 @@
 import { SkeinError } from "./errors";
 import { categoryNotice, chooseLevels, encodedNames, encodedWidth, isCategoryColumn, levelOf, type PredictorColumn } from "./categoryLevels";
+import { readNumberTextCells, type Cell } from "../io/columnTypes";
+import { readNumberText } from "../io/numberText";
 
 /** A data row left out of the fit, and why. */
 export interface SkippedRow {
@@ -65,6 +67,12 @@ export interface DesignOptions {
    * absent: decided here by isCategoryColumn.
    */
   categories?: readonly boolean[];
+  /**
+   * Whether text cells that read as numbers ("12.3%", "1,234.5", "$3.50", a number stored as
+   * text) are read as numbers by the file readers' column rule, with a notice (default true);
+   * false for a caller whose reader has already applied that rule.
+   */
+  numberText?: boolean;
 }
 
 /** Why a cell makes its row unusable. */
@@ -102,11 +110,10 @@ const CELL_NON_FINITE = 1;
  * Classifies one cell: CELL_OK for a finite number, CELL_NON_FINITE for
  * Infinity/NaN, otherwise the skip reason.
  *
- * Numeric-looking text is deliberately not parsed: Excel hands text cells to
- * a function as strings, and a "12" typed as text is usually a data-entry
- * mistake the user should see reported rather than silently fixed. (The CSV
- * reader converts numeric text itself, because in a CSV file everything is
- * text.)
+ * Numeric-looking text is read before this (readNumberText in buildDesign), by the
+ * file readers' column rule and with a notice naming the column, so a workbook's
+ * numbers stored as text give the same fit through a worksheet function as through
+ * `skein fit`; what is left here as text is text.
  *
  * Older Excel builds pass 0 for a blank cell in a range argument. Such a 0
  * cannot be told apart from a typed 0, so it is used as data; users of those
@@ -136,9 +143,9 @@ function classifyCell(value: unknown): number | string {
   }
 }
 
-/** A cell that can serve as a column name: non-blank text that is not an error value. */
+/** A cell that can serve as a column name: non-blank text that is not an error value or a number written as text. */
 function isNameText(value: unknown): value is string {
-  return typeof value === "string" && classifyCell(value) === SKIP_REASONS.text;
+  return typeof value === "string" && classifyCell(value) === SKIP_REASONS.text && readNumberText(value, ".") === undefined;
 }
 
 function checkRange(range: unknown, label: string): unknown[][] {
@@ -162,8 +169,8 @@ function checkRange(range: unknown, label: string): unknown[][] {
  * "bad-input" whose message says how to fix it.
  */
 export function buildDesign(y: unknown[][], x: unknown[][], options: DesignOptions = {}): Design {
-  const yRows = checkRange(y, "y");
-  const xRows = checkRange(x, "x");
+  let yRows = checkRange(y, "y");
+  let xRows = checkRange(x, "x");
   for (let i = 0; i < yRows.length; i++) {
     if (yRows[i].length !== 1) {
       if (yRows[i].length === 0) throw new SkeinError("bad-input", `Row ${i + 1} of the y range is empty; y must be a single column of numbers.`);
@@ -196,6 +203,11 @@ export function buildDesign(y: unknown[][], x: unknown[][], options: DesignOptio
   const inputRows = yRows.length - firstDataRow;
   if (inputRows === 0) {
     throw new SkeinError("bad-input", "The ranges hold only a header row; include the data rows below it.");
+  }
+  const readNotices: string[] = [];
+  if (options.numberText !== false) {
+    yRows = readNumberTextColumns(yRows, firstDataRow, [yName], readNotices);
+    xRows = readNumberTextColumns(xRows, firstDataRow, columnNames, readNotices);
   }
   // Category columns: mostly text or logical values (categoryLevels.ts).
   const isCategory: boolean[] = [];
@@ -256,7 +268,7 @@ export function buildDesign(y: unknown[][], x: unknown[][], options: DesignOptio
   }
 
   const columns: PredictorColumn[] = [];
-  const notices: string[] = [];
+  const notices: string[] = readNotices;
   let everyLevelUsed = options.intercept === false;
   for (let j = 0; j < p; j++) {
     if (!isCategory[j]) {
@@ -314,6 +326,30 @@ export function buildDesign(y: unknown[][], x: unknown[][], options: DesignOptio
   };
   checkPredictors(design, options.intercept ?? true);
   return design;
+}
+
+/**
+ * The rows with each column's number text read as numbers (readNumberTextCells, the file
+ * readers' rule), copied only when a column changed; the notices say what was read, in the
+ * command line's words ("Read as numbers: Share (percent, 12.3% read as 0.123).").
+ */
+function readNumberTextColumns(rows: unknown[][], firstDataRow: number, names: readonly string[], notices: string[]): unknown[][] {
+  const converted: string[] = [];
+  let result = rows;
+  for (let j = 0; j < names.length; j++) {
+    let anyText = false;
+    for (let r = firstDataRow; r < rows.length && !anyText; r++) anyText = typeof rows[r][j] === "string";
+    if (!anyText) continue;
+    const values = rows.slice(firstDataRow).map((row) => row[j] as Cell);
+    const read = readNumberTextCells(names[j], values);
+    if (read.notice) notices.push(read.notice);
+    if (read.converted === undefined) continue;
+    converted.push(`${names[j]} (${read.converted})`);
+    if (result === rows) result = rows.map((row) => row.slice());
+    values.forEach((value, i) => (result[firstDataRow + i][j] = value));
+  }
+  if (converted.length > 0) notices.push(`Read as numbers: ${converted.join(", ")}.`);
+  return result;
 }
 
 function nonFinite(column: string, value: number, row: number, hasHeaderRow: boolean): SkeinError {

@@ -54,7 +54,7 @@ function fitWithBackgroundSetting(data: RegressionData, options: MixtureOptions)
  *   exact components  exact peeling and the noiseless polish (finishExactComponents.ts)
  *   report            reports, warnings, memberships, BIC, ICL, order (reportFit.ts)
  */
-function fitAtDepth(data: RegressionData, options: MixtureOptions, depth: number, inherited?: Float64Array): MixtureFit {
+function fitAtDepth(data: RegressionData, options: MixtureOptions, depth: number, inherited?: Float64Array, expectExact = false): MixtureFit {
   const settings = checkInput(data, options);
   const full = withBackground(createWorkspace(data, settings.k, settings.intercept, settings.model === "joint"), settings.background);
   const guards = createGuards(full.q, full.yVariance);
@@ -64,7 +64,7 @@ function fitAtDepth(data: RegressionData, options: MixtureOptions, depth: number
   const subsampleRows = full.n > 2 * subsampleSize ? sampleIndices(full.n, subsampleSize, random) : null;
   const working = subsampleRows ? withBackground(createWorkspace(data, settings.k, settings.intercept, full.joint, subsampleRows), settings.background, full) : full;
   const ctx: FitContext = {
-    data, settings, guards, random, full, working, subsampleRows, depth, inherited,
+    data, settings, guards, random, full, working, subsampleRows, depth, inherited, expectExact,
     tolerance: settings.tolerance,
     signal: options.signal,
     previous: options.previous,
@@ -72,7 +72,7 @@ function fitAtDepth(data: RegressionData, options: MixtureOptions, depth: number
 
   const starts = screenStarts(ctx);
   const incumbent = refineBest(ctx, starts.candidates);
-  const splits = starts.foundTwice ? 0 : restructure(ctx, incumbent);
+  const splits = starts.foundTwice || options.restructure === false ? 0 : restructure(ctx, incumbent);
   const onAllRows = finishOnAllRows(ctx, incumbent);
   const finished = finishExactComponents(ctx, incumbent, onAllRows.membershipsCurrent);
   return reportFit(ctx, { starts, incumbent, splits, onAllRows, finished });
@@ -87,6 +87,8 @@ export interface SubProblem {
   restarts?: number;
   /** The parent's estimate of these components (k·q coefficients), tried first. */
   start?: Float64Array;
+  /** The rows are expected to lie exactly on k regressions (the parent fitted others exactly). */
+  expectExact?: boolean;
 }
 
 /**
@@ -104,5 +106,5 @@ export function fitSubProblem(parent: FitContext, sub: SubProblem): MixtureFit {
     tolerance: settings.tolerance,
     maxIterations: settings.maxIterations,
   };
-  return fitAtDepth(selectRows(parent.data, sub.rows), options, parent.depth + 1, sub.start);
+  return fitAtDepth(selectRows(parent.data, sub.rows), options, parent.depth + 1, sub.start, sub.expectExact ?? parent.expectExact);
 }

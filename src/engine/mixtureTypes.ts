@@ -44,6 +44,11 @@ export interface MixtureOptions {
   background?: boolean | "auto";
   /** A previous fit of the same model on (nearly) the same data: warm start and label order. */
   previous?: MixtureFit;
+  /**
+   * Whether the fit may restructure (split-and-merge, peeling) when no two starts agree
+   * (default true). The K scan turns it off: it starts each K from the fit of K − 1 instead.
+   */
+  restructure?: boolean;
   signal?: CancelSignal;
 }
 

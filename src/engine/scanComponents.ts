@@ -85,10 +85,16 @@ export const CROSS_VALIDATION_FOLDS = 5;
  * weights, plus K(p + p(p + 1)/2) in the joint model; ICL = BIC + 2 EN, Biernacki, Celeux &
  * Govaert 2000).
  *
- * Starts are reused across K: besides the fit's own starts, K is also started from the K − 1
- * fit plus one component fitted to the rows that fit worst under it (a "split/add" start, in
- * the spirit of greedy mixture learning, Vlassis & Likas 2002), so a larger K begins at least
- * as well placed as the smaller one.
+ * Work is shared across K instead of spent afresh on each (see scanFitOptions):
+ *  - K is also started from the K − 1 fit plus one component fitted to the rows that fit worst
+ *    under it (an "add" start, in the spirit of greedy mixture learning, Vlassis & Likas 2002),
+ *    so a larger K begins at least as well placed as the smaller one. That start does, across
+ *    K, what the fit's own restructuring (split-and-merge, peeling by sub-fits) does within
+ *    one K, so the scan's fits skip restructuring: it was most of a scan's time, spent on K
+ *    beyond the true one, and left every suggestion of the bench's scan problems unchanged.
+ *  - K beyond the lowest BIC so far (once BIC has risen) get no random-partition restarts:
+ *    the add start, the moment warm start and the seeded starts place them.
+ *  - The cross-validation folds start from the full-data fit of the same K and only refine it.
  */
 export function scanComponents(data: RegressionData, options: ScanOptions): ScanResult {
   const kMax = options.kMax;
@@ -107,7 +113,7 @@ export function scanComponents(data: RegressionData, options: ScanOptions): Scan
       stoppedEarly = `Tried K = 1 to ${k - 1}, not up to ${kMax}: K = ${k} needs at least ${k * (q + 1)} usable rows (each component needs one more row than its ${q} coefficient${q === 1 ? "" : "s"}), and there are ${data.n}. Add rows or use fewer predictors to try more components.`;
       break;
     }
-    const fitOptions: MixtureOptions = { k, seed, intercept, model, restarts: options.restarts, tolerance: options.tolerance, maxIterations: options.maxIterations, background: options.background, signal: options.signal };
+    const fitOptions = scanFitOptions(k, seed, options, rows);
     if (previousFit !== null) {
       const start = addComponentStart(data, previousFit);
       if (start !== null) fitOptions.previous = start;
@@ -171,6 +177,28 @@ export function scanComponents(data: RegressionData, options: ScanOptions): Scan
 }
 
 /**
+ * The options of the scan's fit of K: the user's settings, without restructuring (the add
+ * start carries the fit of K − 1 over instead), and without random-partition restarts for K
+ * beyond the lowest BIC so far (`rows` are the K fitted before).
+ */
+function scanFitOptions(k: number, seed: number, options: ScanOptions, rows: readonly ScanRow[]): MixtureOptions {
+  const lowest = Math.min(...rows.map((row) => row.bic));
+  const beyondLowest = rows.length > 0 && rows[rows.length - 1].bic > lowest;
+  return {
+    k,
+    seed,
+    intercept: options.intercept ?? true,
+    model: options.model ?? "plain",
+    restarts: beyondLowest ? 0 : options.restarts,
+    tolerance: options.tolerance,
+    maxIterations: options.maxIterations,
+    background: options.background,
+    restructure: false,
+    signal: options.signal,
+  };
+}
+
+/**
  * Why a K is not suggested, for every K but the suggested one: the reasons it could not be
  * suggested (flag), or else how it lost on BIC to the suggested K. Null for the suggested K.
  */
@@ -224,7 +252,9 @@ function scanRow(data: RegressionData, fit: MixtureFit): ScanRow {
 
 /** The suggestion rule of the module comment. */
 export function suggestK(rows: readonly Pick<ScanRow, "k" | "bic" | "flag">[]): number {
-  const eligible = rows.filter((row) => row.flag === null || row.k === 1);
+  // A BIC that is no number cannot win (with it, the least of the BICs would be NaN and no K
+  // would be within the tie of it).
+  const eligible = rows.filter((row) => (row.flag === null || row.k === 1) && !Number.isNaN(row.bic));
   if (eligible.length === 0) return 1;
   const best = Math.min(...eligible.map((row) => row.bic));
   const within = eligible.filter((row) => row.bic <= best + BIC_TIE);
@@ -232,9 +262,17 @@ export function suggestK(rows: readonly Pick<ScanRow, "k" | "bic" | "flag">[]): 
 }
 
 /**
+ * The new component of an add start is fitted to at most this many of the rows fitted worst
+ * (evenly spread through them): it is only a start, refined on all rows, and on a million rows
+ * a least-squares fit to a third of them cost more than the start saves.
+ */
+const ADD_START_MAX_ROWS = 5000;
+
+/**
  * A K-component start from a (K − 1)-component fit: its components unchanged, plus one fitted
  * by least squares to the rows with the lowest log-likelihood under it (the rows it explains
- * worst), max(2(q + 1), n/K) of them. Weights are scaled to make room for the new one.
+ * worst), max(2(q + 1), n/K) of them (at most ADD_START_MAX_ROWS of those). Weights are scaled
+ * to make room for the new one.
  */
 function addComponentStart(data: RegressionData, fit: MixtureFit): MixtureFit | null {
   const { n, p } = data;
@@ -242,9 +280,11 @@ function addComponentStart(data: RegressionData, fit: MixtureFit): MixtureFit | 
   const k = fit.k + 1;
   const rowLogLikelihood = new Float64Array(n);
   computeMemberships(fit, matrix, q, data.y, data.x, n, rowLogLikelihood);
-  const order = Array.from({ length: n }, (_, i) => i).sort((a, b) => rowLogLikelihood[a] - rowLogLikelihood[b]);
-  const take = Math.min(n, Math.max(2 * (q + 1), Math.round(n / k)));
-  const chosen = order.slice(0, take);
+  const worst = lowestRows(rowLogLikelihood, Math.min(n, Math.max(2 * (q + 1), Math.round(n / k))));
+  const stride = Math.ceil(worst.length / ADD_START_MAX_ROWS);
+  const chosen: number[] = [];
+  for (let t = 0; t < worst.length; t += stride) chosen.push(worst[t]);
+  const take = chosen.length;
   const { matrix: subX, y: subY } = gatherRows(matrix, q, data.y, chosen);
   let least;
   try {
@@ -278,6 +318,23 @@ function addComponentStart(data: RegressionData, fit: MixtureFit): MixtureFit | 
 }
 
 /**
+ * The `count` rows with the lowest values, in row order (ties at the cut go to the earlier
+ * rows): the cut found by sorting a typed copy, not an index array with a comparator (seconds
+ * on a million rows).
+ */
+function lowestRows(values: Float64Array, count: number): Int32Array {
+  const rows = new Int32Array(count);
+  if (count === 0) return rows;
+  const cut = values.slice().sort()[count - 1];
+  let taken = 0;
+  for (let i = 0; i < values.length && taken < count; i++) if (values[i] < cut) rows[taken++] = i;
+  for (let i = 0; i < values.length && taken < count; i++) if (values[i] === cut) rows[taken++] = i;
+  // NaN sorts last: reached only when fewer than `count` rows hold numbers.
+  for (let i = 0; i < values.length && taken < count; i++) if (Number.isNaN(values[i])) rows[taken++] = i;
+  return rows.sort();
+}
+
+/**
  * Held-out log-likelihood of every row (Smyth 2000): rows split at random into
  * CROSS_VALIDATION_FOLDS folds (the same folds for every K, so rows can be compared across K);
  * each fold's rows scored by ln Σ_k π_k f_k under a fit to the other folds, warm-started from
@@ -298,10 +355,11 @@ function heldOutLogLikelihoods(data: RegressionData, fit: MixtureFit, options: S
     const training = selectRows(data, kept);
     let trained: MixtureFit;
     try {
+      // Started from the full-data fit, which holds 1 − 1/folds of the fold's rows: only refined.
       // The same model as the K's own fit, background included or not: with "auto", a fold
       // that holds out the one slip would otherwise be fitted without it, and the slip then
       // scored under the regressions alone.
-      trained = fitMixture(training, { k: fit.k, seed: seed + f, intercept: fit.intercept, model: fit.model, restarts: options.restarts, background: Boolean(fit.background), previous: fit, signal: options.signal });
+      trained = fitMixture(training, { k: fit.k, seed: seed + f, intercept: fit.intercept, model: fit.model, restarts: 0, restructure: false, tolerance: options.tolerance, maxIterations: options.maxIterations, background: Boolean(fit.background), previous: fit, signal: options.signal });
     } catch (error) {
       if (error instanceof SkeinError && error.code === "cancelled") throw error;
       return null;

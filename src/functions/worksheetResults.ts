@@ -6,6 +6,7 @@
 import { checkSeparation } from "../engine/checkSeparation";
 import { encodeRow, levelOf, type PredictorColumn } from "../engine/categoryLevels";
 import { findStrayRows } from "../engine/strayRows";
+import { readNumberText } from "../io/numberText";
 import { SkeinError } from "../engine/errors";
 import { engineService } from "../service/engineService";
 import { isExactFit } from "../engine/exactFit";
@@ -157,7 +158,8 @@ interface NewRows extends RowLayout {
  * rule for numbers is the data layer's: only finite numbers are used, and a row with anything
  * else is left out (its output row stays ""). The data layer's checks on predictors (constant
  * or duplicated columns) do not apply: one row to predict for is fine. A first row that is all
- * text is a header row unless each of its cells is a known value of a category column.
+ * text is a header row unless each of its cells is a value of its column (a known category
+ * value, or number text such as "10%" in a column of numbers).
  */
 function readNewRows(newRowCells: unknown, columns: readonly PredictorColumn[], p: number): NewRows {
   if (!Array.isArray(newRowCells) || newRowCells.length === 0 || !newRowCells.every(Array.isArray)) {
@@ -172,7 +174,7 @@ function readNewRows(newRowCells: unknown, columns: readonly PredictorColumn[], 
   }
   const hasHeaderRow =
     cells[0].every((value) => typeof value === "string" && value.trim() !== "" && !value.trim().startsWith("#")) &&
-    !cells[0].every((value, j) => isKnownLevel(columns[j], value));
+    !cells[0].every((value, j) => isDataValue(columns[j], value));
   const first = hasHeaderRow ? 1 : 0;
   const inputRows = rowsThroughLastData([cells], first);
   const x = new Float64Array(inputRows * p);
@@ -184,8 +186,9 @@ function readNewRows(newRowCells: unknown, columns: readonly PredictorColumn[], 
   return { x: x.slice(0, n * p), n, shownRows: inputRows, rowIndex: rowIndex.slice(0, n), hasHeaderRow };
 }
 
-function isKnownLevel(column: PredictorColumn, value: unknown): boolean {
-  if (column.kind !== "category") return false;
+/** A cell that is a value of its column rather than a name: a known category value, or number text ("10%") in a column of numbers. */
+function isDataValue(column: PredictorColumn, value: unknown): boolean {
+  if (column.kind !== "category") return typeof value === "string" && readNumberText(value, ".") !== undefined;
   const level = levelOf(value);
   return level !== null && column.counts.some((c) => c.level.toLowerCase() === level[0]);
 }

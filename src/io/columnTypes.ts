@@ -27,7 +27,7 @@
  *   "Price (E)"), never silently resolved to the first.
  */
 import { readDateText, serialOfDate, serialOfParts, type DateParts } from "./dateText";
-import { describeStyle, readNumberText, type NumberReading } from "./numberText";
+import { describeStyle, plainNumberValue, readNumberText, type NumberStyle } from "./numberText";
 
 /** A cell of a table handed to the engine: a number, text, a boolean or null for blank. */
 export type Cell = number | string | boolean | null;
@@ -155,17 +155,21 @@ export function typeColumns(header: readonly RawCell[], body: readonly (readonly
   const firstColumn = options.firstColumn ?? 0;
   const width = header.length;
   const { names, notices } = headerNamesOf(header, width, firstColumn);
-  const rows: Cell[][] = body.map(() => new Array<Cell>(width).fill(null));
+  // The body's own rows are the table's while no column changes a cell (a file of plain
+  // numbers read as numbers): a million rows are not copied. The first column that changes
+  // one copies them; rows shorter than the header are copied from the start.
+  let rows: Cell[][] | null = body.every((row) => row.length === width) ? null : body.map(() => new Array<Cell>(width).fill(0));
   const columns: ColumnType[] = [];
   const decimal: "." | "," = options.decimalComma ? "," : ".";
   for (let j = 0; j < width; j++) {
-    const cells = body.map((row) => row[j] ?? null);
-    const decided = decideColumn(names[j], cells, decimal, options.fromWorkbook ?? false, options.date1904 ? DAYS_1900_TO_1904 : 0);
-    decided.values.forEach((value, i) => (rows[i][j] = value));
+    const decided = decideColumn(names[j], body, j, decimal, options.fromWorkbook ?? false, options.date1904 ? DAYS_1900_TO_1904 : 0);
+    const values = decided.values;
+    if (rows === null && values.some((value, i) => value !== body[i][j])) rows = body.map((row) => row.slice() as Cell[]);
+    if (rows !== null) for (let i = 0; i < values.length; i++) rows[i][j] = values[i];
     columns.push({ name: names[j], position: j, letter: columnLetter(firstColumn + j), ...decided.type });
     if (decided.notice) notices.push(decided.notice);
   }
-  return { names, rows, columns, notices };
+  return { names, rows: rows ?? (body as Cell[][]), columns, notices };
 }
 
 interface Decision {
@@ -178,19 +182,29 @@ interface Decision {
  * The column rule for one column, in three phases: number text read in one
  * style, date text read in one day/month order, then the column's kind.
  */
-function decideColumn(name: string, cells: RawCell[], decimal: "." | ",", fromWorkbook: boolean, dateShift: number): Decision {
-  const values: Cell[] = cells.map((cell) =>
-    cell instanceof Date ? serialOfDate(cell) - dateShift : isBlank(cell) ? null : typeof cell === "string" ? cell.trim() : (cell as Cell),
-  );
+function decideColumn(name: string, body: readonly (readonly RawCell[])[], column: number, decimal: "." | ",", fromWorkbook: boolean, dateShift: number): Decision {
+  // One pass over the column (read in place: no copy of a million cells): blanks to null, text
+  // trimmed, workbook dates to serial numbers.
+  const values: Cell[] = new Array<Cell>(body.length);
   let filled = 0;
   let workbookDates = 0;
   const texts: number[] = [];
-  for (let i = 0; i < cells.length; i++) {
-    const cell = cells[i];
-    if (isBlank(cell)) continue;
-    filled++;
-    if (cell instanceof Date) workbookDates++;
-    else if (typeof cell === "string" && !isErrorText(cell)) texts.push(i);
+  for (let i = 0; i < body.length; i++) {
+    const cell = body[i][column];
+    if (typeof cell === "string") {
+      const trimmed = cell.trim();
+      values[i] = trimmed === "" ? null : trimmed;
+      if (trimmed === "") continue;
+      filled++;
+      if (!isErrorText(cell)) texts.push(i);
+    } else if (cell instanceof Date) {
+      values[i] = serialOfDate(cell) - dateShift;
+      filled++;
+      workbookDates++;
+    } else {
+      values[i] = cell ?? null;
+      if (cell !== null && cell !== undefined) filled++;
+    }
   }
   if (filled === 0) return { values, type: { kind: "empty", defaultPredictor: false, reason: "empty" } };
   const numbers = readNumberColumn(name, values, texts, decimal, fromWorkbook);
@@ -206,23 +220,46 @@ function decideColumn(name: string, cells: RawCell[], decimal: "." | ",", fromWo
  * styles is left alone, with a notice showing the styles.
  */
 function readNumberColumn(name: string, values: Cell[], texts: readonly number[], decimal: "." | ",", fromWorkbook: boolean): { converted?: string; notice?: string } {
-  const readings: (NumberReading | undefined)[] = texts.map((i) => readNumberText(values[i] as string, decimal));
-  const numeric = readings.filter((r): r is NumberReading => r !== undefined);
-  if (numeric.length === 0) return {};
-  const first = numeric[0];
-  const oneStyle = numeric.every((r) => r.percent === first.percent && r.currency === first.currency);
-  const groups = new Set(numeric.map((r) => r.group).filter((g) => g !== ""));
-  if (!oneStyle || groups.size > 1) {
-    const examples = distinctExamples(texts.filter((_, k) => readings[k] !== undefined).map((i) => values[i] as string), 3);
+  // Plain numbers ("12.5", most cells of large files) are read without an object per cell;
+  // other text through readNumberText. NaN marks text that is no number.
+  const read = new Float64Array(texts.length);
+  let first: NumberStyle | undefined;
+  let oneStyle = true;
+  let group = "";
+  let manyGroups = false;
+  for (let k = 0; k < texts.length; k++) {
+    const text = values[texts[k]] as string;
+    const plain = plainNumberValue(text, decimal);
+    let style: NumberStyle;
+    if (!Number.isNaN(plain)) {
+      read[k] = Number.isFinite(plain) ? plain : NaN;
+      if (!Number.isFinite(plain)) continue;
+      style = PLAIN_STYLE;
+    } else {
+      const reading = readNumberText(text, decimal);
+      read[k] = reading === undefined ? NaN : reading.value;
+      if (reading === undefined) continue;
+      style = reading;
+    }
+    if (first === undefined) first = style;
+    else if (style.percent !== first.percent || style.currency !== first.currency) oneStyle = false;
+    if (style.group !== "") {
+      if (group === "") group = style.group;
+      else if (style.group !== group) manyGroups = true;
+    }
+  }
+  if (first === undefined) return {};
+  if (!oneStyle || manyGroups) {
+    const examples = distinctExamples(texts.filter((_, k) => !Number.isNaN(read[k])).map((i) => values[i] as string), 3);
     return { notice: `${name} writes numbers in more than one way (${examples.join(", ")}); its cells are kept as text. Write the column one way (for example all with or all without %, one currency, one thousands separator).` };
   }
-  readings.forEach((reading, k) => {
-    if (reading !== undefined) values[texts[k]] = reading.value;
-  });
-  const description = describeStyle({ percent: first.percent, currency: first.currency, group: [...groups][0] ?? "" });
+  for (let k = 0; k < texts.length; k++) if (!Number.isNaN(read[k])) values[texts[k]] = read[k];
+  const description = describeStyle({ percent: first.percent, currency: first.currency, group });
   if (description !== "") return { converted: description };
   return fromWorkbook ? { converted: "numbers stored as text" } : {};
 }
+
+const PLAIN_STYLE: NumberStyle = { percent: false, currency: "", group: "" };
 
 /**
  * Phase 2: a column whose filled cells are mostly dates (workbook date cells
@@ -230,6 +267,8 @@ function readNumberColumn(name: string, values: Cell[], texts: readonly number[]
  * when the day/month order is settled by some value over 12.
  */
 function readDateColumn(values: Cell[], texts: readonly number[], workbookDates: number, filled: number): { isDate: boolean; note: string } {
+  // Text read as numbers is no date: a column of numbers is settled without a look at each cell.
+  if (2 * workbookDates <= filled && !texts.some((i) => typeof values[i] === "string")) return { isDate: false, note: "" };
   const dateParts = texts.map((i) => (typeof values[i] === "string" ? readDateText(values[i] as string) : undefined));
   const textDates = dateParts.filter((p) => p !== undefined).length;
   if (2 * (workbookDates + textDates) <= filled) return { isDate: false, note: "" };
@@ -250,36 +289,58 @@ function readDateColumn(values: Cell[], texts: readonly number[], workbookDates:
 function kindOf(name: string, values: readonly Cell[], filled: number, mixedStyles: boolean): Decision["type"] {
   let numbers = 0;
   let textOrLogical = 0;
-  const distinct = new Set<Cell>();
-  let wholeAndDistinct = true;
+  // Numbers are gathered in a typed array and counted by sorting (a Set of a million numbers
+  // is slow); text and booleans in a Set.
+  const numberValues = new Float64Array(filled);
+  let allWhole = true;
+  const otherValues = new Set<Cell>();
   for (const value of values) {
     if (value === null) continue;
     if (typeof value === "number") {
-      numbers++;
-      if (!Number.isInteger(value) || distinct.has(value)) wholeAndDistinct = false;
+      numberValues[numbers++] = value;
+      if (!Number.isInteger(value)) allWhole = false;
     } else if (typeof value === "boolean" || !isErrorText(value)) {
       textOrLogical++;
-    } else {
-      continue; // error values are no level
+      otherValues.add(value);
     }
-    distinct.add(value);
+    // error values are no level
   }
+  const distinctNumbers = (): number => countDistinct(numberValues.subarray(0, numbers));
   if (looksLikeIdentifierName(name)) return { kind: "identifier", defaultPredictor: false, reason: "identifier, by its name" };
   if (2 * numbers > filled) {
-    if (numbers === filled && wholeAndDistinct && numbers >= IDENTIFIER_MIN_ROWS && isCounter(values)) {
+    if (numbers === filled && allWhole && numbers >= IDENTIFIER_MIN_ROWS && isCounter(values) && distinctNumbers() === numbers) {
       return { kind: "identifier", defaultPredictor: false, reason: "identifier: every value a different whole number, as a counter" };
     }
-    if (new Set(values.filter((v) => typeof v === "number")).size === 1) return { kind: "number", defaultPredictor: false, reason: "the same number in every row" };
+    if (allEqual(numberValues.subarray(0, numbers))) return { kind: "number", defaultPredictor: false, reason: "the same number in every row" };
     return { kind: "number", defaultPredictor: true, reason: "numbers" };
   }
   if (textOrLogical === 0) return { kind: "text", defaultPredictor: false, reason: "error values only" };
   if (mixedStyles) return { kind: "text", defaultPredictor: false, reason: "numbers written in more than one way" };
-  const levels = distinct.size;
+  const levels = otherValues.size + distinctNumbers();
   if (levels === 1) return { kind: "text", defaultPredictor: false, reason: "the same text in every row", levels };
   // Every value different: each "level" would hold one row, so the column names rows rather than groups.
   if (levels === filled && filled >= IDENTIFIER_MIN_TEXT_ROWS) return { kind: "identifier", defaultPredictor: false, reason: "identifier: every value different" };
   if (levels > CATEGORY_MAX_LEVELS) return { kind: "text", defaultPredictor: false, reason: `text with ${levels} different values`, levels };
   return { kind: "category", defaultPredictor: true, reason: `categories (${levels} value${levels === 1 ? "" : "s"})`, levels };
+}
+
+/** Different values among numbers, equal as a Set counts them (0 and −0 alike, NaN once). */
+function countDistinct(numbers: Float64Array): number {
+  const sorted = numbers.slice().sort();
+  let count = 0;
+  for (let i = 0; i < sorted.length; i++) {
+    const value = sorted[i];
+    if (i === 0 || !(value === sorted[i - 1] || (Number.isNaN(value) && Number.isNaN(sorted[i - 1])))) count++;
+  }
+  return count;
+}
+
+/** Whether the numbers (at least one) are all the same value, as a Set counts them. */
+function allEqual(numbers: Float64Array): boolean {
+  if (numbers.length === 0) return false;
+  const first = numbers[0];
+  for (let i = 1; i < numbers.length; i++) if (!(numbers[i] === first || (Number.isNaN(first) && Number.isNaN(numbers[i])))) return false;
+  return true;
 }
 
 /**
@@ -331,4 +392,20 @@ function distinctExamples(texts: string[], count: number): string[] {
     if (shown.length === count) break;
   }
   return shown;
+}
+
+/**
+ * The number-text phase of the rule for one column of a worksheet range, as Excel hands it
+ * to a function or the pane reads it: text cells that read as numbers in one style become
+ * numbers in `values` (in place), read with a decimal point as in comma-separated files and
+ * described as a workbook's are ("numbers stored as text" when plain).
+ */
+export function readNumberTextCells(name: string, values: Cell[]): { converted?: string; notice?: string } {
+  const texts: number[] = [];
+  for (let i = 0; i < values.length; i++) {
+    const value = values[i];
+    if (typeof value === "string" && value.trim() !== "" && !isErrorText(value)) texts.push(i);
+  }
+  if (texts.length === 0) return {};
+  return readNumberColumn(name, values, texts, ".", true);
 }

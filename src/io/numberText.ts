@@ -55,10 +55,8 @@ export function readNumberText(text: string, decimal: "." | ","): NumberReading 
   const trimmed = text.trim();
   if (trimmed === "" || trimmed.length > 64) return undefined;
   // The common case first: a plain number, read without the full pattern.
-  if ((decimal === "." ? PLAIN_POINT : PLAIN_COMMA).test(trimmed)) {
-    const value = Number(decimal === "." ? trimmed : trimmed.replace(",", "."));
-    return Number.isFinite(value) ? { value, percent: false, currency: "", group: "" } : undefined;
-  }
+  const plain = plainNumberValue(trimmed, decimal);
+  if (!Number.isNaN(plain)) return Number.isFinite(plain) ? { value: plain, percent: false, currency: "", group: "" } : undefined;
   const shape = SHAPE.exec(trimmed);
   if (!shape) return undefined;
   const [, sign1, currencyBefore, sign2, body, currencyAfter, percent] = shape;
@@ -77,6 +75,16 @@ export function readNumberText(text: string, decimal: "." | ","): NumberReading 
   const sign = sign1 ?? sign2;
   if (sign === "-" || sign === "\u2212") value = -value;
   return { value, percent: percent !== undefined, currency: currencyBefore ?? currencyAfter ?? "", group };
+}
+
+/**
+ * The value of trimmed text that is a plain number ("12", "-0.5", "1e3"; at most 64
+ * characters), ±Infinity when such text overflows, NaN when the text is no plain number:
+ * readNumberText's common case without an object per cell, for columns of many rows.
+ */
+export function plainNumberValue(trimmed: string, decimal: "." | ","): number {
+  if (trimmed.length > 64 || !(decimal === "." ? PLAIN_POINT : PLAIN_COMMA).test(trimmed)) return NaN;
+  return Number(decimal === "." ? trimmed : trimmed.replace(",", "."));
 }
 
 /** A short description of a style for notices: "percent", "currency $", "thousands separator ','"; "" for plain numbers. */

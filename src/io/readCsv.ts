@@ -1,6 +1,6 @@
 import { SkeinError } from "../engine/errors";
 import { tableFromGrid, type DataTable, type HeaderChoice } from "./dataTable";
-import { readNumberText } from "./numberText";
+import { plainNumberValue, readNumberText } from "./numberText";
 
 /**
  * Plain decimal numbers: optional sign, digits with an optional point (or a
@@ -61,7 +61,6 @@ export function splitCsv(text: string): CsvFields {
   if (text.charCodeAt(0) === 0xfeff) text = text.slice(1);
   const delimiter = detectDelimiter(text);
   const delimiterCode = delimiter.charCodeAt(0);
-  const toCell = (raw: string): string | null => (raw.trim() === "" ? null : raw);
 
   const rows: (string | null)[][] = [];
   const lines: number[] = [];
@@ -70,7 +69,33 @@ export function splitCsv(text: string): CsvFields {
   const length = text.length;
   let line = 1;
   let rowLine = 1;
+  // Next quote and next carriage return at or after i (length when none): a line holding
+  // neither is split by the native String.split, the common case of large files.
+  let nextQuote = -1;
+  let nextReturn = -1;
   while (i < length) {
+    if (row.length === 0) {
+      if (nextQuote < i) nextQuote = indexOrLength(text, '"', i);
+      if (nextReturn < i) nextReturn = indexOrLength(text, "\r", i);
+      const lineEnd = indexOrLength(text, "\n", i);
+      if (nextQuote >= lineEnd && nextReturn >= lineEnd - 1) {
+        // Only a CRLF's CR may stand in the line, at its end.
+        const contentEnd = nextReturn === lineEnd - 1 ? lineEnd - 1 : lineEnd;
+        const fields = text.slice(i, contentEnd).split(delimiter);
+        for (let f = 0; f < fields.length; f++) row.push(toCell(fields[f]));
+        if (lineEnd >= length) break;
+        i = lineEnd + 1;
+        line++;
+        pushRow(rows, lines, row, rowLine);
+        row = [];
+        while (i < length && (text.charCodeAt(i) === LF || text.charCodeAt(i) === CR)) {
+          if (text.charCodeAt(i) === LF || text.charCodeAt(i + 1) !== LF) line++;
+          i++;
+        }
+        rowLine = line;
+        continue;
+      }
+    }
     let raw: string;
     if (text.charCodeAt(i) === QUOTE) {
       // Quoted field: runs to the next quote not followed by another quote.
@@ -128,6 +153,16 @@ export function splitCsv(text: string): CsvFields {
     lines.pop();
   }
   return { rows, lines, delimiter };
+}
+
+/** A field as a cell: null when empty or all whitespace. */
+function toCell(raw: string): string | null {
+  return raw.length === 0 || raw.trim() === "" ? null : raw;
+}
+
+function indexOrLength(text: string, search: string, from: number): number {
+  const at = text.indexOf(search, from);
+  return at < 0 ? text.length : at;
 }
 
 function isFieldEnd(code: number, delimiterCode: number): boolean {
@@ -193,11 +228,95 @@ function pointCannotGroup(cell: string): boolean {
 
 const DELIMITER_NAMES: Record<string, string> = { ",": "commas", ";": "semicolons", "\t": "tabs" };
 
+/**
+ * The grid of a comma-separated file whose data fields are all plain decimal numbers or blank
+ * (the usual large export), read in one pass with each number parsed where it stands: no text
+ * kept per cell, rows of numbers (unboxed doubles) instead of rows of text. Null for any other
+ * file, which splitCsv reads: a header line with a quote over several lines, a blank name or a
+ * lone carriage return; a data line with a quote, a lone carriage return, other text or another
+ * number of fields than the header. The column rule reads a plain number cell as it reads the
+ * same number written as plain text (one style, no notice), and the header line is split by
+ * splitCsv itself, so the table is the one splitCsv's fields give.
+ */
+export function plainNumberGrid(text: string): { rows: (string | number | null)[][]; lines: number[]; delimiter: string } | null {
+  if (text.charCodeAt(0) === 0xfeff) text = text.slice(1);
+  const length = text.length;
+  const firstEnd = indexOrLength(text, "\n", 0);
+  const headerText = text.slice(0, firstEnd > 0 && text.charCodeAt(firstEnd - 1) === CR ? firstEnd - 1 : firstEnd);
+  if (detectDelimiter(text) !== "," || headerText.length === 0 || headerText.includes("\r")) return null;
+  let header: (string | null)[];
+  try {
+    const split = splitCsv(headerText);
+    if (split.rows.length !== 1 || split.lines[0] !== 1) return null;
+    header = split.rows[0];
+  } catch {
+    return null;
+  }
+  if (header.some((name) => name === null)) return null;
+  const width = header.length;
+  const rows: (string | number | null)[][] = [header];
+  const lines: number[] = [1];
+  const nextQuote = indexOrLength(text, '"', firstEnd);
+  let nextReturn = -1;
+  let line = 2;
+  let i = firstEnd + 1;
+  // Empty lines hold no fields at all: skip them (as splitCsv does).
+  const skipEmptyLines = (): void => {
+    while (i < length && (text.charCodeAt(i) === LF || text.charCodeAt(i) === CR)) {
+      if (text.charCodeAt(i) === LF || text.charCodeAt(i + 1) !== LF) line++;
+      i++;
+    }
+  };
+  skipEmptyLines();
+  while (i < length) {
+    const lineEnd = indexOrLength(text, "\n", i);
+    if (nextQuote < lineEnd) return null;
+    if (nextReturn < i) nextReturn = indexOrLength(text, "\r", i);
+    if (nextReturn < lineEnd - 1) return null;
+    const contentEnd = nextReturn === lineEnd - 1 ? lineEnd - 1 : lineEnd;
+    // Allocated at its width: an array grown by push reserves about three times the room.
+    const row = new Array<number | null>(width);
+    let fields = 0;
+    let start = i;
+    for (;;) {
+      const comma = text.indexOf(",", start);
+      const end = comma < 0 || comma > contentEnd ? contentEnd : comma;
+      const trimmed = text.slice(start, end).trim();
+      let cell: number | null = null;
+      if (trimmed !== "") {
+        cell = plainNumberValue(trimmed, ".");
+        if (!Number.isFinite(cell)) return null;
+      }
+      if (fields < width) row[fields] = cell;
+      fields++;
+      if (end === contentEnd) break;
+      start = end + 1;
+    }
+    // A line of nothing but whitespace is no row (splitCsv's rule); other rows need every field.
+    if (!(fields === 1 && row[0] === null)) {
+      if (fields !== width) return null;
+      rows.push(row);
+      lines.push(line);
+    }
+    if (lineEnd >= length) break;
+    i = lineEnd + 1;
+    line++;
+    skipEmptyLines();
+  }
+  while (rows.length > 1 && rows[rows.length - 1].every((cell) => cell === null)) {
+    rows.pop();
+    lines.pop();
+  }
+  return { rows, lines, delimiter: "," };
+}
+
 /** CSV text as a DataTable: fields split, the decimal mark chosen, the column rule applied. */
 export function csvTable(text: string, where: string, choice: HeaderChoice = {}): DataTable {
-  const fields = splitCsv(text);
+  // Large numeric files take the one-pass road when the header is the first line (the default).
+  const plain = choice.headerRow === undefined ? plainNumberGrid(text) : null;
+  const fields = plain ?? splitCsv(text);
   if (fields.rows.length === 0) throw new SkeinError("bad-input", `${where} holds no data; it needs a header row and rows of data.`);
-  const decimal = decimalMarkOf(fields);
+  const decimal = plain ? "." : decimalMarkOf(fields as CsvFields);
   const table = tableFromGrid(
     { rows: fields.rows, rowNumbers: fields.lines, rowWord: "line", strictWidth: true, rule: { decimalComma: decimal === "," }, where },
     choice,

@@ -35,7 +35,9 @@ async function readBytes(filePath: string): Promise<{ bytes: Uint8Array; name: s
     if (error instanceof SkeinError) throw error;
     throw new SkeinError("bad-input", `No file at ${filePath}; check the path (it is read relative to ${process.cwd()}).`);
   }
-  const bytes = new Uint8Array(await fs.readFile(filePath));
+  // A view of the file's buffer, not a copy: large files are read once into memory.
+  const buffer = await fs.readFile(filePath);
+  const bytes = new Uint8Array(buffer.buffer, buffer.byteOffset, buffer.byteLength);
   if (bytes.length === 0) throw new SkeinError("bad-input", `${name} is empty; it needs a header row and rows of data.`);
   return { bytes, name, isText: TEXT_EXTENSIONS.has(extension) };
 }

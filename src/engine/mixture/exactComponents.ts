@@ -8,6 +8,7 @@ import type { Guards } from "./mStep";
 import { ConcentrationSteps } from "./concentrationSteps";
 import { parametersFromCoefficients } from "./starts";
 import { runEm } from "./runEm";
+import { computeResiduals } from "./eStep";
 
 /**
  * Exact components: on noiseless data (or data where some groups lie exactly on their
@@ -63,6 +64,22 @@ export function isNoiseless(params: MixtureParameters, ws: MixtureWorkspace): bo
   const limit = EXACT_RELATIVE * EXACT_RELATIVE * ws.yVariance;
   for (let c = 0; c < params.k; c++) if (!(params.variances[c] <= limit)) return false;
   return true;
+}
+
+/**
+ * The components that fit enoughRows(q) rows or more within the exact tolerance (their noise
+ * SD may still sit at the variance-ratio bound while others are noisy). Leaves the residuals
+ * of `params` in ws.residuals.
+ */
+export function exactComponentsOf(ws: MixtureWorkspace, params: MixtureParameters): number[] {
+  const { n, q, k } = ws;
+  const threshold = exactTolerance(ws);
+  computeResiduals(ws, params);
+  const exactRows = new Int32Array(k);
+  for (let i = 0; i < n; i++) for (let c = 0; c < k; c++) if (Math.abs(ws.residuals[i * k + c]) <= threshold) exactRows[c]++;
+  const exact: number[] = [];
+  for (let c = 0; c < k; c++) if (exactRows[c] >= enoughRows(q)) exact.push(c);
+  return exact;
 }
 
 /**

@@ -42,6 +42,11 @@ export interface FitContext extends EmContext {
   depth: number;
   /** A parent's estimate (k·q coefficients) of the components this sub-problem looks for. */
   inherited?: Float64Array;
+  /**
+   * The rows are expected to lie exactly on K regressions: a parent fitted other rows of the
+   * same data exactly and removed them. Only an exact fit then ends the search.
+   */
+  expectExact: boolean;
   previous?: MixtureFit;
 }
 

@@ -1,7 +1,7 @@
 import type { FitContext } from "./fitContext";
 import type { MixtureParameters } from "./mixtureParameters";
 import type { Incumbent } from "./refineBest";
-import { isNoiseless, SHORT_ITERATIONS } from "./exactComponents";
+import { exactComponentsOf, isNoiseless, SHORT_ITERATIONS } from "./exactComponents";
 import { peelComponent, splitAndMerge } from "./restructuringMoves";
 import { checkSignal, runEm } from "./runEm";
 
@@ -18,13 +18,14 @@ const MIN_GAIN = 1;
 
 /**
  * Phase, run only when no two starts agreed on the best fit: split-and-merge (on the user's
- * fit only; a component that holds two groups shows as one with a large noise SD), then
+ * fit only, and only when no component is exact yet; a component that holds two groups shows
+ * as one with a large noise SD), then
  * peeling of the best-determined component (down to MAX_PEELING_DEPTH). A proposal replaces
  * the incumbent when its refinement gains MIN_GAIN in ln L. Returns how many splits were kept.
  */
 export function restructure(ctx: FitContext, incumbent: Incumbent): number {
   let splits = 0;
-  if (ctx.depth === 0 && !isNoiseless(incumbent.best.params, ctx.working)) {
+  if (ctx.depth === 0 && !isNoiseless(incumbent.best.params, ctx.working) && exactComponentsOf(ctx.working, incumbent.best.params).length === 0) {
     for (let round = 0; round < MAX_SPLIT_ROUNDS; round++) {
       if (!tryMoves(ctx, incumbent, "split-and-merge", splitOrder(incumbent.best.params), (split) => splitAndMerge(ctx, ctx.working, incumbent.best.params, split, ctx.subsampleRows))) break;
       splits++;

@@ -5,7 +5,7 @@ import type { MixtureParameters } from "./mixtureParameters";
 import type { MixtureWorkspace } from "./mixtureWorkspace";
 import { computeResiduals, eStep } from "./eStep";
 import { parametersFromCoefficients } from "./starts";
-import { enoughRows, exactTolerance } from "./exactComponents";
+import { enoughRows, exactComponentsOf, exactTolerance } from "./exactComponents";
 
 /**
  * Moves that restructure a fit by fitting part of it afresh on a subset of rows: exact
@@ -31,13 +31,9 @@ const SPLIT_RESTARTS = 3;
  * `ws`, or null when there is nothing to peel.
  */
 export function peelExactComponents(ctx: FitContext, ws: MixtureWorkspace, params: MixtureParameters, rowMap: Int32Array | null): MixtureParameters | null {
-  const { n, q, k } = ws;
+  const { n, k } = ws;
   const threshold = exactTolerance(ws);
-  computeResiduals(ws, params);
-  const exactRows = new Int32Array(k);
-  for (let i = 0; i < n; i++) for (let c = 0; c < k; c++) if (Math.abs(ws.residuals[i * k + c]) <= threshold) exactRows[c]++;
-  const exact: number[] = [];
-  for (let c = 0; c < k; c++) if (exactRows[c] >= enoughRows(q)) exact.push(c);
+  const exact = exactComponentsOf(ws, params);
   if (exact.length === 0 || exact.length === k) return null;
   const remaining: number[] = [];
   for (let i = 0; i < n; i++) {
@@ -49,7 +45,7 @@ export function peelExactComponents(ctx: FitContext, ws: MixtureWorkspace, param
   if (remaining.length < others.length * ctx.guards.minimumSize) return null;
   // The components not exact yet are the sub-problem's first start: with the exact rows
   // removed they are often next to an exact fit of the rest.
-  const sub = fitSubProblem(ctx, { rows: remaining, k: others.length, start: coefficientsOf(params, others) });
+  const sub = fitSubProblem(ctx, { rows: remaining, k: others.length, start: coefficientsOf(params, others), expectExact: true });
   return combine(ws, params, exact, sub, ctx);
 }
 

@@ -10,7 +10,7 @@ import { computeResiduals } from "./eStep";
 import { factorPredictorCovariances, mStepCoefficients, mStepVariances, type Guards } from "./mStep";
 import { reseedComponent } from "./reseedComponent";
 import { locationSeedingLabels, parametersFromCoefficients, randomPartitionLabels, residualSeedingLabels, setHardMemberships } from "./starts";
-import { isNoiseless, landOnExactFit, SHORT_ITERATIONS } from "./exactComponents";
+import { exactComponentsOf, isNoiseless, landOnExactFit, SHORT_ITERATIONS } from "./exactComponents";
 import { peelExactComponents } from "./restructuringMoves";
 import { allFoundAlike, bestFoundTwice } from "./compareFits";
 import { checkSignal, runEm } from "./runEm";
@@ -42,8 +42,8 @@ const MIN_STARTS = 3;
  * 2014; Ghosh & Kannan 2020), while the moment start has a fixed cost (whitening, moment,
  * subspace EM from six partitions, lifted refinements) of about a hundred EM iterations. With
  * more coefficients random starts rarely land in the basin and the moment start comes first,
- * as it does in a sub-problem that carries a parent's estimate (the restructuring moves of
- * noiseless fits, which lean on the moment start's exact fits).
+ * as it does in a sub-problem that carries a parent's estimate or expects exact components
+ * (the restructuring moves of noiseless fits, which lean on the moment start's exact fits).
  * Measured on 200 seeded noisy sheets (600-2,000 rows, 2-10 predictors, K = 2-4): the same
  * best likelihood as before on every one, a third of the time.
  */
@@ -52,15 +52,35 @@ const CHEAP_FIRST_COEFFICIENTS = 50;
  * Sub-problems of this many components or more that carry a parent's estimate skip the
  * random-partition starts: in tens of dimensions those essentially never reach the exact fit
  * of four or more components, and the parent refines the combined fit on all rows whatever
- * the sub-problem returns.
+ * the sub-problem returns. In the user's fit of that many components, once the data has shown
+ * an exact component, the random partitions stop after PARTITIONS_WITHOUT_EXACT in a row
+ * reached no exact component (in a few dimensions they do reach some, and exact peeling
+ * completes them; in tens they reach none, and peeling the exact component found elsewhere,
+ * restructure.ts, is what completes the fit).
  */
-const INHERITED_COMPONENTS_WITHOUT_PARTITIONS = 4;
+const COMPONENTS_WITHOUT_PARTITIONS = 4;
+const PARTITIONS_WITHOUT_EXACT = 3;
 
 /** The screened starts, best first; whether the search stopped because the best was found twice. */
 export interface ScreenedStarts {
   candidates: Candidate[];
   foundTwice: boolean;
   moment: MomentWarmStart | null;
+}
+
+/** What the start sources read of the screen so far (exact components counted only for COMPONENTS_WITHOUT_PARTITIONS or more). */
+interface ScreenState {
+  moment: MomentWarmStart | null;
+  /** Some screened start fitted a component exactly. */
+  exactSeen: boolean;
+  /** Random partitions in a row, up to the last, that fitted no component exactly. */
+  partitionsWithoutExact: number;
+}
+
+function noteExactComponents(ctx: FitContext, screen: ScreenState, candidate: Candidate): void {
+  const exact = exactComponentsOf(ctx.working, candidate.params).length > 0;
+  screen.exactSeen ||= exact;
+  if (candidate.method.startsWith("random-partition")) screen.partitionsWithoutExact = exact ? 0 : screen.partitionsWithoutExact + 1;
 }
 
 interface StartSource {
@@ -79,17 +99,18 @@ interface StartSource {
  */
 export function screenStarts(ctx: FitContext): ScreenedStarts {
   const candidates: Candidate[] = [];
-  const moment: { result: MomentWarmStart | null } = { result: null };
-  const cheapFirst = !ctx.inherited && ctx.working.k * ctx.working.q < CHEAP_FIRST_COEFFICIENTS;
+  const screen: ScreenState = { moment: null, exactSeen: false, partitionsWithoutExact: 0 };
+  const cheapFirst = !ctx.inherited && !ctx.expectExact && ctx.working.k * ctx.working.q < CHEAP_FIRST_COEFFICIENTS;
   let foundTwice = false;
-  for (const source of startSources(ctx, moment, cheapFirst)) {
+  for (const source of startSources(ctx, screen, cheapFirst)) {
     checkSignal(ctx.signal);
     const params = source.make();
     const candidate = params ? screenStart(ctx, source.method, params, source.extraIterations) : null;
     if (!candidate) continue;
     candidates.push(candidate);
     if (isNoiseless(candidate.params, ctx.working)) break;
-    if (searchSettled(ctx, candidates, cheapFirst)) {
+    if (ctx.working.k >= COMPONENTS_WITHOUT_PARTITIONS) noteExactComponents(ctx, screen, candidate);
+    if (!ctx.expectExact && searchSettled(ctx, candidates, cheapFirst)) {
       foundTwice = true;
       break;
     }
@@ -98,7 +119,7 @@ export function screenStarts(ctx: FitContext): ScreenedStarts {
     throw new SkeinError("numeric", "Every start failed: the predictors are (nearly) collinear within the groups tried. Remove a predictor that repeats others, or use fewer components.");
   }
   candidates.sort((a, b) => b.logLikelihood - a.logLikelihood);
-  return { candidates, foundTwice, moment: moment.result };
+  return { candidates, foundTwice, moment: screen.moment };
 }
 
 /**
@@ -145,7 +166,7 @@ function confirmLeaders(ctx: FitContext, candidates: Candidate[], count: number)
  * location seeding and random partitions; on small fits (`cheapFirst`) the two seeded starts
  * and one random partition before the moment start.
  */
-function* startSources(ctx: FitContext, moment: { result: MomentWarmStart | null }, cheapFirst: boolean): Generator<StartSource> {
+function* startSources(ctx: FitContext, screen: ScreenState, cheapFirst: boolean): Generator<StartSource> {
   const { working: ws, guards, random, settings, inherited, previous } = ctx;
   if (inherited && inherited.length === ws.k * ws.q) {
     yield { method: "inherited", make: () => parametersFromCoefficients(ws, inherited, guards), extraIterations: LANDING_ITERATIONS - SHORT_ITERATIONS };
@@ -154,26 +175,31 @@ function* startSources(ctx: FitContext, moment: { result: MomentWarmStart | null
     yield { method: "previous", make: () => parametersFromFit(ws, previous, guards), extraIterations: 0 };
   }
   const momentStart = (): MixtureParameters | null => {
-    moment.result = momentWarmStart(momentRows(ws, random), ws.k, settings.intercept, random);
-    if (!moment.result) return null;
+    const moment = momentWarmStart(momentRows(ws, random), ws.k, settings.intercept, random);
+    screen.moment = moment;
+    if (!moment) return null;
     const coefficients = new Float64Array(ws.k * ws.q);
-    moment.result.coefficients.forEach((vector, c) => coefficients.set(vector, c * ws.q));
+    moment.coefficients.forEach((vector, c) => coefficients.set(vector, c * ws.q));
     return parametersFromCoefficients(ws, coefficients, guards);
   };
   const momentSource: StartSource = { method: "moment-subspace", make: momentStart, extraIterations: LANDING_ITERATIONS - SHORT_ITERATIONS };
   const partition: StartSource = { method: "random-partition", make: () => parametersFromLabels(ws, randomPartitionLabels(ws.n, ws.k, random), guards, random), extraIterations: 0 };
-  let partitions = !inherited || ws.k < INHERITED_COMPONENTS_WITHOUT_PARTITIONS ? settings.restarts : 0;
+  const partitionsStop = (): boolean => ws.k >= COMPONENTS_WITHOUT_PARTITIONS && (inherited !== undefined || (screen.exactSeen && screen.partitionsWithoutExact >= PARTITIONS_WITHOUT_EXACT));
+  let partitions = settings.restarts;
   if (!cheapFirst) yield momentSource;
   yield { method: "residual-seeding", make: () => parametersFromLabels(ws, residualSeedingLabels(ws, random), guards, random), extraIterations: 0 };
   yield { method: "location-seeding", make: () => parametersFromLabels(ws, locationSeedingLabels(ws, random), guards, random), extraIterations: 0 };
   if (cheapFirst) {
-    if (partitions > 0) {
+    if (partitions > 0 && !partitionsStop()) {
       partitions--;
       yield partition;
     }
     yield momentSource;
   }
-  for (; partitions > 0; partitions--) yield partition;
+  for (; partitions > 0; partitions--) {
+    if (partitionsStop()) return;
+    yield partition;
+  }
 }
 
 /**
