@@ -308,7 +308,8 @@ function kindOf(name: string, values: readonly Cell[], filled: number, mixedStyl
   const distinctNumbers = (): number => countDistinct(numberValues.subarray(0, numbers));
   if (looksLikeIdentifierName(name)) return { kind: "identifier", defaultPredictor: false, reason: "identifier, by its name" };
   if (2 * numbers > filled) {
-    if (numbers === filled && allWhole && numbers >= IDENTIFIER_MIN_ROWS && isCounter(values) && distinctNumbers() === numbers) {
+    // A counter rises down the rows, so its values all differ.
+    if (numbers === filled && allWhole && numbers >= IDENTIFIER_MIN_ROWS && isCounter(values)) {
       return { kind: "identifier", defaultPredictor: false, reason: "identifier: every value a different whole number, as a counter" };
     }
     if (allEqual(numberValues.subarray(0, numbers))) return { kind: "number", defaultPredictor: false, reason: "the same number in every row" };

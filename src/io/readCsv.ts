@@ -312,9 +312,19 @@ export function plainNumberGrid(text: string): { rows: (string | number | null)[
 
 /** CSV text as a DataTable: fields split, the decimal mark chosen, the column rule applied. */
 export function csvTable(text: string, where: string, choice: HeaderChoice = {}): DataTable {
+  return csvTableOf({ text }, where, choice);
+}
+
+/**
+ * csvTable for a caller that lets go of the text: `source.text` is emptied once the fields are
+ * split, so that a large file's text (as large as the file) can be freed before the column
+ * rule runs.
+ */
+export function csvTableOf(source: { text: string }, where: string, choice: HeaderChoice = {}): DataTable {
   // Large numeric files take the one-pass road when the header is the first line (the default).
-  const plain = choice.headerRow === undefined ? plainNumberGrid(text) : null;
-  const fields = plain ?? splitCsv(text);
+  const plain = choice.headerRow === undefined ? plainNumberGrid(source.text) : null;
+  const fields = plain ?? splitCsv(source.text);
+  source.text = "";
   if (fields.rows.length === 0) throw new SkeinError("bad-input", `${where} holds no data; it needs a header row and rows of data.`);
   const decimal = plain ? "." : decimalMarkOf(fields as CsvFields);
   const table = tableFromGrid(

@@ -5,7 +5,7 @@ import { SkeinError } from "../engine/errors";
 import { serialOfDate } from "./dateText";
 import type { DataTable, HeaderChoice } from "./dataTable";
 import { decodeText } from "./decodeText";
-import { csvTable, parseCsv } from "./readCsv";
+import { csvTableOf, parseCsv } from "./readCsv";
 import { sheetGrid, workbookTable, type WorkbookChoice } from "./workbookCells";
 
 /** A sheet of cells as a worksheet range would hold them: numbers, text, booleans, null for empty. */
@@ -60,15 +60,18 @@ async function loadWorkbook(bytes: Uint8Array, name: string): Promise<ExcelJS.Wo
  * Every problem a user can fix is a SkeinError "bad-input" saying what to do.
  */
 export async function readDataTable(filePath: string, choice: WorkbookChoice = {}): Promise<DataTable> {
-  const { bytes, name, isText } = await readBytes(filePath);
+  const file = await readBytes(filePath);
+  const { name, isText } = file;
   if (isText) {
     if (choice.sheet !== undefined) throw new SkeinError("bad-input", `${name} is a text file with no sheets; leave out the sheet name.`);
-    const decoded = decodeText(bytes);
-    const table = csvTable(decoded.text, name, choice as HeaderChoice);
+    const decoded = decodeText(file.bytes);
+    // The bytes and then the text are let go once read: a large file is not held three times.
+    file.bytes = new Uint8Array(0);
+    const table = csvTableOf(decoded, name, choice as HeaderChoice);
     if (decoded.noteworthy) table.notices.unshift(`Read ${name} as ${decoded.encoding} text${decoded.encoding === "Windows-1252" ? " (its bytes are not valid UTF-8)" : ""}.`);
     return table;
   }
-  return workbookTable(await loadWorkbook(bytes, name), name, choice);
+  return workbookTable(await loadWorkbook(file.bytes, name), name, choice);
 }
 
 /**

@@ -1,14 +1,6 @@
 import type { Candidate, EmRun, FitContext } from "./fitContext";
 import { coefficientDistance, DISAGREEMENT_RELATIVE, LIKELIHOOD_TIE } from "./compareFits";
 import { runEm } from "./runEm";
-import { isNoiseless } from "./exactComponents";
-
-/**
- * EM iterations for a fit that is not exact on rows expected to lie exactly on K regressions:
- * EM then creeps (linearly) towards a wrong fit, and restructuring by peeling is what reaches
- * the exact one, so the refinement stays brief.
- */
-const NOT_EXACT_ITERATIONS = 60;
 
 /** The fit the pipeline carries from phase to phase: the leading candidate, its last run and the reported path. */
 export interface Incumbent {
@@ -27,10 +19,10 @@ export interface Incumbent {
  */
 export function refineBest(ctx: FitContext, candidates: readonly Candidate[]): Incumbent {
   const ws = ctx.working;
+  const maxIterations = ctx.settings.maxIterations;
   const path: number[] = [];
   const onAllRows = ws === ctx.full ? path : null;
   let best = candidates[0];
-  const maxIterations = ctx.expectExact && !isNoiseless(best.params, ws) ? Math.min(NOT_EXACT_ITERATIONS, ctx.settings.maxIterations) : ctx.settings.maxIterations;
   let run = runEm(ws, best.params, ctx, maxIterations, onAllRows);
   best.logLikelihood = run.logLikelihood;
   let disagreement = 0;

@@ -42,8 +42,8 @@ const MIN_STARTS = 3;
  * 2014; Ghosh & Kannan 2020), while the moment start has a fixed cost (whitening, moment,
  * subspace EM from six partitions, lifted refinements) of about a hundred EM iterations. With
  * more coefficients random starts rarely land in the basin and the moment start comes first,
- * as it does in a sub-problem that carries a parent's estimate or expects exact components
- * (the restructuring moves of noiseless fits, which lean on the moment start's exact fits).
+ * as it does in a sub-problem that carries a parent's estimate (the restructuring moves of
+ * noiseless fits, which lean on the moment start's exact fits).
  * Measured on 200 seeded noisy sheets (600-2,000 rows, 2-10 predictors, K = 2-4): the same
  * best likelihood as before on every one, a third of the time.
  */
@@ -100,7 +100,7 @@ interface StartSource {
 export function screenStarts(ctx: FitContext): ScreenedStarts {
   const candidates: Candidate[] = [];
   const screen: ScreenState = { moment: null, exactSeen: false, partitionsWithoutExact: 0 };
-  const cheapFirst = !ctx.inherited && !ctx.expectExact && ctx.working.k * ctx.working.q < CHEAP_FIRST_COEFFICIENTS;
+  const cheapFirst = !ctx.inherited && ctx.working.k * ctx.working.q < CHEAP_FIRST_COEFFICIENTS;
   let foundTwice = false;
   for (const source of startSources(ctx, screen, cheapFirst)) {
     checkSignal(ctx.signal);
@@ -110,6 +110,7 @@ export function screenStarts(ctx: FitContext): ScreenedStarts {
     candidates.push(candidate);
     if (isNoiseless(candidate.params, ctx.working)) break;
     if (ctx.working.k >= COMPONENTS_WITHOUT_PARTITIONS) noteExactComponents(ctx, screen, candidate);
+    // On rows expected to be exact, two starts agreeing on a fit that is not exact ends nothing.
     if (!ctx.expectExact && searchSettled(ctx, candidates, cheapFirst)) {
       foundTwice = true;
       break;
@@ -184,22 +185,21 @@ function* startSources(ctx: FitContext, screen: ScreenState, cheapFirst: boolean
   };
   const momentSource: StartSource = { method: "moment-subspace", make: momentStart, extraIterations: LANDING_ITERATIONS - SHORT_ITERATIONS };
   const partition: StartSource = { method: "random-partition", make: () => parametersFromLabels(ws, randomPartitionLabels(ws.n, ws.k, random), guards, random), extraIterations: 0 };
-  const partitionsStop = (): boolean => ws.k >= COMPONENTS_WITHOUT_PARTITIONS && (inherited !== undefined || (screen.exactSeen && screen.partitionsWithoutExact >= PARTITIONS_WITHOUT_EXACT));
+  // Random partitions stop early in fits of many components (see COMPONENTS_WITHOUT_PARTITIONS).
+  const partitionsPointless = (): boolean =>
+    ws.k >= COMPONENTS_WITHOUT_PARTITIONS && (Boolean(inherited) || (screen.exactSeen && screen.partitionsWithoutExact >= PARTITIONS_WITHOUT_EXACT));
   let partitions = settings.restarts;
   if (!cheapFirst) yield momentSource;
   yield { method: "residual-seeding", make: () => parametersFromLabels(ws, residualSeedingLabels(ws, random), guards, random), extraIterations: 0 };
   yield { method: "location-seeding", make: () => parametersFromLabels(ws, locationSeedingLabels(ws, random), guards, random), extraIterations: 0 };
   if (cheapFirst) {
-    if (partitions > 0 && !partitionsStop()) {
+    if (partitions > 0 && !partitionsPointless()) {
       partitions--;
       yield partition;
     }
     yield momentSource;
   }
-  for (; partitions > 0; partitions--) {
-    if (partitionsStop()) return;
-    yield partition;
-  }
+  for (; partitions > 0 && !partitionsPointless(); partitions--) yield partition;
 }
 
 /**
