@@ -1,0 +1,57 @@
+import { describe, expect, it } from "vitest";
+import { accumulateGramBlock, blockRowsFor } from "../src/engine/weightedGram";
+import { membershipsFromLogTerms } from "../src/engine/logDensities";
+import { createRandom } from "../src/engine/random";
+
+describe("the weighted-Gram kernel", () => {
+  it("adds the upper triangle of Σ w x xᵀ of a block, as the plain row-by-row sum does", () => {
+    const random = createRandom(11);
+    for (const q of [1, 3, 4, 7, 11]) {
+      const m = 37;
+      const stride = blockRowsFor(q);
+      const columns = new Float64Array(q * stride);
+      const weighted = new Float64Array(q * stride);
+      const weights = Array.from({ length: m }, () => random.next());
+      for (let r = 0; r < m; r++) {
+        for (let j = 0; j < q; j++) {
+          columns[j * stride + r] = random.next() * 2 - 1;
+          weighted[j * stride + r] = weights[r] * columns[j * stride + r];
+        }
+      }
+      const gram = new Float64Array(q * q);
+      accumulateGramBlock(weighted, columns, stride, m, q, gram, 0);
+      for (let j = 0; j < q; j++) {
+        for (let l = 0; l < q; l++) {
+          let expected = 0;
+          for (let r = 0; r < m; r++) expected += weights[r] * columns[j * stride + r] * columns[l * stride + r];
+          // Upper triangle only; the lower one is left untouched (0).
+          if (l >= j) expect(gram[j * q + l]).toBeCloseTo(expected, 12);
+          else expect(gram[j * q + l]).toBe(0);
+        }
+      }
+    }
+  });
+});
+
+describe("the E-step kernel's memberships from log terms", () => {
+  it("matches the log-sum-exp definition, including rows whose other terms are negligible and ties", () => {
+    const cases = [[0, -1, -2], [5, -100, -200], [-3, -3, -50], [1e3, 1e3 - 40, 1e3 - 30], [-7]];
+    for (const terms of cases) {
+      const k = terms.length;
+      const out = new Float64Array(k);
+      const value = membershipsFromLogTerms(Float64Array.from(terms), 0, k, out, 0);
+      const largest = Math.max(...terms);
+      const sum = terms.reduce((s, t) => s + Math.exp(t - largest), 0);
+      expect(value).toBeCloseTo(largest + Math.log(sum), 12);
+      terms.forEach((t, c) => expect(out[c]).toBeCloseTo(Math.exp(t - largest) / sum, 15));
+      expect(out.reduce((s, t) => s + t, 0)).toBeCloseTo(1, 15);
+    }
+  });
+
+  it("leaves a row of all −∞ terms as before: no number, not a made-up membership", () => {
+    const out = new Float64Array(2);
+    const value = membershipsFromLogTerms(Float64Array.from([-Infinity, -Infinity]), 0, 2, out, 0);
+    expect(value).toBe(-Infinity);
+    expect(Number.isNaN(out[0]) && Number.isNaN(out[1])).toBe(true);
+  });
+});
