@@ -74,6 +74,8 @@ export function splitCsv(text: string): CsvFields {
   let nextQuote = -1;
   let nextReturn = -1;
   while (i < length) {
+    // Whether the whole line was split at once and i stands at its end.
+    let atLineEnd = false;
     if (row.length === 0) {
       if (nextQuote < i) nextQuote = indexOrLength(text, '"', i);
       if (nextReturn < i) nextReturn = indexOrLength(text, "\r", i);
@@ -83,60 +85,53 @@ export function splitCsv(text: string): CsvFields {
         const contentEnd = nextReturn === lineEnd - 1 ? lineEnd - 1 : lineEnd;
         const fields = text.slice(i, contentEnd).split(delimiter);
         for (let f = 0; f < fields.length; f++) row.push(toCell(fields[f]));
-        if (lineEnd >= length) break;
-        i = lineEnd + 1;
-        line++;
-        pushRow(rows, lines, row, rowLine);
-        row = [];
-        while (i < length && (text.charCodeAt(i) === LF || text.charCodeAt(i) === CR)) {
-          if (text.charCodeAt(i) === LF || text.charCodeAt(i + 1) !== LF) line++;
-          i++;
+        i = contentEnd;
+        atLineEnd = true;
+      }
+    }
+    if (!atLineEnd) {
+      let raw: string;
+      if (text.charCodeAt(i) === QUOTE) {
+        // Quoted field: runs to the next quote not followed by another quote.
+        const startLine = line;
+        let value = "";
+        let from = i + 1;
+        for (;;) {
+          const close = text.indexOf('"', from);
+          if (close < 0) {
+            throw new SkeinError("bad-input", `A quoted field that starts on line ${startLine} of the CSV text never ends; add the closing quote (") or remove the opening one.`);
+          }
+          value += text.slice(from, close);
+          if (text.charCodeAt(close + 1) === QUOTE) {
+            value += '"';
+            from = close + 2;
+          } else {
+            i = close + 1;
+            break;
+          }
         }
-        rowLine = line;
+        for (let k = 0; k < value.length; k++) if (value.charCodeAt(k) === LF) line++;
+        // Anything between the closing quote and the delimiter is kept as it stands.
+        const rest = i;
+        while (i < length && !isFieldEnd(text.charCodeAt(i), delimiterCode)) i++;
+        raw = value + text.slice(rest, i);
+      } else {
+        const start = i;
+        while (i < length && !isFieldEnd(text.charCodeAt(i), delimiterCode)) i++;
+        raw = text.slice(start, i);
+      }
+      row.push(toCell(raw));
+      if (i >= length) break;
+      if (text.charCodeAt(i) === delimiterCode) {
+        i++;
+        // A delimiter at the very end of the text still opens one last, empty field.
+        if (i >= length) row.push(null);
         continue;
       }
     }
-    let raw: string;
-    if (text.charCodeAt(i) === QUOTE) {
-      // Quoted field: runs to the next quote not followed by another quote.
-      const startLine = line;
-      let value = "";
-      let from = i + 1;
-      for (;;) {
-        const close = text.indexOf('"', from);
-        if (close < 0) {
-          throw new SkeinError("bad-input", `A quoted field that starts on line ${startLine} of the CSV text never ends; add the closing quote (") or remove the opening one.`);
-        }
-        value += text.slice(from, close);
-        if (text.charCodeAt(close + 1) === QUOTE) {
-          value += '"';
-          from = close + 2;
-        } else {
-          i = close + 1;
-          break;
-        }
-      }
-      for (let k = 0; k < value.length; k++) if (value.charCodeAt(k) === LF) line++;
-      // Anything between the closing quote and the delimiter is kept as it stands.
-      const rest = i;
-      while (i < length && !isFieldEnd(text.charCodeAt(i), delimiterCode)) i++;
-      raw = value + text.slice(rest, i);
-    } else {
-      const start = i;
-      while (i < length && !isFieldEnd(text.charCodeAt(i), delimiterCode)) i++;
-      raw = text.slice(start, i);
-    }
-    row.push(toCell(raw));
     if (i >= length) break;
-    const code = text.charCodeAt(i);
-    if (code === delimiterCode) {
-      i++;
-      // A delimiter at the very end of the text still opens one last, empty field.
-      if (i >= length) row.push(null);
-      continue;
-    }
     // Line end: CRLF, LF or a lone CR.
-    i += code === CR && text.charCodeAt(i + 1) === LF ? 2 : 1;
+    i += text.charCodeAt(i) === CR && text.charCodeAt(i + 1) === LF ? 2 : 1;
     line++;
     pushRow(rows, lines, row, rowLine);
     row = [];
