@@ -1,3 +1,4 @@
+import { median } from "./median";
 import type { MixtureComponent, MixtureFit, RegressionData } from "./mixtureTypes";
 
 /**
@@ -68,9 +69,7 @@ function columnScale(values: Float64Array, n: number, stride: number, offset: nu
 function medianMagnitude(values: Float64Array, n: number, stride: number, offset: number): number {
   const magnitudes = new Float64Array(n);
   for (let i = 0, at = offset; i < n; i++, at += stride) magnitudes[i] = Math.abs(values[at]);
-  magnitudes.sort();
-  const half = n >> 1;
-  return n % 2 === 1 ? magnitudes[half] : 0.5 * (magnitudes[half - 1] + magnitudes[half]);
+  return median(magnitudes);
 }
 
 /** The data divided by their scales. */

@@ -1,3 +1,5 @@
+import { median } from "./median";
+
 /**
  * The variance of y that the fit's floors and its exact-fit test are measured against.
  *
@@ -15,17 +17,11 @@ const MAD_TO_SD = 1.4826;
 const DIRECT_LIMIT = 1e150;
 
 export function referenceVariance(values: Float64Array, n: number): number {
-  let largest = 0;
-  for (let i = 0; i < n; i++) largest = Math.max(largest, Math.abs(values[i]));
-  if (!(largest <= DIRECT_LIMIT)) {
+  if (!(largestMagnitude(values, n) <= DIRECT_LIMIT)) {
     const spread = referenceSpread(values, n);
     return spread * spread;
   }
-  const plain = plainVariance(values, n, 1);
-  if (!(plain > 0) || !Number.isFinite(plain) || n < 3) return plain;
-  const robustSd = MAD_TO_SD * medianAbsoluteDeviation(values, n);
-  const robust = robustSd * robustSd;
-  return robust > 0 && plain > DOMINATED_RATIO * robust ? robust : plain;
+  return varianceInUnits(values, n, 1);
 }
 
 /**
@@ -34,15 +30,25 @@ export function referenceVariance(values: Float64Array, n: number): number {
  * results test exact fits on the user's own numbers, which the fit's scaling never touched).
  */
 export function referenceSpread(values: Float64Array, n: number): number {
+  const largest = largestMagnitude(values, n);
+  if (!(largest > 0) || !Number.isFinite(largest)) return largest === 0 ? 0 : NaN;
+  const unit = largest <= DIRECT_LIMIT ? 1 : largest;
+  return unit * Math.sqrt(varianceInUnits(values, n, unit));
+}
+
+/** The reference variance of values / unit: the plain one, or the robust one when a few values dominate the plain one. */
+function varianceInUnits(values: Float64Array, n: number, unit: number): number {
+  const plain = plainVariance(values, n, unit);
+  if (!(plain > 0) || !Number.isFinite(plain) || n < 3) return plain;
+  const robustSd = (MAD_TO_SD * medianAbsoluteDeviation(values, n)) / unit;
+  const robust = robustSd * robustSd;
+  return robust > 0 && plain > DOMINATED_RATIO * robust ? robust : plain;
+}
+
+function largestMagnitude(values: Float64Array, n: number): number {
   let largest = 0;
   for (let i = 0; i < n; i++) largest = Math.max(largest, Math.abs(values[i]));
-  if (!(largest > 0) || !Number.isFinite(largest)) return largest === 0 ? 0 : NaN;
-  if (largest <= DIRECT_LIMIT) return Math.sqrt(referenceVariance(values, n));
-  const plain = plainVariance(values, n, largest);
-  if (n < 3) return largest * Math.sqrt(plain);
-  const robustSd = (MAD_TO_SD * medianAbsoluteDeviation(values, n)) / largest;
-  const robust = robustSd * robustSd;
-  return largest * Math.sqrt(robust > 0 && plain > DOMINATED_RATIO * robust ? robust : plain);
+  return largest;
 }
 
 /** Two-pass variance of values / unit (mean first, then centred squares: Chan, Golub & LeVeque 1983). */
@@ -74,55 +80,4 @@ function medianAbsoluteDeviation(values: Float64Array, n: number): number {
   const centre = median(scratch);
   for (let t = 0; t < m; t++) scratch[t] = Math.abs(sample[t] - centre);
   return median(scratch);
-}
-
-/**
- * The median of the (finite) values, which are reordered: the middle order statistics by
- * selection (Hoare 1961, FIND) in O(n) instead of a sort, the same numbers a sort would give.
- * On 200,000 rows a sort took about as long as thirty passes over a 200,000 x 10 design.
- */
-function median(values: Float64Array): number {
-  const n = values.length;
-  const half = n >> 1;
-  const upper = select(values, half);
-  if (n % 2 === 1) return upper;
-  // Selection leaves every value below index half at most values[half]: the lower middle one is their largest.
-  let lower = -Infinity;
-  for (let i = 0; i < half; i++) if (values[i] > lower) lower = values[i];
-  return 0.5 * (lower + upper);
-}
-
-/** The k-th smallest value (0-based); reorders `values` so that those before index k are at most it and those after at least it. */
-function select(values: Float64Array, k: number): number {
-  let low = 0;
-  let high = values.length - 1;
-  while (high > low) {
-    // Median of three as the pivot (Singleton 1969), which keeps sorted or reversed input linear.
-    const middle = (low + high) >> 1;
-    if (values[middle] < values[low]) swap(values, middle, low);
-    if (values[high] < values[low]) swap(values, high, low);
-    if (values[high] < values[middle]) swap(values, high, middle);
-    const pivot = values[middle];
-    let i = low;
-    let j = high;
-    while (i <= j) {
-      while (values[i] < pivot) i++;
-      while (values[j] > pivot) j--;
-      if (i <= j) {
-        swap(values, i, j);
-        i++;
-        j--;
-      }
-    }
-    if (k <= j) high = j;
-    else if (k >= i) low = i;
-    else return values[k];
-  }
-  return values[k];
-}
-
-function swap(values: Float64Array, a: number, b: number): void {
-  const held = values[a];
-  values[a] = values[b];
-  values[b] = held;
 }
