@@ -7,6 +7,7 @@ import type { MixtureComponent, MixtureFit, MixtureOptions, RegressionData, Warm
 import type { ScanOptions, ScanResult, ScanRow } from "./trustTypes";
 import { checkSeparation, degenerateComponentReason } from "./checkSeparation";
 import { computeMemberships } from "./computeMemberships";
+import { membershipsFromLogTerms } from "./logDensities";
 import { createRandom, shuffleInPlace } from "./random";
 import { regressionMatrix } from "./regressionMatrix";
 import { gatherRows, selectRows } from "./rowSubset";
@@ -372,18 +373,18 @@ function heldOutLogLikelihoods(data: RegressionData, fit: MixtureFit, options: S
       // A held-out row's density includes the background's share π₀ / V (Banfield & Raftery
       // 1993), with V the range of the whole data, as in the K's own fit.
       const term = Math.log(trained.background.weight) + (fit.background?.logDensity ?? trained.background.logDensity);
-      for (let t = 0; t < test.n; t++) rowValues[t] = logAddExp(rowValues[t], term);
+      // ln(e^row + e^term) by the E-step kernel's log-sum-exp (its memberships are not needed).
+      const terms = new Float64Array(2);
+      const shares = new Float64Array(2);
+      for (let t = 0; t < test.n; t++) {
+        terms[0] = rowValues[t];
+        terms[1] = term;
+        rowValues[t] = membershipsFromLogTerms(terms, 0, 2, shares, 0);
+      }
     }
     held.forEach((row, t) => (values[row] = rowValues[t]));
   }
   return values;
-}
-
-/** ln(e^a + e^b) without overflow. */
-function logAddExp(a: number, b: number): number {
-  const high = Math.max(a, b);
-  if (high === -Infinity) return -Infinity;
-  return high + Math.log(Math.exp(a - high) + Math.exp(b - high));
 }
 
 function mean(values: Float64Array): number {
