@@ -1,5 +1,5 @@
 import * as path from "path";
-import { buildDesign, type Design } from "../engine/design";
+import { buildDesign, buildNumberDesign, type Design } from "../engine/design";
 import { encodeRow, encodedWidth, type PredictorColumn } from "../engine/categoryLevels";
 import { SkeinError } from "../engine/errors";
 import type { Cell, ColumnKind } from "../io/columnTypes";
@@ -54,8 +54,12 @@ export interface LoadedDesign {
  * columns left out are named in the notices.
  */
 export async function loadDesign(source: DesignSource): Promise<LoadedDesign> {
-  const table = await readDataTable(source.file, { sheet: source.sheet, headerRow: source.headerRow });
-  if (table.rows.length === 0) throw new SkeinError("bad-input", `${table.where} has a header row but no data rows below it; add rows of data under the column names.`);
+  return designOfTable(await readDataTable(source.file, { sheet: source.sheet, headerRow: source.headerRow }), source);
+}
+
+/** loadDesign on a table already read: the columns chosen, the Design built. */
+export function designOfTable(table: DataTable, source: Omit<DesignSource, "file" | "sheet" | "headerRow">): LoadedDesign {
+  if (table.dataRowNumbers.length === 0) throw new SkeinError("bad-input", `${table.where} has a header row but no data rows below it; add rows of data under the column names.`);
   const yColumn = withHeaderHint(table, () => chooseColumn(table, source.y));
   if (yColumn.kind === "category" || yColumn.kind === "text" || yColumn.kind === "empty") {
     throw new SkeinError("bad-input", `The outcome column ${yColumn.name} (${yColumn.letter}) holds ${yColumn.reason}, not numbers; choose a column of numbers with --y.`);
@@ -79,7 +83,7 @@ export async function loadDesign(source: DesignSource): Promise<LoadedDesign> {
   }
   const converted = describeColumns(table.columns.filter((c) => c.position === y || x.includes(c.position))).converted;
   if (converted.length > 0) notices.push(`Read as numbers: ${converted.join(", ")}.`);
-  const dataRows = table.rows.length;
+  const dataRows = table.dataRowNumbers.length;
   const beyond = source.leaveOut?.find((row) => row > dataRows);
   if (beyond !== undefined) throw new SkeinError("bad-input", `--leave-out names data row ${beyond}, but ${table.where} has ${dataRows} data row${dataRows === 1 ? "" : "s"}; count data rows from 1 below the header.`);
   const leaveOut = source.leaveOut ? new Set(source.leaveOut.map((row) => row - 1)) : undefined;
@@ -92,7 +96,13 @@ export async function loadDesign(source: DesignSource): Promise<LoadedDesign> {
   });
   let design: Design;
   try {
-    design = buildDesign(columnCells(table, [y]), columnCells(table, x), { headers: true, intercept: source.intercept, leaveOut, components: source.k, categories, numberText: false });
+    const options = { intercept: source.intercept, leaveOut, components: source.k };
+    // A file of plain numbers, read column by column, goes to the design without rows of cells.
+    const numbers = table.numberColumns;
+    design =
+      numbers && !categories.includes(true)
+        ? buildNumberDesign({ name: table.names[y], values: numbers[y] }, x.map((j) => ({ name: table.names[j], values: numbers[j] })), options)
+        : buildDesign(columnCells(table, [y]), columnCells(table, x), { ...options, headers: true, categories, numberText: false });
   } catch (error) {
     // Rows skipped for text in a column whose numbers mix styles: say why that column is text.
     const used = [y, ...x].map((j) => table.names[j]);

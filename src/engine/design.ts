@@ -192,12 +192,7 @@ export function buildDesign(y: unknown[][], x: unknown[][], options: DesignOptio
   const hasHeaderRow = headerSetting === "auto"
     ? isNameText(yRows[0][0]) && xRows[0].every(isNameText)
     : headerSetting;
-  const yName = hasHeaderRow && isNameText(yRows[0][0]) ? yRows[0][0].trim() : "y";
-  const columnNames: string[] = [];
-  for (let j = 0; j < p; j++) {
-    const cell = hasHeaderRow ? xRows[0][j] : undefined;
-    columnNames.push(isNameText(cell) ? cell.trim() : `x${j + 1}`);
-  }
+  const { yName, columnNames } = columnNamesOf(hasHeaderRow ? yRows[0][0] : undefined, xRows[0].map((cell) => (hasHeaderRow ? cell : undefined)));
 
   const firstDataRow = hasHeaderRow ? 1 : 0;
   const inputRows = yRows.length - firstDataRow;
@@ -290,7 +285,7 @@ export function buildDesign(y: unknown[][], x: unknown[][], options: DesignOptio
   }
   const width = encodedWidth(columns);
   // Without category columns the values are already the design (the common case: no copy).
-  const xValues = anyCategory ? new Float64Array(n * width) : rawX.subarray(0, n * p).slice();
+  const xValues = anyCategory ? new Float64Array(n * width) : rawX.subarray(0, n * p);
   for (let i = 0; anyCategory && i < n; i++) {
     let at = i * width;
     for (let j = 0; j < p; j++) {
@@ -303,29 +298,93 @@ export function buildDesign(y: unknown[][], x: unknown[][], options: DesignOptio
       }
     }
   }
-  const predictorNames = encodedNames(columns);
+  return finishDesign({ y: yValues, x: xValues, n, yName, columns, notices, hasHeaderRow, inputRows, rowIndex, skipped }, options);
+}
 
+/**
+ * The Design of a header row of names over columns of numbers, NaN for a blank cell (a file of
+ * plain numbers read column by column): the Design buildDesign gives for the same cells as
+ * ranges with that header row (no category columns, no number text), with no array per row.
+ * Rows with a blank are skipped and listed as there.
+ */
+export function buildNumberDesign(
+  y: { name: unknown; values: Float64Array },
+  x: readonly { name: unknown; values: Float64Array }[],
+  options: Omit<DesignOptions, "headers" | "categories" | "numberText"> = {},
+): Design {
+  const p = x.length;
+  if (p === 0) throw new SkeinError("bad-input", "The x range has no columns; select at least one predictor column.");
+  const inputRows = y.values.length;
+  if (inputRows === 0) throw new SkeinError("bad-input", "The ranges hold only a header row; include the data rows below it.");
+  const { yName, columnNames } = columnNamesOf(y.name, x.map((column) => column.name));
+  const xColumns = x.map((column) => column.values);
+  // Written in place for every input row; a skipped row is overwritten by the next one.
+  const yValues = new Float64Array(inputRows);
+  const xValues = new Float64Array(inputRows * p);
+  const rowIndex = new Int32Array(inputRows);
+  const skipped: SkippedRow[] = [];
+  let n = 0;
+  for (let r = 0; r < inputRows; r++) {
+    const yValue = y.values[r];
+    let column = Number.isNaN(yValue) ? yName : undefined;
+    yValues[n] = yValue;
+    for (let j = 0, at = n * p; j < p; j++, at++) {
+      const value = xColumns[j][r];
+      if (Number.isNaN(value)) column ??= columnNames[j];
+      xValues[at] = value;
+    }
+    if (column !== undefined) skipped.push({ row: r, column, reason: SKIP_REASONS.blank });
+    else if (options.leaveOut?.has(r)) skipped.push({ row: r, column: yName, reason: SKIP_REASONS.leftOut });
+    else rowIndex[n++] = r;
+  }
+  const columns: PredictorColumn[] = columnNames.map((name) => ({ kind: "number", name }));
+  return finishDesign({ y: yValues, x: xValues.subarray(0, n * p), n, yName, columns, notices: [], hasHeaderRow: true, inputRows, rowIndex, skipped }, options);
+}
+
+/** The y name and x column names of header cells: name text trimmed, else "y" and "x1", "x2", ... (undefined: no header row). */
+function columnNamesOf(yCell: unknown, xCells: readonly unknown[]): { yName: string; columnNames: string[] } {
+  return {
+    yName: isNameText(yCell) ? yCell.trim() : "y",
+    columnNames: xCells.map((cell, j) => (isNameText(cell) ? cell.trim() : `x${j + 1}`)),
+  };
+}
+
+/**
+ * A Design from the usable rows packed at the front of `y`, `x` (n rows of the encoded width)
+ * and `rowIndex`: checked for enough rows and for predictors no fit can tell apart, each array
+ * cut to its n rows.
+ */
+function finishDesign(
+  parts: Omit<Design, "p" | "predictorNames"> & { x: Float64Array },
+  options: Pick<DesignOptions, "minRows" | "components" | "intercept">,
+): Design {
+  const { n, columns, skipped } = parts;
+  const width = encodedWidth(columns);
   const components = options.components ?? 1;
   const coefficients = width + (options.intercept === false ? 0 : 1);
   const minRows = options.minRows ?? Math.max(width + 2, components * (coefficients + 1));
   if (n < minRows) throw tooFewRows(n, minRows, width, skipped, components, coefficients);
-
   const design: Design = {
-    y: yValues.slice(0, n),
-    x: xValues,
+    y: cut(parts.y, n),
+    x: cut(parts.x, n * width),
     n,
     p: width,
-    yName,
-    predictorNames,
+    yName: parts.yName,
+    predictorNames: encodedNames(columns),
     columns,
-    notices,
-    hasHeaderRow,
-    inputRows,
-    rowIndex: rowIndex.slice(0, n),
+    notices: parts.notices,
+    hasHeaderRow: parts.hasHeaderRow,
+    inputRows: parts.inputRows,
+    rowIndex: cut(parts.rowIndex, n),
     skipped,
   };
   checkPredictors(design, options.intercept ?? true);
   return design;
+}
+
+/** The first `length` values: the array itself when it holds just those, else a copy of them (its larger buffer let go). */
+function cut<T extends Float64Array | Int32Array>(values: T, length: number): T {
+  return values.length === length && values.byteOffset === 0 && values.buffer.byteLength === values.byteLength ? values : (values.slice(0, length) as T);
 }
 
 /**

@@ -172,6 +172,37 @@ export function typeColumns(header: readonly RawCell[], body: readonly (readonly
   return { names, rows: rows ?? (body as Cell[][]), columns, notices };
 }
 
+/**
+ * The column rule for a header row over columns of numbers, NaN for a blank cell (a file of
+ * plain numbers, read column by column): the names, kinds and notices typeColumns gives for the
+ * same cells, without a cell or row array.
+ */
+export function typeNumberColumns(header: readonly RawCell[], body: readonly Float64Array[]): Omit<TypedColumns, "rows"> {
+  const { names, notices } = headerNamesOf(header, header.length, 0);
+  const columns = names.map((name, j): ColumnType => {
+    const values = body[j];
+    let filled = 0;
+    let allWhole = true;
+    for (let i = 0; i < values.length; i++) {
+      const value = values[i];
+      if (Number.isNaN(value)) continue;
+      filled++;
+      if (!Number.isInteger(value)) allWhole = false;
+    }
+    let numbers = values;
+    if (filled < values.length) {
+      numbers = new Float64Array(filled);
+      for (let i = 0, k = 0; i < values.length; i++) if (!Number.isNaN(values[i])) numbers[k++] = values[i];
+    }
+    const type: Decision["type"] =
+      filled === 0 ? { kind: "empty", defaultPredictor: false, reason: "empty" }
+      : looksLikeIdentifierName(name) ? IDENTIFIER_BY_NAME
+      : numberKind(numbers, allWhole);
+    return { name, position: j, letter: columnLetter(j), ...type };
+  });
+  return { names, columns, notices };
+}
+
 interface Decision {
   values: Cell[];
   type: Omit<ColumnType, "name" | "position" | "letter">;
@@ -285,6 +316,8 @@ function readDateColumn(values: Cell[], texts: readonly number[], workbookDates:
   return { isDate: true, note: "" };
 }
 
+const IDENTIFIER_BY_NAME: Decision["type"] = { kind: "identifier", defaultPredictor: false, reason: "identifier, by its name" };
+
 /** Phase 3: the kind of a column of converted cells, and whether it joins the default predictors. */
 function kindOf(name: string, values: readonly Cell[], filled: number, mixedStyles: boolean): Decision["type"] {
   let numbers = 0;
@@ -306,15 +339,8 @@ function kindOf(name: string, values: readonly Cell[], filled: number, mixedStyl
     // error values are no level
   }
   const distinctNumbers = (): number => countDistinct(numberValues.subarray(0, numbers));
-  if (looksLikeIdentifierName(name)) return { kind: "identifier", defaultPredictor: false, reason: "identifier, by its name" };
-  if (2 * numbers > filled) {
-    // A counter rises down the rows, so its values all differ.
-    if (numbers === filled && allWhole && numbers >= IDENTIFIER_MIN_ROWS && isCounter(values)) {
-      return { kind: "identifier", defaultPredictor: false, reason: "identifier: every value a different whole number, as a counter" };
-    }
-    if (allEqual(numberValues.subarray(0, numbers))) return { kind: "number", defaultPredictor: false, reason: "the same number in every row" };
-    return { kind: "number", defaultPredictor: true, reason: "numbers" };
-  }
+  if (looksLikeIdentifierName(name)) return IDENTIFIER_BY_NAME;
+  if (2 * numbers > filled) return numberKind(numberValues.subarray(0, numbers), numbers === filled && allWhole);
   if (textOrLogical === 0) return { kind: "text", defaultPredictor: false, reason: "error values only" };
   if (mixedStyles) return { kind: "text", defaultPredictor: false, reason: "numbers written in more than one way" };
   const levels = otherValues.size + distinctNumbers();
@@ -323,6 +349,19 @@ function kindOf(name: string, values: readonly Cell[], filled: number, mixedStyl
   if (levels === filled && filled >= IDENTIFIER_MIN_TEXT_ROWS) return { kind: "identifier", defaultPredictor: false, reason: "identifier: every value different" };
   if (levels > CATEGORY_MAX_LEVELS) return { kind: "text", defaultPredictor: false, reason: `text with ${levels} different values`, levels };
   return { kind: "category", defaultPredictor: true, reason: `categories (${levels} value${levels === 1 ? "" : "s"})`, levels };
+}
+
+/**
+ * The kind of a column of mostly numbers, from its numbers in row order; `wholeOnly`: the
+ * column holds nothing but whole numbers.
+ */
+function numberKind(numbers: Float64Array, wholeOnly: boolean): Decision["type"] {
+  // A counter rises down the rows, so its values all differ.
+  if (wholeOnly && numbers.length >= IDENTIFIER_MIN_ROWS && isCounter(numbers)) {
+    return { kind: "identifier", defaultPredictor: false, reason: "identifier: every value a different whole number, as a counter" };
+  }
+  if (allEqual(numbers)) return { kind: "number", defaultPredictor: false, reason: "the same number in every row" };
+  return { kind: "number", defaultPredictor: true, reason: "numbers" };
 }
 
 /** Different values among numbers, equal as a Set counts them (0 and −0 alike, NaN once). */
@@ -351,19 +390,10 @@ function allEqual(numbers: Float64Array): boolean {
  * far wider (populations, amounts in cents) or come in no order (distances,
  * doses): those are predictors.
  */
-function isCounter(values: readonly Cell[]): boolean {
-  let first = NaN;
-  let previous = -Infinity;
-  let count = 0;
-  for (const v of values) {
-    if (typeof v !== "number") continue;
-    if (!(v > previous)) return false;
-    if (count === 0) first = v;
-    previous = v;
-    count++;
-  }
+function isCounter(numbers: Float64Array): boolean {
+  for (let i = 1; i < numbers.length; i++) if (!(numbers[i] > numbers[i - 1])) return false;
   // Rising, so the first is the smallest and the last the largest.
-  return previous - first + 1 <= IDENTIFIER_SPREAD * count;
+  return numbers[numbers.length - 1] - numbers[0] + 1 <= IDENTIFIER_SPREAD * numbers.length;
 }
 
 /** "day first", "month first" or "unclear" for a column of a/b/year dates; "known" dates vote for neither. */

@@ -5,7 +5,7 @@
  */
 import { SkeinError } from "../engine/errors";
 import { readNumberText } from "./numberText";
-import { typeColumns, type Cell, type ColumnRuleOptions, type ColumnType, type RawCell } from "./columnTypes";
+import { typeColumns, typeNumberColumns, type Cell, type ColumnRuleOptions, type ColumnType, type RawCell } from "./columnTypes";
 
 /** Cells as a reader found them, with where each row stands in the file. */
 export interface SourceGrid {
@@ -36,6 +36,11 @@ export interface DataTable {
   /** The worksheet read, for workbooks. */
   sheetName?: string;
   where: string;
+  /**
+   * Set for a file of plain numbers read column by column (tableFromNumberColumns): each
+   * column's numbers, NaN for a blank cell. `rows` is then built from them when first read.
+   */
+  numberColumns?: Float64Array[];
 }
 
 /** The 1-based header row asked for, or undefined for the first non-empty row. */
@@ -92,6 +97,23 @@ export function tableFromGrid(grid: SourceGrid, choice: HeaderChoice = {}): Data
   const hint = groupingHeaderHint(rows, rowNumbers, headerIndex, rowWord);
   if (hint) notices.push(hint);
   return { ...typed, notices, headerRow: rowNumbers[headerIndex], dataRowNumbers, where };
+}
+
+/**
+ * The table of a header row of names (line 1) over columns of numbers, NaN for a blank cell, as
+ * a file of plain numbers is read: the table tableFromGrid gives for the same cells (strict
+ * width, the default header row), with the rows built only when read. Null when the header names
+ * no column, for tableFromGrid to say so.
+ */
+export function tableFromNumberColumns(header: readonly string[], body: Float64Array[], dataRowNumbers: number[], where: string): DataTable | null {
+  if (!header.some(isHeaderName)) return null;
+  const { names, columns, notices } = typeNumberColumns(header, body);
+  let rows: Cell[][] | undefined;
+  const table = { names, columns, notices, headerRow: 1, dataRowNumbers, where, numberColumns: body } as Omit<DataTable, "rows">;
+  return Object.defineProperty(table, "rows", {
+    enumerable: true,
+    get: (): Cell[][] => (rows ??= dataRowNumbers.map((_, i) => body.map((column) => (Number.isNaN(column[i]) ? null : column[i])))),
+  }) as DataTable;
 }
 
 /**

@@ -1,6 +1,8 @@
 import { SkeinError } from "../engine/errors";
-import { tableFromGrid, type DataTable, type HeaderChoice } from "./dataTable";
-import { plainNumberValue, readNumberText } from "./numberText";
+import { tableFromGrid, tableFromNumberColumns, type DataTable, type HeaderChoice } from "./dataTable";
+import { decodeText, type DecodedText } from "./decodeText";
+import { readNumberLines } from "./plainNumberLines";
+import { readNumberText } from "./numberText";
 
 /**
  * Plain decimal numbers: optional sign, digits with an optional point (or a
@@ -224,85 +226,65 @@ function pointCannotGroup(cell: string): boolean {
 const DELIMITER_NAMES: Record<string, string> = { ",": "commas", ";": "semicolons", "\t": "tabs" };
 
 /**
- * The grid of a comma-separated file whose data fields are all plain decimal numbers or blank
- * (the usual large export), read in one pass with each number parsed where it stands: no text
- * kept per cell, rows of numbers (unboxed doubles) instead of rows of text. Null for any other
- * file, which splitCsv reads: a header line with a quote over several lines, a blank name or a
- * lone carriage return; a data line with a quote, a lone carriage return, other text or another
- * number of fields than the header. The column rule reads a plain number cell as it reads the
- * same number written as plain text (one style, no notice), and the header line is split by
- * splitCsv itself, so the table is the one splitCsv's fields give.
+ * The header of a comma-separated file whose data lines readNumberLines may read: its first
+ * line (`headerText`, without the line end) split by splitCsv into names, none blank. Null for
+ * any other first line (another delimiter, a quote left open, a lone carriage return, a blank
+ * name), which the field splitter reads.
  */
-export function plainNumberGrid(text: string): { rows: (string | number | null)[][]; lines: number[]; delimiter: string } | null {
-  if (text.charCodeAt(0) === 0xfeff) text = text.slice(1);
-  const length = text.length;
-  const firstEnd = indexOrLength(text, "\n", 0);
-  const headerText = text.slice(0, firstEnd > 0 && text.charCodeAt(firstEnd - 1) === CR ? firstEnd - 1 : firstEnd);
-  if (detectDelimiter(text) !== "," || headerText.length === 0 || headerText.includes("\r")) return null;
-  let header: (string | null)[];
+function plainNumberHeader(headerText: string): string[] | null {
+  if (detectDelimiter(headerText) !== "," || headerText.length === 0 || headerText.includes("\r")) return null;
   try {
     const split = splitCsv(headerText);
-    if (split.rows.length !== 1 || split.lines[0] !== 1) return null;
-    header = split.rows[0];
+    if (split.rows.length !== 1 || split.lines[0] !== 1 || split.rows[0].some((name) => name === null)) return null;
+    return split.rows[0] as string[];
   } catch {
     return null;
   }
-  if (header.some((name) => name === null)) return null;
-  const width = header.length;
-  const rows: (string | number | null)[][] = [header];
-  const lines: number[] = [1];
-  const nextQuote = indexOrLength(text, '"', firstEnd);
-  let nextReturn = -1;
-  let line = 2;
-  let i = firstEnd + 1;
-  // Empty lines hold no fields at all: skip them (as splitCsv does).
-  const skipEmptyLines = (): void => {
-    while (i < length && (text.charCodeAt(i) === LF || text.charCodeAt(i) === CR)) {
-      if (text.charCodeAt(i) === LF || text.charCodeAt(i + 1) !== LF) line++;
-      i++;
-    }
-  };
-  skipEmptyLines();
-  while (i < length) {
-    const lineEnd = indexOrLength(text, "\n", i);
-    if (nextQuote < lineEnd) return null;
-    if (nextReturn < i) nextReturn = indexOrLength(text, "\r", i);
-    if (nextReturn < lineEnd - 1) return null;
-    const contentEnd = nextReturn === lineEnd - 1 ? lineEnd - 1 : lineEnd;
-    // Allocated at its width: an array grown by push reserves about three times the room.
-    const row = new Array<number | null>(width);
-    let fields = 0;
-    let start = i;
-    for (;;) {
-      const comma = text.indexOf(",", start);
-      const end = comma < 0 || comma > contentEnd ? contentEnd : comma;
-      const trimmed = text.slice(start, end).trim();
-      let cell: number | null = null;
-      if (trimmed !== "") {
-        cell = plainNumberValue(trimmed, ".");
-        if (!Number.isFinite(cell)) return null;
+}
+
+/**
+ * The table of a comma-separated file of plain numbers (the usual large export), its data lines
+ * read straight from `bytes` from `bodyStart` into columns of doubles (readNumberLines), the
+ * header being the file's first line, already decoded. The same table splitCsv's fields give
+ * (tableFromNumberColumns), or null for any other file.
+ */
+function plainNumberTable(headerText: string, bytes: Uint8Array, bodyStart: number, where: string): DataTable | null {
+  const header = plainNumberHeader(headerText);
+  if (header === null) return null;
+  const lines = readNumberLines(bytes, bodyStart, 2, header.length);
+  return lines && tableFromNumberColumns(header, lines.columns, lines.lineNumbers, where);
+}
+
+const UTF16_MARKS = [[0xff, 0xfe], [0xfe, 0xff]];
+
+/**
+ * The bytes of a .csv file as a DataTable, with the encoding decodeText finds. A file of plain
+ * numbers under a header line (and the default header row) is read straight from its bytes:
+ * its data lines are ASCII, so only the header line is decoded (in the encoding the whole file
+ * would be: its data bytes are valid in every encoding), and the file's text is never made.
+ * Any other file is decoded and split into fields. `file.bytes` is let go once read.
+ */
+export function csvFileTable(file: { bytes: Uint8Array }, where: string, choice: HeaderChoice = {}): { table: DataTable; encoding: DecodedText } {
+  const bytes = file.bytes;
+  const utf16 = UTF16_MARKS.some(([a, b]) => bytes[0] === a && bytes[1] === b);
+  if (choice.headerRow === undefined && !utf16) {
+    let headerEnd = bytes.indexOf(LF);
+    if (headerEnd < 0) headerEnd = bytes.length;
+    const headerBytes = bytes.subarray(0, headerEnd > 0 && bytes[headerEnd - 1] === CR ? headerEnd - 1 : headerEnd);
+    // A zero byte may make the whole file read as UTF-16 without a mark: decoded as a whole.
+    if (!headerBytes.includes(0)) {
+      const header = decodeText(headerBytes);
+      const table = plainNumberTable(header.text.charCodeAt(0) === 0xfeff ? header.text.slice(1) : header.text, bytes, headerEnd + 1, where);
+      if (table) {
+        file.bytes = new Uint8Array(0);
+        return { table, encoding: { ...header, text: "" } };
       }
-      if (fields < width) row[fields] = cell;
-      fields++;
-      if (end === contentEnd) break;
-      start = end + 1;
     }
-    // A line of nothing but whitespace is no row (splitCsv's rule); other rows need every field.
-    if (!(fields === 1 && row[0] === null)) {
-      if (fields !== width) return null;
-      rows.push(row);
-      lines.push(line);
-    }
-    if (lineEnd >= length) break;
-    i = lineEnd + 1;
-    line++;
-    skipEmptyLines();
   }
-  while (rows.length > 1 && rows[rows.length - 1].every((cell) => cell === null)) {
-    rows.pop();
-    lines.pop();
-  }
-  return { rows, lines, delimiter: "," };
+  const decoded = decodeText(bytes);
+  file.bytes = new Uint8Array(0);
+  const table = csvTableOf(decoded, where, choice);
+  return { table, encoding: { ...decoded, text: "" } };
 }
 
 /** CSV text as a DataTable: fields split, the decimal mark chosen, the column rule applied. */
@@ -317,11 +299,26 @@ export function csvTable(text: string, where: string, choice: HeaderChoice = {})
  */
 export function csvTableOf(source: { text: string }, where: string, choice: HeaderChoice = {}): DataTable {
   // Large numeric files take the one-pass road when the header is the first line (the default).
-  const plain = choice.headerRow === undefined ? plainNumberGrid(source.text) : null;
-  const fields = plain ?? splitCsv(source.text);
+  if (choice.headerRow === undefined) {
+    const text = source.text.charCodeAt(0) === 0xfeff ? source.text.slice(1) : source.text;
+    const headerEnd = indexOrLength(text, "\n", 0);
+    const headerText = text.slice(0, headerEnd > 0 && text.charCodeAt(headerEnd - 1) === CR ? headerEnd - 1 : headerEnd);
+    // Text beyond ASCII in a data line is no plain number: encoded as UTF-8, its bytes stop the road.
+    const plain = plainNumberHeader(headerText) && plainNumberTable(headerText, new TextEncoder().encode(text.slice(headerEnd + 1)), 0, where);
+    if (plain) {
+      source.text = "";
+      return plain;
+    }
+  }
+  return csvTableOfFields(source, where, choice);
+}
+
+/** csvTableOf by the field splitter alone, whatever the file holds (the one-pass road's reference). */
+export function csvTableOfFields(source: { text: string }, where: string, choice: HeaderChoice = {}): DataTable {
+  const fields = splitCsv(source.text);
   source.text = "";
   if (fields.rows.length === 0) throw new SkeinError("bad-input", `${where} holds no data; it needs a header row and rows of data.`);
-  const decimal = plain ? "." : decimalMarkOf(fields as CsvFields);
+  const decimal = decimalMarkOf(fields);
   const table = tableFromGrid(
     { rows: fields.rows, rowNumbers: fields.lines, rowWord: "line", strictWidth: true, rule: { decimalComma: decimal === "," }, where },
     choice,

@@ -5,7 +5,7 @@ import { SkeinError } from "../engine/errors";
 import { serialOfDate } from "./dateText";
 import type { DataTable, HeaderChoice } from "./dataTable";
 import { decodeText } from "./decodeText";
-import { csvTableOf, parseCsv } from "./readCsv";
+import { csvFileTable, parseCsv } from "./readCsv";
 import { sheetGrid, workbookTable, type WorkbookChoice } from "./workbookCells";
 
 /** A sheet of cells as a worksheet range would hold them: numbers, text, booleans, null for empty. */
@@ -64,11 +64,9 @@ export async function readDataTable(filePath: string, choice: WorkbookChoice = {
   const { name, isText } = file;
   if (isText) {
     if (choice.sheet !== undefined) throw new SkeinError("bad-input", `${name} is a text file with no sheets; leave out the sheet name.`);
-    const decoded = decodeText(file.bytes);
-    // The bytes and then the text are let go once read: a large file is not held three times.
-    file.bytes = new Uint8Array(0);
-    const table = csvTableOf(decoded, name, choice as HeaderChoice);
-    if (decoded.noteworthy) table.notices.unshift(`Read ${name} as ${decoded.encoding} text${decoded.encoding === "Windows-1252" ? " (its bytes are not valid UTF-8)" : ""}.`);
+    // The bytes (and the text, when made) are let go once read: a large file is not held three times.
+    const { table, encoding } = csvFileTable(file, name, choice as HeaderChoice);
+    if (encoding.noteworthy) table.notices.unshift(`Read ${name} as ${encoding.encoding} text${encoding.encoding === "Windows-1252" ? " (its bytes are not valid UTF-8)" : ""}.`);
     return table;
   }
   return workbookTable(await loadWorkbook(file.bytes, name), name, choice);
