@@ -1,4 +1,5 @@
-import { describe, expect, it } from "vitest";
+import { beforeAll, describe, expect, it } from "vitest";
+import type { Workbook } from "exceljs";
 import { buildDesign } from "../src/engine/design";
 import { fitMixture } from "../src/engine/fitMixture";
 import { resultsWorkbook } from "../src/io/resultsWorkbook";
@@ -19,7 +20,10 @@ describe("result workbook fills", () => {
   }
   const design = buildDesign(rows.map((r) => [r[1]]), rows.map((r) => [r[0]]), { headers: true });
   const fit = fitMixture(design, { k: 2, seed: 1 });
-  const workbook = resultsWorkbook({ rows, design, fit });
+  let workbook: Workbook;
+  beforeAll(async () => {
+    workbook = await resultsWorkbook({ rows, design, fit });
+  });
 
   const fillOf = (sheet: string, column: number) => {
     const cell = workbook.getWorksheet(sheet)!.getRow(1).getCell(column);

@@ -208,7 +208,7 @@ export async function runDemoScenario(truth: ScenarioTruth, options: DemoOptions
   await fs.mkdir(options.out, { recursive: true });
   const workbookFile = path.join(options.out, `${truth.name}-results.xlsx`);
   const svgFile = path.join(options.out, `${truth.name}.svg`);
-  const workbook = resultsWorkbook({
+  const workbook = await resultsWorkbook({
     rows: table.rows,
     design,
     fit,

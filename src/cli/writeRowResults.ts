@@ -20,7 +20,7 @@ function csvField(value: string | number | boolean | null): string {
 export async function writeRowResults(file: string, input: ResultsWorkbookInput): Promise<void> {
   await fs.mkdir(path.dirname(path.resolve(file)), { recursive: true });
   if (/\.xlsx$/i.test(file)) {
-    await resultsWorkbook(input).xlsx.writeFile(file);
+    await (await resultsWorkbook(input)).xlsx.writeFile(file);
     return;
   }
   const { names, dataColumns, rows } = rowResults(input);

@@ -1,6 +1,6 @@
 import { promises as fs } from "fs";
 import * as path from "path";
-import ExcelJS from "exceljs";
+import type { Workbook } from "exceljs";
 import { SkeinError } from "../engine/errors";
 import { serialOfDate } from "./dateText";
 import type { DataTable, HeaderChoice } from "./dataTable";
@@ -42,7 +42,9 @@ async function readBytes(filePath: string): Promise<{ bytes: Uint8Array; name: s
   return { bytes, name, isText: TEXT_EXTENSIONS.has(extension) };
 }
 
-async function loadWorkbook(bytes: Uint8Array, name: string): Promise<ExcelJS.Workbook> {
+async function loadWorkbook(bytes: Uint8Array, name: string): Promise<Workbook> {
+  // Loaded only for a workbook: the package takes longer to load than a CSV file to read.
+  const { default: ExcelJS } = await import("exceljs");
   const workbook = new ExcelJS.Workbook();
   try {
     await workbook.xlsx.load(bytes.buffer.slice(bytes.byteOffset, bytes.byteOffset + bytes.byteLength) as ArrayBuffer);

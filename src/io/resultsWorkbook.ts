@@ -1,4 +1,4 @@
-import ExcelJS from "exceljs";
+import type { Row, Workbook } from "exceljs";
 import type { Design } from "../engine/design";
 import { exactComponents, isExactFit } from "../engine/exactFit";
 import type { MixtureFit } from "../engine/mixtureTypes";
@@ -49,7 +49,7 @@ export interface ResultsWorkbookInput {
   notes?: string[];
 }
 
-function header(row: ExcelJS.Row, columns: number, resultFrom: number): void {
+function header(row: Row, columns: number, resultFrom: number): void {
   for (let c = 1; c <= columns; c++) {
     const cell = row.getCell(c);
     cell.font = { bold: true, color: { argb: HEADER_TEXT } };
@@ -117,7 +117,9 @@ export function rowResults(input: Pick<ResultsWorkbookInput, "rows" | "design" |
  * their standard errors when given; sheet "Checks" the checks, every warning and the notes.
  * Numbers are stored as numbers with number formats (weights as percentages), not as text.
  */
-export function resultsWorkbook(input: ResultsWorkbookInput): ExcelJS.Workbook {
+export async function resultsWorkbook(input: ResultsWorkbookInput): Promise<Workbook> {
+  // Loaded only when a workbook is written: the package takes long to load.
+  const { default: ExcelJS } = await import("exceljs");
   const { design, fit } = input;
   const k = fit.k;
   const workbook = new ExcelJS.Workbook();
