@@ -147,6 +147,15 @@ describe("the one-pass road for files of plain numbers", () => {
     expect(table.names).toEqual(["Größe", "y"]);
   });
 
+  it("makes room for more rows than the first line's length foretells", () => {
+    // Invented: a long first line, then 500 short ones (the columns grow several times), blanks between.
+    const text = `a,b\n${"1.000000001,".repeat(1)}2.0000000002\n${Array.from({ length: 500 }, (_, i) => (i % 7 === 0 ? "\n" : `${i},${i % 3 === 0 ? "" : 2 * i}\n`)).join("")}`;
+    const road = csvTable(text, "growing.csv");
+    expect(road.numberColumns).toBeDefined();
+    expectSameTable(road, csvTableOfFields({ text }, "growing.csv"));
+    expect(road.dataRowNumbers.length).toBe(1 + 500 - Math.ceil(500 / 7));
+  });
+
   it("reads numbers of 16 and more significant digits, and exponents past 22, as Number() does", () => {
     // Invented cells beyond the exact whole-number and power-of-ten range, read through Number().
     const cells = ["0.30000000000000004", "9007199254740993", "1e23", "4.35e-22", "123456789.123456789", "-1.7976931348623157e308", "5e-324", "0.1e-30"];

@@ -56,16 +56,20 @@ export function findStrayRows(data: RegressionData, fit: MixtureFit): StrayRowsR
   const floor = EXACT_FIT_RELATIVE * (referenceSpread(y, n) || 0);
   const rows: StrayRow[] = [];
   const k = fit.k;
+  // Each component's coefficients over its noise SD, divided once rather than in every row.
+  const sigmas = fit.components.map((component) => Math.max(component.sigma, floor));
+  const scaled = fit.components.map(({ coefficients }, c) => coefficients.map((b) => b / sigmas[c]));
   for (let i = 0; i < n; i++) {
     let nearest = 0;
     let distance = Infinity;
     for (let c = 0; c < k; c++) {
       const { coefficients } = fit.components[c];
-      const sigma = Math.max(fit.components[c].sigma, floor);
+      const sigma = sigmas[c];
       let d: number;
       if (sigma > 0) {
-        let r = y[i] / sigma - coefficients[0] / sigma;
-        for (let j = 0; j < p; j++) r -= (coefficients[j + 1] / sigma) * x[i * p + j];
+        const over = scaled[c];
+        let r = y[i] / sigma - over[0];
+        for (let j = 0; j < p; j++) r -= over[j + 1] * x[i * p + j];
         d = Math.abs(r);
       } else {
         // An exact component (noise SD 0) explains exactly the rows it passes through.

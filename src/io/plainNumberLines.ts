@@ -48,36 +48,37 @@ export interface NumberLines {
  */
 export function readNumberLines(bytes: Uint8Array, start: number, firstLine: number, width: number): NumberLines | null {
   const length = bytes.length;
-  const capacity = countLineFeeds(bytes, start) + 1;
-  const columns = Array.from({ length: width }, () => new Float64Array(capacity));
+  let i = skipEmptyLines(bytes, start);
+  let line = firstLine + linesSkipped(bytes, start, i);
+  let columns: Float64Array[] = Array.from({ length: width }, () => new Float64Array(rowsEstimate(bytes, i, width)));
   const lineNumbers: number[] = [];
   let rows = 0;
-  let line = firstLine;
-  let i = skipEmptyLines(bytes, start);
-  line += linesSkipped(bytes, start, i);
   while (i < length) {
-    let lineEnd = bytes.indexOf(LF, i);
-    if (lineEnd < 0) lineEnd = length;
-    // Only a CRLF's CR may end the line's content (or a last line's lone CR).
-    const contentEnd = lineEnd > i && bytes[lineEnd - 1] === CR ? lineEnd - 1 : lineEnd;
+    if (rows === columns[0].length) columns = columns.map((column) => grown(column));
     let field = 0;
     let blankLine = true;
     let at = i;
     for (;;) {
-      // One field: spaces, a plain number or nothing, spaces, then a comma or the content's end.
-      while (at < contentEnd && isSpace(bytes[at])) at++;
+      // One field: spaces, a plain number or nothing, spaces, then a comma or the line's end.
+      while (at < length && isSpace(bytes[at])) at++;
       let value = NaN;
-      if (at < contentEnd && bytes[at] !== COMMA) {
-        value = readPlainNumber(bytes, at, contentEnd);
+      if (at < length && bytes[at] !== COMMA && bytes[at] !== LF && bytes[at] !== CR) {
+        value = readPlainNumber(bytes, at, length);
         if (!Number.isFinite(value) || numberEnd - at > PLAIN_NUMBER_MAX_LENGTH) return null;
         at = numberEnd;
-        while (at < contentEnd && isSpace(bytes[at])) at++;
+        while (at < length && isSpace(bytes[at])) at++;
         blankLine = false;
       }
       if (field >= width) return null;
       columns[field][rows] = value;
       field++;
-      if (at === contentEnd) break;
+      if (at >= length || bytes[at] === LF) break;
+      // A carriage return ends a line only before a line feed or at the end (CRLF); a lone one leaves the road.
+      if (bytes[at] === CR) {
+        if (at + 1 < length && bytes[at + 1] !== LF) return null;
+        at++;
+        break;
+      }
       if (bytes[at] !== COMMA) return null;
       blankLine = false;
       at++;
@@ -88,9 +89,10 @@ export function readNumberLines(bytes: Uint8Array, start: number, firstLine: num
       lineNumbers.push(line);
       rows++;
     }
-    if (lineEnd >= length) break;
-    const next = skipEmptyLines(bytes, lineEnd + 1);
-    line += 1 + linesSkipped(bytes, lineEnd + 1, next);
+    if (at >= length) break;
+    // `at` stands on the line feed that ends the line.
+    const next = skipEmptyLines(bytes, at + 1);
+    line += 1 + linesSkipped(bytes, at + 1, next);
     i = next;
   }
   // Rows of blanks at the end of the file (spreadsheet exports leave some) are dropped.
@@ -99,10 +101,27 @@ export function readNumberLines(bytes: Uint8Array, start: number, firstLine: num
   return { columns: columns.map((column) => column.subarray(0, rows)), rows, lineNumbers };
 }
 
-function countLineFeeds(bytes: Uint8Array, from: number): number {
-  let count = 0;
-  for (let at = bytes.indexOf(LF, from); at >= 0; at = bytes.indexOf(LF, at + 1)) count++;
-  return count;
+/**
+ * Room for the rows from `from` on: as many as lines of the first one's length fill the bytes,
+ * with a margin (lines of numbers vary little in length); at most one row per `width` bytes,
+ * the shortest a row can be (its commas and line end).
+ */
+function rowsEstimate(bytes: Uint8Array, from: number, width: number): number {
+  const rest = bytes.length - from;
+  let firstEnd = bytes.indexOf(LF, from);
+  if (firstEnd < 0) firstEnd = bytes.length;
+  const estimate = Math.ceil((ROWS_MARGIN * rest) / (firstEnd - from + 1)) + 16;
+  return Math.max(1, Math.min(estimate, Math.ceil(rest / width) + 1));
+}
+
+/** Room for this many times the first line's count of rows, before a column is grown. */
+const ROWS_MARGIN = 1.05;
+
+/** A column with half as much room again, its rows kept. */
+function grown(column: Float64Array): Float64Array {
+  const larger = new Float64Array(Math.ceil(column.length * 1.5) + 16);
+  larger.set(column);
+  return larger;
 }
 
 /** The first position at or after `from` that is no line end: empty lines hold no fields. */
