@@ -37,80 +37,101 @@ export interface NumberLines {
   lineNumbers: number[];
 }
 
+/** Lines read so far, for a file read in pieces: the columns (with room for more rows) and the next line's number. */
+export interface NumberLinesSoFar extends NumberLines {
+  line: number;
+}
+
+/** Nothing read yet: `width` columns with room for `rowsGuess` rows, the first data line numbered `firstLine`. */
+export function noNumberLines(width: number, rowsGuess: number, firstLine: number): NumberLinesSoFar {
+  return { columns: Array.from({ length: width }, () => new Float64Array(Math.max(1, rowsGuess))), rows: 0, lineNumbers: [], line: firstLine };
+}
+
 /**
- * Reads the lines of `bytes` from `start` (the line after the header, line `firstLine`) as rows
- * of `width` comma-separated fields, each blank or a plain decimal number (sign, digits, one
- * point, exponent; spaces or tabs around it), with LF or CRLF line ends. Empty lines and lines of
- * nothing but whitespace are no rows, and rows of blanks at the end are dropped, as the field
- * splitter does. Null as soon as a line holds anything else: a quote, a lone carriage return,
- * another byte (text, a byte of a non-ASCII character), a number that overflows, or another
- * number of fields than `width`.
+ * Reads the lines in bytes [start, end) into `read` as rows of its width of comma-separated
+ * fields, each blank or a plain decimal number (sign, digits, one point, exponent; spaces or tabs
+ * around it), with LF or CRLF line ends. `end` is the end of the file or stands just after a
+ * line feed (a file read in pieces is cut after its line feeds). Empty lines and lines of
+ * nothing but whitespace are no rows, as in the field splitter. False as soon as a line holds
+ * anything else: a quote, a lone carriage return, another byte (text, a byte of a non-ASCII
+ * character), a number that overflows, or another number of fields than the width.
  */
-export function readNumberLines(bytes: Uint8Array, start: number, firstLine: number, width: number): NumberLines | null {
-  const length = bytes.length;
-  let i = skipEmptyLines(bytes, start);
-  let line = firstLine + linesSkipped(bytes, start, i);
-  let columns: Float64Array[] = Array.from({ length: width }, () => new Float64Array(rowsEstimate(bytes, i, width)));
-  const lineNumbers: number[] = [];
-  let rows = 0;
-  while (i < length) {
+export function readNumberLines(read: NumberLinesSoFar, bytes: Uint8Array, start: number, end: number): boolean {
+  const width = read.columns.length;
+  const { lineNumbers } = read;
+  let { columns, rows } = read;
+  let i = skipEmptyLines(bytes, start, end);
+  let line = read.line + linesSkipped(bytes, start, i, end);
+  while (i < end) {
     if (rows === columns[0].length) columns = columns.map((column) => grown(column));
     let field = 0;
     let blankLine = true;
     let at = i;
     for (;;) {
       // One field: spaces, a plain number or nothing, spaces, then a comma or the line's end.
-      while (at < length && isSpace(bytes[at])) at++;
+      while (at < end && isSpace(bytes[at])) at++;
       let value = NaN;
-      if (at < length && bytes[at] !== COMMA && bytes[at] !== LF && bytes[at] !== CR) {
-        value = readPlainNumber(bytes, at, length);
-        if (!Number.isFinite(value) || numberEnd - at > PLAIN_NUMBER_MAX_LENGTH) return null;
+      if (at < end && bytes[at] !== COMMA && bytes[at] !== LF && bytes[at] !== CR) {
+        value = readPlainNumber(bytes, at, end);
+        if (!Number.isFinite(value) || numberEnd - at > PLAIN_NUMBER_MAX_LENGTH) return false;
         at = numberEnd;
-        while (at < length && isSpace(bytes[at])) at++;
+        while (at < end && isSpace(bytes[at])) at++;
         blankLine = false;
       }
-      if (field >= width) return null;
+      if (field >= width) return false;
       columns[field][rows] = value;
       field++;
-      if (at >= length || bytes[at] === LF) break;
+      if (at >= end || bytes[at] === LF) break;
       // A carriage return ends a line only before a line feed or at the end (CRLF); a lone one leaves the road.
       if (bytes[at] === CR) {
-        if (at + 1 < length && bytes[at + 1] !== LF) return null;
+        if (at + 1 < end && bytes[at + 1] !== LF) return false;
         at++;
         break;
       }
-      if (bytes[at] !== COMMA) return null;
+      if (bytes[at] !== COMMA) return false;
       blankLine = false;
       at++;
     }
     // A line of nothing but whitespace is no row (the splitter's rule); other rows need every field.
     if (!blankLine) {
-      if (field !== width) return null;
+      if (field !== width) return false;
       lineNumbers.push(line);
       rows++;
     }
-    if (at >= length) break;
+    if (at >= end) break;
     // `at` stands on the line feed that ends the line.
-    const next = skipEmptyLines(bytes, at + 1);
-    line += 1 + linesSkipped(bytes, at + 1, next);
+    const next = skipEmptyLines(bytes, at + 1, end);
+    line += 1 + linesSkipped(bytes, at + 1, next, end);
     i = next;
   }
-  // Rows of blanks at the end of the file (spreadsheet exports leave some) are dropped.
+  Object.assign(read, { columns, rows, line });
+  return true;
+}
+
+/** The data lines of `bytes` read in one go (readNumberLines), or null when they are no lines of plain numbers. */
+export function numberLinesOf(bytes: Uint8Array, width: number, firstLine: number): NumberLines | null {
+  let firstEnd = bytes.indexOf(LF);
+  if (firstEnd < 0) firstEnd = bytes.length;
+  const read = noNumberLines(width, rowsEstimate(bytes.length, firstEnd, width), firstLine);
+  return readNumberLines(read, bytes, 0, bytes.length) ? numberLinesRead(read) : null;
+}
+
+/** The lines read, rows of blanks at the end of the file (spreadsheet exports leave some) dropped. */
+export function numberLinesRead(read: NumberLinesSoFar): NumberLines {
+  const { columns, lineNumbers } = read;
+  let rows = read.rows;
   while (rows > 0 && columns.every((column) => Number.isNaN(column[rows - 1]))) rows--;
   lineNumbers.length = rows;
   return { columns: columns.map((column) => column.subarray(0, rows)), rows, lineNumbers };
 }
 
 /**
- * Room for the rows from `from` on: as many as lines of the first one's length fill the bytes,
- * with a margin (lines of numbers vary little in length); at most one row per `width` bytes,
- * the shortest a row can be (its commas and line end).
+ * Room for the rows of `rest` bytes whose first line is `firstLength` bytes long: as many as lines
+ * of its length fill them, with a margin (lines of numbers vary little in length); at most one row per
+ * `width` bytes, the shortest a row can be (its commas and line end).
  */
-function rowsEstimate(bytes: Uint8Array, from: number, width: number): number {
-  const rest = bytes.length - from;
-  let firstEnd = bytes.indexOf(LF, from);
-  if (firstEnd < 0) firstEnd = bytes.length;
-  const estimate = Math.ceil((ROWS_MARGIN * rest) / (firstEnd - from + 1)) + 16;
+export function rowsEstimate(rest: number, firstLength: number, width: number): number {
+  const estimate = Math.ceil((ROWS_MARGIN * rest) / (firstLength + 1)) + 16;
   return Math.max(1, Math.min(estimate, Math.ceil(rest / width) + 1));
 }
 
@@ -125,16 +146,16 @@ function grown(column: Float64Array): Float64Array {
 }
 
 /** The first position at or after `from` that is no line end: empty lines hold no fields. */
-function skipEmptyLines(bytes: Uint8Array, from: number): number {
+function skipEmptyLines(bytes: Uint8Array, from: number, end: number): number {
   let i = from;
-  while (i < bytes.length && (bytes[i] === LF || bytes[i] === CR)) i++;
+  while (i < end && (bytes[i] === LF || bytes[i] === CR)) i++;
   return i;
 }
 
 /** The line ends in [from, to): an LF, a CRLF or a lone CR each end one line. */
-function linesSkipped(bytes: Uint8Array, from: number, to: number): number {
+function linesSkipped(bytes: Uint8Array, from: number, to: number, end: number): number {
   let lines = 0;
-  for (let i = from; i < to; i++) if (bytes[i] === LF || bytes[i + 1] !== LF) lines++;
+  for (let i = from; i < to; i++) if (bytes[i] === LF || i + 1 >= end || bytes[i + 1] !== LF) lines++;
   return lines;
 }
 

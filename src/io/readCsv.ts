@@ -1,7 +1,7 @@
 import { SkeinError } from "../engine/errors";
 import { tableFromGrid, tableFromNumberColumns, type DataTable, type HeaderChoice } from "./dataTable";
 import { decodeText, type DecodedText } from "./decodeText";
-import { readNumberLines } from "./plainNumberLines";
+import { noNumberLines, numberLinesOf, numberLinesRead, readNumberLines, rowsEstimate } from "./plainNumberLines";
 import { readNumberText } from "./numberText";
 
 /**
@@ -242,49 +242,88 @@ function plainNumberHeader(headerText: string): string[] | null {
   }
 }
 
-/**
- * The table of a comma-separated file of plain numbers (the usual large export), its data lines
- * read straight from `bytes` from `bodyStart` into columns of doubles (readNumberLines), the
- * header being the file's first line, already decoded. The same table splitCsv's fields give
- * (tableFromNumberColumns), or null for any other file.
- */
-function plainNumberTable(headerText: string, bytes: Uint8Array, bodyStart: number, where: string): DataTable | null {
-  const header = plainNumberHeader(headerText);
-  if (header === null) return null;
-  const lines = readNumberLines(bytes, bodyStart, 2, header.length);
-  return lines && tableFromNumberColumns(header, lines.columns, lines.lineNumbers, where);
-}
+/** Reads the next bytes of a file into buffer[offset, offset + length); resolves to how many it read, 0 at the end. */
+export type ReadMore = (buffer: Uint8Array, offset: number, length: number) => Promise<number>;
+
+/** Bytes plainNumberCsv reads at a time: a piece of the file, never the whole. */
+const PIECE_BYTES = 1 << 20;
 
 const UTF16_MARKS = [[0xff, 0xfe], [0xfe, 0xff]];
 
 /**
- * The bytes of a .csv file as a DataTable, with the encoding decodeText finds. A file of plain
- * numbers under a header line (and the default header row) is read straight from its bytes:
- * its data lines are ASCII, so only the header line is decoded (in the encoding the whole file
- * would be: its data bytes are valid in every encoding), and the file's text is never made.
- * Any other file is decoded and split into fields. `file.bytes` is let go once read.
+ * A comma-separated file of plain numbers (the usual large export) as a DataTable, read piece by
+ * piece through `readMore` (the file's `size` bytes from its start) straight into columns of
+ * doubles (readNumberLines): neither the file's bytes nor its text is ever held whole. Only the
+ * header line is decoded, in the encoding the whole file would be read in (its data lines are
+ * ASCII, the same in every encoding decodeText knows). The same table as the field splitter
+ * gives (tableFromNumberColumns), or null for any other file, found at its header or at the
+ * first line that is no line of plain numbers: the caller then reads it whole.
  */
-export function csvFileTable(file: { bytes: Uint8Array }, where: string, choice: HeaderChoice = {}): { table: DataTable; encoding: DecodedText } {
-  const bytes = file.bytes;
-  const utf16 = UTF16_MARKS.some(([a, b]) => bytes[0] === a && bytes[1] === b);
-  if (choice.headerRow === undefined && !utf16) {
-    let headerEnd = bytes.indexOf(LF);
-    if (headerEnd < 0) headerEnd = bytes.length;
-    const headerBytes = bytes.subarray(0, headerEnd > 0 && bytes[headerEnd - 1] === CR ? headerEnd - 1 : headerEnd);
-    // A zero byte may make the whole file read as UTF-16 without a mark: decoded as a whole.
-    if (!headerBytes.includes(0)) {
-      const header = decodeText(headerBytes);
-      const table = plainNumberTable(header.text.charCodeAt(0) === 0xfeff ? header.text.slice(1) : header.text, bytes, headerEnd + 1, where);
-      if (table) {
-        file.bytes = new Uint8Array(0);
-        return { table, encoding: { ...header, text: "" } };
-      }
+export async function plainNumberCsv(
+  readMore: ReadMore, size: number, where: string, pieceBytes = PIECE_BYTES,
+): Promise<{ table: DataTable; encoding: Omit<DecodedText, "text"> } | null> {
+  let buffer = new Uint8Array(pieceBytes);
+  let filled = 0;
+  let ended = false;
+  const fill = async (): Promise<void> => {
+    while (filled < buffer.length && !ended) {
+      const got = await readMore(buffer, filled, buffer.length - filled);
+      if (got === 0) ended = true;
+      filled += got;
     }
+  };
+  // A line longer than the buffer (a header, a wide row) makes the buffer larger.
+  const grow = (): void => {
+    const larger = new Uint8Array(2 * buffer.length);
+    larger.set(buffer.subarray(0, filled));
+    buffer = larger;
+  };
+  await fill();
+  let headerEnd = buffer.subarray(0, filled).indexOf(LF);
+  while (headerEnd < 0 && !ended) {
+    grow();
+    await fill();
+    headerEnd = buffer.subarray(0, filled).indexOf(LF);
   }
-  const decoded = decodeText(bytes);
-  file.bytes = new Uint8Array(0);
-  const table = csvTableOf(decoded, where, choice);
-  return { table, encoding: { ...decoded, text: "" } };
+  if (headerEnd < 0) headerEnd = filled;
+  const head = plainNumberHead(buffer.subarray(0, headerEnd));
+  if (head === null) return null;
+  let start = headerEnd + 1;
+  let firstEnd = buffer.subarray(0, filled).indexOf(LF, start);
+  if (firstEnd < 0) firstEnd = filled;
+  const read = noNumberLines(head.names.length, rowsEstimate(size - start, firstEnd - start, head.names.length), 2);
+  for (;;) {
+    // The lines complete in the buffer: up to its last line feed, or all at the end of the file.
+    const cut = ended ? filled : buffer.subarray(0, filled).lastIndexOf(LF) + 1;
+    if (cut > start) {
+      if (!readNumberLines(read, buffer, start, cut)) return null;
+      start = cut;
+    }
+    if (ended) break;
+    // The unfinished line moves to the front, the next piece is read behind it.
+    buffer.copyWithin(0, start, filled);
+    filled -= start;
+    start = 0;
+    if (filled === buffer.length) grow();
+    await fill();
+  }
+  const lines = numberLinesRead(read);
+  const table = tableFromNumberColumns(head.names, lines.columns, lines.lineNumbers, where);
+  return table && { table, encoding: head.encoding };
+}
+
+/**
+ * The names of a header line of bytes (line end excluded) over lines of plain numbers, decoded,
+ * with the encoding; null when the file is UTF-16 or holds a zero byte in its header (it may be
+ * unmarked UTF-16: decoded as a whole) or when plainNumberHeader refuses the line.
+ */
+function plainNumberHead(line: Uint8Array): { names: string[]; encoding: Omit<DecodedText, "text"> } | null {
+  if (UTF16_MARKS.some(([a, b]) => line[0] === a && line[1] === b)) return null;
+  const content = line.length > 0 && line[line.length - 1] === CR ? line.subarray(0, line.length - 1) : line;
+  if (content.includes(0)) return null;
+  const decoded = decodeText(content);
+  const names = plainNumberHeader(decoded.text.charCodeAt(0) === 0xfeff ? decoded.text.slice(1) : decoded.text);
+  return names && { names, encoding: { encoding: decoded.encoding, noteworthy: decoded.noteworthy } };
 }
 
 /** CSV text as a DataTable: fields split, the decimal mark chosen, the column rule applied. */
@@ -303,8 +342,10 @@ export function csvTableOf(source: { text: string }, where: string, choice: Head
     const text = source.text.charCodeAt(0) === 0xfeff ? source.text.slice(1) : source.text;
     const headerEnd = indexOrLength(text, "\n", 0);
     const headerText = text.slice(0, headerEnd > 0 && text.charCodeAt(headerEnd - 1) === CR ? headerEnd - 1 : headerEnd);
+    const names = plainNumberHeader(headerText);
     // Text beyond ASCII in a data line is no plain number: encoded as UTF-8, its bytes stop the road.
-    const plain = plainNumberHeader(headerText) && plainNumberTable(headerText, new TextEncoder().encode(text.slice(headerEnd + 1)), 0, where);
+    const lines = names && numberLinesOf(new TextEncoder().encode(text.slice(headerEnd + 1)), names.length, 2);
+    const plain = names && lines && tableFromNumberColumns(names, lines.columns, lines.lineNumbers, where);
     if (plain) {
       source.text = "";
       return plain;

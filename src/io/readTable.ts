@@ -5,7 +5,7 @@ import { SkeinError } from "../engine/errors";
 import { serialOfDate } from "./dateText";
 import type { DataTable, HeaderChoice } from "./dataTable";
 import { decodeText } from "./decodeText";
-import { csvFileTable, parseCsv } from "./readCsv";
+import { csvTableOfFields, parseCsv, plainNumberCsv } from "./readCsv";
 import { sheetGrid, workbookTable, type WorkbookChoice } from "./workbookCells";
 
 /** A sheet of cells as a worksheet range would hold them: numbers, text, booleans, null for empty. */
@@ -22,24 +22,42 @@ const DAYS_1900_TO_1904 = 1462;
 
 /** Checks the path and extension; the bytes of the file. */
 async function readBytes(filePath: string): Promise<{ bytes: Uint8Array; name: string; isText: boolean }> {
+  const { name, isText } = await checkFile(filePath);
+  // A view of the file's buffer, not a copy: large files are read once into memory.
+  const buffer = await fs.readFile(filePath);
+  const bytes = new Uint8Array(buffer.buffer, buffer.byteOffset, buffer.byteLength);
+  return { bytes, name, isText };
+}
+
+/** Checks the path, extension and size: the file's name, its kind and its size in bytes. */
+async function checkFile(filePath: string): Promise<{ name: string; isText: boolean; size: number }> {
   const extension = path.extname(filePath).toLowerCase();
   const name = path.basename(filePath);
   if (!TEXT_EXTENSIONS.has(extension) && !WORKBOOK_EXTENSIONS.has(extension)) {
     const hint = extension === ".xls" || extension === ".ods" ? ` Save it as .xlsx or .csv first.` : "";
     throw new SkeinError("bad-input", `Cannot read ${name}: Skein reads .csv, .tsv and .xlsx files.${hint}`);
   }
+  let size: number;
   try {
     const stat = await fs.stat(filePath);
     if (stat.isDirectory()) throw new SkeinError("bad-input", `${filePath} is a folder; give the path of a .csv or .xlsx file.`);
+    size = stat.size;
   } catch (error) {
     if (error instanceof SkeinError) throw error;
     throw new SkeinError("bad-input", `No file at ${filePath}; check the path (it is read relative to ${process.cwd()}).`);
   }
-  // A view of the file's buffer, not a copy: large files are read once into memory.
-  const buffer = await fs.readFile(filePath);
-  const bytes = new Uint8Array(buffer.buffer, buffer.byteOffset, buffer.byteLength);
-  if (bytes.length === 0) throw new SkeinError("bad-input", `${name} is empty; it needs a header row and rows of data.`);
-  return { bytes, name, isText: TEXT_EXTENSIONS.has(extension) };
+  if (size === 0) throw new SkeinError("bad-input", `${name} is empty; it needs a header row and rows of data.`);
+  return { name, isText: TEXT_EXTENSIONS.has(extension), size };
+}
+
+/** A file of plain numbers read in pieces (plainNumberCsv), or null for any other file. */
+async function readPlainNumberFile(filePath: string, name: string, size: number): Promise<Awaited<ReturnType<typeof plainNumberCsv>>> {
+  const file = await fs.open(filePath, "r");
+  try {
+    return await plainNumberCsv(async (buffer, offset, length) => (await file.read(buffer, offset, length, null)).bytesRead, size, name);
+  } finally {
+    await file.close();
+  }
 }
 
 async function loadWorkbook(bytes: Uint8Array, name: string): Promise<Workbook> {
@@ -62,16 +80,19 @@ async function loadWorkbook(bytes: Uint8Array, name: string): Promise<Workbook> 
  * Every problem a user can fix is a SkeinError "bad-input" saying what to do.
  */
 export async function readDataTable(filePath: string, choice: WorkbookChoice = {}): Promise<DataTable> {
-  const file = await readBytes(filePath);
-  const { name, isText } = file;
-  if (isText) {
-    if (choice.sheet !== undefined) throw new SkeinError("bad-input", `${name} is a text file with no sheets; leave out the sheet name.`);
-    // The bytes (and the text, when made) are let go once read: a large file is not held three times.
-    const { table, encoding } = csvFileTable(file, name, choice as HeaderChoice);
-    if (encoding.noteworthy) table.notices.unshift(`Read ${name} as ${encoding.encoding} text${encoding.encoding === "Windows-1252" ? " (its bytes are not valid UTF-8)" : ""}.`);
-    return table;
+  const { name, isText, size } = await checkFile(filePath);
+  if (!isText) return workbookTable(await loadWorkbook((await readBytes(filePath)).bytes, name), name, choice);
+  if (choice.sheet !== undefined) throw new SkeinError("bad-input", `${name} is a text file with no sheets; leave out the sheet name.`);
+  // A file of plain numbers is read in pieces, never whole; any other file is read whole and
+  // decoded, the bytes let go once decoded and the text once split: a large file is not held three times.
+  let read = choice.headerRow === undefined ? await readPlainNumberFile(filePath, name, size) : null;
+  if (read === null) {
+    const decoded = decodeText((await readBytes(filePath)).bytes);
+    read = { encoding: { encoding: decoded.encoding, noteworthy: decoded.noteworthy }, table: csvTableOfFields(decoded, name, choice as HeaderChoice) };
   }
-  return workbookTable(await loadWorkbook(file.bytes, name), name, choice);
+  const { table, encoding } = read;
+  if (encoding.noteworthy) table.notices.unshift(`Read ${name} as ${encoding.encoding} text${encoding.encoding === "Windows-1252" ? " (its bytes are not valid UTF-8)" : ""}.`);
+  return table;
 }
 
 /**
