@@ -7,6 +7,15 @@ import { runEm } from "./runEm";
 
 /** Intermediate stage on n / INTERMEDIATE_FRACTION rows when n is over 2·INTERMEDIATE_FRACTION subsamples. */
 const INTERMEDIATE_FRACTION = 5;
+/**
+ * The intermediate stage stops once the gain in ln L still to come is below this many nats per
+ * free parameter. Its maximum lies from the full data's by sampling noise worth about
+ * ½(1 − 1/INTERMEDIATE_FRACTION) = 0.4 nats of its own ln L per parameter (half a χ² with one
+ * degree of freedom each), which the full-data iterations remove anyway; converging further
+ * than an eighth of that buys no full-data iteration. Measured on eight seeded 200,000 x 10,
+ * K = 3 problems: 2 intermediate iterations instead of 4-7, the same full-data iterations.
+ */
+const INTERMEDIATE_GAIN_PER_PARAMETER = 0.05;
 
 /** How the move to all rows went. */
 export interface OnAllRows {
@@ -32,7 +41,9 @@ export function finishOnAllRows(ctx: FitContext, incumbent: Incumbent): OnAllRow
     const rows = sampleIndices(full.n, Math.floor(full.n / INTERMEDIATE_FRACTION), ctx.random);
     // Only EM runs here: no copy of the predictors beyond the design (the joint model keeps one).
     const intermediate = withBackground(createWorkspace(ctx.data, settings.k, settings.intercept, full.joint, rows, false), settings.background, full);
-    subsampleIterations += runEm(intermediate, params, ctx, settings.maxIterations).iterations;
+    // Free parameters: k·q coefficients, k variances, k − 1 weights.
+    const enoughGain = INTERMEDIATE_GAIN_PER_PARAMETER * (settings.k * (full.q + 2) - 1);
+    subsampleIterations += runEm(intermediate, params, ctx, settings.maxIterations, null, enoughGain).iterations;
   }
   const fromSubsample = incumbent.run;
   const run = runEm(full, params, ctx, settings.maxIterations, incumbent.path);
