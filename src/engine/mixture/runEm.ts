@@ -15,8 +15,8 @@ const MAX_RESEEDS = 10;
  * EM (Dempster, Laird & Rubin 1977) from `params` (updated in place) until the relative
  * change of ln L, |ΔL| / max(|L|, n), drops below the tolerance, or the gain still to come does
  * (below), or `maxIterations` pass. The log-likelihood after each iteration goes to `path`
- * when one is given. A run whose result only starts a larger one may also stop once the change
- * or the gain still to come is below `enoughGain` nats.
+ * when one is given. A caller may also let it stop once the change or the gain still to come is
+ * below `enoughGain` nats, an absolute bound (finishOnAllRows.ts).
  *
  * Gain still to come: EM converges linearly, each change about a times the one before, so
  * what is left after a change Δ is about Δ·a/(1 − a) (Aitken's acceleration applied to the
