@@ -3,6 +3,7 @@ import { predictorLogDensity, predictorModels } from "./computeMemberships";
 import { LOG_TWO_PI, membershipsFromLogTerms } from "./logDensities";
 import { accumulateGramBlock, blockRowsFor, dot } from "./weightedGram";
 import { NEGLIGIBLE_MEMBERSHIP } from "./mixture/mStep";
+import { paddedCoefficients, rowResiduals } from "./mixture/eStep";
 
 /**
  * The observed information matrix of a mixture of regressions at a fit's parameters, by
@@ -90,6 +91,7 @@ export function observedInformation(data: RegressionData, fit: MixtureFit): Obse
   const constant = Float64Array.from(fit.components, (c) => Math.log(c.weight) - 0.5 * (LOG_TWO_PI + Math.log(c.sigma * c.sigma)));
   const coefficients = new Float64Array(k * q);
   fit.components.forEach((c, index) => coefficients.set(c.coefficients.subarray(shift, shift + q), index * q));
+  const padded = paddedCoefficients(coefficients, k, q);
 
   // β blocks: one q x q Gram (upper triangle) per pair c ≤ d, pair index pairIndex(c, d).
   const pairs = (k * (k + 1)) / 2;
@@ -116,10 +118,11 @@ export function observedInformation(data: RegressionData, fit: MixtureFit): Obse
   const gg = new Float64Array(k * k);
 
   // Block buffers, column-major with stride blockRows: the design (its intercept column of 1s
-  // filled once), residuals, per-row weights, the rows each component holds, gathered copies.
+  // filled once), per-row weights, the rows each component holds, gathered copies.
   const blockRows = blockRowsFor(q);
   const columns = new Float64Array(q * blockRows);
   columns.fill(1, 0, ones * blockRows);
+  // Residuals row by row, k to a row (rowResiduals writes them so).
   const residuals = new Float64Array(k * blockRows);
   const tau = new Float64Array(k * blockRows);
   const u = new Float64Array(k * blockRows);
@@ -141,17 +144,12 @@ export function observedInformation(data: RegressionData, fit: MixtureFit): Obse
     for (let r = 0; r < m; r++) {
       const from = (start + r) * p;
       for (let j = 0; j < p; j++) columns[(ones + j) * blockRows + r] = x[from + j];
-      for (let c = 0; c < k; c++) {
-        const beta = c * q;
-        let fitted = ones === 1 ? coefficients[beta] : 0;
-        for (let j = 0; j < p; j++) fitted += x[from + j] * coefficients[beta + ones + j];
-        residuals[c * blockRows + r] = y[start + r] - fitted;
-      }
+      rowResiduals(x, from - ones, ones, q, padded, k, y[start + r], residuals, r * k);
     }
     heldCount.fill(0);
     for (let r = 0; r < m; r++) {
       for (let c = 0; c < k; c++) {
-        const rc = residuals[c * blockRows + r];
+        const rc = residuals[r * k + c];
         let value = constant[c] - (0.5 * rc * rc) / variances[c];
         if (models) value += predictorLogDensity(models[c], x, (start + r) * p, p, predictorScratch);
         logTerm[c] = value;
@@ -170,7 +168,7 @@ export function observedInformation(data: RegressionData, fit: MixtureFit): Obse
         const at = c * blockRows + r;
         tau[at] = t;
         if (t < NEGLIGIBLE_MEMBERSHIP) continue;
-        const rc = residuals[at];
+        const rc = residuals[r * k + c];
         const w = inverseVariances[c];
         const alpha = rc * w;
         const gamma = 0.5 * (rc * rc * w - 1) * w;
