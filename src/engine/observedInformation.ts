@@ -3,6 +3,7 @@ import { predictorLogDensity, predictorModels } from "./computeMemberships";
 import { LOG_TWO_PI, membershipsFromLogTerms } from "./logDensities";
 import { accumulateGramBlock, blockRowsFor, dot } from "./weightedGram";
 import { NEGLIGIBLE_MEMBERSHIP } from "./mixture/mStep";
+import { paddedCoefficients, rowResiduals } from "./mixture/eStep";
 
 /**
  * The observed information matrix of a mixture of regressions at a fit's parameters, by
@@ -45,38 +46,38 @@ export interface ObservedInformation {
 }
 
 /**
- * Accumulated in one pass over the rows with the structure of the gradient written out (a_ik
- * is non-zero on component k's β (r x / v), its σ² and the logits), so that
- * Σ_k τ B − (Σ_k τ a aᵀ − s sᵀ) becomes, per row, a few scalars times x xᵀ, x or 1:
- *   β_c β_d:  x xᵀ · [δ_cd τ_c (1/v_c − α_c²) + τ_c α_c τ_d α_d],   α = r / v;
- *   β_c σ²_d: x · [δ_cd τ_c α_c (1/v_c − γ_c) + τ_c α_c τ_d γ_d],     γ = (r²/v − 1)/(2v);
- *   β_c η_j:  x · [−τ_c α_c (δ_cj − τ_j)];
- *   σ²_c σ²_d: δ_cd τ_c (r²/v³ − 1/(2v²) − γ_c²) + τ_c γ_c τ_d γ_d;
- *   σ²_c η_j: −τ_c γ_c (δ_cj − τ_j);   η_j η_l: n(π_j δ_jl − π_j π_l) − Σ_i (τ_j δ_jl − τ_j τ_l).
- * The rows go a block at a time: the per-row scalars first, then each β block as a weighted
- * Gram matrix (the weighted-Gram kernel, weightedGram.ts) over the rows where both memberships
- * reach NEGLIGIBLE_MEMBERSHIP (a term with a smaller one is below rounding: τ α stays under
- * about 7.4e-12 / σ however far the row lies), and the q-vectors as dot products over the
- * block. No n-sized array is made.
+ * Accumulated in one pass over the rows, a block at a time, with the structure of the gradient
+ * written out (a_ik is non-zero on component k's β (r x / v), its σ² and the logits), so that
+ * Σ_k τ B − (Σ_k τ a aᵀ − s sᵀ) becomes, per row, a few scalars times x xᵀ, x or 1
+ * (α = r / v, γ = (r²/v − 1)/(2v), u = τ α, g = τ γ, O = 1 − T):
+ *   β_c β_d:  x xᵀ · [δ_cd τ_c (1/v_c − α_c²) + u_c u_d];
+ *   β_c σ²_d: x · [δ_cd u_c (1/v_c − γ_c) + u_c g_d];
+ *   β_c η_j:  x · [−u_c (δ_cj − τ_j − O w_j)];
+ *   σ²_c σ²_d: δ_cd τ_c (r²/v³ − 1/(2v²) − γ_c²) + g_c g_d;
+ *   σ²_c η_j: −g_c (δ_cj − τ_j − O w_j);   η_j η_l: the expression above, from sums of τ, τ τ, O τ, T.
+ * Every term carries a membership as a factor, and one below NEGLIGIBLE_MEMBERSHIP leaves it
+ * below rounding (τ α stays under about 7.4e-12 / σ however far the row lies). So each
+ * component's terms are sums over the rows it holds, and each cross term (c ≠ d) over the rows
+ * both hold: on separated components most rows belong to one component alone and add to its own
+ * sums only. Per block: the design copied column-major and the residuals taken as each row is read, each
+ * row's memberships and scalars, then per component and per pair of components the rows they
+ * hold gathered and summed with the weighted-Gram kernel (weightedGram.ts) for the β blocks
+ * and dot products for the q-vectors. No n-sized array is made.
  */
 export function observedInformation(data: RegressionData, fit: MixtureFit): ObservedInformation {
   const k = fit.k;
   const p = data.p;
   const q = fit.intercept ? p + 1 : p;
-  const n = data.n;
-  const y = data.y;
-  const x = data.x;
+  const ones = q - p;
+  const { n, y, x } = data;
   const models = fit.model === "joint" ? predictorModels(fit) : null;
   const predictorScratch = new Float64Array(p);
-  // Each row's design values (a q-long scratch: no design copy).
-  const design = new Float64Array(q);
   const background = fit.background ?? null;
   // One more log term for the background, when the fit has one.
   const terms = background ? k + 1 : k;
   const logTerm = new Float64Array(terms);
   const posterior = new Float64Array(terms);
   if (background) logTerm[k] = Math.log(background.weight) + background.logDensity;
-  const residual = new Float64Array(k);
   const varianceOffset = k * q;
   const logitOffset = varianceOffset + k;
   const logits = k - 1;
@@ -86,114 +87,174 @@ export function observedInformation(data: RegressionData, fit: MixtureFit): Obse
   const weights = Float64Array.from(fit.components, (c) => c.weight / componentShare);
   const variances = Float64Array.from(fit.components, (c) => c.sigma * c.sigma);
   const inverseVariances = variances.map((v) => 1 / v);
-  const intercept = fit.intercept;
   const shift = fit.components[0].coefficients.length - q;
   const constant = Float64Array.from(fit.components, (c) => Math.log(c.weight) - 0.5 * (LOG_TWO_PI + Math.log(c.sigma * c.sigma)));
   const coefficients = new Float64Array(k * q);
   fit.components.forEach((c, index) => coefficients.set(c.coefficients.subarray(shift, shift + q), index * q));
+  const padded = paddedCoefficients(coefficients, k, q);
 
-  // Accumulators: one q x q Gram per component pair c ≤ d (upper triangle), q-vectors for the
-  // β-σ² and β-logit blocks, and the small σ²/logit blocks.
+  // β blocks: one q x q Gram (upper triangle) per pair c ≤ d, pair index pairIndex(c, d).
   const pairs = (k * (k + 1)) / 2;
+  const pairIndex = (c: number, d: number): number => c * k - (c * (c - 1)) / 2 + (d - c);
   const grams = new Float64Array(pairs * q * q);
-  const vectors = k * k + k * logits;
-  // β-σ² vectors (k·k of them) then β-logit vectors (k·logits), q each.
-  const betaVectors = new Float64Array(vectors * q);
-  const varianceVariance = new Float64Array(k * k);
-  const varianceLogit = new Float64Array(k * logits);
-  const logitLogit = new Float64Array(logits * logits);
-  // Per-row scalars, allocated once.
-  const tau = new Float64Array(k);
-  const alpha = new Float64Array(k);
-  const gamma = new Float64Array(k);
-  const curvature = new Float64Array(k);
-  // Block buffers: the design (column-major), each row's memberships, pair and vector weights,
-  // and the gathered columns of one pair's rows.
+  // q-vectors: per component Σ x u(1/v − γ + g) (its own σ²), Σ x · (−u(1 − τ − O w)) (its own
+  // logit), Σ x u O (the background's share); per ordered pair c ≠ d Σ x u_c g_d and Σ x u_c τ_d.
+  const ownVariance = new Float64Array(k * q);
+  const ownLogit = new Float64Array(k * q);
+  const ownOutside = new Float64Array(k * q);
+  const crossVariance = new Float64Array(k * k * q);
+  const crossLogit = new Float64Array(k * k * q);
+  // Scalars: Σ T, Σ T(2 − T), and per component or pair Σ τ, Σ O τ, Σ g, Σ g O,
+  // Σ τ (r²/v³ − 1/(2v²) − γ²), Σ τ_c τ_d, Σ g_c τ_d, Σ g_c g_d.
+  let totalShare = 0;
+  let squareShare = 0;
+  const tauSum = new Float64Array(k);
+  const outsideTau = new Float64Array(k);
+  const gSum = new Float64Array(k);
+  const gOutside = new Float64Array(k);
+  const curvatureSum = new Float64Array(k);
+  const tauTau = new Float64Array(k * k);
+  const gTau = new Float64Array(k * k);
+  const gg = new Float64Array(k * k);
+
+  // Block buffers, column-major with stride blockRows: the design (its intercept column of 1s
+  // filled once), per-row weights, the rows each component holds, gathered copies.
   const blockRows = blockRowsFor(q);
-  const block = new Float64Array(q * blockRows);
-  const blockTau = new Float64Array(k * blockRows);
-  const pairWeights = new Float64Array(pairs * blockRows);
-  const vectorWeights = new Float64Array(vectors * blockRows);
+  const columns = new Float64Array(q * blockRows);
+  columns.fill(1, 0, ones * blockRows);
+  // Residuals row by row, k to a row (rowResiduals writes them so).
+  const residuals = new Float64Array(k * blockRows);
+  const tau = new Float64Array(k * blockRows);
+  const u = new Float64Array(k * blockRows);
+  const g = new Float64Array(k * blockRows);
+  const gramWeight = new Float64Array(k * blockRows);
+  const varianceWeight = new Float64Array(k * blockRows);
+  const logitWeight = new Float64Array(k * blockRows);
+  const outside = new Float64Array(blockRows);
+  const held = new Int32Array(k * blockRows);
+  const heldCount = new Int32Array(k);
+  const active = new Int32Array(k);
   const gathered = new Float64Array(q * blockRows);
   const weighted = new Float64Array(q * blockRows);
-  const pairFirst = new Int32Array(pairs);
-  const pairSecond = new Int32Array(pairs);
-  for (let c = 0, t = 0; c < k; c++) for (let d = c; d < k; d++, t++) [pairFirst[t], pairSecond[t]] = [c, d];
+  const vectorWeights = new Float64Array(4 * blockRows);
 
   for (let start = 0; start < n; start += blockRows) {
     const m = Math.min(n, start + blockRows) - start;
+    // Each row read once, in order: copied into the block's columns and its residuals taken.
     for (let r = 0; r < m; r++) {
-      const i = start + r;
-      if (intercept) design[0] = 1;
-      for (let j = 0; j < p; j++) design[q - p + j] = x[i * p + j];
-      for (let j = 0; j < q; j++) block[j * blockRows + r] = design[j];
+      const from = (start + r) * p;
+      for (let j = 0; j < p; j++) columns[(ones + j) * blockRows + r] = x[from + j];
+      rowResiduals(x, from - ones, ones, q, padded, k, y[start + r], residuals, r * k);
+    }
+    heldCount.fill(0);
+    for (let r = 0; r < m; r++) {
       for (let c = 0; c < k; c++) {
-        let fitted = 0;
-        for (let j = 0; j < q; j++) fitted += design[j] * coefficients[c * q + j];
-        const residualValue = y[i] - fitted;
-        residual[c] = residualValue;
-        let value = constant[c] - (0.5 * residualValue * residualValue) / variances[c];
-        if (models) value += predictorLogDensity(models[c], x, i * p, p, predictorScratch);
+        const rc = residuals[r * k + c];
+        let value = constant[c] - (0.5 * rc * rc) / variances[c];
+        if (models) value += predictorLogDensity(models[c], x, (start + r) * p, p, predictorScratch);
         logTerm[c] = value;
       }
       membershipsFromLogTerms(logTerm, 0, terms, posterior, 0);
       let total = 0;
+      for (let c = 0; c < k; c++) total += posterior[c];
+      // Without a background the memberships sum to 1: the share outside is exactly 0.
+      const rowOutside = background ? 1 - total : 0;
+      outside[r] = rowOutside;
+      totalShare += total;
+      squareShare += total * (2 - total);
+      let activeCount = 0;
       for (let c = 0; c < k; c++) {
-        tau[c] = posterior[c];
-        total += posterior[c];
-      }
-      const outside = 1 - total;
-      for (let c = 0; c < k; c++) {
-        const rc = residual[c];
+        const t = posterior[c];
+        const at = c * blockRows + r;
+        tau[at] = t;
+        if (t < NEGLIGIBLE_MEMBERSHIP) continue;
+        const rc = residuals[r * k + c];
         const w = inverseVariances[c];
-        alpha[c] = rc * w;
-        gamma[c] = 0.5 * (rc * rc * w - 1) * w;
-        curvature[c] = (rc * rc * w - 0.5) * w * w;
-        blockTau[c * blockRows + r] = tau[c];
+        const alpha = rc * w;
+        const gamma = 0.5 * (rc * rc * w - 1) * w;
+        const curvature = (rc * rc * w - 0.5) * w * w;
+        const ta = t * alpha;
+        const tg = t * gamma;
+        u[at] = ta;
+        g[at] = tg;
+        gramWeight[at] = t * (w - alpha * alpha) + ta * ta;
+        varianceWeight[at] = ta * (w - gamma) + ta * tg;
+        logitWeight[at] = -ta * (1 - t - rowOutside * weights[c]);
+        tauSum[c] += t;
+        outsideTau[c] += rowOutside * t;
+        gSum[c] += tg;
+        gOutside[c] += tg * rowOutside;
+        curvatureSum[c] += t * (curvature - gamma * gamma);
+        held[c * blockRows + heldCount[c]++] = r;
+        active[activeCount++] = c;
       }
-      for (let t = 0; t < pairs; t++) {
-        const c = pairFirst[t];
-        const d = pairSecond[t];
-        pairWeights[t * blockRows + r] = (c === d ? tau[c] * (inverseVariances[c] - alpha[c] * alpha[c]) : 0) + tau[c] * alpha[c] * tau[d] * alpha[d];
-      }
-      for (let c = 0; c < k; c++) {
-        const ta = tau[c] * alpha[c];
-        const tg = tau[c] * gamma[c];
-        for (let d = 0; d < k; d++) {
-          vectorWeights[(c * k + d) * blockRows + r] = (c === d ? ta * (inverseVariances[c] - gamma[c]) : 0) + ta * tau[d] * gamma[d];
-          varianceVariance[c * k + d] += (c === d ? tau[c] * (curvature[c] - gamma[c] * gamma[c]) : 0) + tg * tau[d] * gamma[d];
-        }
-        for (let j = 0; j < logits; j++) {
-          const indicator = (c === j ? 1 : 0) - tau[j] - outside * weights[j];
-          vectorWeights[(k * k + c * logits + j) * blockRows + r] = -ta * indicator;
-          varianceLogit[c * logits + j] -= tg * indicator;
-        }
-      }
-      for (let j = 0; j < logits; j++) {
-        for (let l = 0; l < logits; l++) {
-          logitLogit[j * logits + l] +=
-            (j === l ? (total * weights[j] - tau[j]) : 0) + tau[j] * tau[l] + outside * (tau[j] * weights[l] + weights[j] * tau[l]) - (2 * total - total * total) * weights[j] * weights[l];
+      for (let a = 0; a < activeCount; a++) {
+        const c = active[a];
+        const tc = tau[c * blockRows + r];
+        const gc = g[c * blockRows + r];
+        for (let b = 0; b < activeCount; b++) {
+          const d = active[b];
+          const td = tau[d * blockRows + r];
+          tauTau[c * k + d] += tc * td;
+          gTau[c * k + d] += gc * td;
+          gg[c * k + d] += gc * g[d * blockRows + r];
         }
       }
     }
-    for (let e = 0; e < vectors; e++) {
-      for (let a = 0; a < q; a++) betaVectors[e * q + a] += dot(vectorWeights, e * blockRows, block, a * blockRows, m);
-    }
-    for (let t = 0; t < pairs; t++) {
-      const c = pairFirst[t];
-      const d = pairSecond[t];
-      let rows = 0;
-      for (let r = 0; r < m; r++) {
-        if (blockTau[c * blockRows + r] < NEGLIGIBLE_MEMBERSHIP || blockTau[d * blockRows + r] < NEGLIGIBLE_MEMBERSHIP) continue;
-        const w = pairWeights[t * blockRows + r];
+    for (let c = 0; c < k; c++) {
+      // The rows component c holds: its own β block and q-vectors.
+      const count = heldCount[c];
+      if (count === 0) continue;
+      const offset = c * blockRows;
+      for (let s = 0; s < count; s++) {
+        const r = held[offset + s];
+        const w = gramWeight[offset + r];
         for (let j = 0; j < q; j++) {
-          const value = block[j * blockRows + r];
-          gathered[j * blockRows + rows] = value;
-          weighted[j * blockRows + rows] = w * value;
+          const value = columns[j * blockRows + r];
+          gathered[j * blockRows + s] = value;
+          weighted[j * blockRows + s] = w * value;
         }
-        rows++;
+        vectorWeights[s] = varianceWeight[offset + r];
+        vectorWeights[blockRows + s] = logitWeight[offset + r];
+        vectorWeights[2 * blockRows + s] = u[offset + r] * outside[r];
       }
-      if (rows > 0) accumulateGramBlock(weighted, gathered, blockRows, rows, q, grams, t * q * q);
+      accumulateGramBlock(weighted, gathered, blockRows, count, q, grams, pairIndex(c, c) * q * q);
+      for (let a = 0; a < q; a++) {
+        ownVariance[c * q + a] += dot(vectorWeights, 0, gathered, a * blockRows, count);
+        ownLogit[c * q + a] += dot(vectorWeights, blockRows, gathered, a * blockRows, count);
+        if (background) ownOutside[c * q + a] += dot(vectorWeights, 2 * blockRows, gathered, a * blockRows, count);
+      }
+      // The rows held by c and a later component d: the cross terms.
+      for (let d = c + 1; d < k; d++) {
+        const other = d * blockRows;
+        let rows = 0;
+        for (let s = 0; s < count; s++) {
+          const r = held[offset + s];
+          if (tau[other + r] < NEGLIGIBLE_MEMBERSHIP) continue;
+          const uc = u[offset + r];
+          const ud = u[other + r];
+          const w = uc * ud;
+          for (let j = 0; j < q; j++) {
+            const value = columns[j * blockRows + r];
+            gathered[j * blockRows + rows] = value;
+            weighted[j * blockRows + rows] = w * value;
+          }
+          vectorWeights[rows] = uc * g[other + r];
+          vectorWeights[blockRows + rows] = ud * g[offset + r];
+          vectorWeights[2 * blockRows + rows] = uc * tau[other + r];
+          vectorWeights[3 * blockRows + rows] = ud * tau[offset + r];
+          rows++;
+        }
+        if (rows === 0) continue;
+        accumulateGramBlock(weighted, gathered, blockRows, rows, q, grams, pairIndex(c, d) * q * q);
+        for (let a = 0; a < q; a++) {
+          const column = a * blockRows;
+          crossVariance[(c * k + d) * q + a] += dot(vectorWeights, 0, gathered, column, rows);
+          crossVariance[(d * k + c) * q + a] += dot(vectorWeights, blockRows, gathered, column, rows);
+          crossLogit[(c * k + d) * q + a] += dot(vectorWeights, 2 * blockRows, gathered, column, rows);
+          crossLogit[(d * k + c) * q + a] += dot(vectorWeights, 3 * blockRows, gathered, column, rows);
+        }
+      }
     }
   }
 
@@ -202,30 +263,32 @@ export function observedInformation(data: RegressionData, fit: MixtureFit): Obse
     info[a * size + b] = value;
     info[b * size + a] = value;
   };
-  let pair = 0;
   for (let c = 0; c < k; c++) {
-    for (let d = c; d < k; d++, pair++) {
+    for (let d = c; d < k; d++) {
+      const gram = pairIndex(c, d) * q * q;
       for (let a = 0; a < q; a++) {
-        for (let b = 0; b < q; b++) {
-          const value = grams[pair * q * q + (a <= b ? a * q + b : b * q + a)];
-          info[(c * q + a) * size + d * q + b] = value;
-          info[(d * q + b) * size + c * q + a] = value;
-        }
+        for (let b = 0; b < q; b++) set(c * q + a, d * q + b, grams[gram + (a <= b ? a * q + b : b * q + a)]);
       }
     }
   }
   for (let c = 0; c < k; c++) {
     for (let d = 0; d < k; d++) {
-      for (let a = 0; a < q; a++) set(c * q + a, varianceOffset + d, betaVectors[(c * k + d) * q + a]);
-      info[(varianceOffset + c) * size + varianceOffset + d] = varianceVariance[c * k + d];
+      for (let a = 0; a < q; a++) set(c * q + a, varianceOffset + d, c === d ? ownVariance[c * q + a] : crossVariance[(c * k + d) * q + a]);
+      info[(varianceOffset + c) * size + varianceOffset + d] = (c === d ? curvatureSum[c] : 0) + gg[c * k + d];
     }
     for (let j = 0; j < logits; j++) {
-      for (let a = 0; a < q; a++) set(c * q + a, logitOffset + j, betaVectors[(k * k + c * logits + j) * q + a]);
-      set(varianceOffset + c, logitOffset + j, varianceLogit[c * logits + j]);
+      for (let a = 0; a < q; a++) {
+        const value = c === j ? ownLogit[c * q + a] : crossLogit[(c * k + j) * q + a] + weights[j] * ownOutside[c * q + a];
+        set(c * q + a, logitOffset + j, value);
+      }
+      set(varianceOffset + c, logitOffset + j, (c === j ? -gSum[c] : 0) + gTau[c * k + j] + weights[j] * gOutside[c]);
     }
   }
   for (let j = 0; j < logits; j++) {
-    for (let l = 0; l < logits; l++) info[(logitOffset + j) * size + logitOffset + l] = logitLogit[j * logits + l];
+    for (let l = 0; l < logits; l++) {
+      info[(logitOffset + j) * size + logitOffset + l] =
+        (j === l ? weights[j] * totalShare - tauSum[j] : 0) + tauTau[j * k + l] + weights[l] * outsideTau[j] + weights[j] * outsideTau[l] - squareShare * weights[j] * weights[l];
+    }
   }
   return { matrix: info, size, q, k, varianceOffset, logitOffset };
 }

@@ -66,16 +66,19 @@ function withoutBackgroundRows(data: RegressionData, fit: MixtureFit): Regressio
   const { n, p } = data;
   const backgroundTerm = Math.log(background.weight) + background.logDensity;
   const shift = fit.intercept ? 0 : 1;
+  // Each component's ln π − ln σ − ½ ln 2π, once rather than once a row.
+  const constants = fit.components.map((component) => Math.log(component.weight) - Math.log(component.sigma) - 0.5 * LOG_TWO_PI);
   const kept: number[] = [];
   for (let i = 0; i < n; i++) {
     let nearest = -Infinity;
-    for (const component of fit.components) {
+    for (let c = 0; c < fit.k; c++) {
+      const component = fit.components[c];
       const b = component.coefficients;
       let fitted = shift === 0 ? b[0] : 0;
       for (let j = 0; j < p; j++) fitted += b[j + 1] * data.x[i * p + j];
       // (r / σ)² from r / σ, so a residual near 1e154 overflows only to +Infinity here.
       const z = (data.y[i] - fitted) / component.sigma;
-      const term = Math.log(component.weight) - Math.log(component.sigma) - 0.5 * LOG_TWO_PI - 0.5 * z * z;
+      const term = constants[c] - 0.5 * z * z;
       if (term > nearest || Number.isNaN(term)) nearest = Number.isNaN(term) ? Infinity : term;
     }
     // The joint model adds each component's x density, which this leaves out: there only rows

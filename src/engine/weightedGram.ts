@@ -20,8 +20,9 @@ export function blockRowsFor(q: number): number {
 /**
  * Adds the upper triangle of Wᵀ X for one block (W = weighted columns, X = plain columns, both
  * q x m column-major with stride `stride`) into gram[offset + j·q + l], l ≥ j. Four weighted
- * columns share each load of a plain column (a 4 x 1 register block), so each loaded value
- * feeds four multiply-adds instead of one.
+ * columns meet two plain columns at a time (a 4 x 2 register block: six loads feed eight
+ * multiply-adds, against two loads per multiply-add for one entry at a time); each entry is
+ * still one running sum over the rows in order, so the sums do not depend on the blocking.
  */
 export function accumulateGramBlock(weighted: Float64Array, columns: Float64Array, stride: number, m: number, q: number, gram: Float64Array, offset: number): void {
   let j = 0;
@@ -30,7 +31,47 @@ export function accumulateGramBlock(weighted: Float64Array, columns: Float64Arra
     const w1 = w0 + stride;
     const w2 = w1 + stride;
     const w3 = w2 + stride;
-    for (let l = j; l < q; l++) {
+    const row = offset + j * q;
+    let l = j;
+    for (; l + 1 < q; l += 2) {
+      const x0 = l * stride;
+      const x1 = x0 + stride;
+      let s00 = 0;
+      let s10 = 0;
+      let s20 = 0;
+      let s30 = 0;
+      let s01 = 0;
+      let s11 = 0;
+      let s21 = 0;
+      let s31 = 0;
+      for (let i = 0; i < m; i++) {
+        const a = columns[x0 + i];
+        const b = columns[x1 + i];
+        const v0 = weighted[w0 + i];
+        const v1 = weighted[w1 + i];
+        const v2 = weighted[w2 + i];
+        const v3 = weighted[w3 + i];
+        s00 += v0 * a;
+        s10 += v1 * a;
+        s20 += v2 * a;
+        s30 += v3 * a;
+        s01 += v0 * b;
+        s11 += v1 * b;
+        s21 += v2 * b;
+        s31 += v3 * b;
+      }
+      // Entries left of the diagonal (column < j + t) are the lower triangle: computed, not stored.
+      gram[row + l] += s00;
+      gram[row + l + 1] += s01;
+      if (l >= j + 1) gram[row + q + l] += s10;
+      if (l + 1 >= j + 1) gram[row + q + l + 1] += s11;
+      if (l >= j + 2) gram[row + 2 * q + l] += s20;
+      if (l + 1 >= j + 2) gram[row + 2 * q + l + 1] += s21;
+      if (l >= j + 3) gram[row + 3 * q + l] += s30;
+      if (l + 1 >= j + 3) gram[row + 3 * q + l + 1] += s31;
+    }
+    if (l < q) {
+      // The last plain column when an odd number are left: a 4 x 1 block.
       const x = l * stride;
       let s0 = 0;
       let s1 = 0;
@@ -43,11 +84,10 @@ export function accumulateGramBlock(weighted: Float64Array, columns: Float64Arra
         s2 += weighted[w2 + i] * value;
         s3 += weighted[w3 + i] * value;
       }
-      // Entries left of the diagonal (l < j + t) are the lower triangle: computed, not stored.
-      gram[offset + j * q + l] += s0;
-      if (l >= j + 1) gram[offset + (j + 1) * q + l] += s1;
-      if (l >= j + 2) gram[offset + (j + 2) * q + l] += s2;
-      if (l >= j + 3) gram[offset + (j + 3) * q + l] += s3;
+      gram[row + l] += s0;
+      if (l >= j + 1) gram[row + q + l] += s1;
+      if (l >= j + 2) gram[row + 2 * q + l] += s2;
+      if (l >= j + 3) gram[row + 3 * q + l] += s3;
     }
   }
   for (; j < q; j++) {

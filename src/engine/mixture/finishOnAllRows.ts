@@ -4,9 +4,29 @@ import { createWorkspace } from "./mixtureWorkspace";
 import { withBackground } from "./backgroundComponent";
 import type { Incumbent } from "./refineBest";
 import { runEm } from "./runEm";
+import { DEFAULT_TOLERANCE } from "../options";
 
 /** Intermediate stage on n / INTERMEDIATE_FRACTION rows when n is over 2·INTERMEDIATE_FRACTION subsamples. */
 const INTERMEDIATE_FRACTION = 5;
+/**
+ * The intermediate stage stops once the gain in ln L still to come is below this many nats per
+ * free parameter. Its maximum lies from the full data's by sampling noise worth about
+ * ½(1 − 1/INTERMEDIATE_FRACTION) = 0.4 nats of its own ln L per parameter (half a χ² with one
+ * degree of freedom each), which the full-data iterations remove anyway; converging further
+ * than an eighth of that buys no full-data iteration. Measured on eight seeded 200,000 x 10,
+ * K = 3 problems: 2 intermediate iterations instead of 4-7, the same full-data iterations.
+ */
+const INTERMEDIATE_GAIN_PER_PARAMETER = 0.05;
+/**
+ * On all rows EM also stops once the gain in ln L still to come is below FULL_DATA_GAIN nats
+ * (at the default tolerance; in proportion to a tolerance set tighter or looser). Near the
+ * maximum ln L ≈ L̂ − ½ δᵀIδ (I the observed information), so a gap of ε nats leaves every
+ * parameter within sqrt(2ε) of its standard errors of the maximum (|δ_j| ≤ sqrt(δᵀIδ · (I⁻¹)_jj)):
+ * 0.005 nats is within a tenth of a standard error. Measured on eight seeded 200,000 x 10,
+ * K = 3 problems: 30 full-data iterations instead of 34, the worst coefficient 0.04-0.10
+ * standard errors from the fit converged to a tolerance of 1e-13.
+ */
+const FULL_DATA_GAIN = 0.005;
 
 /** How the move to all rows went. */
 export interface OnAllRows {
@@ -32,10 +52,12 @@ export function finishOnAllRows(ctx: FitContext, incumbent: Incumbent): OnAllRow
     const rows = sampleIndices(full.n, Math.floor(full.n / INTERMEDIATE_FRACTION), ctx.random);
     // Only EM runs here: no copy of the predictors beyond the design (the joint model keeps one).
     const intermediate = withBackground(createWorkspace(ctx.data, settings.k, settings.intercept, full.joint, rows, false), settings.background, full);
-    subsampleIterations += runEm(intermediate, params, ctx, settings.maxIterations).iterations;
+    // Free parameters: k·q coefficients, k variances, k − 1 weights.
+    const enoughGain = INTERMEDIATE_GAIN_PER_PARAMETER * (settings.k * (full.q + 2) - 1);
+    subsampleIterations += runEm(intermediate, params, ctx, settings.maxIterations, null, enoughGain).iterations;
   }
   const fromSubsample = incumbent.run;
-  const run = runEm(full, params, ctx, settings.maxIterations, incumbent.path);
+  const run = runEm(full, params, ctx, settings.maxIterations, incumbent.path, FULL_DATA_GAIN * (settings.tolerance / DEFAULT_TOLERANCE));
   run.reseeds += fromSubsample.reseeds;
   run.varianceBoundActive ||= fromSubsample.varianceBoundActive;
   incumbent.run = run;

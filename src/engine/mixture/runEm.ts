@@ -15,7 +15,8 @@ const MAX_RESEEDS = 10;
  * EM (Dempster, Laird & Rubin 1977) from `params` (updated in place) until the relative
  * change of ln L, |ΔL| / max(|L|, n), drops below the tolerance, or the gain still to come does
  * (below), or `maxIterations` pass. The log-likelihood after each iteration goes to `path`
- * when one is given.
+ * when one is given. A caller may also let it stop once the change or the gain still to come is
+ * below `enoughGain` nats, an absolute bound (finishOnAllRows.ts).
  *
  * Gain still to come: EM converges linearly, each change about a times the one before, so
  * what is left after a change Δ is about Δ·a/(1 − a) (Aitken's acceleration applied to the
@@ -24,10 +25,9 @@ const MAX_RESEEDS = 10;
  * the run stops an iteration or two earlier, with ln L within the same tolerance of its limit;
  * on large inputs each of those iterations is a full pass of the E- and M-steps.
  */
-export function runEm(ws: MixtureWorkspace, params: MixtureParameters, em: EmContext, maxIterations: number, path: number[] | null = null): EmRun {
+export function runEm(ws: MixtureWorkspace, params: MixtureParameters, em: EmContext, maxIterations: number, path: number[] | null = null, enoughGain = 0): EmRun {
   const { guards, random, signal } = em;
-  computeResiduals(ws, params);
-  let logLikelihood = eStep(ws, params);
+  let logLikelihood = eStep(ws, params, true);
   let converged = false;
   let iterations = 0;
   let reseeds = 0;
@@ -59,7 +59,7 @@ export function runEm(ws: MixtureWorkspace, params: MixtureParameters, em: EmCon
     logLikelihood = next;
     // n as the floor of the scale, so that a log-likelihood near 0 does not make the test
     // impossibly strict.
-    const allowed = em.tolerance * Math.max(Math.abs(next), ws.n);
+    const allowed = Math.max(em.tolerance * Math.max(Math.abs(next), ws.n), enoughGain);
     if (reseeded.length === 0 && (Math.abs(change) <= allowed || gainToCome(previousChange, change) <= allowed)) {
       converged = true;
       break;
