@@ -35,7 +35,7 @@ export function finishOnAllRows(ctx: FitContext, incumbent: Incumbent): OnAllRow
     subsampleIterations += runEm(intermediate, params, ctx, settings.maxIterations).iterations;
   }
   const fromSubsample = incumbent.run;
-  const run = runEm(full, params, ctx, settings.maxIterations, incumbent.path);
+  const run = runEm(full, params, ctx, settings.maxIterations, incumbent.path, ctx.unwanted?.stop ?? null);
   run.reseeds += fromSubsample.reseeds;
   run.varianceBoundActive ||= fromSubsample.varianceBoundActive;
   incumbent.run = run;

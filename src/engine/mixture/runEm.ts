@@ -24,7 +24,7 @@ const MAX_RESEEDS = 10;
  * the run stops an iteration or two earlier, with ln L within the same tolerance of its limit;
  * on large inputs each of those iterations is a full pass of the E- and M-steps.
  */
-export function runEm(ws: MixtureWorkspace, params: MixtureParameters, em: EmContext, maxIterations: number, path: number[] | null = null): EmRun {
+export function runEm(ws: MixtureWorkspace, params: MixtureParameters, em: EmContext, maxIterations: number, path: number[] | null = null, stop: EmStop | null = null): EmRun {
   const { guards, random, signal } = em;
   computeResiduals(ws, params);
   let logLikelihood = eStep(ws, params);
@@ -64,15 +64,23 @@ export function runEm(ws: MixtureWorkspace, params: MixtureParameters, em: EmCon
       converged = true;
       break;
     }
+    if (stop !== null && reseeded.length === 0 && stop(next, gainToCome(previousChange, change, 1))) return { logLikelihood, iterations, converged, reseeds, varianceBoundActive, stopped: true };
     previousChange = reseeded.length === 0 ? change : NaN;
   }
   return { logLikelihood, iterations, converged, reseeds, varianceBoundActive };
 }
 
-/** Aitken's estimate of the gain in ln L still to come after `change`, Infinity unless the last two changes shrink geometrically with ratio a ≤ 1/2. */
-function gainToCome(previousChange: number, change: number): number {
+/**
+ * Asked after each iteration of a run given one: whether the run may end before converging,
+ * from ln L and Aitken's estimate of the gain still to come (Infinity when the changes do not
+ * shrink). The run then reports `stopped`.
+ */
+export type EmStop = (logLikelihood: number, gainToCome: number) => boolean;
+
+/** Aitken's estimate of the gain in ln L still to come after `change`, Infinity unless the last two changes shrink geometrically with ratio a ≤ largestRatio (below 1). */
+function gainToCome(previousChange: number, change: number, largestRatio = 0.5): number {
   const ratio = change / previousChange;
-  return change > 0 && ratio > 0 && ratio <= 0.5 ? (change * ratio) / (1 - ratio) : Infinity;
+  return change > 0 && ratio > 0 && ratio <= largestRatio && ratio < 1 ? (change * ratio) / (1 - ratio) : Infinity;
 }
 
 export function checkSignal(signal: CancelSignal | undefined): void {
