@@ -322,6 +322,18 @@ describe("a fit that only matters below a BIC (mattersBelowBic, used by the K sc
     expect(fit.warnings.some((w) => /^Not converged:/.test(w))).toBe(false);
   });
 
+  it("on a large input the intermediate stage hands over to all rows early, where the stop ends the fit", () => {
+    // Invented: one regression on 2 predictors, 45,000 rows (over ten subsamples of 4,000, so
+    // the starts run on a subsample and an intermediate stage of a fifth of the rows follows).
+    const large = generateProblem({ n: 45000, p: 2, k: 1, seed: 32, sigma: 0.3, intercept: true });
+    const options = { k: 3, seed: 1, restructure: false };
+    const plain = fitMixture(large.data, options);
+    const bounded = fitMixture(large.data, { ...options, mattersBelowBic: { bic: -Infinity, reason: "invented reason" } });
+    expect(plain.refinement.subsampleRows).toBeGreaterThan(0);
+    expect(bounded.refinement.stopped).toBe("invented reason");
+    expect(bounded.refinement.subsampleIterations).toBeLessThan(plain.refinement.subsampleIterations ?? 0);
+  });
+
   it("changes nothing when any BIC matters", () => {
     const plain = fitMixture(problem.data, { k: 3, seed: 1, restructure: false });
     const bounded = fitMixture(problem.data, { k: 3, seed: 1, restructure: false, mattersBelowBic: { bic: Infinity, reason: "invented reason" } });

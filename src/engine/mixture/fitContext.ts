@@ -49,8 +49,8 @@ export interface FitContext extends EmContext {
    */
   expectExact: boolean;
   previous?: MixtureFit;
-  /** When the fit only matters below some BIC: the stop of its runs on all rows, and why (refineBest.ts). */
-  unwanted: { stop: EmStop; reason: string } | null;
+  /** When the fit only matters below some BIC: the stop of its runs on all rows, the ln L on all rows it must exceed, and why (refineBest.ts). */
+  unwanted: { stop: EmStop; needed: number; reason: string } | null;
 }
 
 /** A start after its brief refinement: where it came from, its parameters and log-likelihood. */

@@ -68,6 +68,10 @@ export function stopWhenUnwanted(options: MixtureOptions, full: MixtureWorkspace
   if (!wanted) return null;
   // ln L the fit must exceed for its BIC to come below wanted.bic.
   const needed = (countParameters(full, settings) * Math.log(full.n) - wanted.bic) / 2;
-  const stop: EmStop = (logLikelihood, gainToCome) => logLikelihood + STOP_GAIN_ALLOWANCE * gainToCome < needed;
-  return { stop, reason: wanted.reason };
+  return { stop: cannotReach(needed), needed, reason: wanted.reason };
+}
+
+/** The stop of a run whose ln L must exceed `needed` (with STOP_GAIN_ALLOWANCE times the gain still to come). */
+export function cannotReach(needed: number): EmStop {
+  return (logLikelihood, gainToCome) => logLikelihood + STOP_GAIN_ALLOWANCE * gainToCome < needed;
 }
