@@ -160,5 +160,7 @@ describe("a K that cannot change the suggestion", () => {
       expect(finished.rows[row.k - 1].bic).toBeGreaterThan(finished.rows[0].bic + BIC_TIE);
     }
     expect(convergedWord(scan.rows[0])).toBe("yes");
+    expect(scan.rule).toMatch(/was stopped early: it could not change the suggestion\.$/);
+    expect(finished.rule).not.toMatch(/stopped early/);
   });
 });

@@ -176,7 +176,8 @@ export function scanComponents(data: RegressionData, options: ScanOptions): Scan
   const rule =
     `Among the K whose fit converged, whose starts agree, whose components each hold enough rows, and whose components are all at least a gap of ${MIN_SUGGESTED_GAP} noise SD apart, ` +
     `take the lowest BIC, then the smallest K within ${BIC_TIE} BIC of it. With fewer than ${SMALL_SAMPLE_ROWS_PER_COEFFICIENT} rows per coefficient per component, ` +
-    `a K must also predict most rows left out of the fit (${CROSS_VALIDATION_FOLDS}-fold cross-validation) at least as well as every smaller K.`;
+    `a K must also predict most rows left out of the fit (${CROSS_VALIDATION_FOLDS}-fold cross-validation) at least as well as every smaller K.` +
+    (rows.some((row) => row.stopped !== null) ? ` A K whose BIC could not come within ${BIC_TIE} of the lowest so far, even with the gain still to come, was stopped early: it could not change the suggestion.` : "");
   for (const row of rows) row.note = noteFor(row, rows, chosenK);
   return { rows, chosenK, rule, stoppedEarly };
 }
