@@ -307,3 +307,41 @@ describe("bad input and cancellation", () => {
     }
   });
 });
+
+describe("a fit that only matters below a BIC (mattersBelowBic, used by the K scan)", () => {
+  // Invented: one regression on 3 predictors, 1,500 rows, noise SD 0.3, fitted with 3
+  // components, so EM crawls (the extra components fit noise).
+  const problem = generateProblem({ n: 1500, p: 3, k: 1, seed: 31, sigma: 0.3, intercept: true });
+
+  it("stops its refinement, reports why and is not converged, when the BIC cannot be reached", () => {
+    // A BIC of −Infinity can never be reached: the stop ends the first run on all rows whose changes shrink.
+    const fit = fitMixture(problem.data, { k: 3, seed: 1, restructure: false, mattersBelowBic: { bic: -Infinity, reason: "invented reason" } });
+    expect(fit.refinement.stopped).toBe("invented reason");
+    expect(fit.refinement.converged).toBe(false);
+    expect(fit.warnings.some((w) => /^Stopped early after \d+ iterations?, not converged: invented reason\.$/.test(w))).toBe(true);
+    expect(fit.warnings.some((w) => /^Not converged:/.test(w))).toBe(false);
+  });
+
+  it("on a large input the intermediate stage hands over to all rows early, where the stop ends the fit", () => {
+    // Invented: one regression on 2 predictors, 45,000 rows (over ten subsamples of 4,000, so
+    // the starts run on a subsample and an intermediate stage of a fifth of the rows follows).
+    // Fitted with 4 components; seed 34 is one where the plain intermediate stage runs more than
+    // the two iterations its own gain bound allows at best (7 against 2 when measured).
+    const large = generateProblem({ n: 45000, p: 2, k: 1, seed: 34, sigma: 0.3, intercept: true });
+    const options = { k: 4, seed: 1, restructure: false };
+    const plain = fitMixture(large.data, options);
+    const bounded = fitMixture(large.data, { ...options, mattersBelowBic: { bic: -Infinity, reason: "invented reason" } });
+    expect(plain.refinement.subsampleRows).toBeGreaterThan(0);
+    expect(bounded.refinement.stopped).toBe("invented reason");
+    expect(bounded.refinement.subsampleIterations).toBeLessThan(plain.refinement.subsampleIterations ?? 0);
+  });
+
+  it("changes nothing when any BIC matters", () => {
+    const plain = fitMixture(problem.data, { k: 3, seed: 1, restructure: false });
+    const bounded = fitMixture(problem.data, { k: 3, seed: 1, restructure: false, mattersBelowBic: { bic: Infinity, reason: "invented reason" } });
+    expect(bounded.refinement.stopped).toBeUndefined();
+    expect(bounded.logLikelihood).toBe(plain.logLikelihood);
+    expect(bounded.refinement.iterations).toBe(plain.refinement.iterations);
+    expect(bounded.refinement.converged).toBe(plain.refinement.converged);
+  });
+});

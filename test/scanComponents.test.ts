@@ -1,6 +1,6 @@
 import { describe, expect, it } from "vitest";
-import { scanComponents, suggestK, BIC_TIE } from "../src/engine/scanComponents";
-import { wellSeparatedProblem } from "../src/synthetic/generateProblems";
+import { convergedWord, scanComponents, suggestK, BIC_TIE } from "../src/engine/scanComponents";
+import { generateProblem, wellSeparatedProblem } from "../src/synthetic/generateProblems";
 import { createRandom } from "../src/engine/random";
 import { SkeinError } from "../src/engine/errors";
 
@@ -134,5 +134,33 @@ describe("cross-validation with a background component", () => {
     // about −1.5e6. With the background's share π₀ / V it costs about ln(0.02 / 5000) ≈ −12.
     expect(two.crossValidatedLogLikelihood).toBeGreaterThan(-5);
     expect(two.crossValidatedLogLikelihood).toBeGreaterThan(scan.rows[0].crossValidatedLogLikelihood);
+  });
+});
+
+describe("a K that cannot change the suggestion", () => {
+  it("stops early, says so, and the suggestion and the finished fits agree", () => {
+    // Invented: one regression on 2 predictors, 800 rows, noise SD 0.3 (generateProblem):
+    // more than 20 rows per coefficient per component up to K = 3, so the rule is BIC alone.
+    const problem = generateProblem({ n: 800, p: 2, k: 1, seed: 31, sigma: 0.3, intercept: true });
+    const scan = scanComponents(problem.data, { kMax: 3, seed: 1 });
+    // With cross-validation asked for no fit stops (the folds could rule a K out after the fits).
+    const finished = scanComponents(problem.data, { kMax: 3, seed: 1, crossValidate: true });
+    expect(scan.chosenK).toBe(1);
+    expect(finished.chosenK).toBe(1);
+    for (const row of finished.rows) expect(row.stopped).toBeNull();
+    const stopped = scan.rows.filter((row) => row.stopped !== null);
+    expect(stopped.length).toBeGreaterThan(0);
+    for (const row of stopped) {
+      expect(row.converged).toBe(false);
+      expect(convergedWord(row)).toBe("stopped");
+      expect(row.flag).toMatch(/^Not suggested: stopped early, not converged \(after \d+ iterations\): .*could not come within 6 of that of K = 1, so it could not change the suggestion/);
+      expect(row.note).toBe(row.flag);
+      // What it reached is more than the tie above K = 1, and so is the finished fit of that K.
+      expect(row.bic).toBeGreaterThan(scan.rows[0].bic + BIC_TIE);
+      expect(finished.rows[row.k - 1].bic).toBeGreaterThan(finished.rows[0].bic + BIC_TIE);
+    }
+    expect(convergedWord(scan.rows[0])).toBe("yes");
+    expect(scan.rule).toMatch(/was stopped early: it could not change the suggestion\.$/);
+    expect(finished.rule).not.toMatch(/stopped early/);
   });
 });

@@ -1,7 +1,7 @@
 import * as path from "path";
 import { SkeinError } from "../engine/errors";
 import type { MixtureModel } from "../engine/mixtureTypes";
-import { scanComponents } from "../engine/scanComponents";
+import { convergedWord, scanComponents } from "../engine/scanComponents";
 import { findStrayRows } from "../engine/strayRows";
 import type { OptionName } from "../engine/options";
 import { FILE_OPTIONS_HELP, optionFlags, optionHelp, parseArgs, parseHeaderRow, parseList, parseRowList, readBackground, readGivenOption, readOption, type FlagKinds } from "./args";
@@ -60,6 +60,8 @@ export interface ScanReportRow {
   startsAgree: boolean;
   /** The refinement stopped by its tolerance. */
   converged: boolean;
+  /** Present when the refinement stopped before converging because this K could not change the suggestion: why. */
+  stopped?: string;
   /** Smallest gap between two components in noise SDs; null for K = 1 (no pair) or unlimited (noise 0). */
   smallestGap: number | null;
   /** The same as smallestGap (its older name). */
@@ -155,6 +157,7 @@ export async function scanCommand(argv: readonly string[], io: CommandIO): Promi
       icl: row.icl,
       startsAgree: row.startsAgree,
       converged: row.converged,
+      ...(row.stopped !== null ? { stopped: row.stopped } : {}),
       smallestGap: Number.isFinite(row.minSeparation) ? row.minSeparation : null,
       minSeparation: Number.isFinite(row.minSeparation) ? row.minSeparation : null,
       ...(crossValidate || !Number.isNaN(row.crossValidatedLogLikelihood) ? { crossValidatedLogLikelihood: row.crossValidatedLogLikelihood } : {}),
@@ -199,7 +202,7 @@ export function formatScanTable(report: ScanReport, where: string): string {
       ...(hasCv ? [row.crossValidatedLogLikelihood === undefined ? "" : heldOut[r]] : []),
       gaps[r],
       row.startsAgree ? "yes" : "no",
-      row.converged ? "yes" : "no",
+      convergedWord({ converged: row.converged, stopped: row.stopped ?? null }),
       row.k === report.chosenK ? "<- suggested" : "",
     ]);
   });

@@ -6,7 +6,7 @@ import { checkInput, createGuards } from "./mixture/mixtureSettings";
 import { createWorkspace } from "./mixture/mixtureWorkspace";
 import { fitSingleComponent } from "./mixture/assembleFit";
 import { screenStarts } from "./mixture/screenStarts";
-import { refineBest } from "./mixture/refineBest";
+import { refineBest, stopWhenUnwanted } from "./mixture/refineBest";
 import { restructure } from "./mixture/restructure";
 import { finishOnAllRows } from "./mixture/finishOnAllRows";
 import { finishExactComponents } from "./mixture/finishExactComponents";
@@ -68,6 +68,7 @@ function fitAtDepth(data: RegressionData, options: MixtureOptions, depth: number
     tolerance: settings.tolerance,
     signal: options.signal,
     previous: options.previous,
+    unwanted: stopWhenUnwanted(options, full, settings),
   };
 
   const starts = screenStarts(ctx);

@@ -49,6 +49,12 @@ export interface MixtureOptions {
    * (default true). The K scan turns it off: it starts each K from the fit of K − 1 instead.
    */
   restructure?: boolean;
+  /**
+   * A BIC the fit only matters below (the K scan's lowest so far plus its tie): the refinement
+   * on all rows then stops once the fit's BIC cannot come below `bic` even with the gain in
+   * ln L still to come, and reports refinement.stopped = `reason`.
+   */
+  mattersBelowBic?: { bic: number; reason: string };
   signal?: CancelSignal;
 }
 
@@ -95,6 +101,8 @@ export interface RefinementReport {
   peeled?: number;
   /** Accepted split-and-merge moves. */
   splits?: number;
+  /** Why the refinement stopped before converging (the fit could not matter, see MixtureOptions.mattersBelowBic); absent otherwise. */
+  stopped?: string;
 }
 
 export interface MixtureFit {

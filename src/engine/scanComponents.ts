@@ -107,6 +107,9 @@ export function scanComponents(data: RegressionData, options: ScanOptions): Scan
   const rows: ScanRow[] = [];
   let previousFit: MixtureFit | null = null;
   let stoppedEarly: string | null = null;
+  // Cross-validation may flag a K after the fits, changing which K are eligible; a fit stopped
+  // because it could not matter (bicThatMatters) is safe only where it cannot.
+  const mayNeedCrossValidation = options.crossValidate === true || data.n < SMALL_SAMPLE_ROWS_PER_COEFFICIENT * kMax * q;
   for (let k = 1; k <= kMax; k++) {
     if (options.signal?.aborted) throw new SkeinError("cancelled", "The scan was cancelled.");
     if (k * (q + 1) > data.n) {
@@ -115,6 +118,7 @@ export function scanComponents(data: RegressionData, options: ScanOptions): Scan
       break;
     }
     const fitOptions = scanFitOptions(k, seed, options, rows);
+    if (!mayNeedCrossValidation) fitOptions.mattersBelowBic = bicThatMatters(rows);
     if (previousFit !== null) {
       const start = addComponentStart(data, previousFit);
       if (start !== null) fitOptions.previous = start;
@@ -172,7 +176,8 @@ export function scanComponents(data: RegressionData, options: ScanOptions): Scan
   const rule =
     `Among the K whose fit converged, whose starts agree, whose components each hold enough rows, and whose components are all at least a gap of ${MIN_SUGGESTED_GAP} noise SD apart, ` +
     `take the lowest BIC, then the smallest K within ${BIC_TIE} BIC of it. With fewer than ${SMALL_SAMPLE_ROWS_PER_COEFFICIENT} rows per coefficient per component, ` +
-    `a K must also predict most rows left out of the fit (${CROSS_VALIDATION_FOLDS}-fold cross-validation) at least as well as every smaller K.`;
+    `a K must also predict most rows left out of the fit (${CROSS_VALIDATION_FOLDS}-fold cross-validation) at least as well as every smaller K.` +
+    (rows.some((row) => row.stopped !== null) ? ` A K whose BIC could not come within ${BIC_TIE} of the lowest so far, even with the gain still to come, was stopped early: it could not change the suggestion.` : "");
   for (const row of rows) row.note = noteFor(row, rows, chosenK);
   return { rows, chosenK, rule, stoppedEarly };
 }
@@ -200,6 +205,20 @@ function scanFitOptions(k: number, seed: number, options: ScanOptions, rows: rea
 }
 
 /**
+ * The BIC below which the next K's fit could change the suggestion, with the reason a fit
+ * that cannot reach it is stopped (MixtureOptions.mattersBelowBic); undefined before any K.
+ * A K whose BIC ends more than BIC_TIE above the lowest eligible BIC so far is never within
+ * the tie of the final lowest (which can only fall) and never the lowest, so neither it nor
+ * its eligibility changes the suggestion. Its fit still reports the ln L and BIC it reached.
+ */
+function bicThatMatters(rows: readonly ScanRow[]): MixtureOptions["mattersBelowBic"] {
+  const eligible = rows.filter((row) => (row.flag === null || row.k === 1) && !Number.isNaN(row.bic));
+  if (eligible.length === 0) return undefined;
+  const best = eligible.reduce((a, b) => (b.bic < a.bic ? b : a));
+  return { bic: best.bic + BIC_TIE, reason: `even with the gain in log-likelihood still to come its BIC could not come within ${BIC_TIE} of that of K = ${best.k}, so it could not change the suggestion` };
+}
+
+/**
  * Why a K is not suggested, for every K but the suggested one: the reasons it could not be
  * suggested (flag), or else how it lost on BIC to the suggested K. Null for the suggested K.
  */
@@ -220,13 +239,19 @@ function noteFor(row: ScanRow, rows: readonly ScanRow[], chosenK: number): strin
   return row.flag;
 }
 
+/** A K's "converged" in words, for the scan tables: yes, no, or "stopped" when its fit stopped early because it could not change the suggestion (its note says why). */
+export function convergedWord(row: Pick<ScanRow, "converged" | "stopped">): string {
+  return row.converged ? "yes" : row.stopped !== null ? "stopped" : "no";
+}
+
 function scanRow(data: RegressionData, fit: MixtureFit): ScanRow {
   const k = fit.k;
   // BIC and ICL are the fit's own (computed once, when the fit is assembled).
   const separation = checkSeparation(data, fit);
   const agree = startsAgree(fit.warmStart);
   const reasons: string[] = [];
-  if (!fit.refinement.converged) reasons.push(`did not converge (stopped after ${fit.refinement.iterations} iterations)`);
+  if (fit.refinement.stopped !== undefined) reasons.push(`stopped early, not converged (after ${fit.refinement.iterations} iterations): ${fit.refinement.stopped}`);
+  else if (!fit.refinement.converged) reasons.push(`did not converge (stopped after ${fit.refinement.iterations} iterations)`);
   if (!agree) reasons.push("starts disagree: different starts reached nearly the same log-likelihood with different components");
   for (let c = 0; c < k; c++) {
     const reason = degenerateComponentReason(fit, c);
@@ -244,6 +269,7 @@ function scanRow(data: RegressionData, fit: MixtureFit): ScanRow {
     crossValidatedLogLikelihood: NaN,
     startsAgree: agree,
     converged: fit.refinement.converged,
+    stopped: fit.refinement.stopped ?? null,
     minSeparation: separation.minGap,
     flag: reasons.length > 0 ? `Not suggested: ${reasons.join("; ")}.` : null,
     note: null,

@@ -32,8 +32,13 @@ export interface ScanRow {
   crossValidatedLogLikelihood: number;
   /** The two best starts reached the same components (scanComponents' startsAgree). */
   startsAgree: boolean;
-  /** The refinement stopped by its tolerance, not by running out of iterations. */
+  /** The refinement stopped by its tolerance, not by running out of iterations or by `stopped`. */
   converged: boolean;
+  /**
+   * Why the refinement stopped before converging: its BIC could not come near enough to the
+   * lowest to change the suggestion (scanComponents); null when it ran to its end.
+   */
+  stopped: string | null;
   /** Smallest pairwise separation (noise units); Infinity when K = 1. */
   minSeparation: number;
   /** Why this K cannot be suggested (did not converge, starts disagree, too few rows, components too close), or null. */

@@ -43,7 +43,13 @@ export function warningsFor(state: PaneState): Warning[] {
       text: `Different starts reached nearly the same log-likelihood with different components, so this fit may be one of several that describe the data about equally well. Try another seed (change Seed and run the scan again), fewer components, or rescaling predictors whose sizes differ by powers of ten.`,
     });
   }
-  if (!fit.refinement.converged) {
+  if (fit.refinement.stopped !== undefined) {
+    out.push({
+      id: "refinement",
+      title: "Stopped early",
+      text: `The scan stopped this fit after ${fit.refinement.iterations} iterations, before it converged: ${fit.refinement.stopped}. Its figures are those it had reached.`,
+    });
+  } else if (!fit.refinement.converged) {
     out.push({
       id: "refinement",
       title: "Not converged",
@@ -60,7 +66,7 @@ export function warningsFor(state: PaneState): Warning[] {
   }
   const seen = new Set<string>();
   // The engine's own not-converged and starts-disagree warnings are shown above, with the pane's controls.
-  const engineWarnings = [...(description?.separation.warnings ?? []), ...fit.warnings].filter((text) => !/^(Not converged|Starts disagree):/.test(text));
+  const engineWarnings = [...(description?.separation.warnings ?? []), ...fit.warnings].filter((text) => !/^(Not converged|Starts disagree):|^Stopped early /.test(text));
   for (const text of engineWarnings) {
     if (seen.has(text)) continue;
     seen.add(text);
@@ -142,7 +148,8 @@ export function mountChecksSection(parent: HTMLElement, pane: Pane): { update(st
         box.appendChild(element("p", {}, w.text));
         warnings.appendChild(box);
       }
-      const unsettled = !startsAgree(fit.warmStart) || !fit.refinement.converged;
+      // Another seed does not finish a fit the scan stopped because it could not change the suggestion.
+      const unsettled = !startsAgree(fit.warmStart) || (!fit.refinement.converged && fit.refinement.stopped === undefined);
       trySeed.hidden = !unsettled || state.scanning;
       trySeed.textContent = `Run the scan again with seed ${state.seed + 1}`;
 
@@ -157,7 +164,7 @@ export function mountChecksSection(parent: HTMLElement, pane: Pane): { update(st
       measures.innerHTML =
         (exact ? `<div><dt>Exact fit</dt><dd>exact fit (noise about 0): every row lies on its component's regression</dd></div>` : "") +
         `<div><dt>Starts agree</dt><dd>${startsAgree(fit.warmStart) ? "yes" : "no"}</dd></div>` +
-        `<div><dt>Converged</dt><dd>${fit.refinement.converged ? "yes" : "no"} (${plural(fit.refinement.iterations, "iteration")})</dd></div>` +
+        `<div><dt>Converged</dt><dd>${fit.refinement.converged ? "yes" : fit.refinement.stopped !== undefined ? "stopped early" : "no"} (${plural(fit.refinement.iterations, "iteration")})</dd></div>` +
         `<div><dt>Smallest gap (noise SDs)</dt><dd>${smallestGap}</dd></div>` +
         `<div><dt>Misassigned rows (estimated share given the wrong component)</dt><dd>${formatShare(s.misclassification)}</dd></div>` +
         `<div><dt>Membership clarity (1 = every row clearly in one component)</dt><dd>${formatNumber(s.normalisedEntropy)}</dd></div>` +

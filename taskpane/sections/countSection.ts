@@ -3,6 +3,7 @@ import { element, section } from "../dom";
 import { formatColumn, formatNumber, plural } from "../format";
 import { CANNOT_BE_SUGGESTED_MARK } from "../bicChart";
 import { formatGap } from "../../src/report/formatNumber";
+import { convergedWord } from "../../src/engine/scanComponents";
 import type { MixtureModel } from "../../src/engine/mixtureTypes";
 import { optionControl } from "../optionControls";
 import type { Pane } from "../pane";
@@ -121,7 +122,7 @@ export function mountCountSection(parent: HTMLElement, pane: Pane): { update(sta
         tr.appendChild(element("td", {}, logLikelihood[r]));
         tr.appendChild(element("td", {}, row.k === 1 ? "—" : formatGap(row.minSeparation)));
         tr.appendChild(element("td", {}, row.startsAgree ? "yes" : "no"));
-        tr.appendChild(element("td", {}, row.converged ? "yes" : "no"));
+        tr.appendChild(element("td", {}, convergedWord(row)));
         // The same mark as the chart's: * on a K that cannot be suggested.
         const note = row.k === scan.chosenK ? "suggested" : row.flag !== null ? CANNOT_BE_SUGGESTED_MARK : "";
         tr.appendChild(element("td", { class: "note-cell" }, note));

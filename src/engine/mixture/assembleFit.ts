@@ -148,10 +148,16 @@ function reportedComponents(params: MixtureParameters, p: number, q: number, int
  * (Schwarz 1978); ICL = BIC + 2 EN with EN = −Σ τ ln τ (Biernacki, Celeux & Govaert 2000).
  */
 function informationCriteria(ws: MixtureWorkspace, settings: Settings, logLikelihood: number, entropy: number): { parameterCount: number; bic: number; icl: number } {
-  const { n, p, q, k } = ws;
+  const parameterCount = countParameters(ws, settings);
+  const bic = -2 * logLikelihood + parameterCount * Math.log(ws.n);
+  return { parameterCount, bic, icl: bic + 2 * entropy };
+}
+
+/** ν of the BIC (informationCriteria). */
+export function countParameters(ws: MixtureWorkspace, settings: Settings): number {
+  const { p, q, k } = ws;
   let parameterCount = k * (q + 2) - 1;
   if (settings.model === "joint") parameterCount += k * (p + (p * (p + 1)) / 2);
   if (ws.background) parameterCount += 1;
-  const bic = -2 * logLikelihood + parameterCount * Math.log(n);
-  return { parameterCount, bic, icl: bic + 2 * entropy };
+  return parameterCount;
 }

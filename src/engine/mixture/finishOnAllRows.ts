@@ -3,8 +3,12 @@ import type { FitContext } from "./fitContext";
 import { createWorkspace } from "./mixtureWorkspace";
 import { withBackground } from "./backgroundComponent";
 import type { Incumbent } from "./refineBest";
-import { runEm } from "./runEm";
+import { runEm, type EmStop } from "./runEm";
 import { DEFAULT_TOLERANCE } from "../options";
+import type { MixtureParameters } from "./mixtureParameters";
+import type { MixtureWorkspace } from "./mixtureWorkspace";
+import { computeResiduals, eStep } from "./eStep";
+import { cannotReach } from "./refineBest";
 
 /** Intermediate stage on n / INTERMEDIATE_FRACTION rows when n is over 2·INTERMEDIATE_FRACTION subsamples. */
 const INTERMEDIATE_FRACTION = 5;
@@ -54,12 +58,35 @@ export function finishOnAllRows(ctx: FitContext, incumbent: Incumbent): OnAllRow
     const intermediate = withBackground(createWorkspace(ctx.data, settings.k, settings.intercept, full.joint, rows, false), settings.background, full);
     // Free parameters: k·q coefficients, k variances, k − 1 weights.
     const enoughGain = INTERMEDIATE_GAIN_PER_PARAMETER * (settings.k * (full.q + 2) - 1);
-    subsampleIterations += runEm(intermediate, params, ctx, settings.maxIterations, null, enoughGain).iterations;
+    subsampleIterations += runEm(intermediate, params, ctx, settings.maxIterations, null, { enoughGain, stop: intermediateStop(ctx, intermediate, params) }).iterations;
   }
   const fromSubsample = incumbent.run;
-  const run = runEm(full, params, ctx, settings.maxIterations, incumbent.path, FULL_DATA_GAIN * (settings.tolerance / DEFAULT_TOLERANCE));
+  const run = runEm(full, params, ctx, settings.maxIterations, incumbent.path, {
+    enoughGain: FULL_DATA_GAIN * (settings.tolerance / DEFAULT_TOLERANCE),
+    stop: ctx.unwanted?.stop ?? null,
+  });
   run.reseeds += fromSubsample.reseeds;
   run.varianceBoundActive ||= fromSubsample.varianceBoundActive;
   incumbent.run = run;
   return { subsampleIterations, membershipsCurrent: true };
+}
+
+/**
+ * For a fit that may not matter (ctx.unwanted): the intermediate stage hands over to all rows
+ * once its gain in ln L since the start, scaled to all rows (n / its rows), cannot bring the
+ * all-rows ln L at the start to the one needed. The decision stays with the run on all rows,
+ * whose own stop ends the fit or which runs on to convergence; this only spares a fit with
+ * more components than groups the intermediate stage's slow iterations (one pass on all rows
+ * and one on the intermediate rows to measure the start).
+ */
+function intermediateStop(ctx: FitContext, intermediate: MixtureWorkspace, params: MixtureParameters): EmStop | null {
+  if (!ctx.unwanted) return null;
+  const { full } = ctx;
+  computeResiduals(full, params);
+  const startOnAll = eStep(full, params);
+  computeResiduals(intermediate, params);
+  const startHere = eStep(intermediate, params);
+  const scale = intermediate.n / full.n;
+  // ln L here that stands for the needed ln L on all rows.
+  return cannotReach(startHere + (ctx.unwanted.needed - startOnAll) * scale);
 }

@@ -3,6 +3,7 @@ import type { Random } from "../random";
 import type { MixtureParameters } from "./mixtureParameters";
 import type { MixtureWorkspace } from "./mixtureWorkspace";
 import type { Guards } from "./mStep";
+import type { EmStop } from "./runEm";
 
 /** The options of one fit after the entrance checks (mixtureSettings.ts). */
 export interface Settings {
@@ -48,6 +49,8 @@ export interface FitContext extends EmContext {
    */
   expectExact: boolean;
   previous?: MixtureFit;
+  /** When the fit only matters below some BIC: the stop of its runs on all rows, the ln L on all rows it must exceed, and why (refineBest.ts). */
+  unwanted: { stop: EmStop; needed: number; reason: string } | null;
 }
 
 /** A start after its brief refinement: where it came from, its parameters and log-likelihood. */
@@ -64,4 +67,6 @@ export interface EmRun {
   converged: boolean;
   reseeds: number;
   varianceBoundActive: boolean;
+  /** The run's EmStop ended it before it converged. */
+  stopped?: boolean;
 }

@@ -51,9 +51,12 @@ export function reportFit(ctx: FitContext, outcome: PipelineOutcome): MixtureFit
     polished: finished.polished,
     peeled: finished.peeled,
     splits,
+    ...(run.stopped && ctx.unwanted ? { stopped: ctx.unwanted.reason } : {}),
   };
   const warnings: string[] = [];
-  if (!run.converged) {
+  if (refinement.stopped !== undefined) {
+    warnings.push(`Stopped early after ${run.iterations} iteration${run.iterations === 1 ? "" : "s"}, not converged: ${refinement.stopped}.`);
+  } else if (!run.converged) {
     warnings.push(`Not converged: the fit stopped after ${run.iterations} iteration${run.iterations === 1 ? "" : "s"} while the log-likelihood was still changing, so it may not be at its best. Try fewer components or another seed.`);
   }
   if (startsDisagree) {

@@ -16,7 +16,8 @@ const MAX_RESEEDS = 10;
  * change of ln L, |ΔL| / max(|L|, n), drops below the tolerance, or the gain still to come does
  * (below), or `maxIterations` pass. The log-likelihood after each iteration goes to `path`
  * when one is given. A caller may also let it stop once the change or the gain still to come is
- * below `enoughGain` nats, an absolute bound (finishOnAllRows.ts).
+ * below `ends.enoughGain` nats, an absolute bound (finishOnAllRows.ts), and may end it before it
+ * converges through `ends.stop` (the run then reports `stopped`).
  *
  * Gain still to come: EM converges linearly, each change about a times the one before, so
  * what is left after a change Δ is about Δ·a/(1 − a) (Aitken's acceleration applied to the
@@ -25,7 +26,8 @@ const MAX_RESEEDS = 10;
  * the run stops an iteration or two earlier, with ln L within the same tolerance of its limit;
  * on large inputs each of those iterations is a full pass of the E- and M-steps.
  */
-export function runEm(ws: MixtureWorkspace, params: MixtureParameters, em: EmContext, maxIterations: number, path: number[] | null = null, enoughGain = 0): EmRun {
+export function runEm(ws: MixtureWorkspace, params: MixtureParameters, em: EmContext, maxIterations: number, path: number[] | null = null, ends: EmEnds = {}): EmRun {
+  const { enoughGain = 0, stop = null } = ends;
   const { guards, random, signal } = em;
   let logLikelihood = eStep(ws, params, true);
   let converged = false;
@@ -64,15 +66,31 @@ export function runEm(ws: MixtureWorkspace, params: MixtureParameters, em: EmCon
       converged = true;
       break;
     }
+    if (stop !== null && reseeded.length === 0 && stop(next, gainToCome(previousChange, change, 1))) return { logLikelihood, iterations, converged, reseeds, varianceBoundActive, stopped: true };
     previousChange = reseeded.length === 0 ? change : NaN;
   }
   return { logLikelihood, iterations, converged, reseeds, varianceBoundActive };
 }
 
-/** Aitken's estimate of the gain in ln L still to come after `change`, Infinity unless the last two changes shrink geometrically with ratio a ≤ 1/2. */
-function gainToCome(previousChange: number, change: number): number {
+/** Optional ends of a run besides the tolerance and the iteration limit. */
+export interface EmEnds {
+  /** Also converged once the change or the gain still to come is below this many nats. */
+  enoughGain?: number;
+  /** Asked after each iteration whether the run may end before converging. */
+  stop?: EmStop | null;
+}
+
+/**
+ * Asked after each iteration of a run given one: whether the run may end before converging,
+ * from ln L and Aitken's estimate of the gain still to come (Infinity when the changes do not
+ * shrink). The run then reports `stopped`.
+ */
+export type EmStop = (logLikelihood: number, gainToCome: number) => boolean;
+
+/** Aitken's estimate of the gain in ln L still to come after `change`, Infinity unless the last two changes shrink geometrically with ratio a ≤ largestRatio (below 1). */
+function gainToCome(previousChange: number, change: number, largestRatio = 0.5): number {
   const ratio = change / previousChange;
-  return change > 0 && ratio > 0 && ratio <= 0.5 ? (change * ratio) / (1 - ratio) : Infinity;
+  return change > 0 && ratio > 0 && ratio <= largestRatio && ratio < 1 ? (change * ratio) / (1 - ratio) : Infinity;
 }
 
 export function checkSignal(signal: CancelSignal | undefined): void {
