@@ -53,48 +53,56 @@ export function subspaceMixtureFit(z: Float64Array, y: Float64Array, n: number, 
     }
     for (let a = 0; a < m; a++) products[t++] = z[row + a] * y[i];
   }
-  const sums = new Float64Array(width);
+  // One pass over the rows adds each row's products into the sums of every component that
+  // holds it (the products are read once per iteration instead of once per component); each
+  // component's sums still run over the rows in order, so the result is the same to the bit.
+  const sums = new Float64Array(k * width);
+  const masses = new Float64Array(k);
+  const solved = new Uint8Array(k);
+  // Squared residuals of every row under every component, shared by the variances and the E-step.
+  const squares = new Float64Array(n * k);
+  const rss = new Float64Array(k);
   let logLikelihood = -Infinity;
   for (let iteration = 0; iteration < iterations; iteration++) {
     // M-step: weighted least squares per component through the m x m normal equations
     // (m = K is tiny and the projected columns are close to orthonormal).
-    for (let j = 0; j < k; j++) {
-      sums.fill(0);
-      let mass = 0;
-      for (let i = 0; i < n; i++) {
+    sums.fill(0);
+    masses.fill(0);
+    for (let i = 0; i < n; i++) {
+      const base = i * width;
+      for (let j = 0; j < k; j++) {
         const t = tau[i * k + j];
         // Negligible memberships are left out (they change nothing visible). In the subspace the
         // missed part of each component acts as noise, so memberships stay soft and few are
         // skipped: the M-step costs about n·K·width multiply-adds per iteration.
         if (t < MEMBERSHIP_CUTOFF) continue;
-        mass += t;
-        const base = i * width;
-        for (let e = 0; e < width; e++) sums[e] += t * products[base + e];
+        masses[j] += t;
+        const out = j * width;
+        for (let e = 0; e < width; e++) sums[out + e] += t * products[base + e];
       }
-      let e = 0;
+    }
+    for (let j = 0; j < k; j++) {
+      let e = j * width;
       for (let a = 0; a < m; a++) for (let b = 0; b <= a; b++) gram[b * m + a] = sums[e++];
       for (let a = 0; a < m; a++) right[a] = sums[e++];
-      weights[j] = Math.max(mass / n, 1e-12);
-      if (!scaledCholeskySolve(gram, right, m, coefficients[j], scratch, false)) continue;
-      let rss = 0;
-      for (let i = 0; i < n; i++) {
-        const row = i * m;
-        let fitted = 0;
-        for (let a = 0; a < m; a++) fitted += z[row + a] * coefficients[j][a];
-        rss += tau[i * k + j] * (y[i] - fitted) ** 2;
-      }
-      variances[j] = Math.max(floor, mass > 0 ? rss / mass : meanSquare);
+      weights[j] = Math.max(masses[j] / n, 1e-12);
+      solved[j] = scaledCholeskySolve(gram, right, m, coefficients[j], scratch, false) ? 1 : 0;
     }
-    // E-step through the kernel (log-sum-exp).
-    for (let j = 0; j < k; j++) logDensity[j] = Math.log(weights[j]) - 0.5 * (LOG_TWO_PI + Math.log(variances[j]));
+    rss.fill(0);
     for (let i = 0; i < n; i++) {
       const row = i * m;
       for (let j = 0; j < k; j++) {
         let fitted = 0;
         for (let a = 0; a < m; a++) fitted += z[row + a] * coefficients[j][a];
-        tau[i * k + j] = logDensity[j] - (0.5 * (y[i] - fitted) ** 2) / variances[j];
+        const square = (y[i] - fitted) ** 2;
+        squares[i * k + j] = square;
+        rss[j] += tau[i * k + j] * square;
       }
     }
+    for (let j = 0; j < k; j++) if (solved[j]) variances[j] = Math.max(floor, masses[j] > 0 ? rss[j] / masses[j] : meanSquare);
+    // E-step through the kernel (log-sum-exp).
+    for (let j = 0; j < k; j++) logDensity[j] = Math.log(weights[j]) - 0.5 * (LOG_TWO_PI + Math.log(variances[j]));
+    for (let t = 0; t < n * k; t++) tau[t] = logDensity[t % k] - (0.5 * squares[t]) / variances[t % k];
     logLikelihood = normaliseLogDensities(tau, n, k);
   }
   return { coefficients, memberships: tau, logLikelihood };
