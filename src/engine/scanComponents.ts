@@ -96,6 +96,8 @@ export const CROSS_VALIDATION_FOLDS = 5;
  *  - A K whose predecessor's BIC is above the lowest so far gets no random-partition restarts:
  *    the add start, the moment warm start and the seeded starts place them.
  *  - The cross-validation folds start from the full-data fit of the same K and only refine it.
+ *  - Where the rule is BIC alone, a K whose fit cannot come within BIC_TIE of the lowest BIC so
+ *    far stops early (bicThatMatters): it could not change the suggestion. Its row says so.
  */
 export function scanComponents(data: RegressionData, options: ScanOptions): ScanResult {
   const kMax = options.kMax;
@@ -212,7 +214,7 @@ function scanFitOptions(k: number, seed: number, options: ScanOptions, rows: rea
  * its eligibility changes the suggestion. Its fit still reports the ln L and BIC it reached.
  */
 function bicThatMatters(rows: readonly ScanRow[]): MixtureOptions["mattersBelowBic"] {
-  const eligible = rows.filter((row) => (row.flag === null || row.k === 1) && !Number.isNaN(row.bic));
+  const eligible = eligibleRows(rows);
   if (eligible.length === 0) return undefined;
   const best = eligible.reduce((a, b) => (b.bic < a.bic ? b : a));
   return { bic: best.bic + BIC_TIE, reason: `even with the gain in log-likelihood still to come its BIC could not come within ${BIC_TIE} of that of K = ${best.k}, so it could not change the suggestion` };
@@ -277,11 +279,17 @@ function scanRow(data: RegressionData, fit: MixtureFit): ScanRow {
   };
 }
 
+/**
+ * The K the rule may suggest: unflagged, or K = 1. A BIC that is no number cannot win (with it,
+ * the least of the BICs would be NaN and no K would be within the tie of it).
+ */
+function eligibleRows<R extends Pick<ScanRow, "k" | "bic" | "flag">>(rows: readonly R[]): R[] {
+  return rows.filter((row) => (row.flag === null || row.k === 1) && !Number.isNaN(row.bic));
+}
+
 /** The suggestion rule of the module comment. */
 export function suggestK(rows: readonly Pick<ScanRow, "k" | "bic" | "flag">[]): number {
-  // A BIC that is no number cannot win (with it, the least of the BICs would be NaN and no K
-  // would be within the tie of it).
-  const eligible = rows.filter((row) => (row.flag === null || row.k === 1) && !Number.isNaN(row.bic));
+  const eligible = eligibleRows(rows);
   if (eligible.length === 0) return 1;
   const best = Math.min(...eligible.map((row) => row.bic));
   const within = eligible.filter((row) => row.bic <= best + BIC_TIE);

@@ -2,13 +2,12 @@ import { sampleIndices } from "../random";
 import type { FitContext } from "./fitContext";
 import { createWorkspace } from "./mixtureWorkspace";
 import { withBackground } from "./backgroundComponent";
-import type { Incumbent } from "./refineBest";
+import { cannotReach, type Incumbent } from "./refineBest";
 import { runEm, type EmStop } from "./runEm";
 import { DEFAULT_TOLERANCE } from "../options";
 import type { MixtureParameters } from "./mixtureParameters";
 import type { MixtureWorkspace } from "./mixtureWorkspace";
 import { computeResiduals, eStep } from "./eStep";
-import { cannotReach } from "./refineBest";
 
 /** Intermediate stage on n / INTERMEDIATE_FRACTION rows when n is over 2·INTERMEDIATE_FRACTION subsamples. */
 const INTERMEDIATE_FRACTION = 5;

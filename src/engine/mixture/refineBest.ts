@@ -60,8 +60,9 @@ const STOP_GAIN_ALLOWANCE = 10;
 
 /**
  * The stop of a fit that only matters below a BIC (MixtureOptions.mattersBelowBic): its runs
- * on all rows end once −2(ln L + STOP_GAIN_ALLOWANCE · gain still to come) + ν ln n is still
- * above that BIC. Null without one.
+ * on all rows (confirming the leading starts, refining the best, finishing on all rows) end
+ * once −2(ln L + STOP_GAIN_ALLOWANCE · gain still to come) + ν ln n is still above that BIC.
+ * Null without one.
  */
 export function stopWhenUnwanted(options: MixtureOptions, full: MixtureWorkspace, settings: Settings): FitContext["unwanted"] {
   const wanted = options.mattersBelowBic;

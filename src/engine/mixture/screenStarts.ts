@@ -157,7 +157,9 @@ function searchSettled(ctx: FitContext, candidates: Candidate[], cheapFirst: boo
  */
 function confirmLeaders(ctx: FitContext, candidates: Candidate[], count: number): Candidate[] {
   const leaders = candidates.slice().sort((a, b) => b.logLikelihood - a.logLikelihood).slice(0, count);
-  for (const leader of leaders) leader.logLikelihood = runEm(ctx.working, leader.params, ctx, Math.min(CONFIRMING_ITERATIONS, ctx.settings.maxIterations)).logLikelihood;
+  // A leader that cannot matter (a scan's fit, see refineBest's stopWhenUnwanted) is not refined further: on all rows only.
+  const stop = ctx.working === ctx.full ? (ctx.unwanted?.stop ?? null) : null;
+  for (const leader of leaders) leader.logLikelihood = runEm(ctx.working, leader.params, ctx, Math.min(CONFIRMING_ITERATIONS, ctx.settings.maxIterations), null, { stop }).logLikelihood;
   return leaders;
 }
 
