@@ -113,3 +113,19 @@ describe("least squares guards and weights", () => {
     expect(() => leastSquares(x, n, q, Float64Array.from([1, 2]))).toThrowError(/at least as many rows/);
   });
 });
+
+describe("least squares on columns whose squares overflow or underflow a double", () => {
+  // Invented: y = 2 + 3·x exactly, with x in units of 1e200 (squares beyond 1e308) and again in
+  // units of 1e-200 (squares below the smallest double). The column norms of the QR must be
+  // taken in units of the largest entry, or the scaled column is 0 or NaN and the fit fails.
+  const base = [1, 2, 3, 4, 5, 6, 7, 8];
+  for (const unit of [1e200, 1e-200]) {
+    it(`recovers the line with x in units of ${unit}`, () => {
+      const { x, n, q } = designWithIntercept(base.map((v) => [v * unit]));
+      const y = Float64Array.from(base, (v) => 2 + 3 * v);
+      const fit = leastSquares(x, n, q, y, { intercept: true });
+      expect(fit.coefficients[0]).toBeCloseTo(2, 10);
+      expect(fit.coefficients[1] * unit).toBeCloseTo(3, 10);
+    });
+  }
+});
