@@ -65,6 +65,54 @@ export interface ObservedInformation {
  * and dot products for the q-vectors. No n-sized array is made.
  */
 export function observedInformation(data: RegressionData, fit: MixtureFit): ObservedInformation {
+  const st = informationState(data, fit);
+  const { n, k, q, blockRows, varianceOffset, logitOffset, logits, size, weights, grams, ownVariance, ownLogit, ownOutside, crossVariance, crossLogit, shares } = st;
+  const { tauSum, outsideTau, gSum, gOutside, curvatureSum, tauTau, gTau, gg } = st;
+  // A block at a time, in small functions: each is compiled once and stays fast.
+  for (let start = 0; start < n; start += blockRows) {
+    addBlockRows(st, start, Math.min(n, start + blockRows) - start);
+    for (let c = 0; c < k; c++) addHeldRows(st, c);
+  }
+  const totalShare = shares[0];
+  const squareShare = shares[1];
+
+  const info = new Float64Array(size * size);
+  const set = (a: number, b: number, value: number): void => {
+    info[a * size + b] = value;
+    info[b * size + a] = value;
+  };
+  for (let c = 0; c < k; c++) {
+    for (let d = c; d < k; d++) {
+      const gram = pairIndex(c, d, k) * q * q;
+      for (let a = 0; a < q; a++) {
+        for (let b = 0; b < q; b++) set(c * q + a, d * q + b, grams[gram + (a <= b ? a * q + b : b * q + a)]);
+      }
+    }
+  }
+  for (let c = 0; c < k; c++) {
+    for (let d = 0; d < k; d++) {
+      for (let a = 0; a < q; a++) set(c * q + a, varianceOffset + d, c === d ? ownVariance[c * q + a] : crossVariance[(c * k + d) * q + a]);
+      info[(varianceOffset + c) * size + varianceOffset + d] = (c === d ? curvatureSum[c] : 0) + gg[c * k + d];
+    }
+    for (let j = 0; j < logits; j++) {
+      for (let a = 0; a < q; a++) {
+        const value = c === j ? ownLogit[c * q + a] : crossLogit[(c * k + j) * q + a] + weights[j] * ownOutside[c * q + a];
+        set(c * q + a, logitOffset + j, value);
+      }
+      set(varianceOffset + c, logitOffset + j, (c === j ? -gSum[c] : 0) + gTau[c * k + j] + weights[j] * gOutside[c]);
+    }
+  }
+  for (let j = 0; j < logits; j++) {
+    for (let l = 0; l < logits; l++) {
+      info[(logitOffset + j) * size + logitOffset + l] =
+        (j === l ? weights[j] * totalShare - tauSum[j] : 0) + tauTau[j * k + l] + weights[l] * outsideTau[j] + weights[j] * outsideTau[l] - squareShare * weights[j] * weights[l];
+    }
+  }
+  return { matrix: info, size, q, k, varianceOffset, logitOffset };
+}
+
+/** The constants, sums and block buffers of one observed-information computation. */
+function informationState(data: RegressionData, fit: MixtureFit) {
   const k = fit.k;
   const p = data.p;
   const q = fit.intercept ? p + 1 : p;
@@ -93,9 +141,8 @@ export function observedInformation(data: RegressionData, fit: MixtureFit): Obse
   fit.components.forEach((c, index) => coefficients.set(c.coefficients.subarray(shift, shift + q), index * q));
   const padded = paddedCoefficients(coefficients, k, q);
 
-  // β blocks: one q x q Gram (upper triangle) per pair c ≤ d, pair index pairIndex(c, d).
+  // β blocks: one q x q Gram (upper triangle) per pair c ≤ d, pair index pairIndex(c, d, k).
   const pairs = (k * (k + 1)) / 2;
-  const pairIndex = (c: number, d: number): number => c * k - (c * (c - 1)) / 2 + (d - c);
   const grams = new Float64Array(pairs * q * q);
   // q-vectors: per component Σ x u(1/v − γ + g) (its own σ²), Σ x · (−u(1 − τ − O w)) (its own
   // logit), Σ x u O (the background's share); per ordered pair c ≠ d Σ x u_c g_d and Σ x u_c τ_d.
@@ -106,8 +153,7 @@ export function observedInformation(data: RegressionData, fit: MixtureFit): Obse
   const crossLogit = new Float64Array(k * k * q);
   // Scalars: Σ T, Σ T(2 − T), and per component or pair Σ τ, Σ O τ, Σ g, Σ g O,
   // Σ τ (r²/v³ − 1/(2v²) − γ²), Σ τ_c τ_d, Σ g_c τ_d, Σ g_c g_d.
-  let totalShare = 0;
-  let squareShare = 0;
+  const shares = new Float64Array(2);
   const tauSum = new Float64Array(k);
   const outsideTau = new Float64Array(k);
   const gSum = new Float64Array(k);
@@ -137,158 +183,142 @@ export function observedInformation(data: RegressionData, fit: MixtureFit): Obse
   const gathered = new Float64Array(q * blockRows);
   const weighted = new Float64Array(q * blockRows);
   const vectorWeights = new Float64Array(4 * blockRows);
+  return { n, x, y, p, q, k, ones, models, predictorScratch, background, terms, logTerm, posterior, varianceOffset, logitOffset, logits, size, weights, variances, inverseVariances, constant, padded, grams, ownVariance, ownLogit, ownOutside, crossVariance, crossLogit, shares, tauSum, outsideTau, gSum, gOutside, curvatureSum, tauTau, gTau, gg, blockRows, columns, residuals, tau, u, g, gramWeight, varianceWeight, logitWeight, outside, held, heldCount, active, gathered, weighted, vectorWeights };
+}
 
-  for (let start = 0; start < n; start += blockRows) {
-    const m = Math.min(n, start + blockRows) - start;
-    // Each row read once, in order: copied into the block's columns and its residuals taken.
-    for (let r = 0; r < m; r++) {
-      const from = (start + r) * p;
-      for (let j = 0; j < p; j++) columns[(ones + j) * blockRows + r] = x[from + j];
-      rowResiduals(x, from - ones, ones, q, padded, k, y[start + r], residuals, r * k);
-    }
-    heldCount.fill(0);
-    for (let r = 0; r < m; r++) {
-      for (let c = 0; c < k; c++) {
-        const rc = residuals[r * k + c];
-        let value = constant[c] - (0.5 * rc * rc) / variances[c];
-        if (models) value += predictorLogDensity(models[c], x, (start + r) * p, p, predictorScratch);
-        logTerm[c] = value;
-      }
-      membershipsFromLogTerms(logTerm, 0, terms, posterior, 0);
-      let total = 0;
-      for (let c = 0; c < k; c++) total += posterior[c];
-      // Without a background the memberships sum to 1: the share outside is exactly 0.
-      const rowOutside = background ? 1 - total : 0;
-      outside[r] = rowOutside;
-      totalShare += total;
-      squareShare += total * (2 - total);
-      let activeCount = 0;
-      for (let c = 0; c < k; c++) {
-        const t = posterior[c];
-        const at = c * blockRows + r;
-        tau[at] = t;
-        if (t < NEGLIGIBLE_MEMBERSHIP) continue;
-        const rc = residuals[r * k + c];
-        const w = inverseVariances[c];
-        const alpha = rc * w;
-        const gamma = 0.5 * (rc * rc * w - 1) * w;
-        const curvature = (rc * rc * w - 0.5) * w * w;
-        const ta = t * alpha;
-        const tg = t * gamma;
-        u[at] = ta;
-        g[at] = tg;
-        gramWeight[at] = t * (w - alpha * alpha) + ta * ta;
-        varianceWeight[at] = ta * (w - gamma) + ta * tg;
-        logitWeight[at] = -ta * (1 - t - rowOutside * weights[c]);
-        tauSum[c] += t;
-        outsideTau[c] += rowOutside * t;
-        gSum[c] += tg;
-        gOutside[c] += tg * rowOutside;
-        curvatureSum[c] += t * (curvature - gamma * gamma);
-        held[c * blockRows + heldCount[c]++] = r;
-        active[activeCount++] = c;
-      }
-      for (let a = 0; a < activeCount; a++) {
-        const c = active[a];
-        const tc = tau[c * blockRows + r];
-        const gc = g[c * blockRows + r];
-        for (let b = 0; b < activeCount; b++) {
-          const d = active[b];
-          const td = tau[d * blockRows + r];
-          tauTau[c * k + d] += tc * td;
-          gTau[c * k + d] += gc * td;
-          gg[c * k + d] += gc * g[d * blockRows + r];
-        }
-      }
-    }
+type InformationState = ReturnType<typeof informationState>;
+
+/** One block's rows: residuals, memberships, per-row weights and scalar sums; the rows each component holds. */
+function addBlockRows(st: InformationState, start: number, m: number): void {
+  const { x, y, p, q, k, ones, models, predictorScratch, background, terms, logTerm, posterior, weights, variances, inverseVariances, constant, padded, shares } = st;
+  const { tauSum, outsideTau, gSum, gOutside, curvatureSum, tauTau, gTau, gg, blockRows, columns, residuals, tau, u, g, gramWeight, varianceWeight, logitWeight, outside, held, heldCount, active } = st;
+  let totalShare = 0;
+  let squareShare = 0;
+  // Each row read once, in order: copied into the block's columns and its residuals taken.
+  for (let r = 0; r < m; r++) {
+    const from = (start + r) * p;
+    for (let j = 0; j < p; j++) columns[(ones + j) * blockRows + r] = x[from + j];
+    rowResiduals(x, from - ones, ones, q, padded, k, y[start + r], residuals, r * k);
+  }
+  heldCount.fill(0);
+  for (let r = 0; r < m; r++) {
     for (let c = 0; c < k; c++) {
-      // The rows component c holds: its own β block and q-vectors.
-      const count = heldCount[c];
-      if (count === 0) continue;
-      const offset = c * blockRows;
-      for (let s = 0; s < count; s++) {
-        const r = held[offset + s];
-        const w = gramWeight[offset + r];
-        for (let j = 0; j < q; j++) {
-          const value = columns[j * blockRows + r];
-          gathered[j * blockRows + s] = value;
-          weighted[j * blockRows + s] = w * value;
-        }
-        vectorWeights[s] = varianceWeight[offset + r];
-        vectorWeights[blockRows + s] = logitWeight[offset + r];
-        vectorWeights[2 * blockRows + s] = u[offset + r] * outside[r];
-      }
-      accumulateGramBlock(weighted, gathered, blockRows, count, q, grams, pairIndex(c, c) * q * q);
-      for (let a = 0; a < q; a++) {
-        ownVariance[c * q + a] += dot(vectorWeights, 0, gathered, a * blockRows, count);
-        ownLogit[c * q + a] += dot(vectorWeights, blockRows, gathered, a * blockRows, count);
-        if (background) ownOutside[c * q + a] += dot(vectorWeights, 2 * blockRows, gathered, a * blockRows, count);
-      }
-      // The rows held by c and a later component d: the cross terms.
-      for (let d = c + 1; d < k; d++) {
-        const other = d * blockRows;
-        let rows = 0;
-        for (let s = 0; s < count; s++) {
-          const r = held[offset + s];
-          if (tau[other + r] < NEGLIGIBLE_MEMBERSHIP) continue;
-          const uc = u[offset + r];
-          const ud = u[other + r];
-          const w = uc * ud;
-          for (let j = 0; j < q; j++) {
-            const value = columns[j * blockRows + r];
-            gathered[j * blockRows + rows] = value;
-            weighted[j * blockRows + rows] = w * value;
-          }
-          vectorWeights[rows] = uc * g[other + r];
-          vectorWeights[blockRows + rows] = ud * g[offset + r];
-          vectorWeights[2 * blockRows + rows] = uc * tau[other + r];
-          vectorWeights[3 * blockRows + rows] = ud * tau[offset + r];
-          rows++;
-        }
-        if (rows === 0) continue;
-        accumulateGramBlock(weighted, gathered, blockRows, rows, q, grams, pairIndex(c, d) * q * q);
-        for (let a = 0; a < q; a++) {
-          const column = a * blockRows;
-          crossVariance[(c * k + d) * q + a] += dot(vectorWeights, 0, gathered, column, rows);
-          crossVariance[(d * k + c) * q + a] += dot(vectorWeights, blockRows, gathered, column, rows);
-          crossLogit[(c * k + d) * q + a] += dot(vectorWeights, 2 * blockRows, gathered, column, rows);
-          crossLogit[(d * k + c) * q + a] += dot(vectorWeights, 3 * blockRows, gathered, column, rows);
-        }
+      const rc = residuals[r * k + c];
+      let value = constant[c] - (0.5 * rc * rc) / variances[c];
+      if (models) value += predictorLogDensity(models[c], x, (start + r) * p, p, predictorScratch);
+      logTerm[c] = value;
+    }
+    membershipsFromLogTerms(logTerm, 0, terms, posterior, 0);
+    let total = 0;
+    for (let c = 0; c < k; c++) total += posterior[c];
+    // Without a background the memberships sum to 1: the share outside is exactly 0.
+    const rowOutside = background ? 1 - total : 0;
+    outside[r] = rowOutside;
+    totalShare += total;
+    squareShare += total * (2 - total);
+    let activeCount = 0;
+    for (let c = 0; c < k; c++) {
+      const t = posterior[c];
+      const at = c * blockRows + r;
+      tau[at] = t;
+      if (t < NEGLIGIBLE_MEMBERSHIP) continue;
+      const rc = residuals[r * k + c];
+      const w = inverseVariances[c];
+      const alpha = rc * w;
+      const gamma = 0.5 * (rc * rc * w - 1) * w;
+      const curvature = (rc * rc * w - 0.5) * w * w;
+      const ta = t * alpha;
+      const tg = t * gamma;
+      u[at] = ta;
+      g[at] = tg;
+      gramWeight[at] = t * (w - alpha * alpha) + ta * ta;
+      varianceWeight[at] = ta * (w - gamma) + ta * tg;
+      logitWeight[at] = -ta * (1 - t - rowOutside * weights[c]);
+      tauSum[c] += t;
+      outsideTau[c] += rowOutside * t;
+      gSum[c] += tg;
+      gOutside[c] += tg * rowOutside;
+      curvatureSum[c] += t * (curvature - gamma * gamma);
+      held[c * blockRows + heldCount[c]++] = r;
+      active[activeCount++] = c;
+    }
+    for (let a = 0; a < activeCount; a++) {
+      const c = active[a];
+      const tc = tau[c * blockRows + r];
+      const gc = g[c * blockRows + r];
+      for (let b = 0; b < activeCount; b++) {
+        const d = active[b];
+        const td = tau[d * blockRows + r];
+        tauTau[c * k + d] += tc * td;
+        gTau[c * k + d] += gc * td;
+        gg[c * k + d] += gc * g[d * blockRows + r];
       }
     }
   }
+  shares[0] += totalShare;
+  shares[1] += squareShare;
+}
 
-  const info = new Float64Array(size * size);
-  const set = (a: number, b: number, value: number): void => {
-    info[a * size + b] = value;
-    info[b * size + a] = value;
-  };
-  for (let c = 0; c < k; c++) {
-    for (let d = c; d < k; d++) {
-      const gram = pairIndex(c, d) * q * q;
-      for (let a = 0; a < q; a++) {
-        for (let b = 0; b < q; b++) set(c * q + a, d * q + b, grams[gram + (a <= b ? a * q + b : b * q + a)]);
+/** The rows component c holds in the block: its own β block and q-vectors, and the cross terms with each later component. */
+function addHeldRows(st: InformationState, c: number): void {
+  const { q, k, background, blockRows, columns, tau, u, g, gramWeight, varianceWeight, logitWeight, outside, held, heldCount, gathered, weighted, vectorWeights } = st;
+  const { grams, ownVariance, ownLogit, ownOutside, crossVariance, crossLogit } = st;
+  // The rows component c holds: its own β block and q-vectors.
+  const count = heldCount[c];
+  if (count === 0) return;
+  const offset = c * blockRows;
+  for (let s = 0; s < count; s++) {
+    const r = held[offset + s];
+    const w = gramWeight[offset + r];
+    for (let j = 0; j < q; j++) {
+      const value = columns[j * blockRows + r];
+      gathered[j * blockRows + s] = value;
+      weighted[j * blockRows + s] = w * value;
+    }
+    vectorWeights[s] = varianceWeight[offset + r];
+    vectorWeights[blockRows + s] = logitWeight[offset + r];
+    vectorWeights[2 * blockRows + s] = u[offset + r] * outside[r];
+  }
+  accumulateGramBlock(weighted, gathered, blockRows, count, q, grams, pairIndex(c, c, k) * q * q);
+  for (let a = 0; a < q; a++) {
+    ownVariance[c * q + a] += dot(vectorWeights, 0, gathered, a * blockRows, count);
+    ownLogit[c * q + a] += dot(vectorWeights, blockRows, gathered, a * blockRows, count);
+    if (background) ownOutside[c * q + a] += dot(vectorWeights, 2 * blockRows, gathered, a * blockRows, count);
+  }
+  // The rows held by c and a later component d: the cross terms.
+  for (let d = c + 1; d < k; d++) {
+    const other = d * blockRows;
+    let rows = 0;
+    for (let s = 0; s < count; s++) {
+      const r = held[offset + s];
+      if (tau[other + r] < NEGLIGIBLE_MEMBERSHIP) continue;
+      const uc = u[offset + r];
+      const ud = u[other + r];
+      const w = uc * ud;
+      for (let j = 0; j < q; j++) {
+        const value = columns[j * blockRows + r];
+        gathered[j * blockRows + rows] = value;
+        weighted[j * blockRows + rows] = w * value;
       }
+      vectorWeights[rows] = uc * g[other + r];
+      vectorWeights[blockRows + rows] = ud * g[offset + r];
+      vectorWeights[2 * blockRows + rows] = uc * tau[other + r];
+      vectorWeights[3 * blockRows + rows] = ud * tau[offset + r];
+      rows++;
+    }
+    if (rows === 0) continue;
+    accumulateGramBlock(weighted, gathered, blockRows, rows, q, grams, pairIndex(c, d, k) * q * q);
+    for (let a = 0; a < q; a++) {
+      const column = a * blockRows;
+      crossVariance[(c * k + d) * q + a] += dot(vectorWeights, 0, gathered, column, rows);
+      crossVariance[(d * k + c) * q + a] += dot(vectorWeights, blockRows, gathered, column, rows);
+      crossLogit[(c * k + d) * q + a] += dot(vectorWeights, 2 * blockRows, gathered, column, rows);
+      crossLogit[(d * k + c) * q + a] += dot(vectorWeights, 3 * blockRows, gathered, column, rows);
     }
   }
-  for (let c = 0; c < k; c++) {
-    for (let d = 0; d < k; d++) {
-      for (let a = 0; a < q; a++) set(c * q + a, varianceOffset + d, c === d ? ownVariance[c * q + a] : crossVariance[(c * k + d) * q + a]);
-      info[(varianceOffset + c) * size + varianceOffset + d] = (c === d ? curvatureSum[c] : 0) + gg[c * k + d];
-    }
-    for (let j = 0; j < logits; j++) {
-      for (let a = 0; a < q; a++) {
-        const value = c === j ? ownLogit[c * q + a] : crossLogit[(c * k + j) * q + a] + weights[j] * ownOutside[c * q + a];
-        set(c * q + a, logitOffset + j, value);
-      }
-      set(varianceOffset + c, logitOffset + j, (c === j ? -gSum[c] : 0) + gTau[c * k + j] + weights[j] * gOutside[c]);
-    }
-  }
-  for (let j = 0; j < logits; j++) {
-    for (let l = 0; l < logits; l++) {
-      info[(logitOffset + j) * size + logitOffset + l] =
-        (j === l ? weights[j] * totalShare - tauSum[j] : 0) + tauTau[j * k + l] + weights[l] * outsideTau[j] + weights[j] * outsideTau[l] - squareShare * weights[j] * weights[l];
-    }
-  }
-  return { matrix: info, size, q, k, varianceOffset, logitOffset };
+}
+
+/** Index of the pair c ≤ d among the k(k + 1)/2 pairs of components. */
+function pairIndex(c: number, d: number, k: number): number {
+  return c * k - (c * (c - 1)) / 2 + (d - c);
 }
