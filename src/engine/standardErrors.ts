@@ -1,3 +1,4 @@
+import { EXACT_RELATIVE } from "./mixture/exactComponents";
 import { invertPositiveDefinite } from "./cholesky";
 import { mapFit, scaleData, scalesFor, unscaleStandardErrors } from "./internalScaling";
 import { SkeinError } from "./errors";
@@ -238,16 +239,10 @@ function sizeReason(y: Float64Array, n: number): string {
   );
 }
 
-/**
- * A noise SD below this fraction of the SD of y is an exact fit: rounding, not noise (the
- * fit's own variance floor is 1e-10 of it).
- */
-const EXACT_SIGMA_RELATIVE = 1e-8;
-
-/** The first component whose noise SD is at rounding level next to the spread of y, or null. */
+/** The first component exact by the fit's one tolerance (noise SD at most EXACT_RELATIVE of the spread of y), or null. */
 function exactComponent(data: RegressionData, fit: MixtureFit): number | null {
   const spread = referenceSpread(data.y, data.n);
-  const index = fit.components.findIndex((c) => !(c.sigma > EXACT_SIGMA_RELATIVE * spread));
+  const index = fit.components.findIndex((c) => !(c.sigma > EXACT_RELATIVE * spread));
   return index < 0 ? null : index;
 }
 
