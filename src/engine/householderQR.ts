@@ -1,4 +1,5 @@
 import { SkeinError } from "./errors";
+import { euclideanNorm } from "./scaledNorm";
 
 /**
  * Householder QR of a tall n x q matrix (Golub & Van Loan, Matrix Computations,
@@ -57,7 +58,7 @@ export class HouseholderQR {
     const columnScale = new Float64Array(q);
     for (let j = 0; j < q; j++) {
       const start = j * n;
-      const norm = euclideanNorm(a, start, start + n);
+      const norm = euclideanNorm(a, n, 1, start);
       columnScale[j] = norm > 0 ? norm : 1;
       const inv = 1 / columnScale[j];
       for (let i = 0; i < n; i++) a[start + i] *= inv;
@@ -70,7 +71,7 @@ export class HouseholderQR {
     for (let j = 0; j < q; j++) {
       const start = j * n;
       // Norm of the part of column j at and below the diagonal.
-      const sigma = euclideanNorm(a, start + j, start + n);
+      const sigma = euclideanNorm(a, n - j, 1, start + j);
       const alpha = a[start + j] >= 0 ? -sigma : sigma;
       if (sigma <= HouseholderQR.RANK_TOLERANCE) {
         // Column j lies (numerically) in the span of the earlier columns.
@@ -167,25 +168,3 @@ export class HouseholderQR {
   }
 }
 
-/**
- * 2-norm of a[from..to) without overflow or underflow: the largest magnitude first, then the
- * sum of squares in units of it (the two-pass scaled norm, as in LAPACK's dnrm2 before its
- * one-pass variant; Blue 1978 discusses both). A running Math.hypot gives the same safety at
- * about twenty times the cost, most of a million-row fit of one regression.
- */
-function euclideanNorm(a: Float64Array, from: number, to: number): number {
-  let largest = 0;
-  for (let i = from; i < to; i++) {
-    const v = Math.abs(a[i]);
-    if (v > largest) largest = v;
-    else if (v !== v) return NaN;
-  }
-  if (!(largest > 0) || !Number.isFinite(largest)) return largest;
-  const inverse = 1 / largest;
-  let sum = 0;
-  for (let i = from; i < to; i++) {
-    const v = a[i] * inverse;
-    sum += v * v;
-  }
-  return largest * Math.sqrt(sum);
-}

@@ -1,3 +1,4 @@
+import { euclideanNorm, largestMagnitude } from "./scaledNorm";
 import { median } from "./median";
 import type { MixtureComponent, MixtureFit, RegressionData } from "./mixtureTypes";
 
@@ -41,19 +42,9 @@ export function scalesFor(data: RegressionData): Scales | null {
  * holding a value that is not finite (the fit's own checks report those).
  */
 function columnScale(values: Float64Array, n: number, stride: number, offset: number): number {
-  let largest = 0;
-  for (let i = 0, at = offset; i < n; i++, at += stride) {
-    const magnitude = Math.abs(values[at]);
-    if (!Number.isFinite(magnitude)) return 1;
-    if (magnitude > largest) largest = magnitude;
-  }
-  if (largest === 0) return 1;
-  let sum = 0;
-  for (let i = 0, at = offset; i < n; i++, at += stride) {
-    const ratio = values[at] / largest;
-    sum += ratio * ratio;
-  }
-  const rms = largest * Math.sqrt(sum / n);
+  const largest = largestMagnitude(values, n, stride, offset);
+  if (!Number.isFinite(largest) || largest === 0) return 1;
+  const rms = euclideanNorm(values, n, stride, offset) / Math.sqrt(n);
   if (largest <= LARGEST_UNSCALED && rms >= SMALLEST_UNSCALED) return 1;
   if (largest > LARGEST_UNSCALED) {
     // Divided by the root mean square, one huge value (a typed-in 1e154 among values near 10)

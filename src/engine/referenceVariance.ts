@@ -1,3 +1,4 @@
+import { largestMagnitude } from "./scaledNorm";
 import { median } from "./median";
 
 /**
@@ -43,12 +44,6 @@ function varianceInUnits(values: Float64Array, n: number, unit: number): number 
   const robustSd = (MAD_TO_SD * medianAbsoluteDeviation(values, n)) / unit;
   const robust = robustSd * robustSd;
   return robust > 0 && plain > DOMINATED_RATIO * robust ? robust : plain;
-}
-
-function largestMagnitude(values: Float64Array, n: number): number {
-  let largest = 0;
-  for (let i = 0; i < n; i++) largest = Math.max(largest, Math.abs(values[i]));
-  return largest;
 }
 
 /** Two-pass variance of values / unit (mean first, then centred squares: Chan, Golub & LeVeque 1983). */
