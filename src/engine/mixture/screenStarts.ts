@@ -1,3 +1,4 @@
+import { stopOnAllRows } from "./unwantedFitStop";
 import { SkeinError } from "../errors";
 import type { MixtureFit, RegressionData } from "../mixtureTypes";
 import { sampleIndices, type Random } from "../random";
@@ -157,8 +158,8 @@ function searchSettled(ctx: FitContext, candidates: Candidate[], cheapFirst: boo
  */
 function confirmLeaders(ctx: FitContext, candidates: Candidate[], count: number): Candidate[] {
   const leaders = candidates.slice().sort((a, b) => b.logLikelihood - a.logLikelihood).slice(0, count);
-  // A leader that cannot matter (a scan's fit, see refineBest's stopWhenUnwanted) is not refined further: on all rows only.
-  const stop = ctx.working === ctx.full ? (ctx.unwanted?.stop ?? null) : null;
+  // A leader that cannot matter (a scan's fit, see unwantedFitStop.ts) is not refined further: on all rows only.
+  const stop = stopOnAllRows(ctx, ctx.working);
   for (const leader of leaders) leader.logLikelihood = runEm(ctx.working, leader.params, ctx, Math.min(CONFIRMING_ITERATIONS, ctx.settings.maxIterations), null, { stop }).logLikelihood;
   return leaders;
 }
