@@ -23,10 +23,13 @@ const DAYS_1900_TO_1904 = 1462;
 /** Checks the path and extension; the bytes of the file. */
 async function readBytes(filePath: string): Promise<{ bytes: Uint8Array; name: string; isText: boolean }> {
   const { name, isText } = await checkFile(filePath);
-  // A view of the file's buffer, not a copy: large files are read once into memory.
+  return { bytes: await fileBytes(filePath), name, isText };
+}
+
+/** The bytes of a file already checked (checkFile): a view of the file's buffer, not a copy, so a large file is read once into memory. */
+async function fileBytes(filePath: string): Promise<Uint8Array> {
   const buffer = await fs.readFile(filePath);
-  const bytes = new Uint8Array(buffer.buffer, buffer.byteOffset, buffer.byteLength);
-  return { bytes, name, isText };
+  return new Uint8Array(buffer.buffer, buffer.byteOffset, buffer.byteLength);
 }
 
 /** Checks the path, extension and size: the file's name, its kind and its size in bytes. */
@@ -81,13 +84,13 @@ async function loadWorkbook(bytes: Uint8Array, name: string): Promise<Workbook> 
  */
 export async function readDataTable(filePath: string, choice: WorkbookChoice = {}): Promise<DataTable> {
   const { name, isText, size } = await checkFile(filePath);
-  if (!isText) return workbookTable(await loadWorkbook((await readBytes(filePath)).bytes, name), name, choice);
+  if (!isText) return workbookTable(await loadWorkbook(await fileBytes(filePath), name), name, choice);
   if (choice.sheet !== undefined) throw new SkeinError("bad-input", `${name} is a text file with no sheets; leave out the sheet name.`);
   // A file of plain numbers is read in pieces, never whole; any other file is read whole and
   // decoded, the bytes let go once decoded and the text once split: a large file is not held three times.
   let read = choice.headerRow === undefined ? await readPlainNumberFile(filePath, name, size) : null;
   if (read === null) {
-    const decoded = decodeText((await readBytes(filePath)).bytes);
+    const decoded = decodeText(await fileBytes(filePath));
     read = { encoding: { encoding: decoded.encoding, noteworthy: decoded.noteworthy }, table: csvTableOfFields(decoded, name, choice as HeaderChoice) };
   }
   const { table, encoding } = read;
