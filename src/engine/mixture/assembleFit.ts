@@ -156,8 +156,13 @@ function informationCriteria(ws: MixtureWorkspace, settings: Settings, logLikeli
 /** ν of the BIC (informationCriteria). */
 export function countParameters(ws: MixtureWorkspace, settings: Settings): number {
   const { p, q, k } = ws;
-  let parameterCount = k * (q + 2) - 1;
+  let parameterCount = regressionParameterCount(k, q);
   if (settings.model === "joint") parameterCount += k * (p + (p * (p + 1)) / 2);
   if (ws.background) parameterCount += 1;
   return parameterCount;
+}
+
+/** The free parameters of K regressions on q design columns: k·q coefficients, k variances, k − 1 weights. */
+export function regressionParameterCount(k: number, q: number): number {
+  return k * (q + 2) - 1;
 }

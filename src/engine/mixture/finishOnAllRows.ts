@@ -8,7 +8,8 @@ import { runEm, type EmStop } from "./runEm";
 import { DEFAULT_TOLERANCE } from "../options";
 import type { MixtureParameters } from "./mixtureParameters";
 import type { MixtureWorkspace } from "./mixtureWorkspace";
-import { computeResiduals, eStep } from "./eStep";
+import { eStep } from "./eStep";
+import { regressionParameterCount } from "./assembleFit";
 
 /** Intermediate stage on n / INTERMEDIATE_FRACTION rows when n is over 2·INTERMEDIATE_FRACTION subsamples. */
 const INTERMEDIATE_FRACTION = 5;
@@ -56,8 +57,7 @@ export function finishOnAllRows(ctx: FitContext, incumbent: Incumbent): OnAllRow
     const rows = sampleIndices(full.n, Math.floor(full.n / INTERMEDIATE_FRACTION), ctx.random);
     // Only EM runs here: no copy of the predictors beyond the design (the joint model keeps one).
     const intermediate = withBackground(createWorkspace(ctx.data, settings.k, settings.intercept, full.joint, rows, false), settings.background, full);
-    // Free parameters: k·q coefficients, k variances, k − 1 weights.
-    const enoughGain = INTERMEDIATE_GAIN_PER_PARAMETER * (settings.k * (full.q + 2) - 1);
+    const enoughGain = INTERMEDIATE_GAIN_PER_PARAMETER * regressionParameterCount(settings.k, full.q);
     subsampleIterations += runEm(intermediate, params, ctx, settings.maxIterations, null, { enoughGain, stop: intermediateStop(ctx, intermediate, params) }).iterations;
   }
   const fromSubsample = incumbent.run;
@@ -82,10 +82,8 @@ export function finishOnAllRows(ctx: FitContext, incumbent: Incumbent): OnAllRow
 function intermediateStop(ctx: FitContext, intermediate: MixtureWorkspace, params: MixtureParameters): EmStop | null {
   if (!ctx.unwanted) return null;
   const { full } = ctx;
-  computeResiduals(full, params);
-  const startOnAll = eStep(full, params);
-  computeResiduals(intermediate, params);
-  const startHere = eStep(intermediate, params);
+  const startOnAll = eStep(full, params, true);
+  const startHere = eStep(intermediate, params, true);
   const scale = intermediate.n / full.n;
   // ln L here that stands for the needed ln L on all rows.
   return cannotReach(startHere + (ctx.unwanted.needed - startOnAll) * scale);
