@@ -11,6 +11,8 @@ import { createRandom } from "../src/engine/random";
 import { leastSquares } from "../src/engine/leastSquares";
 import { gatherRows, rowsWithLabel } from "../src/engine/rowSubset";
 import { fitMixture } from "../src/engine/fitMixture";
+import { SkeinError } from "../src/engine/errors";
+import type { MixtureFit } from "../src/engine/mixtureTypes";
 import { noiselessProblem, noisyProblem, relativeCoefficientError, totalCoefficientError, type GeneratedProblem } from "../src/synthetic/generateProblems";
 import { carefulEm, emFromTruth } from "./plainEm";
 
@@ -47,9 +49,21 @@ export interface FitOutcome {
   converged: boolean;
 }
 
-/** The fit under measurement: the product's fitMixture with the problem's seed. */
-export function fitForBench(problem: GeneratedProblem, seed: number): FitOutcome | null {
-  const fit = fitMixture(problem.data, { k: problem.k, intercept: problem.intercept, seed });
+/**
+ * The fit under measurement: the product's fitMixture with the problem's seed. Given
+ * `limitMs`, the fit is cancelled through its signal once that many milliseconds have passed
+ * (null: not finished), so a section whose fits do not end still prints.
+ */
+export function fitForBench(problem: GeneratedProblem, seed: number, limitMs = Infinity): FitOutcome | null {
+  const deadline = performance.now() + limitMs;
+  const signal = { get aborted(): boolean { return performance.now() > deadline; } };
+  let fit: MixtureFit;
+  try {
+    fit = fitMixture(problem.data, { k: problem.k, intercept: problem.intercept, seed, signal });
+  } catch (error) {
+    if (error instanceof SkeinError && error.code === "cancelled") return null;
+    throw error;
+  }
   // Components carry an intercept slot first (0 without an intercept); compare like with like.
   const coefficients = fit.components.map((c) => (problem.intercept ? c.coefficients : c.coefficients.subarray(1)));
   return { coefficients, certificate: fit.warmStart.certificate, converged: fit.warmStart.converged };

@@ -3,7 +3,7 @@ import { runAccuracyBench } from "./accuracy";
 import { runScanAccuracyBench } from "./scanAccuracy";
 import { runFunctionsBench } from "./functionsBench";
 import { runBaselineBench } from "./baselineBench";
-import { runD100Bench, runFewerRowsBench, runLargeBench, runScanSixBench, runSmallBench } from "./targetsBench";
+import { runD100Bench, runFewerRowsBench, runFitSeedsBench, runLargeBench, runScanSixBench, runSmallBench } from "./targetsBench";
 
 /**
  * `npm run bench`: prints speed and accuracy figures (never asserted; see the unit tests for
@@ -18,6 +18,7 @@ const SECTIONS: Record<string, (print: (line: string) => void) => unknown> = {
   small: runSmallBench,
   fewer: runFewerRowsBench,
   d100: runD100Bench,
+  fitseeds: runFitSeedsBench,
   large: runLargeBench,
   scan6: runScanSixBench,
 };
