@@ -1,3 +1,5 @@
+import type { CancelSignal } from "./mixtureTypes";
+
 /**
  * Errors are values at the boundary: the engine throws a SkeinError carrying a
  * code and a plain message that says what was wrong and how to fix it. Only the
@@ -19,6 +21,11 @@ export class SkeinError extends Error {
     this.name = "SkeinError";
     this.code = code;
   }
+}
+
+/** Throws the "cancelled" error once the caller's signal is raised: the engine asks between EM iterations, starts and warm-start steps. */
+export function checkSignal(signal: CancelSignal | undefined): void {
+  if (signal?.aborted) throw new SkeinError("cancelled", "The fit was cancelled before it finished.");
 }
 
 export function isSkeinError(value: unknown): value is SkeinError {

@@ -3,7 +3,8 @@ import type { MixtureParameters } from "./mixtureParameters";
 import type { Incumbent } from "./refineBest";
 import { exactComponentsOf, isNoiseless, SHORT_ITERATIONS } from "./exactComponents";
 import { peelComponent, splitAndMerge } from "./restructuringMoves";
-import { checkSignal, runEm } from "./runEm";
+import { runEm } from "./runEm";
+import { checkSignal } from "../errors";
 
 /** Split-and-merge rounds (each must raise ln L by MIN_GAIN). */
 const MAX_SPLIT_ROUNDS = 3;

@@ -1,5 +1,4 @@
-import { SkeinError } from "../errors";
-import type { CancelSignal } from "../mixtureTypes";
+import { checkSignal } from "../errors";
 import type { EmContext, EmRun } from "./fitContext";
 import type { MixtureParameters } from "./mixtureParameters";
 import type { MixtureWorkspace } from "./mixtureWorkspace";
@@ -91,8 +90,4 @@ export type EmStop = (logLikelihood: number, gainToCome: number) => boolean;
 function gainToCome(previousChange: number, change: number, largestRatio = 0.5): number {
   const ratio = change / previousChange;
   return change > 0 && ratio > 0 && ratio <= largestRatio && ratio < 1 ? (change * ratio) / (1 - ratio) : Infinity;
-}
-
-export function checkSignal(signal: CancelSignal | undefined): void {
-  if (signal?.aborted) throw new SkeinError("cancelled", "The fit was cancelled before it finished.");
 }

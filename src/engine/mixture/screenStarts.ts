@@ -1,5 +1,5 @@
 import { stopOnAllRows } from "./unwantedFitStop";
-import { SkeinError } from "../errors";
+import { SkeinError, checkSignal } from "../errors";
 import type { MixtureFit, RegressionData } from "../mixtureTypes";
 import { sampleIndices, type Random } from "../random";
 import { selectRows } from "../rowSubset";
@@ -14,7 +14,7 @@ import { locationSeedingLabels, parametersFromCoefficients, randomPartitionLabel
 import { exactComponentsOf, isNoiseless, landOnExactFit, SHORT_ITERATIONS } from "./exactComponents";
 import { peelExactComponents } from "./restructuringMoves";
 import { allFoundAlike, bestFoundTwice } from "./compareFits";
-import { checkSignal, runEm } from "./runEm";
+import { runEm } from "./runEm";
 
 /**
  * A start that usually lands next to the answer (the moment warm start, a parent's estimate),
