@@ -140,3 +140,28 @@ describe("degenerate inputs", () => {
     expect(start.coefficients[0][1]).toBeCloseTo(3, 9);
   });
 });
+
+describe("cancellation inside the warm start", () => {
+  // Invented noiseless problem from the shared generator (20 predictors, 3 components).
+  const problem = noiselessProblem(20, 3, 10, createRandom(808));
+  const { x, y, n, p } = problem.data;
+
+  it("stops with the cancelled error once the signal is raised, at its first question", () => {
+    let asked = 0;
+    const signal = { get aborted(): boolean { asked++; return true; } };
+    expect(() => momentWarmStart(problem.data, 3, false, createRandom(1), signal)).toThrowError(/cancelled/);
+    expect(asked).toBe(1);
+  });
+
+  it("alternating least squares asks before every iteration and stops when told", () => {
+    const start = problem.coefficients.map((c) => c.map((v) => v * 1.5));
+    let asked = 0;
+    // Raised at the third question: two iterations ran.
+    const signal = { get aborted(): boolean { asked++; return asked >= 3; } };
+    expect(() => alternatingLeastSquares(x, n, p, y, start, 25, 1e-9, p + 1, signal)).toThrowError(/cancelled/);
+    expect(asked).toBe(3);
+    // Unraised, the same call runs to its end.
+    const fit = alternatingLeastSquares(x, n, p, y, start, 25, 1e-9, p + 1, { aborted: false });
+    expect(fit.iterations).toBeGreaterThan(2);
+  });
+});

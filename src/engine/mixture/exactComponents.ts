@@ -1,4 +1,5 @@
 import { leastSquares } from "../leastSquares";
+import type { CancelSignal } from "../mixtureTypes";
 import { gatherRows } from "../rowSubset";
 import { alternatingLeastSquares } from "../warmStart/alternatingLeastSquares";
 import type { EmRun, FitContext } from "./fitContext";
@@ -118,7 +119,7 @@ export function landOnExactFit(ctx: FitContext, params: MixtureParameters, run: 
   if (!Number.isFinite(run.logLikelihood)) return { params, run, peelFrom: params };
   if (concentrated && concentrated.exactComponents < ws.k) return { params, run, peelFrom: concentrated.params };
   if (!concentrated && !headingForExact(params, ws)) return { params, run, peelFrom: params };
-  const exact = exactFitByHardAssignment(ws, concentrated ? concentrated.params : params, guards);
+  const exact = exactFitByHardAssignment(ws, concentrated ? concentrated.params : params, guards, ctx.signal);
   if (exact) return { params: exact, run: runEm(ws, exact, ctx, SHORT_ITERATIONS), peelFrom: exact };
   return { params, run, peelFrom: snapNearExactComponents(ws, params, guards) ?? params };
 }
@@ -130,11 +131,11 @@ export const SHORT_ITERATIONS = 15;
  * Alternating least squares from `params`' coefficients; parameters when it ends with every
  * row fitted within the exact tolerance, else null.
  */
-function exactFitByHardAssignment(ws: MixtureWorkspace, params: MixtureParameters, guards: Guards): MixtureParameters | null {
+function exactFitByHardAssignment(ws: MixtureWorkspace, params: MixtureParameters, guards: Guards, signal: CancelSignal | undefined): MixtureParameters | null {
   const { n, q, k } = ws;
   const start: Float64Array[] = [];
   for (let c = 0; c < k; c++) start.push(params.coefficients.slice(c * q, c * q + q));
-  const fit = alternatingLeastSquares(ws.design, n, q, ws.y, start, EXACT_POLISH_ITERATIONS, exactTolerance(ws), guards.minimumSize);
+  const fit = alternatingLeastSquares(ws.design, n, q, ws.y, start, EXACT_POLISH_ITERATIONS, exactTolerance(ws), guards.minimumSize, signal);
   if (fit.exactRows < n) return null;
   const coefficients = new Float64Array(k * q);
   fit.coefficients.forEach((c, index) => coefficients.set(c, index * q));

@@ -50,7 +50,7 @@ export function finishExactComponents(ctx: FitContext, incumbent: Incumbent, mem
     peeled++;
   }
   if (!isNoiseless(params, full)) return { params, logLikelihood, run, peeled, polished: false, membershipsCurrent };
-  const polishedParams = hardAssignmentPolish(full, params, ctx.guards);
+  const polishedParams = hardAssignmentPolish(full, params, ctx.guards, ctx.signal);
   if (polishedParams) {
     computeResiduals(full, polishedParams);
     const polishedLogLikelihood = eStep(full, polishedParams);

@@ -1,3 +1,4 @@
+import type { CancelSignal } from "../mixtureTypes";
 import type { MixtureParameters } from "./mixtureParameters";
 import type { MixtureWorkspace } from "./mixtureWorkspace";
 import { copyParameters } from "./mixtureParameters";
@@ -19,11 +20,11 @@ const MAX_POLISH_ROUNDS = 50;
  * @returns polished parameters (memberships left hard in ws), or null when a component fell
  *   below the minimum size; the caller then keeps the EM fit.
  */
-export function hardAssignmentPolish(ws: MixtureWorkspace, start: MixtureParameters, guards: Guards): MixtureParameters | null {
+export function hardAssignmentPolish(ws: MixtureWorkspace, start: MixtureParameters, guards: Guards, signal?: CancelSignal): MixtureParameters | null {
   const { n, q, k, design, y } = ws;
   const params = copyParameters(start);
   const coefficients = Array.from({ length: k }, (_, c) => start.coefficients.slice(c * q, c * q + q));
-  const fit = alternatingLeastSquares(design, n, q, y, coefficients, MAX_POLISH_ROUNDS, 0, guards.minimumSize);
+  const fit = alternatingLeastSquares(design, n, q, y, coefficients, MAX_POLISH_ROUNDS, 0, guards.minimumSize, signal);
   fit.coefficients.forEach((c, index) => params.coefficients.set(c, index * q));
   const labels = fit.labels;
   setHardMemberships(ws, labels);

@@ -179,7 +179,7 @@ function* startSources(ctx: FitContext, screen: ScreenState, cheapFirst: boolean
     yield { method: "previous", make: () => parametersFromFit(ws, previous, guards), extraIterations: 0 };
   }
   const momentStart = (): MixtureParameters | null => {
-    const moment = momentWarmStart(momentRows(ws, random), ws.k, settings.intercept, random);
+    const moment = momentWarmStart(momentRows(ws, random), ws.k, settings.intercept, random, ctx.signal);
     screen.moment = moment;
     if (!moment) return null;
     const coefficients = new Float64Array(ws.k * ws.q);

@@ -1,4 +1,6 @@
 import { HouseholderQR } from "../householderQR";
+import { checkSignal } from "../errors";
+import type { CancelSignal } from "../mixtureTypes";
 import { gatherRows, rowsWithLabel } from "../rowSubset";
 import { choleskyScratchLength, scaledCholeskySolve } from "../cholesky";
 
@@ -23,10 +25,11 @@ export interface AlternatingFit {
 /**
  * @param design n x q row-major full design (intercept column included when there is one)
  * @param minimumRows a component left with fewer rows keeps its previous coefficients
+ * @param signal asked before each iteration (an iteration on 10,000 rows of 100 predictors takes about 0.1 s)
  */
 export function alternatingLeastSquares(
   design: Float64Array, n: number, q: number, y: Float64Array, start: Float64Array[],
-  maxIterations: number, exactTolerance: number, minimumRows: number,
+  maxIterations: number, exactTolerance: number, minimumRows: number, signal?: CancelSignal,
 ): AlternatingFit {
   const k = start.length;
   const coefficients: Float64Array[] = start.map((c) => Float64Array.from(c));
@@ -53,6 +56,7 @@ export function alternatingLeastSquares(
   counts.fill(0);
   let iterations = 0;
   for (; iterations < maxIterations; iterations++) {
+    checkSignal(signal);
     changedComponent.fill(0);
     const moved = assign(design, n, q, y, coefficients, labels, best, changedComponent, fitted, stale);
     if (moved === 0) break;

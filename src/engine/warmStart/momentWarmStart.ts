@@ -1,4 +1,5 @@
-import type { RegressionData } from "../mixtureTypes";
+import type { CancelSignal, RegressionData } from "../mixtureTypes";
+import { checkSignal } from "../errors";
 import { sampleIndices, type Random } from "../random";
 import { alternatingLeastSquares, type AlternatingFit } from "./alternatingLeastSquares";
 import { enoughRows, EXACT_RELATIVE } from "../mixture/exactComponents";
@@ -57,7 +58,7 @@ const CONVERGED_CERTIFICATE = 0.25;
  * the whitened design with a column of 1s. Returns null when the start does not apply: fewer
  * than K(q + 1) rows, collinear predictors, a constant or non-finite response.
  */
-export function momentWarmStart(data: RegressionData, k: number, intercept: boolean, random: Random): MomentWarmStart | null {
+export function momentWarmStart(data: RegressionData, k: number, intercept: boolean, random: Random, signal?: CancelSignal): MomentWarmStart | null {
   const { n, p, x, y } = data;
   const q = intercept ? p + 1 : p;
   if (!(k >= 1) || !Number.isInteger(k) || p < 1 || n < k * (q + 1)) return null;
@@ -84,15 +85,15 @@ export function momentWarmStart(data: RegressionData, k: number, intercept: bool
     design.set(whitened.x.subarray(i * p, i * p + p), i * q + offset);
   }
   const exactTolerance = EXACT_RELATIVE * sdY;
-  const candidates = subspaceCandidates(whitened, y, k, intercept, random);
+  const candidates = subspaceCandidates(whitened, y, k, intercept, random, signal);
   let best: AlternatingFit | null = null;
   for (const start of candidates) {
-    const fit = alternatingLeastSquares(design, n, q, y, start, ALS_ITERATIONS, exactTolerance, q + 1);
+    const fit = alternatingLeastSquares(design, n, q, y, start, ALS_ITERATIONS, exactTolerance, q + 1, signal);
     if (!best || betterFit(fit, best)) best = fit;
     if (best.exactRows === n) break;
   }
   if (!best) return null;
-  best = peelAndRestart(data, whitened, design, q, k, intercept, best, exactTolerance, random);
+  best = peelAndRestart(data, whitened, design, q, k, intercept, best, exactTolerance, random, signal);
   let worstScale = 0;
   for (let c = 0; c < k; c++) worstScale = Math.max(worstScale, best.scales[c]);
   const certificate = worstScale / sdY;
@@ -109,7 +110,7 @@ export function momentWarmStart(data: RegressionData, k: number, intercept: bool
  */
 function peelAndRestart(
   data: RegressionData, whitened: WhitenedPredictors, design: Float64Array, q: number, k: number,
-  intercept: boolean, start: AlternatingFit, exactTolerance: number, random: Random,
+  intercept: boolean, start: AlternatingFit, exactTolerance: number, random: Random, signal: CancelSignal | undefined,
 ): AlternatingFit {
   const { n, y } = data;
   const offset = intercept ? 1 : 0;
@@ -134,10 +135,10 @@ function peelAndRestart(
       if (!fitted) rest.push(i);
     }
     if (rest.length < missing * (q + 1)) break;
-    const restart = momentWarmStart(selectRows(data, rest), missing, intercept, random);
+    const restart = momentWarmStart(selectRows(data, rest), missing, intercept, random, signal);
     if (!restart) break;
     const combined = found.concat(restart.coefficients.map((c) => toWhitened(whitened, c, intercept, offset)));
-    const fit = alternatingLeastSquares(design, n, q, y, combined, ALS_ITERATIONS, exactTolerance, q + 1);
+    const fit = alternatingLeastSquares(design, n, q, y, combined, ALS_ITERATIONS, exactTolerance, q + 1, signal);
     if (!betterFit(fit, best)) break;
     best = fit;
   }
@@ -175,7 +176,7 @@ function betterFit(a: AlternatingFit, b: AlternatingFit): boolean {
  * partitions, the best few by likelihood lifted back to coefficients of the original
  * predictors (intercept first when there is one).
  */
-function subspaceCandidates(whitened: WhitenedPredictors, y: Float64Array, k: number, intercept: boolean, random: Random): Float64Array[][] {
+function subspaceCandidates(whitened: WhitenedPredictors, y: Float64Array, k: number, intercept: boolean, random: Random, signal: CancelSignal | undefined): Float64Array[][] {
   const { n, p } = whitened;
   let yMean = 0;
   if (intercept) {
@@ -212,11 +213,15 @@ function subspaceCandidates(whitened: WhitenedPredictors, y: Float64Array, k: nu
   // on is the same as one run of the full length).
   let fits: SubspaceMixture[] = [];
   for (let restart = 0; restart < SUBSPACE_RESTARTS; restart++) {
+    checkSignal(signal);
     const memberships = randomPartition(used, k, random, new Float64Array(used * k));
     fits.push(subspaceMixtureFit(projected, usedResponses, used, m, k, memberships, SCREENING_ITERATIONS));
   }
   fits.sort((a, b) => b.logLikelihood - a.logLikelihood);
-  fits = fits.slice(0, LIFTED_CANDIDATES).map((fit) => subspaceMixtureFit(projected, usedResponses, used, m, k, fit.memberships, SUBSPACE_EM_ITERATIONS - SCREENING_ITERATIONS));
+  fits = fits.slice(0, LIFTED_CANDIDATES).map((fit) => {
+    checkSignal(signal);
+    return subspaceMixtureFit(projected, usedResponses, used, m, k, fit.memberships, SUBSPACE_EM_ITERATIONS - SCREENING_ITERATIONS);
+  });
   fits.sort((a, b) => b.logLikelihood - a.logLikelihood);
   // Whitened coefficients, intercept (in y's own units) first when there is one.
   return fits.map((fit) => fit.coefficients.map((g) => {
