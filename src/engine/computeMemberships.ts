@@ -2,7 +2,7 @@ import { SkeinError } from "./errors";
 import type { MixtureFit } from "./mixtureTypes";
 import { coefficientOffset } from "./regressionMatrix";
 import { choleskyScratchLength, scaledCholeskyLower } from "./cholesky";
-import { gaussianLogDensity, LOG_TWO_PI, normaliseLogDensities } from "./logDensities";
+import { gaussianLogDensity, componentLogConstant, normaliseLogDensities } from "./logDensities";
 
 /** Each joint component's x model, factored once: the mean, the lower Cholesky factor of Σ and ln det Σ. */
 export interface PredictorModel {
@@ -64,7 +64,7 @@ export function computeMemberships(
     const beta = component.coefficients;
     const shift = coefficientOffset(beta, q);
     const variance = component.sigma * component.sigma;
-    const constant = Math.log(component.weight) - 0.5 * (LOG_TWO_PI + Math.log(variance));
+    const constant = componentLogConstant(component.weight, variance);
     for (let i = 0; i < n; i++) {
       let fitted = 0;
       const row = i * q;

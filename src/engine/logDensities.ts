@@ -9,7 +9,17 @@
  *    largest term before exponentiating keeps every term in range however small the variances.
  */
 
-export const LOG_TWO_PI = Math.log(2 * Math.PI);
+const LOG_TWO_PI = Math.log(2 * Math.PI);
+
+/**
+ * A regression component's constant in its log term: ln π − ½ ln(2πσ²), so that the term of a
+ * row with residual r is this minus r²/(2σ²). The one place the fit's E-step, the memberships
+ * at a finished fit, the observed information, the subspace EM and the standard errors' test
+ * for background-only rows take it from.
+ */
+export function componentLogConstant(weight: number, variance: number): number {
+  return Math.log(weight) - 0.5 * (LOG_TWO_PI + Math.log(variance));
+}
 /** ln(2⁻⁵³) ≈ −36.7: a term exp(−37) ≈ 8.5e-17 is below half an ulp of a sum that is at least 1. */
 const NEGLIGIBLE_LOG_RATIO = -37;
 

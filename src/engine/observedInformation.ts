@@ -1,6 +1,6 @@
 import type { MixtureFit, RegressionData } from "./mixtureTypes";
 import { predictorLogDensity, predictorModels } from "./computeMemberships";
-import { LOG_TWO_PI, membershipsFromLogTerms } from "./logDensities";
+import { componentLogConstant, membershipsFromLogTerms } from "./logDensities";
 import { accumulateGramBlock, blockRowsFor, dot } from "./weightedGram";
 import { NEGLIGIBLE_MEMBERSHIP } from "./mixture/mStep";
 import { paddedCoefficients, rowResiduals } from "./mixture/eStep";
@@ -136,7 +136,7 @@ function informationState(data: RegressionData, fit: MixtureFit) {
   const variances = Float64Array.from(fit.components, (c) => c.sigma * c.sigma);
   const inverseVariances = variances.map((v) => 1 / v);
   const shift = fit.components[0].coefficients.length - q;
-  const constant = Float64Array.from(fit.components, (c) => Math.log(c.weight) - 0.5 * (LOG_TWO_PI + Math.log(c.sigma * c.sigma)));
+  const constant = Float64Array.from(variances, (variance, c) => componentLogConstant(fit.components[c].weight, variance));
   const coefficients = new Float64Array(k * q);
   fit.components.forEach((c, index) => coefficients.set(c.coefficients.subarray(shift, shift + q), index * q));
   const padded = paddedCoefficients(coefficients, k, q);

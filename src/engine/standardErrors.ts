@@ -11,7 +11,7 @@ import { fitMixture } from "./fitMixture";
 import { selectRows } from "./rowSubset";
 import { isExactFit } from "./exactFit";
 import { referenceSpread } from "./referenceVariance";
-import { LOG_TWO_PI } from "./logDensities";
+import { componentLogConstant } from "./logDensities";
 import { formatNumber } from "../report/formatNumber";
 
 export interface StandardErrorOptions {
@@ -67,8 +67,8 @@ function withoutBackgroundRows(data: RegressionData, fit: MixtureFit): Regressio
   const { n, p } = data;
   const backgroundTerm = Math.log(background.weight) + background.logDensity;
   const shift = fit.intercept ? 0 : 1;
-  // Each component's ln π − ln σ − ½ ln 2π, once rather than once a row.
-  const constants = fit.components.map((component) => Math.log(component.weight) - Math.log(component.sigma) - 0.5 * LOG_TWO_PI);
+  // Each component's ln π − ½ ln(2πσ²), once rather than once a row.
+  const constants = fit.components.map((component) => componentLogConstant(component.weight, component.sigma * component.sigma));
   const kept: number[] = [];
   for (let i = 0; i < n; i++) {
     let nearest = -Infinity;

@@ -2,7 +2,7 @@ import type { MixtureParameters } from "./mixtureParameters";
 import type { MixtureWorkspace } from "./mixtureWorkspace";
 import { backgroundLogTerm } from "./backgroundComponent";
 
-import { gaussianLogDensity, LOG_TWO_PI, membershipsFromLogTerms } from "../logDensities";
+import { gaussianLogDensity, componentLogConstant, membershipsFromLogTerms } from "../logDensities";
 
 /**
  * Residuals r_ik = y_i − x_iᵀβ_k for every row and component, stored n x k. The M-step's
@@ -80,7 +80,7 @@ export function eStep(ws: MixtureWorkspace, params: MixtureParameters, withResid
   const constant = new Float64Array(k);
   const curvature = new Float64Array(k);
   for (let c = 0; c < k; c++) {
-    constant[c] = Math.log(params.weights[c]) - 0.5 * (LOG_TWO_PI + Math.log(params.variances[c]));
+    constant[c] = componentLogConstant(params.weights[c], params.variances[c]);
     curvature[c] = -0.5 / params.variances[c];
   }
   const joint = ws.joint && params.xMeans !== null;

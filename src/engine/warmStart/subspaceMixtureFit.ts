@@ -1,6 +1,6 @@
 import type { Random } from "../random";
 import { choleskyScratchLength, scaledCholeskySolve } from "../cholesky";
-import { LOG_TWO_PI, normaliseLogDensities } from "../logDensities";
+import { componentLogConstant, normaliseLogDensities } from "../logDensities";
 
 /**
  * EM for a mixture of K regressions restricted to a K-dimensional subspace: the rows are the
@@ -101,7 +101,7 @@ export function subspaceMixtureFit(z: Float64Array, y: Float64Array, n: number, 
     }
     for (let j = 0; j < k; j++) if (solved[j]) variances[j] = Math.max(floor, masses[j] > 0 ? rss[j] / masses[j] : meanSquare);
     // E-step through the kernel (log-sum-exp).
-    for (let j = 0; j < k; j++) logDensity[j] = Math.log(weights[j]) - 0.5 * (LOG_TWO_PI + Math.log(variances[j]));
+    for (let j = 0; j < k; j++) logDensity[j] = componentLogConstant(weights[j], variances[j]);
     for (let t = 0; t < n * k; t++) tau[t] = logDensity[t % k] - (0.5 * squares[t]) / variances[t % k];
     logLikelihood = normaliseLogDensities(tau, n, k);
   }
