@@ -69,6 +69,39 @@ export function fitForBench(problem: GeneratedProblem, seed: number, limitMs = I
   return { coefficients, certificate: fit.warmStart.certificate, converged: fit.warmStart.converged };
 }
 
+/** How many noiseless fits recovered their problem, their mean and longest times, and the problems' rows. */
+export interface RecoveryTally {
+  recovered: number;
+  fits: number;
+  meanMs: number;
+  maxMs: number;
+  rows: number;
+}
+
+/** Fits each problem with its seed (cancelled after limitMs: not recovered) and tallies the recoveries and times. */
+export function tallyRecoveries(runs: ReadonlyArray<{ problem: GeneratedProblem; seed: number }>, limitMs = Infinity): RecoveryTally {
+  let recovered = 0;
+  let time = 0;
+  let maxMs = 0;
+  for (const { problem, seed } of runs) {
+    const began = performance.now();
+    const fit = fitForBench(problem, seed, limitMs);
+    const elapsed = performance.now() - began;
+    time += elapsed;
+    maxMs = Math.max(maxMs, elapsed);
+    if (fit && relativeCoefficientError(fit.coefficients, problem.coefficients) <= RECOVERY_TOLERANCE) recovered++;
+  }
+  return { recovered, fits: runs.length, meanMs: time / runs.length, maxMs, rows: runs[runs.length - 1]?.problem.data.n ?? 0 };
+}
+
+/** The noiseless grid's problems 0 .. count − 1 for (d, K, n/(dK)), each with its own seed as the fit's. */
+export function gridRuns(d: number, k: number, factor: number, count: number): Array<{ problem: GeneratedProblem; seed: number }> {
+  return Array.from({ length: count }, (_, s) => {
+    const { problem, problemSeed } = noiselessBenchProblem(d, k, factor, s);
+    return { problem, seed: problemSeed };
+  });
+}
+
 /** Problem `s` of the noiseless grid for (d, K, n/(dK)) and the seed it was drawn from (also the fit's seed). */
 export function noiselessBenchProblem(d: number, k: number, factor: number, s: number): { problem: GeneratedProblem; problemSeed: number } {
   const problemSeed = 1000 * d + 100 * k + 10 * factor + s;
@@ -91,23 +124,10 @@ export function runAccuracyBench(print: (line: string) => void): void {
   const totals = new Map<number, [number, number]>();
   for (const factor of ROWS_PER_PREDICTOR) {
     for (const [d, k] of NOISELESS_CASES) {
-      let recovered = 0;
-      let time = 0;
-      let slowest = 0;
-      let rows = 0;
-      for (let s = 0; s < NOISELESS_SEEDS_PER_CASE; s++) {
-        const { problem, problemSeed } = noiselessBenchProblem(d, k, factor, s);
-        rows = problem.data.n;
-        const began = performance.now();
-        const fit = fitForBench(problem, problemSeed);
-        const elapsed = performance.now() - began;
-        time += elapsed;
-        slowest = Math.max(slowest, elapsed);
-        if (fit && relativeCoefficientError(fit.coefficients, problem.coefficients) <= RECOVERY_TOLERANCE) recovered++;
-      }
+      const tally = tallyRecoveries(gridRuns(d, k, factor, NOISELESS_SEEDS_PER_CASE));
       const [r, t] = totals.get(factor) ?? [0, 0];
-      totals.set(factor, [r + recovered, t + NOISELESS_SEEDS_PER_CASE]);
-      print(`  ${String(d).padStart(3)} ${String(k).padStart(2)} ${String(factor).padStart(6)} ${String(rows).padStart(6)} ${`${recovered}/${NOISELESS_SEEDS_PER_CASE}`.padStart(9)} ${(time / NOISELESS_SEEDS_PER_CASE).toFixed(0).padStart(8)} ${slowest.toFixed(0).padStart(8)}`);
+      totals.set(factor, [r + tally.recovered, t + tally.fits]);
+      print(`  ${String(d).padStart(3)} ${String(k).padStart(2)} ${String(factor).padStart(6)} ${String(tally.rows).padStart(6)} ${`${tally.recovered}/${tally.fits}`.padStart(9)} ${tally.meanMs.toFixed(0).padStart(8)} ${tally.maxMs.toFixed(0).padStart(8)}`);
     }
   }
   for (const [factor, [r, t]] of totals) print(`  n = ${factor}·d·K: ${r}/${t} recovered (${((100 * r) / t).toFixed(0)}%)`);

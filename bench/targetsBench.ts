@@ -19,7 +19,7 @@ import { checkSeparation } from "../src/engine/checkSeparation";
 import { scanComponents } from "../src/engine/scanComponents";
 import { generateProblem, noiselessProblem, noisyProblem, relativeCoefficientError, type GeneratedProblem } from "../src/synthetic/generateProblems";
 import { carefulEmFit } from "./plainEm";
-import { RECOVERY_TOLERANCE, fitForBench, noiselessBenchProblem } from "./accuracy";
+import { RECOVERY_TOLERANCE, fitForBench, gridRuns, tallyRecoveries } from "./accuracy";
 import { timeOnePass } from "./speed";
 import { cliBuilt, runCli, writeProblemCsv } from "./wholeProcess";
 
@@ -78,22 +78,8 @@ export function runFewerRowsBench(print: (line: string) => void): void {
   print(`    d  K n/(dK)   rows recovered  mean ms   max ms`);
   for (const [d, k] of [[20, 5], [50, 7]] as const) {
     for (const factor of [5, 4, 3]) {
-      let recovered = 0;
-      let time = 0;
-      let slowest = 0;
-      let rows = 0;
-      const seeds = 2;
-      for (let s = 0; s < seeds; s++) {
-        const { problem, problemSeed } = noiselessBenchProblem(d, k, factor, s);
-        rows = problem.data.n;
-        const began = performance.now();
-        const fit = fitForBench(problem, problemSeed);
-        const elapsed = performance.now() - began;
-        time += elapsed;
-        slowest = Math.max(slowest, elapsed);
-        if (fit && relativeCoefficientError(fit.coefficients, problem.coefficients) <= RECOVERY_TOLERANCE) recovered++;
-      }
-      print(`  ${String(d).padStart(3)} ${String(k).padStart(2)} ${String(factor).padStart(6)} ${String(rows).padStart(6)} ${`${recovered}/${seeds}`.padStart(9)} ${(time / seeds).toFixed(0).padStart(8)} ${slowest.toFixed(0).padStart(8)}${factor === 3 ? "   (reported only)" : ""}`);
+      const tally = tallyRecoveries(gridRuns(d, k, factor, 2));
+      print(`  ${String(d).padStart(3)} ${String(k).padStart(2)} ${String(factor).padStart(6)} ${String(tally.rows).padStart(6)} ${`${tally.recovered}/${tally.fits}`.padStart(9)} ${tally.meanMs.toFixed(0).padStart(8)} ${tally.maxMs.toFixed(0).padStart(8)}${factor === 3 ? "   (reported only)" : ""}`);
     }
   }
 }
@@ -134,25 +120,9 @@ export function runFitSeedsBench(print: (line: string) => void): void {
   print(`Noiseless d = 50, K = 7, problems 0-4 each fitted with ${FIT_SEEDS} seeds (the bench's and the next); recovered = worst relative error <= 1e-6; a fit still running after ${FIT_SEEDS_LIMIT_MS / 1000} s is cancelled and counts as not recovered`);
   print(`  n/(dK)   rows   recovered   mean ms   max ms`);
   for (const factor of [10, 6, 5]) {
-    let recovered = 0;
-    let fits = 0;
-    let time = 0;
-    let slowest = 0;
-    let rows = 0;
-    for (let s = 0; s < 5; s++) {
-      const { problem, problemSeed } = noiselessBenchProblem(50, 7, factor, s);
-      rows = problem.data.n;
-      for (let shift = 0; shift < FIT_SEEDS; shift++) {
-        const began = performance.now();
-        const fit = fitForBench(problem, problemSeed + shift, FIT_SEEDS_LIMIT_MS);
-        const elapsed = performance.now() - began;
-        fits++;
-        time += elapsed;
-        slowest = Math.max(slowest, elapsed);
-        if (fit && relativeCoefficientError(fit.coefficients, problem.coefficients) <= RECOVERY_TOLERANCE) recovered++;
-      }
-    }
-    print(`  ${String(factor).padStart(6)} ${String(rows).padStart(6)} ${`${recovered}/${fits}`.padStart(11)} ${(time / fits).toFixed(0).padStart(9)} ${slowest.toFixed(0).padStart(8)}`);
+    const runs = gridRuns(50, 7, factor, 5).flatMap(({ problem, seed }) => Array.from({ length: FIT_SEEDS }, (_, shift) => ({ problem, seed: seed + shift })));
+    const tally = tallyRecoveries(runs, FIT_SEEDS_LIMIT_MS);
+    print(`  ${String(factor).padStart(6)} ${String(tally.rows).padStart(6)} ${`${tally.recovered}/${tally.fits}`.padStart(11)} ${tally.meanMs.toFixed(0).padStart(9)} ${tally.maxMs.toFixed(0).padStart(8)}`);
   }
 }
 
