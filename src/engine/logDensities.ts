@@ -20,6 +20,7 @@ const LOG_TWO_PI = Math.log(2 * Math.PI);
 export function componentLogConstant(weight: number, variance: number): number {
   return Math.log(weight) - 0.5 * (LOG_TWO_PI + Math.log(variance));
 }
+
 /** ln(2⁻⁵³) ≈ −36.7: a term exp(−37) ≈ 8.5e-17 is below half an ulp of a sum that is at least 1. */
 const NEGLIGIBLE_LOG_RATIO = -37;
 
