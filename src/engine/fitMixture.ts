@@ -95,7 +95,8 @@ export interface SubProblem {
 
 /**
  * The one way a phase fits a subset of rows: the whole pipeline on those rows, one level
- * deeper, with the parent's settings and a seed drawn from the parent's generator.
+ * deeper, with the parent's settings, the caller's cancel signal and a seed drawn from the
+ * parent's generator.
  */
 export function fitSubProblem(parent: FitContext, sub: SubProblem): MixtureFit {
   const { settings } = parent;
@@ -107,6 +108,7 @@ export function fitSubProblem(parent: FitContext, sub: SubProblem): MixtureFit {
     restarts: sub.restarts ?? settings.restarts,
     tolerance: settings.tolerance,
     maxIterations: settings.maxIterations,
+    signal: parent.signal,
   };
   return fitAtDepth(selectRows(parent.data, sub.rows), options, parent.depth + 1, sub.start, sub.expectExact ?? parent.expectExact);
 }
