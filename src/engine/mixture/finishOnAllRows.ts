@@ -3,7 +3,7 @@ import type { FitContext } from "./fitContext";
 import { createWorkspace } from "./mixtureWorkspace";
 import { withBackground } from "./backgroundComponent";
 import type { Incumbent } from "./refineBest";
-import { cannotReach } from "./unwantedFitStop";
+import { cannotReach, stopOnAllRows } from "./unwantedFitStop";
 import { runEm, type EmStop } from "./runEm";
 import { DEFAULT_TOLERANCE } from "../options";
 import type { MixtureParameters } from "./mixtureParameters";
@@ -63,7 +63,7 @@ export function finishOnAllRows(ctx: FitContext, incumbent: Incumbent): OnAllRow
   const fromSubsample = incumbent.run;
   const run = runEm(full, params, ctx, settings.maxIterations, incumbent.path, {
     enoughGain: FULL_DATA_GAIN * (settings.tolerance / DEFAULT_TOLERANCE),
-    stop: ctx.unwanted?.stop ?? null,
+    stop: stopOnAllRows(ctx, full),
   });
   run.reseeds += fromSubsample.reseeds;
   run.varianceBoundActive ||= fromSubsample.varianceBoundActive;
