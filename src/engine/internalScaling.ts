@@ -44,7 +44,7 @@ export function scalesFor(data: RegressionData): Scales | null {
 function columnScale(values: Float64Array, n: number, stride: number, offset: number): number {
   const largest = largestMagnitude(values, n, stride, offset);
   if (!Number.isFinite(largest) || largest === 0) return 1;
-  const rms = euclideanNorm(values, n, stride, offset) / Math.sqrt(n);
+  const rms = euclideanNorm(values, n, stride, offset, largest) / Math.sqrt(n);
   if (largest <= LARGEST_UNSCALED && rms >= SMALLEST_UNSCALED) return 1;
   if (largest > LARGEST_UNSCALED) {
     // Divided by the root mean square, one huge value (a typed-in 1e154 among values near 10)

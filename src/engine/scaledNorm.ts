@@ -16,8 +16,8 @@ export function largestMagnitude(values: Float64Array, n: number, stride = 1, of
   return largest;
 }
 
-export function euclideanNorm(values: Float64Array, n: number, stride = 1, offset = 0): number {
-  const largest = largestMagnitude(values, n, stride, offset);
+/** The 2-norm; `largest` is the column's largestMagnitude when the caller already has it (one pass fewer). */
+export function euclideanNorm(values: Float64Array, n: number, stride = 1, offset = 0, largest = largestMagnitude(values, n, stride, offset)): number {
   if (!(largest > 0) || !Number.isFinite(largest)) return largest;
   const inverse = 1 / largest;
   let sum = 0;
