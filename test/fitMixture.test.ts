@@ -309,13 +309,13 @@ describe("bad input and cancellation", () => {
   it("asks the signal inside its sub-problems too, and stops there at the first question after it is raised", () => {
     // Invented noiseless problem from the shared generator (20 predictors, 5 components, 5 rows
     // per predictor per component), whose fit peels exact components into sub-problems.
-    const noiseless = noiselessProblem(20, 5, 5, createRandom(20550));
+    const noiseless = noiselessProblem(20, 5, 5, createRandom(20552));
     const limit = Error.stackTraceLimit;
     Error.stackTraceLimit = 200;
     try {
       const insideSubProblem = (): boolean => (new Error().stack ?? "").includes("fitSubProblem");
       let inside = 0;
-      fitMixture(noiseless.data, { k: 5, intercept: false, seed: 20550, signal: { get aborted(): boolean { if (insideSubProblem()) inside++; return false; } } });
+      fitMixture(noiseless.data, { k: 5, intercept: false, seed: 20552, signal: { get aborted(): boolean { if (insideSubProblem()) inside++; return false; } } });
       expect(inside).toBeGreaterThan(0);
       // Raised at the first question a sub-problem asks: the fit ends there, asking nothing more.
       let raised = false;
@@ -327,7 +327,7 @@ describe("bad input and cancellation", () => {
           return raised;
         },
       };
-      expect(() => fitMixture(noiseless.data, { k: 5, intercept: false, seed: 20550, signal })).toThrowError(/cancelled/);
+      expect(() => fitMixture(noiseless.data, { k: 5, intercept: false, seed: 20552, signal })).toThrowError(/cancelled/);
       expect(raised).toBe(true);
       expect(askedAfter).toBe(0);
     } finally {
