@@ -58,8 +58,10 @@ const CONVERGED_CERTIFICATE = 0.25;
  * data); the subspace EM then carries one free offset per component, and the refinement uses
  * the whitened design with a column of 1s. Returns null when the start does not apply: fewer
  * than K(q + 1) rows, collinear predictors, a constant or non-finite response.
+ * `noiseless`: the rows are known to lie exactly on the K regressions (a restart after
+ * peeling), so the candidates are refined by the classification rule alone.
  */
-export function momentWarmStart(data: RegressionData, k: number, intercept: boolean, random: Random, signal?: CancelSignal): MomentWarmStart | null {
+export function momentWarmStart(data: RegressionData, k: number, intercept: boolean, random: Random, signal?: CancelSignal, noiseless = false): MomentWarmStart | null {
   const { n, p, x, y } = data;
   const q = intercept ? p + 1 : p;
   if (!(k >= 1) || !Number.isInteger(k) || p < 1 || n < k * (q + 1)) return null;
@@ -87,7 +89,7 @@ export function momentWarmStart(data: RegressionData, k: number, intercept: bool
   }
   const exactTolerance = EXACT_RELATIVE * sdY;
   const candidates = subspaceCandidates(whitened, y, k, intercept, random, signal);
-  let best = refineCandidates(design, n, q, y, candidates, exactTolerance, signal);
+  let best = refineCandidates(design, n, q, y, candidates, exactTolerance, signal, noiseless);
   if (!best) return null;
   best = peelAndRestart(data, whitened, design, q, k, intercept, best, exactTolerance, random, signal);
   let worstScale = 0;
@@ -104,11 +106,14 @@ export function momentWarmStart(data: RegressionData, k: number, intercept: bool
  * or candidates far from every component), by the nearest-residual rule, whose refinement EM
  * then continues from: on noisy data the rule that gave the better EM starts (on the bench's
  * noisy grid the classification rule's starts led EM to a lower likelihood on some d = 20,
- * K = 5 problems).
+ * K = 5 problems). On rows known to be noiseless the classification rule's result is kept
+ * either way (measured on d = 50, K = 7, fits interleaved with the code before: 18% less
+ * time at 6 rows per predictor per component, 14% less at 10, 8% more at 14, the same
+ * recoveries).
  */
-function refineCandidates(design: Float64Array, n: number, q: number, y: Float64Array, candidates: Float64Array[][], exactTolerance: number, signal: CancelSignal | undefined): AlternatingFit | null {
+function refineCandidates(design: Float64Array, n: number, q: number, y: Float64Array, candidates: Float64Array[][], exactTolerance: number, signal: CancelSignal | undefined, noiseless: boolean): AlternatingFit | null {
   const classified = bestRefinement(design, n, q, y, candidates, exactTolerance, signal, "classification");
-  if (classified && classified.exactRows >= enoughRows(q)) return classified;
+  if (noiseless || (classified && classified.exactRows >= enoughRows(q))) return classified;
   return bestRefinement(design, n, q, y, candidates, exactTolerance, signal, "nearest");
 }
 
@@ -157,7 +162,7 @@ function peelAndRestart(
       if (!fitted) rest.push(i);
     }
     if (rest.length < missing * (q + 1)) break;
-    const restart = momentWarmStart(selectRows(data, rest), missing, intercept, random, signal);
+    const restart = momentWarmStart(selectRows(data, rest), missing, intercept, random, signal, true);
     if (!restart) break;
     const combined = found.concat(restart.coefficients.map((c) => toWhitened(whitened, c, intercept, offset)));
     const fit = alternatingLeastSquares(design, n, q, y, combined, ALS_ITERATIONS, exactTolerance, q + 1, signal, "classification");
