@@ -1,5 +1,8 @@
 /** One median kernel: order statistics by selection on a typed array. */
 
+/** A median absolute deviation times this estimates a normal SD: 1/Φ⁻¹(3/4) (Hampel 1974). */
+export const MAD_TO_SD = 1.4826;
+
 /**
  * The median of the (finite) values, which are reordered: the middle order statistics by
  * selection (Hoare 1961, FIND) in O(n) instead of a sort, the same numbers a sort would give.

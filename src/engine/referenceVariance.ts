@@ -1,5 +1,5 @@
 import { largestMagnitude } from "./scaledNorm";
-import { median } from "./median";
+import { MAD_TO_SD, median } from "./median";
 
 /**
  * The variance of y that the fit's floors and its exact-fit test are measured against.
@@ -13,7 +13,6 @@ import { median } from "./median";
  * are unchanged.
  */
 const DOMINATED_RATIO = 1e6;
-const MAD_TO_SD = 1.4826;
 /** Below this magnitude squares and their sums cannot overflow, and the variance is computed directly. */
 const DIRECT_LIMIT = 1e150;
 

@@ -3,7 +3,7 @@ import { checkSignal } from "../errors";
 import type { CancelSignal } from "../mixtureTypes";
 import { gatherRows, rowsWithLabel } from "../rowSubset";
 import { choleskyScratchLength, scaledCholeskySolve } from "../cholesky";
-import { median } from "../median";
+import { MAD_TO_SD, median } from "../median";
 
 /**
  * Hard-assignment refinement of K regressions (k-lines / clusterwise regression, Späth 1979,
@@ -133,9 +133,6 @@ function addOuterProduct(design: Float64Array, row: number, q: number, response:
   }
 }
 
-/** Normal-consistent scale of a median absolute residual (1/Φ⁻¹(3/4); Hampel 1974). */
-const MEDIAN_TO_SCALE = 1.4826;
-
 /**
  * The classification rule's terms per component: 1/σ_c and ln σ_c − ln π_c, so that a row
  * goes to the smallest r²/(2σ_c²) + ln σ_c − ln π_c. σ_c is the median absolute residual of
@@ -173,7 +170,7 @@ class ClassificationCriterion {
         this.penalty[c] = Infinity;
         continue;
       }
-      const scale = Math.max(MEDIAN_TO_SCALE * median(pool.subarray(offsets[c], offsets[c + 1])), this.floor, Number.MIN_VALUE);
+      const scale = Math.max(MAD_TO_SD * median(pool.subarray(offsets[c], offsets[c + 1])), this.floor, Number.MIN_VALUE);
       this.inverseScale[c] = 1 / scale;
       this.penalty[c] = Math.log(scale) - Math.log(counts[c] / n);
     }
