@@ -69,11 +69,12 @@ export function alternatingLeastSquares(
   for (; iterations < maxIterations; iterations++) {
     checkSignal(signal);
     changedComponent.fill(0);
-    let moved = assign(design, n, q, y, coefficients, labels, best, changedComponent, fitted, stale, criterion?.ready ? criterion : null);
+    const moved = assign(design, n, q, y, coefficients, labels, best, changedComponent, fitted, stale, criterion?.ready ? criterion : null);
     if (criterion && !criterion.ready) {
-      // The first assignment is by nearest residual; the scales it shows decide it again.
+      // The first assignment (every row moved: none had a label) is by nearest residual; the
+      // scales it shows decide it again.
       criterion.update(labels, best);
-      moved = Math.max(moved, assign(design, n, q, y, coefficients, labels, best, changedComponent, fitted, stale, criterion));
+      assign(design, n, q, y, coefficients, labels, best, changedComponent, fitted, stale, criterion);
     }
     if (moved === 0) break;
     for (let i = 0; i < n; i++) {
