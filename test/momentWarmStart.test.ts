@@ -6,6 +6,7 @@ import { responseMomentSubspace } from "../src/engine/warmStart/responseMomentSu
 import { noiselessProblem, relativeCoefficientError, type GeneratedProblem } from "../src/synthetic/generateProblems";
 import { alternatingLeastSquares } from "../src/engine/warmStart/alternatingLeastSquares";
 import { EXACT_RELATIVE } from "../src/engine/mixture/exactComponents";
+import { Matrix, solve } from "ml-matrix";
 
 /** Hard-assignment polish (the engine's alternating least squares) of a start on the problem's full design. */
 function polishByAlternatingLeastSquares(problem: GeneratedProblem, start: Float64Array[]): Float64Array[] {
@@ -173,6 +174,55 @@ describe("cancellation inside the warm start", () => {
     // Unraised, the same call runs to its end.
     const fit = alternatingLeastSquares(x, n, p, y, start, 25, 1e-9, p + 1, { aborted: false });
     expect(fit.iterations).toBeGreaterThan(2);
+  });
+});
+
+describe("alternating least squares: the final solve", () => {
+  // Reference: ml-matrix's least-squares solve (a general-purpose library, QR based) of each
+  // component's final rows. The kernel ends with iterative refinement of normal equations kept
+  // by rank-one updates (rows moved in and out over the run); it must give the least-squares
+  // fit of the rows each component ends with, noisy rows included.
+  function leastSquaresOfRows(design: Float64Array, q: number, y: Float64Array, rows: number[]): number[] {
+    const a = new Matrix(rows.map((i) => Array.from(design.subarray(i * q, i * q + q))));
+    const b = Matrix.columnVector(rows.map((i) => y[i]));
+    return solve(a, b).getColumn(0);
+  }
+
+  it.each([
+    ["noiseless", 0, 1],
+    ["noisy (SD 0.3)", 0.3, 1],
+    // Two columns equal up to 1e-5: XᵀX has a condition number near 1e11, so a plain solve of
+    // the normal equations keeps about 5 digits (Golub & Van Loan, 4th ed., §5.3.8); the
+    // refinement steps, which recompute the residuals from the rows, recover the rest.
+    ["noiseless, two nearly equal columns", 0, 1e-5],
+  ])("%s: each component's coefficients are the least-squares fit of its final rows", (_, noise, gap) => {
+    // Invented two-component problem: 8 predictors, 400 rows, a start 50% off the truth.
+    const random = createRandom(4242);
+    const n = 400;
+    const q = 8;
+    const truth = [Float64Array.from({ length: q }, () => random.normal()), Float64Array.from({ length: q }, () => random.normal())];
+    const design = new Float64Array(n * q).map(() => random.normal());
+    if (gap < 1) for (let i = 0; i < n; i++) design[i * q + 1] = design[i * q] + gap * design[i * q + 1];
+    const y = new Float64Array(n);
+    for (let i = 0; i < n; i++) {
+      const c = truth[i % 2];
+      for (let j = 0; j < q; j++) y[i] += design[i * q + j] * c[j];
+      y[i] += noise * random.normal();
+    }
+    const start = truth.map((c) => c.map((v, j) => v * (j % 2 ? 1.5 : 0.5)));
+    const fit = alternatingLeastSquares(design, n, q, y, start, 100, 1e-9, q + 1);
+    // Converged (no row moved), so the final labels are the rows the final solve used.
+    expect(fit.iterations).toBeLessThan(100);
+    for (let c = 0; c < 2; c++) {
+      const rows = Array.from(fit.labels.keys()).filter((i) => fit.labels[i] === c);
+      const reference = leastSquaresOfRows(design, q, y, rows);
+      reference.forEach((v, j) => expect(Math.abs(fit.coefficients[c][j] - v)).toBeLessThan((gap < 1 ? 1e-7 : 1e-12) * (1 + Math.abs(v))));
+    }
+    if (noise === 0) {
+      // Noiseless: every row exact, the truth to rounding level.
+      expect(fit.exactRows).toBe(n);
+      expect(relativeCoefficientError(fit.coefficients, truth)).toBeLessThan(gap < 1 ? 1e-9 : 1e-13);
+    }
   });
 });
 

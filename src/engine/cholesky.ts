@@ -12,7 +12,8 @@
  *  - the columns are equilibrated first (G ← DGD with D = diag(G)^-½, van der Sluis 1969),
  *    which removes the part of the conditioning that comes from units alone;
  *  - fits that must reach rounding level (noiseless data) finish with the Householder QR
- *    core (householderQR.ts).
+ *    core (householderQR.ts), or, where the normal equations are kept up to date anyway (the
+ *    hard-assignment kernel), with iterative refinement from residuals recomputed on the rows.
  *
  * Cholesky (Golub & Van Loan, algorithm 4.2.1) on the scaled matrix; a pivot below
  * PIVOT_TOLERANCE means the matrix is numerically singular (a component whose rows all share
