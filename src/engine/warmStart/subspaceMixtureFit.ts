@@ -40,46 +40,48 @@ export function subspaceMixtureFit(z: Float64Array, y: Float64Array, n: number, 
   for (let i = 0; i < n; i++) meanSquare += y[i] * y[i];
   meanSquare /= n;
   const floor = RELATIVE_VARIANCE_FLOOR * meanSquare;
-  // Each row's products z_a z_b (lower triangle, a ≥ b) and z_a y, computed once: every
-  // M-step of every component then adds them scaled by one membership, one multiply-add per
-  // entry instead of two multiplies and an add.
+  // Each row's products z_a z_b (lower triangle, a ≥ b) and z_a y, computed once and stored
+  // by column (product e of row i at e·n + i). The M-step's sums over rows are then one matrix
+  // product, sums(K x width) = τᵀ · products, taken as dot products of contiguous columns with
+  // four partial sums each: about twice as fast as adding each row's products into every
+  // component's sums, whose adds wait on one another.
   const width = (m * (m + 1)) / 2 + m;
   const products = new Float64Array(n * width);
   for (let i = 0; i < n; i++) {
     const row = i * m;
-    let t = i * width;
+    let e = 0;
     for (let a = 0; a < m; a++) {
-      for (let b = 0; b <= a; b++) products[t++] = z[row + a] * z[row + b];
+      for (let b = 0; b <= a; b++) products[e++ * n + i] = z[row + a] * z[row + b];
     }
-    for (let a = 0; a < m; a++) products[t++] = z[row + a] * y[i];
+    for (let a = 0; a < m; a++) products[e++ * n + i] = z[row + a] * y[i];
   }
-  // One pass over the rows adds each row's products into the sums of every component that
-  // holds it (the products are read once per iteration instead of once per component); each
-  // component's sums still run over the rows in order, so the result is the same to the bit.
   const sums = new Float64Array(k * width);
   const masses = new Float64Array(k);
   const solved = new Uint8Array(k);
+  // Memberships by component (τ_j of row i at j·n + i), the negligible ones set to 0.
+  const byComponent = new Float64Array(n * k);
   // Squared residuals of every row under every component, shared by the variances and the E-step.
   const squares = new Float64Array(n * k);
   const rss = new Float64Array(k);
+  const flat = new Float64Array(k * m);
   let logLikelihood = -Infinity;
   for (let iteration = 0; iteration < iterations; iteration++) {
     // M-step: weighted least squares per component through the m x m normal equations
     // (m = K is tiny and the projected columns are close to orthonormal).
-    sums.fill(0);
     masses.fill(0);
     for (let i = 0; i < n; i++) {
-      const base = i * width;
       for (let j = 0; j < k; j++) {
-        const t = tau[i * k + j];
         // Negligible memberships are left out (they change nothing visible). In the subspace the
         // missed part of each component acts as noise, so memberships stay soft and few are
-        // skipped: the M-step costs about n·K·width multiply-adds per iteration.
-        if (t < MEMBERSHIP_CUTOFF) continue;
-        masses[j] += t;
-        const out = j * width;
-        for (let e = 0; e < width; e++) sums[out + e] += t * products[base + e];
+        // skipped.
+        const t = tau[i * k + j];
+        const kept = t < MEMBERSHIP_CUTOFF ? 0 : t;
+        byComponent[j * n + i] = kept;
+        masses[j] += kept;
       }
+    }
+    for (let j = 0; j < k; j++) {
+      for (let e = 0; e < width; e++) sums[j * width + e] = columnDot(byComponent, j * n, products, e * n, n);
     }
     for (let j = 0; j < k; j++) {
       let e = j * width;
@@ -89,11 +91,12 @@ export function subspaceMixtureFit(z: Float64Array, y: Float64Array, n: number, 
       solved[j] = scaledCholeskySolve(gram, right, m, coefficients[j], scratch, false) ? 1 : 0;
     }
     rss.fill(0);
+    for (let j = 0; j < k; j++) flat.set(coefficients[j], j * m);
     for (let i = 0; i < n; i++) {
       const row = i * m;
       for (let j = 0; j < k; j++) {
         let fitted = 0;
-        for (let a = 0; a < m; a++) fitted += z[row + a] * coefficients[j][a];
+        for (let a = 0; a < m; a++) fitted += z[row + a] * flat[j * m + a];
         const square = (y[i] - fitted) ** 2;
         squares[i * k + j] = square;
         rss[j] += tau[i * k + j] * square;
@@ -106,6 +109,23 @@ export function subspaceMixtureFit(z: Float64Array, y: Float64Array, n: number, 
     logLikelihood = normaliseLogDensities(tau, n, k);
   }
   return { coefficients, memberships: tau, logLikelihood };
+}
+
+/** Σ_i a[aStart + i] · b[bStart + i] over n terms, in four partial sums. */
+function columnDot(a: Float64Array, aStart: number, b: Float64Array, bStart: number, n: number): number {
+  let s0 = 0;
+  let s1 = 0;
+  let s2 = 0;
+  let s3 = 0;
+  let i = 0;
+  for (; i + 3 < n; i += 4) {
+    s0 += a[aStart + i] * b[bStart + i];
+    s1 += a[aStart + i + 1] * b[bStart + i + 1];
+    s2 += a[aStart + i + 2] * b[bStart + i + 2];
+    s3 += a[aStart + i + 3] * b[bStart + i + 3];
+  }
+  for (; i < n; i++) s0 += a[aStart + i] * b[bStart + i];
+  return s0 + s1 + (s2 + s3);
 }
 
 /** A random hard partition as starting memberships (n x k). */
