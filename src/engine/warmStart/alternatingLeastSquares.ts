@@ -2,6 +2,7 @@ import { checkSignal } from "../errors";
 import type { CancelSignal } from "../mixtureTypes";
 import { choleskyScratchLength, scaledCholeskySolve } from "../cholesky";
 import { MAD_TO_SD, median } from "../median";
+import { accumulateGramBlock, blockRowsFor, dot } from "../weightedGram";
 
 /**
  * Hard-assignment refinement of K regressions (k-lines / clusterwise regression, Späth 1979,
@@ -59,6 +60,7 @@ export function alternatingLeastSquares(
   const scratch = new Float64Array(choleskyScratchLength(q));
   const changedComponent = new Uint8Array(k);
   const previous = new Int32Array(n).fill(-1);
+  const moves = new RowMoves(q);
   // Fitted values per row and component (n x k), recomputed only for the components whose
   // coefficients changed since the last assignment: late iterations move a few rows and
   // re-solve a few components, so most of the n·k·q products are reused.
@@ -78,7 +80,7 @@ export function alternatingLeastSquares(
       assign(design, n, q, y, coefficients, labels, best, changedComponent, fitted, stale, criterion);
     }
     if (moved === 0) break;
-    moveRows(design, q, y, labels, previous, grams, rights, counts);
+    moves.apply(design, y, labels, previous, grams, rights, counts);
     for (let c = 0; c < k; c++) {
       if (!changedComponent[c] || counts[c] < minimumRows) continue;
       stale[c] = 1;
@@ -94,7 +96,7 @@ export function alternatingLeastSquares(
   // set by the residuals, computed afresh from the rows). About n·q operations a step,
   // against n·q² for a QR of each component's rows.
   assign(design, n, q, y, coefficients, labels, best, changedComponent, fitted, stale, criterion);
-  moveRows(design, q, y, labels, previous, grams, rights, counts);
+  moves.apply(design, y, labels, previous, grams, rights, counts);
   const correction = new Float64Array(q);
   for (let step = 0; step < REFINEMENT_STEPS; step++) {
     rights.fill(0);
@@ -127,31 +129,53 @@ export function alternatingLeastSquares(
   return { coefficients, labels, exactRows, scales, iterations };
 }
 
-/** Brings the normal equations from the rows' previous labels to their current ones. */
-function moveRows(design: Float64Array, q: number, y: Float64Array, labels: Int32Array, previous: Int32Array, grams: Float64Array, rights: Float64Array, counts: Int32Array): void {
-  for (let i = 0; i < labels.length; i++) {
-    const from = previous[i];
-    const to = labels[i];
-    if (from === to) continue;
-    if (from >= 0) {
-      addOuterProduct(design, i * q, q, y[i], -1, grams, rights, from);
-      counts[from]--;
-    }
-    addOuterProduct(design, i * q, q, y[i], 1, grams, rights, to);
-    counts[to]++;
-    previous[i] = to;
-  }
-}
+/**
+ * Brings the normal equations from the rows' previous labels to their current ones: per
+ * component, the rows that leave it (weight −1) and the rows that join it (weight +1) are
+ * gathered a block at a time and added as one weighted Gram (the weighted-Gram kernel),
+ * instead of one rank-one update per row.
+ */
+class RowMoves {
+  private readonly blockRows: number;
+  private readonly columns: Float64Array;
+  private readonly weighted: Float64Array;
+  private readonly weightedY: Float64Array;
 
-/** Adds sign · (x xᵀ, x y) of one row to component c's normal equations (upper triangle). */
-function addOuterProduct(design: Float64Array, row: number, q: number, response: number, sign: number, grams: Float64Array, rights: Float64Array, c: number): void {
-  const gramOffset = c * q * q;
-  const rightOffset = c * q;
-  for (let a = 0; a < q; a++) {
-    const va = sign * design[row + a];
-    rights[rightOffset + a] += va * response;
-    const out = gramOffset + a * q;
-    for (let b = a; b < q; b++) grams[out + b] += va * design[row + b];
+  constructor(private readonly q: number) {
+    this.blockRows = blockRowsFor(q);
+    this.columns = new Float64Array(q * this.blockRows);
+    this.weighted = new Float64Array(q * this.blockRows);
+    this.weightedY = new Float64Array(this.blockRows);
+  }
+
+  apply(design: Float64Array, y: Float64Array, labels: Int32Array, previous: Int32Array, grams: Float64Array, rights: Float64Array, counts: Int32Array): void {
+    const { q, blockRows, columns, weighted, weightedY } = this;
+    const n = labels.length;
+    const k = counts.length;
+    for (let c = 0; c < k; c++) {
+      let m = 0;
+      const flush = (): void => {
+        accumulateGramBlock(weighted, columns, blockRows, m, q, grams, c * q * q);
+        for (let a = 0; a < q; a++) rights[c * q + a] += dot(columns, a * blockRows, weightedY, 0, m);
+        m = 0;
+      };
+      for (let i = 0; i < n; i++) {
+        const from = previous[i];
+        const to = labels[i];
+        if (from === to || (from !== c && to !== c)) continue;
+        const sign = to === c ? 1 : -1;
+        counts[c] += sign;
+        for (let a = 0; a < q; a++) {
+          const value = design[i * q + a];
+          columns[a * blockRows + m] = value;
+          weighted[a * blockRows + m] = sign * value;
+        }
+        weightedY[m] = sign * y[i];
+        if (++m === blockRows) flush();
+      }
+      if (m > 0) flush();
+    }
+    previous.set(labels);
   }
 }
 

@@ -1,6 +1,7 @@
 import type { Random } from "../random";
 import { choleskyScratchLength, scaledCholeskySolve } from "../cholesky";
 import { componentLogConstant, normaliseLogDensities } from "../logDensities";
+import { dot } from "../weightedGram";
 
 /**
  * EM for a mixture of K regressions restricted to a K-dimensional subspace: the rows are the
@@ -42,8 +43,8 @@ export function subspaceMixtureFit(z: Float64Array, y: Float64Array, n: number, 
   const floor = RELATIVE_VARIANCE_FLOOR * meanSquare;
   // Each row's products z_a z_b (lower triangle, a ≥ b) and z_a y, computed once and stored
   // by column (product e of row i at e·n + i). The M-step's sums over rows are then one matrix
-  // product, sums(K x width) = τᵀ · products, taken as dot products of contiguous columns with
-  // four partial sums each: about twice as fast as adding each row's products into every
+  // product, sums(K x width) = τᵀ · products, taken as dot products of contiguous columns (the
+  // weighted-Gram kernel's dot): about twice as fast as adding each row's products into every
   // component's sums, whose adds wait on one another.
   const width = (m * (m + 1)) / 2 + m;
   const products = new Float64Array(n * width);
@@ -81,7 +82,7 @@ export function subspaceMixtureFit(z: Float64Array, y: Float64Array, n: number, 
       }
     }
     for (let j = 0; j < k; j++) {
-      for (let e = 0; e < width; e++) sums[j * width + e] = columnDot(byComponent, j * n, products, e * n, n);
+      for (let e = 0; e < width; e++) sums[j * width + e] = dot(byComponent, j * n, products, e * n, n);
     }
     for (let j = 0; j < k; j++) {
       let e = j * width;
@@ -109,23 +110,6 @@ export function subspaceMixtureFit(z: Float64Array, y: Float64Array, n: number, 
     logLikelihood = normaliseLogDensities(tau, n, k);
   }
   return { coefficients, memberships: tau, logLikelihood };
-}
-
-/** Σ_i a[aStart + i] · b[bStart + i] over n terms, in four partial sums. */
-function columnDot(a: Float64Array, aStart: number, b: Float64Array, bStart: number, n: number): number {
-  let s0 = 0;
-  let s1 = 0;
-  let s2 = 0;
-  let s3 = 0;
-  let i = 0;
-  for (; i + 3 < n; i += 4) {
-    s0 += a[aStart + i] * b[bStart + i];
-    s1 += a[aStart + i + 1] * b[bStart + i + 1];
-    s2 += a[aStart + i + 2] * b[bStart + i + 2];
-    s3 += a[aStart + i + 3] * b[bStart + i + 3];
-  }
-  for (; i < n; i++) s0 += a[aStart + i] * b[bStart + i];
-  return s0 + s1 + (s2 + s3);
 }
 
 /** A random hard partition as starting memberships (n x k). */
