@@ -248,10 +248,7 @@ function assign(
     // Row by row, so that each design row is read once while it is in cache.
     const row = i * q;
     for (let s = 0; s < recompute.length; s++) {
-      const v = recompute[s];
-      let value = 0;
-      for (let j = 0; j < q; j++) value += design[row + j] * v[j];
-      fitted[i * k + columns[s]] = value;
+      fitted[i * k + columns[s]] = dot(design, row, recompute[s], 0, q);
     }
     let label = 0;
     let smallest = Infinity;
