@@ -1,7 +1,7 @@
 import type { Random } from "../random";
 import { choleskyScratchLength, scaledCholeskySolve } from "../cholesky";
 import { componentLogConstant, normaliseLogDensities } from "../logDensities";
-import { dot } from "../weightedGram";
+import { accumulateGramBlock, dot } from "../weightedGram";
 
 /**
  * EM for a mixture of K regressions restricted to a K-dimensional subspace: the rows are the
@@ -41,67 +41,56 @@ export function subspaceMixtureFit(z: Float64Array, y: Float64Array, n: number, 
   for (let i = 0; i < n; i++) meanSquare += y[i] * y[i];
   meanSquare /= n;
   const floor = RELATIVE_VARIANCE_FLOOR * meanSquare;
-  // Each row's products z_a z_b (lower triangle, a ≥ b) and z_a y, computed once and stored
-  // by column (product e of row i at e·n + i). The M-step's sums over rows are then one matrix
-  // product, sums(K x width) = τᵀ · products, taken as dot products of contiguous columns (the
-  // weighted-Gram kernel's dot): about twice as fast as adding each row's products into every
-  // component's sums, whose adds wait on one another.
-  const width = (m * (m + 1)) / 2 + m;
-  const products = new Float64Array(n * width);
-  for (let i = 0; i < n; i++) {
-    const row = i * m;
-    let e = 0;
-    for (let a = 0; a < m; a++) {
-      for (let b = 0; b <= a; b++) products[e++ * n + i] = z[row + a] * z[row + b];
-    }
-    for (let a = 0; a < m; a++) products[e++ * n + i] = z[row + a] * y[i];
-  }
-  const sums = new Float64Array(k * width);
+  // The projected rows by column (z_a of row i at a·n + i) and, per M-step, the same weighted
+  // by one component's memberships: its normal equations are then the weighted-Gram kernel's
+  // register-blocked dot products over contiguous columns.
+  const columns = new Float64Array(n * m);
+  for (let i = 0; i < n; i++) for (let a = 0; a < m; a++) columns[a * n + i] = z[i * m + a];
+  const weighted = new Float64Array(n * m);
+  const kept = new Float64Array(n);
   const masses = new Float64Array(k);
   const solved = new Uint8Array(k);
-  // Memberships by component (τ_j of row i at j·n + i), the negligible ones set to 0.
-  const byComponent = new Float64Array(n * k);
   // Squared residuals of every row under every component, shared by the variances and the E-step.
   const squares = new Float64Array(n * k);
   const rss = new Float64Array(k);
-  const flat = new Float64Array(k * m);
+  const residual = new Float64Array(n);
   let logLikelihood = -Infinity;
   for (let iteration = 0; iteration < iterations; iteration++) {
     // M-step: weighted least squares per component through the m x m normal equations
     // (m = K is tiny and the projected columns are close to orthonormal).
-    masses.fill(0);
-    for (let i = 0; i < n; i++) {
-      for (let j = 0; j < k; j++) {
-        // Negligible memberships are left out (they change nothing visible). In the subspace the
-        // missed part of each component acts as noise, so memberships stay soft and few are
-        // skipped.
+    for (let j = 0; j < k; j++) {
+      // Negligible memberships are left out (they change nothing visible). In the subspace the
+      // missed part of each component acts as noise, so memberships stay soft and few are skipped.
+      let mass = 0;
+      for (let i = 0; i < n; i++) {
         const t = tau[i * k + j];
-        const kept = t < MEMBERSHIP_CUTOFF ? 0 : t;
-        byComponent[j * n + i] = kept;
-        masses[j] += kept;
+        kept[i] = t < MEMBERSHIP_CUTOFF ? 0 : t;
+        mass += kept[i];
       }
-    }
-    for (let j = 0; j < k; j++) {
-      for (let e = 0; e < width; e++) sums[j * width + e] = dot(byComponent, j * n, products, e * n, n);
-    }
-    for (let j = 0; j < k; j++) {
-      let e = j * width;
-      for (let a = 0; a < m; a++) for (let b = 0; b <= a; b++) gram[b * m + a] = sums[e++];
-      for (let a = 0; a < m; a++) right[a] = sums[e++];
-      weights[j] = Math.max(masses[j] / n, 1e-12);
+      for (let a = 0; a < m; a++) for (let i = 0; i < n; i++) weighted[a * n + i] = kept[i] * columns[a * n + i];
+      masses[j] = mass;
+      gram.fill(0);
+      accumulateGramBlock(weighted, columns, n, n, m, gram, 0);
+      for (let a = 0; a < m; a++) right[a] = dot(weighted, a * n, y, 0, n);
+      weights[j] = Math.max(mass / n, 1e-12);
       solved[j] = scaledCholeskySolve(gram, right, m, coefficients[j], scratch, false) ? 1 : 0;
     }
-    rss.fill(0);
-    for (let j = 0; j < k; j++) flat.set(coefficients[j], j * m);
-    for (let i = 0; i < n; i++) {
-      const row = i * m;
-      for (let j = 0; j < k; j++) {
-        let fitted = 0;
-        for (let a = 0; a < m; a++) fitted += z[row + a] * flat[j * m + a];
-        const square = (y[i] - fitted) ** 2;
-        squares[i * k + j] = square;
-        rss[j] += tau[i * k + j] * square;
+    // Residuals component by component, down the contiguous columns.
+    for (let j = 0; j < k; j++) {
+      const c = coefficients[j];
+      residual.set(y);
+      for (let a = 0; a < m; a++) {
+        const weight = c[a];
+        const base = a * n;
+        for (let i = 0; i < n; i++) residual[i] -= weight * columns[base + i];
       }
+      let sum = 0;
+      for (let i = 0; i < n; i++) {
+        const square = residual[i] * residual[i];
+        squares[i * k + j] = square;
+        sum += tau[i * k + j] * square;
+      }
+      rss[j] = sum;
     }
     for (let j = 0; j < k; j++) if (solved[j]) variances[j] = Math.max(floor, masses[j] > 0 ? rss[j] / masses[j] : meanSquare);
     // E-step through the kernel (log-sum-exp).
