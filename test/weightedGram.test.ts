@@ -2,6 +2,8 @@ import { describe, expect, it } from "vitest";
 import { accumulateGramBlock, blockRowsFor } from "../src/engine/weightedGram";
 import { membershipsFromLogTerms } from "../src/engine/logDensities";
 import { createRandom } from "../src/engine/random";
+import { meanOuterProduct } from "../src/engine/secondMoment";
+import { Matrix } from "ml-matrix";
 
 describe("the weighted-Gram kernel", () => {
   it("adds the upper triangle of Σ w x xᵀ of a block, as the plain row-by-row sum does", () => {
@@ -29,6 +31,33 @@ describe("the weighted-Gram kernel", () => {
           else expect(gram[j * q + l]).toBe(0);
         }
       }
+    }
+  });
+});
+
+describe("mean outer products through the kernel (meanOuterProduct)", () => {
+  // Reference: ml-matrix's products (a general-purpose library), Xᵀ diag(w) X / n. 6,000 rows
+  // of 3 columns span two of the kernel's blocks (blockRowsFor(3) = 5,461 rows).
+  const random = createRandom(29);
+  const n = 6000;
+  const p = 3;
+  const x = Float64Array.from({ length: n * p }, () => random.normal());
+  const weights = Float64Array.from({ length: n }, () => random.next() * 4);
+  const rows = Array.from({ length: n }, (_, i) => Array.from(x.subarray(i * p, i * p + p)));
+
+  it.each([
+    ["unit weights", false, false],
+    ["weighted", true, false],
+    ["a leading column of 1s", false, true],
+  ])("%s: equals Xᵀ diag(w) X / n", (_, useWeights, leadingOne) => {
+    const design = new Matrix(rows.map((r) => (leadingOne ? [1, ...r] : r)));
+    const scaled = design.clone();
+    if (useWeights) for (let i = 0; i < n; i++) for (let j = 0; j < design.columns; j++) scaled.set(i, j, weights[i] * design.get(i, j));
+    const reference = design.transpose().mmul(scaled).div(n);
+    const moment = meanOuterProduct(x, n, p, useWeights ? weights : null, leadingOne);
+    const size = design.columns;
+    for (let a = 0; a < size; a++) {
+      for (let b = 0; b < size; b++) expect(Math.abs(moment[a * size + b] - reference.get(a, b))).toBeLessThan(1e-12);
     }
   });
 });

@@ -7,17 +7,30 @@ import { accumulateGramBlock, blockRowsFor } from "./weightedGram";
  * then gives dᵀ Ê[xxᵀ] d, the mean squared difference of two regressions' predictions.
  */
 export function secondMoment(data: RegressionData): Float64Array {
-  const { x, n, p } = data;
-  const size = p + 1;
+  return meanOuterProduct(data.x, data.n, data.p, null, true);
+}
+
+/**
+ * (1/n) Σ_i w_i x̃_i x̃_iᵀ (w_i = 1 when `weights` is null; x̃_i = (1, x_i) with `leadingOne`,
+ * else x_i), full and symmetric, row-major. A block of rows at a time through the
+ * weighted-Gram kernel. Used for the second moment above, the whitening of the warm start and
+ * its response-weighted moment.
+ */
+export function meanOuterProduct(x: Float64Array, n: number, p: number, weights: Float64Array | null, leadingOne: boolean): Float64Array {
+  const offset = leadingOne ? 1 : 0;
+  const size = p + offset;
   const moment = new Float64Array(size * size);
-  // A block of rows at a time through the weighted-Gram kernel (unit weights): upper triangle.
   const blockRows = blockRowsFor(size);
   const columns = new Float64Array(size * blockRows);
-  columns.fill(1, 0, blockRows);
+  const weighted = weights ? new Float64Array(size * blockRows) : columns;
+  if (leadingOne) columns.fill(1, 0, blockRows);
   for (let start = 0; start < n; start += blockRows) {
     const m = Math.min(n, start + blockRows) - start;
-    for (let r = 0; r < m; r++) for (let j = 0; j < p; j++) columns[(j + 1) * blockRows + r] = x[(start + r) * p + j];
-    accumulateGramBlock(columns, columns, blockRows, m, size, moment, 0);
+    for (let r = 0; r < m; r++) for (let j = 0; j < p; j++) columns[(j + offset) * blockRows + r] = x[(start + r) * p + j];
+    if (weights) {
+      for (let j = 0; j < size; j++) for (let r = 0; r < m; r++) weighted[j * blockRows + r] = weights[start + r] * columns[j * blockRows + r];
+    }
+    accumulateGramBlock(weighted, columns, blockRows, m, size, moment, 0);
   }
   for (let a = 0; a < size; a++) {
     for (let b = a; b < size; b++) {

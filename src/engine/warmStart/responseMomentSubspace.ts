@@ -1,4 +1,5 @@
 import { topEigenvectors, type EigenPairs } from "./topEigenvectors";
+import { meanOuterProduct } from "../secondMoment";
 
 /**
  * The response-weighted second moment M = mean(y² x̃x̃ᵀ) − mean(y²) I of whitened predictors
@@ -11,26 +12,14 @@ import { topEigenvectors, type EigenPairs } from "./topEigenvectors";
  * @param y responses (centred by the caller when the fit has an intercept)
  */
 export function responseMomentSubspace(x: Float64Array, y: Float64Array, n: number, p: number, k: number): EigenPairs {
-  const moment = new Float64Array(p * p);
+  const squares = new Float64Array(n);
   let meanSquare = 0;
   for (let i = 0; i < n; i++) {
-    const weight = y[i] * y[i];
-    meanSquare += weight;
-    const row = i * p;
-    // Lower triangle only; topEigenvectors symmetrises.
-    for (let a = 0; a < p; a++) {
-      const wa = weight * x[row + a];
-      const out = a * p;
-      for (let b = 0; b <= a; b++) moment[out + b] += wa * x[row + b];
-    }
+    squares[i] = y[i] * y[i];
+    meanSquare += squares[i];
   }
   meanSquare /= n;
-  for (let a = 0; a < p; a++) {
-    for (let b = 0; b <= a; b++) {
-      moment[a * p + b] /= n;
-      moment[b * p + a] = moment[a * p + b];
-    }
-    moment[a * p + a] -= meanSquare;
-  }
+  const moment = meanOuterProduct(x, n, p, squares, false);
+  for (let a = 0; a < p; a++) moment[a * p + a] -= meanSquare;
   return topEigenvectors(moment, p, k, false);
 }

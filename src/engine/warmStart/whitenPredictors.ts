@@ -11,6 +11,8 @@
  * the raw second moment E[xxᵀ].
  */
 import { choleskyScratchLength, scaledCholeskyLower } from "../cholesky";
+import { meanOuterProduct } from "../secondMoment";
+import { dot } from "../weightedGram";
 
 export interface WhitenedPredictors {
   /** n x p row-major whitened predictors. */
@@ -39,24 +41,10 @@ export function whitenPredictors(x: Float64Array, n: number, p: number, centre: 
     const row = i * p;
     for (let j = 0; j < p; j++) centred[row + j] = x[row + j] - mean[j];
   }
-  // Second moment S = (1/n) Σ x xᵀ, lower triangle accumulated row by row.
-  const second = new Float64Array(p * p);
-  for (let i = 0; i < n; i++) {
-    const row = i * p;
-    for (let a = 0; a < p; a++) {
-      const va = centred[row + a];
-      const out = a * p;
-      for (let b = 0; b <= a; b++) second[out + b] += va * centred[row + b];
-    }
-  }
+  // Second moment S = (1/n) Σ x xᵀ.
+  const second = meanOuterProduct(centred, n, p, null, false);
   let largest = 0;
-  for (let a = 0; a < p; a++) {
-    for (let b = 0; b <= a; b++) {
-      second[a * p + b] /= n;
-      second[b * p + a] = second[a * p + b];
-    }
-    largest = Math.max(largest, second[a * p + a]);
-  }
+  for (let a = 0; a < p; a++) largest = Math.max(largest, second[a * p + a]);
   if (!(largest > 0)) return null;
   // S = L Lᵀ by the Cholesky kernel without its ridge: a pivot below the kernel's tolerance
   // (after equilibration) means collinear predictors, and then no whitening is attempted.
@@ -66,9 +54,7 @@ export function whitenPredictors(x: Float64Array, n: number, p: number, centre: 
   for (let i = 0; i < n; i++) {
     const row = i * p;
     for (let a = 0; a < p; a++) {
-      let s = centred[row + a];
-      for (let m = 0; m < a; m++) s -= chol[a * p + m] * centred[row + m];
-      centred[row + a] = s / chol[a * p + a];
+      centred[row + a] = (centred[row + a] - dot(chol, a * p, centred, row, a)) / chol[a * p + a];
     }
   }
   return { x: centred, n, p, mean, cholesky: chol };
