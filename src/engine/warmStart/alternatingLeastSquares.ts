@@ -19,10 +19,10 @@ import { accumulateGramBlock, blockRowsFor, dot } from "../weightedGram";
  * 50 dimensions with 7 components, the nearest rule fitted no row exactly, the classification
  * rule one or two whole components on about half the problems (see DEVELOPERS.md).
  */
+export type AssignmentRule = "nearest" | "classification";
+
 /** Refinement steps of the final solve (see alternatingLeastSquares). */
 const REFINEMENT_STEPS = 2;
-
-export type AssignmentRule = "nearest" | "classification";
 
 export interface AlternatingFit {
   coefficients: Float64Array[];
