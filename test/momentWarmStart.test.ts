@@ -180,8 +180,8 @@ describe("cancellation inside the warm start", () => {
 describe("alternating least squares: the final solve", () => {
   // Reference: ml-matrix's least-squares solve (a general-purpose library, QR based) of each
   // component's final rows. The kernel ends with iterative refinement of normal equations kept
-  // by rank-one updates (rows moved in and out over the run); it must give the least-squares
-  // fit of the rows each component ends with, noisy rows included.
+  // up to date as rows moved in and out over the run; it must give the least-squares fit of
+  // the rows each component ends with, noisy rows included.
   function leastSquaresOfRows(design: Float64Array, q: number, y: Float64Array, rows: number[]): number[] {
     const a = new Matrix(rows.map((i) => Array.from(design.subarray(i * q, i * q + q))));
     const b = Matrix.columnVector(rows.map((i) => y[i]));
@@ -191,7 +191,7 @@ describe("alternating least squares: the final solve", () => {
   it.each([
     ["noiseless", 0, 1],
     ["noisy (SD 0.3)", 0.3, 1],
-    // Two columns equal up to 1e-5: XᵀX has a condition number near 1e11, so a plain solve of
+    // Two columns equal up to 1e-5: XᵀX has a condition number near 1e10-1e11, so a plain solve of
     // the normal equations keeps about 5 digits (Golub & Van Loan, 4th ed., §5.3.8); the
     // refinement steps, which recompute the residuals from the rows, recover the rest.
     ["noiseless, two nearly equal columns", 0, 1e-5],

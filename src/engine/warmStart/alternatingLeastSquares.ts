@@ -92,8 +92,8 @@ export function alternatingLeastSquares(
   // brought up to the final labels, then iterative refinement (Golub & Van Loan, 4th ed.,
   // §3.5.3): δ solves G δ = Xᵀ(y − Xβ) on the component's rows and β ← β + δ. The first step
   // carries β to the least-squares solution of the final rows; the second removes what the
-  // rank-one updates left in G (their rounding only slows the refinement, its fixed point is
-  // set by the residuals, computed afresh from the rows). About n·q operations a step,
+  // updates of G as rows moved left in it (their rounding only slows the refinement, its fixed
+  // point is set by the residuals, computed afresh from the rows). About n·q operations a step,
   // against n·q² for a QR of each component's rows.
   assign(design, n, q, y, coefficients, labels, best, changedComponent, fitted, stale, criterion);
   moves.apply(design, y, labels, previous, grams, rights, counts);
