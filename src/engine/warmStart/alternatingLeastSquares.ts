@@ -99,6 +99,7 @@ export function alternatingLeastSquares(
   moves.apply(design, y, labels, previous, grams, rights, counts);
   const correction = new Float64Array(q);
   for (let step = 0; step < REFINEMENT_STEPS; step++) {
+    // `rights` now holds Xᵀ(y − Xβ) per component (Xᵀy is not needed after the last solve).
     rights.fill(0);
     for (let i = 0; i < n; i++) {
       const c = labels[i];
@@ -193,6 +194,8 @@ class ClassificationCriterion {
   private readonly pool: Float64Array;
   private readonly counts: Int32Array;
   private readonly offsets: Int32Array;
+  /** Where the next residual of each component goes in the pool. */
+  private readonly next: Int32Array;
 
   constructor(private readonly n: number, private readonly k: number, private readonly floor: number) {
     this.inverseScale = new Float64Array(k);
@@ -200,15 +203,16 @@ class ClassificationCriterion {
     this.pool = new Float64Array(n);
     this.counts = new Int32Array(k);
     this.offsets = new Int32Array(k + 1);
+    this.next = new Int32Array(k);
   }
 
   /** The terms from each row's label and absolute residual under it. */
   update(labels: Int32Array, residuals: Float64Array): void {
-    const { n, k, pool, counts, offsets } = this;
+    const { n, k, pool, counts, offsets, next } = this;
     counts.fill(0);
     for (let i = 0; i < n; i++) counts[labels[i]]++;
     for (let c = 0; c < k; c++) offsets[c + 1] = offsets[c] + counts[c];
-    const next = offsets.slice(0, k);
+    next.set(offsets.subarray(0, k));
     for (let i = 0; i < n; i++) pool[next[labels[i]]++] = residuals[i];
     for (let c = 0; c < k; c++) {
       if (counts[c] === 0) {

@@ -106,10 +106,10 @@ export function momentWarmStart(data: RegressionData, k: number, intercept: bool
  * component (enoughRows: noisy data, or candidates far from every component), by the
  * nearest-residual rule, whose refinement EM then continues from: on noisy data the rule that
  * gave the better EM starts (on the bench's noisy grid the classification rule's starts led
- * EM to a lower likelihood on some d = 20, K = 5 problems). On rows known to be noiseless the classification rule's result is kept
- * either way (measured on d = 50, K = 7, fits interleaved with the code before: 18% less
- * time at 6 rows per predictor per component, 14% less at 10, 8% more at 14, the same
- * recoveries).
+ * EM to a lower likelihood on some d = 20, K = 5 problems). On rows known to be noiseless the
+ * classification rule's result is kept either way (measured on d = 50, K = 7, fits
+ * interleaved with the code before: 18% less time at 6 rows per predictor per component, 14%
+ * less at 10, 8% more at 14, the same recoveries).
  */
 function refineCandidates(design: Float64Array, n: number, q: number, y: Float64Array, candidates: Float64Array[][], exactTolerance: number, signal: CancelSignal | undefined, noiseless: boolean): AlternatingFit | null {
   const classified = bestRefinement(design, n, q, y, candidates, exactTolerance, signal, "classification");
