@@ -1,5 +1,11 @@
 import { describe, expect, it } from "vitest";
-import { accumulateGramBlock, blockRowsFor } from "../src/engine/weightedGram";
+import { accumulateGramBlock, allowSimdKernel, blockRowsFor, simdKernelAvailable } from "../src/engine/weightedGram";
+import { WEIGHTED_GRAM_WASM_BASE64 } from "../src/engine/wasm/weightedGramModule";
+import { fitMixture } from "../src/engine/fitMixture";
+import { noiselessProblem, noisyProblem } from "../src/synthetic/generateProblems";
+import { standardErrors } from "../src/engine/standardErrors";
+// @ts-expect-error: a plain ES module script without type declarations
+import { assembleWeightedGram } from "../scripts/buildWasm.mjs";
 import { membershipsFromLogTerms } from "../src/engine/logDensities";
 import { createRandom } from "../src/engine/random";
 import { meanOuterProduct } from "../src/engine/secondMoment";
@@ -32,6 +38,71 @@ describe("the weighted-Gram kernel", () => {
         }
       }
     }
+  });
+});
+
+/** A block of m rows (stride `stride`) with random columns and weights in [0, 1). */
+function randomBlock(q: number, m: number, stride: number, seed: number): { weighted: Float64Array; columns: Float64Array } {
+  const random = createRandom(seed);
+  const columns = new Float64Array(q * stride);
+  const weighted = new Float64Array(q * stride);
+  for (let r = 0; r < m; r++) {
+    const weight = random.next();
+    for (let j = 0; j < q; j++) {
+      columns[j * stride + r] = random.next() * 2 - 1;
+      weighted[j * stride + r] = weight * columns[j * stride + r];
+    }
+  }
+  return { weighted, columns };
+}
+
+/** Fit, memberships and standard errors as text, every number in full. */
+function fingerprint(value: unknown): string {
+  return JSON.stringify(value, (key, v) => (key === "timings" ? undefined : v instanceof Float64Array ? Array.from(v) : v));
+}
+
+describe("the weighted-Gram kernel's SIMD path", () => {
+  it("runs here (Node 20 has WebAssembly SIMD), so the checks below compare two paths", () => {
+    expect(simdKernelAvailable()).toBe(true);
+  });
+
+  it("gives the scalar path's sums to the bit, added into what the Gram held, the memory growing as needed", () => {
+    const cases: Array<[number, number]> = [[8, 8], [9, 37], [11, 100], [12, 5], [13, 1489], [50, 327], [61, 200], [600, 32]];
+    for (const [q, m] of cases) {
+      const stride = Math.max(m, blockRowsFor(q));
+      const { weighted, columns } = randomBlock(q, m, stride, q * 1000 + m);
+      const start = Float64Array.from({ length: q * q }, (_, t) => (t % 7) - 3);
+      const sums: Float64Array[] = [];
+      for (const allowed of [false, true]) {
+        allowSimdKernel(allowed);
+        const gram = start.slice();
+        accumulateGramBlock(weighted, columns, stride, m, q, gram, 0);
+        sums.push(gram);
+      }
+      allowSimdKernel(true);
+      expect(Array.from(sums[1]), `q = ${q}, m = ${m}`).toEqual(Array.from(sums[0]));
+      // Not a comparison of two zero arrays: the block moved every upper-triangle entry.
+      expect(sums[1].some((value, t) => value !== start[t])).toBe(true);
+    }
+  });
+
+  it("never changes a fit: noiseless and noisy fits and their standard errors are the same either way", () => {
+    const noiseless = noiselessProblem(20, 4, 8, createRandom(5));
+    const noisy = noisyProblem(12, 3, 40, createRandom(6));
+    const prints: string[] = [];
+    for (const allowed of [false, true]) {
+      allowSimdKernel(allowed);
+      const exact = fitMixture(noiseless.data, { k: 4, intercept: false, seed: 2 });
+      const fit = fitMixture(noisy.data, { k: 3, intercept: true, seed: 2 });
+      prints.push(fingerprint([exact.components, exact.logLikelihood, fit.components, fit.logLikelihood, fit.memberships, standardErrors(noisy.data, fit)]));
+    }
+    allowSimdKernel(true);
+    expect(prints[1]).toBe(prints[0]);
+  });
+
+  it("is the assembly of weightedGram.wat (run `npm run build:wasm` after editing it)", async () => {
+    const bytes: Uint8Array = await assembleWeightedGram();
+    expect(Buffer.from(bytes).toString("base64")).toBe(WEIGHTED_GRAM_WASM_BASE64);
   });
 });
 

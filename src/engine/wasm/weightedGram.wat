@@ -1,0 +1,97 @@
+;; The weighted-Gram kernel's 128-bit SIMD path (weightedGram.ts). Assembled by
+;; scripts/buildWasm.mjs into weightedGramModule.ts; a test checks the two agree.
+;;
+;; Every entry is one running sum over the rows in order, two entries to a 128-bit lane pair,
+;; multiply then add (never fused): each sum is the same, to the bit, as the scalar kernel's.
+;; Pointers are byte offsets into the exported memory; counts are in doubles.
+(module
+  (memory (export "memory") 1)
+
+  ;; Row-major copy of a column-major block: dst[i·qp + j] = src[j·m + i] for i < m, j < q,
+  ;; and 0 for q ≤ j < qp (qp: q rounded up to a multiple of 4).
+  (func (export "transpose") (param $src i32) (param $m i32) (param $q i32) (param $qp i32) (param $dst i32)
+    (local $i i32) (local $j i32) (local $ps i32) (local $pd i32) (local $rowBytes i32)
+    (local.set $rowBytes (i32.shl (local.get $qp) (i32.const 3)))
+    (local.set $j (i32.const 0))
+    (block $columnsDone
+      (loop $columns
+        (br_if $columnsDone (i32.ge_u (local.get $j) (local.get $qp)))
+        (local.set $pd (i32.add (local.get $dst) (i32.shl (local.get $j) (i32.const 3))))
+        (local.set $ps (i32.add (local.get $src) (i32.shl (i32.mul (local.get $j) (local.get $m)) (i32.const 3))))
+        (local.set $i (i32.const 0))
+        (block $rowsDone
+          (loop $rows
+            (br_if $rowsDone (i32.ge_u (local.get $i) (local.get $m)))
+            (f64.store (local.get $pd)
+              (select (f64.load (local.get $ps)) (f64.const 0) (i32.lt_u (local.get $j) (local.get $q))))
+            (local.set $ps (i32.add (local.get $ps) (i32.const 8)))
+            (local.set $pd (i32.add (local.get $pd) (local.get $rowBytes)))
+            (local.set $i (i32.add (local.get $i) (i32.const 1)))
+            (br $rows)))
+        (local.set $j (i32.add (local.get $j) (i32.const 1)))
+        (br $columns))))
+
+  ;; out[(l + u)·qp + j + t] = Σ_i w[i·qp + j + t] · x[i·qp + l + u] over i < m, for j < rows in
+  ;; steps of 4 (rows a multiple of 4), l from j to qp in steps of 4, t and u in 0..3: a 4 x 4
+  ;; block of entries in eight lane pairs per pass over the rows. w and x are row-major m x qp.
+  (func (export "gram") (param $w i32) (param $xs i32) (param $m i32) (param $rows i32) (param $qp i32) (param $out i32)
+    (local $j i32) (local $l i32) (local $rowBytes i32) (local $pw i32) (local $px i32) (local $end i32) (local $po i32)
+    (local $w01 v128) (local $w23 v128) (local $x v128)
+    (local $s00 v128) (local $s10 v128) (local $s01 v128) (local $s11 v128)
+    (local $s02 v128) (local $s12 v128) (local $s03 v128) (local $s13 v128)
+    (local.set $rowBytes (i32.shl (local.get $qp) (i32.const 3)))
+    (local.set $j (i32.const 0))
+    (block $blockRowsDone
+      (loop $blockRows
+        (br_if $blockRowsDone (i32.ge_u (local.get $j) (local.get $rows)))
+        (local.set $l (local.get $j))
+        (block $blockColumnsDone
+          (loop $blockColumns
+            (br_if $blockColumnsDone (i32.ge_u (local.get $l) (local.get $qp)))
+            (local.set $s00 (v128.const i64x2 0 0))
+            (local.set $s10 (v128.const i64x2 0 0))
+            (local.set $s01 (v128.const i64x2 0 0))
+            (local.set $s11 (v128.const i64x2 0 0))
+            (local.set $s02 (v128.const i64x2 0 0))
+            (local.set $s12 (v128.const i64x2 0 0))
+            (local.set $s03 (v128.const i64x2 0 0))
+            (local.set $s13 (v128.const i64x2 0 0))
+            (local.set $pw (i32.add (local.get $w) (i32.shl (local.get $j) (i32.const 3))))
+            (local.set $px (i32.add (local.get $xs) (i32.shl (local.get $l) (i32.const 3))))
+            (local.set $end (i32.add (local.get $pw) (i32.mul (local.get $m) (local.get $rowBytes))))
+            (block $sumDone
+              (br_if $sumDone (i32.ge_u (local.get $pw) (local.get $end)))
+              (loop $sum
+                (local.set $w01 (v128.load (local.get $pw)))
+                (local.set $w23 (v128.load offset=16 (local.get $pw)))
+                (local.set $x (v128.load64_splat offset=0 (local.get $px)))
+                (local.set $s00 (f64x2.add (local.get $s00) (f64x2.mul (local.get $w01) (local.get $x))))
+                (local.set $s10 (f64x2.add (local.get $s10) (f64x2.mul (local.get $w23) (local.get $x))))
+                (local.set $x (v128.load64_splat offset=8 (local.get $px)))
+                (local.set $s01 (f64x2.add (local.get $s01) (f64x2.mul (local.get $w01) (local.get $x))))
+                (local.set $s11 (f64x2.add (local.get $s11) (f64x2.mul (local.get $w23) (local.get $x))))
+                (local.set $x (v128.load64_splat offset=16 (local.get $px)))
+                (local.set $s02 (f64x2.add (local.get $s02) (f64x2.mul (local.get $w01) (local.get $x))))
+                (local.set $s12 (f64x2.add (local.get $s12) (f64x2.mul (local.get $w23) (local.get $x))))
+                (local.set $x (v128.load64_splat offset=24 (local.get $px)))
+                (local.set $s03 (f64x2.add (local.get $s03) (f64x2.mul (local.get $w01) (local.get $x))))
+                (local.set $s13 (f64x2.add (local.get $s13) (f64x2.mul (local.get $w23) (local.get $x))))
+                (local.set $pw (i32.add (local.get $pw) (local.get $rowBytes)))
+                (local.set $px (i32.add (local.get $px) (local.get $rowBytes)))
+                (br_if $sum (i32.lt_u (local.get $pw) (local.get $end)))))
+            (local.set $po (i32.add (local.get $out) (i32.shl (i32.add (i32.mul (i32.add (local.get $l) (i32.const 0)) (local.get $qp)) (local.get $j)) (i32.const 3))))
+            (v128.store (local.get $po) (local.get $s00))
+            (v128.store offset=16 (local.get $po) (local.get $s10))
+            (local.set $po (i32.add (local.get $out) (i32.shl (i32.add (i32.mul (i32.add (local.get $l) (i32.const 1)) (local.get $qp)) (local.get $j)) (i32.const 3))))
+            (v128.store (local.get $po) (local.get $s01))
+            (v128.store offset=16 (local.get $po) (local.get $s11))
+            (local.set $po (i32.add (local.get $out) (i32.shl (i32.add (i32.mul (i32.add (local.get $l) (i32.const 2)) (local.get $qp)) (local.get $j)) (i32.const 3))))
+            (v128.store (local.get $po) (local.get $s02))
+            (v128.store offset=16 (local.get $po) (local.get $s12))
+            (local.set $po (i32.add (local.get $out) (i32.shl (i32.add (i32.mul (i32.add (local.get $l) (i32.const 3)) (local.get $qp)) (local.get $j)) (i32.const 3))))
+            (v128.store (local.get $po) (local.get $s03))
+            (v128.store offset=16 (local.get $po) (local.get $s13))
+            (local.set $l (i32.add (local.get $l) (i32.const 4)))
+            (br $blockColumns)))
+        (local.set $j (i32.add (local.get $j) (i32.const 4)))
+        (br $blockRows)))))
