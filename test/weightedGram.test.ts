@@ -1,5 +1,5 @@
 import { describe, expect, it } from "vitest";
-import { accumulateGramBlock, allowSimdKernel, blockRowsFor, simdKernelAvailable } from "../src/engine/weightedGram";
+import { accumulateGramBlock, accumulateRowBlock, allowSimdKernel, blockRowsFor, dot, rowBlock, simdKernelAvailable } from "../src/engine/weightedGram";
 import { WEIGHTED_GRAM_WASM_BASE64 } from "../src/engine/wasm/weightedGramModule";
 import { fitMixture } from "../src/engine/fitMixture";
 import { noiselessProblem, noisyProblem } from "../src/synthetic/generateProblems";
@@ -83,6 +83,38 @@ describe("the weighted-Gram kernel's SIMD path", () => {
       expect(Array.from(sums[1]), `q = ${q}, m = ${m}`).toEqual(Array.from(sums[0]));
       // Not a comparison of two zero arrays: the block moved every upper-triangle entry.
       expect(sums[1].some((value, t) => value !== start[t])).toBe(true);
+    }
+  });
+
+  it("row blocks (the M-step's layout) give the column-major kernel's and dot's sums to the bit", () => {
+    // m mod 4 = 0, 1, 2, 3 and q mod 4 = 0, 1, 2, 3, so both of dot's tails and the Gram's last rows are met.
+    for (const [q, m] of [[16, 40], [17, 41], [18, 42], [19, 43], [50, 327], [31, 1]] as Array<[number, number]>) {
+      const stride = blockRowsFor(q);
+      const { weighted, columns } = randomBlock(q, m, stride, 7 * q + m);
+      const y = Float64Array.from({ length: m }, (_, r) => Math.sin(r + q));
+      const gramStart = Float64Array.from({ length: q * q }, (_, t) => (t % 5) - 2);
+      const rhsStart = Float64Array.from({ length: q }, (_, j) => j - 3);
+      allowSimdKernel(false);
+      const expectedGram = gramStart.slice();
+      const expectedRhs = rhsStart.slice();
+      accumulateGramBlock(weighted, columns, stride, m, q, expectedGram, 0);
+      for (let j = 0; j < q; j++) expectedRhs[j] += dot(weighted, j * stride, y, 0, m);
+      expect(rowBlock(q, stride)).toBeNull();
+      allowSimdKernel(true);
+      const block = rowBlock(q, stride);
+      if (!block) throw new Error("no row block where the SIMD path runs");
+      for (let r = 0; r < m; r++) {
+        for (let j = 0; j < block.qp; j++) {
+          block.plain[r * block.qp + j] = j < q ? columns[j * stride + r] : 0;
+          block.weighted[r * block.qp + j] = j < q ? weighted[j * stride + r] : 0;
+        }
+        block.y[r] = y[r];
+      }
+      const gram = gramStart.slice();
+      const rhs = rhsStart.slice();
+      accumulateRowBlock(block, m, gram, 0, rhs, 0);
+      expect(Array.from(gram), `q = ${q}, m = ${m}`).toEqual(Array.from(expectedGram));
+      expect(Array.from(rhs), `q = ${q}, m = ${m}`).toEqual(Array.from(expectedRhs));
     }
   });
 

@@ -2,7 +2,7 @@ import type { MixtureParameters } from "./mixtureParameters";
 import type { MixtureWorkspace } from "./mixtureWorkspace";
 import { choleskyScratchLength, scaledCholeskyLower, scaledCholeskySolve } from "../cholesky";
 import { constrainedVariances } from "./constrainedVariances";
-import { accumulateGramBlock, dot } from "../weightedGram";
+import { accumulateGramBlock, accumulateRowBlock, dot, rowBlock } from "../weightedGram";
 
 /** What an M-step changed beyond the parameters themselves. */
 export interface MStepReport {
@@ -37,14 +37,15 @@ export const NEGLIGIBLE_MEMBERSHIP = 1e-12;
  * π_k = n_k / n, β_k = argmin Σ_i τ_ik (y_i − x_iᵀβ)², solved from XᵀW_kX β = XᵀW_k y.
  *
  * Memory layout: the row-major design is read once per M-step, a block of rows at a time.
- * Each block is copied column by column into a small buffer that stays in cache (only the
- * rows the component holds), so every Gram entry is a dot product over contiguous memory:
- * about four times faster than adding each row's outer product into the Gram matrix, which
- * is bound by stores to a q x q array.
+ * Each block is copied into a small buffer that stays in cache (only the rows the component
+ * holds): column by column, so every Gram entry is a dot product over contiguous memory (about
+ * four times faster than adding each row's outer product into the Gram matrix, which is bound
+ * by stores to a q x q array), or, where the kernel's SIMD path runs, row by row straight into
+ * the module's memory (weightedGram.ts, rowBlock). Both give the same sums to the bit.
  */
 export function mStepCoefficients(ws: MixtureWorkspace, params: MixtureParameters, guards: Guards): MStepReport {
   const { n, q, k, rowValues, rowStride, implicitOnes, y, memberships, grams, rightHandSides, sizes } = ws;
-  const { blockRows, blockColumns, blockWeighted, blockY } = ws;
+  const { blockRows } = ws;
   const weightedSquares = ws.weightedSquares;
   grams.fill(0);
   rightHandSides.fill(0);
@@ -59,30 +60,45 @@ export function mStepCoefficients(ws: MixtureWorkspace, params: MixtureParameter
   const complement = k > 1 && ws.background === null;
   let largest = 0;
   for (let c = 1; c < k; c++) if (sizes[c] > sizes[largest]) largest = c;
+  // Where the weighted-Gram kernel's SIMD path runs, the rows go straight into its memory,
+  // row-major (rowBlock); elsewhere into column-major buffers. Element j of gathered row g is
+  // at g·rowStep + j·columnStep, in `width` columns (row-major rows are zero-padded).
+  const block = rowBlock(q, blockRows);
+  const plain = block ? block.plain : ws.blockColumns;
+  const weighted = block ? block.weighted : ws.blockWeighted;
+  const gatheredY = block ? block.y : ws.blockY;
+  const rowStep = block ? block.qp : 1;
+  const columnStep = block ? 1 : blockRows;
+  const width = block ? block.qp : q;
   for (let start = 0; start < n; start += blockRows) {
     const end = Math.min(n, start + blockRows);
     for (let c = 0; c < k; c++) {
       if (c === largest && complement) continue;
-      // Gather the rows this component holds into column-major buffers of length m.
+      // Gather the rows this component holds.
       let m = 0;
       for (let i = start; i < end; i++) {
         const w = memberships[i * k + c];
         if (w < NEGLIGIBLE_MEMBERSHIP) continue;
         // Column j of the design is rowValues[rowOffset + j] after the implicit 1s (mixtureWorkspace.ts).
         const rowOffset = i * rowStride - implicitOnes;
-        for (let j = 0; j < q; j++) {
-          const value = j < implicitOnes ? 1 : rowValues[rowOffset + j];
-          blockColumns[j * blockRows + m] = value;
-          blockWeighted[j * blockRows + m] = w * value;
+        const base = m * rowStep;
+        for (let j = 0; j < width; j++) {
+          const value = j < implicitOnes ? 1 : j < q ? rowValues[rowOffset + j] : 0;
+          plain[base + j * columnStep] = value;
+          weighted[base + j * columnStep] = w * value;
         }
-        blockY[m] = y[i];
+        gatheredY[m] = y[i];
         weightedSquares[c] += w * y[i] * y[i];
         m++;
       }
       if (m === 0) continue;
       const gramOffset = c * q * q;
-      for (let j = 0; j < q; j++) rightHandSides[c * q + j] += dot(blockWeighted, j * blockRows, blockY, 0, m);
-      accumulateGramBlock(blockWeighted, blockColumns, blockRows, m, q, grams, gramOffset);
+      if (block) {
+        accumulateRowBlock(block, m, grams, gramOffset, rightHandSides, c * q);
+      } else {
+        for (let j = 0; j < q; j++) rightHandSides[c * q + j] += dot(weighted, j * blockRows, gatheredY, 0, m);
+        accumulateGramBlock(weighted, plain, blockRows, m, q, grams, gramOffset);
+      }
     }
   }
   if (complement) {
