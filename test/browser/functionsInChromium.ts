@@ -126,6 +126,31 @@ export async function checkWorksheetFunctions(browser: Browser, url: string, che
     const missing = ids.filter((id) => !associated.includes(id));
     check("functions: every function in functions.json is associated", missing.length === 0 && ids.length > 0, `${ids.length} in functions.json (${ids.join(", ")}); missing: ${missing.join(", ") || "none"}`);
 
+    // The weighted-Gram kernel's SIMD module compiles on this page's main thread (synchronously,
+    // as the engine does) and gives the sums of a small block: otherwise the engine would fall
+    // back to its JavaScript path here, right but slower.
+    const moduleText = await fs.readFile(path.join(ROOT, "src", "engine", "wasm", "weightedGramModule.ts"), "utf8");
+    const base64 = /"([A-Za-z0-9+/=]+)"/.exec(moduleText)?.[1] ?? "";
+    const simd = await page.evaluate((encoded) => {
+      try {
+        const text = atob(encoded);
+        const bytes = Uint8Array.from(text, (c) => c.charCodeAt(0));
+        const instance = new WebAssembly.Instance(new WebAssembly.Module(bytes), {});
+        const memory = instance.exports.memory as WebAssembly.Memory;
+        const heap = new Float64Array(memory.buffer);
+        // Two rows of four columns, row-major, weighted then plain: out[l·4 + j] = Σ_i w_ij x_il.
+        heap.set([1, 2, 3, 4, 5, 6, 7, 8], 0);
+        heap.set([1, 0, 0, 1, 1, 1, 0, 0], 8);
+        (instance.exports.gram as (...a: number[]) => void)(0, 64, 2, 4, 4, 128);
+        return Array.from(heap.subarray(16, 32)).join(",");
+      } catch (error) {
+        return `failed: ${String(error)}`;
+      }
+    }, base64);
+    // Column l of the output holds Σ_i w_i· x_il: l = 0 → (1+5, 2+6, 3+7, 4+8); l = 1 → row 2 only; l = 2 → 0; l = 3 → row 1 only.
+    const expectedSimd = [6, 8, 10, 12, 5, 6, 7, 8, 0, 0, 0, 0, 1, 2, 3, 4].join(",");
+    check("functions: the SIMD module of the weighted-Gram kernel runs in this browser", simd === expectedSimd, simd);
+
     const rows = parseCsv(await fs.readFile(SAMPLE, "utf8")) as string[][];
     const y = columns(rows, [Y], null);
     const x = columns(rows, X, "");
