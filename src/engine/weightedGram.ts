@@ -128,6 +128,7 @@ interface SimdKernel {
   heap: Float64Array;
   transpose: (source: number, m: number, q: number, qp: number, target: number) => void;
   gram: (weighted: number, columns: number, m: number, rows: number, qp: number, out: number) => void;
+  dots: (x: number, m: number, qp: number, from: number, v: number, vStride: number, out: number) => void;
 }
 
 /** undefined until first asked for; null when this runtime cannot run the module. */
@@ -161,6 +162,7 @@ function simdKernel(): SimdKernel | null {
       heap: new Float64Array(memory.buffer),
       transpose: instance.exports.transpose as SimdKernel["transpose"],
       gram: instance.exports.gram as SimdKernel["gram"],
+      dots: instance.exports.dots as SimdKernel["dots"],
     };
   } catch {
     // No WebAssembly, no SIMD, or compilation refused (a content security policy): the scalar path.
@@ -226,29 +228,23 @@ export interface RowBlock {
 let lastBlock: RowBlock | null = null;
 
 /**
- * Row blocks from this many columns: below it the Gram sums are too small a part of an M-step
- * for the row-major layout to pay for its JavaScript side (Σ w x y and the last q mod 4 rows
- * in dot's partial sums). Measured on 21 noisy sheets of 2-10 predictors, fitted interleaved:
- * row blocks from 8 columns took 1.03 of the time of column-major gathers, from 16 columns 0.97.
- */
-const ROW_BLOCK_MIN_COLUMNS = 16;
-
-/**
  * A row block for up to `capacity` rows of q values in the SIMD module's memory (the last one,
  * while q and capacity stay the same and the memory has not grown); null where the SIMD path
- * does not run (no module) or q is below ROW_BLOCK_MIN_COLUMNS: the caller then gathers
- * column by column for accumulateGramBlock, as fast as this layout is in JavaScript.
+ * does not run: the caller then gathers column by column for accumulateGramBlock. Any q: on
+ * 21 noisy sheets of 2-10 predictors, fitted interleaved, M-steps on row blocks from 1, 4 and
+ * 8 columns took 0.90-0.94 of the time of row blocks from 16 only.
  */
 export function rowBlock(q: number, capacity: number): RowBlock | null {
-  const kernel = q >= ROW_BLOCK_MIN_COLUMNS ? simdKernel() : null;
+  const kernel = simdKernel();
   if (!kernel) return null;
   if (lastBlock && lastBlock.q === q && lastBlock.capacity === capacity && lastBlock.plain.buffer === kernel.memory.buffer) return lastBlock;
   const qp = (q + 3) & ~3;
-  // Memory in doubles: the weighted and the plain rows (capacity·qp each), y, the output (qp²).
+  // Memory in doubles: the weighted and the plain rows (capacity·qp each), y, the output
+  // (qp², then qp for the dot products).
   const plainAt = capacity * qp;
   const yAt = 2 * capacity * qp;
   const outAt = yAt + capacity;
-  reserve(kernel, (outAt + qp * qp) * 8);
+  reserve(kernel, (outAt + qp * qp + qp) * 8);
   const buffer = kernel.memory.buffer;
   lastBlock = {
     weighted: new Float64Array(buffer, 0, capacity * qp),
@@ -259,49 +255,28 @@ export function rowBlock(q: number, capacity: number): RowBlock | null {
   return lastBlock;
 }
 
-/** Partial sums for accumulateRowBlock, grown as needed. */
-let partialSums = new Float64Array(0);
-
 /**
  * Adds, over the block's first m gathered rows, Σ w x xᵀ into gram[gramOffset ..] (upper
  * triangle) and Σ w x y into rhs[rhsOffset ..]. The sums are, to the bit, those of
  * accumulateGramBlock and dot on the same rows stored column by column: the Gram's rows in
- * groups of four are running sums over the rows in order, and Σ w x y and the Gram's last
- * q mod 4 rows keep dot's four partial sums (row g in sum g mod 4, the last m mod 4 in sum 0).
+ * groups of four are running sums over the rows in order (the module's "gram"), and Σ w x y
+ * and the Gram's last q mod 4 rows keep dot's four partial sums (its "dots").
  */
 export function accumulateRowBlock(block: RowBlock, m: number, gram: Float64Array, gramOffset: number, rhs: Float64Array, rhsOffset: number): void {
   if (m === 0) return;
-  const { plain, weighted, y, q, qp } = block;
+  const { plain, weighted, y, q, qp, kernel, outAt } = block;
   const rows = q & ~3;
-  const tail = q - rows;
-  // Per partial sum: q entries of Σ w x y, then the last `tail` rows of the Gram (q entries each).
-  const width = q + tail * q;
-  if (partialSums.length < 4 * width) partialSums = new Float64Array(4 * width);
-  const partial = partialSums;
-  partial.fill(0, 0, 4 * width);
-  const head = m - (m % 4);
-  for (let g = 0; g < m; g++) {
-    const at = (g < head ? g & 3 : 0) * width;
-    const base = g * qp;
-    const yg = y[g];
-    for (let j = 0; j < q; j++) partial[at + j] += weighted[base + j] * yg;
-    for (let t = 0; t < tail; t++) {
-      const v = weighted[base + rows + t];
-      const out = at + q + t * q;
-      for (let l = rows + t; l < q; l++) partial[out + l] += v * plain[base + l];
-    }
-  }
-  for (let j = 0; j < q; j++) rhs[rhsOffset + j] += partial[j] + partial[width + j] + (partial[2 * width + j] + partial[3 * width + j]);
-  for (let t = 0; t < tail; t++) {
-    const row = gramOffset + (rows + t) * q;
-    for (let l = rows + t; l < q; l++) {
-      const e = q + t * q + l;
-      gram[row + l] += partial[e] + partial[width + e] + (partial[2 * width + e] + partial[3 * width + e]);
-    }
-  }
-  const { kernel, outAt } = block;
-  kernel.gram(weighted.byteOffset, plain.byteOffset, m, rows, qp, outAt * 8);
   const heap = kernel.heap;
+  const dotsAt = outAt + qp * qp;
+  kernel.dots(weighted.byteOffset, m, qp, 0, y.byteOffset, 8, dotsAt * 8);
+  for (let j = 0; j < q; j++) rhs[rhsOffset + j] += heap[dotsAt + j];
+  for (let j = rows; j < q; j++) {
+    // Row j of the Gram from column j on: Σ (w·x_j)·x_l, plain columns against weighted column j.
+    kernel.dots(plain.byteOffset, m, qp, j & ~1, weighted.byteOffset + j * 8, qp * 8, dotsAt * 8);
+    for (let l = j; l < q; l++) gram[gramOffset + j * q + l] += heap[dotsAt + l];
+  }
+  if (rows === 0) return;
+  kernel.gram(weighted.byteOffset, plain.byteOffset, m, rows, qp, outAt * 8);
   for (let j = 0; j < rows; j++) {
     const row = gramOffset + j * q;
     for (let l = j; l < q; l++) gram[row + l] += heap[outAt + l * qp + j];

@@ -94,4 +94,54 @@
             (local.set $l (i32.add (local.get $l) (i32.const 4)))
             (br $blockColumns)))
         (local.set $j (i32.add (local.get $j) (i32.const 4)))
-        (br $blockRows)))))
+        (br $blockRows))))
+
+  ;; Dot products in dot's association (weightedGram.ts): for column pairs j, j + 1 from `from`
+  ;; (even) to qp, out[j] = Σ_g x[g·qp + j] · v[g] over g < m, with row g in partial sum g mod 4
+  ;; while 4 rows remain and the last m mod 4 rows in sum 0, then (s0 + s1) + (s2 + s3).
+  ;; v[g] is at byte v + g·vStride, so v may be a column of a row-major block.
+  (func (export "dots") (param $x i32) (param $m i32) (param $qp i32) (param $from i32) (param $v i32) (param $vStride i32) (param $out i32)
+    (local $j i32) (local $g i32) (local $head i32) (local $rowBytes i32) (local $px i32) (local $pv i32)
+    (local $s0 v128) (local $s1 v128) (local $s2 v128) (local $s3 v128)
+    (local.set $rowBytes (i32.shl (local.get $qp) (i32.const 3)))
+    (local.set $head (i32.and (local.get $m) (i32.const -4)))
+    (local.set $j (local.get $from))
+    (block $columnsDone
+      (loop $columns
+        (br_if $columnsDone (i32.ge_u (local.get $j) (local.get $qp)))
+        (local.set $s0 (v128.const i64x2 0 0))
+        (local.set $s1 (v128.const i64x2 0 0))
+        (local.set $s2 (v128.const i64x2 0 0))
+        (local.set $s3 (v128.const i64x2 0 0))
+        (local.set $px (i32.add (local.get $x) (i32.shl (local.get $j) (i32.const 3))))
+        (local.set $pv (local.get $v))
+        (local.set $g (i32.const 0))
+        (block $fourDone
+          (loop $four
+            (br_if $fourDone (i32.ge_u (local.get $g) (local.get $head)))
+            (local.set $s0 (f64x2.add (local.get $s0) (f64x2.mul (v128.load (local.get $px)) (v128.load64_splat (local.get $pv)))))
+            (local.set $px (i32.add (local.get $px) (local.get $rowBytes)))
+            (local.set $pv (i32.add (local.get $pv) (local.get $vStride)))
+            (local.set $s1 (f64x2.add (local.get $s1) (f64x2.mul (v128.load (local.get $px)) (v128.load64_splat (local.get $pv)))))
+            (local.set $px (i32.add (local.get $px) (local.get $rowBytes)))
+            (local.set $pv (i32.add (local.get $pv) (local.get $vStride)))
+            (local.set $s2 (f64x2.add (local.get $s2) (f64x2.mul (v128.load (local.get $px)) (v128.load64_splat (local.get $pv)))))
+            (local.set $px (i32.add (local.get $px) (local.get $rowBytes)))
+            (local.set $pv (i32.add (local.get $pv) (local.get $vStride)))
+            (local.set $s3 (f64x2.add (local.get $s3) (f64x2.mul (v128.load (local.get $px)) (v128.load64_splat (local.get $pv)))))
+            (local.set $px (i32.add (local.get $px) (local.get $rowBytes)))
+            (local.set $pv (i32.add (local.get $pv) (local.get $vStride)))
+            (local.set $g (i32.add (local.get $g) (i32.const 4)))
+            (br $four)))
+        (block $restDone
+          (loop $rest
+            (br_if $restDone (i32.ge_u (local.get $g) (local.get $m)))
+            (local.set $s0 (f64x2.add (local.get $s0) (f64x2.mul (v128.load (local.get $px)) (v128.load64_splat (local.get $pv)))))
+            (local.set $px (i32.add (local.get $px) (local.get $rowBytes)))
+            (local.set $pv (i32.add (local.get $pv) (local.get $vStride)))
+            (local.set $g (i32.add (local.get $g) (i32.const 1)))
+            (br $rest)))
+        (v128.store (i32.add (local.get $out) (i32.shl (local.get $j) (i32.const 3)))
+          (f64x2.add (f64x2.add (local.get $s0) (local.get $s1)) (f64x2.add (local.get $s2) (local.get $s3))))
+        (local.set $j (i32.add (local.get $j) (i32.const 2)))
+        (br $columns)))))
