@@ -44,7 +44,7 @@ export const NEGLIGIBLE_MEMBERSHIP = 1e-12;
  * the module's memory (weightedGram.ts, rowBlock). Both give the same sums to the bit.
  */
 export function mStepCoefficients(ws: MixtureWorkspace, params: MixtureParameters, guards: Guards): MStepReport {
-  const { n, q, k, rowValues, rowStride, implicitOnes, y, memberships, grams, rightHandSides, sizes } = ws;
+  const { n, q, k, y, memberships, grams, rightHandSides, sizes } = ws;
   const { blockRows } = ws;
   const weightedSquares = ws.weightedSquares;
   grams.fill(0);
@@ -61,15 +61,8 @@ export function mStepCoefficients(ws: MixtureWorkspace, params: MixtureParameter
   let largest = 0;
   for (let c = 1; c < k; c++) if (sizes[c] > sizes[largest]) largest = c;
   // Where the weighted-Gram kernel's SIMD path runs, the rows go straight into its memory,
-  // row-major (rowBlock); elsewhere into column-major buffers. Element j of gathered row g is
-  // at g·rowStep + j·columnStep, in `width` columns (row-major rows are zero-padded).
+  // row-major (rowBlock); elsewhere into column-major buffers.
   const block = rowBlock(q, blockRows);
-  const plain = block ? block.plain : ws.blockColumns;
-  const weighted = block ? block.weighted : ws.blockWeighted;
-  const gatheredY = block ? block.y : ws.blockY;
-  const rowStep = block ? block.qp : 1;
-  const columnStep = block ? 1 : blockRows;
-  const width = block ? block.qp : q;
   for (let start = 0; start < n; start += blockRows) {
     const end = Math.min(n, start + blockRows);
     for (let c = 0; c < k; c++) {
@@ -79,15 +72,9 @@ export function mStepCoefficients(ws: MixtureWorkspace, params: MixtureParameter
       for (let i = start; i < end; i++) {
         const w = memberships[i * k + c];
         if (w < NEGLIGIBLE_MEMBERSHIP) continue;
-        // Column j of the design is rowValues[rowOffset + j] after the implicit 1s (mixtureWorkspace.ts).
-        const rowOffset = i * rowStride - implicitOnes;
-        const base = m * rowStep;
-        for (let j = 0; j < width; j++) {
-          const value = j < implicitOnes ? 1 : j < q ? rowValues[rowOffset + j] : 0;
-          plain[base + j * columnStep] = value;
-          weighted[base + j * columnStep] = w * value;
-        }
-        gatheredY[m] = y[i];
+        if (block) gatherRow(ws, i, w, block.plain, block.weighted, m * block.qp, block.qp);
+        else gatherColumn(ws, i, w, m);
+        (block ? block.y : ws.blockY)[m] = y[i];
         weightedSquares[c] += w * y[i] * y[i];
         m++;
       }
@@ -96,8 +83,8 @@ export function mStepCoefficients(ws: MixtureWorkspace, params: MixtureParameter
       if (block) {
         accumulateRowBlock(block, m, grams, gramOffset, rightHandSides, c * q);
       } else {
-        for (let j = 0; j < q; j++) rightHandSides[c * q + j] += dot(weighted, j * blockRows, gatheredY, 0, m);
-        accumulateGramBlock(weighted, plain, blockRows, m, q, grams, gramOffset);
+        for (let j = 0; j < q; j++) rightHandSides[c * q + j] += dot(ws.blockWeighted, j * blockRows, ws.blockY, 0, m);
+        accumulateGramBlock(ws.blockWeighted, ws.blockColumns, blockRows, m, q, grams, gramOffset);
       }
     }
   }
@@ -133,6 +120,40 @@ export function mStepCoefficients(ws: MixtureWorkspace, params: MixtureParameter
   }
   if (ws.joint) mStepPredictorModel(ws, params, guards);
   return { collapsed, varianceBoundActive: false };
+}
+
+/**
+ * Design row i into a row block at `base` (qp values, zero-padded) and w times it beside it.
+ * Column j of the design is rowValues[i·rowStride − implicitOnes + j] after the implicit 1s
+ * (mixtureWorkspace.ts).
+ */
+function gatherRow(ws: MixtureWorkspace, i: number, w: number, plain: Float64Array, weighted: Float64Array, base: number, qp: number): void {
+  const { q, implicitOnes, rowValues, rowStride } = ws;
+  const rowOffset = i * rowStride - implicitOnes;
+  for (let j = 0; j < implicitOnes; j++) {
+    plain[base + j] = 1;
+    weighted[base + j] = w;
+  }
+  for (let j = implicitOnes; j < q; j++) {
+    const value = rowValues[rowOffset + j];
+    plain[base + j] = value;
+    weighted[base + j] = w * value;
+  }
+  for (let j = q; j < qp; j++) {
+    plain[base + j] = 0;
+    weighted[base + j] = 0;
+  }
+}
+
+/** Design row i into slot m of the workspace's column-major block buffers, and w times it beside it. */
+function gatherColumn(ws: MixtureWorkspace, i: number, w: number, m: number): void {
+  const { q, implicitOnes, rowValues, rowStride, blockRows, blockColumns, blockWeighted } = ws;
+  const rowOffset = i * rowStride - implicitOnes;
+  for (let j = 0; j < q; j++) {
+    const value = j < implicitOnes ? 1 : rowValues[rowOffset + j];
+    blockColumns[j * blockRows + m] = value;
+    blockWeighted[j * blockRows + m] = w * value;
+  }
 }
 
 /** XᵀX and Xᵀy over all rows of the workspace, accumulated on first use. */
