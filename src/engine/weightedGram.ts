@@ -8,8 +8,9 @@ import { WEIGHTED_GRAM_WASM_BASE64 } from "./wasm/weightedGramModule";
  * information (observedInformation.ts).
  *
  * Two paths, the same sums to the bit: a WebAssembly module with 128-bit SIMD
- * (wasm/weightedGram.wat) where the runtime has one, from SIMD_MIN_COLUMNS columns, and plain
- * JavaScript otherwise (a runtime without WebAssembly SIMD, or one that refuses to compile it).
+ * (wasm/weightedGram.wat) where the runtime has one (column-major blocks from SIMD_MIN_COLUMNS
+ * columns, the M-step's row blocks at any width), and plain JavaScript otherwise (a runtime
+ * without WebAssembly SIMD, or one that refuses to compile it).
  * Each entry is one running sum over the block's rows in order in both, with the multiply and
  * the add rounded separately, so which path ran never changes a fit.
  */
@@ -135,7 +136,7 @@ interface SimdKernel {
 let simd: SimdKernel | null | undefined;
 let simdAllowed = true;
 
-/** Turns the SIMD path off or back on (tests and the bench compare the two paths). */
+/** Turns the SIMD path off or back on (the tests compare the two paths). */
 export function allowSimdKernel(allowed: boolean): void {
   simdAllowed = allowed;
 }
@@ -153,8 +154,8 @@ function simdKernel(): SimdKernel | null {
     const text = atob(WEIGHTED_GRAM_WASM_BASE64);
     const bytes = new Uint8Array(text.length);
     for (let t = 0; t < text.length; t++) bytes[t] = text.charCodeAt(t);
-    // Synchronous compilation: the module is under a kilobyte, far below the size browsers
-    // allow on their main thread.
+    // Synchronous compilation: the module is about a kilobyte, below the size browsers allow
+    // it for on their main thread (4 KB in Chromium, from memory).
     const instance = new WebAssembly.Instance(new WebAssembly.Module(bytes), {});
     const memory = instance.exports.memory as WebAssembly.Memory;
     simd = {
