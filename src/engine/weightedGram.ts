@@ -200,11 +200,17 @@ function accumulateWithSimd(kernel: SimdKernel, weighted: Float64Array, columns:
   for (let j = 0; j < q; j++) heap.set(columns.subarray(j * stride, j * stride + m), staging + j * m);
   kernel.transpose(staging * 8, m, q, qp, columnsAt * 8);
   kernel.gram(weightedAt * 8, columnsAt * 8, m, rows, qp, outAt * 8);
+  addGramOutput(kernel, outAt, rows, q, qp, gram, offset);
+  return rows;
+}
+
+/** Adds the module's "gram" output (entry (j, l) at outAt + l·qp + j) into the upper triangle of rows j < rows. */
+function addGramOutput(kernel: SimdKernel, outAt: number, rows: number, q: number, qp: number, gram: Float64Array, offset: number): void {
+  const heap = kernel.heap;
   for (let j = 0; j < rows; j++) {
     const row = offset + j * q;
     for (let l = j; l < q; l++) gram[row + l] += heap[outAt + l * qp + j];
   }
-  return rows;
 }
 
 /**
@@ -278,10 +284,7 @@ export function accumulateRowBlock(block: RowBlock, m: number, gram: Float64Arra
   }
   if (rows === 0) return;
   kernel.gram(weighted.byteOffset, plain.byteOffset, m, rows, qp, outAt * 8);
-  for (let j = 0; j < rows; j++) {
-    const row = gramOffset + j * q;
-    for (let l = j; l < q; l++) gram[row + l] += heap[outAt + l * qp + j];
-  }
+  addGramOutput(kernel, outAt, rows, q, qp, gram, gramOffset);
 }
 
 /** Σ a[aOffset + i] b[bOffset + i] for i < m, four partial sums to shorten the dependency chain. */

@@ -63,6 +63,7 @@ export function mStepCoefficients(ws: MixtureWorkspace, params: MixtureParameter
   // Where the weighted-Gram kernel's SIMD path runs, the rows go straight into its memory,
   // row-major (rowBlock); elsewhere into column-major buffers.
   const block = rowBlock(q, blockRows);
+  const gatheredY = block ? block.y : ws.blockY;
   for (let start = 0; start < n; start += blockRows) {
     const end = Math.min(n, start + blockRows);
     for (let c = 0; c < k; c++) {
@@ -74,7 +75,7 @@ export function mStepCoefficients(ws: MixtureWorkspace, params: MixtureParameter
         if (w < NEGLIGIBLE_MEMBERSHIP) continue;
         if (block) gatherRow(ws, i, w, block.plain, block.weighted, m * block.qp, block.qp);
         else gatherColumn(ws, i, w, m);
-        (block ? block.y : ws.blockY)[m] = y[i];
+        gatheredY[m] = y[i];
         weightedSquares[c] += w * y[i] * y[i];
         m++;
       }
@@ -83,7 +84,7 @@ export function mStepCoefficients(ws: MixtureWorkspace, params: MixtureParameter
       if (block) {
         accumulateRowBlock(block, m, grams, gramOffset, rightHandSides, c * q);
       } else {
-        for (let j = 0; j < q; j++) rightHandSides[c * q + j] += dot(ws.blockWeighted, j * blockRows, ws.blockY, 0, m);
+        for (let j = 0; j < q; j++) rightHandSides[c * q + j] += dot(ws.blockWeighted, j * blockRows, gatheredY, 0, m);
         accumulateGramBlock(ws.blockWeighted, ws.blockColumns, blockRows, m, q, grams, gramOffset);
       }
     }
