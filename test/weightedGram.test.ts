@@ -1,5 +1,5 @@
 import { describe, expect, it } from "vitest";
-import { accumulateGramBlock, accumulateRowBlock, allowSimdKernel, blockRowsFor, dot, rowBlock, simdKernelAvailable } from "../src/engine/weightedGram";
+import { accumulateGramBlock, addBlockDots, addBlockGram, allowSimdKernel, blockRowsFor, dot, rowBlock, simdKernelAvailable, weighBlock, type RowBlock } from "../src/engine/weightedGram";
 import { WEIGHTED_GRAM_WASM_BASE64 } from "../src/engine/wasm/weightedGramModule";
 import { fitMixture } from "../src/engine/fitMixture";
 import { noiselessProblem, noisyProblem } from "../src/synthetic/generateProblems";
@@ -56,6 +56,17 @@ function randomBlock(q: number, m: number, stride: number, seed: number): { weig
   return { weighted, columns };
 }
 
+/** Copies a column-major block (stride `stride`) into a row block, with the given per-row vectors. */
+function fillRowBlock(block: RowBlock, weighted: Float64Array, columns: Float64Array, stride: number, m: number, q: number, vectors: Float64Array[]): void {
+  for (let r = 0; r < m; r++) {
+    for (let j = 0; j < block.qp; j++) {
+      block.plain[r * block.qp + j] = j < q ? columns[j * stride + r] : 0;
+      block.weighted[r * block.qp + j] = j < q ? weighted[j * stride + r] : 0;
+    }
+    vectors.forEach((vector, t) => (block.vectors[r * block.vectorCount + t] = vector[r]));
+  }
+}
+
 /** Fit, memberships and standard errors as text, every number in full. */
 function fingerprint(value: unknown): string {
   return JSON.stringify(value, (key, v) => (key === "timings" ? undefined : v instanceof Float64Array ? Array.from(v) : v));
@@ -66,27 +77,56 @@ describe("the weighted-Gram kernel's SIMD path", () => {
     expect(simdKernelAvailable()).toBe(true);
   });
 
-  it("gives the scalar path's sums to the bit, added into what the Gram held, the memory growing as needed", () => {
-    const cases: Array<[number, number]> = [[8, 8], [9, 37], [11, 100], [12, 5], [13, 1489], [50, 327], [61, 200], [600, 32]];
+  it("row blocks give the same sums on both paths, to the bit, added into what the Gram held, the memory growing as needed", () => {
+    // Gram rows in groups of four and the last q mod 4 (q mod 4 = 0-3), m mod 4 = 0-3 for dot's tail, up to 600 columns.
+    const cases: Array<[number, number]> = [[1, 9], [2, 10], [3, 11], [5, 12], [8, 8], [9, 37], [11, 100], [12, 5], [13, 1489], [50, 327], [61, 200], [600, 32]];
     for (const [q, m] of cases) {
       const stride = Math.max(m, blockRowsFor(q));
       const { weighted, columns } = randomBlock(q, m, stride, q * 1000 + m);
+      const vector = Float64Array.from({ length: m }, (_, r) => Math.cos(r * q));
       const start = Float64Array.from({ length: q * q }, (_, t) => (t % 7) - 3);
-      const sums: Float64Array[] = [];
+      const sums: Float64Array[][] = [];
       for (const allowed of [false, true]) {
         allowSimdKernel(allowed);
+        const block = rowBlock(q, stride, 2);
+        fillRowBlock(block, weighted, columns, stride, m, q, [vector, vector.map((v) => -2 * v)]);
         const gram = start.slice();
-        accumulateGramBlock(weighted, columns, stride, m, q, gram, 0);
-        sums.push(gram);
+        const plainDots = Float64Array.from({ length: q }, (_, j) => j);
+        const weightedDots = new Float64Array(q);
+        addBlockGram(block, m, gram, 0);
+        addBlockDots(block, m, "plain", 0, plainDots, 0);
+        addBlockDots(block, m, "weighted", 1, weightedDots, 0);
+        sums.push([gram, plainDots, weightedDots]);
       }
       allowSimdKernel(true);
-      expect(Array.from(sums[1]), `q = ${q}, m = ${m}`).toEqual(Array.from(sums[0]));
+      for (let t = 0; t < 3; t++) expect(Array.from(sums[1][t]), `q = ${q}, m = ${m}, output ${t}`).toEqual(Array.from(sums[0][t]));
       // Not a comparison of two zero arrays: the block moved every upper-triangle entry.
-      expect(sums[1].some((value, t) => value !== start[t])).toBe(true);
+      expect(sums[1][0].some((value, t) => value !== start[t])).toBe(true);
     }
   });
 
-  it("row blocks (the M-step's layout) give the column-major kernel's and dot's sums to the bit", () => {
+  it("weighs a row block's rows by a per-row value, on both paths the product w·x of each value", () => {
+    for (const [q, m] of [[1, 3], [5, 17], [12, 40]] as Array<[number, number]>) {
+      const random = createRandom(q + m);
+      const values = Float64Array.from({ length: m * q }, () => random.next() * 4 - 2);
+      const weights = Float64Array.from({ length: m }, () => random.next());
+      for (const allowed of [false, true]) {
+        allowSimdKernel(allowed);
+        const block = rowBlock(q, 64, 3);
+        for (let g = 0; g < m; g++) {
+          for (let j = 0; j < block.qp; j++) block.plain[g * block.qp + j] = j < q ? values[g * q + j] : 0;
+          block.vectors[g * 3 + 2] = weights[g];
+        }
+        weighBlock(block, m, 2);
+        for (let g = 0; g < m; g++) {
+          for (let j = 0; j < q; j++) expect(block.weighted[g * block.qp + j], `q = ${q}, SIMD ${allowed}`).toBe(weights[g] * values[g * q + j]);
+        }
+      }
+      allowSimdKernel(true);
+    }
+  });
+
+  it("row blocks give the column-major kernel's and dot's sums to the bit", () => {
     // m mod 4 = 0, 1, 2, 3 and q mod 4 = 0, 1, 2, 3, so both of dot's tails and the Gram's last rows are met.
     for (const [q, m] of [[1, 9], [2, 10], [3, 11], [5, 12], [16, 40], [17, 41], [18, 42], [19, 43], [50, 327], [31, 1]] as Array<[number, number]>) {
       const stride = blockRowsFor(q);
@@ -94,27 +134,27 @@ describe("the weighted-Gram kernel's SIMD path", () => {
       const y = Float64Array.from({ length: m }, (_, r) => Math.sin(r + q));
       const gramStart = Float64Array.from({ length: q * q }, (_, t) => (t % 5) - 2);
       const rhsStart = Float64Array.from({ length: q }, (_, j) => j - 3);
-      allowSimdKernel(false);
       const expectedGram = gramStart.slice();
       const expectedRhs = rhsStart.slice();
+      const expectedPlain = new Float64Array(q);
       accumulateGramBlock(weighted, columns, stride, m, q, expectedGram, 0);
       for (let j = 0; j < q; j++) expectedRhs[j] += dot(weighted, j * stride, y, 0, m);
-      expect(rowBlock(q, stride)).toBeNull();
-      allowSimdKernel(true);
-      const block = rowBlock(q, stride);
-      if (!block) throw new Error("no row block where the SIMD path runs");
-      for (let r = 0; r < m; r++) {
-        for (let j = 0; j < block.qp; j++) {
-          block.plain[r * block.qp + j] = j < q ? columns[j * stride + r] : 0;
-          block.weighted[r * block.qp + j] = j < q ? weighted[j * stride + r] : 0;
-        }
-        block.y[r] = y[r];
+      for (let j = 0; j < q; j++) expectedPlain[j] += dot(columns, j * stride, y, 0, m);
+      for (const allowed of [true, false]) {
+        allowSimdKernel(allowed);
+        const block = rowBlock(q, stride);
+        fillRowBlock(block, weighted, columns, stride, m, q, [y]);
+        const gram = gramStart.slice();
+        const rhs = rhsStart.slice();
+        const plain = new Float64Array(q);
+        addBlockGram(block, m, gram, 0);
+        addBlockDots(block, m, "weighted", 0, rhs, 0);
+        addBlockDots(block, m, "plain", 0, plain, 0);
+        expect(Array.from(gram), `q = ${q}, m = ${m}, SIMD ${allowed}`).toEqual(Array.from(expectedGram));
+        expect(Array.from(rhs), `q = ${q}, m = ${m}, SIMD ${allowed}`).toEqual(Array.from(expectedRhs));
+        expect(Array.from(plain), `q = ${q}, m = ${m}, SIMD ${allowed}`).toEqual(Array.from(expectedPlain));
       }
-      const gram = gramStart.slice();
-      const rhs = rhsStart.slice();
-      accumulateRowBlock(block, m, gram, 0, rhs, 0);
-      expect(Array.from(gram), `q = ${q}, m = ${m}`).toEqual(Array.from(expectedGram));
-      expect(Array.from(rhs), `q = ${q}, m = ${m}`).toEqual(Array.from(expectedRhs));
+      allowSimdKernel(true);
     }
   });
 

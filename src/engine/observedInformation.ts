@@ -1,7 +1,7 @@
 import type { MixtureFit, RegressionData } from "./mixtureTypes";
 import { predictorLogDensity, predictorModels } from "./computeMemberships";
 import { componentLogConstant, membershipsFromLogTerms } from "./logDensities";
-import { accumulateGramBlock, blockRowsFor, dot } from "./weightedGram";
+import { addBlockDots, addBlockGram, blockRowsFor, rowBlock, type RowBlock } from "./weightedGram";
 import { NEGLIGIBLE_MEMBERSHIP } from "./mixture/mStep";
 import { paddedCoefficients, rowResiduals } from "./mixture/eStep";
 
@@ -59,10 +59,10 @@ export interface ObservedInformation {
  * below rounding (τ α stays under about 7.4e-12 / σ however far the row lies). So each
  * component's terms are sums over the rows it holds, and each cross term (c ≠ d) over the rows
  * both hold: on separated components most rows belong to one component alone and add to its own
- * sums only. Per block: the design copied column-major and the residuals taken as each row is read, each
- * row's memberships and scalars, then per component and per pair of components the rows they
- * hold gathered and summed with the weighted-Gram kernel (weightedGram.ts) for the β blocks
- * and dot products for the q-vectors. No n-sized array is made.
+ * sums only. Per block: each row's residuals, memberships and scalars, then per component and
+ * per pair of components the rows they hold gathered into the weighted-Gram kernel's row block
+ * (weightedGram.ts) and summed there, the Gram for the β blocks and dot products for the
+ * q-vectors. No n-sized array is made.
  */
 export function observedInformation(data: RegressionData, fit: MixtureFit): ObservedInformation {
   const st = informationState(data, fit);
@@ -71,7 +71,7 @@ export function observedInformation(data: RegressionData, fit: MixtureFit): Obse
   // A block at a time, in small functions: each is compiled once and stays fast.
   for (let start = 0; start < n; start += blockRows) {
     addBlockRows(st, start, Math.min(n, start + blockRows) - start);
-    for (let c = 0; c < k; c++) addHeldRows(st, c);
+    for (let c = 0; c < k; c++) addHeldRows(st, start, c);
   }
   const totalShare = shares[0];
   const squareShare = shares[1];
@@ -163,11 +163,8 @@ function informationState(data: RegressionData, fit: MixtureFit) {
   const gTau = new Float64Array(k * k);
   const gg = new Float64Array(k * k);
 
-  // Block buffers, column-major with stride blockRows: the design (its intercept column of 1s
-  // filled once), per-row weights, the rows each component holds, gathered copies.
+  // Block buffers, with stride blockRows: per-row values, the rows each component holds.
   const blockRows = blockRowsFor(q);
-  const columns = new Float64Array(q * blockRows);
-  columns.fill(1, 0, ones * blockRows);
   // Residuals row by row, k to a row (rowResiduals writes them so).
   const residuals = new Float64Array(k * blockRows);
   const tau = new Float64Array(k * blockRows);
@@ -180,10 +177,7 @@ function informationState(data: RegressionData, fit: MixtureFit) {
   const held = new Int32Array(k * blockRows);
   const heldCount = new Int32Array(k);
   const active = new Int32Array(k);
-  const gathered = new Float64Array(q * blockRows);
-  const weighted = new Float64Array(q * blockRows);
-  const vectorWeights = new Float64Array(4 * blockRows);
-  return { n, x, y, p, q, k, ones, models, predictorScratch, background, terms, logTerm, posterior, varianceOffset, logitOffset, logits, size, weights, variances, inverseVariances, constant, padded, grams, ownVariance, ownLogit, ownOutside, crossVariance, crossLogit, shares, tauSum, outsideTau, gSum, gOutside, curvatureSum, tauTau, gTau, gg, blockRows, columns, residuals, tau, u, g, gramWeight, varianceWeight, logitWeight, outside, held, heldCount, active, gathered, weighted, vectorWeights };
+  return { n, x, y, p, q, k, ones, models, predictorScratch, background, terms, logTerm, posterior, varianceOffset, logitOffset, logits, size, weights, variances, inverseVariances, constant, padded, grams, ownVariance, ownLogit, ownOutside, crossVariance, crossLogit, shares, tauSum, outsideTau, gSum, gOutside, curvatureSum, tauTau, gTau, gg, blockRows, residuals, tau, u, g, gramWeight, varianceWeight, logitWeight, outside, held, heldCount, active };
 }
 
 type InformationState = ReturnType<typeof informationState>;
@@ -191,15 +185,10 @@ type InformationState = ReturnType<typeof informationState>;
 /** One block's rows: residuals, memberships, per-row weights and scalar sums; the rows each component holds. */
 function addBlockRows(st: InformationState, start: number, m: number): void {
   const { x, y, p, q, k, ones, models, predictorScratch, background, terms, logTerm, posterior, weights, variances, inverseVariances, constant, padded, shares } = st;
-  const { tauSum, outsideTau, gSum, gOutside, curvatureSum, tauTau, gTau, gg, blockRows, columns, residuals, tau, u, g, gramWeight, varianceWeight, logitWeight, outside, held, heldCount, active } = st;
+  const { tauSum, outsideTau, gSum, gOutside, curvatureSum, tauTau, gTau, gg, blockRows, residuals, tau, u, g, gramWeight, varianceWeight, logitWeight, outside, held, heldCount, active } = st;
   let totalShare = 0;
   let squareShare = 0;
-  // Each row read once, in order: copied into the block's columns and its residuals taken.
-  for (let r = 0; r < m; r++) {
-    const from = (start + r) * p;
-    for (let j = 0; j < p; j++) columns[(ones + j) * blockRows + r] = x[from + j];
-    rowResiduals(x, from - ones, ones, q, padded, k, y[start + r], residuals, r * k);
-  }
+  for (let r = 0; r < m; r++) rowResiduals(x, (start + r) * p - ones, ones, q, padded, k, y[start + r], residuals, r * k);
   heldCount.fill(0);
   for (let r = 0; r < m; r++) {
     for (let c = 0; c < k; c++) {
@@ -259,32 +248,30 @@ function addBlockRows(st: InformationState, start: number, m: number): void {
   shares[1] += squareShare;
 }
 
-/** The rows component c holds in the block: its own β block and q-vectors, and the cross terms with each later component. */
-function addHeldRows(st: InformationState, c: number): void {
-  const { q, k, background, blockRows, columns, tau, u, g, gramWeight, varianceWeight, logitWeight, outside, held, heldCount, gathered, weighted, vectorWeights } = st;
+/**
+ * The rows component c holds in the block starting at row `start`: its own β block and
+ * q-vectors, and the cross terms with each later component. The rows go into the kernel's row
+ * block with the per-row values their q-vectors need beside them.
+ */
+function addHeldRows(st: InformationState, start: number, c: number): void {
+  const { q, k, background, blockRows, tau, u, g, gramWeight, varianceWeight, logitWeight, outside, held, heldCount } = st;
   const { grams, ownVariance, ownLogit, ownOutside, crossVariance, crossLogit } = st;
-  // The rows component c holds: its own β block and q-vectors.
   const count = heldCount[c];
   if (count === 0) return;
+  const block = rowBlock(q, blockRows, VECTORS_PER_ROW);
+  const { vectors } = block;
   const offset = c * blockRows;
   for (let s = 0; s < count; s++) {
     const r = held[offset + s];
-    const w = gramWeight[offset + r];
-    for (let j = 0; j < q; j++) {
-      const value = columns[j * blockRows + r];
-      gathered[j * blockRows + s] = value;
-      weighted[j * blockRows + s] = w * value;
-    }
-    vectorWeights[s] = varianceWeight[offset + r];
-    vectorWeights[blockRows + s] = logitWeight[offset + r];
-    vectorWeights[2 * blockRows + s] = u[offset + r] * outside[r];
+    gatherDesignRow(st, start + r, gramWeight[offset + r], block, s);
+    vectors[s * VECTORS_PER_ROW] = varianceWeight[offset + r];
+    vectors[s * VECTORS_PER_ROW + 1] = logitWeight[offset + r];
+    vectors[s * VECTORS_PER_ROW + 2] = u[offset + r] * outside[r];
   }
-  accumulateGramBlock(weighted, gathered, blockRows, count, q, grams, pairIndex(c, c, k) * q * q);
-  for (let a = 0; a < q; a++) {
-    ownVariance[c * q + a] += dot(vectorWeights, 0, gathered, a * blockRows, count);
-    ownLogit[c * q + a] += dot(vectorWeights, blockRows, gathered, a * blockRows, count);
-    if (background) ownOutside[c * q + a] += dot(vectorWeights, 2 * blockRows, gathered, a * blockRows, count);
-  }
+  addBlockGram(block, count, grams, pairIndex(c, c, k) * q * q);
+  addBlockDots(block, count, "plain", 0, ownVariance, c * q);
+  addBlockDots(block, count, "plain", 1, ownLogit, c * q);
+  if (background) addBlockDots(block, count, "plain", 2, ownOutside, c * q);
   // The rows held by c and a later component d: the cross terms.
   for (let d = c + 1; d < k; d++) {
     const other = d * blockRows;
@@ -294,27 +281,43 @@ function addHeldRows(st: InformationState, c: number): void {
       if (tau[other + r] < NEGLIGIBLE_MEMBERSHIP) continue;
       const uc = u[offset + r];
       const ud = u[other + r];
-      const w = uc * ud;
-      for (let j = 0; j < q; j++) {
-        const value = columns[j * blockRows + r];
-        gathered[j * blockRows + rows] = value;
-        weighted[j * blockRows + rows] = w * value;
-      }
-      vectorWeights[rows] = uc * g[other + r];
-      vectorWeights[blockRows + rows] = ud * g[offset + r];
-      vectorWeights[2 * blockRows + rows] = uc * tau[other + r];
-      vectorWeights[3 * blockRows + rows] = ud * tau[offset + r];
+      gatherDesignRow(st, start + r, uc * ud, block, rows);
+      vectors[rows * VECTORS_PER_ROW] = uc * g[other + r];
+      vectors[rows * VECTORS_PER_ROW + 1] = ud * g[offset + r];
+      vectors[rows * VECTORS_PER_ROW + 2] = uc * tau[other + r];
+      vectors[rows * VECTORS_PER_ROW + 3] = ud * tau[offset + r];
       rows++;
     }
     if (rows === 0) continue;
-    accumulateGramBlock(weighted, gathered, blockRows, rows, q, grams, pairIndex(c, d, k) * q * q);
-    for (let a = 0; a < q; a++) {
-      const column = a * blockRows;
-      crossVariance[(c * k + d) * q + a] += dot(vectorWeights, 0, gathered, column, rows);
-      crossVariance[(d * k + c) * q + a] += dot(vectorWeights, blockRows, gathered, column, rows);
-      crossLogit[(c * k + d) * q + a] += dot(vectorWeights, 2 * blockRows, gathered, column, rows);
-      crossLogit[(d * k + c) * q + a] += dot(vectorWeights, 3 * blockRows, gathered, column, rows);
-    }
+    addBlockGram(block, rows, grams, pairIndex(c, d, k) * q * q);
+    addBlockDots(block, rows, "plain", 0, crossVariance, (c * k + d) * q);
+    addBlockDots(block, rows, "plain", 1, crossVariance, (d * k + c) * q);
+    addBlockDots(block, rows, "plain", 2, crossLogit, (c * k + d) * q);
+    addBlockDots(block, rows, "plain", 3, crossLogit, (d * k + c) * q);
+  }
+}
+
+/** Per-row values beside each gathered row: up to four q-vectors' weights (the cross terms use all four). */
+const VECTORS_PER_ROW = 4;
+
+/** Design row i (1s for the intercept, then x_i) into slot `at` of the row block, and w times it beside it. */
+function gatherDesignRow(st: InformationState, i: number, w: number, block: RowBlock, at: number): void {
+  const { x, p, ones } = st;
+  const { plain, weighted, qp } = block;
+  const base = at * qp;
+  const from = i * p;
+  for (let j = 0; j < ones; j++) {
+    plain[base + j] = 1;
+    weighted[base + j] = w;
+  }
+  for (let j = 0; j < p; j++) {
+    const value = x[from + j];
+    plain[base + ones + j] = value;
+    weighted[base + ones + j] = w * value;
+  }
+  for (let j = ones + p; j < qp; j++) {
+    plain[base + j] = 0;
+    weighted[base + j] = 0;
   }
 }
 

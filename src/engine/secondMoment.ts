@@ -1,5 +1,5 @@
 import type { RegressionData } from "./mixtureTypes";
-import { accumulateGramBlock, blockRowsFor } from "./weightedGram";
+import { addBlockGram, blockRowsFor, rowBlock } from "./weightedGram";
 
 /**
  * Ê[xxᵀ] = (1/n) Σ_i x̃_i x̃_iᵀ over the rows, with x̃_i = (1, x_i): (p + 1) x (p + 1) row-major,
@@ -21,16 +21,30 @@ export function meanOuterProduct(x: Float64Array, n: number, p: number, weights:
   const size = p + offset;
   const moment = new Float64Array(size * size);
   const blockRows = blockRowsFor(size);
-  const columns = new Float64Array(size * blockRows);
-  const weighted = weights ? new Float64Array(size * blockRows) : columns;
-  if (leadingOne) columns.fill(1, 0, blockRows);
+  const block = rowBlock(size, blockRows, 0);
+  const { plain, weighted, qp } = block;
   for (let start = 0; start < n; start += blockRows) {
     const m = Math.min(n, start + blockRows) - start;
-    for (let r = 0; r < m; r++) for (let j = 0; j < p; j++) columns[(j + offset) * blockRows + r] = x[(start + r) * p + j];
-    if (weights) {
-      for (let j = 0; j < size; j++) for (let r = 0; r < m; r++) weighted[j * blockRows + r] = weights[start + r] * columns[j * blockRows + r];
+    for (let r = 0; r < m; r++) {
+      // Unweighted, w = 1 and w·x is x itself, to the bit.
+      const w = weights ? weights[start + r] : 1;
+      const base = r * qp;
+      const from = (start + r) * p;
+      if (leadingOne) {
+        plain[base] = 1;
+        weighted[base] = w;
+      }
+      for (let j = 0; j < p; j++) {
+        const value = x[from + j];
+        plain[base + offset + j] = value;
+        weighted[base + offset + j] = w * value;
+      }
+      for (let j = size; j < qp; j++) {
+        plain[base + j] = 0;
+        weighted[base + j] = 0;
+      }
     }
-    accumulateGramBlock(weighted, columns, blockRows, m, size, moment, 0);
+    addBlockGram(block, m, moment, 0);
   }
   for (let a = 0; a < size; a++) {
     for (let b = a; b < size; b++) {

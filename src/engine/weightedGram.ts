@@ -130,6 +130,7 @@ interface SimdKernel {
   transpose: (source: number, m: number, q: number, qp: number, target: number) => void;
   gram: (weighted: number, columns: number, m: number, rows: number, qp: number, out: number) => void;
   dots: (x: number, m: number, qp: number, from: number, v: number, vStride: number, out: number) => void;
+  scale: (x: number, m: number, qp: number, v: number, vStride: number, out: number) => void;
 }
 
 /** undefined until first asked for; null when this runtime cannot run the module. */
@@ -164,6 +165,7 @@ function simdKernel(): SimdKernel | null {
       transpose: instance.exports.transpose as SimdKernel["transpose"],
       gram: instance.exports.gram as SimdKernel["gram"],
       dots: instance.exports.dots as SimdKernel["dots"],
+      scale: instance.exports.scale as SimdKernel["scale"],
     };
   } catch {
     // No WebAssembly, no SIMD, or compilation refused (a content security policy): the scalar path.
@@ -214,77 +216,160 @@ function addGramOutput(kernel: SimdKernel, outAt: number, rows: number, q: numbe
 }
 
 /**
- * Rows gathered for accumulateRowBlock, row-major in the SIMD module's memory: gathered row
- * g's q values at plain[g·qp ..] and its weighted values w·x at weighted[g·qp ..], each row
- * padded with zeros to qp (q rounded up to a multiple of 4), and its response at y[g]. The
- * arrays are views of the module's memory, valid until the next call into this kernel; filled
- * directly, they spare the column-major path's copies into that memory and its transposes.
+ * Rows gathered for the kernel, row-major: gathered row g's q design values at plain[g·qp ..]
+ * and its weighted values w·x at weighted[g·qp ..], each padded with zeros to qp (q rounded up
+ * to a multiple of 4), and `vectorCount` per-row values at vectors[g·vectorCount ..] (the
+ * response in the M-step, other per-row weights in the observed information). Where the SIMD
+ * path runs the arrays are views of the module's memory, valid until the next call for a row
+ * block: filled directly, they need no copy before the sums. Elsewhere they are plain arrays,
+ * and the scalar path copies the block column by column first (see addBlockGram).
  */
 export interface RowBlock {
   plain: Float64Array;
   weighted: Float64Array;
-  y: Float64Array;
+  vectors: Float64Array;
   q: number;
   qp: number;
   capacity: number;
-  /** Where the kernel's output starts in the module's memory, in doubles. */
+  vectorCount: number;
+  /** The SIMD module, or null for the scalar path. */
+  kernel: SimdKernel | null;
+  /** SIMD path: where the module's outputs start in its memory, in doubles. */
   outAt: number;
-  kernel: SimdKernel;
+  /** Scalar path: column-major copies of the block (stride capacity). */
+  columns: Float64Array | null;
+  weightedColumns: Float64Array | null;
 }
 
 let lastBlock: RowBlock | null = null;
 
 /**
- * A row block for up to `capacity` rows of q values in the SIMD module's memory (the last one,
- * while q and capacity stay the same and the memory has not grown); null where the SIMD path
- * does not run: the caller then gathers column by column for accumulateGramBlock. Any q: on
- * 21 noisy sheets of 2-10 predictors, fitted interleaved, M-steps on row blocks from 1, 4 and
- * 8 columns took 0.90-0.94 of the time of row blocks from 16 only.
+ * A row block for up to `capacity` rows of q values and `vectorCount` per-row values (the last
+ * one, while these stay the same, the path is the same and the module's memory has not grown).
+ * Take it afresh for every pass: another caller's block may move the memory. Row blocks from
+ * any q use the SIMD path where it runs: on 21 noisy sheets of 2-10 predictors, fitted
+ * interleaved, M-steps on row blocks from 1, 4 and 8 columns took 0.90-0.94 of the time of
+ * row blocks from 16 columns only.
  */
-export function rowBlock(q: number, capacity: number): RowBlock | null {
+export function rowBlock(q: number, capacity: number, vectorCount = 1): RowBlock {
   const kernel = simdKernel();
-  if (!kernel) return null;
-  if (lastBlock && lastBlock.q === q && lastBlock.capacity === capacity && lastBlock.plain.buffer === kernel.memory.buffer) return lastBlock;
+  const last = lastBlock;
+  if (last && last.q === q && last.capacity === capacity && last.vectorCount === vectorCount && last.kernel === kernel && (!kernel || last.plain.buffer === kernel.memory.buffer)) return last;
   const qp = (q + 3) & ~3;
-  // Memory in doubles: the weighted and the plain rows (capacity·qp each), y, the output
-  // (qp², then qp for the dot products).
+  if (!kernel) {
+    lastBlock = {
+      plain: new Float64Array(capacity * qp),
+      weighted: new Float64Array(capacity * qp),
+      vectors: new Float64Array(capacity * vectorCount),
+      q, qp, capacity, vectorCount, kernel, outAt: 0,
+      columns: new Float64Array(capacity * q),
+      weightedColumns: new Float64Array(capacity * q),
+    };
+    return lastBlock;
+  }
+  // Memory in doubles: the weighted and the plain rows (capacity·qp each), the vectors, the
+  // output (qp² for the Gram, then qp for the dot products).
   const plainAt = capacity * qp;
-  const yAt = 2 * capacity * qp;
-  const outAt = yAt + capacity;
+  const vectorsAt = 2 * capacity * qp;
+  const outAt = vectorsAt + capacity * vectorCount;
   reserve(kernel, (outAt + qp * qp + qp) * 8);
   const buffer = kernel.memory.buffer;
   lastBlock = {
     weighted: new Float64Array(buffer, 0, capacity * qp),
     plain: new Float64Array(buffer, plainAt * 8, capacity * qp),
-    y: new Float64Array(buffer, yAt * 8, capacity),
-    q, qp, capacity, outAt, kernel,
+    vectors: new Float64Array(buffer, vectorsAt * 8, capacity * vectorCount),
+    q, qp, capacity, vectorCount, kernel, outAt, columns: null, weightedColumns: null,
   };
   return lastBlock;
 }
 
 /**
- * Adds, over the block's first m gathered rows, Σ w x xᵀ into gram[gramOffset ..] (upper
- * triangle) and Σ w x y into rhs[rhsOffset ..]. The sums are, to the bit, those of
- * accumulateGramBlock and dot on the same rows stored column by column: the Gram's rows in
- * groups of four are running sums over the rows in order (the module's "gram"), and Σ w x y
- * and the Gram's last q mod 4 rows keep dot's four partial sums (its "dots").
+ * Adds Σ w x xᵀ over the block's first m rows into the upper triangle of gram[offset ..]
+ * (q x q row-major). SIMD path: the Gram's rows in groups of four as running sums over the
+ * rows in order (the module's "gram"), the last q mod 4 rows as dot products in dot's
+ * association (its "dots"). Scalar path: the block copied column by column, then the same
+ * sums in JavaScript (accumulateGramBlock). The two give the same sums to the bit.
  */
-export function accumulateRowBlock(block: RowBlock, m: number, gram: Float64Array, gramOffset: number, rhs: Float64Array, rhsOffset: number): void {
+export function addBlockGram(block: RowBlock, m: number, gram: Float64Array, offset: number): void {
   if (m === 0) return;
-  const { plain, weighted, y, q, qp, kernel, outAt } = block;
+  const { plain, weighted, q, qp, kernel, outAt } = block;
+  if (!kernel) {
+    const columns = block.columns as Float64Array;
+    const weightedColumns = block.weightedColumns as Float64Array;
+    const stride = block.capacity;
+    for (let g = 0; g < m; g++) {
+      for (let j = 0; j < q; j++) {
+        columns[j * stride + g] = plain[g * qp + j];
+        weightedColumns[j * stride + g] = weighted[g * qp + j];
+      }
+    }
+    accumulateGramBlock(weightedColumns, columns, stride, m, q, gram, offset);
+    return;
+  }
   const rows = q & ~3;
   const heap = kernel.heap;
   const dotsAt = outAt + qp * qp;
-  kernel.dots(weighted.byteOffset, m, qp, 0, y.byteOffset, 8, dotsAt * 8);
-  for (let j = 0; j < q; j++) rhs[rhsOffset + j] += heap[dotsAt + j];
   for (let j = rows; j < q; j++) {
     // Row j of the Gram from column j on: Σ (w·x_j)·x_l, plain columns against weighted column j.
     kernel.dots(plain.byteOffset, m, qp, j & ~1, weighted.byteOffset + j * 8, qp * 8, dotsAt * 8);
-    for (let l = j; l < q; l++) gram[gramOffset + j * q + l] += heap[dotsAt + l];
+    for (let l = j; l < q; l++) gram[offset + j * q + l] += heap[dotsAt + l];
   }
   if (rows === 0) return;
   kernel.gram(weighted.byteOffset, plain.byteOffset, m, rows, qp, outAt * 8);
-  addGramOutput(kernel, outAt, rows, q, qp, gram, gramOffset);
+  addGramOutput(kernel, outAt, rows, q, qp, gram, offset);
+}
+
+/**
+ * The weighted rows of the block's first m rows from its plain ones: weighted = v · plain, v
+ * the per-row value number `vector` (the same products in the module or in JavaScript).
+ * Callers that gather only the plain rows and their weights save half the copying.
+ */
+export function weighBlock(block: RowBlock, m: number, vector: number): void {
+  const { plain, weighted, vectors, vectorCount, qp, kernel } = block;
+  if (kernel) {
+    kernel.scale(plain.byteOffset, m, qp, vectors.byteOffset + vector * 8, vectorCount * 8, weighted.byteOffset);
+    return;
+  }
+  for (let g = 0; g < m; g++) {
+    const w = vectors[g * vectorCount + vector];
+    for (let j = g * qp; j < (g + 1) * qp; j++) weighted[j] = w * plain[j];
+  }
+}
+
+/**
+ * Adds Σ_g x_g v_g over the block's first m rows into out[offset + j], j < q: x from the
+ * plain rows (`source` "plain") or the weighted ones, v the per-row value number `vector`.
+ * Each sum in dot's association, on either path (the module's "dots", or stridedDot).
+ */
+export function addBlockDots(block: RowBlock, m: number, source: "plain" | "weighted", vector: number, out: Float64Array, offset: number): void {
+  if (m === 0) return;
+  const { q, qp, kernel, vectors, vectorCount, outAt } = block;
+  const rows = source === "plain" ? block.plain : block.weighted;
+  if (!kernel) {
+    for (let j = 0; j < q; j++) out[offset + j] += stridedDot(rows, j, qp, vectors, vector, vectorCount, m);
+    return;
+  }
+  const dotsAt = outAt + qp * qp;
+  kernel.dots(rows.byteOffset, m, qp, 0, vectors.byteOffset + vector * 8, vectorCount * 8, dotsAt * 8);
+  const heap = kernel.heap;
+  for (let j = 0; j < q; j++) out[offset + j] += heap[dotsAt + j];
+}
+
+/** Σ a[aOffset + i·aStride] b[bOffset + i·bStride] for i < m, in dot's association (four partial sums). */
+function stridedDot(a: Float64Array, aOffset: number, aStride: number, b: Float64Array, bOffset: number, bStride: number, m: number): number {
+  let s0 = 0;
+  let s1 = 0;
+  let s2 = 0;
+  let s3 = 0;
+  let i = 0;
+  for (; i + 3 < m; i += 4) {
+    s0 += a[aOffset + i * aStride] * b[bOffset + i * bStride];
+    s1 += a[aOffset + (i + 1) * aStride] * b[bOffset + (i + 1) * bStride];
+    s2 += a[aOffset + (i + 2) * aStride] * b[bOffset + (i + 2) * bStride];
+    s3 += a[aOffset + (i + 3) * aStride] * b[bOffset + (i + 3) * bStride];
+  }
+  for (; i < m; i++) s0 += a[aOffset + i * aStride] * b[bOffset + i * bStride];
+  return s0 + s1 + (s2 + s3);
 }
 
 /** Σ a[aOffset + i] b[bOffset + i] for i < m, four partial sums to shorten the dependency chain. */

@@ -2,7 +2,7 @@ import type { MixtureParameters } from "./mixtureParameters";
 import type { MixtureWorkspace } from "./mixtureWorkspace";
 import { choleskyScratchLength, scaledCholeskyLower, scaledCholeskySolve } from "../cholesky";
 import { constrainedVariances } from "./constrainedVariances";
-import { accumulateGramBlock, accumulateRowBlock, dot, rowBlock } from "../weightedGram";
+import { addBlockDots, addBlockGram, dot, rowBlock, weighBlock } from "../weightedGram";
 
 /** What an M-step changed beyond the parameters themselves. */
 export interface MStepReport {
@@ -36,77 +36,24 @@ export const NEGLIGIBLE_MEMBERSHIP = 1e-12;
  * (Dempster, Laird & Rubin 1977; for the regression part DeSarbo & Cron 1988):
  * π_k = n_k / n, β_k = argmin Σ_i τ_ik (y_i − x_iᵀβ)², solved from XᵀW_kX β = XᵀW_k y.
  *
- * Memory layout: the row-major design is read once per M-step, a block of rows at a time.
- * Each block is copied into a small buffer that stays in cache (only the rows the component
- * holds): column by column, so every Gram entry is a dot product over contiguous memory (about
- * four times faster than adding each row's outer product into the Gram matrix, which is bound
- * by stores to a q x q array), or, where the kernel's SIMD path runs, row by row straight into
- * the module's memory (weightedGram.ts, rowBlock). Both give the same sums to the bit.
+ * Memory layout: the row-major design is read once per M-step, a block of rows at a time. The
+ * rows a component holds are copied into the weighted-Gram kernel's row block, which stays in
+ * cache (weightedGram.ts: in the SIMD module's memory where that runs, so the sums need no
+ * further copy), with w·x beside each row.
  */
 export function mStepCoefficients(ws: MixtureWorkspace, params: MixtureParameters, guards: Guards): MStepReport {
-  const { n, q, k, y, memberships, grams, rightHandSides, sizes } = ws;
-  const { blockRows } = ws;
-  const weightedSquares = ws.weightedSquares;
-  grams.fill(0);
-  rightHandSides.fill(0);
+  const { n, q, k, memberships, grams, rightHandSides, sizes } = ws;
   sizes.fill(0);
-  weightedSquares.fill(0);
   for (let i = 0; i < n; i++) for (let c = 0; c < k; c++) sizes[c] += memberships[i * k + c];
   // The largest component's Gram matrix is the total XᵀX (computed once per data set) minus
   // the others', since Σ_k τ_ik = 1: one component fewer to accumulate. Taking the largest keeps
-  // the cancellation small: the error is about rounding × n / n_largest ≤ rounding × k.
-  const total = totalGram(ws);
-  // With a background component the memberships of the K regressions no longer sum to 1.
-  const complement = k > 1 && ws.background === null;
+  // the cancellation small: the error is about rounding × n / n_largest ≤ rounding × k. With a
+  // background component the memberships of the K regressions no longer sum to 1.
   let largest = 0;
   for (let c = 1; c < k; c++) if (sizes[c] > sizes[largest]) largest = c;
-  // Where the weighted-Gram kernel's SIMD path runs, the rows go straight into its memory,
-  // row-major (rowBlock); elsewhere into column-major buffers.
-  const block = rowBlock(q, blockRows);
-  const gatheredY = block ? block.y : ws.blockY;
-  for (let start = 0; start < n; start += blockRows) {
-    const end = Math.min(n, start + blockRows);
-    for (let c = 0; c < k; c++) {
-      if (c === largest && complement) continue;
-      // Gather the rows this component holds.
-      let m = 0;
-      for (let i = start; i < end; i++) {
-        const w = memberships[i * k + c];
-        if (w < NEGLIGIBLE_MEMBERSHIP) continue;
-        if (block) gatherRow(ws, i, w, block.plain, block.weighted, m * block.qp, block.qp);
-        else gatherColumn(ws, i, w, m);
-        gatheredY[m] = y[i];
-        weightedSquares[c] += w * y[i] * y[i];
-        m++;
-      }
-      if (m === 0) continue;
-      const gramOffset = c * q * q;
-      if (block) {
-        accumulateRowBlock(block, m, grams, gramOffset, rightHandSides, c * q);
-      } else {
-        for (let j = 0; j < q; j++) rightHandSides[c * q + j] += dot(ws.blockWeighted, j * blockRows, gatheredY, 0, m);
-        accumulateGramBlock(ws.blockWeighted, ws.blockColumns, blockRows, m, q, grams, gramOffset);
-      }
-    }
-  }
-  if (complement) {
-    const offset = largest * q * q;
-    for (let j = 0; j < q; j++) {
-      let rhs = total.rightHandSide[j];
-      for (let c = 0; c < k; c++) if (c !== largest) rhs -= rightHandSides[c * q + j];
-      rightHandSides[largest * q + j] = rhs;
-      if (j === 0) {
-        let squares = total.squares;
-        for (let c = 0; c < k; c++) if (c !== largest) squares -= weightedSquares[c];
-        weightedSquares[largest] = squares;
-      }
-      for (let l = j; l < q; l++) {
-        let value = total.gram[j * q + l];
-        for (let c = 0; c < k; c++) if (c !== largest) value -= grams[c * q * q + j * q + l];
-        grams[offset + j * q + l] = value;
-      }
-    }
-  }
+  const complement = k > 1 && ws.background === null ? largest : -1;
+  accumulateComponentSums(ws, complement);
+  if (complement >= 0) complementSums(ws, complement);
   const collapsed: number[] = [];
   const solution = new Float64Array(q);
   for (let c = 0; c < k; c++) {
@@ -124,37 +71,70 @@ export function mStepCoefficients(ws: MixtureWorkspace, params: MixtureParameter
 }
 
 /**
- * Design row i into a row block at `base` (qp values, zero-padded) and w times it beside it.
- * Column j of the design is rowValues[i·rowStride − implicitOnes + j] after the implicit 1s
- * (mixtureWorkspace.ts).
+ * Σ τ x xᵀ, Σ τ x y and Σ τ y² of every component but `skipped` (−1: none) into the
+ * workspace's grams, rightHandSides and weightedSquares, a block of rows at a time: the rows a
+ * component holds go into the kernel's row block with their response and membership beside
+ * them, and the kernel weighs and sums them.
  */
-function gatherRow(ws: MixtureWorkspace, i: number, w: number, plain: Float64Array, weighted: Float64Array, base: number, qp: number): void {
-  const { q, implicitOnes, rowValues, rowStride } = ws;
-  const rowOffset = i * rowStride - implicitOnes;
-  for (let j = 0; j < implicitOnes; j++) {
-    plain[base + j] = 1;
-    weighted[base + j] = w;
-  }
-  for (let j = implicitOnes; j < q; j++) {
-    const value = rowValues[rowOffset + j];
-    plain[base + j] = value;
-    weighted[base + j] = w * value;
-  }
-  for (let j = q; j < qp; j++) {
-    plain[base + j] = 0;
-    weighted[base + j] = 0;
+function accumulateComponentSums(ws: MixtureWorkspace, skipped: number): void {
+  const { n, q, k, y, memberships, grams, rightHandSides, weightedSquares, blockRows } = ws;
+  grams.fill(0);
+  rightHandSides.fill(0);
+  weightedSquares.fill(0);
+  const block = rowBlock(q, blockRows, 2);
+  const { plain, vectors, qp } = block;
+  for (let start = 0; start < n; start += blockRows) {
+    const end = Math.min(n, start + blockRows);
+    for (let c = 0; c < k; c++) {
+      if (c === skipped) continue;
+      let m = 0;
+      for (let i = start; i < end; i++) {
+        const w = memberships[i * k + c];
+        if (w < NEGLIGIBLE_MEMBERSHIP) continue;
+        gatherRow(ws, i, plain, m * qp, qp);
+        vectors[2 * m] = y[i];
+        vectors[2 * m + 1] = w;
+        weightedSquares[c] += w * y[i] * y[i];
+        m++;
+      }
+      weighBlock(block, m, 1);
+      addBlockGram(block, m, grams, c * q * q);
+      addBlockDots(block, m, "weighted", 0, rightHandSides, c * q);
+    }
   }
 }
 
-/** Design row i into slot m of the workspace's column-major block buffers, and w times it beside it. */
-function gatherColumn(ws: MixtureWorkspace, i: number, w: number, m: number): void {
-  const { q, implicitOnes, rowValues, rowStride, blockRows, blockColumns, blockWeighted } = ws;
-  const rowOffset = i * rowStride - implicitOnes;
+/** Component `largest`'s sums as the totals over all rows minus the other components' (see mStepCoefficients). */
+function complementSums(ws: MixtureWorkspace, largest: number): void {
+  const { q, k, grams, rightHandSides, weightedSquares } = ws;
+  const total = totalGram(ws);
+  let squares = total.squares;
+  for (let c = 0; c < k; c++) if (c !== largest) squares -= weightedSquares[c];
+  weightedSquares[largest] = squares;
+  const offset = largest * q * q;
   for (let j = 0; j < q; j++) {
-    const value = j < implicitOnes ? 1 : rowValues[rowOffset + j];
-    blockColumns[j * blockRows + m] = value;
-    blockWeighted[j * blockRows + m] = w * value;
+    let rhs = total.rightHandSide[j];
+    for (let c = 0; c < k; c++) if (c !== largest) rhs -= rightHandSides[c * q + j];
+    rightHandSides[largest * q + j] = rhs;
+    for (let l = j; l < q; l++) {
+      let value = total.gram[j * q + l];
+      for (let c = 0; c < k; c++) if (c !== largest) value -= grams[c * q * q + j * q + l];
+      grams[offset + j * q + l] = value;
+    }
   }
+}
+
+/**
+ * Design row i into a row block's plain rows at `base` (qp values, zero-padded). Column j of
+ * the design is rowValues[i·rowStride − implicitOnes + j] after the implicit 1s
+ * (mixtureWorkspace.ts).
+ */
+function gatherRow(ws: MixtureWorkspace, i: number, plain: Float64Array, base: number, qp: number): void {
+  const { q, implicitOnes, rowValues, rowStride } = ws;
+  const rowOffset = i * rowStride - implicitOnes;
+  for (let j = 0; j < implicitOnes; j++) plain[base + j] = 1;
+  for (let j = implicitOnes; j < q; j++) plain[base + j] = rowValues[rowOffset + j];
+  for (let j = q; j < qp; j++) plain[base + j] = 0;
 }
 
 /** XᵀX and Xᵀy over all rows of the workspace, accumulated on first use. */

@@ -144,4 +144,28 @@
         (v128.store (i32.add (local.get $out) (i32.shl (local.get $j) (i32.const 3)))
           (f64x2.add (f64x2.add (local.get $s0) (local.get $s1)) (f64x2.add (local.get $s2) (local.get $s3))))
         (local.set $j (i32.add (local.get $j) (i32.const 2)))
-        (br $columns)))))
+        (br $columns))))
+
+  ;; out[g·qp + j] = v[g] · x[g·qp + j] for g < m, j < qp (qp even): a row block's weighted
+  ;; rows from its plain ones, one product per value as in JavaScript. v[g] is at byte
+  ;; v + g·vStride.
+  (func (export "scale") (param $x i32) (param $m i32) (param $qp i32) (param $v i32) (param $vStride i32) (param $out i32)
+    (local $g i32) (local $j i32) (local $w v128)
+    (local.set $g (i32.const 0))
+    (block $rowsDone
+      (loop $rows
+        (br_if $rowsDone (i32.ge_u (local.get $g) (local.get $m)))
+        (local.set $w (v128.load64_splat (local.get $v)))
+        (local.set $j (i32.const 0))
+        (block $valuesDone
+          (loop $values
+            (br_if $valuesDone (i32.ge_u (local.get $j) (local.get $qp)))
+            (v128.store (local.get $out) (f64x2.mul (v128.load (local.get $x)) (local.get $w)))
+            (local.set $x (i32.add (local.get $x) (i32.const 16)))
+            (local.set $out (i32.add (local.get $out) (i32.const 16)))
+            (local.set $j (i32.add (local.get $j) (i32.const 2)))
+            (br $values)))
+        (local.set $v (i32.add (local.get $v) (local.get $vStride)))
+        (local.set $g (i32.add (local.get $g) (i32.const 1)))
+        (br $rows))))
+)
