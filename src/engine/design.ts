@@ -171,6 +171,31 @@ function checkRange(range: unknown, label: string): unknown[][] {
 export function buildDesign(y: unknown[][], x: unknown[][], options: DesignOptions = {}): Design {
   let yRows = checkRange(y, "y");
   let xRows = checkRange(x, "x");
+  const p = checkShapes(yRows, xRows);
+  const header = headerOf(yRows, xRows, options.headers ?? "auto");
+  const firstDataRow = header.hasHeaderRow ? 1 : 0;
+  const inputRows = yRows.length - firstDataRow;
+  if (inputRows === 0) {
+    throw new SkeinError("bad-input", "The ranges hold only a header row; include the data rows below it.");
+  }
+  const notices: string[] = [];
+  if (options.numberText !== false) {
+    yRows = readNumberTextColumns(yRows, firstDataRow, [header.yName], notices);
+    xRows = readNumberTextColumns(xRows, firstDataRow, header.columnNames, notices);
+  }
+  // Category columns: mostly text or logical values (categoryLevels.ts).
+  const isCategory: boolean[] = [];
+  for (let j = 0; j < p; j++) isCategory.push(options.categories?.[j] ?? isCategoryColumn(xRows, firstDataRow, j, (text) => ERROR_TEXTS.has(text.toUpperCase())));
+
+  const read = readRows(yRows, xRows, header, isCategory, options.leaveOut);
+  const columns = encodeColumns(header.columnNames, isCategory, read, options.intercept === false, notices);
+  const xValues = packPredictors(read, columns, isCategory.includes(true));
+  const { n, rowIndex, skipped } = read;
+  return finishDesign({ y: read.y, x: xValues, n, yName: header.yName, columns, notices, hasHeaderRow: header.hasHeaderRow, inputRows, rowIndex, skipped }, options);
+}
+
+/** Checks that y is one column and x a table of the same rows, all of one width; returns that width. */
+function checkShapes(yRows: unknown[][], xRows: unknown[][]): number {
   for (let i = 0; i < yRows.length; i++) {
     if (yRows[i].length !== 1) {
       if (yRows[i].length === 0) throw new SkeinError("bad-input", `Row ${i + 1} of the y range is empty; y must be a single column of numbers.`);
@@ -187,31 +212,55 @@ export function buildDesign(y: unknown[][], x: unknown[][], options: DesignOptio
       throw new SkeinError("bad-input", `Row ${i + 1} of the x range has ${xRows[i].length} cells but row 1 has ${p}; every row of x must have the same number of columns.`);
     }
   }
+  return p;
+}
 
-  const headerSetting = options.headers ?? "auto";
-  const hasHeaderRow = headerSetting === "auto"
+/** Whether the first row holds names, and the names of y and the x columns. */
+interface Header {
+  hasHeaderRow: boolean;
+  yName: string;
+  columnNames: string[];
+}
+
+/**
+ * The header of the ranges: with "auto", the first row is taken for names only when every
+ * cell of it could be a name, so a first row holding a number stays data.
+ */
+function headerOf(yRows: unknown[][], xRows: unknown[][], setting: boolean | "auto"): Header {
+  const hasHeaderRow = setting === "auto"
     ? isNameText(yRows[0][0]) && xRows[0].every(isNameText)
-    : headerSetting;
+    : setting;
   const { yName, columnNames } = columnNamesOf(hasHeaderRow ? yRows[0][0] : undefined, xRows[0].map((cell) => (hasHeaderRow ? cell : undefined)));
+  return { hasHeaderRow, yName, columnNames };
+}
 
+/**
+ * The data rows as read, the n usable ones packed at the front of arrays sized for every input
+ * row (one pass, no copy). A category cell is held as its level key, with its label as first
+ * seen, until the levels of the used rows are known.
+ */
+interface RowsRead {
+  n: number;
+  y: Float64Array;
+  /** inputRows × p, row-major; the number columns only (category cells are in levelKeys). */
+  rawX: Float64Array;
+  levelKeys: string[][];
+  levelLabels: Map<string, string>[];
+  rowIndex: Int32Array;
+  skipped: SkippedRow[];
+}
+
+/**
+ * Reads every data row, listing a skipped row under its first unusable cell (y before x); a row
+ * the caller leaves out is listed as left out only when its cells were usable. A non-finite
+ * number stops the whole design: it is a fault in the sheet to fix, not a cell to skip.
+ */
+function readRows(yRows: unknown[][], xRows: unknown[][], header: Header, isCategory: readonly boolean[], leaveOut: ReadonlySet<number> | undefined): RowsRead {
+  const { hasHeaderRow, yName, columnNames } = header;
   const firstDataRow = hasHeaderRow ? 1 : 0;
   const inputRows = yRows.length - firstDataRow;
-  if (inputRows === 0) {
-    throw new SkeinError("bad-input", "The ranges hold only a header row; include the data rows below it.");
-  }
-  const readNotices: string[] = [];
-  if (options.numberText !== false) {
-    yRows = readNumberTextColumns(yRows, firstDataRow, [yName], readNotices);
-    xRows = readNumberTextColumns(xRows, firstDataRow, columnNames, readNotices);
-  }
-  // Category columns: mostly text or logical values (categoryLevels.ts).
-  const isCategory: boolean[] = [];
-  for (let j = 0; j < p; j++) isCategory.push(options.categories?.[j] ?? isCategoryColumn(xRows, firstDataRow, j, (text) => ERROR_TEXTS.has(text.toUpperCase())));
-  const anyCategory = isCategory.includes(true);
-
-  // Written in place for every input row; a skipped row is overwritten by the
-  // next one, so the used rows end up packed at the front. A category cell is
-  // held as its level key until the levels of the used rows are known.
+  const p = isCategory.length;
+  // Written in place for every input row; a skipped row is overwritten by the next one.
   const yValues = new Float64Array(inputRows);
   const rawX = new Float64Array(inputRows * p);
   const levelKeys: string[][] = isCategory.map(() => []);
@@ -250,7 +299,7 @@ export function buildDesign(y: unknown[][], x: unknown[][], options: DesignOptio
         column = columnNames[j];
       }
     }
-    if (reason === undefined && options.leaveOut?.has(r)) {
+    if (reason === undefined && leaveOut?.has(r)) {
       reason = SKIP_REASONS.leftOut;
       column = yName;
     }
@@ -261,11 +310,20 @@ export function buildDesign(y: unknown[][], x: unknown[][], options: DesignOptio
       skipped.push({ row: r, column, reason });
     }
   }
+  return { n, y: yValues, rawX, levelKeys, levelLabels, rowIndex, skipped };
+}
 
+/**
+ * How each x column enters the design, with a notice (added to `notices`) per category column
+ * made into indicators. The levels come from the used rows only, so a level seen only in
+ * skipped rows gets no all-zero indicator. Without an intercept the first category column
+ * keeps an indicator for every level: together they stand in for the intercept.
+ */
+function encodeColumns(columnNames: readonly string[], isCategory: readonly boolean[], read: RowsRead, withoutIntercept: boolean, notices: string[]): PredictorColumn[] {
+  const { n, levelKeys, levelLabels } = read;
   const columns: PredictorColumn[] = [];
-  const notices: string[] = readNotices;
-  let everyLevelUsed = options.intercept === false;
-  for (let j = 0; j < p; j++) {
+  let everyLevelUsed = withoutIntercept;
+  for (let j = 0; j < isCategory.length; j++) {
     if (!isCategory[j]) {
       columns.push({ kind: "number", name: columnNames[j] });
       continue;
@@ -274,6 +332,7 @@ export function buildDesign(y: unknown[][], x: unknown[][], options: DesignOptio
     // Labels as first seen among the used rows.
     const labels = new Map<string, string>();
     for (const key of keys) if (!labels.has(key)) labels.set(key, levelLabels[j].get(key) as string);
+    // No used rows: chooseLevels would call the column constant; the row count is the fault (finishDesign).
     const encoded = n === 0 ? null : chooseLevels(columnNames[j], keys, labels, everyLevelUsed);
     if (encoded === null) {
       columns.push({ kind: "number", name: columnNames[j] });
@@ -283,8 +342,18 @@ export function buildDesign(y: unknown[][], x: unknown[][], options: DesignOptio
     columns.push(encoded);
     notices.push(categoryNotice(encoded));
   }
+  return columns;
+}
+
+/**
+ * The design's predictor block, n rows of the encoded width: a category column's key becomes
+ * its 0/1 indicators. Without category columns the values read are already the design (the
+ * common case: no copy).
+ */
+function packPredictors(read: RowsRead, columns: readonly PredictorColumn[], anyCategory: boolean): Float64Array {
+  const { n, rawX, levelKeys } = read;
+  const p = columns.length;
   const width = encodedWidth(columns);
-  // Without category columns the values are already the design (the common case: no copy).
   const xValues = anyCategory ? new Float64Array(n * width) : rawX.subarray(0, n * p);
   for (let i = 0; anyCategory && i < n; i++) {
     let at = i * width;
@@ -298,7 +367,7 @@ export function buildDesign(y: unknown[][], x: unknown[][], options: DesignOptio
       }
     }
   }
-  return finishDesign({ y: yValues, x: xValues, n, yName, columns, notices, hasHeaderRow, inputRows, rowIndex, skipped }, options);
+  return xValues;
 }
 
 /**
