@@ -104,8 +104,21 @@ export function scanComponents(data: RegressionData, options: ScanOptions): Scan
   if (!Number.isInteger(kMax) || kMax < 1) throw new SkeinError("bad-input", `The largest number of components (kMax) must be a whole number of at least 1, not ${kMax}.`);
   const seed = options.seed ?? DEFAULT_SEED;
   const intercept = options.intercept ?? true;
-  const model = options.model ?? "plain";
   const q = intercept ? data.p + 1 : data.p;
+  const { rows, stoppedEarly } = fitEachK(data, options, seed, q);
+  const chosenK = crossValidatedK(data, options, seed, q, rows);
+  const rule = ruleText(rows);
+  for (const row of rows) row.note = noteFor(row, rows, chosenK);
+  return { rows, chosenK, rule, stoppedEarly };
+}
+
+/**
+ * The scan's fits of K = 1 up to kMax, one row each, every K also started from the fit of
+ * K − 1 (addComponentStart). The scan stops, saying why, before a K the rows cannot hold or
+ * at a K > 1 whose fit fails: the smaller K already fitted are still worth reporting.
+ */
+function fitEachK(data: RegressionData, options: ScanOptions, seed: number, q: number): { rows: ScanRow[]; stoppedEarly: string | null } {
+  const kMax = options.kMax;
   const rows: ScanRow[] = [];
   let previousFit: MixtureFit | null = null;
   let stoppedEarly: string | null = null;
@@ -139,12 +152,19 @@ export function scanComponents(data: RegressionData, options: ScanOptions): Scan
     previousFit = fit;
     options.onProgress?.(k, kMax);
   }
+  return { rows, stoppedEarly };
+}
+
+/**
+ * The K the rule suggests, checked on small samples. BIC's penalty does not count the freedom
+ * of choosing which rows form a component, so with few rows per coefficient extra components
+ * fitted to noise can win. There the cross-validated log-likelihood (Smyth 2000) decides
+ * whether the suggestion predicts held-out rows at least as well as every smaller K; if not,
+ * its row is flagged and the rule is applied again. Each K's held-out values are computed at
+ * most once (folds are costly) and its row given their mean.
+ */
+function crossValidatedK(data: RegressionData, options: ScanOptions, seed: number, q: number, rows: ScanRow[]): number {
   let chosenK = suggestK(rows);
-  // Small samples: BIC's penalty does not count the freedom of choosing which rows form a
-  // component, so with few rows per coefficient extra components fitted to noise can win.
-  // There the cross-validated log-likelihood (Smyth 2000) decides whether the suggestion
-  // predicts held-out rows at least as well as every smaller K; if not, it is flagged and
-  // the rule is applied again.
   const heldOut = new Map<number, Float64Array>();
   const heldOutOf = (row: ScanRow): Float64Array | null => {
     let values = heldOut.get(row.k);
@@ -175,13 +195,17 @@ export function scanComponents(data: RegressionData, options: ScanOptions): Scan
     chosen.flag = chosen.flag === null ? `Not suggested: ${reason}.` : `${chosen.flag.slice(0, -1)}; ${reason}.`;
     chosenK = suggestK(rows);
   }
-  const rule =
+  return chosenK;
+}
+
+/** The suggestion rule in the scan's own words, with the early stop named only when a K was stopped. */
+function ruleText(rows: readonly ScanRow[]): string {
+  return (
     `Among the K whose fit converged, whose starts agree, whose components each hold enough rows, and whose components are all at least a gap of ${MIN_SUGGESTED_GAP} noise SD apart, ` +
     `take the lowest BIC, then the smallest K within ${BIC_TIE} BIC of it. With fewer than ${SMALL_SAMPLE_ROWS_PER_COEFFICIENT} rows per coefficient per component, ` +
     `a K must also predict most rows left out of the fit (${CROSS_VALIDATION_FOLDS}-fold cross-validation) at least as well as every smaller K.` +
-    (rows.some((row) => row.stopped !== null) ? ` A K whose BIC could not come within ${BIC_TIE} of the lowest so far, even with the gain still to come, was stopped early: it could not change the suggestion.` : "");
-  for (const row of rows) row.note = noteFor(row, rows, chosenK);
-  return { rows, chosenK, rule, stoppedEarly };
+    (rows.some((row) => row.stopped !== null) ? ` A K whose BIC could not come within ${BIC_TIE} of the lowest so far, even with the gain still to come, was stopped early: it could not change the suggestion.` : "")
+  );
 }
 
 /**
