@@ -74,11 +74,19 @@ export function checkSeparation(data: RegressionData, fit: MixtureFit): Separati
 }
 
 function separationOf(data: RegressionData, fit: MixtureFit): SeparationReport {
+  const pairs = componentGaps(data, fit);
+  const minGap = pairs.reduce((least, pair) => (pair.gap < least ? pair.gap : least), Infinity);
+  const { misclassification, normalisedEntropy } = membershipSharpness(fit);
+  const smallestWeight = Math.min(...fit.components.map((c) => c.weight));
+  const warnings = separationWarnings(fit, pairs, misclassification);
+  return { pairs, minGap, misclassification, normalisedEntropy, smallestWeight, warnings };
+}
+
+/** The gap of every pair of components a < b, in noise SDs, in the order a, then b. */
+function componentGaps(data: RegressionData, fit: MixtureFit): SeparationPair[] {
   const k = fit.k;
-  const n = fit.memberships.length / k;
   const moment = secondMoment(data);
   const pairs: SeparationPair[] = [];
-  let minGap = Infinity;
   for (let a = 0; a < k; a++) {
     for (let b = a + 1; b < k; b++) {
       const ca = fit.components[a];
@@ -88,10 +96,18 @@ function separationOf(data: RegressionData, fit: MixtureFit): SeparationReport {
       // Noiseless components: any difference is infinitely many noise units; identical ones 0.
       const gap = noise > 0 ? distance / noise : distance > 0 ? Infinity : 0;
       pairs.push({ a, b, gap });
-      if (gap < minGap) minGap = gap;
     }
   }
+  return pairs;
+}
 
+/**
+ * How crisp the memberships are: the estimated share of rows misassigned and the normalised
+ * entropy (both measures of the comment on checkSeparation), in one pass over the rows.
+ */
+function membershipSharpness(fit: MixtureFit): { misclassification: number; normalisedEntropy: number } {
+  const k = fit.k;
+  const n = fit.memberships.length / k;
   let sumOfMax = 0;
   let entropy = 0;
   for (let i = 0; i < n; i++) {
@@ -106,8 +122,12 @@ function separationOf(data: RegressionData, fit: MixtureFit): SeparationReport {
   }
   const misclassification = n > 0 ? Math.max(0, 1 - sumOfMax / n) : 0;
   const normalisedEntropy = k === 1 || n === 0 ? 1 : 1 - entropy / (n * Math.log(k));
-  const smallestWeight = Math.min(...fit.components.map((c) => c.weight));
+  return { misclassification, normalisedEntropy };
+}
 
+/** The warnings of the report, by the thresholds at the top of this module: overlapping pairs, then misassigned rows, then each component too small. */
+function separationWarnings(fit: MixtureFit, pairs: readonly SeparationPair[], misclassification: number): string[] {
+  const k = fit.k;
   const warnings: string[] = [];
   for (const pair of pairs) {
     if (pair.gap < OVERLAP_GAP) {
@@ -134,5 +154,5 @@ function separationOf(data: RegressionData, fit: MixtureFit): SeparationReport {
       );
     }
   }
-  return { pairs, minGap, misclassification, normalisedEntropy, smallestWeight, warnings };
+  return warnings;
 }
