@@ -43,81 +43,159 @@ export function alternatingLeastSquares(
   design: Float64Array, n: number, q: number, y: Float64Array, start: Float64Array[],
   maxIterations: number, exactTolerance: number, minimumRows: number, signal?: CancelSignal, rule: AssignmentRule = "nearest",
 ): AlternatingFit {
+  const state = createState(design, n, q, y, start, exactTolerance, rule);
+  const iterations = alternate(state, maxIterations, minimumRows, signal);
+  refineFinalSolves(state, minimumRows);
+  assign(state, state.criterion);
+  return summarise(state, exactTolerance, iterations);
+}
+
+/** The rows, the current components and the scratch that the phases of one fit share. */
+interface AlternatingState {
+  design: Float64Array;
+  n: number;
+  q: number;
+  y: Float64Array;
+  coefficients: Float64Array[];
+  /** Each row's component, −1 before the first assignment. */
+  labels: Int32Array;
+  /** Each row's absolute residual under its component. */
+  best: Float64Array;
+  /** Rows per component, as the normal equations hold them. */
+  counts: Int32Array;
+  /** k x q x q Gram matrices XᵀX and k x q right-hand sides, one per component. */
+  grams: Float64Array;
+  rights: Float64Array;
+  scratch: Float64Array;
+  /** Components that gained or lost a row at the last assignment. */
+  changedComponent: Uint8Array;
+  /** The labels the normal equations were last brought up to. */
+  previous: Int32Array;
+  moves: RowMoves;
+  /** n x k fitted values, row-major. */
+  fitted: Float64Array;
+  /** Components whose column of `fitted` is out of date. */
+  stale: Uint8Array;
+  criterion: ClassificationCriterion | null;
+}
+
+function createState(
+  design: Float64Array, n: number, q: number, y: Float64Array, start: Float64Array[], exactTolerance: number, rule: AssignmentRule,
+): AlternatingState {
   const k = start.length;
-  const coefficients: Float64Array[] = start.map((c) => Float64Array.from(c));
-  const labels = new Int32Array(n).fill(-1);
-  const best = new Float64Array(n);
-  const counts = new Int32Array(k);
-  // Normal equations per component, kept up to date by rank-one updates: a row that moves from
-  // component a to component b is subtracted from a's XᵀX and Xᵀy and added to b's, so an
-  // iteration costs O(moved rows · q²) instead of O(n · q²) (the updating of least-squares
-  // normal equations, Golub & Van Loan, Matrix Computations, 4th ed., §6.5). After the first
-  // few iterations only a small fraction of the rows moves. Cheap and accurate enough on the
-  // well-conditioned (whitened) designs the warm start passes; the final solve of each
-  // component is refined to rounding level (below).
-  const grams = new Float64Array(k * q * q);
-  const rights = new Float64Array(k * q);
-  const scratch = new Float64Array(choleskyScratchLength(q));
-  const changedComponent = new Uint8Array(k);
-  const previous = new Int32Array(n).fill(-1);
-  const moves = new RowMoves(q);
-  // Fitted values per row and component (n x k), recomputed only for the components whose
-  // coefficients changed since the last assignment: late iterations move a few rows and
-  // re-solve a few components, so most of the n·k·q products are reused.
-  const fitted = new Float64Array(n * k);
-  const stale = new Uint8Array(k).fill(1);
-  counts.fill(0);
-  const criterion = rule === "classification" ? new ClassificationCriterion(n, k, exactTolerance) : null;
+  return {
+    design,
+    n,
+    q,
+    y,
+    coefficients: start.map((c) => Float64Array.from(c)),
+    labels: new Int32Array(n).fill(-1),
+    best: new Float64Array(n),
+    counts: new Int32Array(k),
+    // Normal equations per component, kept up to date by rank-one updates: a row that moves from
+    // component a to component b is subtracted from a's XᵀX and Xᵀy and added to b's, so an
+    // iteration costs O(moved rows · q²) instead of O(n · q²) (the updating of least-squares
+    // normal equations, Golub & Van Loan, Matrix Computations, 4th ed., §6.5). After the first
+    // few iterations only a small fraction of the rows moves. Cheap and accurate enough on the
+    // well-conditioned (whitened) designs the warm start passes; the final solve of each
+    // component is refined to rounding level (refineFinalSolves).
+    grams: new Float64Array(k * q * q),
+    rights: new Float64Array(k * q),
+    scratch: new Float64Array(choleskyScratchLength(q)),
+    changedComponent: new Uint8Array(k),
+    previous: new Int32Array(n).fill(-1),
+    moves: new RowMoves(q),
+    // Fitted values per row and component (n x k), recomputed only for the components whose
+    // coefficients changed since the last assignment: late iterations move a few rows and
+    // re-solve a few components, so most of the n·k·q products are reused.
+    fitted: new Float64Array(n * k),
+    stale: new Uint8Array(k).fill(1),
+    criterion: rule === "classification" ? new ClassificationCriterion(n, k, exactTolerance) : null,
+  };
+}
+
+/** Assigns rows and re-solves the components they moved between until no row moves; returns the iterations run. */
+function alternate(state: AlternatingState, maxIterations: number, minimumRows: number, signal?: CancelSignal): number {
+  const { criterion } = state;
   let iterations = 0;
   for (; iterations < maxIterations; iterations++) {
     checkSignal(signal);
-    changedComponent.fill(0);
-    const moved = assign(design, n, q, y, coefficients, labels, best, changedComponent, fitted, stale, criterion?.ready ? criterion : null);
+    state.changedComponent.fill(0);
+    const moved = assign(state, criterion?.ready ? criterion : null);
     if (criterion && !criterion.ready) {
       // The first assignment (every row moved: none had a label) is by nearest residual; the
       // scales it shows decide it again.
-      criterion.update(labels, best);
-      assign(design, n, q, y, coefficients, labels, best, changedComponent, fitted, stale, criterion);
+      criterion.update(state.labels, state.best);
+      assign(state, criterion);
     }
     if (moved === 0) break;
-    moves.apply(design, y, labels, previous, grams, rights, counts);
-    for (let c = 0; c < k; c++) {
-      if (!changedComponent[c] || counts[c] < minimumRows) continue;
-      stale[c] = 1;
-      scaledCholeskySolve(grams.subarray(c * q * q, (c + 1) * q * q), rights.subarray(c * q, (c + 1) * q), q, coefficients[c], scratch);
-    }
-    criterion?.update(labels, best);
+    applyMoves(state);
+    solveChangedComponents(state, minimumRows);
+    criterion?.update(state.labels, state.best);
   }
-  // Final solve per component on its final rows, to rounding level: the normal equations
-  // brought up to the final labels, then iterative refinement (Golub & Van Loan, 4th ed.,
-  // §3.5.3): δ solves G δ = Xᵀ(y − Xβ) on the component's rows and β ← β + δ. The first step
-  // carries β to the least-squares solution of the final rows; the second removes what the
-  // updates of G as rows moved left in it (their rounding only slows the refinement, its fixed
-  // point is set by the residuals, computed afresh from the rows). About n·q operations a step,
-  // against n·q² for a QR of each component's rows.
-  assign(design, n, q, y, coefficients, labels, best, changedComponent, fitted, stale, criterion);
-  moves.apply(design, y, labels, previous, grams, rights, counts);
+  return iterations;
+}
+
+/** The normal equations brought from the rows' previous labels to their current ones. */
+function applyMoves(state: AlternatingState): void {
+  const { design, y, labels, previous, grams, rights, counts } = state;
+  state.moves.apply(design, y, labels, previous, grams, rights, counts);
+}
+
+/** Re-solves each component that gained or lost rows and still has enough of them. */
+function solveChangedComponents(state: AlternatingState, minimumRows: number): void {
+  const { q, coefficients, counts, grams, rights, scratch, changedComponent, stale } = state;
+  for (let c = 0; c < coefficients.length; c++) {
+    if (!changedComponent[c] || counts[c] < minimumRows) continue;
+    stale[c] = 1;
+    scaledCholeskySolve(grams.subarray(c * q * q, (c + 1) * q * q), rights.subarray(c * q, (c + 1) * q), q, coefficients[c], scratch);
+  }
+}
+
+/**
+ * Final solve per component on its final rows, to rounding level: the normal equations
+ * brought up to the final labels, then iterative refinement (Golub & Van Loan, 4th ed.,
+ * §3.5.3): δ solves G δ = Xᵀ(y − Xβ) on the component's rows and β ← β + δ. The first step
+ * carries β to the least-squares solution of the final rows; the second removes what the
+ * updates of G as rows moved left in it (their rounding only slows the refinement, its fixed
+ * point is set by the residuals, computed afresh from the rows). About n·q operations a step,
+ * against n·q² for a QR of each component's rows.
+ */
+function refineFinalSolves(state: AlternatingState, minimumRows: number): void {
+  const { q, coefficients, counts, grams, rights, scratch, stale } = state;
+  assign(state, state.criterion);
+  applyMoves(state);
   const correction = new Float64Array(q);
   for (let step = 0; step < REFINEMENT_STEPS; step++) {
-    // `rights` now holds Xᵀ(y − Xβ) per component (Xᵀy is not needed after the last solve).
-    rights.fill(0);
-    for (let i = 0; i < n; i++) {
-      const c = labels[i];
-      const row = i * q;
-      const v = coefficients[c];
-      let residual = y[i];
-      for (let j = 0; j < q; j++) residual -= design[row + j] * v[j];
-      const out = c * q;
-      for (let j = 0; j < q; j++) rights[out + j] += design[row + j] * residual;
-    }
-    for (let c = 0; c < k; c++) {
+    residualCrossProducts(state);
+    for (let c = 0; c < coefficients.length; c++) {
       if (counts[c] < minimumRows) continue;
       if (!scaledCholeskySolve(grams.subarray(c * q * q, (c + 1) * q * q), rights.subarray(c * q, (c + 1) * q), q, correction, scratch, false)) continue;
       for (let j = 0; j < q; j++) coefficients[c][j] += correction[j];
       stale[c] = 1;
     }
   }
-  assign(design, n, q, y, coefficients, labels, best, changedComponent, fitted, stale, criterion);
+}
+
+/** `rights` ← Xᵀ(y − Xβ) per component over its rows (Xᵀy is not needed after the last solve). */
+function residualCrossProducts(state: AlternatingState): void {
+  const { design, n, q, y, coefficients, labels, rights } = state;
+  rights.fill(0);
+  for (let i = 0; i < n; i++) {
+    const c = labels[i];
+    const row = i * q;
+    const v = coefficients[c];
+    let residual = y[i];
+    for (let j = 0; j < q; j++) residual -= design[row + j] * v[j];
+    const out = c * q;
+    for (let j = 0; j < q; j++) rights[out + j] += design[row + j] * residual;
+  }
+}
+
+/** The fit as returned: exact rows counted and each component's RMS residual on its rows. */
+function summarise(state: AlternatingState, exactTolerance: number, iterations: number): AlternatingFit {
+  const { n, coefficients, labels, best, counts } = state;
+  const k = coefficients.length;
   let exactRows = 0;
   const scales = new Float64Array(k);
   counts.fill(0);
@@ -234,10 +312,8 @@ class ClassificationCriterion {
  * `fitted` (n x k) holds each row's fitted value under each component; only the columns of
  * components flagged in `stale` are recomputed, then the flags are cleared.
  */
-function assign(
-  design: Float64Array, n: number, q: number, y: Float64Array, coefficients: Float64Array[], labels: Int32Array, best: Float64Array,
-  changedComponent: Uint8Array, fitted: Float64Array, stale: Uint8Array, criterion: ClassificationCriterion | null,
-): number {
+function assign(state: AlternatingState, criterion: ClassificationCriterion | null): number {
+  const { design, n, q, y, coefficients, labels, best, changedComponent, fitted, stale } = state;
   const k = coefficients.length;
   const recompute: Float64Array[] = [];
   const columns: number[] = [];
