@@ -29,76 +29,149 @@ const MEMBERSHIP_CUTOFF = 1e-6;
  * @param start initial memberships n x k (a random partition, for example), overwritten
  */
 export function subspaceMixtureFit(z: Float64Array, y: Float64Array, n: number, m: number, k: number, start: Float64Array, iterations: number): SubspaceMixture {
-  const tau = start;
-  const coefficients = Array.from({ length: k }, () => new Float64Array(m));
-  const variances = new Float64Array(k);
-  const weights = new Float64Array(k);
-  const gram = new Float64Array(m * m);
-  const scratch = new Float64Array(choleskyScratchLength(m));
-  const right = new Float64Array(m);
-  const logDensity = new Float64Array(k);
+  const state = createState(z, y, n, m, k, start);
+  let logLikelihood = -Infinity;
+  for (let iteration = 0; iteration < iterations; iteration++) {
+    solveComponents(state);
+    squaredResiduals(state);
+    updateVariances(state);
+    logLikelihood = eStep(state);
+  }
+  return { coefficients: state.coefficients, memberships: state.tau, logLikelihood };
+}
+
+/** The rows, the mixture's parameters and the scratch one fit's iterations share. */
+interface SubspaceState {
+  y: Float64Array;
+  n: number;
+  m: number;
+  k: number;
+  /** n x k memberships, row-major (the caller's start, overwritten). */
+  tau: Float64Array;
+  coefficients: Float64Array[];
+  variances: Float64Array;
+  weights: Float64Array;
+  /** Mean of y², the variance of a component that holds no rows. */
+  meanSquare: number;
+  /** The variance floor (RELATIVE_VARIANCE_FLOOR of meanSquare). */
+  floor: number;
+  /** The projected rows by column: z_a of row i at a·n + i. */
+  columns: Float64Array;
+  /** The columns weighted by one component's kept memberships. */
+  weighted: Float64Array;
+  /** One component's memberships, the negligible ones as 0. */
+  kept: Float64Array;
+  /** Per component, the sum of its kept memberships. */
+  masses: Float64Array;
+  /** Per component, whether its normal equations were solved this iteration. */
+  solved: Uint8Array;
+  gram: Float64Array;
+  right: Float64Array;
+  scratch: Float64Array;
+  /** Squared residuals of every row under every component (n x k), shared by the variances and the E-step. */
+  squares: Float64Array;
+  /** Per component, Σ τ r² over all rows. */
+  rss: Float64Array;
+  residual: Float64Array;
+  logDensity: Float64Array;
+}
+
+function createState(z: Float64Array, y: Float64Array, n: number, m: number, k: number, start: Float64Array): SubspaceState {
   let meanSquare = 0;
   for (let i = 0; i < n; i++) meanSquare += y[i] * y[i];
   meanSquare /= n;
-  const floor = RELATIVE_VARIANCE_FLOOR * meanSquare;
-  // The projected rows by column (z_a of row i at a·n + i) and, per M-step, the same weighted
-  // by one component's memberships: its normal equations are then the weighted-Gram kernel's
-  // register-blocked dot products over contiguous columns.
+  // The projected rows by column and, per M-step, the same weighted by one component's
+  // memberships: its normal equations are then the weighted-Gram kernel's register-blocked dot
+  // products over contiguous columns.
   const columns = new Float64Array(n * m);
   for (let i = 0; i < n; i++) for (let a = 0; a < m; a++) columns[a * n + i] = z[i * m + a];
-  const weighted = new Float64Array(n * m);
-  const kept = new Float64Array(n);
-  const masses = new Float64Array(k);
-  const solved = new Uint8Array(k);
-  // Squared residuals of every row under every component, shared by the variances and the E-step.
-  const squares = new Float64Array(n * k);
-  const rss = new Float64Array(k);
-  const residual = new Float64Array(n);
-  let logLikelihood = -Infinity;
-  for (let iteration = 0; iteration < iterations; iteration++) {
-    // M-step: weighted least squares per component through the m x m normal equations
-    // (m = K is tiny and the projected columns are close to orthonormal).
-    for (let j = 0; j < k; j++) {
-      // Negligible memberships are left out (they change nothing visible). In the subspace the
-      // missed part of each component acts as noise, so memberships stay soft and few are skipped.
-      let mass = 0;
-      for (let i = 0; i < n; i++) {
-        const t = tau[i * k + j];
-        kept[i] = t < MEMBERSHIP_CUTOFF ? 0 : t;
-        mass += kept[i];
-      }
-      for (let a = 0; a < m; a++) for (let i = 0; i < n; i++) weighted[a * n + i] = kept[i] * columns[a * n + i];
-      masses[j] = mass;
-      gram.fill(0);
-      accumulateGramBlock(weighted, columns, n, n, m, gram, 0);
-      for (let a = 0; a < m; a++) right[a] = dot(weighted, a * n, y, 0, n);
-      weights[j] = Math.max(mass / n, 1e-12);
-      solved[j] = scaledCholeskySolve(gram, right, m, coefficients[j], scratch, false) ? 1 : 0;
+  return {
+    y,
+    n,
+    m,
+    k,
+    tau: start,
+    coefficients: Array.from({ length: k }, () => new Float64Array(m)),
+    variances: new Float64Array(k),
+    weights: new Float64Array(k),
+    meanSquare,
+    floor: RELATIVE_VARIANCE_FLOOR * meanSquare,
+    columns,
+    weighted: new Float64Array(n * m),
+    kept: new Float64Array(n),
+    masses: new Float64Array(k),
+    solved: new Uint8Array(k),
+    gram: new Float64Array(m * m),
+    right: new Float64Array(m),
+    scratch: new Float64Array(choleskyScratchLength(m)),
+    squares: new Float64Array(n * k),
+    rss: new Float64Array(k),
+    residual: new Float64Array(n),
+    logDensity: new Float64Array(k),
+  };
+}
+
+/**
+ * M-step: weighted least squares per component through the m x m normal equations
+ * (m = K is tiny and the projected columns are close to orthonormal), and the weights.
+ */
+function solveComponents(state: SubspaceState): void {
+  const { y, n, m, k, tau, coefficients, weights, columns, weighted, kept, masses, solved, gram, right, scratch } = state;
+  for (let j = 0; j < k; j++) {
+    // Negligible memberships are left out (they change nothing visible). In the subspace the
+    // missed part of each component acts as noise, so memberships stay soft and few are skipped.
+    let mass = 0;
+    for (let i = 0; i < n; i++) {
+      const t = tau[i * k + j];
+      kept[i] = t < MEMBERSHIP_CUTOFF ? 0 : t;
+      mass += kept[i];
     }
-    // Residuals component by component, down the contiguous columns.
-    for (let j = 0; j < k; j++) {
-      const c = coefficients[j];
-      residual.set(y);
-      for (let a = 0; a < m; a++) {
-        const weight = c[a];
-        const base = a * n;
-        for (let i = 0; i < n; i++) residual[i] -= weight * columns[base + i];
-      }
-      let sum = 0;
-      for (let i = 0; i < n; i++) {
-        const square = residual[i] * residual[i];
-        squares[i * k + j] = square;
-        sum += tau[i * k + j] * square;
-      }
-      rss[j] = sum;
-    }
-    for (let j = 0; j < k; j++) if (solved[j]) variances[j] = Math.max(floor, masses[j] > 0 ? rss[j] / masses[j] : meanSquare);
-    // E-step through the kernel (log-sum-exp).
-    for (let j = 0; j < k; j++) logDensity[j] = componentLogConstant(weights[j], variances[j]);
-    for (let t = 0; t < n * k; t++) tau[t] = logDensity[t % k] - (0.5 * squares[t]) / variances[t % k];
-    logLikelihood = normaliseLogDensities(tau, n, k);
+    for (let a = 0; a < m; a++) for (let i = 0; i < n; i++) weighted[a * n + i] = kept[i] * columns[a * n + i];
+    masses[j] = mass;
+    gram.fill(0);
+    accumulateGramBlock(weighted, columns, n, n, m, gram, 0);
+    for (let a = 0; a < m; a++) right[a] = dot(weighted, a * n, y, 0, n);
+    weights[j] = Math.max(mass / n, 1e-12);
+    solved[j] = scaledCholeskySolve(gram, right, m, coefficients[j], scratch, false) ? 1 : 0;
   }
-  return { coefficients, memberships: tau, logLikelihood };
+}
+
+/**
+ * Each row's squared residual under each component and each component's Σ τ r², component by
+ * component down the contiguous columns.
+ */
+function squaredResiduals(state: SubspaceState): void {
+  const { y, n, m, k, tau, coefficients, columns, squares, rss, residual } = state;
+  for (let j = 0; j < k; j++) {
+    const c = coefficients[j];
+    residual.set(y);
+    for (let a = 0; a < m; a++) {
+      const weight = c[a];
+      const base = a * n;
+      for (let i = 0; i < n; i++) residual[i] -= weight * columns[base + i];
+    }
+    let sum = 0;
+    for (let i = 0; i < n; i++) {
+      const square = residual[i] * residual[i];
+      squares[i * k + j] = square;
+      sum += tau[i * k + j] * square;
+    }
+    rss[j] = sum;
+  }
+}
+
+/** The variance of each component just solved, at least the floor. */
+function updateVariances(state: SubspaceState): void {
+  const { k, variances, meanSquare, floor, masses, solved, rss } = state;
+  for (let j = 0; j < k; j++) if (solved[j]) variances[j] = Math.max(floor, masses[j] > 0 ? rss[j] / masses[j] : meanSquare);
+}
+
+/** E-step through the kernel (log-sum-exp): new memberships; returns the log-likelihood. */
+function eStep(state: SubspaceState): number {
+  const { n, k, tau, variances, weights, squares, logDensity } = state;
+  for (let j = 0; j < k; j++) logDensity[j] = componentLogConstant(weights[j], variances[j]);
+  for (let t = 0; t < n * k; t++) tau[t] = logDensity[t % k] - (0.5 * squares[t]) / variances[t % k];
+  return normaliseLogDensities(tau, n, k);
 }
 
 /** A random hard partition as starting memberships (n x k). */
