@@ -81,49 +81,10 @@ export function createWorkspace(data: RegressionData, k: number, intercept: bool
   const p = data.p;
   const q = intercept ? p + 1 : p;
   const n = rows ? rows.length : data.n;
-  const ones = intercept ? 1 : 0;
-  // All rows: the data's own responses and predictors, used in place (no fresh n-sized copies:
-  // on this kind of machine the first touch of new memory costs more than a pass over it).
-  let design: Float64Array | null = null;
-  let y = data.y.subarray(0, n);
-  let predictors = data.x.subarray(0, n * p);
-  let rowValues = predictors;
-  let rowStride = p;
-  let implicitOnes = ones;
-  if (rows) {
-    // A subsample copies its rows' design (and predictors when asked), value by value: a
-    // subarray view per row would allocate an object per row.
-    design = new Float64Array(n * q);
-    y = new Float64Array(n);
-    const copy = copyPredictors || joint;
-    predictors = new Float64Array(copy ? n * p : 0);
-    const x = data.x;
-    for (let i = 0; i < n; i++) {
-      const from = rows[i] * p;
-      const offset = i * q;
-      y[i] = data.y[rows[i]];
-      if (intercept) design[offset] = 1;
-      for (let j = 0; j < p; j++) design[offset + ones + j] = x[from + j];
-      if (copy) for (let j = 0; j < p; j++) predictors[i * p + j] = x[from + j];
-    }
-    rowValues = design;
-    rowStride = q;
-    implicitOnes = 0;
-  }
-  // Two passes over the rows (means, then centred squares: Chan, Golub & LeVeque 1983), each
-  // reading rows in order rather than one strided sweep per predictor.
-  const first = rowStride - p;
-  const predictorMeans = new Float64Array(p);
-  for (let i = 0; i < n; i++) for (let j = 0; j < p; j++) predictorMeans[j] += rowValues[i * rowStride + first + j];
-  for (let j = 0; j < p; j++) predictorMeans[j] /= n;
-  const predictorVariances = new Float64Array(p);
-  for (let i = 0; i < n; i++) {
-    for (let j = 0; j < p; j++) {
-      const d = rowValues[i * rowStride + first + j] - predictorMeans[j];
-      predictorVariances[j] += d * d;
-    }
-  }
-  for (let j = 0; j < p; j++) predictorVariances[j] /= n;
+  const layout = rows ? subsampleRows(data, rows, q, intercept, copyPredictors || joint) : allRows(data, n, intercept);
+  let design = layout.design;
+  const { y, predictors, rowValues, rowStride, implicitOnes } = layout;
+  const predictorVariances = predictorVariancesOf(rowValues, n, p, rowStride);
   const blockRows = blockRowsFor(q);
   return {
     n,
@@ -162,6 +123,72 @@ export function createWorkspace(data: RegressionData, k: number, intercept: bool
     predictorScratch: new Float64Array(p),
     background: null,
   };
+}
+
+/**
+ * The workspace's rows: the arrays that hold them and where the EM kernels read them (see
+ * MixtureWorkspace.rowValues).
+ */
+interface RowLayout {
+  /** The subsample's copied design, or null on all rows (made on first use). */
+  design: Float64Array | null;
+  y: Float64Array;
+  predictors: Float64Array;
+  rowValues: Float64Array;
+  rowStride: number;
+  implicitOnes: number;
+}
+
+/**
+ * All rows: the data's own responses and predictors, used in place (no fresh n-sized copies:
+ * on this kind of machine the first touch of new memory costs more than a pass over it).
+ */
+function allRows(data: RegressionData, n: number, intercept: boolean): RowLayout {
+  const predictors = data.x.subarray(0, n * data.p);
+  return { design: null, y: data.y.subarray(0, n), predictors, rowValues: predictors, rowStride: data.p, implicitOnes: intercept ? 1 : 0 };
+}
+
+/**
+ * A subsample copies its rows' design (and predictors when `copy`), value by value: a subarray
+ * view per row would allocate an object per row.
+ */
+function subsampleRows(data: RegressionData, rows: Int32Array, q: number, intercept: boolean, copy: boolean): RowLayout {
+  const p = data.p;
+  const n = rows.length;
+  const ones = intercept ? 1 : 0;
+  const design = new Float64Array(n * q);
+  const y = new Float64Array(n);
+  const predictors = new Float64Array(copy ? n * p : 0);
+  const x = data.x;
+  for (let i = 0; i < n; i++) {
+    const from = rows[i] * p;
+    const offset = i * q;
+    y[i] = data.y[rows[i]];
+    if (intercept) design[offset] = 1;
+    for (let j = 0; j < p; j++) design[offset + ones + j] = x[from + j];
+    if (copy) for (let j = 0; j < p; j++) predictors[i * p + j] = x[from + j];
+  }
+  return { design, y, predictors, rowValues: design, rowStride: q, implicitOnes: 0 };
+}
+
+/**
+ * Each predictor's variance over the rows, in two passes (means, then centred squares: Chan,
+ * Golub & LeVeque 1983), each reading rows in order rather than one strided sweep per predictor.
+ */
+function predictorVariancesOf(rowValues: Float64Array, n: number, p: number, rowStride: number): Float64Array {
+  const first = rowStride - p;
+  const predictorMeans = new Float64Array(p);
+  for (let i = 0; i < n; i++) for (let j = 0; j < p; j++) predictorMeans[j] += rowValues[i * rowStride + first + j];
+  for (let j = 0; j < p; j++) predictorMeans[j] /= n;
+  const predictorVariances = new Float64Array(p);
+  for (let i = 0; i < n; i++) {
+    for (let j = 0; j < p; j++) {
+      const d = rowValues[i * rowStride + first + j] - predictorMeans[j];
+      predictorVariances[j] += d * d;
+    }
+  }
+  for (let j = 0; j < p; j++) predictorVariances[j] /= n;
+  return predictorVariances;
 }
 
 /** The n x q design of the first n rows: a leading 1 per row when intercept, then the p predictors. */
