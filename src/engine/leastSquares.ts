@@ -43,18 +43,7 @@ export interface LeastSquaresOptions {
  */
 export function leastSquares(x: Float64Array, n: number, q: number, y: Float64Array, options: LeastSquaresOptions = {}): LeastSquaresFit {
   const { weights, intercept = false } = options;
-  let rowWeights: Float64Array | undefined;
-  let weightSum = n;
-  if (weights) {
-    rowWeights = new Float64Array(n);
-    weightSum = 0;
-    for (let i = 0; i < n; i++) {
-      const w = weights[i];
-      if (!(w >= 0) || !Number.isFinite(w)) throw new SkeinError("bad-input", `Row weight ${i + 1} is ${w}; weights must be finite and not negative.`);
-      rowWeights[i] = Math.sqrt(w);
-      weightSum += w;
-    }
-  }
+  const { rowWeights, weightSum } = checkedRowWeights(weights, n);
   const qr = new HouseholderQR(x, n, q, rowWeights);
   if (!qr.isFullRank) {
     throw new SkeinError("numeric", `Predictors repeat information: column ${qr.firstDependentColumn + 1} of the fit is (nearly) a combination of the earlier ones, so their coefficients cannot be told apart. Remove a predictor that repeats information held by the others.`);
@@ -66,21 +55,7 @@ export function leastSquares(x: Float64Array, n: number, q: number, y: Float64Ar
   const correction = qr.solve(residuals, rowWeights);
   for (let j = 0; j < q; j++) coefficients[j] += correction[j];
   computeResiduals(x, n, q, y, coefficients, residuals);
-
-  let rss = 0;
-  let weightedMean = 0;
-  for (let i = 0; i < n; i++) {
-    const w = weights ? weights[i] : 1;
-    rss += w * residuals[i] * residuals[i];
-    weightedMean += w * y[i];
-  }
-  weightedMean = weightSum > 0 ? weightedMean / weightSum : 0;
-  let total = 0;
-  for (let i = 0; i < n; i++) {
-    const w = weights ? weights[i] : 1;
-    const d = intercept ? y[i] - weightedMean : y[i];
-    total += w * d * d;
-  }
+  const { rss, total } = sumsOfSquares(y, residuals, n, weights, weightSum, intercept);
   const degreesOfFreedom = weightSum - q;
   const residualSD = degreesOfFreedom > 0 ? Math.sqrt(rss / degreesOfFreedom) : NaN;
   const mlSigma = weightSum > 0 ? Math.sqrt(rss / weightSum) : NaN;
@@ -101,6 +76,47 @@ export function leastSquares(x: Float64Array, n: number, q: number, y: Float64Ar
     q,
     rank: qr.rank,
   };
+}
+
+/**
+ * The square roots of the row weights, which scale the rows for the QR, and the weights' sum
+ * (the effective sample size); no scaling and n when there are no weights.
+ */
+function checkedRowWeights(weights: Float64Array | undefined, n: number): { rowWeights: Float64Array | undefined; weightSum: number } {
+  if (!weights) return { rowWeights: undefined, weightSum: n };
+  const rowWeights = new Float64Array(n);
+  let weightSum = 0;
+  for (let i = 0; i < n; i++) {
+    const w = weights[i];
+    if (!(w >= 0) || !Number.isFinite(w)) throw new SkeinError("bad-input", `Row weight ${i + 1} is ${w}; weights must be finite and not negative.`);
+    rowWeights[i] = Math.sqrt(w);
+    weightSum += w;
+  }
+  return { rowWeights, weightSum };
+}
+
+/**
+ * The weighted residual and total sums of squares, the total about the weighted mean when
+ * there is an intercept.
+ */
+function sumsOfSquares(
+  y: Float64Array, residuals: Float64Array, n: number, weights: Float64Array | undefined, weightSum: number, intercept: boolean,
+): { rss: number; total: number } {
+  let rss = 0;
+  let weightedMean = 0;
+  for (let i = 0; i < n; i++) {
+    const w = weights ? weights[i] : 1;
+    rss += w * residuals[i] * residuals[i];
+    weightedMean += w * y[i];
+  }
+  weightedMean = weightSum > 0 ? weightedMean / weightSum : 0;
+  let total = 0;
+  for (let i = 0; i < n; i++) {
+    const w = weights ? weights[i] : 1;
+    const d = intercept ? y[i] - weightedMean : y[i];
+    total += w * d * d;
+  }
+  return { rss, total };
 }
 
 /** residuals = y − X c, for a row-major n x q design. */
