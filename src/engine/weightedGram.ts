@@ -1,18 +1,20 @@
 import { WEIGHTED_GRAM_WASM_BASE64 } from "./wasm/weightedGramModule";
 
 /**
- * The one weighted-Gram kernel: Σ_i w_i x_i x_iᵀ accumulated a block of rows at a time from
- * column-major copies of the block (only the rows that carry weight), so every entry is a dot
- * product over contiguous memory in registers rather than a rank-one update of a q x q array
- * in memory (about four times faster). Used by the M-step (mixture/mStep.ts) and the observed
- * information (observedInformation.ts).
+ * The one weighted-Gram kernel: Σ_i w_i x_i x_iᵀ (and Σ_i x_i v_i) accumulated a block of rows
+ * at a time. Callers gather the rows that carry weight into a row block (rowBlock), and the
+ * kernel sums them in registers, entry blocks at a time, rather than adding one rank-one update
+ * per row to a q x q array in memory (about four times faster). Used by the M-step
+ * (mixture/mStep.ts), the observed information (observedInformation.ts), the warm start's
+ * subspace EM and hard-assignment moves, and meanOuterProduct (secondMoment.ts).
  *
  * Two paths, the same sums to the bit: a WebAssembly module with 128-bit SIMD
- * (wasm/weightedGram.wat) where the runtime has one (column-major blocks from SIMD_MIN_COLUMNS
- * columns, the M-step's row blocks at any width), and plain JavaScript otherwise (a runtime
- * without WebAssembly SIMD, or one that refuses to compile it).
- * Each entry is one running sum over the block's rows in order in both, with the multiply and
- * the add rounded separately, so which path ran never changes a fit.
+ * (wasm/weightedGram.wat) where the runtime has one, the row block living in its memory; and
+ * plain JavaScript otherwise (a runtime without WebAssembly SIMD, or one that refuses to
+ * compile it), which copies each row block column by column first. Each Gram entry is one
+ * running sum over the block's rows in order in both, with the multiply and the add rounded
+ * separately, and each dot product keeps dot's association, so which path ran never changes a
+ * fit.
  */
 
 /**
@@ -27,21 +29,20 @@ export function blockRowsFor(q: number): number {
 }
 
 /**
- * Adds the upper triangle of Wᵀ X for one block (W = weighted columns, X = plain columns, both
- * q x m column-major with stride `stride`) into gram[offset + j·q + l], l ≥ j. Rows j in
- * groups of four go through the SIMD path or the scalar one; the last q mod 4 rows through
- * dot, on either path.
+ * The JavaScript path: adds the upper triangle of Wᵀ X for one block (W = weighted columns,
+ * X = plain columns, both q x m column-major with stride `stride`) into gram[offset + j·q + l],
+ * l ≥ j; rows j in groups of four register-blocked (accumulateScalar), the last q mod 4 rows
+ * through dot, as the SIMD path does.
  */
 export function accumulateGramBlock(weighted: Float64Array, columns: Float64Array, stride: number, m: number, q: number, gram: Float64Array, offset: number): void {
-  const kernel = q >= SIMD_MIN_COLUMNS && m >= SIMD_MIN_ROWS ? simdKernel() : null;
-  const done = kernel ? accumulateWithSimd(kernel, weighted, columns, stride, m, q, gram, offset) : accumulateScalar(weighted, columns, stride, m, q, gram, offset);
+  const done = accumulateScalar(weighted, columns, stride, m, q, gram, offset);
   for (let j = done; j < q; j++) {
     for (let l = j; l < q; l++) gram[offset + j * q + l] += dot(weighted, j * stride, columns, l * stride, m);
   }
 }
 
 /**
- * The scalar path for rows j < q rounded down to a multiple of 4 (returns that many). Four
+ * The JavaScript path for rows j < q rounded down to a multiple of 4 (returns that many). Four
  * weighted columns meet two plain columns at a time (a 4 x 2 register block: six loads feed
  * eight multiply-adds, against two loads per multiply-add for one entry at a time); each entry
  * is still one running sum over the rows in order, so the sums do not depend on the blocking.
@@ -115,19 +116,10 @@ function accumulateScalar(weighted: Float64Array, columns: Float64Array, stride:
   return j;
 }
 
-/**
- * Narrower blocks stay in JavaScript: below 8 columns (or 8 rows) the copies into the
- * module's memory cost more than its SIMD saves (measured on q = 5 and 7 blocks: 1.1-2x the
- * scalar time; at q = 11, 14 and 50, 0.5, 0.6 and 0.4 of it, copies included).
- */
-const SIMD_MIN_COLUMNS = 8;
-const SIMD_MIN_ROWS = 8;
-
 interface SimdKernel {
   memory: WebAssembly.Memory;
   /** A view of the whole memory, made again whenever the memory grows. */
   heap: Float64Array;
-  transpose: (source: number, m: number, q: number, qp: number, target: number) => void;
   gram: (weighted: number, columns: number, m: number, rows: number, qp: number, out: number) => void;
   dots: (x: number, m: number, qp: number, from: number, v: number, vStride: number, out: number) => void;
   scale: (x: number, m: number, qp: number, v: number, vStride: number, out: number) => void;
@@ -162,7 +154,6 @@ function simdKernel(): SimdKernel | null {
     simd = {
       memory,
       heap: new Float64Array(memory.buffer),
-      transpose: instance.exports.transpose as SimdKernel["transpose"],
       gram: instance.exports.gram as SimdKernel["gram"],
       dots: instance.exports.dots as SimdKernel["dots"],
       scale: instance.exports.scale as SimdKernel["scale"],
@@ -178,32 +169,6 @@ function reserve(kernel: SimdKernel, bytes: number): void {
   if (kernel.memory.buffer.byteLength >= bytes) return;
   kernel.memory.grow(Math.ceil((bytes - kernel.memory.buffer.byteLength) / 65536));
   kernel.heap = new Float64Array(kernel.memory.buffer);
-}
-
-/**
- * The SIMD path for rows j < q rounded down to a multiple of 4 (returns that many). The block
- * is staged column by column (m rows each), transposed to row-major m x qp (qp: q rounded up
- * to a multiple of 4, zero-padded) for the weighted and the plain columns, and the module's
- * qp x qp output (entry (j, l) at l·qp + j) added into the upper triangle.
- */
-function accumulateWithSimd(kernel: SimdKernel, weighted: Float64Array, columns: Float64Array, stride: number, m: number, q: number, gram: Float64Array, offset: number): number {
-  const qp = (q + 3) & ~3;
-  const rows = q & ~3;
-  // Memory in doubles: staging (qp·m, which the transpose may read past q columns), the two
-  // row-major copies (m·qp each) and the output (qp²).
-  const staging = 0;
-  const weightedAt = staging + qp * m;
-  const columnsAt = weightedAt + qp * m;
-  const outAt = columnsAt + qp * m;
-  reserve(kernel, (outAt + qp * qp) * 8);
-  const heap = kernel.heap;
-  for (let j = 0; j < q; j++) heap.set(weighted.subarray(j * stride, j * stride + m), staging + j * m);
-  kernel.transpose(staging * 8, m, q, qp, weightedAt * 8);
-  for (let j = 0; j < q; j++) heap.set(columns.subarray(j * stride, j * stride + m), staging + j * m);
-  kernel.transpose(staging * 8, m, q, qp, columnsAt * 8);
-  kernel.gram(weightedAt * 8, columnsAt * 8, m, rows, qp, outAt * 8);
-  addGramOutput(kernel, outAt, rows, q, qp, gram, offset);
-  return rows;
 }
 
 /** Adds the module's "gram" output (entry (j, l) at outAt + l·qp + j) into the upper triangle of rows j < rows. */

@@ -140,7 +140,10 @@ function gatherRow(ws: MixtureWorkspace, i: number, plain: Float64Array, base: n
 /** XᵀX and Xᵀy over all rows of the workspace, accumulated on first use. */
 function totalGram(ws: MixtureWorkspace): { gram: Float64Array; rightHandSide: Float64Array; squares: number } {
   if (ws.totalGram && ws.totalRightHandSide) return { gram: ws.totalGram, rightHandSide: ws.totalRightHandSide, squares: ws.totalSquares };
-  const { n, q, rowValues, rowStride, implicitOnes, y, blockRows, blockColumns, blockY } = ws;
+  const { n, q, rowValues, rowStride, implicitOnes, y, blockRows } = ws;
+  // Column-major copies of a block: every entry is dot's sum over contiguous memory.
+  const blockColumns = new Float64Array(blockRows * q);
+  const blockY = new Float64Array(blockRows);
   const gram = new Float64Array(q * q);
   const rightHandSide = new Float64Array(q);
   for (let start = 0; start < n; start += blockRows) {

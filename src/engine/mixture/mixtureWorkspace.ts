@@ -51,11 +51,8 @@ export interface MixtureWorkspace {
   rightHandSides: Float64Array;
   sizes: Float64Array;
   choleskyScratch: Float64Array;
-  /** M-step block buffers: rows per block, then q x blockRows column-major copies. */
+  /** Rows per block of the M-step's sums (the weighted-Gram kernel's row blocks). */
   blockRows: number;
-  blockColumns: Float64Array;
-  blockWeighted: Float64Array;
-  blockY: Float64Array;
   /** XᵀX and Xᵀy over all rows, filled by the first M-step. */
   totalGram: Float64Array | null;
   totalRightHandSide: Float64Array | null;
@@ -112,9 +109,6 @@ export function createWorkspace(data: RegressionData, k: number, intercept: bool
     sizes: new Float64Array(k),
     choleskyScratch: new Float64Array(choleskyScratchLength(q)),
     blockRows,
-    blockColumns: new Float64Array(blockRows * Math.max(q, 1)),
-    blockWeighted: new Float64Array(blockRows * Math.max(q, 1)),
-    blockY: new Float64Array(blockRows),
     totalGram: null,
     totalRightHandSide: null,
     totalSquares: 0,

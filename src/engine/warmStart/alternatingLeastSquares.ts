@@ -2,7 +2,7 @@ import { checkSignal } from "../errors";
 import type { CancelSignal } from "../mixtureTypes";
 import { choleskyScratchLength, scaledCholeskySolve } from "../cholesky";
 import { MAD_TO_SD, median } from "../median";
-import { accumulateGramBlock, blockRowsFor, dot } from "../weightedGram";
+import { addBlockDots, addBlockGram, blockRowsFor, dot, rowBlock, weighBlock, type RowBlock } from "../weightedGram";
 
 /**
  * Hard-assignment refinement of K regressions (k-lines / clusterwise regression, Späth 1979,
@@ -211,51 +211,53 @@ function summarise(state: AlternatingState, exactTolerance: number, iterations: 
 /**
  * Brings the normal equations from the rows' previous labels to their current ones: per
  * component, the rows that leave it (weight −1) and the rows that join it (weight +1) are
- * gathered a block at a time and added as one weighted Gram (the weighted-Gram kernel),
- * instead of one rank-one update per row.
+ * gathered into the weighted-Gram kernel's row block and added as one weighted Gram, instead
+ * of one rank-one update per row.
  */
 class RowMoves {
   private readonly blockRows: number;
-  private readonly columns: Float64Array;
-  private readonly weighted: Float64Array;
-  private readonly weightedY: Float64Array;
 
   constructor(private readonly q: number) {
     this.blockRows = blockRowsFor(q);
-    this.columns = new Float64Array(q * this.blockRows);
-    this.weighted = new Float64Array(q * this.blockRows);
-    this.weightedY = new Float64Array(this.blockRows);
   }
 
   apply(design: Float64Array, y: Float64Array, labels: Int32Array, previous: Int32Array, grams: Float64Array, rights: Float64Array, counts: Int32Array): void {
-    const { q, blockRows, columns, weighted, weightedY } = this;
+    const { q, blockRows } = this;
     const n = labels.length;
     const k = counts.length;
+    // Per gathered row: ±y, then the sign (its weight).
+    const block = rowBlock(q, blockRows, 2);
+    const { plain, vectors, qp } = block;
     for (let c = 0; c < k; c++) {
       let m = 0;
-      const flush = (): void => {
-        accumulateGramBlock(weighted, columns, blockRows, m, q, grams, c * q * q);
-        for (let a = 0; a < q; a++) rights[c * q + a] += dot(columns, a * blockRows, weightedY, 0, m);
-        m = 0;
-      };
       for (let i = 0; i < n; i++) {
         const from = previous[i];
         const to = labels[i];
         if (from === to || (from !== c && to !== c)) continue;
         const sign = to === c ? 1 : -1;
         counts[c] += sign;
-        for (let a = 0; a < q; a++) {
-          const value = design[i * q + a];
-          columns[a * blockRows + m] = value;
-          weighted[a * blockRows + m] = sign * value;
+        const base = m * qp;
+        for (let a = 0; a < q; a++) plain[base + a] = design[i * q + a];
+        for (let a = q; a < qp; a++) plain[base + a] = 0;
+        vectors[2 * m] = sign * y[i];
+        vectors[2 * m + 1] = sign;
+        if (++m === blockRows) {
+          addMoves(block, m, grams, rights, c);
+          m = 0;
         }
-        weightedY[m] = sign * y[i];
-        if (++m === blockRows) flush();
       }
-      if (m > 0) flush();
+      addMoves(block, m, grams, rights, c);
     }
     previous.set(labels);
   }
+}
+
+/** One row block of moves into component c's normal equations: Σ ±x xᵀ and Σ x (±y). */
+function addMoves(block: RowBlock, m: number, grams: Float64Array, rights: Float64Array, c: number): void {
+  const q = block.q;
+  weighBlock(block, m, 1);
+  addBlockGram(block, m, grams, c * q * q);
+  addBlockDots(block, m, "plain", 0, rights, c * q);
 }
 
 /**

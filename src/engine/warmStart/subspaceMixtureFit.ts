@@ -1,7 +1,7 @@
 import type { Random } from "../random";
 import { choleskyScratchLength, scaledCholeskySolve } from "../cholesky";
 import { componentLogConstant, normaliseLogDensities } from "../logDensities";
-import { accumulateGramBlock, dot } from "../weightedGram";
+import { addBlockDots, addBlockGram, rowBlock, weighBlock } from "../weightedGram";
 
 /**
  * EM for a mixture of K regressions restricted to a K-dimensional subspace: the rows are the
@@ -55,12 +55,10 @@ interface SubspaceState {
   meanSquare: number;
   /** The variance floor (RELATIVE_VARIANCE_FLOOR of meanSquare). */
   floor: number;
+  /** The projected rows, row-major (n x m). */
+  z: Float64Array;
   /** The projected rows by column: z_a of row i at a·n + i. */
   columns: Float64Array;
-  /** The columns weighted by one component's kept memberships. */
-  weighted: Float64Array;
-  /** One component's memberships, the negligible ones as 0. */
-  kept: Float64Array;
   /** Per component, the sum of its kept memberships. */
   masses: Float64Array;
   /** Per component, whether its normal equations were solved this iteration. */
@@ -80,9 +78,7 @@ function createState(z: Float64Array, y: Float64Array, n: number, m: number, k: 
   let meanSquare = 0;
   for (let i = 0; i < n; i++) meanSquare += y[i] * y[i];
   meanSquare /= n;
-  // The projected rows by column and, per M-step, the same weighted by one component's
-  // memberships: its normal equations are then the weighted-Gram kernel's register-blocked dot
-  // products over contiguous columns.
+  // The projected rows by column, for the residuals down contiguous columns.
   const columns = new Float64Array(n * m);
   for (let i = 0; i < n; i++) for (let a = 0; a < m; a++) columns[a * n + i] = z[i * m + a];
   return {
@@ -96,9 +92,8 @@ function createState(z: Float64Array, y: Float64Array, n: number, m: number, k: 
     weights: new Float64Array(k),
     meanSquare,
     floor: RELATIVE_VARIANCE_FLOOR * meanSquare,
+    z,
     columns,
-    weighted: new Float64Array(n * m),
-    kept: new Float64Array(n),
     masses: new Float64Array(k),
     solved: new Uint8Array(k),
     gram: new Float64Array(m * m),
@@ -116,21 +111,32 @@ function createState(z: Float64Array, y: Float64Array, n: number, m: number, k: 
  * (m = K is tiny and the projected columns are close to orthonormal), and the weights.
  */
 function solveComponents(state: SubspaceState): void {
-  const { y, n, m, k, tau, coefficients, weights, columns, weighted, kept, masses, solved, gram, right, scratch } = state;
+  const { z, y, n, m, k, tau, coefficients, weights, masses, solved, gram, right, scratch } = state;
+  // All n rows go into one row block (a few thousand at most: the warm start's subsample), so
+  // each sum runs over the rows in order; per row its response, then the component's membership.
+  const block = rowBlock(m, n, 2);
+  const { plain, vectors, qp } = block;
+  for (let i = 0; i < n; i++) {
+    for (let a = 0; a < m; a++) plain[i * qp + a] = z[i * m + a];
+    for (let a = m; a < qp; a++) plain[i * qp + a] = 0;
+    vectors[2 * i] = y[i];
+  }
   for (let j = 0; j < k; j++) {
     // Negligible memberships are left out (they change nothing visible). In the subspace the
     // missed part of each component acts as noise, so memberships stay soft and few are skipped.
     let mass = 0;
     for (let i = 0; i < n; i++) {
       const t = tau[i * k + j];
-      kept[i] = t < MEMBERSHIP_CUTOFF ? 0 : t;
-      mass += kept[i];
+      const kept = t < MEMBERSHIP_CUTOFF ? 0 : t;
+      vectors[2 * i + 1] = kept;
+      mass += kept;
     }
-    for (let a = 0; a < m; a++) for (let i = 0; i < n; i++) weighted[a * n + i] = kept[i] * columns[a * n + i];
     masses[j] = mass;
+    weighBlock(block, n, 1);
     gram.fill(0);
-    accumulateGramBlock(weighted, columns, n, n, m, gram, 0);
-    for (let a = 0; a < m; a++) right[a] = dot(weighted, a * n, y, 0, n);
+    right.fill(0);
+    addBlockGram(block, n, gram, 0);
+    addBlockDots(block, n, "weighted", 0, right, 0);
     weights[j] = Math.max(mass / n, 1e-12);
     solved[j] = scaledCholeskySolve(gram, right, m, coefficients[j], scratch, false) ? 1 : 0;
   }

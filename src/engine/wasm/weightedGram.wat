@@ -7,30 +7,6 @@
 (module
   (memory (export "memory") 1)
 
-  ;; Row-major copy of a column-major block: dst[i·qp + j] = src[j·m + i] for i < m, j < q,
-  ;; and 0 for q ≤ j < qp (qp: q rounded up to a multiple of 4).
-  (func (export "transpose") (param $src i32) (param $m i32) (param $q i32) (param $qp i32) (param $dst i32)
-    (local $i i32) (local $j i32) (local $ps i32) (local $pd i32) (local $rowBytes i32)
-    (local.set $rowBytes (i32.shl (local.get $qp) (i32.const 3)))
-    (local.set $j (i32.const 0))
-    (block $columnsDone
-      (loop $columns
-        (br_if $columnsDone (i32.ge_u (local.get $j) (local.get $qp)))
-        (local.set $pd (i32.add (local.get $dst) (i32.shl (local.get $j) (i32.const 3))))
-        (local.set $ps (i32.add (local.get $src) (i32.shl (i32.mul (local.get $j) (local.get $m)) (i32.const 3))))
-        (local.set $i (i32.const 0))
-        (block $rowsDone
-          (loop $rows
-            (br_if $rowsDone (i32.ge_u (local.get $i) (local.get $m)))
-            (f64.store (local.get $pd)
-              (select (f64.load (local.get $ps)) (f64.const 0) (i32.lt_u (local.get $j) (local.get $q))))
-            (local.set $ps (i32.add (local.get $ps) (i32.const 8)))
-            (local.set $pd (i32.add (local.get $pd) (local.get $rowBytes)))
-            (local.set $i (i32.add (local.get $i) (i32.const 1)))
-            (br $rows)))
-        (local.set $j (i32.add (local.get $j) (i32.const 1)))
-        (br $columns))))
-
   ;; out[(l + u)·qp + j + t] = Σ_i w[i·qp + j + t] · x[i·qp + l + u] over i < m, for j < rows in
   ;; steps of 4 (rows a multiple of 4), l from j to qp in steps of 4, t and u in 0..3: a 4 x 4
   ;; block of entries in eight lane pairs per pass over the rows. w and x are row-major m x qp.
