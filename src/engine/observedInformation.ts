@@ -184,20 +184,13 @@ type InformationState = ReturnType<typeof informationState>;
 
 /** One block's rows: residuals, memberships, per-row weights and scalar sums; the rows each component holds. */
 function addBlockRows(st: InformationState, start: number, m: number): void {
-  const { x, y, p, q, k, ones, models, predictorScratch, background, terms, logTerm, posterior, weights, variances, inverseVariances, constant, padded, shares } = st;
-  const { tauSum, outsideTau, gSum, gOutside, curvatureSum, tauTau, gTau, gg, blockRows, residuals, tau, u, g, gramWeight, varianceWeight, logitWeight, outside, held, heldCount, active } = st;
+  const { x, y, p, q, k, ones, background, posterior, padded, shares, residuals, outside, heldCount } = st;
   let totalShare = 0;
   let squareShare = 0;
   for (let r = 0; r < m; r++) rowResiduals(x, (start + r) * p - ones, ones, q, padded, k, y[start + r], residuals, r * k);
   heldCount.fill(0);
   for (let r = 0; r < m; r++) {
-    for (let c = 0; c < k; c++) {
-      const rc = residuals[r * k + c];
-      let value = constant[c] - (0.5 * rc * rc) / variances[c];
-      if (models) value += predictorLogDensity(models[c], x, (start + r) * p, p, predictorScratch);
-      logTerm[c] = value;
-    }
-    membershipsFromLogTerms(logTerm, 0, terms, posterior, 0);
+    rowPosterior(st, start, r);
     let total = 0;
     for (let c = 0; c < k; c++) total += posterior[c];
     // Without a background the memberships sum to 1: the share outside is exactly 0.
@@ -205,47 +198,70 @@ function addBlockRows(st: InformationState, start: number, m: number): void {
     outside[r] = rowOutside;
     totalShare += total;
     squareShare += total * (2 - total);
-    let activeCount = 0;
-    for (let c = 0; c < k; c++) {
-      const t = posterior[c];
-      const at = c * blockRows + r;
-      tau[at] = t;
-      if (t < NEGLIGIBLE_MEMBERSHIP) continue;
-      const rc = residuals[r * k + c];
-      const w = inverseVariances[c];
-      const alpha = rc * w;
-      const gamma = 0.5 * (rc * rc * w - 1) * w;
-      const curvature = (rc * rc * w - 0.5) * w * w;
-      const ta = t * alpha;
-      const tg = t * gamma;
-      u[at] = ta;
-      g[at] = tg;
-      gramWeight[at] = t * (w - alpha * alpha) + ta * ta;
-      varianceWeight[at] = ta * (w - gamma) + ta * tg;
-      logitWeight[at] = -ta * (1 - t - rowOutside * weights[c]);
-      tauSum[c] += t;
-      outsideTau[c] += rowOutside * t;
-      gSum[c] += tg;
-      gOutside[c] += tg * rowOutside;
-      curvatureSum[c] += t * (curvature - gamma * gamma);
-      held[c * blockRows + heldCount[c]++] = r;
-      active[activeCount++] = c;
-    }
-    for (let a = 0; a < activeCount; a++) {
-      const c = active[a];
-      const tc = tau[c * blockRows + r];
-      const gc = g[c * blockRows + r];
-      for (let b = 0; b < activeCount; b++) {
-        const d = active[b];
-        const td = tau[d * blockRows + r];
-        tauTau[c * k + d] += tc * td;
-        gTau[c * k + d] += gc * td;
-        gg[c * k + d] += gc * g[d * blockRows + r];
-      }
-    }
+    addRowTerms(st, r, rowOutside);
   }
   shares[0] += totalShare;
   shares[1] += squareShare;
+}
+
+/** Row r of the block's memberships (the background's last, when the fit has one) into st.posterior. */
+function rowPosterior(st: InformationState, start: number, r: number): void {
+  const { x, p, k, models, predictorScratch, terms, logTerm, posterior, variances, constant, residuals } = st;
+  for (let c = 0; c < k; c++) {
+    const rc = residuals[r * k + c];
+    let value = constant[c] - (0.5 * rc * rc) / variances[c];
+    if (models) value += predictorLogDensity(models[c], x, (start + r) * p, p, predictorScratch);
+    logTerm[c] = value;
+  }
+  membershipsFromLogTerms(logTerm, 0, terms, posterior, 0);
+}
+
+/**
+ * Row r's scalars per component it holds (u, g and the weights of its Gram and q-vectors),
+ * their sums, and the sums over the pairs of components it holds; the row joins each such
+ * component's held rows.
+ */
+function addRowTerms(st: InformationState, r: number, rowOutside: number): void {
+  const { k, posterior, weights, inverseVariances, residuals, blockRows, tau, u, g, gramWeight, varianceWeight, logitWeight, held, heldCount, active } = st;
+  const { tauSum, outsideTau, gSum, gOutside, curvatureSum, tauTau, gTau, gg } = st;
+  let activeCount = 0;
+  for (let c = 0; c < k; c++) {
+    const t = posterior[c];
+    const at = c * blockRows + r;
+    tau[at] = t;
+    if (t < NEGLIGIBLE_MEMBERSHIP) continue;
+    const rc = residuals[r * k + c];
+    const w = inverseVariances[c];
+    const alpha = rc * w;
+    const gamma = 0.5 * (rc * rc * w - 1) * w;
+    const curvature = (rc * rc * w - 0.5) * w * w;
+    const ta = t * alpha;
+    const tg = t * gamma;
+    u[at] = ta;
+    g[at] = tg;
+    gramWeight[at] = t * (w - alpha * alpha) + ta * ta;
+    varianceWeight[at] = ta * (w - gamma) + ta * tg;
+    logitWeight[at] = -ta * (1 - t - rowOutside * weights[c]);
+    tauSum[c] += t;
+    outsideTau[c] += rowOutside * t;
+    gSum[c] += tg;
+    gOutside[c] += tg * rowOutside;
+    curvatureSum[c] += t * (curvature - gamma * gamma);
+    held[c * blockRows + heldCount[c]++] = r;
+    active[activeCount++] = c;
+  }
+  for (let a = 0; a < activeCount; a++) {
+    const c = active[a];
+    const tc = tau[c * blockRows + r];
+    const gc = g[c * blockRows + r];
+    for (let b = 0; b < activeCount; b++) {
+      const d = active[b];
+      const td = tau[d * blockRows + r];
+      tauTau[c * k + d] += tc * td;
+      gTau[c * k + d] += gc * td;
+      gg[c * k + d] += gc * g[d * blockRows + r];
+    }
+  }
 }
 
 /**
