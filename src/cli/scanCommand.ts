@@ -1,15 +1,17 @@
 import * as path from "path";
 import { SkeinError } from "../engine/errors";
+import type { Design } from "../engine/design";
 import type { MixtureModel } from "../engine/mixtureTypes";
+import type { ScanResult, ScanRow } from "../engine/trustTypes";
 import { convergedWord, scanComponents } from "../engine/scanComponents";
 import { findStrayRows } from "../engine/strayRows";
 import type { OptionName } from "../engine/options";
-import { FILE_OPTIONS_HELP, optionFlags, optionHelp, parseArgs, parseHeaderRow, parseList, parseRowList, readBackground, readGivenOption, readOption, type FlagKinds } from "./args";
+import { FILE_OPTIONS_HELP, optionFlags, optionHelp, parseArgs, parseHeaderRow, parseList, parseRowList, readBackground, readGivenOption, readOption, type FlagKinds, type ParsedArgs } from "./args";
 import { formatNotices } from "./formatNotices";
 import { alignColumns, formatColumn, formatGap } from "../report/formatNumber";
 import type { CommandIO } from "./main";
 import { scanProgress } from "./scanProgress";
-import { loadDesign, type ColumnReport } from "./loadDesign";
+import { loadDesign, type ColumnReport, type DesignSource } from "./loadDesign";
 
 /** The options of the table that skein scan takes. */
 const SCAN_OPTIONS: readonly OptionName[] = ["kmax", "model", "seed", "restarts", "tolerance", "max_iterations", "background", "intercept"];
@@ -98,14 +100,39 @@ export interface ScanReport {
   strayRowsRule: string;
 }
 
+/** What skein scan was asked for, up to the file to scan. */
+interface ScanRequest {
+  file: string;
+  kMax: number;
+  model: MixtureModel;
+  intercept: boolean;
+  source: DesignSource;
+}
+
 /** `skein scan`: returns the exit status; SkeinErrors propagate to main, which reports them. */
 export async function scanCommand(argv: readonly string[], io: CommandIO): Promise<number> {
   const parsed = parseArgs(argv, SCAN_FLAGS, "scan");
-  const { positionals, values, switches } = parsed;
-  if (switches.has("help") || switches.has("h")) {
+  if (parsed.switches.has("help") || parsed.switches.has("h")) {
     io.stdout(SCAN_USAGE);
     return 0;
   }
+  const request = readScanRequest(parsed);
+  const { design, sheetName, columns, notices } = await loadDesign(request.source);
+  const crossValidate = parsed.switches.has("cross-validate");
+  const scan = runScan(design, parsed, request, crossValidate, io);
+  const report = scanReport(design, scan, request, crossValidate, { columns, notices });
+  if (parsed.switches.has("json")) {
+    io.stdout(JSON.stringify(report) + "\n");
+    return 0;
+  }
+  const file = path.basename(request.file);
+  io.stdout(formatScanTable(report, sheetName ? `${file}, sheet ${sheetName}` : file) + formatNotices(report.notices));
+  return 0;
+}
+
+/** The file, the columns and the largest K, checked in the order the messages have always come in. */
+function readScanRequest(parsed: ParsedArgs): ScanRequest {
+  const { positionals, values } = parsed;
   if (positionals.length !== 1) throw new SkeinError("bad-input", `skein scan takes one data file, as in: skein scan data.csv --y COLUMN --k-max 5`);
   const y = values.get("y");
   if (y === undefined) throw new SkeinError("bad-input", "skein scan needs the outcome column, as in --y COLUMN");
@@ -115,7 +142,7 @@ export async function scanCommand(argv: readonly string[], io: CommandIO): Promi
   const xText = values.get("x");
   const model = readOption(parsed, "model", "scan") as MixtureModel;
   const intercept = readOption(parsed, "intercept", "scan") as boolean;
-  const { design, sheetName, columns, notices } = await loadDesign({
+  const source: DesignSource = {
     file: positionals[0],
     sheet: values.get("sheet"),
     headerRow: parseHeaderRow(values.get("header-row"), "scan"),
@@ -123,15 +150,22 @@ export async function scanCommand(argv: readonly string[], io: CommandIO): Promi
     x: xText === undefined ? undefined : parseList(xText, "x", "scan"),
     intercept,
     leaveOut: values.has("leave-out") ? parseRowList(values.get("leave-out") as string, "leave-out", "scan") : undefined,
-  });
-  const crossValidate = switches.has("cross-validate");
+  };
+  return { file: positionals[0], kMax, model, intercept, source };
+}
+
+/**
+ * The scan, with its progress on stderr. The fit's options are read only once the file is
+ * loaded, so a problem with the file is reported before a problem with these options.
+ */
+function runScan(design: Design, parsed: ParsedArgs, request: ScanRequest, crossValidate: boolean, io: CommandIO): ScanResult {
   const progress = scanProgress(io);
   const scan = scanComponents(design, {
     onProgress: progress.onProgress,
-    kMax,
+    kMax: request.kMax,
     seed: readOption(parsed, "seed", "scan") as number,
-    intercept,
-    model,
+    intercept: request.intercept,
+    model: request.model,
     restarts: readGivenOption(parsed, "restarts", "scan") as number | undefined,
     tolerance: readGivenOption(parsed, "tolerance", "scan") as number | undefined,
     maxIterations: readGivenOption(parsed, "max_iterations", "scan") as number | undefined,
@@ -139,44 +173,47 @@ export async function scanCommand(argv: readonly string[], io: CommandIO): Promi
     background: readBackground(parsed, "scan"),
   });
   progress.finish();
+  return scan;
+}
+
+/** The --json output: every K's row, and the stray rows of the suggested K. */
+function scanReport(design: Design, scan: ScanResult, request: ScanRequest, crossValidate: boolean, read: Pick<ScanReport, "columns" | "notices">): ScanReport {
   const chosen = scan.rows.find((row) => row.k === scan.chosenK) ?? scan.rows[0];
   const stray = findStrayRows(design, chosen.fit);
-  const report: ScanReport = {
+  return {
     chosenK: scan.chosenK,
     rule: scan.rule,
     n: design.n,
     outcome: design.yName,
     response: design.yName,
     predictors: design.predictorNames,
-    intercept,
-    model,
-    rows: scan.rows.map((row) => ({
-      k: row.k,
-      logLikelihood: row.logLikelihood,
-      bic: row.bic,
-      icl: row.icl,
-      startsAgree: row.startsAgree,
-      converged: row.converged,
-      ...(row.stopped !== null ? { stopped: row.stopped } : {}),
-      smallestGap: Number.isFinite(row.minSeparation) ? row.minSeparation : null,
-      minSeparation: Number.isFinite(row.minSeparation) ? row.minSeparation : null,
-      ...(crossValidate || !Number.isNaN(row.crossValidatedLogLikelihood) ? { crossValidatedLogLikelihood: row.crossValidatedLogLikelihood } : {}),
-      flag: row.flag,
-      note: row.note,
-    })),
-    columns,
-    notices,
+    intercept: request.intercept,
+    model: request.model,
+    rows: scan.rows.map((row) => scanReportRow(row, crossValidate)),
+    columns: read.columns,
+    notices: read.notices,
     stoppedEarly: scan.stoppedEarly,
     strayRows: stray.rows.map((r) => ({ row: design.rowIndex[r.row] + 1, distance: r.distance, nearest: r.nearest + 1 })),
     strayRowsRule: stray.rule,
   };
-  if (switches.has("json")) {
-    io.stdout(JSON.stringify(report) + "\n");
-    return 0;
-  }
-  const file = path.basename(positionals[0]);
-  io.stdout(formatScanTable(report, sheetName ? `${file}, sheet ${sheetName}` : file) + formatNotices(report.notices));
-  return 0;
+}
+
+/** One K as --json reports it: an unlimited gap as null, the held-out log-likelihood only when there is one. */
+function scanReportRow(row: ScanRow, crossValidate: boolean): ScanReportRow {
+  return {
+    k: row.k,
+    logLikelihood: row.logLikelihood,
+    bic: row.bic,
+    icl: row.icl,
+    startsAgree: row.startsAgree,
+    converged: row.converged,
+    ...(row.stopped !== null ? { stopped: row.stopped } : {}),
+    smallestGap: Number.isFinite(row.minSeparation) ? row.minSeparation : null,
+    minSeparation: Number.isFinite(row.minSeparation) ? row.minSeparation : null,
+    ...(crossValidate || !Number.isNaN(row.crossValidatedLogLikelihood) ? { crossValidatedLogLikelihood: row.crossValidatedLogLikelihood } : {}),
+    flag: row.flag,
+    note: row.note,
+  };
 }
 
 /** The readable table of skein scan: one row per K, then why each other K is not suggested. */
