@@ -104,18 +104,31 @@ function seconds(ms: number): string {
   return `${(ms / 1000).toFixed(2)} s`;
 }
 
-function formatScenario(result: Omit<DemoScenarioResult, "report">, outDisplay: string, verbose = false): string {
-  const { truth, design, scan, fit, separation, errors, comparison, timings } = result;
-  const lines: string[] = [];
+type ScenarioOutcome = Omit<DemoScenarioResult, "report">;
+
+function formatScenario(result: ScenarioOutcome, outDisplay: string, verbose = false): string {
+  const { truth, design, fit, timings } = result;
   const skipped = design.skipped.length ? `, ${design.skipped.length} skipped` : "";
   const exact = exactComponents(fit, design.y);
-  const exactFit = exact.every(Boolean);
-  lines.push(`== ${truth.title}`);
-  lines.push(`   ${truth.workbook}, sheet ${truth.dataSheet}: ${truth.response} on ${truth.predictors.join(", ")}; ${design.n} rows${skipped}; ${fit.model} model`);
-  lines.push("");
+  const lines = [
+    `== ${truth.title}`,
+    `   ${truth.workbook}, sheet ${truth.dataSheet}: ${truth.response} on ${truth.predictors.join(", ")}; ${design.n} rows${skipped}; ${fit.model} model`,
+    "",
+    ...scanLines(result),
+    "",
+    ...componentLines(result, exact),
+    "",
+    ...checkLines(result, exact.every(Boolean), verbose),
+    truthLine(result),
+    `Time: read ${seconds(timings.read)}, scan K = 1..${truth.kMax} ${seconds(timings.scan)}, standard errors and checks ${seconds(timings.checks)}, files ${seconds(timings.write)}`,
+    `Wrote ${result.files.map((file) => path.join(outDisplay, path.basename(file))).join(" and ")}`,
+  ];
+  return lines.join("\n") + "\n";
+}
 
-  lines.push(`How many components: K = ${scan.chosenK}`);
-  lines.push(`   Rule: ${scan.rule}`);
+/** The suggested K and its rule, a table of every K tried, and a numbered note on why each other K was not suggested. */
+function scanLines({ scan, design }: ScenarioOutcome): string[] {
+  const lines = [`How many components: K = ${scan.chosenK}`, `   Rule: ${scan.rule}`];
   const bic = formatColumn(scan.rows.map((row) => row.bic));
   const icl = formatColumn(scan.rows.map((row) => row.icl));
   const logLikelihood = formatColumn(scan.rows.map((row) => row.logLikelihood));
@@ -128,12 +141,16 @@ function formatScenario(result: Omit<DemoScenarioResult, "report">, outDisplay: 
   });
   lines.push(...alignColumns(scanTable, "   ", 2));
   for (const footnote of footnotes) lines.push(`   ${footnote}`);
-  lines.push("");
+  return lines;
+}
 
+/** Each component's weight, noise SD and coefficients, with standard errors when there are any. */
+function componentLines({ design, fit, errors }: ScenarioOutcome, exact: boolean[]): string[] {
+  const lines: string[] = [];
   const anyErrors = [...errors.weights, ...errors.sigmas].some(Number.isFinite);
   const source = errors.method === "bootstrap" ? "bootstrap" : errors.method === "exact-fit" ? "exact fit: coefficients known exactly" : "from the curvature of the likelihood";
   lines.push(anyErrors ? `Components (estimate ± standard error, ${source})` : "Components (standard errors not available, see the warnings)");
-  if (exactFit) lines.push("   Exact fit (noise about 0): every row lies on its component's regression.");
+  if (exact.every(Boolean)) lines.push("   Exact fit (noise about 0): every row lies on its component's regression.");
   const show = (value: number, se: number): string => (anyErrors ? formatPlusMinus(value, se) : formatNumber(value));
   const coefficientNames = ["intercept", ...design.predictorNames];
   fit.components.forEach((component, c) => {
@@ -146,8 +163,13 @@ function formatScenario(result: Omit<DemoScenarioResult, "report">, outDisplay: 
     const perLine = parts.length > 4 ? 3 : 2;
     for (let j = 0; j < parts.length; j += perLine) lines.push(`      ${parts.slice(j, j + perLine).join(";  ")}`);
   });
-  lines.push("");
+  return lines;
+}
 
+/** The checks of the suggested K's fit, its warnings, and whether its starts agree and it converged. */
+function checkLines(result: ScenarioOutcome, exactFit: boolean, verbose: boolean): string[] {
+  const { fit, separation } = result;
+  const lines: string[] = [];
   if (fit.k > 1) {
     const closest = separation.pairs.reduce((a, b) => (b.gap < a.gap ? b : a));
     const gap = exactFit ? "no overlap between components (noise about 0)" : `smallest gap ${formatGap(closest.gap)} noise SDs (components ${closest.a + 1} and ${closest.b + 1})`;
@@ -160,7 +182,11 @@ function formatScenario(result: Omit<DemoScenarioResult, "report">, outDisplay: 
   for (const warning of warnings) lines.push(`   - ${warning}`);
   const iterations = `${fit.refinement.iterations} iteration${fit.refinement.iterations === 1 ? "" : "s"}`;
   lines.push(`Starts agree: ${startsAgree(fit.warmStart) ? "yes" : "no"}. Converged: ${fit.refinement.converged ? "yes" : "no"} (${iterations}).${verbose ? ` Best start: ${fit.warmStart.method}, ${fit.warmStart.startsTried} tried.` : ""}`);
+  return lines;
+}
 
+/** How close the fit came to the invented truth: K, the largest coefficient difference, the rows given their true component. */
+function truthLine({ truth, scan, comparison }: ScenarioOutcome): string {
   const kVerdict = scan.chosenK === comparison.trueK ? "found" : `NOT found (suggested ${scan.chosenK})`;
   const matched = comparison.match.map((c, t) => ({ c, t })).filter(({ c }) => c >= 0);
   const worst = matched.reduce((a, b) => (comparison.coefficientError[b.t] > comparison.coefficientError[a.t] ? b : a), matched[0]);
@@ -170,10 +196,7 @@ function formatScenario(result: Omit<DemoScenarioResult, "report">, outDisplay: 
     const seText = Number.isFinite(inSe) ? ` (${formatNumber(inSe)} standard errors)` : "";
     errorText = `; largest coefficient difference ${formatNumber(comparison.coefficientError[worst.t])}${seText}, in "${truth.components[worst.t].name}"`;
   }
-  lines.push(`Against the invented truth: K = ${comparison.trueK} ${kVerdict}${errorText}; ${formatPercent(comparison.labelAgreement)} of rows given their true component`);
-  lines.push(`Time: read ${seconds(timings.read)}, scan K = 1..${truth.kMax} ${seconds(timings.scan)}, standard errors and checks ${seconds(timings.checks)}, files ${seconds(timings.write)}`);
-  lines.push(`Wrote ${result.files.map((file) => path.join(outDisplay, path.basename(file))).join(" and ")}`);
-  return lines.join("\n") + "\n";
+  return `Against the invented truth: K = ${comparison.trueK} ${kVerdict}${errorText}; ${formatPercent(comparison.labelAgreement)} of rows given their true component`;
 }
 
 /** Every warning the demo prints for a scenario (the results workbook carries the same). */
