@@ -306,27 +306,32 @@ export async function computeFitReport(settings: FitSettings, progress?: (k: num
   const readMs = performance.now() - readStart;
 
   const fitStart = performance.now();
-  let k = settings.k;
-  let kChosenBy: FitReport["kChosenBy"] = { by: "given" };
-  if (k === undefined) {
-    const kMax = defaultKMax(design.n, design.p + (settings.intercept ? 1 : 0));
-    const scan = scanComponents(design, { kMax, seed: settings.seed, intercept: settings.intercept, model: settings.model, restarts: settings.restarts, tolerance: settings.tolerance, maxIterations: settings.maxIterations, background: settings.background, onProgress: progress });
-    k = scan.chosenK;
-    kChosenBy = { by: "scan", kMax: scan.rows.length };
-  }
+  const { k, kChosenBy } = chooseK(design, settings, progress);
   const model = fitModel(design, { ...settings, k });
   const fitMs = performance.now() - fitStart;
 
-  const labels: (number | null)[] = new Array(design.inputRows).fill(null);
-  for (let i = 0; i < design.n; i++) labels[design.rowIndex[i]] = model.labels[i] + 1;
+  const report = fitReport(design, model, settings, { k, kChosenBy, columns, notices, timings: { readMs, fitMs } });
+  return { report, sheetName, design, fit: model.mixture, separation: model.separation };
+}
+
+/** The K given with --k, or else the one a scan suggests. */
+function chooseK(design: Design, settings: FitSettings, progress?: (k: number, kMax: number) => void): Pick<FitReport, "k" | "kChosenBy"> {
+  if (settings.k !== undefined) return { k: settings.k, kChosenBy: { by: "given" } };
+  const kMax = defaultKMax(design.n, design.p + (settings.intercept ? 1 : 0));
+  const scan = scanComponents(design, { kMax, seed: settings.seed, intercept: settings.intercept, model: settings.model, restarts: settings.restarts, tolerance: settings.tolerance, maxIterations: settings.maxIterations, background: settings.background, onProgress: progress });
+  return { k: scan.chosenK, kChosenBy: { by: "scan", kMax: scan.rows.length } };
+}
+
+/** The --json report of a fit: the model's numbers, its checks and warnings, and how the file was read. */
+function fitReport(design: Design, model: ModelFit, settings: FitSettings, known: Pick<FitReport, "k" | "kChosenBy" | "columns" | "notices" | "timings">): FitReport {
   // Schwarz (1978): BIC = −2 log L + ν ln n.
   const bic = -2 * model.logLikelihood + model.parameterCount * Math.log(design.n);
   const separation = model.separation;
   const exactFit = isExactFit(model.mixture, design.y);
   const stray = findStrayRows(design, model.mixture);
-  const report: FitReport = {
-    k,
-    kChosenBy,
+  return {
+    k: known.k,
+    kChosenBy: known.kChosenBy,
     n: design.n,
     rowsUsed: design.n,
     rowsSkipped: design.skipped.length,
@@ -336,7 +341,7 @@ export async function computeFitReport(settings: FitSettings, progress?: (k: num
     predictors: design.predictorNames,
     intercept: settings.intercept,
     components: model.components,
-    labels,
+    labels: rowLabels(design, model),
     logLikelihood: model.logLikelihood,
     bic,
     icl: model.mixture.icl,
@@ -344,10 +349,7 @@ export async function computeFitReport(settings: FitSettings, progress?: (k: num
     seed: settings.seed,
     warmStart: model.mixture.warmStart,
     refinement: model.mixture.refinement,
-    // The engine's advice names only what every surface has; skein fit can also allow more iterations.
-    warnings: [...new Set([...model.mixture.warnings, ...(separation?.warnings ?? []), ...model.stdErrorWarnings])].map((warning) =>
-      /^Not converged:/.test(warning) ? `${warning.replace(/\.$/, "")}, or allow more iterations with --max-iterations.` : warning,
-    ),
+    warnings: fitWarnings(model),
     startsAgree: startsAgree(model.mixture.warmStart),
     converged: model.mixture.refinement.converged,
     exactFit,
@@ -356,14 +358,27 @@ export async function computeFitReport(settings: FitSettings, progress?: (k: num
     membershipClarity: separation?.normalisedEntropy ?? 1,
     separation,
     stdErrors: { method: model.stdErrorMethod, weights: model.weightStdErrors, sigmas: model.sigmaStdErrors },
-    timings: { readMs, fitMs },
-    columns,
-    notices,
+    timings: known.timings,
+    columns: known.columns,
+    notices: known.notices,
     strayRows: stray.rows.map((s) => ({ row: design.rowIndex[s.row] + 1, distance: s.distance, nearest: s.nearest + 1 })),
     strayRowsRule: stray.rule,
     backgroundWeight: model.mixture.background?.weight ?? null,
   };
-  return { report, sheetName, design, fit: model.mixture, separation };
+}
+
+/** One label per data row of the file: its 1-based component, or null for a skipped row. */
+function rowLabels(design: Design, model: ModelFit): (number | null)[] {
+  const labels: (number | null)[] = new Array(design.inputRows).fill(null);
+  for (let i = 0; i < design.n; i++) labels[design.rowIndex[i]] = model.labels[i] + 1;
+  return labels;
+}
+
+/** Every warning of the fit, its checks and its standard errors, once each. */
+function fitWarnings(model: ModelFit): string[] {
+  const warnings = [...new Set([...model.mixture.warnings, ...(model.separation?.warnings ?? []), ...model.stdErrorWarnings])];
+  // The engine's advice names only what every surface has; skein fit can also allow more iterations.
+  return warnings.map((warning) => (/^Not converged:/.test(warning) ? `${warning.replace(/\.$/, "")}, or allow more iterations with --max-iterations.` : warning));
 }
 
 /** `skein fit`: returns the exit status; SkeinErrors propagate to main, which reports them. */
