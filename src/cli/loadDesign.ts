@@ -1,5 +1,5 @@
 import * as path from "path";
-import { buildDesign, buildNumberDesign, type Design } from "../engine/design";
+import { buildDesign, buildNumberDesign, type Design, type DesignOptions } from "../engine/design";
 import { encodeRow, encodedWidth, type PredictorColumn } from "../engine/categoryLevels";
 import { SkeinError } from "../engine/errors";
 import type { Cell, ColumnKind } from "../io/columnTypes";
@@ -60,33 +60,57 @@ export async function loadDesign(source: DesignSource): Promise<LoadedDesign> {
 /** loadDesign on a table already read: the columns chosen, the Design built. */
 export function designOfTable(table: DataTable, source: Omit<DesignSource, "file" | "sheet" | "headerRow">): LoadedDesign {
   if (table.dataRowNumbers.length === 0) throw new SkeinError("bad-input", `${table.where} has a header row but no data rows below it; add rows of data under the column names.`);
-  const yColumn = withHeaderHint(table, () => chooseColumn(table, source.y));
+  const y = outcomeColumn(table, source.y);
+  const notices = [...table.notices];
+  const x = source.x !== undefined ? chosenPredictors(table, source.x, y) : defaultPredictors(table, y, notices);
+  const converted = describeColumns(table.columns.filter((c) => c.position === y || x.includes(c.position))).converted;
+  if (converted.length > 0) notices.push(`Read as numbers: ${converted.join(", ")}.`);
+  const leaveOut = rowsToLeaveOut(table, source.leaveOut);
+  const design = tableDesign(table, y, x, { intercept: source.intercept, leaveOut, components: source.k });
+  // The design's own notes (a category column made into indicators, its reference level) follow the file's.
+  return { design, sheetName: table.sheetName, columns: columnReports(table, y, x), notices: [...notices, ...design.notices], fileRows: table.dataRowNumbers };
+}
+
+/** The position of the outcome column --y names; it must hold numbers. */
+function outcomeColumn(table: DataTable, wanted: string): number {
+  const yColumn = withHeaderHint(table, () => chooseColumn(table, wanted));
   if (yColumn.kind === "category" || yColumn.kind === "text" || yColumn.kind === "empty") {
     throw new SkeinError("bad-input", `The outcome column ${yColumn.name} (${yColumn.letter}) holds ${yColumn.reason}, not numbers; choose a column of numbers with --y.`);
   }
-  const y = yColumn.position;
-  const notices = [...table.notices];
-  let x: number[];
-  if (source.x !== undefined) {
-    x = source.x.map((wanted) => withHeaderHint(table, () => chooseColumn(table, wanted)).position);
-    if (x.includes(y)) throw new SkeinError("bad-input", `${table.names[y]} is the outcome (--y); leave it out of --x.`);
-    const repeated = x.find((j, i) => x.indexOf(j) !== i);
-    if (repeated !== undefined) throw new SkeinError("bad-input", `${table.names[repeated]} appears twice in --x; list each predictor once.`);
-  } else {
-    x = table.columns.filter((c) => c.position !== y && c.defaultPredictor).map((c) => c.position);
-    const leftOut = describeColumns(table.columns.filter((c) => c.position !== y)).notPredictors;
-    if (x.length === 0) {
-      const why = leftOut.length > 0 ? ` (left out: ${leftOut.join(", ")})` : "";
-      throw new SkeinError("bad-input", `${table.where} has no column of numbers or categories besides ${table.names[y]}${why}; name the predictors with --x.`);
-    }
-    if (leftOut.length > 0) notices.push(`Left out of the predictors: ${leftOut.join(", ")}. Name a column in --x to use it.`);
+  return yColumn.position;
+}
+
+/** The positions of the predictors --x names, each once and none the outcome. */
+function chosenPredictors(table: DataTable, wanted: readonly string[], y: number): number[] {
+  const x = wanted.map((name) => withHeaderHint(table, () => chooseColumn(table, name)).position);
+  if (x.includes(y)) throw new SkeinError("bad-input", `${table.names[y]} is the outcome (--y); leave it out of --x.`);
+  const repeated = x.find((j, i) => x.indexOf(j) !== i);
+  if (repeated !== undefined) throw new SkeinError("bad-input", `${table.names[repeated]} appears twice in --x; list each predictor once.`);
+  return x;
+}
+
+/** Without --x: every other column of numbers or categories, and a notice in `notices` naming the columns left out. */
+function defaultPredictors(table: DataTable, y: number, notices: string[]): number[] {
+  const x = table.columns.filter((c) => c.position !== y && c.defaultPredictor).map((c) => c.position);
+  const leftOut = describeColumns(table.columns.filter((c) => c.position !== y)).notPredictors;
+  if (x.length === 0) {
+    const why = leftOut.length > 0 ? ` (left out: ${leftOut.join(", ")})` : "";
+    throw new SkeinError("bad-input", `${table.where} has no column of numbers or categories besides ${table.names[y]}${why}; name the predictors with --x.`);
   }
-  const converted = describeColumns(table.columns.filter((c) => c.position === y || x.includes(c.position))).converted;
-  if (converted.length > 0) notices.push(`Read as numbers: ${converted.join(", ")}.`);
+  if (leftOut.length > 0) notices.push(`Left out of the predictors: ${leftOut.join(", ")}. Name a column in --x to use it.`);
+  return x;
+}
+
+/** The 0-based data rows --leave-out names, each checked to be in the table. */
+function rowsToLeaveOut(table: DataTable, leaveOut: readonly number[] | undefined): Set<number> | undefined {
   const dataRows = table.dataRowNumbers.length;
-  const beyond = source.leaveOut?.find((row) => row > dataRows);
+  const beyond = leaveOut?.find((row) => row > dataRows);
   if (beyond !== undefined) throw new SkeinError("bad-input", `--leave-out names data row ${beyond}, but ${table.where} has ${dataRows} data row${dataRows === 1 ? "" : "s"}; count data rows from 1 below the header.`);
-  const leaveOut = source.leaveOut ? new Set(source.leaveOut.map((row) => row - 1)) : undefined;
+  return leaveOut ? new Set(leaveOut.map((row) => row - 1)) : undefined;
+}
+
+/** The Design of columns y and x; a failure caused by a column whose numbers mix styles says so. */
+function tableDesign(table: DataTable, y: number, x: number[], options: Pick<DesignOptions, "intercept" | "leaveOut" | "components">): Design {
   // The reader's kinds decide which columns are categories: its "category" columns, and text
   // columns it counted values of (one value, or too many: the design then says what is wrong);
   // a column of numbers written in mixed styles stays numeric, its text cells skipping rows.
@@ -94,15 +118,12 @@ export function designOfTable(table: DataTable, source: Omit<DesignSource, "file
     const column = table.columns.find((c) => c.position === j) as (typeof table.columns)[number];
     return column.kind === "category" || (column.kind === "text" && column.levels !== undefined);
   });
-  let design: Design;
   try {
-    const options = { intercept: source.intercept, leaveOut, components: source.k };
     // A file of plain numbers, read column by column, goes to the design without rows of cells.
     const numbers = table.numberColumns;
-    design =
-      numbers && !categories.includes(true)
-        ? buildNumberDesign({ name: table.names[y], values: numbers[y] }, x.map((j) => ({ name: table.names[j], values: numbers[j] })), options)
-        : buildDesign(columnCells(table, [y]), columnCells(table, x), { ...options, headers: true, categories, numberText: false });
+    return numbers && !categories.includes(true)
+      ? buildNumberDesign({ name: table.names[y], values: numbers[y] }, x.map((j) => ({ name: table.names[j], values: numbers[j] })), options)
+      : buildDesign(columnCells(table, [y]), columnCells(table, x), { ...options, headers: true, categories, numberText: false });
   } catch (error) {
     // Rows skipped for text in a column whose numbers mix styles: say why that column is text.
     const used = [y, ...x].map((j) => table.names[j]);
@@ -110,7 +131,11 @@ export function designOfTable(table: DataTable, source: Omit<DesignSource, "file
     if (error instanceof SkeinError && why.length > 0) throw new SkeinError(error.code, `${error.message} ${why.join(" ")}`);
     throw error;
   }
-  const columns: ColumnReport[] = table.columns.map((c) => ({
+}
+
+/** Every column of the table with its part in the fit, as the output reports it. */
+function columnReports(table: DataTable, y: number, x: number[]): ColumnReport[] {
+  return table.columns.map((c) => ({
     name: c.name,
     letter: c.letter,
     kind: c.kind,
@@ -118,8 +143,6 @@ export function designOfTable(table: DataTable, source: Omit<DesignSource, "file
     reason: c.reason,
     ...(c.converted ? { converted: c.converted } : {}),
   }));
-  // The design's own notes (a category column made into indicators, its reference level) follow the file's.
-  return { design, sheetName: table.sheetName, columns, notices: [...notices, ...design.notices], fileRows: table.dataRowNumbers };
 }
 
 /** A column that cannot be found may sit under a grouping header: add the reader's hint to the message. */
