@@ -120,11 +120,16 @@ export function rowResults(input: Pick<ResultsWorkbookInput, "rows" | "design" |
 export async function resultsWorkbook(input: ResultsWorkbookInput): Promise<Workbook> {
   // Loaded only when a workbook is written: the package takes long to load.
   const { default: ExcelJS } = await import("exceljs");
-  const { design, fit } = input;
-  const k = fit.k;
   const workbook = new ExcelJS.Workbook();
   workbook.creator = "Skein";
+  addRowsSheet(workbook, input);
+  addComponentsSheet(workbook, input);
+  addChecksSheet(workbook, input);
+  return workbook;
+}
 
+/** Sheet "Rows": the input table with the row results beside it. */
+function addRowsSheet(workbook: Workbook, input: ResultsWorkbookInput): void {
   const sheet = workbook.addWorksheet("Rows", { views: [{ state: "frozen", ySplit: 1 }] });
   const results = rowResults(input);
   const { names, dataColumns } = results;
@@ -134,7 +139,11 @@ export async function resultsWorkbook(input: ResultsWorkbookInput): Promise<Work
   for (let c = 1; c <= names.length; c++) sheet.getColumn(c).width = Math.max(10, Math.min(24, names[c - 1].length + 2));
   for (let c = dataColumns + 2; c <= names.length; c++) sheet.getColumn(c).numFmt = NUMBER_FORMAT;
   sheet.getColumn(dataColumns + 1).numFmt = WHOLE_FORMAT;
+}
 
+/** Sheet "Components": one row per component, its weight, noise SD and coefficients, then their standard errors when given. */
+function addComponentsSheet(workbook: Workbook, input: ResultsWorkbookInput): void {
+  const { design, fit } = input;
   const exact = exactComponents(fit, design.y);
   const summary = workbook.addWorksheet("Components");
   const se = input.standardErrors;
@@ -153,22 +162,34 @@ export async function resultsWorkbook(input: ResultsWorkbookInput): Promise<Work
       for (let j = offset; j < se.coefficients[c].length; j++) values.push(finite(se.coefficients[c][j]));
     }
     const row = summary.addRow(values);
-    // Noise SD and coefficients (and their standard errors) rounded where their standard errors say.
-    for (let col = 3; col <= 3 + coefficientNames.length; col++) {
-      const value = values[col - 1];
-      if (typeof value !== "number") continue;
-      const errorCol = se ? col + 2 + coefficientNames.length : -1;
-      const error = se ? values[errorCol - 1] : null;
-      const format = exact[c] ? "General" : estimateFormat(value, typeof error === "number" ? error : null);
-      row.getCell(col).numFmt = format;
-      if (se && typeof error === "number") row.getCell(errorCol).numFmt = format;
-    }
+    roundEstimates(row, values, coefficientNames.length, se !== undefined, exact[c]);
   });
   summary.getColumn(1).numFmt = WHOLE_FORMAT;
   summary.getColumn(2).numFmt = PERCENT_FORMAT;
   if (se) summary.getColumn(4 + coefficientNames.length).numFmt = PERCENT_FORMAT;
   for (let c = 1; c <= summaryNames.length; c++) summary.getColumn(c).width = Math.max(11, Math.min(28, summaryNames[c - 1].length + 2));
+}
 
+/**
+ * Number formats of one component's row: its noise SD and coefficients (and their standard
+ * errors, `withErrors`) rounded where their standard errors say; an exact component's as General.
+ */
+function roundEstimates(row: Row, values: (number | null)[], coefficients: number, withErrors: boolean, exact: boolean): void {
+  for (let col = 3; col <= 3 + coefficients; col++) {
+    const value = values[col - 1];
+    if (typeof value !== "number") continue;
+    const errorCol = withErrors ? col + 2 + coefficients : -1;
+    const error = withErrors ? values[errorCol - 1] : null;
+    const format = exact ? "General" : estimateFormat(value, typeof error === "number" ? error : null);
+    row.getCell(col).numFmt = format;
+    if (withErrors && typeof error === "number") row.getCell(errorCol).numFmt = format;
+  }
+}
+
+/** Sheet "Checks": whether the fit can be trusted, its numbers and settings, every warning and the notes. */
+function addChecksSheet(workbook: Workbook, input: ResultsWorkbookInput): void {
+  const { design, fit } = input;
+  const k = fit.k;
   const checks = workbook.addWorksheet("Checks");
   checks.addRow(["check", "value"]);
   header(checks.getRow(1), 2, 1);
@@ -204,7 +225,6 @@ export async function resultsWorkbook(input: ResultsWorkbookInput): Promise<Work
   for (const line of input.notes ?? []) add("note", line);
   checks.getColumn(1).width = 26;
   checks.getColumn(2).width = 60;
-  return workbook;
 }
 
 /** A standard error as a cell: NaN (not available) becomes an empty cell. */
