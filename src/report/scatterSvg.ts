@@ -145,12 +145,51 @@ function wrapLines(text: string, maxWidth: number, fontSize: number): string[] {
   return lines;
 }
 
+/** Where everything goes: the drawing's size, the wrapped title, the margins around the plot area. */
+interface PlotLayout {
+  width: number;
+  height: number;
+  groups: number;
+  narrow: boolean;
+  legendWidth: number;
+  titleSize: number;
+  textLeft: number;
+  title: string[];
+  subtitle: string[];
+  titleHeight: number;
+  margin: { left: number; right: number; top: number; bottom: number };
+  plotWidth: number;
+  plotHeight: number;
+}
+
+/** The axes' ticks and the maps from data values to pixels. */
+interface PlotScales {
+  xAxis: { ticks: number[]; low: number; high: number };
+  yAxis: { ticks: number[]; low: number; high: number };
+  sx: (v: number) => number;
+  sy: (v: number) => number;
+}
+
 /**
  * The plot as a standalone SVG document. Narrower than NARROW_PLOT (a task
  * pane), the legend moves under the plot and the drawing grows by its height,
  * and the title and subtitle wrap to the width.
  */
 export function scatterSvg(spec: ScatterSpec): string {
+  const layout = plotLayout(spec);
+  const scales = plotScales(spec, layout);
+  const out = [
+    ...headSvg(spec, layout),
+    ...axesSvg(spec, layout, scales),
+    ...fittedLinesSvg(spec, scales),
+    ...pointsSvg(spec, scales),
+    ...legendSvg(spec, layout),
+    "</svg>",
+  ];
+  return out.join("\n") + "\n";
+}
+
+function plotLayout(spec: ScatterSpec): PlotLayout {
   const width = spec.width ?? 720;
   const groups = spec.groupNames.length;
   const narrow = width < NARROW_PLOT;
@@ -166,7 +205,11 @@ export function scatterSvg(spec: ScatterSpec): string {
   const margin = { left: narrow ? 58 : 72, right: narrow ? 14 : legendWidth + 24, top: titleHeight + 18 + 17 * subtitle.length, bottom: 56 + legendBelow };
   const plotWidth = width - margin.left - margin.right;
   const plotHeight = height - margin.top - margin.bottom;
+  return { width, height, groups, narrow, legendWidth, titleSize, textLeft, title, subtitle, titleHeight, margin, plotWidth, plotHeight };
+}
 
+function plotScales(spec: ScatterSpec, layout: PlotLayout): PlotScales {
+  const { margin, plotWidth, plotHeight } = layout;
   // Axes span the points; lines are clipped to that box rather than stretching it.
   const [xMin, xMax] = extent(spec.x, []);
   const [yMin, yMax] = extent(spec.y, []);
@@ -174,34 +217,44 @@ export function scatterSvg(spec: ScatterSpec): string {
   const yAxis = niceTicks(yMin, yMax);
   const sx = (v: number): number => margin.left + ((v - xAxis.low) / (xAxis.high - xAxis.low)) * plotWidth;
   const sy = (v: number): number => margin.top + plotHeight - ((v - yAxis.low) / (yAxis.high - yAxis.low)) * plotHeight;
+  return { xAxis, yAxis, sx, sy };
+}
 
+/** The document's opening: the marker shapes and the plot area's clip, the background, the title and subtitle. */
+function headSvg(spec: ScatterSpec, layout: PlotLayout): string[] {
+  const { width, height, margin, plotWidth, plotHeight, textLeft, titleSize, titleHeight } = layout;
   const out: string[] = [];
   out.push(`<svg xmlns="http://www.w3.org/2000/svg" xmlns:xlink="http://www.w3.org/1999/xlink" width="${width}" height="${height}" viewBox="0 0 ${width} ${height}" role="img" aria-label="${escapeXml(spec.title)}">`);
   out.push(`<title>${escapeXml(spec.title)}</title>`);
   out.push("<defs>");
-  for (let g = 0; g < groups; g++) {
+  for (let g = 0; g < layout.groups; g++) {
     const style = componentStyle(g);
     out.push(`<path id="skein-marker-${g}" class="marker marker-${style.shape}" d="${markerPath(style.shape, MARKER_RADIUS)}" fill="${style.colour}" fill-opacity="0.55" stroke="${style.colour}" stroke-width="1"/>`);
   }
   out.push(`<clipPath id="skein-plot-area"><rect x="${margin.left}" y="${margin.top}" width="${plotWidth}" height="${plotHeight}"/></clipPath>`);
   out.push("</defs>");
   out.push(`<rect width="${width}" height="${height}" fill="${NEUTRALS.paper}"/>`);
-  title.forEach((line, i) => {
+  layout.title.forEach((line, i) => {
     out.push(`<text class="title" x="${textLeft}" y="${26 + i * (titleSize + 3)}" ${FONT} font-size="${titleSize}" font-weight="600" fill="${INK}">${escapeXml(line)}</text>`);
   });
-  subtitle.forEach((line, i) => {
+  layout.subtitle.forEach((line, i) => {
     out.push(`<text class="subtitle" x="${textLeft}" y="${titleHeight + 20 + 17 * i}" ${FONT} font-size="12" fill="${NEUTRALS.muted}">${escapeXml(line)}</text>`);
   });
+  return out;
+}
 
-  // Grid and tick labels.
+/** Grid, tick labels, the frame and the axis labels. */
+function axesSvg(spec: ScatterSpec, layout: PlotLayout, scales: PlotScales): string[] {
+  const { margin, plotWidth, plotHeight } = layout;
+  const out: string[] = [];
   out.push(`<g class="axes" ${FONT} font-size="11" fill="${INK}">`);
-  for (const t of xAxis.ticks) {
-    const x = px(sx(t));
+  for (const t of scales.xAxis.ticks) {
+    const x = px(scales.sx(t));
     out.push(`<line x1="${x}" y1="${margin.top}" x2="${x}" y2="${margin.top + plotHeight}" stroke="${GRID}"/>`);
     out.push(`<text x="${x}" y="${margin.top + plotHeight + 16}" text-anchor="middle">${tickLabel(t)}</text>`);
   }
-  for (const t of yAxis.ticks) {
-    const y = px(sy(t));
+  for (const t of scales.yAxis.ticks) {
+    const y = px(scales.sy(t));
     out.push(`<line x1="${margin.left}" y1="${y}" x2="${margin.left + plotWidth}" y2="${y}" stroke="${GRID}"/>`);
     out.push(`<text x="${margin.left - 6}" y="${y}" dy="0.32em" text-anchor="end">${tickLabel(t)}</text>`);
   }
@@ -215,8 +268,13 @@ export function scatterSvg(spec: ScatterSpec): string {
     out.push(`<text class="y-label" transform="translate(${x},${px(margin.top + plotHeight / 2)}) rotate(-90)" text-anchor="middle" font-size="13">${escapeXml(line)}</text>`);
   });
   out.push("</g>");
+  return out;
+}
 
-  out.push(`<g class="lines">`);
+/** Each component's fitted line, clipped to the axes. */
+function fittedLinesSvg(spec: ScatterSpec, scales: PlotScales): string[] {
+  const { xAxis, yAxis, sx, sy } = scales;
+  const out: string[] = [`<g class="lines">`];
   for (const line of spec.lines) {
     const clipped = clipSegment(line, xAxis.low, xAxis.high, yAxis.low, yAxis.high);
     if (!clipped) continue;
@@ -226,26 +284,36 @@ export function scatterSvg(spec: ScatterSpec): string {
     out.push(`<path class="fitted-line" data-component="${line.group + 1}" d="${d}" stroke="${style.colour}" stroke-width="2.2" fill="none"${dash}/>`);
   }
   out.push("</g>");
+  return out;
+}
 
-  // Points over the lines: markers are half transparent, so the lines show through them,
-  // and in noiseless data, where every point sits on its line, the markers stay visible.
-  out.push(`<g class="points" clip-path="url(#skein-plot-area)">`);
+/**
+ * Points over the lines: markers are half transparent, so the lines show through them,
+ * and in noiseless data, where every point sits on its line, the markers stay visible.
+ */
+function pointsSvg(spec: ScatterSpec, scales: PlotScales): string[] {
+  const out: string[] = [`<g class="points" clip-path="url(#skein-plot-area)">`];
   for (let i = 0; i < spec.x.length; i++) {
     const xi = spec.x[i];
     const yi = spec.y[i];
     if (!Number.isFinite(xi) || !Number.isFinite(yi)) continue;
     const g = spec.group[i];
-    out.push(`<use xlink:href="#skein-marker-${g}" href="#skein-marker-${g}" x="${px(sx(xi))}" y="${px(sy(yi))}"/>`);
+    out.push(`<use xlink:href="#skein-marker-${g}" href="#skein-marker-${g}" x="${px(scales.sx(xi))}" y="${px(scales.sy(yi))}"/>`);
   }
   out.push("</g>");
-  // Legend: marker, line sample and name per component.
-  // Beside the plot, or under it (below the x-axis label) in a narrow plot.
-  const legendX = narrow ? textLeft : width - legendWidth - 8;
+  return out;
+}
+
+/** Legend: marker, line sample and name per component. Beside the plot, or under it (below the x-axis label) in a narrow plot. */
+function legendSvg(spec: ScatterSpec, layout: PlotLayout): string[] {
+  const { narrow, margin, plotHeight } = layout;
+  const legendX = narrow ? layout.textLeft : layout.width - layout.legendWidth - 8;
   const legendTop = narrow ? margin.top + plotHeight + 60 : margin.top + 4;
   const legendStep = narrow ? 22 : 24;
+  const out: string[] = [];
   out.push(`<g class="legend" ${FONT} font-size="12" fill="${INK}">`);
   out.push(`<text x="${legendX}" y="${legendTop}" font-weight="600">Components</text>`);
-  for (let g = 0; g < groups; g++) {
+  for (let g = 0; g < layout.groups; g++) {
     const style = componentStyle(g);
     const y = legendTop + (narrow ? 18 : 22) + g * legendStep;
     const dash = style.dash ? ` stroke-dasharray="${style.dash}"` : "";
@@ -254,6 +322,5 @@ export function scatterSvg(spec: ScatterSpec): string {
     out.push(`<text class="legend-entry" x="${legendX + 36}" y="${y}" dy="0.32em">${escapeXml(spec.groupNames[g])}</text>`);
   }
   out.push("</g>");
-  out.push("</svg>");
-  return out.join("\n") + "\n";
+  return out;
 }
