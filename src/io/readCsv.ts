@@ -71,20 +71,13 @@ export function splitCsv(text: string): CsvFields {
   const length = text.length;
   let line = 1;
   let rowLine = 1;
-  // Next quote and next carriage return at or after i (length when none): a line holding
-  // neither is split by the native String.split, the common case of large files.
-  let nextQuote = -1;
-  let nextReturn = -1;
+  const ahead: LookAhead = { quote: -1, carriageReturn: -1 };
   while (i < length) {
     // Whether the whole line was split at once and i stands at its end.
     let atLineEnd = false;
     if (row.length === 0) {
-      if (nextQuote < i) nextQuote = indexOrLength(text, '"', i);
-      if (nextReturn < i) nextReturn = indexOrLength(text, "\r", i);
-      const lineEnd = indexOrLength(text, "\n", i);
-      if (nextQuote >= lineEnd && nextReturn >= lineEnd - 1) {
-        // Only a CRLF's CR may stand in the line, at its end.
-        const contentEnd = nextReturn === lineEnd - 1 ? lineEnd - 1 : lineEnd;
+      const contentEnd = plainLineEnd(text, i, ahead);
+      if (contentEnd >= 0) {
         const fields = text.slice(i, contentEnd).split(delimiter);
         for (let f = 0; f < fields.length; f++) row.push(toCell(fields[f]));
         i = contentEnd;
@@ -94,32 +87,14 @@ export function splitCsv(text: string): CsvFields {
     if (!atLineEnd) {
       let raw: string;
       if (text.charCodeAt(i) === QUOTE) {
-        // Quoted field: runs to the next quote not followed by another quote.
-        const startLine = line;
-        let value = "";
-        let from = i + 1;
-        for (;;) {
-          const close = text.indexOf('"', from);
-          if (close < 0) {
-            throw new SkeinError("bad-input", `A quoted field that starts on line ${startLine} of the CSV text never ends; add the closing quote (") or remove the opening one.`);
-          }
-          value += text.slice(from, close);
-          if (text.charCodeAt(close + 1) === QUOTE) {
-            value += '"';
-            from = close + 2;
-          } else {
-            i = close + 1;
-            break;
-          }
-        }
-        for (let k = 0; k < value.length; k++) if (value.charCodeAt(k) === LF) line++;
+        const quoted = quotedField(text, i, line);
+        line += lineFeedsIn(quoted.value);
         // Anything between the closing quote and the delimiter is kept as it stands.
-        const rest = i;
-        while (i < length && !isFieldEnd(text.charCodeAt(i), delimiterCode)) i++;
-        raw = value + text.slice(rest, i);
+        i = fieldEnd(text, quoted.end, delimiterCode);
+        raw = quoted.value + text.slice(quoted.end, i);
       } else {
         const start = i;
-        while (i < length && !isFieldEnd(text.charCodeAt(i), delimiterCode)) i++;
+        i = fieldEnd(text, i, delimiterCode);
         raw = text.slice(start, i);
       }
       row.push(toCell(raw));
@@ -145,11 +120,69 @@ export function splitCsv(text: string): CsvFields {
     rowLine = line;
   }
   if (row.length > 0) pushRow(rows, lines, row, rowLine);
+  dropTrailingEmptyRows(rows, lines);
+  return { rows, lines, delimiter };
+}
+
+/** The next quote and the next carriage return at or after where splitCsv stands (the text's length when none). */
+interface LookAhead {
+  quote: number;
+  carriageReturn: number;
+}
+
+/**
+ * Where the content of the line starting at i ends (before its line feed, or its CRLF's CR)
+ * when the line holds no quote and no other carriage return, so that the native String.split
+ * can split it whole, the common case of large files; −1 otherwise. `ahead` keeps the next
+ * quote and carriage return found, so that each is searched for once, not once a line.
+ */
+function plainLineEnd(text: string, i: number, ahead: LookAhead): number {
+  if (ahead.quote < i) ahead.quote = indexOrLength(text, '"', i);
+  if (ahead.carriageReturn < i) ahead.carriageReturn = indexOrLength(text, "\r", i);
+  const lineEnd = indexOrLength(text, "\n", i);
+  if (ahead.quote < lineEnd || ahead.carriageReturn < lineEnd - 1) return -1;
+  // Only a CRLF's CR may stand in the line, at its end.
+  return ahead.carriageReturn === lineEnd - 1 ? lineEnd - 1 : lineEnd;
+}
+
+/**
+ * The quoted field whose opening quote is at `open`: its text ("" read as one quote) and the
+ * index just past its closing quote, the next quote not followed by another quote.
+ */
+function quotedField(text: string, open: number, startLine: number): { value: string; end: number } {
+  let value = "";
+  let from = open + 1;
+  for (;;) {
+    const close = text.indexOf('"', from);
+    if (close < 0) {
+      throw new SkeinError("bad-input", `A quoted field that starts on line ${startLine} of the CSV text never ends; add the closing quote (") or remove the opening one.`);
+    }
+    value += text.slice(from, close);
+    if (text.charCodeAt(close + 1) !== QUOTE) return { value, end: close + 1 };
+    value += '"';
+    from = close + 2;
+  }
+}
+
+function lineFeedsIn(value: string): number {
+  let count = 0;
+  for (let k = 0; k < value.length; k++) if (value.charCodeAt(k) === LF) count++;
+  return count;
+}
+
+/** The end of the field running from i: the next delimiter or line end, or the end of the text. */
+function fieldEnd(text: string, i: number, delimiterCode: number): number {
+  const length = text.length;
+  while (i < length && !isFieldEnd(text.charCodeAt(i), delimiterCode)) i++;
+  return i;
+}
+
+/** Drops the rows of empty cells at the end, which spreadsheet exports often leave. */
+function dropTrailingEmptyRows(rows: (string | null)[][], lines: number[]): void {
   while (rows.length > 0 && rows[rows.length - 1].every((cell) => cell === null)) {
     rows.pop();
     lines.pop();
   }
-  return { rows, lines, delimiter };
 }
 
 /** A field as a cell: null when empty or all whitespace. */
