@@ -1,5 +1,5 @@
 import { describe, expect, it } from "vitest";
-import { accumulateGramBlock, addBlockDots, addBlockGram, allowSimdKernel, blockRowsFor, dot, rowBlock, simdKernelAvailable, weighBlock, type RowBlock } from "../src/engine/weightedGram";
+import { accumulateGramBlock, addBlockDots, addBlockGram, allowSimdKernel, blockRowsFor, dot, rowBlock, simdKernelAvailable, weighBlock, stageRows, gatherRows, type RowBlock } from "../src/engine/weightedGram";
 import { WEIGHTED_GRAM_WASM_BASE64 } from "../src/engine/wasm/weightedGramModule";
 import { fitMixture } from "../src/engine/fitMixture";
 import { noiselessProblem, noisyProblem } from "../src/synthetic/generateProblems";
@@ -121,6 +121,29 @@ describe("the weighted-Gram kernel's SIMD path", () => {
         for (let g = 0; g < m; g++) {
           for (let j = 0; j < q; j++) expect(block.weighted[g * block.qp + j], `q = ${q}, SIMD ${allowed}`).toBe(weights[g] * values[g * q + j]);
         }
+      }
+      allowSimdKernel(true);
+    }
+  });
+
+  it("gathers staged rows into the plain rows, with the intercept's 1s and zero padding, the same on both paths", () => {
+    // (q, implicit 1s, staged stride): odd and even copy lengths, a stride wider than the copy.
+    for (const [q, ones, stride] of [[1, 1, 0], [4, 1, 3], [5, 0, 5], [6, 1, 7], [11, 0, 11], [12, 1, 11]] as Array<[number, number, number]>) {
+      const rows = 9;
+      const random = createRandom(31 * q + stride);
+      const source = Float64Array.from({ length: (rows + 2) * stride }, () => random.next() * 2 - 1);
+      const picked = [7, 0, 3, 3, 8];
+      for (const allowed of [false, true]) {
+        allowSimdKernel(allowed);
+        const block = rowBlock(q, 16, 1, stride);
+        block.plain.fill(NaN);
+        stageRows(block, source, 2, 2 + rows);
+        picked.forEach((row, g) => (block.indices[g] = row));
+        gatherRows(block, picked.length, ones);
+        picked.forEach((row, g) => {
+          const expected = Array.from({ length: block.qp }, (_, j) => (j < ones ? 1 : j < q ? source[(2 + row) * stride + j - ones] : 0));
+          expect(Array.from(block.plain.subarray(g * block.qp, (g + 1) * block.qp)), `q = ${q}, SIMD ${allowed}`).toEqual(expected);
+        });
       }
       allowSimdKernel(true);
     }

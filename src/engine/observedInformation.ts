@@ -1,7 +1,7 @@
 import type { MixtureFit, RegressionData } from "./mixtureTypes";
 import { predictorLogDensity, predictorModels } from "./computeMemberships";
 import { componentLogConstant, membershipsFromLogTerms } from "./logDensities";
-import { addBlockDots, addBlockGram, blockRowsFor, rowBlock, type RowBlock } from "./weightedGram";
+import { addBlockDots, addBlockGram, blockRowsFor, gatherRows, rowBlock, stageRows, weighBlock, type RowBlock } from "./weightedGram";
 import { NEGLIGIBLE_MEMBERSHIP } from "./mixture/mStep";
 import { paddedCoefficients, rowResiduals } from "./mixture/eStep";
 
@@ -69,9 +69,13 @@ export function observedInformation(data: RegressionData, fit: MixtureFit): Obse
   const { n, k, q, blockRows, varianceOffset, logitOffset, logits, size, weights, grams, ownVariance, ownLogit, ownOutside, crossVariance, crossLogit, shares } = st;
   const { tauSum, outsideTau, gSum, gOutside, curvatureSum, tauTau, gTau, gg } = st;
   // A block at a time, in small functions: each is compiled once and stays fast.
+  // Each block's rows staged once; each component and pair gathers the rows it holds from there.
+  const block = rowBlock(q, blockRows, VECTORS_PER_ROW, st.p);
   for (let start = 0; start < n; start += blockRows) {
-    addBlockRows(st, start, Math.min(n, start + blockRows) - start);
-    for (let c = 0; c < k; c++) addHeldRows(st, start, c);
+    const end = Math.min(n, start + blockRows);
+    addBlockRows(st, start, end - start);
+    stageRows(block, st.x, start, end);
+    for (let c = 0; c < k; c++) addHeldRows(st, block, c);
   }
   const totalShare = shares[0];
   const squareShare = shares[1];
@@ -269,21 +273,23 @@ function addRowTerms(st: InformationState, r: number, rowOutside: number): void 
  * q-vectors, and the cross terms with each later component. The rows go into the kernel's row
  * block with the per-row values their q-vectors need beside them.
  */
-function addHeldRows(st: InformationState, start: number, c: number): void {
-  const { q, k, background, blockRows, tau, u, g, gramWeight, varianceWeight, logitWeight, outside, held, heldCount } = st;
+function addHeldRows(st: InformationState, block: RowBlock, c: number): void {
+  const { q, k, ones, background, blockRows, tau, u, g, gramWeight, varianceWeight, logitWeight, outside, held, heldCount } = st;
   const { grams, ownVariance, ownLogit, ownOutside, crossVariance, crossLogit } = st;
   const count = heldCount[c];
   if (count === 0) return;
-  const block = rowBlock(q, blockRows, VECTORS_PER_ROW);
-  const { vectors } = block;
+  const { vectors, indices } = block;
   const offset = c * blockRows;
   for (let s = 0; s < count; s++) {
     const r = held[offset + s];
-    gatherDesignRow(st, start + r, gramWeight[offset + r], block, s);
+    indices[s] = r;
     vectors[s * VECTORS_PER_ROW] = varianceWeight[offset + r];
     vectors[s * VECTORS_PER_ROW + 1] = logitWeight[offset + r];
     vectors[s * VECTORS_PER_ROW + 2] = u[offset + r] * outside[r];
+    vectors[s * VECTORS_PER_ROW + GRAM_WEIGHT] = gramWeight[offset + r];
   }
+  gatherRows(block, count, ones);
+  weighBlock(block, count, GRAM_WEIGHT);
   addBlockGram(block, count, grams, pairIndex(c, c, k) * q * q);
   addBlockDots(block, count, "plain", 0, ownVariance, c * q);
   addBlockDots(block, count, "plain", 1, ownLogit, c * q);
@@ -297,14 +303,17 @@ function addHeldRows(st: InformationState, start: number, c: number): void {
       if (tau[other + r] < NEGLIGIBLE_MEMBERSHIP) continue;
       const uc = u[offset + r];
       const ud = u[other + r];
-      gatherDesignRow(st, start + r, uc * ud, block, rows);
+      indices[rows] = r;
       vectors[rows * VECTORS_PER_ROW] = uc * g[other + r];
       vectors[rows * VECTORS_PER_ROW + 1] = ud * g[offset + r];
       vectors[rows * VECTORS_PER_ROW + 2] = uc * tau[other + r];
       vectors[rows * VECTORS_PER_ROW + 3] = ud * tau[offset + r];
+      vectors[rows * VECTORS_PER_ROW + GRAM_WEIGHT] = uc * ud;
       rows++;
     }
     if (rows === 0) continue;
+    gatherRows(block, rows, ones);
+    weighBlock(block, rows, GRAM_WEIGHT);
     addBlockGram(block, rows, grams, pairIndex(c, d, k) * q * q);
     addBlockDots(block, rows, "plain", 0, crossVariance, (c * k + d) * q);
     addBlockDots(block, rows, "plain", 1, crossVariance, (d * k + c) * q);
@@ -313,29 +322,12 @@ function addHeldRows(st: InformationState, start: number, c: number): void {
   }
 }
 
-/** Per-row values beside each gathered row: up to four q-vectors' weights (the cross terms use all four). */
-const VECTORS_PER_ROW = 4;
-
-/** Design row i (1s for the intercept, then x_i) into slot `at` of the row block, and w times it beside it. */
-function gatherDesignRow(st: InformationState, i: number, w: number, block: RowBlock, at: number): void {
-  const { x, p, ones } = st;
-  const { plain, weighted, qp } = block;
-  const base = at * qp;
-  const from = i * p;
-  for (let j = 0; j < ones; j++) {
-    plain[base + j] = 1;
-    weighted[base + j] = w;
-  }
-  for (let j = 0; j < p; j++) {
-    const value = x[from + j];
-    plain[base + ones + j] = value;
-    weighted[base + ones + j] = w * value;
-  }
-  for (let j = ones + p; j < qp; j++) {
-    plain[base + j] = 0;
-    weighted[base + j] = 0;
-  }
-}
+/**
+ * Per-row values beside each gathered row: up to four q-vectors' weights (the cross terms use
+ * all four), then the weight of its Gram.
+ */
+const VECTORS_PER_ROW = 5;
+const GRAM_WEIGHT = 4;
 
 /** Index of the pair c ≤ d among the k(k + 1)/2 pairs of components. */
 function pairIndex(c: number, d: number, k: number): number {

@@ -123,6 +123,7 @@ interface SimdKernel {
   gram: (weighted: number, columns: number, m: number, rows: number, qp: number, out: number) => void;
   dots: (x: number, m: number, qp: number, from: number, v: number, vStride: number, out: number) => void;
   scale: (x: number, m: number, qp: number, v: number, vStride: number, out: number) => void;
+  gather: (staged: number, stride: number, ones: number, q: number, qp: number, indices: number, m: number, out: number) => void;
 }
 
 /** undefined until first asked for; null when this runtime cannot run the module. */
@@ -157,6 +158,7 @@ function simdKernel(): SimdKernel | null {
       gram: instance.exports.gram as SimdKernel["gram"],
       dots: instance.exports.dots as SimdKernel["dots"],
       scale: instance.exports.scale as SimdKernel["scale"],
+      gather: instance.exports.gather as SimdKernel["gather"],
     };
   } catch {
     // No WebAssembly, no SIMD, or compilation refused (a content security policy): the scalar path.
@@ -193,10 +195,15 @@ export interface RowBlock {
   plain: Float64Array;
   weighted: Float64Array;
   vectors: Float64Array;
+  /** Rows staged by stageRows, `stagedStride` values a row (empty when the block was asked for none). */
+  staged: Float64Array;
+  /** Which staged rows gatherRows copies into the plain rows, in order. */
+  indices: Int32Array;
   q: number;
   qp: number;
   capacity: number;
   vectorCount: number;
+  stagedStride: number;
   /** The SIMD module, or null for the scalar path. */
   kernel: SimdKernel | null;
   /** SIMD path: where the module's outputs start in its memory, in doubles. */
@@ -209,41 +216,49 @@ export interface RowBlock {
 let lastBlock: RowBlock | null = null;
 
 /**
- * A row block for up to `capacity` rows of q values and `vectorCount` per-row values (the last
- * one, while these stay the same, the path is the same and the module's memory has not grown).
+ * A row block for up to `capacity` rows of q values and `vectorCount` per-row values, with room
+ * to stage `capacity` rows of `stagedStride` values (the last one, while these stay the same,
+ * the path is the same and the module's memory has not grown).
  * Take it afresh for every pass: another caller's block may move the memory. Row blocks from
  * any q use the SIMD path where it runs: on 21 noisy sheets of 2-10 predictors, fitted
  * interleaved, M-steps on row blocks from 1, 4 and 8 columns took 0.90-0.94 of the time of
  * row blocks from 16 columns only.
  */
-export function rowBlock(q: number, capacity: number, vectorCount = 1): RowBlock {
+export function rowBlock(q: number, capacity: number, vectorCount = 1, stagedStride = 0): RowBlock {
   const kernel = simdKernel();
   const last = lastBlock;
-  if (last && last.q === q && last.capacity === capacity && last.vectorCount === vectorCount && last.kernel === kernel && (!kernel || last.plain.buffer === kernel.memory.buffer)) return last;
+  if (last && last.q === q && last.capacity === capacity && last.vectorCount === vectorCount && last.stagedStride === stagedStride && last.kernel === kernel && (!kernel || last.plain.buffer === kernel.memory.buffer)) return last;
   const qp = (q + 3) & ~3;
   if (!kernel) {
     lastBlock = {
       plain: new Float64Array(capacity * qp),
       weighted: new Float64Array(capacity * qp),
       vectors: new Float64Array(capacity * vectorCount),
-      q, qp, capacity, vectorCount, kernel, outAt: 0,
+      staged: new Float64Array(capacity * stagedStride),
+      indices: new Int32Array(capacity),
+      q, qp, capacity, vectorCount, stagedStride, kernel, outAt: 0,
       columns: new Float64Array(capacity * q),
       weightedColumns: new Float64Array(capacity * q),
     };
     return lastBlock;
   }
   // Memory in doubles: the weighted and the plain rows (capacity·qp each), the vectors, the
-  // output (qp² for the Gram, then qp for the dot products).
+  // indices (capacity 32-bit integers), the staged rows, the output (qp² for the Gram, then qp
+  // for the dot products).
   const plainAt = capacity * qp;
   const vectorsAt = 2 * capacity * qp;
-  const outAt = vectorsAt + capacity * vectorCount;
+  const indicesAt = vectorsAt + capacity * vectorCount;
+  const stagedAt = indicesAt + Math.ceil(capacity / 2);
+  const outAt = stagedAt + capacity * stagedStride;
   reserve(kernel, (outAt + qp * qp + qp) * 8);
   const buffer = kernel.memory.buffer;
   lastBlock = {
     weighted: new Float64Array(buffer, 0, capacity * qp),
     plain: new Float64Array(buffer, plainAt * 8, capacity * qp),
     vectors: new Float64Array(buffer, vectorsAt * 8, capacity * vectorCount),
-    q, qp, capacity, vectorCount, kernel, outAt, columns: null, weightedColumns: null,
+    indices: new Int32Array(buffer, indicesAt * 8, capacity),
+    staged: new Float64Array(buffer, stagedAt * 8, capacity * stagedStride),
+    q, qp, capacity, vectorCount, stagedStride, kernel, outAt, columns: null, weightedColumns: null,
   };
   return lastBlock;
 }
@@ -282,6 +297,35 @@ export function addBlockGram(block: RowBlock, m: number, gram: Float64Array, off
   if (rows === 0) return;
   kernel.gram(weighted.byteOffset, plain.byteOffset, m, rows, qp, outAt * 8);
   addGramOutput(kernel, outAt, rows, q, qp, gram, offset);
+}
+
+/**
+ * Stages rows [from, to) of a row-major source (block.stagedStride values a row, at most
+ * `capacity` rows) for gatherRows: one copy of a block of rows, from which each component
+ * then gathers the rows it holds.
+ */
+export function stageRows(block: RowBlock, source: Float64Array, from: number, to: number): void {
+  const stride = block.stagedStride;
+  block.staged.set(source.subarray(from * stride, to * stride));
+}
+
+/**
+ * Plain row g of the block (g < m) from staged row indices[g]: `ones` 1s, then the staged
+ * row's first q − ones values, then zeros up to qp (the same copies on either path).
+ */
+export function gatherRows(block: RowBlock, m: number, ones: number): void {
+  const { plain, staged, indices, q, qp, stagedStride, kernel } = block;
+  if (kernel) {
+    kernel.gather(staged.byteOffset, stagedStride, ones, q, qp, indices.byteOffset, m, plain.byteOffset);
+    return;
+  }
+  for (let g = 0; g < m; g++) {
+    const base = g * qp;
+    const from = indices[g] * stagedStride - ones;
+    for (let j = 0; j < ones; j++) plain[base + j] = 1;
+    for (let j = ones; j < q; j++) plain[base + j] = staged[from + j];
+    for (let j = q; j < qp; j++) plain[base + j] = 0;
+  }
 }
 
 /**

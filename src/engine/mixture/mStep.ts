@@ -2,7 +2,7 @@ import type { MixtureParameters } from "./mixtureParameters";
 import type { MixtureWorkspace } from "./mixtureWorkspace";
 import { choleskyScratchLength, scaledCholeskyLower, scaledCholeskySolve } from "../cholesky";
 import { constrainedVariances } from "./constrainedVariances";
-import { addBlockDots, addBlockGram, dot, rowBlock, weighBlock } from "../weightedGram";
+import { addBlockDots, addBlockGram, dot, gatherRows, rowBlock, stageRows, weighBlock } from "../weightedGram";
 
 /** What an M-step changed beyond the parameters themselves. */
 export interface MStepReport {
@@ -77,26 +77,30 @@ export function mStepCoefficients(ws: MixtureWorkspace, params: MixtureParameter
  * them, and the kernel weighs and sums them.
  */
 function accumulateComponentSums(ws: MixtureWorkspace, skipped: number): void {
-  const { n, q, k, y, memberships, grams, rightHandSides, weightedSquares, blockRows } = ws;
+  const { n, q, k, y, memberships, grams, rightHandSides, weightedSquares, blockRows, rowValues, rowStride, implicitOnes } = ws;
   grams.fill(0);
   rightHandSides.fill(0);
   weightedSquares.fill(0);
-  const block = rowBlock(q, blockRows, 2);
-  const { plain, vectors, qp } = block;
+  // The block's rows are staged once (in the SIMD module's memory where that runs) and each
+  // component gathers the ones it holds from there.
+  const block = rowBlock(q, blockRows, 2, rowStride);
+  const { vectors, indices } = block;
   for (let start = 0; start < n; start += blockRows) {
     const end = Math.min(n, start + blockRows);
+    stageRows(block, rowValues, start, end);
     for (let c = 0; c < k; c++) {
       if (c === skipped) continue;
       let m = 0;
       for (let i = start; i < end; i++) {
         const w = memberships[i * k + c];
         if (w < NEGLIGIBLE_MEMBERSHIP) continue;
-        gatherRow(ws, i, plain, m * qp, qp);
+        indices[m] = i - start;
         vectors[2 * m] = y[i];
         vectors[2 * m + 1] = w;
         weightedSquares[c] += w * y[i] * y[i];
         m++;
       }
+      gatherRows(block, m, implicitOnes);
       weighBlock(block, m, 1);
       addBlockGram(block, m, grams, c * q * q);
       addBlockDots(block, m, "weighted", 0, rightHandSides, c * q);
@@ -122,19 +126,6 @@ function complementSums(ws: MixtureWorkspace, largest: number): void {
       grams[offset + j * q + l] = value;
     }
   }
-}
-
-/**
- * Design row i into a row block's plain rows at `base` (qp values, zero-padded). Column j of
- * the design is rowValues[i·rowStride − implicitOnes + j] after the implicit 1s
- * (mixtureWorkspace.ts).
- */
-function gatherRow(ws: MixtureWorkspace, i: number, plain: Float64Array, base: number, qp: number): void {
-  const { q, implicitOnes, rowValues, rowStride } = ws;
-  const rowOffset = i * rowStride - implicitOnes;
-  for (let j = 0; j < implicitOnes; j++) plain[base + j] = 1;
-  for (let j = implicitOnes; j < q; j++) plain[base + j] = rowValues[rowOffset + j];
-  for (let j = q; j < qp; j++) plain[base + j] = 0;
 }
 
 /** XᵀX and Xᵀy over all rows of the workspace, accumulated on first use. */

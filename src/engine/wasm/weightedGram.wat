@@ -144,4 +144,47 @@
         (local.set $v (i32.add (local.get $v) (local.get $vStride)))
         (local.set $g (i32.add (local.get $g) (i32.const 1)))
         (br $rows))))
+
+  ;; Row g < m of out (qp doubles a row) from staged row indices[g] (32-bit integers; stride
+  ;; doubles a row): `ones` 1s, the staged row's first q − ones values, then zeros up to qp.
+  (func (export "gather") (param $staged i32) (param $stride i32) (param $ones i32) (param $q i32) (param $qp i32) (param $indices i32) (param $m i32) (param $out i32)
+    (local $g i32) (local $j i32) (local $from i32) (local $copy i32)
+    (local.set $copy (i32.sub (local.get $q) (local.get $ones)))
+    (local.set $g (i32.const 0))
+    (block $rowsDone
+      (loop $rows
+        (br_if $rowsDone (i32.ge_u (local.get $g) (local.get $m)))
+        (local.set $from (i32.add (local.get $staged)
+          (i32.shl (i32.mul (i32.load (i32.add (local.get $indices) (i32.shl (local.get $g) (i32.const 2)))) (local.get $stride)) (i32.const 3))))
+        (local.set $j (i32.const 0))
+        (block $onesDone
+          (loop $onesLoop
+            (br_if $onesDone (i32.ge_u (local.get $j) (local.get $ones)))
+            (f64.store (local.get $out) (f64.const 1))
+            (local.set $out (i32.add (local.get $out) (i32.const 8)))
+            (local.set $j (i32.add (local.get $j) (i32.const 1)))
+            (br $onesLoop)))
+        (local.set $j (i32.const 0))
+        (block $pairsDone
+          (loop $pairs
+            (br_if $pairsDone (i32.ge_u (i32.add (local.get $j) (i32.const 1)) (local.get $copy)))
+            (v128.store (local.get $out) (v128.load (local.get $from)))
+            (local.set $out (i32.add (local.get $out) (i32.const 16)))
+            (local.set $from (i32.add (local.get $from) (i32.const 16)))
+            (local.set $j (i32.add (local.get $j) (i32.const 2)))
+            (br $pairs)))
+        (if (i32.lt_u (local.get $j) (local.get $copy))
+          (then
+            (f64.store (local.get $out) (f64.load (local.get $from)))
+            (local.set $out (i32.add (local.get $out) (i32.const 8)))))
+        (local.set $j (local.get $q))
+        (block $zerosDone
+          (loop $zeros
+            (br_if $zerosDone (i32.ge_u (local.get $j) (local.get $qp)))
+            (f64.store (local.get $out) (f64.const 0))
+            (local.set $out (i32.add (local.get $out) (i32.const 8)))
+            (local.set $j (i32.add (local.get $j) (i32.const 1)))
+            (br $zeros)))
+        (local.set $g (i32.add (local.get $g) (i32.const 1)))
+        (br $rows))))
 )
