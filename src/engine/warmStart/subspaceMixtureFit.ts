@@ -35,7 +35,7 @@ export function subspaceMixtureFit(z: Float64Array, y: Float64Array, n: number, 
     solveComponents(state);
     squaredResiduals(state);
     updateVariances(state);
-    logLikelihood = eStep(state);
+    logLikelihood = updateMemberships(state);
   }
   return { coefficients: state.coefficients, memberships: state.tau, logLikelihood };
 }
@@ -173,7 +173,7 @@ function updateVariances(state: SubspaceState): void {
 }
 
 /** E-step through the kernel (log-sum-exp): new memberships; returns the log-likelihood. */
-function eStep(state: SubspaceState): number {
+function updateMemberships(state: SubspaceState): number {
   const { n, k, tau, variances, weights, squares, logDensity } = state;
   for (let j = 0; j < k; j++) logDensity[j] = componentLogConstant(weights[j], variances[j]);
   for (let t = 0; t < n * k; t++) tau[t] = logDensity[t % k] - (0.5 * squares[t]) / variances[t % k];
