@@ -3,7 +3,7 @@ import { SkeinError } from "../engine/errors";
 import { fitMixture } from "../engine/fitMixture";
 import { predictRows } from "../engine/predictRows";
 import type { Design } from "../engine/design";
-import type { MixtureModel } from "../engine/mixtureTypes";
+import type { MixtureModel, MixtureOptions } from "../engine/mixtureTypes";
 import type { Prediction } from "../engine/trustTypes";
 import type { OptionName } from "../engine/options";
 import { FILE_OPTIONS_HELP, optionFlags, optionHelp, parseArgs, parseHeaderRow, parseList, readBackground, readGivenOption, readOption, type FlagKinds, type ParsedArgs } from "./args";
@@ -101,15 +101,7 @@ interface PredictRequest {
 }
 
 /** The fit's own settings, which skein predict passes to the scan and the fit alike. */
-interface PredictFitOptions {
-  seed: number;
-  intercept: boolean;
-  model: MixtureModel;
-  restarts?: number;
-  tolerance?: number;
-  maxIterations?: number;
-  background: boolean | "auto";
-}
+type PredictFitOptions = Required<Pick<MixtureOptions, "seed" | "intercept" | "model" | "background">> & Pick<MixtureOptions, "restarts" | "tolerance" | "maxIterations">;
 
 /** `skein predict`: returns the exit status; SkeinErrors propagate to main. */
 export async function predictCommand(argv: readonly string[], io: CommandIO): Promise<number> {

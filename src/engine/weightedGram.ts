@@ -349,37 +349,29 @@ export function weighBlock(block: RowBlock, m: number, vector: number): void {
 /**
  * Adds Σ_g x_g v_g over the block's first m rows into out[offset + j], j < q: x from the
  * plain rows (`source` "plain") or the weighted ones, v the per-row value number `vector`.
- * Each sum in dot's association, on either path (the module's "dots", or stridedDot).
+ * Each sum in dot's association, on either path (the module's "dots", or dot itself).
  */
 export function addBlockDots(block: RowBlock, m: number, source: "plain" | "weighted", vector: number, out: Float64Array, offset: number): void {
   if (m === 0) return;
   const { q, qp, kernel, vectors, vectorCount, outAt } = block;
   const rows = source === "plain" ? block.plain : block.weighted;
   if (!kernel) {
-    for (let j = 0; j < q; j++) out[offset + j] += stridedDot(rows, j, qp, vectors, vector, vectorCount, m);
+    // The rows column by column and the values in a column of their own (the column scratch's
+    // second buffer, free between calls), then dot over each.
+    const columns = block.columns as Float64Array;
+    const values = block.weightedColumns as Float64Array;
+    const stride = block.capacity;
+    for (let g = 0; g < m; g++) {
+      values[g] = vectors[g * vectorCount + vector];
+      for (let j = 0; j < q; j++) columns[j * stride + g] = rows[g * qp + j];
+    }
+    for (let j = 0; j < q; j++) out[offset + j] += dot(columns, j * stride, values, 0, m);
     return;
   }
   const dotsAt = outAt + qp * qp;
   kernel.dots(rows.byteOffset, m, qp, 0, vectors.byteOffset + vector * 8, vectorCount * 8, dotsAt * 8);
   const heap = kernel.heap;
   for (let j = 0; j < q; j++) out[offset + j] += heap[dotsAt + j];
-}
-
-/** Σ a[aOffset + i·aStride] b[bOffset + i·bStride] for i < m, in dot's association (four partial sums). */
-function stridedDot(a: Float64Array, aOffset: number, aStride: number, b: Float64Array, bOffset: number, bStride: number, m: number): number {
-  let s0 = 0;
-  let s1 = 0;
-  let s2 = 0;
-  let s3 = 0;
-  let i = 0;
-  for (; i + 3 < m; i += 4) {
-    s0 += a[aOffset + i * aStride] * b[bOffset + i * bStride];
-    s1 += a[aOffset + (i + 1) * aStride] * b[bOffset + (i + 1) * bStride];
-    s2 += a[aOffset + (i + 2) * aStride] * b[bOffset + (i + 2) * bStride];
-    s3 += a[aOffset + (i + 3) * aStride] * b[bOffset + (i + 3) * bStride];
-  }
-  for (; i < m; i++) s0 += a[aOffset + i * aStride] * b[bOffset + i * bStride];
-  return s0 + s1 + (s2 + s3);
 }
 
 /** Σ a[aOffset + i] b[bOffset + i] for i < m, four partial sums to shorten the dependency chain. */
