@@ -9,6 +9,9 @@ import { assembleWeightedGram } from "../scripts/buildWasm.mjs";
 import { membershipsFromLogTerms } from "../src/engine/logDensities";
 import { createRandom } from "../src/engine/random";
 import { meanOuterProduct } from "../src/engine/secondMoment";
+import { createWorkspace } from "../src/engine/mixture/mixtureWorkspace";
+import { createParameters } from "../src/engine/mixture/mixtureParameters";
+import { computeResiduals } from "../src/engine/mixture/eStep";
 import { Matrix } from "ml-matrix";
 
 describe("the weighted-Gram kernel", () => {
@@ -248,5 +251,28 @@ describe("the E-step kernel's memberships from log terms", () => {
     const value = membershipsFromLogTerms(Float64Array.from([-Infinity, -Infinity]), 0, 2, out, 0);
     expect(value).toBe(-Infinity);
     expect(Number.isNaN(out[0]) && Number.isNaN(out[1])).toBe(true);
+  });
+});
+
+describe("the residual kernel's SIMD path (computeResiduals)", () => {
+  it("gives the JavaScript residuals to the bit: odd and even K, with and without an intercept, all rows and a subsample", () => {
+    const problem = noisyProblem(7, 3, 60, createRandom(41));
+    const rows = Int32Array.from({ length: 500 }, (_, t) => (t * 7) % problem.data.n);
+    for (const [k, intercept, subsample] of [[3, true, false], [4, false, false], [5, true, true], [1, false, true]] as Array<[number, boolean, boolean]>) {
+      const outputs: Float64Array[] = [];
+      for (const allowed of [false, true]) {
+        allowSimdKernel(allowed);
+        const ws = createWorkspace(problem.data, k, intercept, false, subsample ? rows : undefined);
+        const params = createParameters(k, ws.q, ws.p, false);
+        const random = createRandom(k + 10);
+        for (let t = 0; t < params.coefficients.length; t++) params.coefficients[t] = 4 * random.next() - 2;
+        computeResiduals(ws, params);
+        outputs.push(ws.residuals.slice());
+      }
+      allowSimdKernel(true);
+      expect(Array.from(outputs[1]), `k = ${k}, intercept ${intercept}, subsample ${subsample}`).toEqual(Array.from(outputs[0]));
+      // Not two arrays of zeros: every residual was written.
+      expect(outputs[1].every((value) => value !== 0 && Number.isFinite(value))).toBe(true);
+    }
   });
 });

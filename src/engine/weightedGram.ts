@@ -116,7 +116,7 @@ function accumulateScalar(weighted: Float64Array, columns: Float64Array, stride:
   return j;
 }
 
-interface SimdKernel {
+export interface SimdKernel {
   memory: WebAssembly.Memory;
   /** A view of the whole memory, made again whenever the memory grows. */
   heap: Float64Array;
@@ -124,6 +124,7 @@ interface SimdKernel {
   dots: (x: number, m: number, qp: number, from: number, v: number, vStride: number, out: number) => void;
   scale: (x: number, m: number, qp: number, v: number, vStride: number, out: number) => void;
   gather: (staged: number, stride: number, ones: number, q: number, qp: number, indices: number, m: number, out: number) => void;
+  residuals: (staged: number, stride: number, ones: number, q: number, coefficients: number, y: number, m: number, k: number, out: number) => void;
 }
 
 /** undefined until first asked for; null when this runtime cannot run the module. */
@@ -140,7 +141,8 @@ export function simdKernelAvailable(): boolean {
   return simdKernel() !== null;
 }
 
-function simdKernel(): SimdKernel | null {
+/** The SIMD module (compiled on first use; the E-step's residuals use it too), or null where it cannot run or is not allowed. */
+export function simdKernel(): SimdKernel | null {
   if (!simdAllowed) return null;
   if (simd !== undefined) return simd;
   simd = null;
@@ -159,6 +161,7 @@ function simdKernel(): SimdKernel | null {
       dots: instance.exports.dots as SimdKernel["dots"],
       scale: instance.exports.scale as SimdKernel["scale"],
       gather: instance.exports.gather as SimdKernel["gather"],
+      residuals: instance.exports.residuals as SimdKernel["residuals"],
     };
   } catch {
     // No WebAssembly, no SIMD, or compilation refused (a content security policy): the scalar path.
@@ -167,7 +170,7 @@ function simdKernel(): SimdKernel | null {
 }
 
 /** Makes the module's memory at least `bytes` long (views made before a growth are void). */
-function reserve(kernel: SimdKernel, bytes: number): void {
+export function reserve(kernel: SimdKernel, bytes: number): void {
   if (kernel.memory.buffer.byteLength >= bytes) return;
   kernel.memory.grow(Math.ceil((bytes - kernel.memory.buffer.byteLength) / 65536));
   kernel.heap = new Float64Array(kernel.memory.buffer);

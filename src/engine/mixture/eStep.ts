@@ -1,6 +1,7 @@
 import type { MixtureParameters } from "./mixtureParameters";
 import type { MixtureWorkspace } from "./mixtureWorkspace";
 import { backgroundLogTerm } from "./backgroundComponent";
+import { reserve, simdKernel } from "../weightedGram";
 
 import { gaussianLogDensity, componentLogConstant, membershipsFromLogTerms } from "../logDensities";
 
@@ -10,10 +11,44 @@ import { gaussianLogDensity, componentLogConstant, membershipsFromLogTerms } fro
  * residuals once.
  */
 export function computeResiduals(ws: MixtureWorkspace, params: MixtureParameters): void {
+  if (residualsInModule(ws, params)) return;
   const { n, q, k, rowValues, rowStride, implicitOnes, y, residuals } = ws;
   const padded = paddedCoefficients(params.coefficients, k, q);
   // Column j of the design is rowValues[rowOffset + j] (after the implicit 1s: mixtureWorkspace.ts).
   for (let i = 0; i < n; i++) rowResiduals(rowValues, i * rowStride - implicitOnes, implicitOnes, q, padded, k, y[i], residuals, i * k);
+}
+
+/**
+ * computeResiduals on the SIMD module where it runs (false, doing nothing, elsewhere): a block
+ * of rows and their responses copied into its memory at a time, two components to a lane
+ * pair, each sum in rowResiduals' order, so the residuals are the same to the bit.
+ */
+function residualsInModule(ws: MixtureWorkspace, params: MixtureParameters): boolean {
+  const kernel = simdKernel();
+  if (!kernel) return false;
+  const { n, q, k, rowValues, rowStride, implicitOnes, y, residuals, blockRows } = ws;
+  const pairs = (k + 1) >> 1;
+  // Memory in doubles: the staged rows, their responses, the coefficients by pairs, the output.
+  const yAt = blockRows * rowStride;
+  const coefficientsAt = yAt + blockRows;
+  const outAt = coefficientsAt + 2 * pairs * q;
+  reserve(kernel, (outAt + blockRows * k) * 8);
+  const heap = kernel.heap;
+  const coefficients = params.coefficients;
+  for (let p = 0; p < pairs; p++) {
+    for (let j = 0; j < q; j++) {
+      heap[coefficientsAt + 2 * (p * q + j)] = coefficients[2 * p * q + j];
+      heap[coefficientsAt + 2 * (p * q + j) + 1] = 2 * p + 1 < k ? coefficients[(2 * p + 1) * q + j] : 0;
+    }
+  }
+  for (let start = 0; start < n; start += blockRows) {
+    const m = Math.min(n, start + blockRows) - start;
+    heap.set(rowValues.subarray(start * rowStride, (start + m) * rowStride), 0);
+    heap.set(y.subarray(start, start + m), yAt);
+    kernel.residuals(0, rowStride, implicitOnes, q, coefficientsAt * 8, yAt * 8, m, k, outAt * 8);
+    residuals.set(heap.subarray(outAt, outAt + m * k), start * k);
+  }
+  return true;
 }
 
 /** Components whose residuals are summed together, each value of a row loaded once for all of them. */
@@ -68,13 +103,15 @@ export function rowResiduals(values: Float64Array, rowOffset: number, implicitOn
  * log τ_ik = log π_k + log φ(y_i; x_iᵀβ_k, σ_k²) [+ log φ(x_i; μ_k, Σ_k) in the joint model,
  * Gershenfeld 1997] − logsumexp over k, through the E-step kernel (logDensities.ts).
  *
- * @param withResiduals compute the residuals at the current coefficients first (row by row, in
- *   the same sweep) instead of reading those computeResiduals stored
+ * @param withResiduals compute the residuals at the current coefficients first (on the SIMD
+ *   module where it runs, else row by row in the same sweep) instead of reading those
+ *   computeResiduals stored
  * @returns the log-likelihood Σ_i log Σ_k π_k φ_ik; the per-row terms go to ws.rowLogLikelihood
  */
 export function eStep(ws: MixtureWorkspace, params: MixtureParameters, withResiduals = false): number {
   const { n, q, k, rowValues, rowStride, implicitOnes, y, residuals, memberships, rowLogLikelihood } = ws;
-  const padded = withResiduals ? paddedCoefficients(params.coefficients, k, q) : null;
+  // The residuals first, on the SIMD module where it runs; elsewhere row by row in this sweep.
+  const padded = withResiduals && !residualsInModule(ws, params) ? paddedCoefficients(params.coefficients, k, q) : null;
   const logTerm = ws.rowScratch;
   // Per-component constants: log π_k − ½ ln(2π σ_k²) and −1/(2σ_k²).
   const constant = new Float64Array(k);
@@ -94,7 +131,7 @@ export function eStep(ws: MixtureWorkspace, params: MixtureParameters, withResid
   let total = 0;
   for (let i = 0; i < n; i++) {
     const offset = i * k;
-    // Fused with computeResiduals: one sweep of the design per iteration instead of two.
+    // Without the SIMD module, fused with computeResiduals: one sweep of the design per iteration instead of two.
     if (padded) rowResiduals(rowValues, i * rowStride - implicitOnes, implicitOnes, q, padded, k, y[i], residuals, offset);
     for (let c = 0; c < k; c++) {
       const r = residuals[offset + c];

@@ -1,5 +1,6 @@
-;; The weighted-Gram kernel's 128-bit SIMD path (weightedGram.ts). Assembled by
-;; scripts/buildWasm.mjs into weightedGramModule.ts; a test checks the two agree.
+;; The 128-bit SIMD path of the weighted-Gram kernel (weightedGram.ts) and of the E-step's
+;; residuals (mixture/eStep.ts). Assembled by scripts/buildWasm.mjs into weightedGramModule.ts;
+;; a test checks the two agree.
 ;;
 ;; Every entry is one running sum over the rows in order, two entries to a 128-bit lane pair,
 ;; multiply then add (never fused): each sum is the same, to the bit, as the scalar kernel's.
@@ -185,6 +186,52 @@
             (local.set $out (i32.add (local.get $out) (i32.const 8)))
             (local.set $j (i32.add (local.get $j) (i32.const 1)))
             (br $zeros)))
+        (local.set $g (i32.add (local.get $g) (i32.const 1)))
+        (br $rows))))
+
+  ;; Residuals y − xᵀβ of m staged rows (stride doubles a row, after `ones` implicit 1s) under
+  ;; k components, two components to a lane pair: out[g·k + c] for g < m, c < k. The
+  ;; coefficients are interleaved by pairs: β_{2p, j} and β_{2p+1, j} at coefficients +
+  ;; (p·q + j)·16 (a zero component pads an odd k). Each sum starts at 0, adds the implicit
+  ;; 1s' coefficients, then x_j·β_j for j in order, multiply then add: the JavaScript
+  ;; rowResiduals' sums to the bit.
+  (func (export "residuals") (param $staged i32) (param $stride i32) (param $ones i32) (param $q i32) (param $coefficients i32) (param $y i32) (param $m i32) (param $k i32) (param $out i32)
+    (local $g i32) (local $p i32) (local $j i32) (local $row i32) (local $pc i32) (local $po i32) (local $s v128) (local $r v128)
+    (local.set $g (i32.const 0))
+    (block $rowsDone
+      (loop $rows
+        (br_if $rowsDone (i32.ge_u (local.get $g) (local.get $m)))
+        (local.set $pc (local.get $coefficients))
+        (local.set $po (i32.add (local.get $out) (i32.shl (i32.mul (local.get $g) (local.get $k)) (i32.const 3))))
+        (local.set $p (i32.const 0))
+        (block $pairsDone
+          (loop $pairs
+            (br_if $pairsDone (i32.ge_u (local.get $p) (local.get $k)))
+            (local.set $s (v128.const i64x2 0 0))
+            (local.set $j (i32.const 0))
+            (block $onesDone
+              (loop $onesLoop
+                (br_if $onesDone (i32.ge_u (local.get $j) (local.get $ones)))
+                (local.set $s (f64x2.add (local.get $s) (v128.load (local.get $pc))))
+                (local.set $pc (i32.add (local.get $pc) (i32.const 16)))
+                (local.set $j (i32.add (local.get $j) (i32.const 1)))
+                (br $onesLoop)))
+            (local.set $row (i32.add (local.get $staged) (i32.shl (i32.mul (local.get $g) (local.get $stride)) (i32.const 3))))
+            (block $valuesDone
+              (loop $values
+                (br_if $valuesDone (i32.ge_u (local.get $j) (local.get $q)))
+                (local.set $s (f64x2.add (local.get $s) (f64x2.mul (v128.load64_splat (local.get $row)) (v128.load (local.get $pc)))))
+                (local.set $row (i32.add (local.get $row) (i32.const 8)))
+                (local.set $pc (i32.add (local.get $pc) (i32.const 16)))
+                (local.set $j (i32.add (local.get $j) (i32.const 1)))
+                (br $values)))
+            (local.set $r (f64x2.sub (v128.load64_splat (i32.add (local.get $y) (i32.shl (local.get $g) (i32.const 3)))) (local.get $s)))
+            (f64.store (local.get $po) (f64x2.extract_lane 0 (local.get $r)))
+            (if (i32.lt_u (i32.add (local.get $p) (i32.const 1)) (local.get $k))
+              (then (f64.store offset=8 (local.get $po) (f64x2.extract_lane 1 (local.get $r)))))
+            (local.set $po (i32.add (local.get $po) (i32.const 16)))
+            (local.set $p (i32.add (local.get $p) (i32.const 2)))
+            (br $pairs)))
         (local.set $g (i32.add (local.get $g) (i32.const 1)))
         (br $rows))))
 )
