@@ -224,10 +224,9 @@ let lastBlock: RowBlock | null = null;
  * the path is the same and the module's memory has not grown).
  * Every row block shares the same memory, as does the E-step's residual pass (eStep.ts): take
  * it afresh for every pass, and fill and sum it without another user of the module in between
- * (none of them nests). Row blocks from
- * any q use the SIMD path where it runs: on 21 noisy sheets of 2-10 predictors, fitted
- * interleaved, M-steps on row blocks from 1, 4 and 8 columns took 0.90-0.94 of the time of
- * row blocks from 16 columns only.
+ * (none of them nests). Row blocks from any q use the SIMD path where it runs: on 21 noisy
+ * sheets of 2-10 predictors, fitted interleaved, M-steps on row blocks from 1, 4 and 8
+ * columns took 0.90-0.94 of the time of row blocks from 16 columns only.
  */
 export function rowBlock(q: number, capacity: number, vectorCount = 1, stagedStride = 0): RowBlock {
   const kernel = simdKernel();
