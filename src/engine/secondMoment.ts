@@ -1,5 +1,5 @@
 import type { RegressionData } from "./mixtureTypes";
-import { addBlockGram, blockRowsFor, rowBlock } from "./weightedGram";
+import { addBlockGram, blockRowsFor, gatherRows, rowBlock, stageRows, weighBlock } from "./weightedGram";
 
 /**
  * Ê[xxᵀ] = (1/n) Σ_i x̃_i x̃_iᵀ over the rows, with x̃_i = (1, x_i): (p + 1) x (p + 1) row-major,
@@ -21,29 +21,17 @@ export function meanOuterProduct(x: Float64Array, n: number, p: number, weights:
   const size = p + offset;
   const moment = new Float64Array(size * size);
   const blockRows = blockRowsFor(size);
-  const block = rowBlock(size, blockRows, 0);
-  const { plain, weighted, qp } = block;
+  // Each block's rows staged once and gathered in order (after the leading 1), then weighed by
+  // w: unweighted, w = 1 and 1·x is x itself, to the bit.
+  const block = rowBlock(size, blockRows, 1, p);
+  const { indices, vectors } = block;
+  for (let r = 0; r < blockRows; r++) indices[r] = r;
   for (let start = 0; start < n; start += blockRows) {
     const m = Math.min(n, start + blockRows) - start;
-    for (let r = 0; r < m; r++) {
-      // Unweighted, w = 1 and w·x is x itself, to the bit.
-      const w = weights ? weights[start + r] : 1;
-      const base = r * qp;
-      const from = (start + r) * p;
-      if (leadingOne) {
-        plain[base] = 1;
-        weighted[base] = w;
-      }
-      for (let j = 0; j < p; j++) {
-        const value = x[from + j];
-        plain[base + offset + j] = value;
-        weighted[base + offset + j] = w * value;
-      }
-      for (let j = size; j < qp; j++) {
-        plain[base + j] = 0;
-        weighted[base + j] = 0;
-      }
-    }
+    stageRows(block, x, start, start + m);
+    for (let r = 0; r < m; r++) vectors[r] = weights ? weights[start + r] : 1;
+    gatherRows(block, m, offset);
+    weighBlock(block, m, 0);
     addBlockGram(block, m, moment, 0);
   }
   for (let a = 0; a < size; a++) {
