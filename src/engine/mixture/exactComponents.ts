@@ -144,17 +144,27 @@ function exactFitByHardAssignment(ws: MixtureWorkspace, params: MixtureParameter
 
 /**
  * Components whose variance is already far below the data's refitted by least squares on the
- * rows within SNAP_WIDTH of their SDs, SNAP_ROUNDS times (trimmed least squares): on noiseless
- * data those rows are the component's own, so the refit is exact to rounding. Null when no
- * component qualifies.
+ * rows within SNAP_WIDTH of their SDs (snapComponents). Null when no component qualifies.
  */
 function snapNearExactComponents(ws: MixtureWorkspace, params: MixtureParameters, guards: Guards): MixtureParameters | null {
-  const { n, q, k } = ws;
+  const near: number[] = [];
+  for (let c = 0; c < params.k; c++) if (nearExact(params.variances[c], ws)) near.push(c);
+  return snapComponents(ws, params, near, (c) => SNAP_WIDTH * Math.sqrt(params.variances[c]), guards);
+}
+
+/**
+ * The listed components refitted by least squares on the rows within `firstWidth(c)` of them,
+ * SNAP_ROUNDS times (trimmed least squares), each round's width SNAP_WIDTH times the last
+ * refit's SD but never below the exact tolerance: on noiseless data those rows are the
+ * component's own, so the refit is exact to rounding and then fits every one of its rows. Null
+ * when no listed component had enoughRows(q) rows to refit on.
+ */
+export function snapComponents(ws: MixtureWorkspace, params: MixtureParameters, components: readonly number[], firstWidth: (c: number) => number, guards: Guards): MixtureParameters | null {
+  const { n, q } = ws;
   const coefficients = params.coefficients.slice();
   let snapped = false;
-  for (let c = 0; c < k; c++) {
-    if (!nearExact(params.variances[c], ws)) continue;
-    let width = SNAP_WIDTH * Math.sqrt(params.variances[c]);
+  for (const c of components) {
+    let width = firstWidth(c);
     for (let round = 0; round < SNAP_ROUNDS; round++) {
       const rows: number[] = [];
       for (let i = 0; i < n; i++) {

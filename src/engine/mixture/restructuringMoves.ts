@@ -5,7 +5,7 @@ import type { MixtureParameters } from "./mixtureParameters";
 import type { MixtureWorkspace } from "./mixtureWorkspace";
 import { computeResiduals, eStep } from "./eStep";
 import { parametersFromCoefficients } from "./starts";
-import { enoughRows, exactComponentsOf, exactTolerance } from "./exactComponents";
+import { enoughRows, exactComponentsOf, exactTolerance, snapComponents } from "./exactComponents";
 
 /**
  * Moves that restructure a fit by fitting part of it afresh on a subset of rows: exact
@@ -30,11 +30,15 @@ const SPLIT_RESTARTS = 3;
  * fit; K-lines is much easier with fewer lines. Returns combined coefficients as a start on
  * `ws`, or null when there is nothing to peel.
  */
-export function peelExactComponents(ctx: FitContext, ws: MixtureWorkspace, params: MixtureParameters, rowMap: Int32Array | null): MixtureParameters | null {
+export function peelExactComponents(ctx: FitContext, ws: MixtureWorkspace, fit: MixtureParameters, rowMap: Int32Array | null): MixtureParameters | null {
   const { n, k } = ws;
   const threshold = exactTolerance(ws);
-  const exact = exactComponentsOf(ws, params);
+  const exact = exactComponentsOf(ws, fit);
   if (exact.length === 0 || exact.length === k) return null;
+  // An exact component of an EM fit may still miss some of its own rows by more than the
+  // tolerance; refitted on the rows it fits, it fits them all, and none is left behind.
+  const params = snapComponents(ws, fit, exact, () => threshold, ctx.guards) ?? fit;
+  computeResiduals(ws, params);
   const remaining: number[] = [];
   for (let i = 0; i < n; i++) {
     let fitted = false;
