@@ -9,7 +9,7 @@ import { mStepCoefficients, mStepVariances, mStepVariancesFromGram } from "../sr
 import { computeResiduals } from "../src/engine/mixture/eStep";
 import { generateProblem } from "../src/synthetic/generateProblems";
 import { ConcentrationSteps } from "../src/engine/mixture/concentrationSteps";
-import { enoughRows, exactComponentsOf } from "../src/engine/mixture/exactComponents";
+import { enoughRows, exactComponentsOf, exactTolerance, PEEL_SNAP_ROUNDS, snapComponents, stopOnExactGain } from "../src/engine/mixture/exactComponents";
 import { parametersFromCoefficients } from "../src/engine/mixture/starts";
 import { createGuards } from "../src/engine/mixture/mixtureSettings";
 import type { RegressionData } from "../src/engine/mixtureTypes";
@@ -213,5 +213,105 @@ describe("exact components (the one tolerance and the one enough-rows rule)", ()
     expect(exactComponentsOf(ws, params)).toEqual([0]);
     coefficients.set(b, q);
     expect(exactComponentsOf(ws, parametersFromCoefficients(ws, coefficients, createGuards(q, ws.yVariance)))).toEqual([0, 1]);
+  });
+});
+
+describe("snapping a component counted exact onto all of its rows", () => {
+  // Invented noiseless data: 300 rows on y = xᵀa and 200 on y = xᵀb, x standard normal in 6
+  // dimensions, and one more row of b that the estimate of a below misses by 0.9 of the exact
+  // tolerance (a stray row).
+  function nearExactStart(): { data: RegressionData; a: Float64Array; estimate: Float64Array; q: number } {
+    const random = createRandom(47);
+    const q = 6;
+    const n = 501;
+    const a = Float64Array.from({ length: q }, () => random.normal());
+    const b = Float64Array.from({ length: q }, () => random.normal());
+    // The estimate of a: off by 2e-5 of |a| in one coordinate, so that only the few rows with
+    // a small value there fall within the exact tolerance, as when a component of many
+    // coefficients has just come near exact.
+    const estimate = a.slice();
+    estimate[0] += 2e-5 * Math.hypot(...a);
+    const x = new Float64Array(n * q);
+    const y = new Float64Array(n);
+    for (let i = 0; i < n; i++) {
+      const beta = i < 300 ? a : b;
+      for (let j = 0; j < q; j++) x[i * q + j] = random.normal();
+      if (i === n - 1) {
+        // Move the row along d = b − estimate until xᵀb − xᵀestimate is 0.9 of the tolerance
+        // (1e-6 of SD(y), here taken from the other rows).
+        const mean = y.subarray(0, i).reduce((sum, v) => sum + v, 0) / i;
+        const sd = Math.sqrt(y.subarray(0, i).reduce((sum, v) => sum + (v - mean) ** 2, 0) / i);
+        const d = b.map((v, j) => v - estimate[j]);
+        const dd = d.reduce((sum, v) => sum + v * v, 0);
+        const gap = d.reduce((sum, v, j) => sum + v * x[i * q + j], 0);
+        for (let j = 0; j < q; j++) x[i * q + j] += ((0.9e-6 * sd - gap) / dd) * d[j];
+      }
+      for (let j = 0; j < q; j++) y[i] += x[i * q + j] * beta[j];
+    }
+    return { data: { x, y, n, p: q }, a, estimate, q };
+  }
+
+  function rowsWithin(ws: ReturnType<typeof createWorkspace>, c: Float64Array, width: number): number {
+    let count = 0;
+    for (let i = 0; i < ws.n; i++) {
+      let fitted = 0;
+      for (let j = 0; j < ws.q; j++) fitted += ws.design[i * ws.q + j] * c[j];
+      if (Math.abs(ws.y[i] - fitted) <= width) count++;
+    }
+    return count;
+  }
+
+  it("ends exact on all 300 rows of a though a row of b lay within the tolerance at the start", () => {
+    const { data, a, estimate, q } = nearExactStart();
+    const ws = createWorkspace(data, 1, false, false);
+    const tolerance = exactTolerance(ws);
+    const guards = createGuards(q, ws.yVariance);
+    const start = parametersFromCoefficients(ws, estimate, guards);
+    const before = rowsWithin(ws, estimate, tolerance);
+    // The start fits some of a's rows and the stray row within the tolerance, not all of them.
+    expect(before).toBeGreaterThanOrEqual(enoughRows(q));
+    expect(before).toBeLessThan(300);
+    // One refit keeps the stray row and stays off a (the reason for the further rounds; here
+    // the rows within the tolerance grow 15, 17, 20, 22, 69, then all 300).
+    const once = snapComponents(ws, start, [0], () => tolerance, guards, 1)!;
+    expect(rowsWithin(ws, once.coefficients, tolerance)).toBeLessThan(300);
+    const snapped = snapComponents(ws, start, [0], () => tolerance, guards, PEEL_SNAP_ROUNDS)!;
+    expect(rowsWithin(ws, snapped.coefficients, tolerance)).toBe(300);
+    for (let j = 0; j < q; j++) expect(Math.abs(snapped.coefficients[j] - a[j])).toBeLessThan(1e-12);
+  });
+});
+
+describe("a run that stops once it has fitted more components exactly", () => {
+  it("stops 30 iterations after the count rose, counting every 10 iterations, and not before", () => {
+    // The three-line data of the exact-components test above, rebuilt: 40 rows on a, 30 on b.
+    const random = createRandom(53);
+    const p = 4;
+    const [a, b] = [0, 1].map(() => Float64Array.from({ length: p }, () => random.normal()));
+    const n = 70;
+    const x = new Float64Array(n * p);
+    const y = new Float64Array(n);
+    for (let i = 0; i < n; i++) {
+      for (let j = 0; j < p; j++) {
+        x[i * p + j] = random.normal();
+        y[i] += x[i * p + j] * (i < 40 ? a : b)[j];
+      }
+    }
+    const ws = createWorkspace({ x, y, n, p }, 2, false, false);
+    const guards = createGuards(p, ws.yVariance);
+    const coefficients = new Float64Array(2 * p);
+    coefficients.set(a, 0);
+    coefficients.set(b.map((v) => v * 1.1), p);
+    const params = parametersFromCoefficients(ws, coefficients, guards);
+    const stop = stopOnExactGain(ws, params);
+    const ask = (): boolean => stop(0, Infinity);
+    // Only a is exact: no gain, however long the run.
+    for (let iteration = 1; iteration <= 60; iteration++) expect(ask()).toBe(false);
+    // The run (which updates params in place) lands b: the count rises at the next check
+    // (iteration 70) and must then hold for 30 iterations (checks at 80, 90, 100).
+    params.coefficients.set(b, p);
+    const answers: boolean[] = [];
+    for (let iteration = 61; iteration <= 100; iteration++) answers.push(ask());
+    expect(answers.slice(0, 39).every((answer) => !answer)).toBe(true);
+    expect(answers[39]).toBe(true);
   });
 });

@@ -8,7 +8,7 @@ import type { MixtureWorkspace } from "./mixtureWorkspace";
 import type { Guards } from "./mStep";
 import { ConcentrationSteps } from "./concentrationSteps";
 import { parametersFromCoefficients } from "./starts";
-import { runEm } from "./runEm";
+import { runEm, type EmStop } from "./runEm";
 import { computeResiduals } from "./eStep";
 
 /**
@@ -49,6 +49,12 @@ export function exactTolerance(ws: MixtureWorkspace): number {
 const SNAP_WIDTH = 4;
 /** Trimmed refits per near-exact component: the second uses the first's far smaller SD. */
 const SNAP_ROUNDS = 2;
+/**
+ * Trimmed refits of a component counted exact before its rows are set aside (exact peeling):
+ * with barely more rows than coefficients in the first refit, a stray row of another
+ * component can hold the refit off for a few rounds (test/mixturePhases.test.ts: five).
+ */
+export const PEEL_SNAP_ROUNDS = 8;
 /** Hard-assignment steps tried: from inside its basin alternating least squares settles in a few; 50 leave room for slow last movers. */
 const EXACT_POLISH_ITERATIONS = 50;
 /**
@@ -81,6 +87,33 @@ export function exactComponentsOf(ws: MixtureWorkspace, params: MixtureParameter
   const exact: number[] = [];
   for (let c = 0; c < k; c++) if (exactRows[c] >= enoughRows(q)) exact.push(c);
   return exact;
+}
+
+/** Iterations between counts of the exact components in a run that stops once it has gained one (stopOnExactGain). */
+const GAIN_CHECK_INTERVAL = 10;
+/** Iterations the raised count must hold before the run stops: one newly exact component often brings others soon after. */
+const GAIN_SETTLE_ITERATIONS = 30;
+
+/**
+ * A stop for a run from `params` (updated in place by the run) that ends it once it has fitted
+ * more components exactly than it started with and that count has held for
+ * GAIN_SETTLE_ITERATIONS: the caller then peels the new exact components, which costs far less
+ * than the hundreds of iterations EM may still spend on the others without changing them
+ * (in d = 100 sub-problems, 400 or more).
+ */
+export function stopOnExactGain(ws: MixtureWorkspace, params: MixtureParameters): EmStop {
+  const start = exactComponentsOf(ws, params).length;
+  let iteration = 0;
+  let last = start;
+  let held = 0;
+  return () => {
+    if (++iteration % GAIN_CHECK_INTERVAL !== 0) return false;
+    // Recomputes the residuals of the same parameters the run's last E-step used.
+    const count = exactComponentsOf(ws, params).length;
+    held = count === last ? held + GAIN_CHECK_INTERVAL : 0;
+    last = count;
+    return count > start && held >= GAIN_SETTLE_ITERATIONS;
+  };
 }
 
 /**
@@ -154,18 +187,20 @@ function snapNearExactComponents(ws: MixtureWorkspace, params: MixtureParameters
 
 /**
  * The listed components refitted by least squares on the rows within `firstWidth(c)` of them,
- * SNAP_ROUNDS times (trimmed least squares), each round's width SNAP_WIDTH times the last
- * refit's SD but never below the exact tolerance: on noiseless data those rows are the
- * component's own, so the refit is exact to rounding and then fits every one of its rows. Null
- * when no listed component had enoughRows(q) rows to refit on.
+ * then again on the rows within SNAP_WIDTH times the last refit's SD (never below the exact
+ * tolerance), up to `rounds` refits or until the rows stay the same (trimmed least squares):
+ * on noiseless data a stray row of another component that lay within the first width drops
+ * out as the refit closes in, and the component ends exact to rounding, fitting every one of
+ * its rows. Null when no listed component had enoughRows(q) rows to refit on.
  */
-export function snapComponents(ws: MixtureWorkspace, params: MixtureParameters, components: readonly number[], firstWidth: (c: number) => number, guards: Guards): MixtureParameters | null {
+export function snapComponents(ws: MixtureWorkspace, params: MixtureParameters, components: readonly number[], firstWidth: (c: number) => number, guards: Guards, rounds = SNAP_ROUNDS): MixtureParameters | null {
   const { n, q } = ws;
   const coefficients = params.coefficients.slice();
   let snapped = false;
   for (const c of components) {
     let width = firstWidth(c);
-    for (let round = 0; round < SNAP_ROUNDS; round++) {
+    let previous: number[] = [];
+    for (let round = 0; round < rounds; round++) {
       const rows: number[] = [];
       for (let i = 0; i < n; i++) {
         let fitted = 0;
@@ -173,7 +208,8 @@ export function snapComponents(ws: MixtureWorkspace, params: MixtureParameters, 
         if (Math.abs(ws.y[i] - fitted) <= width) rows.push(i);
       }
       // Any q rows are fitted exactly by some vector: only clearly more identify the component.
-      if (rows.length < enoughRows(q)) break;
+      if (rows.length < enoughRows(q) || sameRows(rows, previous)) break;
+      previous = rows;
       const chosen = gatherRows(ws.design, q, ws.y, rows);
       let fit: ReturnType<typeof leastSquares>;
       try {
@@ -187,6 +223,10 @@ export function snapComponents(ws: MixtureWorkspace, params: MixtureParameters, 
     }
   }
   return snapped ? parametersFromCoefficients(ws, coefficients, guards) : null;
+}
+
+function sameRows(a: readonly number[], b: readonly number[]): boolean {
+  return a.length === b.length && a.every((row, t) => row === b[t]);
 }
 
 /**

@@ -5,7 +5,7 @@ import type { MixtureParameters } from "./mixtureParameters";
 import type { MixtureWorkspace } from "./mixtureWorkspace";
 import { computeResiduals, eStep } from "./eStep";
 import { parametersFromCoefficients } from "./starts";
-import { enoughRows, exactComponentsOf, exactTolerance, snapComponents } from "./exactComponents";
+import { enoughRows, exactComponentsOf, exactTolerance, PEEL_SNAP_ROUNDS, snapComponents } from "./exactComponents";
 
 /**
  * Moves that restructure a fit by fitting part of it afresh on a subset of rows: exact
@@ -35,9 +35,11 @@ export function peelExactComponents(ctx: FitContext, ws: MixtureWorkspace, fit: 
   const threshold = exactTolerance(ws);
   const exact = exactComponentsOf(ws, fit);
   if (exact.length === 0 || exact.length === k) return null;
-  // An exact component of an EM fit may still miss some of its own rows by more than the
-  // tolerance; refitted on the rows it fits, it fits them all, and none is left behind.
-  const params = snapComponents(ws, fit, exact, () => threshold, ctx.guards) ?? fit;
+  // A component counted exact (enoughRows within the tolerance) may be near exact only and
+  // miss many of its own rows; refitted on the rows it fits (and again as those grow, a stray
+  // row of another component dropping out), it fits them all, and none is left behind for a
+  // sub-problem with too few components for them.
+  const params = snapComponents(ws, fit, exact, () => threshold, ctx.guards, PEEL_SNAP_ROUNDS) ?? fit;
   computeResiduals(ws, params);
   const remaining: number[] = [];
   for (let i = 0; i < n; i++) {

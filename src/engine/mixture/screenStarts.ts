@@ -11,7 +11,7 @@ import { computeResiduals } from "./eStep";
 import { factorPredictorCovariances, mStepCoefficients, mStepVariances, type Guards } from "./mStep";
 import { reseedComponent } from "./reseedComponent";
 import { locationSeedingLabels, parametersFromCoefficients, randomPartitionLabels, residualSeedingLabels, setHardMemberships } from "./starts";
-import { exactComponentsOf, isNoiseless, landOnExactFit, SHORT_ITERATIONS } from "./exactComponents";
+import { exactComponentsOf, isNoiseless, landOnExactFit, SHORT_ITERATIONS, stopOnExactGain } from "./exactComponents";
 import { peelExactComponents } from "./restructuringMoves";
 import { allFoundAlike, bestFoundTwice } from "./compareFits";
 import { runEm } from "./runEm";
@@ -207,21 +207,27 @@ function* startSources(ctx: FitContext, screen: ScreenState, cheapFirst: boolean
 
 /**
  * One start: a short EM run, landing on an exact fit when it heads for one, then exact peeling
- * when some of its components are exact and others not (decisive on noiseless data). Null
- * when the run fails.
+ * when some of its components are exact and others not (decisive on noiseless data), repeated
+ * while the refinement after a peel fits more components exactly. Null when the run fails.
  */
 function screenStart(ctx: FitContext, method: string, start: MixtureParameters, extraIterations: number): Candidate | null {
   const ws = ctx.working;
   const shortRun = runEm(ws, start, ctx, SHORT_ITERATIONS);
   const { params, run, peelFrom } = landOnExactFit(ctx, start, shortRun, extraIterations);
   if (!Number.isFinite(run.logLikelihood)) return null;
-  const candidate: Candidate = { method, params, logLikelihood: run.logLikelihood };
+  let candidate: Candidate = { method, params, logLikelihood: run.logLikelihood };
   if (isNoiseless(params, ws)) return candidate;
-  const peeled = peelExactComponents(ctx, ws, peelFrom, ctx.subsampleRows);
-  if (!peeled) return candidate;
-  const peeledRun = runEm(ws, peeled, ctx, ctx.settings.maxIterations);
-  if (!(peeledRun.logLikelihood > candidate.logLikelihood)) return candidate;
-  return { method: `${method}+exact-peeling`, params: peeled, logLikelihood: peeledRun.logLikelihood };
+  let from = peelFrom;
+  for (let round = 0; round < ws.k; round++) {
+    const peeled = peelExactComponents(ctx, ws, from, ctx.subsampleRows);
+    if (!peeled) break;
+    const peeledRun = runEm(ws, peeled, ctx, ctx.settings.maxIterations, null, { stop: stopOnExactGain(ws, peeled) });
+    if (!(peeledRun.logLikelihood > candidate.logLikelihood)) break;
+    candidate = { method: `${method}+exact-peeling`, params: peeled, logLikelihood: peeledRun.logLikelihood };
+    if (!peeledRun.stopped) break;
+    from = peeled;
+  }
+  return candidate;
 }
 
 /** The rows the moment warm start sees: all working rows, or a seeded subsample of large inputs. */
