@@ -9,6 +9,7 @@ import { mStepCoefficients, mStepVariances, mStepVariancesFromGram } from "../sr
 import { computeResiduals } from "../src/engine/mixture/eStep";
 import { generateProblem } from "../src/synthetic/generateProblems";
 import { ConcentrationSteps } from "../src/engine/mixture/concentrationSteps";
+import { peelOrder } from "../src/engine/mixture/restructure";
 import { enoughRows, exactComponentsOf, exactTolerance, PEEL_SNAP_ROUNDS, snapComponents, stopOnExactGain } from "../src/engine/mixture/exactComponents";
 import { parametersFromCoefficients } from "../src/engine/mixture/starts";
 import { createGuards } from "../src/engine/mixture/mixtureSettings";
@@ -313,5 +314,17 @@ describe("a run that stops once it has fitted more components exactly", () => {
     for (let iteration = 61; iteration <= 100; iteration++) answers.push(ask());
     expect(answers.slice(0, 39).every((answer) => !answer)).toBe(true);
     expect(answers[39]).toBe(true);
+  });
+});
+
+describe("the components peeling may keep", () => {
+  it("are the exact ones when some component is exact, else the smallest noise SDs first", () => {
+    const params = createParameters(4, 2, 2, false);
+    params.variances.set([0.3, 1e-2, 1e-20, 0.05]);
+    // Component 1 has the second smallest SD but is not exact: in noiseless data its rows are
+    // several groups', so it is not tried while component 2 is exact.
+    expect(peelOrder(params, [2])).toEqual([2]);
+    expect(peelOrder(params, [])).toEqual([2, 1]);
+    expect(peelOrder(params, [0, 2])).toEqual([2, 0]);
   });
 });

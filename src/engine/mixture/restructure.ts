@@ -10,7 +10,14 @@ import { checkSignal } from "../errors";
 const MAX_SPLIT_ROUNDS = 3;
 /** Components tried for a split per round, largest unexplained variance n_k σ_k² first. */
 const SPLIT_CANDIDATES = 3;
-/** Components tried as the one kept by peeling, smallest noise SD first. */
+/**
+ * Components tried as the one kept by peeling, smallest noise SD first; when some component
+ * is exact, only exact ones: in noiseless data a component that is not exact holds rows of
+ * several groups, so the rows near it are not one group's, and the sub-problem would be left
+ * with rows of more groups than components (on d = 50, K = 7 fits at 3-6 rows per predictor
+ * per component, measured interleaved with the code before: 0.99 of the time, the same
+ * recoveries, the slowest 6-row bench problem 9.1 s to 6.7 s).
+ */
 const PEEL_CANDIDATES = 2;
 /** Sub-problem depth below which noisy peeling may run (the user's fit and one level of sub-problems). */
 const MAX_PEELING_DEPTH = 2;
@@ -33,7 +40,7 @@ export function restructure(ctx: FitContext, incumbent: Incumbent): number {
     }
   }
   if (ctx.depth < MAX_PEELING_DEPTH && !isNoiseless(incumbent.best.params, ctx.working)) {
-    tryMoves(ctx, incumbent, "peeling", peelOrder(incumbent.best.params), (keep) => peelComponent(ctx, ctx.working, incumbent.best.params, keep, ctx.subsampleRows));
+    tryMoves(ctx, incumbent, "peeling", peelOrder(incumbent.best.params, exactComponentsOf(ctx.working, incumbent.best.params)), (keep) => peelComponent(ctx, ctx.working, incumbent.best.params, keep, ctx.subsampleRows));
   }
   return splits;
 }
@@ -66,8 +73,8 @@ function splitOrder(params: MixtureParameters): number[] {
   return order.slice(0, SPLIT_CANDIDATES);
 }
 
-function peelOrder(params: MixtureParameters): number[] {
-  const order = Array.from({ length: params.k }, (_, c) => c);
+export function peelOrder(params: MixtureParameters, exact: number[]): number[] {
+  const order = exact.length > 0 ? exact.slice() : Array.from({ length: params.k }, (_, c) => c);
   order.sort((a, b) => params.variances[a] - params.variances[b] || a - b);
   return order.slice(0, PEEL_CANDIDATES);
 }
