@@ -52,7 +52,8 @@ const SNAP_ROUNDS = 2;
 /**
  * Trimmed refits of a component counted exact before its rows are set aside (exact peeling):
  * with barely more rows than coefficients in the first refit, a stray row of another
- * component can hold the refit off for a few rounds (test/mixturePhases.test.ts: five).
+ * component can hold the refit off for a few rounds (in test/mixturePhases.test.ts it is
+ * exact after the fifth refit).
  */
 export const PEEL_SNAP_ROUNDS = 8;
 /** Hard-assignment steps tried: from inside its basin alternating least squares settles in a few; 50 leave room for slow last movers. */
