@@ -284,7 +284,8 @@ describe("snapping a component counted exact onto all of its rows", () => {
 
 describe("a run that stops once it has fitted more components exactly", () => {
   it("stops 30 iterations after the count rose, counting every 10 iterations, and not before", () => {
-    // The three-line data of the exact-components test above, rebuilt: 40 rows on a, 30 on b.
+    // Invented noiseless data: 40 rows on y = xᵀa and 30 on y = xᵀb, x standard normal in 4
+    // dimensions (no intercept).
     const random = createRandom(53);
     const p = 4;
     const [a, b] = [0, 1].map(() => Float64Array.from({ length: p }, () => random.normal()));

@@ -39,8 +39,9 @@ export function peelExactComponents(ctx: FitContext, ws: MixtureWorkspace, fit: 
   // miss many of its own rows; refitted on the rows it fits (and again as those grow, a stray
   // row of another component dropping out), it fits them all, and none is left behind for a
   // sub-problem with too few components for them.
+  // ws.residuals are those of `params` either way: exactComponentsOf left fit's, and the
+  // snapped parameters' were computed when they were made (parametersFromCoefficients).
   const params = snapComponents(ws, fit, exact, () => threshold, ctx.guards, PEEL_SNAP_ROUNDS) ?? fit;
-  computeResiduals(ws, params);
   const remaining: number[] = [];
   for (let i = 0; i < n; i++) {
     let fitted = false;
