@@ -5,6 +5,7 @@ import * as path from "path";
 import ExcelJS from "exceljs";
 import certifiedFile from "./fixtures/longley-certified.json";
 import { runCli, type CliRun as Run } from "./support/runCli";
+import { partlyExactRows } from "./support/partlyExact";
 
 const LONGLEY = path.join(__dirname, "fixtures", "longley.csv");
 const LONGLEY_PREDICTORS = "GNPDEFL,GNP,UNEMP,ARMED,POP,YEAR";
@@ -131,6 +132,17 @@ describe("skein fit on small files", () => {
     expect(result.stdout).toContain("Converged: no (1 iteration).");
     expect(result.stdout).toMatch(/Not converged: .*allow more iterations with --max-iterations\./);
     expect(result.stdout).not.toMatch(/max_iterations|loosen tolerance/);
+  });
+
+  it("a fit exact on some components only says so, and its advice names --restarts", async () => {
+    const { x, y } = partlyExactRows();
+    const file = await writeFile("partly-exact.csv", `x,y\n${Array.from(x, (v, i) => `${v},${y[i]}`).join("\n")}\n`);
+    const result = await run("fit", file, "--y", "y", "--k", "2", "--json");
+    expect(result.status).toBe(0);
+    const warnings: string[] = JSON.parse(result.stdout).warnings;
+    const partly = warnings.find((w) => w.startsWith("Partly exact:"));
+    expect(partly).toMatch(/^Partly exact: 1 component fits 120 rows exactly, .* try another seed, or more restarts with --restarts\.$/);
+    expect(warnings.some((w) => /Try fewer components/.test(w))).toBe(false);
   });
 
   it("skips rows with text and blanks, reporting 1-based data rows, and labels them null", async () => {

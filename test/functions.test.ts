@@ -1,5 +1,6 @@
 import { afterEach, beforeAll, describe, expect, it } from "vitest";
 import { createRandom } from "../src/engine/random";
+import { partlyExactRows } from "./support/partlyExact";
 import { SkeinError } from "../src/engine/errors";
 import { check, fit, labels, membership, predict, scan } from "../src/functions/functions";
 import { engineCallCounts } from "../src/service/engineRunner";
@@ -377,6 +378,15 @@ describe("SKEIN.CHECK", () => {
     expect(typeof result.find((r) => r[0] === "starts agree")![1]).toBe("boolean");
     const notConverged = result.find((r) => r[0] === "warning" && /^Not converged/.test(String(r[1])));
     expect(notConverged![1]).toMatch(/stopped after 1 iteration while .* or allow more iterations with the max_iterations setting\.$/);
+  });
+
+  it("says when the fit is exact on some components only, naming the restarts setting", async () => {
+    const { x: xs, y: ys } = partlyExactRows();
+    const result = await check(Array.from(ys, (v) => [v]), Array.from(xs, (v) => [v]), 2);
+    const warnings = result.filter((r) => r[0] === "warning").map((r) => String(r[1]));
+    const partly = warnings.find((w) => w.startsWith("Partly exact:"));
+    expect(partly).toMatch(/^Partly exact: 1 component fits 120 rows exactly, .* try another seed, or more restarts with the restarts setting\.$/);
+    expect(warnings.some((w) => /Try fewer components/.test(w))).toBe(false);
   });
 
   it("returns name/value pairs in a fixed order, then the warnings", async () => {

@@ -6,6 +6,7 @@ import { fitMixture } from "../src/engine/fitMixture";
 import { standardErrors } from "../src/engine/standardErrors";
 import { describeFit } from "../src/service/engineJobs";
 import { main } from "../src/cli/main";
+import { partlyExactRows } from "./support/partlyExact";
 
 // Invented: y equals predictor a exactly; b is unrelated.
 const a = [1, 2, 3, 4, 5, 6, 7, 8, 9, 10];
@@ -65,6 +66,21 @@ describe("why standard errors are not available, in plain words", () => {
     // Before: "the fit does not sit at a clear peak of the likelihood (it may not have converged, or two components may be the same)".
     expect(errors.warnings).toEqual([
       "Standard errors are not available: components 2 and 3 are the same regression (equal coefficients and noise SD), so the data cannot tell how their rows divide between them. Fit 2 components.",
+    ]);
+  });
+
+  it("a component that fits its rows exactly while the other does not is named, not called too many components", () => {
+    // partlyExactRows: 120 rows exactly on y = 2 + 3x, 120 noisy rows. The exact component's
+    // noise SD is held at the variance-ratio bound, far above 1e-6 of SD(y) (about 2.9 here),
+    // so it is found by its rows.
+    const { x, y } = partlyExactRows();
+    const rows = { x, y, n: x.length, p: 1 };
+    const fit = fitMixture(rows, { k: 2, seed: 1 });
+    const exact = fit.components.findIndex((c) => Math.abs(c.coefficients[1] - 3) < 1e-9);
+    expect(fit.components[exact].sigma).toBeGreaterThan(1e-6 * 3);
+    const errors = standardErrors(rows, fit);
+    expect(errors.warnings).toEqual([
+      `Standard errors are not available: component ${exact + 1} fits its rows exactly while the others do not, so the fit has no curvature to measure its uncertainty by. If that is not expected, check that the outcome is not one of the predictors, a copy of one or an exact combination of them.`,
     ]);
   });
 

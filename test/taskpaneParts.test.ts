@@ -10,6 +10,7 @@ import { initialState } from "../taskpane/paneState";
 import { buildDesign } from "../src/engine/design";
 import { fitMixture } from "../src/engine/fitMixture";
 import { inventedSheet } from "./support/taskpaneFixtures";
+import { partlyExactRows } from "./support/partlyExact";
 import { messageOf, Pane } from "../taskpane/pane";
 import type { EngineService } from "../src/service/engineService";
 import type { SheetHost } from "../taskpane/host";
@@ -95,6 +96,17 @@ describe("warningsFor", () => {
     // A moment certificate that did not shrink, with the starts agreeing, is not a warning.
     const certificateOnly = { ...fit, warmStart: { ...fit.warmStart, converged: false, disagreement: 0 } };
     expect(warningsFor({ ...initialState(), design, fit: certificateOnly }).some((w) => w.id === "warm-start")).toBe(false);
+  });
+
+  it("shows a fit exact on some components only with the pane's way to another seed, and no restarts", () => {
+    const { x, y } = partlyExactRows();
+    const rows = Array.from(x, (v, i) => [y[i], v]);
+    const partlyDesign = buildDesign(rows.map((r) => [r[0]]), rows.map((r) => [r[1]]));
+    const partlyFit = fitMixture(partlyDesign, { k: 2, seed: 1 });
+    const warning = warningsFor({ ...initialState(), design: partlyDesign, fit: partlyFit }).find((w) => w.id === "partly-exact");
+    expect(warning?.title).toBe("Partly exact");
+    expect(warning!.text).toMatch(/^1 component fits 120 rows exactly, .*try another seed \(change Seed and run the scan again\)\.$/);
+    expect(warning!.text).not.toMatch(/restarts/);
   });
 
   it("warns about many skipped rows only above a tenth of the rows", () => {

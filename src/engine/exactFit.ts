@@ -17,3 +17,9 @@ export function exactComponents(fit: Pick<MixtureFit, "components">, y: Float64A
 export function isExactFit(fit: Pick<MixtureFit, "components">, y: Float64Array): boolean {
   return exactComponents(fit, y).every(Boolean);
 }
+
+/**
+ * How the fit's warning begins when some components fit their rows exactly and others do not
+ * (mixture/reportFit.ts); hosts recognise it and add their own controls.
+ */
+export const PARTLY_EXACT = "Partly exact";

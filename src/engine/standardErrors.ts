@@ -1,4 +1,4 @@
-import { EXACT_RELATIVE } from "./mixture/exactComponents";
+import { enoughRows, EXACT_RELATIVE } from "./mixture/exactComponents";
 import { invertPositiveDefinite } from "./cholesky";
 import { mapFit, scaleData, scalesFor, unscaleStandardErrors } from "./internalScaling";
 import { SkeinError } from "./errors";
@@ -138,7 +138,7 @@ function informationErrors(data: RegressionData, fit: MixtureFit, outcome: Float
   const exact = exactComponent(data, fit);
   if (exact !== null) {
     report.warnings.push(
-      `Standard errors are not available: component ${exact + 1} fits its rows exactly (noise about 0) while the others do not, so the fit has no curvature to measure its uncertainty by. If that is not expected, check that the outcome is not one of the predictors, a copy of one or an exact combination of them.`,
+      `Standard errors are not available: component ${exact + 1} fits its rows exactly while the others do not, so the fit has no curvature to measure its uncertainty by. If that is not expected, check that the outcome is not one of the predictors, a copy of one or an exact combination of them.`,
     );
     return report;
   }
@@ -239,11 +239,30 @@ function sizeReason(y: Float64Array, n: number): string {
   );
 }
 
-/** The first component exact by the fit's one tolerance (noise SD at most EXACT_RELATIVE of the spread of y), or null. */
+/**
+ * The first component exact by the fit's one tolerance, or null: a noise SD at most
+ * EXACT_RELATIVE of the spread of y, or enough rows to identify it (enoughRows) within that
+ * tolerance of its regression while others do not fit theirs: its noise SD is then held at
+ * the variance-ratio bound rather than at about 0, and the likelihood has no peak there.
+ */
 function exactComponent(data: RegressionData, fit: MixtureFit): number | null {
   const spread = referenceSpread(data.y, data.n);
-  const index = fit.components.findIndex((c) => !(c.sigma > EXACT_RELATIVE * spread));
-  return index < 0 ? null : index;
+  const tolerance = EXACT_RELATIVE * spread;
+  const index = fit.components.findIndex((c) => !(c.sigma > tolerance));
+  if (index >= 0) return index;
+  const { n, p, x, y } = data;
+  const needed = enoughRows(fit.q);
+  for (let c = 0; c < fit.k; c++) {
+    const coefficients = fit.components[c].coefficients;
+    let rows = 0;
+    for (let i = 0; i < n; i++) {
+      let fitted = coefficients[0];
+      for (let j = 0; j < p; j++) fitted += x[i * p + j] * coefficients[j + 1];
+      if (Math.abs(y[i] - fitted) <= tolerance) rows++;
+    }
+    if (rows >= needed) return c;
+  }
+  return null;
 }
 
 /** Standard errors that still came out as no number get a warning saying so, never a bare NaN. */

@@ -1,6 +1,6 @@
 import { element, section } from "../dom";
 import { formatNumber, formatShare, plural } from "../format";
-import { isExactFit } from "../../src/engine/exactFit";
+import { isExactFit, PARTLY_EXACT } from "../../src/engine/exactFit";
 import { startsAgree } from "../../src/engine/scanComponents";
 import { formatGap } from "../../src/report/formatNumber";
 import { markerSwatch } from "../markers";
@@ -70,6 +70,12 @@ export function warningsFor(state: PaneState): Warning[] {
   for (const text of engineWarnings) {
     if (seen.has(text)) continue;
     seen.add(text);
+    if (text.startsWith(`${PARTLY_EXACT}:`)) {
+      // The pane's way to another seed, as for starts that disagree.
+      const body = text.slice(PARTLY_EXACT.length + 1).trim().replace(/try another seed\.$/, "try another seed (change Seed and run the scan again).");
+      out.push({ id: "partly-exact", title: PARTLY_EXACT, text: body });
+      continue;
+    }
     const lower = text.toLowerCase();
     const title = lower.includes("overlap") || lower.includes("apart") || lower.includes("misassigned")
       ? "Components overlap"
