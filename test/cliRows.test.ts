@@ -3,7 +3,10 @@ import { mkdtempSync, readFileSync, rmSync } from "node:fs";
 import { tmpdir } from "node:os";
 import { join } from "node:path";
 import ExcelJS from "exceljs";
-import { PROGRESS_AFTER_MS, scanProgress } from "../src/cli/scanProgress";
+import { fitProgress, PROGRESS_AFTER_MS, scanProgress } from "../src/cli/scanProgress";
+import { fitModel } from "../src/cli/fitCommand";
+import { buildDesign } from "../src/engine/design";
+import { partlyExactRows } from "./support/partlyExact";
 import { runCli } from "./support/runCli";
 
 const root = join(__dirname, "..");
@@ -121,5 +124,48 @@ describe("scan progress on stderr", () => {
     expect(written[0]).toMatch(/^\rscan: K = 1 to 2 of 5 done in 2\.0 s, fitting K = 3/);
     expect(written[1]).toMatch(/^\rscan: K = 1 to 5 of 5 done in 3\.1 s/);
     expect(written[2]).toBe("\n");
+  });
+});
+
+describe("fit progress on stderr", () => {
+  it("never cancels, stays quiet before about 1.5 s or off a terminal, then rewrites one line at most once a second, and ends it", () => {
+    let clock = 0;
+    const written: string[] = [];
+    const piped = fitProgress({ stderr: (s) => written.push(s), progress: false }, 3, () => clock);
+    clock = 10 * PROGRESS_AFTER_MS;
+    expect(piped.signal.aborted).toBe(false);
+    piped.finish();
+    expect(written).toEqual([]);
+
+    clock = 0;
+    const progress = fitProgress({ stderr: (s) => written.push(s), progress: true }, 7, () => clock);
+    clock = PROGRESS_AFTER_MS - 1;
+    expect(progress.signal.aborted).toBe(false);
+    expect(written).toEqual([]);
+    clock = 2000;
+    expect(progress.signal.aborted).toBe(false);
+    clock = 2500;
+    expect(progress.signal.aborted).toBe(false);
+    clock = 3100;
+    expect(progress.signal.aborted).toBe(false);
+    progress.finish();
+    expect(written).toHaveLength(3);
+    expect(written[0]).toMatch(/^\rfit: K = 7, 2 s so far…/);
+    expect(written[1]).toMatch(/^\rfit: K = 7, 3 s so far…/);
+    expect(written[2]).toMatch(/^\rfit: K = 7 done in 3\.1 s\. *\n$/);
+  });
+
+  it("is asked by the engine while it fits", () => {
+    const { x, y } = partlyExactRows();
+    const design = buildDesign(Array.from(y, (v) => [v]), Array.from(x, (v) => [v]));
+    let questions = 0;
+    const signal = {
+      get aborted() {
+        questions++;
+        return false;
+      },
+    };
+    fitModel(design, { k: 2, seed: 1, intercept: true, model: "plain", restarts: 10, tolerance: 1e-8, maxIterations: 500, bootstrap: undefined }, signal);
+    expect(questions).toBeGreaterThan(10);
   });
 });

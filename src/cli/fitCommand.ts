@@ -6,7 +6,7 @@ import { leastSquares } from "../engine/leastSquares";
 import { fitMixture } from "../engine/fitMixture";
 import { checkSeparation } from "../engine/checkSeparation";
 import { standardErrors } from "../engine/standardErrors";
-import type { MixtureFit, MixtureModel, RefinementReport, WarmStartReport } from "../engine/mixtureTypes";
+import type { CancelSignal, MixtureFit, MixtureModel, RefinementReport, WarmStartReport } from "../engine/mixtureTypes";
 import type { SeparationReport } from "../engine/trustTypes";
 import { findStrayRows } from "../engine/strayRows";
 import type { OptionName } from "../engine/options";
@@ -16,7 +16,7 @@ import { formatFitTable, kChoiceText } from "./formatTable";
 import { isExactFit, PARTLY_EXACT } from "../engine/exactFit";
 import { defaultKMax, scanComponents, startsAgree } from "../engine/scanComponents";
 import type { CommandIO } from "./main";
-import { scanProgress } from "./scanProgress";
+import { fitProgress, scanProgress } from "./scanProgress";
 import { writeRowResults } from "./writeRowResults";
 import { readDataTable } from "../io/readTable";
 import { formatNotices } from "./formatNotices";
@@ -238,9 +238,9 @@ export function parseFitSettings(argv: readonly string[]): FitSettings | "help" 
  * ordinary least squares, and the report gives the classical least-squares standard
  * errors (n − q degrees of freedom), the ones regression tables and NIST certify.
  */
-export function fitModel(design: Design, settings: Pick<FitSettings, "seed" | "intercept" | "model" | "restarts" | "tolerance" | "maxIterations" | "bootstrap"> & { k: number; background?: boolean | "auto" }): ModelFit {
+export function fitModel(design: Design, settings: Pick<FitSettings, "seed" | "intercept" | "model" | "restarts" | "tolerance" | "maxIterations" | "bootstrap"> & { k: number; background?: boolean | "auto" }, signal?: CancelSignal): ModelFit {
   const { k, seed, intercept, model, restarts, tolerance, maxIterations, background } = settings;
-  const mixture = withColumnNames(design, settings.intercept, () => fitMixture(design, { k, seed, intercept, model, restarts, tolerance, maxIterations, background }));
+  const mixture = withColumnNames(design, settings.intercept, () => fitMixture(design, { k, seed, intercept, model, restarts, tolerance, maxIterations, background, signal }));
   const errors =
     settings.bootstrap === undefined
       ? standardErrors(design, mixture)
@@ -300,14 +300,14 @@ function classicalStdErrors(design: Design, intercept: boolean): number[] {
 }
 
 /** Everything the command computes, before it is written out. */
-export async function computeFitReport(settings: FitSettings, progress?: (k: number, kMax: number) => void): Promise<{ report: FitReport; sheetName?: string; design: Design; fit: MixtureFit; separation: SeparationReport | null }> {
+export async function computeFitReport(settings: FitSettings, progress?: (k: number, kMax: number) => void, fitSignal?: (k: number) => CancelSignal): Promise<{ report: FitReport; sheetName?: string; design: Design; fit: MixtureFit; separation: SeparationReport | null }> {
   const readStart = performance.now();
   const { design, sheetName, columns, notices } = await loadDesign(settings);
   const readMs = performance.now() - readStart;
 
   const fitStart = performance.now();
   const { k, kChosenBy } = chooseK(design, settings, progress);
-  const model = fitModel(design, { ...settings, k });
+  const model = fitModel(design, { ...settings, k }, fitSignal?.(k));
   const fitMs = performance.now() - fitStart;
 
   const report = fitReport(design, model, settings, { k, kChosenBy, columns, notices, timings: { readMs, fitMs } });
@@ -394,8 +394,14 @@ export async function fitCommand(argv: readonly string[], io: CommandIO): Promis
     return 0;
   }
   const progress = settings.k === undefined ? scanProgress(io) : undefined;
-  const { report, sheetName, design, fit, separation } = await computeFitReport(settings, progress?.onProgress);
+  let fitting: ReturnType<typeof fitProgress> | undefined;
+  const { report, sheetName, design, fit, separation } = await computeFitReport(settings, progress?.onProgress, (k) => {
+    progress?.finish();
+    fitting = fitProgress(io, k);
+    return fitting.signal;
+  });
   progress?.finish();
+  fitting?.finish();
   if (settings.out !== undefined) {
     // The table as the design read it (header row, converted numbers), so rows line up with the fit.
     const table = await readDataTable(settings.file, { sheet: settings.sheet, headerRow: settings.headerRow });

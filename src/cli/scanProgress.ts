@@ -1,3 +1,4 @@
+import type { CancelSignal } from "../engine/mixtureTypes";
 import type { CommandIO } from "./main";
 
 /** A scan quicker than this shows no progress: a line that flashes by helps nobody. */
@@ -23,6 +24,39 @@ export function scanProgress(io: Pick<CommandIO, "stderr" | "progress">, now: ()
     finish() {
       if (shown) io.stderr("\n");
       shown = false;
+    },
+  };
+}
+
+/** Seconds between rewrites of a single fit's progress line. */
+const FIT_PROGRESS_EVERY_MS = 1000;
+
+/**
+ * Progress of one fit (K given) on stderr, under the same rules as a scan's: nothing before
+ * PROGRESS_AFTER_MS or when stderr is not a terminal. The engine asks its cancel signal between
+ * steps (every EM iteration, every start); this signal never cancels, and each question is the
+ * heartbeat that rewrites the line at most once a second. The time is the fit's elapsed time.
+ */
+export function fitProgress(io: Pick<CommandIO, "stderr" | "progress">, k: number, now: () => number = () => performance.now()): { signal: CancelSignal; finish: () => void } {
+  const started = now();
+  let shownAt = -Infinity;
+  return {
+    signal: {
+      get aborted() {
+        if (!io.progress) return false;
+        const time = now();
+        const elapsed = time - started;
+        if (elapsed >= PROGRESS_AFTER_MS && time - shownAt >= FIT_PROGRESS_EVERY_MS) {
+          io.stderr(`\rfit: K = ${k}, ${(elapsed / 1000).toFixed(0)} s so far…   `);
+          shownAt = time;
+        }
+        return false;
+      },
+    },
+    finish() {
+      if (shownAt === -Infinity) return;
+      io.stderr(`\rfit: K = ${k} done in ${((now() - started) / 1000).toFixed(1)} s.   \n`);
+      shownAt = -Infinity;
     },
   };
 }
