@@ -1,4 +1,5 @@
 import { enoughRows, EXACT_RELATIVE } from "./mixture/exactComponents";
+import { VARIANCE_RATIO_BOUND } from "./mixture/mixtureSettings";
 import { invertPositiveDefinite } from "./cholesky";
 import { mapFit, scaleData, scalesFor, unscaleStandardErrors } from "./internalScaling";
 import { SkeinError } from "./errors";
@@ -241,28 +242,33 @@ function sizeReason(y: Float64Array, n: number): string {
 
 /**
  * The first component exact by the fit's one tolerance, or null: a noise SD at most
- * EXACT_RELATIVE of the spread of y, or enough rows to identify it (enoughRows) within that
- * tolerance of its regression while others do not fit theirs: its noise SD is then held at
- * the variance-ratio bound rather than at about 0, and the likelihood has no peak there.
+ * EXACT_RELATIVE of the spread of y; or, when the smallest noise SD is held at the
+ * variance-ratio bound, that component if it has enough rows to identify it (enoughRows)
+ * within the tolerance of its regression: its noise SD then sits at the bound rather than at
+ * about 0 while others do not fit theirs, and the likelihood has no peak there. (The rows are
+ * counted only then, so a fit with no component at the bound costs no pass.)
  */
 function exactComponent(data: RegressionData, fit: MixtureFit): number | null {
   const spread = referenceSpread(data.y, data.n);
   const tolerance = EXACT_RELATIVE * spread;
   const index = fit.components.findIndex((c) => !(c.sigma > tolerance));
   if (index >= 0) return index;
+  let smallest = 0;
+  let largestSigma = 0;
+  fit.components.forEach((c, j) => {
+    if (c.sigma < fit.components[smallest].sigma) smallest = j;
+    largestSigma = Math.max(largestSigma, c.sigma);
+  });
+  if (!(fit.components[smallest].sigma <= Math.sqrt(VARIANCE_RATIO_BOUND) * largestSigma * 1.000001)) return null;
   const { n, p, x, y } = data;
-  const needed = enoughRows(fit.q);
-  for (let c = 0; c < fit.k; c++) {
-    const coefficients = fit.components[c].coefficients;
-    let rows = 0;
-    for (let i = 0; i < n; i++) {
-      let fitted = coefficients[0];
-      for (let j = 0; j < p; j++) fitted += x[i * p + j] * coefficients[j + 1];
-      if (Math.abs(y[i] - fitted) <= tolerance) rows++;
-    }
-    if (rows >= needed) return c;
+  const coefficients = fit.components[smallest].coefficients;
+  let rows = 0;
+  for (let i = 0; i < n; i++) {
+    let fitted = coefficients[0];
+    for (let j = 0; j < p; j++) fitted += x[i * p + j] * coefficients[j + 1];
+    if (Math.abs(y[i] - fitted) <= tolerance) rows++;
   }
-  return null;
+  return rows >= enoughRows(fit.q) ? smallest : null;
 }
 
 /** Standard errors that still came out as no number get a warning saying so, never a bare NaN. */

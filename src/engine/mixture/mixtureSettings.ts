@@ -25,7 +25,7 @@ const VARIANCE_FLOOR_RELATIVE = 1e-20;
  * 1000, more than real groups in one sheet do, yet stops a component from collapsing onto a
  * handful of rows it fits (nearly) exactly while the others carry the noise.
  */
-const VARIANCE_RATIO_BOUND = 1e-6;
+export const VARIANCE_RATIO_BOUND = 1e-6;
 /** Joint model: ridge on each x covariance, relative to each predictor's overall variance. */
 const COVARIANCE_RIDGE = 1e-6;
 
