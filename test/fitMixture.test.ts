@@ -278,15 +278,8 @@ describe("a fit exact on some components only", () => {
     // Invented demo data: 4 rows exactly on y = 5 − 2x among 100 noisy rows around y = 0.5x.
     // One line has q = 2 coefficients; the engine identifies an exact component only by
     // q + max(3, ⌈q/10⌉) = 5 rows or more, so 4 are "a few rows fitted almost exactly".
-    const r = createRandom(405);
-    const m = 104;
-    const xs = new Float64Array(m);
-    const ys = new Float64Array(m);
-    for (let i = 0; i < m; i++) {
-      xs[i] = 4 * r.next() - 2;
-      ys[i] = i < 4 ? 5 - 2 * xs[i] : 0.5 * xs[i] + 0.5 * r.normal();
-    }
-    const fit = fitMixture({ x: xs, y: ys, n: m, p: 1 }, { k: 2, seed: 1 });
+    const few = partlyExactRows({ exactRows: 4, noisyRows: 100, exactLine: [5, -2], noisyLine: [0, 0.5], seed: 405 });
+    const fit = fitMixture({ ...few, n: 104, p: 1 }, { k: 2, seed: 1 });
     expect(fit.warnings.some((w) => w.startsWith("Partly exact:"))).toBe(false);
     expect(fit.warnings.some((w) => /held at a thousandth of another's.*Try fewer components\.$/.test(w))).toBe(true);
   });
