@@ -4,6 +4,7 @@ import { mountBrowserPane } from "../taskpane/mountPane";
 import { EngineService } from "../src/service/engineService";
 import { createRandom } from "../src/engine/random";
 import { formulaFor } from "../taskpane/placement";
+import { partlyExactRows } from "./support/partlyExact";
 
 const $ = <T extends Element = HTMLElement>(selector: string) => document.querySelector<T>(selector)!;
 async function settle(rounds = 20): Promise<void> {
@@ -98,5 +99,24 @@ describe("the pane: category notes and stray rows", () => {
     expect(pane.state.chosenK).toBe(1);
     expect(pane.state.fit!.background).toBeUndefined();
     expect(formulaFor("fit", { yAddress: "Data!A1:A301", xAddress: "Data!B1:B301", rangeRows: 301, k: 1, seed: 1, background: "no", outputs: ["fit"], mode: "formulas" })).toContain('"seed=1; background=no"');
+  });
+});
+
+describe("the pane: a fit exact on some components only", () => {
+  it("shows the partly exact warning with the button that runs the scan again with the next seed", async () => {
+    const { x, y } = partlyExactRows();
+    const rows: unknown[][] = [["y", "x"], ...Array.from(x, (v, i) => [y[i], v])];
+    const { loadRows, pane } = mountBrowserPane($("#app"), new EngineService(), async () => "");
+    await loadRows!(rows, undefined, "partly-exact.csv");
+    await pane.setAddresses(`Data!A1:A${rows.length}`, `Data!B1:B${rows.length}`);
+    await settle();
+    pane.setKMax(2);
+    await pane.runScan();
+    await settle();
+    expect(pane.state.chosenK).toBe(2);
+    expect($(".warning-partly-exact .warning-title").textContent).toBe("⚠ Partly exact");
+    expect($(".warning-partly-exact").textContent).toContain("1 component fits 120 rows exactly");
+    expect($("#try-seed").hidden).toBe(false);
+    expect($("#try-seed").textContent).toBe(`Run the scan again with seed ${pane.state.seed + 1}`);
   });
 });

@@ -154,8 +154,9 @@ export function mountChecksSection(parent: HTMLElement, pane: Pane): { update(st
         box.appendChild(element("p", {}, w.text));
         warnings.appendChild(box);
       }
-      // Another seed does not finish a fit the scan stopped because it could not change the suggestion.
-      const unsettled = !startsAgree(fit.warmStart) || (!fit.refinement.converged && fit.refinement.stopped === undefined);
+      // Another seed does not finish a fit the scan stopped because it could not change the
+      // suggestion; it may find the components a partly exact fit has not found yet.
+      const unsettled = !startsAgree(fit.warmStart) || (!fit.refinement.converged && fit.refinement.stopped === undefined) || list.some((w) => w.id === "partly-exact");
       trySeed.hidden = !unsettled || state.scanning;
       trySeed.textContent = `Run the scan again with seed ${state.seed + 1}`;
 
