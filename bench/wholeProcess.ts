@@ -25,26 +25,33 @@ export function cliBuilt(): boolean {
   return existsSync(CLI);
 }
 
-/** The problem as a CSV file (y, x1..xp; ten significant digits) in a fresh temporary folder; call the returned cleanup when done. */
-export function writeProblemCsv(problem: GeneratedProblem): { file: string; cleanup: () => void } {
+/**
+ * The problem as a CSV file (y, x1..xp; ten significant digits, or 17 to read back the same
+ * doubles) in a fresh temporary folder; call the returned cleanup when done.
+ */
+export function writeProblemCsv(problem: GeneratedProblem, digits = 10): { file: string; cleanup: () => void } {
   const { n, p, x, y } = problem.data;
   const folder = mkdtempSync(path.join(tmpdir(), "skein-bench-"));
   const file = path.join(folder, `generated-${n}x${p}.csv`);
   const lines: string[] = [["y", ...Array.from({ length: p }, (_, j) => `x${j + 1}`)].join(",")];
   for (let i = 0; i < n; i++) {
-    let line = y[i].toPrecision(10);
-    for (let j = 0; j < p; j++) line += `,${x[i * p + j].toPrecision(10)}`;
+    let line = y[i].toPrecision(digits);
+    for (let j = 0; j < p; j++) line += `,${x[i * p + j].toPrecision(digits)}`;
     lines.push(line);
   }
   writeFileSync(file, `${lines.join("\n")}\n`);
   return { file, cleanup: () => rmSync(folder, { recursive: true, force: true }) };
 }
 
-/** Runs `skein ARGS --json` as its own process; null figures with the reason when it fails. */
-export function runCli(args: string[]): ProcessFigures | string {
+/**
+ * Runs `skein ARGS --json` as its own process; the reason instead of figures when it fails, or
+ * when it still runs after `timeoutMs` (it is then stopped).
+ */
+export function runCli(args: string[], timeoutMs?: number): ProcessFigures | string {
   const began = performance.now();
-  const child = spawnSync(process.execPath, ["-r", PEAK_REPORTER, CLI, ...args, "--json"], { encoding: "utf8", maxBuffer: 1 << 30 });
+  const child = spawnSync(process.execPath, ["-r", PEAK_REPORTER, CLI, ...args, "--json"], { encoding: "utf8", maxBuffer: 1 << 30, timeout: timeoutMs });
   const wallMs = performance.now() - began;
+  if (child.signal !== null) return `stopped after ${(wallMs / 1000).toFixed(1)} s (${child.signal})`;
   const peak = /peak resident kB (\d+)/.exec(child.stderr ?? "");
   if (child.status !== 0 || !peak) return `exit ${child.status}: ${(child.stderr ?? "").trim().split("\n")[0]}`;
   return { wallMs, peakMegabytes: Number(peak[1]) / 1024, json: JSON.parse(child.stdout) as Record<string, unknown> };
