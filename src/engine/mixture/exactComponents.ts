@@ -90,6 +90,23 @@ export function exactComponentsOf(ws: MixtureWorkspace, params: MixtureParameter
   return exact;
 }
 
+/**
+ * The rows of `ws` that none of the listed components fits within the exact tolerance, read
+ * from ws.residuals (which must be those of the parameters the components belong to, as
+ * exactComponentsOf leaves them).
+ */
+export function rowsNotFitExactly(ws: MixtureWorkspace, components: readonly number[]): number[] {
+  const { n, k, residuals } = ws;
+  const threshold = exactTolerance(ws);
+  const rows: number[] = [];
+  for (let i = 0; i < n; i++) {
+    let fitted = false;
+    for (const c of components) if (Math.abs(residuals[i * k + c]) <= threshold) fitted = true;
+    if (!fitted) rows.push(i);
+  }
+  return rows;
+}
+
 /** Iterations between counts of the exact components in a run that stops once it has gained one (stopOnExactGain). */
 const GAIN_CHECK_INTERVAL = 10;
 /** Iterations the raised count must hold before the run stops: one newly exact component often brings others soon after. */

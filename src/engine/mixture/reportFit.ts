@@ -4,7 +4,7 @@ import type { Finished } from "./finishExactComponents";
 import type { OnAllRows } from "./finishOnAllRows";
 import type { Incumbent } from "./refineBest";
 import type { ScreenedStarts } from "./screenStarts";
-import { exactComponentsOf, exactTolerance, isNoiseless } from "./exactComponents";
+import { exactComponentsOf, isNoiseless, rowsNotFitExactly } from "./exactComponents";
 import type { MixtureParameters } from "./mixtureParameters";
 import type { MixtureWorkspace } from "./mixtureWorkspace";
 import { DISAGREEMENT_RELATIVE } from "./compareFits";
@@ -94,9 +94,7 @@ export function reportFit(ctx: FitContext, outcome: PipelineOutcome): MixtureFit
 function partlyExactWarning(ws: MixtureWorkspace, params: MixtureParameters): string | null {
   const exact = exactComponentsOf(ws, params);
   if (exact.length === 0 || exact.length === params.k) return null;
-  const threshold = exactTolerance(ws);
-  let rows = 0;
-  for (let i = 0; i < ws.n; i++) if (exact.some((c) => Math.abs(ws.residuals[i * ws.k + c]) <= threshold)) rows++;
+  const rows = ws.n - rowsNotFitExactly(ws, exact).length;
   const others = params.k - exact.length;
   const fits = exact.length === 1 ? "1 component fits" : `${exact.length} components fit`;
   return `${PARTLY_EXACT}: ${fits} ${rows} rows exactly, and the other ${others === 1 ? "one does" : `${others} do`} not; a noise SD is held at a thousandth of another's, the smallest Skein allows. When only some rows are exact (computed or copied values), that can be right; when every row should lie exactly on one of the regressions, the other components have not been found yet: try another seed.`;

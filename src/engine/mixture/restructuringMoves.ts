@@ -5,7 +5,7 @@ import type { MixtureParameters } from "./mixtureParameters";
 import type { MixtureWorkspace } from "./mixtureWorkspace";
 import { computeResiduals, eStep } from "./eStep";
 import { parametersFromCoefficients } from "./starts";
-import { enoughRows, exactComponentsOf, exactTolerance, PEEL_SNAP_ROUNDS, snapComponents } from "./exactComponents";
+import { enoughRows, exactComponentsOf, exactTolerance, PEEL_SNAP_ROUNDS, rowsNotFitExactly, snapComponents } from "./exactComponents";
 
 /**
  * Moves that restructure a fit by fitting part of it afresh on a subset of rows: exact
@@ -31,10 +31,9 @@ const SPLIT_RESTARTS = 3;
  * `ws`, or null when there is nothing to peel.
  */
 export function peelExactComponents(ctx: FitContext, ws: MixtureWorkspace, fit: MixtureParameters, rowMap: Int32Array | null): MixtureParameters | null {
-  const { n, k } = ws;
   const threshold = exactTolerance(ws);
   const exact = exactComponentsOf(ws, fit);
-  if (exact.length === 0 || exact.length === k) return null;
+  if (exact.length === 0 || exact.length === ws.k) return null;
   // A component counted exact (enoughRows within the tolerance) may be near exact only and
   // miss many of its own rows; refitted on the rows it fits (and again as those grow, a stray
   // row of another component dropping out), it fits them all, and none is left behind for a
@@ -42,12 +41,7 @@ export function peelExactComponents(ctx: FitContext, ws: MixtureWorkspace, fit: 
   // ws.residuals are those of `params` either way: exactComponentsOf left fit's, and the
   // snapped parameters' were computed when they were made (parametersFromCoefficients).
   const params = snapComponents(ws, fit, exact, () => threshold, ctx.guards, PEEL_SNAP_ROUNDS) ?? fit;
-  const remaining: number[] = [];
-  for (let i = 0; i < n; i++) {
-    let fitted = false;
-    for (const c of exact) if (Math.abs(ws.residuals[i * k + c]) <= threshold) fitted = true;
-    if (!fitted) remaining.push(rowMap ? rowMap[i] : i);
-  }
+  const remaining = rowsNotFitExactly(ws, exact).map((i) => (rowMap ? rowMap[i] : i));
   const others = otherComponents(params, exact);
   if (remaining.length < others.length * ctx.guards.minimumSize) return null;
   // The components not exact yet are the sub-problem's first start: with the exact rows
