@@ -1,5 +1,5 @@
 import { enoughRows, EXACT_RELATIVE } from "./mixture/exactComponents";
-import { VARIANCE_RATIO_BOUND } from "./mixture/mixtureSettings";
+import { atVarianceRatioBound } from "./mixture/mixtureSettings";
 import { invertPositiveDefinite } from "./cholesky";
 import { mapFit, scaleData, scalesFor, unscaleStandardErrors } from "./internalScaling";
 import { SkeinError } from "./errors";
@@ -259,7 +259,7 @@ function exactComponent(data: RegressionData, fit: MixtureFit): number | null {
     if (c.sigma < fit.components[smallest].sigma) smallest = j;
     largestSigma = Math.max(largestSigma, c.sigma);
   });
-  if (!(fit.components[smallest].sigma <= Math.sqrt(VARIANCE_RATIO_BOUND) * largestSigma * 1.000001)) return null;
+  if (!atVarianceRatioBound(fit.components[smallest].sigma ** 2, largestSigma ** 2)) return null;
   const { n, p, x, y } = data;
   const coefficients = fit.components[smallest].coefficients;
   let rows = 0;

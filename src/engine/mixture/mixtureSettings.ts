@@ -25,7 +25,12 @@ const VARIANCE_FLOOR_RELATIVE = 1e-20;
  * 1000, more than real groups in one sheet do, yet stops a component from collapsing onto a
  * handful of rows it fits (nearly) exactly while the others carry the noise.
  */
-export const VARIANCE_RATIO_BOUND = 1e-6;
+const VARIANCE_RATIO_BOUND = 1e-6;
+
+/** Whether the smallest component variance is held at the Hathaway bound: `bound` times the largest, within rounding. */
+export function atVarianceRatioBound(smallestVariance: number, largestVariance: number, bound = VARIANCE_RATIO_BOUND): boolean {
+  return smallestVariance <= bound * largestVariance * 1.000001;
+}
 /** Joint model: ridge on each x covariance, relative to each predictor's overall variance. */
 const COVARIANCE_RIDGE = 1e-6;
 

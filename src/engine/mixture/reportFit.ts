@@ -9,6 +9,7 @@ import type { MixtureParameters } from "./mixtureParameters";
 import type { MixtureWorkspace } from "./mixtureWorkspace";
 import { DISAGREEMENT_RELATIVE } from "./compareFits";
 import { assembleFit } from "./assembleFit";
+import { atVarianceRatioBound } from "./mixtureSettings";
 import { PARTLY_EXACT } from "../exactFit";
 
 /** What the pipeline's phases produced, for the report. */
@@ -74,7 +75,7 @@ export function reportFit(ctx: FitContext, outcome: PipelineOutcome): MixtureFit
     smallestVariance = Math.min(smallestVariance, params.variances[c]);
     largestVariance = Math.max(largestVariance, params.variances[c]);
   }
-  if (largestVariance > guards.varianceFloor * 1.000001 && smallestVariance <= guards.varianceRatioBound * largestVariance * 1.000001) {
+  if (largestVariance > guards.varianceFloor * 1.000001 && atVarianceRatioBound(smallestVariance, largestVariance, guards.varianceRatioBound)) {
     warnings.push(partlyExactWarning(full, params) ?? "One component's noise SD is held at a thousandth of another's, the smallest Skein allows: that component may be fitting a few rows almost exactly. Try fewer components.");
   }
   return assembleFit(full, params, finished.logLikelihood, settings, warmStart, refinement, warnings, undefined, finished.membershipsCurrent);
