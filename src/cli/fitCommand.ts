@@ -13,7 +13,8 @@ import type { OptionName } from "../engine/options";
 import { FILE_OPTIONS_HELP, optionFlags, optionHelp, parseArgs, parseHeaderRow, parseList, parseRowList, parseWholeNumber, readBackground, readGivenOption, readOption, type FlagKinds } from "./args";
 import { loadDesign, type ColumnReport } from "./loadDesign";
 import { formatFitTable, kChoiceText } from "./formatTable";
-import { isExactFit, PARTLY_EXACT } from "../engine/exactFit";
+import { isExactFit } from "../engine/exactFit";
+import { withHostControls } from "../report/warningControls";
 import { defaultKMax, scanComponents, startsAgree } from "../engine/scanComponents";
 import type { CommandIO } from "./main";
 import { fitProgress, scanProgress } from "./scanProgress";
@@ -377,13 +378,7 @@ function rowLabels(design: Design, model: ModelFit): (number | null)[] {
 /** Every warning of the fit, its checks and its standard errors, once each. */
 function fitWarnings(model: ModelFit): string[] {
   const warnings = [...new Set([...model.mixture.warnings, ...(model.separation?.warnings ?? []), ...model.stdErrorWarnings])];
-  // The engine's advice names only what every surface has; skein fit can also allow more
-  // iterations, and try more starts.
-  return warnings.map((warning) => {
-    if (/^Not converged:/.test(warning)) return `${warning.replace(/\.$/, "")}, or allow more iterations with --max-iterations.`;
-    if (warning.startsWith(`${PARTLY_EXACT}:`)) return `${warning.replace(/\.$/, "")}, or more restarts with --restarts.`;
-    return warning;
-  });
+  return warnings.map((warning) => withHostControls(warning, { iterations: "--max-iterations", restarts: "--restarts" }));
 }
 
 /** `skein fit`: returns the exit status; SkeinErrors propagate to main, which reports them. */
@@ -400,7 +395,6 @@ export async function fitCommand(argv: readonly string[], io: CommandIO): Promis
     fitting = fitProgress(io, k);
     return fitting.signal;
   });
-  progress?.finish();
   fitting?.finish();
   if (settings.out !== undefined) {
     // The table as the design read it (header row, converted numbers), so rows line up with the fit.

@@ -9,7 +9,8 @@ import { findStrayRows } from "../engine/strayRows";
 import { readNumberText } from "../io/numberText";
 import { SkeinError } from "../engine/errors";
 import { engineService } from "../service/engineService";
-import { isExactFit, PARTLY_EXACT } from "../engine/exactFit";
+import { isExactFit } from "../engine/exactFit";
+import { withHostControls } from "../report/warningControls";
 import { startsAgree } from "../engine/scanComponents";
 import { formatNumber } from "../report/formatNumber";
 import type { FunctionSettings } from "./settings";
@@ -119,14 +120,8 @@ export function checkTable(shared: SharedFit, settings: FunctionSettings, kFromS
   }
   if (stray.rows.length > STRAY_ROWS_LISTED) rows.push(["stray row", `and ${stray.rows.length - STRAY_ROWS_LISTED} more`]);
   if (stray.rows.length > 0) rows.push(["stray row rule", stray.rule]);
-  // The engine's advice names only what every surface has; here the settings can also allow
-  // more iterations, and try more starts.
-  const withSettings = (warning: string) => {
-    if (/^Not converged:/.test(warning)) return `${warning.replace(/\.$/, "")}, or allow more iterations with the max_iterations setting.`;
-    if (warning.startsWith(`${PARTLY_EXACT}:`)) return `${warning.replace(/\.$/, "")}, or more restarts with the restarts setting.`;
-    return warning;
-  };
-  const warnings = [...new Set([...fit.warnings, ...separation.warnings])].map(withSettings);
+  const controls = { iterations: "the max_iterations setting", restarts: "the restarts setting" };
+  const warnings = [...new Set([...fit.warnings, ...separation.warnings])].map((warning) => withHostControls(warning, controls));
   if (warnings.length === 0) rows.push(["warning", "none"]);
   for (const warning of warnings) rows.push(["warning", warning]);
   return table(["check", "value"], rows, showsHeader(settings, design.hasHeaderRow));
