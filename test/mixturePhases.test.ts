@@ -1,5 +1,6 @@
 import { describe, expect, it } from "vitest";
-import { scaledCholeskySolve, choleskyScratchLength } from "../src/engine/cholesky";
+import { scaledCholeskySolve, scaledCholeskyLower, choleskyScratchLength } from "../src/engine/cholesky";
+import { CholeskyDecomposition, Matrix } from "ml-matrix";
 import { constrainedVariances } from "../src/engine/mixture/constrainedVariances";
 import { leastSquares } from "../src/engine/leastSquares";
 import { createRandom } from "../src/engine/random";
@@ -70,6 +71,47 @@ describe("weighted least squares by scaled Cholesky of XᵀWX", () => {
     const solution = new Float64Array(q);
     scaledCholeskySolve(gram, rhs, q, solution, new Float64Array(choleskyScratchLength(q)));
     for (let j = 0; j < q; j++) expect(Math.abs(solution[j] - beta[j])).toBeLessThan(1e-12);
+  });
+});
+
+describe("the Cholesky factor, odd and even sizes", () => {
+  /** A random symmetric positive definite matrix (BᵀB of a 3q x q Gaussian B), full. */
+  const positiveDefinite = (q: number, seed: number): Float64Array => {
+    const random = createRandom(seed);
+    const b = Array.from({ length: 3 * q * q }, () => random.normal());
+    const g = new Float64Array(q * q);
+    for (let r = 0; r < 3 * q; r++) for (let a = 0; a < q; a++) for (let c = 0; c < q; c++) g[a * q + c] += b[r * q + a] * b[r * q + c];
+    return g;
+  };
+
+  it.each([7, 8])("matches ml-matrix's CholeskyDecomposition to 1e-12 at q = %i, with ln det", (q) => {
+    // Reference: ml-matrix (a general-purpose library) factors the same matrix.
+    const g = positiveDefinite(q, 20 + q);
+    const lower = new Float64Array(q * q);
+    const logDet = scaledCholeskyLower(g, q, lower, new Float64Array(choleskyScratchLength(q)), false);
+    const reference = new CholeskyDecomposition(new Matrix(Array.from({ length: q }, (_, a) => Array.from(g.subarray(a * q, a * q + q))))).lowerTriangularMatrix;
+    let referenceLogDet = 0;
+    for (let a = 0; a < q; a++) {
+      referenceLogDet += 2 * Math.log(reference.get(a, a));
+      for (let c = 0; c < q; c++) expect(Math.abs(lower[a * q + c] - reference.get(a, c))).toBeLessThan(1e-12 * Math.sqrt(g[a * q + a]));
+    }
+    expect(Math.abs(logDet - referenceLogDet)).toBeLessThan(1e-10);
+  });
+
+  it.each([7, 8])("at q = %i reports a rank-deficient matrix without the ridge and solves it with the ridge", (q) => {
+    // Derivation: copying column and row 2 into 3 makes G singular (two equal columns), so a
+    // pivot is zero up to rounding; the ridge then makes the scaled matrix definite.
+    const g = positiveDefinite(q, 40 + q);
+    for (let a = 0; a < q; a++) g[a * q + 3] = g[a * q + 2];
+    for (let c = 0; c < q; c++) g[3 * q + c] = g[2 * q + c];
+    const rhs = Float64Array.from({ length: q }, (_, a) => g[a * q + 2]);
+    const solution = new Float64Array(q);
+    expect(scaledCholeskySolve(g, rhs, q, solution, new Float64Array(choleskyScratchLength(q)), false)).toBe(false);
+    expect(solution.every((v) => v === 0)).toBe(true);
+    expect(scaledCholeskySolve(g, rhs, q, solution, new Float64Array(choleskyScratchLength(q)))).toBe(true);
+    // G s = column 2 of G: any s with s_2 + s_3 = 1 and the rest 0; the ridge picks about the
+    // smallest-norm one, s_2 = s_3 = 0.5.
+    for (let a = 0; a < q; a++) expect(Math.abs(solution[a] - (a === 2 || a === 3 ? 0.5 : 0))).toBeLessThan(1e-4);
   });
 });
 

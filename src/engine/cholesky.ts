@@ -15,7 +15,7 @@
  *    core (householderQR.ts), or, where the normal equations are kept up to date anyway (the
  *    hard-assignment kernel), with iterative refinement from residuals recomputed on the rows.
  *
- * Cholesky (Golub & Van Loan, algorithm 4.2.1) on the scaled matrix; a pivot below
+ * Cholesky (Golub & Van Loan, section 4.2, row by row) on the scaled matrix; a pivot below
  * PIVOT_TOLERANCE means the matrix is numerically singular (a component whose rows all share
  * a dummy value, say): then a small ridge RIDGE_RELATIVE is added to the scaled diagonal and
  * the factorisation retried, which keeps the solve alive and moves the solution by about the
@@ -52,7 +52,7 @@ export function scaledCholeskySolve(gram: Float64Array, rhs: Float64Array, q: nu
 
 /**
  * Lower factor L of G = L Lᵀ (row-major into `lower`, q x q, zeros above the diagonal) from
- * the equilibrated factor R (RᵀR = DGD): L = D⁻¹Rᵀ.
+ * the equilibrated factor F (F Fᵀ = DGD): L = D⁻¹F.
  * @returns ln det G, or NaN when G is not positive definite (after the ridge retry, when on)
  */
 export function scaledCholeskyLower(matrix: Float64Array, q: number, lower: Float64Array, scratch: Float64Array, ridgeRetry = true): number {
@@ -61,7 +61,7 @@ export function scaledCholeskyLower(matrix: Float64Array, q: number, lower: Floa
   let logDeterminant = 0;
   for (let j = 0; j < q; j++) {
     const inverseScale = 1 / scratch[scaleOffset + j];
-    for (let l = 0; l < q; l++) lower[j * q + l] = l <= j ? scratch[l * q + j] * inverseScale : 0;
+    for (let l = 0; l < q; l++) lower[j * q + l] = l <= j ? scratch[j * q + l] * inverseScale : 0;
     logDeterminant += 2 * Math.log(lower[j * q + j]);
   }
   return logDeterminant;
@@ -102,43 +102,80 @@ function factorScaled(gram: Float64Array, q: number, scratch: Float64Array, ridg
   return ridgeRetry && factorAttempt(gram, q, scratch, scaleOffset, RIDGE_RELATIVE);
 }
 
-/** Forward then back substitution on the scaled system (DGD)(D⁻¹c) = Db. */
+/** Forward then back substitution on the scaled system (DGD)(D⁻¹c) = Db, F Fᵀ = DGD. */
 function solveFactored(rhs: Float64Array, q: number, out: Float64Array, scratch: Float64Array): void {
   const factor = scratch;
   const scaleOffset = q * q;
   const workOffset = q * q + q;
   for (let j = 0; j < q; j++) {
     let s = rhs[j] * scratch[scaleOffset + j];
-    for (let k = 0; k < j; k++) s -= factor[k * q + j] * scratch[workOffset + k];
-    scratch[workOffset + j] = s / factor[j * q + j];
+    const row = j * q;
+    for (let k = 0; k < j; k++) s -= factor[row + k] * scratch[workOffset + k];
+    scratch[workOffset + j] = s / factor[row + j];
   }
   for (let j = q - 1; j >= 0; j--) {
     let s = scratch[workOffset + j];
-    for (let k = j + 1; k < q; k++) s -= factor[j * q + k] * scratch[workOffset + k];
+    for (let k = j + 1; k < q; k++) s -= factor[k * q + j] * scratch[workOffset + k];
     scratch[workOffset + j] = s / factor[j * q + j];
   }
   for (let j = 0; j < q; j++) out[j] = scratch[workOffset + j] * scratch[scaleOffset + j];
 }
 
-/** Upper-triangular R with RᵀR = DGD (+ ridge·I), row-major into scratch[0, q²). */
+/**
+ * Lower-triangular F with F Fᵀ = DGD (+ ridge·I), row-major into scratch[0, q²), by rows (the
+ * Cholesky–Crout order): entry (i, j) is DGD_ij less the dot product of rows i and j of F, both
+ * contiguous in memory, summed in order. Rows go two at a time, so that each load of row j
+ * serves two independent sums (the same operations in the same order as one row at a time,
+ * so the same bits). The scaled entries are read from G's upper triangle as they are needed.
+ */
 function factorAttempt(gram: Float64Array, q: number, scratch: Float64Array, scaleOffset: number, ridge: number): boolean {
-  for (let j = 0; j < q; j++) {
-    const dj = scratch[scaleOffset + j];
-    for (let k = j; k < q; k++) scratch[j * q + k] = gram[j * q + k] * dj * scratch[scaleOffset + k];
-    if (dj === 0) scratch[j * q + j] = 0;
-    scratch[j * q + j] += ridge;
-  }
-  for (let j = 0; j < q; j++) {
-    let pivot = scratch[j * q + j];
-    for (let k = 0; k < j; k++) pivot -= scratch[k * q + j] * scratch[k * q + j];
-    if (!(pivot > PIVOT_TOLERANCE)) return false;
-    const root = Math.sqrt(pivot);
-    scratch[j * q + j] = root;
-    for (let l = j + 1; l < q; l++) {
-      let s = scratch[j * q + l];
-      for (let k = 0; k < j; k++) s -= scratch[k * q + j] * scratch[k * q + l];
-      scratch[j * q + l] = s / root;
+  let i = 0;
+  for (; i + 1 < q; i += 2) {
+    const di = scratch[scaleOffset + i];
+    const dn = scratch[scaleOffset + i + 1];
+    const rowI = i * q;
+    const rowN = rowI + q;
+    for (let j = 0; j < i; j++) {
+      const rowJ = j * q;
+      const dj = scratch[scaleOffset + j];
+      let s = gram[rowJ + i] * dj * di;
+      let t = gram[rowJ + i + 1] * dj * dn;
+      for (let k = 0; k < j; k++) {
+        const f = scratch[rowJ + k];
+        s -= f * scratch[rowI + k];
+        t -= f * scratch[rowN + k];
+      }
+      const pivotJ = scratch[rowJ + j];
+      scratch[rowI + j] = s / pivotJ;
+      scratch[rowN + j] = t / pivotJ;
     }
+    if (!pivotRow(gram, q, scratch, i, di, ridge)) return false;
+    let t = gram[rowI + i + 1] * di * dn;
+    for (let k = 0; k < i; k++) t -= scratch[rowI + k] * scratch[rowN + k];
+    scratch[rowN + i] = t / scratch[rowI + i];
+    if (!pivotRow(gram, q, scratch, i + 1, dn, ridge)) return false;
   }
+  if (i < q) {
+    const di = scratch[scaleOffset + i];
+    const rowI = i * q;
+    for (let j = 0; j < i; j++) {
+      const rowJ = j * q;
+      let s = gram[rowJ + i] * scratch[scaleOffset + j] * di;
+      for (let k = 0; k < j; k++) s -= scratch[rowJ + k] * scratch[rowI + k];
+      scratch[rowI + j] = s / scratch[rowJ + j];
+    }
+    if (!pivotRow(gram, q, scratch, i, di, ridge)) return false;
+  }
+  return true;
+}
+
+/** Diagonal entry i of F once the row's other entries are in place; false when the pivot is too small. */
+function pivotRow(gram: Float64Array, q: number, scratch: Float64Array, i: number, di: number, ridge: number): boolean {
+  const rowI = i * q;
+  let pivot = di === 0 ? 0 : gram[rowI + i] * di * di;
+  pivot += ridge;
+  for (let k = 0; k < i; k++) pivot -= scratch[rowI + k] * scratch[rowI + k];
+  if (!(pivot > PIVOT_TOLERANCE)) return false;
+  scratch[rowI + i] = Math.sqrt(pivot);
   return true;
 }
