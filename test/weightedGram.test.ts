@@ -1,5 +1,5 @@
 import { describe, expect, it } from "vitest";
-import { accumulateGramBlock, addBlockDots, addBlockGram, allowSimdKernel, blockRowsFor, dot, rowBlock, simdKernelAvailable, weighBlock, stageRows, gatherRows, type RowBlock } from "../src/engine/weightedGram";
+import { accumulateGramBlock, addBlockDots, addBlockGram, allowSimdKernel, blockRowsFor, dot, rowBlock, rowPredictions, simdKernelAvailable, weighBlock, stageRows, gatherRows, type RowBlock } from "../src/engine/weightedGram";
 import { WEIGHTED_GRAM_WASM_BASE64 } from "../src/engine/wasm/weightedGramModule";
 import { fitMixture } from "../src/engine/fitMixture";
 import { noiselessProblem, noisyProblem } from "../src/synthetic/generateProblems";
@@ -273,6 +273,39 @@ describe("the residual kernel's SIMD path (computeResiduals)", () => {
       expect(Array.from(outputs[1]), `k = ${k}, intercept ${intercept}, subsample ${subsample}`).toEqual(Array.from(outputs[0]));
       // Not two arrays of zeros: every residual was written.
       expect(outputs[1].every((value) => value !== 0 && Number.isFinite(value))).toBe(true);
+    }
+  });
+});
+
+describe("the hard-assignment predictions (rowPredictions)", () => {
+  it("give dot's value to the bit on both paths: odd and even counts, q not a multiple of 4, rows past one block", () => {
+    // Reference: dot itself, row by row (the JavaScript path), which the SIMD path must equal.
+    const random = createRandom(43);
+    for (const [n, q, count] of [[300, 7, 3], [513, 8, 4], [40, 13, 1], [257, 2, 5]]) {
+      const x = Float64Array.from({ length: n * q }, () => 4 * random.next() - 2);
+      const coefficients = Array.from({ length: count }, () => Float64Array.from({ length: q }, () => 2 * random.next() - 1));
+      // Into columns count down to 1 of a wider n x (count + 2) table; columns 0 and count + 1 stay.
+      const stride = count + 2;
+      const columns = Array.from({ length: count }, (_, s) => stride - 2 - s);
+      const outputs: Float64Array[] = [];
+      for (const allowed of [false, true]) {
+        allowSimdKernel(allowed);
+        const out = new Float64Array(n * stride).fill(NaN);
+        rowPredictions(x, n, q, coefficients, columns, out, stride);
+        outputs.push(out);
+      }
+      allowSimdKernel(true);
+      const label = `n = ${n}, q = ${q}, ${count} components`;
+      for (let i = 0; i < n; i++) {
+        for (let s = 0; s < count; s++) {
+          const expected = dot(x, i * q, coefficients[s], 0, q);
+          expect(outputs[0][i * stride + columns[s]], label).toBe(expected);
+          expect(outputs[1][i * stride + columns[s]], label).toBe(expected);
+        }
+      }
+      // Columns of no component are left as they were.
+      const written = new Set(columns);
+      for (let c = 0; c < stride; c++) if (!written.has(c)) expect(Number.isNaN(outputs[1][c]), label).toBe(true);
     }
   });
 });

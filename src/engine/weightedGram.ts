@@ -125,6 +125,7 @@ export interface SimdKernel {
   scale: (x: number, m: number, qp: number, v: number, vStride: number, out: number) => void;
   gather: (staged: number, stride: number, ones: number, q: number, qp: number, indices: number, m: number, out: number) => void;
   residuals: (staged: number, stride: number, ones: number, q: number, coefficients: number, y: number, m: number, k: number, out: number) => void;
+  predictions: (rows: number, q: number, coefficients: number, m: number, pairs: number, out: number) => void;
 }
 
 /** undefined until first asked for; null when this runtime cannot run the module. */
@@ -150,7 +151,7 @@ export function simdKernel(): SimdKernel | null {
     const text = atob(WEIGHTED_GRAM_WASM_BASE64);
     const bytes = new Uint8Array(text.length);
     for (let t = 0; t < text.length; t++) bytes[t] = text.charCodeAt(t);
-    // Synchronous compilation: the module is about a kilobyte, below the size browsers allow
+    // Synchronous compilation: the module is about two kilobytes, below the size browsers allow
     // it for on their main thread (4 KB in Chromium, from memory).
     const instance = new WebAssembly.Instance(new WebAssembly.Module(bytes), {});
     const memory = instance.exports.memory as WebAssembly.Memory;
@@ -162,6 +163,7 @@ export function simdKernel(): SimdKernel | null {
       scale: instance.exports.scale as SimdKernel["scale"],
       gather: instance.exports.gather as SimdKernel["gather"],
       residuals: instance.exports.residuals as SimdKernel["residuals"],
+      predictions: instance.exports.predictions as SimdKernel["predictions"],
     };
   } catch {
     // No WebAssembly, no SIMD, or compilation refused (a content security policy): the scalar path.
@@ -375,6 +377,52 @@ export function addBlockDots(block: RowBlock, m: number, source: "plain" | "weig
   kernel.dots(rows.byteOffset, m, qp, 0, vectors.byteOffset + vector * 8, vectorCount * 8, dotsAt * 8);
   const heap = kernel.heap;
   for (let j = 0; j < q; j++) out[offset + j] += heap[dotsAt + j];
+}
+
+/** Rows of predictions a block at a time on the SIMD module. */
+const PREDICTION_BLOCK_ROWS = 256;
+
+/**
+ * Each row's prediction under each given component: out[i·outStride + columns[s]] =
+ * dot(x row i, coefficients[s]) for i < n (x row-major, q values a row, no implicit 1s). On
+ * the SIMD module where it runs (a block of rows copied into its memory at a time, two
+ * components to a lane pair, each sum in dot's order, so the same bits), else row by row with
+ * dot, each row read once while it is in cache.
+ */
+export function rowPredictions(x: Float64Array, n: number, q: number, coefficients: readonly Float64Array[], columns: readonly number[], out: Float64Array, outStride: number): void {
+  const count = coefficients.length;
+  if (count === 0) return;
+  const kernel = simdKernel();
+  if (!kernel) {
+    for (let i = 0; i < n; i++) {
+      const row = i * q;
+      for (let s = 0; s < count; s++) out[i * outStride + columns[s]] = dot(x, row, coefficients[s], 0, q);
+    }
+    return;
+  }
+  const pairs = (count + 1) >> 1;
+  // Memory in doubles: a block of rows, the coefficients interleaved by pairs, the output.
+  const coefficientsAt = PREDICTION_BLOCK_ROWS * q;
+  const outAt = coefficientsAt + 2 * pairs * q;
+  reserve(kernel, (outAt + PREDICTION_BLOCK_ROWS * 2 * pairs) * 8);
+  const heap = kernel.heap;
+  for (let p = 0; p < pairs; p++) {
+    const second = 2 * p + 1 < count ? coefficients[2 * p + 1] : null;
+    for (let j = 0; j < q; j++) {
+      heap[coefficientsAt + 2 * (p * q + j)] = coefficients[2 * p][j];
+      heap[coefficientsAt + 2 * (p * q + j) + 1] = second ? second[j] : 0;
+    }
+  }
+  for (let start = 0; start < n; start += PREDICTION_BLOCK_ROWS) {
+    const m = Math.min(n, start + PREDICTION_BLOCK_ROWS) - start;
+    heap.set(x.subarray(start * q, (start + m) * q), 0);
+    kernel.predictions(0, q, coefficientsAt * 8, m, pairs, outAt * 8);
+    for (let g = 0; g < m; g++) {
+      const from = outAt + g * 2 * pairs;
+      const to = (start + g) * outStride;
+      for (let s = 0; s < count; s++) out[to + columns[s]] = heap[from + s];
+    }
+  }
 }
 
 /** Σ a[aOffset + i] b[bOffset + i] for i < m, four partial sums to shorten the dependency chain. */

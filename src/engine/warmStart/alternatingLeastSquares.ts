@@ -2,7 +2,7 @@ import { checkSignal } from "../errors";
 import type { CancelSignal } from "../mixtureTypes";
 import { choleskyScratchLength, scaledCholeskySolve } from "../cholesky";
 import { MAD_TO_SD, median } from "../median";
-import { addBlockDots, addBlockGram, blockRowsFor, dot, rowBlock, weighBlock, type RowBlock } from "../weightedGram";
+import { addBlockDots, addBlockGram, blockRowsFor, rowBlock, rowPredictions, weighBlock, type RowBlock } from "../weightedGram";
 
 /**
  * Hard-assignment refinement of K regressions (k-lines / clusterwise regression, Späth 1979,
@@ -325,13 +325,9 @@ function assign(state: AlternatingState, criterion: ClassificationCriterion | nu
     columns.push(c);
     stale[c] = 0;
   }
+  rowPredictions(design, n, q, recompute, columns, fitted, k);
   let changed = 0;
   for (let i = 0; i < n; i++) {
-    // Row by row, so that each design row is read once while it is in cache.
-    const row = i * q;
-    for (let s = 0; s < recompute.length; s++) {
-      fitted[i * k + columns[s]] = dot(design, row, recompute[s], 0, q);
-    }
     let label = 0;
     let smallest = Infinity;
     if (criterion) {

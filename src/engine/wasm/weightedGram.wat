@@ -1,6 +1,7 @@
-;; The 128-bit SIMD path of the weighted-Gram kernel (weightedGram.ts) and of the E-step's
-;; residuals (mixture/eStep.ts). Assembled by scripts/buildWasm.mjs into weightedGramModule.ts;
-;; a test checks the two agree.
+;; The 128-bit SIMD path of the weighted-Gram kernel (weightedGram.ts), of the E-step's
+;; residuals (mixture/eStep.ts) and of the hard-assignment predictions (rowPredictions in
+;; weightedGram.ts). Assembled by scripts/buildWasm.mjs into weightedGramModule.ts; a test
+;; checks the two agree.
 ;;
 ;; Every entry is one running sum over the rows in order, two entries to a 128-bit lane pair,
 ;; multiply then add (never fused): each sum is the same, to the bit, as the scalar kernel's.
@@ -234,4 +235,56 @@
             (br $pairs)))
         (local.set $g (i32.add (local.get $g) (i32.const 1)))
         (br $rows))))
+
+  ;; Predictions xᵀβ of m rows (row-major, q doubles a row) under 2·pairs components, two
+  ;; components to a lane pair: out[g·2·pairs + c]. The coefficients are interleaved by pairs as
+  ;; for "residuals". Each sum runs in the order of weightedGram.ts's dot: four running sums
+  ;; over j ≡ 0, 1, 2, 3 (mod 4) up to the last multiple of 4, the rest of j added to the first,
+  ;; then (s0 + s1) + (s2 + s3); multiply then add: dot's value to the bit.
+  (func (export "predictions") (param $rows i32) (param $q i32) (param $coefficients i32) (param $m i32) (param $pairs i32) (param $out i32)
+    (local $g i32) (local $p i32) (local $j i32) (local $head i32) (local $row i32) (local $px i32) (local $pc i32) (local $po i32)
+    (local $s0 v128) (local $s1 v128) (local $s2 v128) (local $s3 v128)
+    (local.set $head (i32.and (local.get $q) (i32.const -4)))
+    (local.set $po (local.get $out))
+    (local.set $g (i32.const 0))
+    (block $rowsDone
+      (loop $rowsLoop
+        (br_if $rowsDone (i32.ge_u (local.get $g) (local.get $m)))
+        (local.set $row (i32.add (local.get $rows) (i32.shl (i32.mul (local.get $g) (local.get $q)) (i32.const 3))))
+        (local.set $pc (local.get $coefficients))
+        (local.set $p (i32.const 0))
+        (block $pairsDone
+          (loop $pairsLoop
+            (br_if $pairsDone (i32.ge_u (local.get $p) (local.get $pairs)))
+            (local.set $s0 (v128.const i64x2 0 0))
+            (local.set $s1 (v128.const i64x2 0 0))
+            (local.set $s2 (v128.const i64x2 0 0))
+            (local.set $s3 (v128.const i64x2 0 0))
+            (local.set $px (local.get $row))
+            (local.set $j (i32.const 0))
+            (block $fourDone
+              (loop $four
+                (br_if $fourDone (i32.ge_u (local.get $j) (local.get $head)))
+                (local.set $s0 (f64x2.add (local.get $s0) (f64x2.mul (v128.load64_splat (local.get $px)) (v128.load (local.get $pc)))))
+                (local.set $s1 (f64x2.add (local.get $s1) (f64x2.mul (v128.load64_splat offset=8 (local.get $px)) (v128.load offset=16 (local.get $pc)))))
+                (local.set $s2 (f64x2.add (local.get $s2) (f64x2.mul (v128.load64_splat offset=16 (local.get $px)) (v128.load offset=32 (local.get $pc)))))
+                (local.set $s3 (f64x2.add (local.get $s3) (f64x2.mul (v128.load64_splat offset=24 (local.get $px)) (v128.load offset=48 (local.get $pc)))))
+                (local.set $px (i32.add (local.get $px) (i32.const 32)))
+                (local.set $pc (i32.add (local.get $pc) (i32.const 64)))
+                (local.set $j (i32.add (local.get $j) (i32.const 4)))
+                (br $four)))
+            (block $restDone
+              (loop $rest
+                (br_if $restDone (i32.ge_u (local.get $j) (local.get $q)))
+                (local.set $s0 (f64x2.add (local.get $s0) (f64x2.mul (v128.load64_splat (local.get $px)) (v128.load (local.get $pc)))))
+                (local.set $px (i32.add (local.get $px) (i32.const 8)))
+                (local.set $pc (i32.add (local.get $pc) (i32.const 16)))
+                (local.set $j (i32.add (local.get $j) (i32.const 1)))
+                (br $rest)))
+            (v128.store (local.get $po) (f64x2.add (f64x2.add (local.get $s0) (local.get $s1)) (f64x2.add (local.get $s2) (local.get $s3))))
+            (local.set $po (i32.add (local.get $po) (i32.const 16)))
+            (local.set $p (i32.add (local.get $p) (i32.const 1)))
+            (br $pairsLoop)))
+        (local.set $g (i32.add (local.get $g) (i32.const 1)))
+        (br $rowsLoop))))
 )
