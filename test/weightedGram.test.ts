@@ -1,5 +1,5 @@
 import { describe, expect, it } from "vitest";
-import { accumulateGramBlock, addBlockDots, addBlockGram, allowSimdKernel, blockRowsFor, dot, rowBlock, rowPredictions, simdKernelAvailable, weighBlock, stageRows, gatherRows, type RowBlock } from "../src/engine/weightedGram";
+import { accumulateGramBlock, addBlockDots, addBlockGram, allowSimdKernel, blockRowsFor, dot, finishGramSum, rowBlock, rowPredictions, simdKernelAvailable, startGramSums, weighBlock, stageRows, gatherRows, type RowBlock } from "../src/engine/weightedGram";
 import { WEIGHTED_GRAM_WASM_BASE64 } from "../src/engine/wasm/weightedGramModule";
 import { fitMixture } from "../src/engine/fitMixture";
 import { noiselessProblem, noisyProblem } from "../src/synthetic/generateProblems";
@@ -105,6 +105,35 @@ describe("the weighted-Gram kernel's SIMD path", () => {
       for (let t = 0; t < 3; t++) expect(Array.from(sums[1][t]), `q = ${q}, m = ${m}, output ${t}`).toEqual(Array.from(sums[0][t]));
       // Not a comparison of two zero arrays: the block moved every upper-triangle entry.
       expect(sums[1][0].some((value, t) => value !== start[t])).toBe(true);
+    }
+  });
+
+  it("Gram sums carried across blocks in the module (startGramSums, finishGramSum) are the block-by-block sums to the bit", () => {
+    // Reference: the same blocks added one call at a time into the caller's array (the path
+    // checked against the scalar kernel above), and the scalar path itself.
+    for (const [q, m] of [[6, 40], [12, 33], [101, 17]] as Array<[number, number]>) {
+      const stride = Math.max(m, blockRowsFor(q));
+      const blocks = [0, 1, 2, 3].map((b) => randomBlock(q, m, stride, 700 + 10 * q + b));
+      const vector = new Float64Array(m).fill(1);
+      const results: Float64Array[] = [];
+      for (const [allowed, carried] of [[false, true], [true, false], [true, true]]) {
+        allowSimdKernel(allowed);
+        const grams = new Float64Array(3 * q * q);
+        const block = rowBlock(q, stride, 1, 0, 3);
+        if (carried) startGramSums(block);
+        // Blocks 0-3 into sums 0, 1, 2, 0: sum 0 carries two blocks, the others one each.
+        blocks.forEach(({ weighted, columns }, b) => {
+          fillRowBlock(block, weighted, columns, stride, m, q, [vector]);
+          const sum = b % 3;
+          addBlockGram(block, m, grams, sum * q * q, carried ? sum : -1);
+        });
+        if (carried) for (let sum = 0; sum < 3; sum++) finishGramSum(block, sum, grams, sum * q * q);
+        results.push(grams);
+      }
+      allowSimdKernel(true);
+      expect(Array.from(results[1]), `q = ${q}, scalar against one call at a time`).toEqual(Array.from(results[0]));
+      expect(Array.from(results[2]), `q = ${q}, carried against one call at a time`).toEqual(Array.from(results[1]));
+      expect(results[2].some((value) => value !== 0)).toBe(true);
     }
   });
 

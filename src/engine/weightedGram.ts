@@ -120,7 +120,7 @@ export interface SimdKernel {
   memory: WebAssembly.Memory;
   /** A view of the whole memory, made again whenever the memory grows. */
   heap: Float64Array;
-  gram: (weighted: number, columns: number, m: number, rows: number, qp: number, out: number) => void;
+  gram: (weighted: number, columns: number, m: number, rows: number, qp: number, out: number, add: number) => void;
   dots: (x: number, m: number, qp: number, from: number, v: number, vStride: number, out: number) => void;
   scale: (x: number, m: number, qp: number, v: number, vStride: number, out: number) => void;
   gather: (staged: number, stride: number, ones: number, q: number, qp: number, indices: number, m: number, out: number) => void;
@@ -213,6 +213,10 @@ export interface RowBlock {
   kernel: SimdKernel | null;
   /** SIMD path: where the module's outputs start in its memory, in doubles. */
   outAt: number;
+  /** Gram sums the block carries in the module's memory across blocks (see startGramSums). */
+  sums: number;
+  /** SIMD path: where the first of them starts, in doubles (qp² each). */
+  sumsAt: number;
   /** Scalar path: column-major copies of the block (stride capacity). */
   columns: Float64Array | null;
   weightedColumns: Float64Array | null;
@@ -230,10 +234,10 @@ let lastBlock: RowBlock | null = null;
  * sheets of 2-10 predictors, fitted interleaved, M-steps on row blocks from 1, 4 and 8
  * columns took 0.90-0.94 of the time of row blocks from 16 columns only.
  */
-export function rowBlock(q: number, capacity: number, vectorCount = 1, stagedStride = 0): RowBlock {
+export function rowBlock(q: number, capacity: number, vectorCount = 1, stagedStride = 0, sums = 0): RowBlock {
   const kernel = simdKernel();
   const last = lastBlock;
-  if (last && last.q === q && last.capacity === capacity && last.vectorCount === vectorCount && last.stagedStride === stagedStride && last.kernel === kernel && (!kernel || last.plain.buffer === kernel.memory.buffer)) return last;
+  if (last && last.q === q && last.capacity === capacity && last.vectorCount === vectorCount && last.stagedStride === stagedStride && last.sums >= sums && last.kernel === kernel && (!kernel || last.plain.buffer === kernel.memory.buffer)) return last;
   const qp = (q + 3) & ~3;
   if (!kernel) {
     lastBlock = {
@@ -242,7 +246,7 @@ export function rowBlock(q: number, capacity: number, vectorCount = 1, stagedStr
       vectors: new Float64Array(capacity * vectorCount),
       staged: new Float64Array(capacity * stagedStride),
       indices: new Int32Array(capacity),
-      q, qp, capacity, vectorCount, stagedStride, kernel, outAt: 0,
+      q, qp, capacity, vectorCount, stagedStride, kernel, outAt: 0, sums, sumsAt: 0,
       columns: new Float64Array(capacity * q),
       weightedColumns: new Float64Array(capacity * q),
     };
@@ -250,13 +254,14 @@ export function rowBlock(q: number, capacity: number, vectorCount = 1, stagedStr
   }
   // Memory in doubles: the weighted and the plain rows (capacity·qp each), the vectors, the
   // indices (capacity 32-bit integers), the staged rows, the output (qp² for the Gram, then qp
-  // for the dot products).
+  // for the dot products), the Gram sums carried across blocks (qp² each).
   const plainAt = capacity * qp;
   const vectorsAt = 2 * capacity * qp;
   const indicesAt = vectorsAt + capacity * vectorCount;
   const stagedAt = indicesAt + Math.ceil(capacity / 2);
   const outAt = stagedAt + capacity * stagedStride;
-  reserve(kernel, (outAt + qp * qp + qp) * 8);
+  const sumsAt = outAt + qp * qp + qp;
+  reserve(kernel, (sumsAt + sums * qp * qp) * 8);
   const buffer = kernel.memory.buffer;
   lastBlock = {
     weighted: new Float64Array(buffer, 0, capacity * qp),
@@ -264,7 +269,7 @@ export function rowBlock(q: number, capacity: number, vectorCount = 1, stagedStr
     vectors: new Float64Array(buffer, vectorsAt * 8, capacity * vectorCount),
     indices: new Int32Array(buffer, indicesAt * 8, capacity),
     staged: new Float64Array(buffer, stagedAt * 8, capacity * stagedStride),
-    q, qp, capacity, vectorCount, stagedStride, kernel, outAt, columns: null, weightedColumns: null,
+    q, qp, capacity, vectorCount, stagedStride, kernel, outAt, sums, sumsAt, columns: null, weightedColumns: null,
   };
   return lastBlock;
 }
@@ -276,7 +281,7 @@ export function rowBlock(q: number, capacity: number, vectorCount = 1, stagedStr
  * association (its "dots"). Scalar path: the block copied column by column, then the same
  * sums in JavaScript (accumulateGramBlock). The two give the same sums to the bit.
  */
-export function addBlockGram(block: RowBlock, m: number, gram: Float64Array, offset: number): void {
+export function addBlockGram(block: RowBlock, m: number, gram: Float64Array, offset: number, sum = -1): void {
   if (m === 0) return;
   const { plain, weighted, q, qp, kernel, outAt } = block;
   if (!kernel) {
@@ -301,8 +306,34 @@ export function addBlockGram(block: RowBlock, m: number, gram: Float64Array, off
     for (let l = j; l < q; l++) gram[offset + j * q + l] += heap[dotsAt + l];
   }
   if (rows === 0) return;
-  kernel.gram(weighted.byteOffset, plain.byteOffset, m, rows, qp, outAt * 8);
+  if (sum >= 0 && sum < block.sums) {
+    kernel.gram(weighted.byteOffset, plain.byteOffset, m, rows, qp, (block.sumsAt + sum * qp * qp) * 8, 1);
+    return;
+  }
+  kernel.gram(weighted.byteOffset, plain.byteOffset, m, rows, qp, outAt * 8, 0);
   addGramOutput(kernel, outAt, rows, q, qp, gram, offset);
+}
+
+/**
+ * Gram sums carried in the module's memory from block to block (the block asked for with
+ * `sums` of them): addBlockGram with a sum's index adds a block's Gram there instead of
+ * into the caller's array, so each entry is added once per call instead of once per block
+ * (with many components, each holding a few rows of a block, those adds took about a third
+ * of the M-step's time at q = 100); finishGramSum then adds the total into the caller's
+ * array. Each entry is the same running sum in the same order, so the same bits. On the
+ * scalar path addBlockGram adds into the caller's array directly and these do nothing.
+ */
+export function startGramSums(block: RowBlock): void {
+  const kernel = block.kernel;
+  if (!kernel || block.sums === 0) return;
+  kernel.heap.fill(0, block.sumsAt, block.sumsAt + block.sums * block.qp * block.qp);
+}
+
+/** Adds Gram sum `sum` (see startGramSums) into the upper triangle of gram[offset ..]. */
+export function finishGramSum(block: RowBlock, sum: number, gram: Float64Array, offset: number): void {
+  const kernel = block.kernel;
+  if (!kernel || sum < 0 || sum >= block.sums) return;
+  addGramOutput(kernel, block.sumsAt + sum * block.qp * block.qp, block.q & ~3, block.q, block.qp, gram, offset);
 }
 
 /**

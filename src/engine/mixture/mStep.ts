@@ -2,7 +2,7 @@ import type { MixtureParameters } from "./mixtureParameters";
 import type { MixtureWorkspace } from "./mixtureWorkspace";
 import { choleskyScratchLength, scaledCholeskyLower, scaledCholeskySolve } from "../cholesky";
 import { constrainedVariances } from "./constrainedVariances";
-import { addBlockDots, addBlockGram, dot, gatherRows, rowBlock, stageRows, weighBlock } from "../weightedGram";
+import { addBlockDots, addBlockGram, dot, finishGramSum, gatherRows, rowBlock, stageRows, startGramSums, weighBlock } from "../weightedGram";
 
 /** What an M-step changed beyond the parameters themselves. */
 export interface MStepReport {
@@ -83,8 +83,9 @@ function accumulateComponentSums(ws: MixtureWorkspace, skipped: number): void {
   weightedSquares.fill(0);
   // The block's rows are staged once (in the SIMD module's memory where that runs) and each
   // component gathers the ones it holds from there.
-  const block = rowBlock(q, blockRows, 2, rowStride);
+  const block = rowBlock(q, blockRows, 2, rowStride, k);
   const { vectors, indices } = block;
+  startGramSums(block);
   for (let start = 0; start < n; start += blockRows) {
     const end = Math.min(n, start + blockRows);
     stageRows(block, rowValues, start, end);
@@ -102,10 +103,11 @@ function accumulateComponentSums(ws: MixtureWorkspace, skipped: number): void {
       }
       gatherRows(block, m, implicitOnes);
       weighBlock(block, m, 1);
-      addBlockGram(block, m, grams, c * q * q);
+      addBlockGram(block, m, grams, c * q * q, c);
       addBlockDots(block, m, "weighted", 0, rightHandSides, c * q);
     }
   }
+  for (let c = 0; c < k; c++) if (c !== skipped) finishGramSum(block, c, grams, c * q * q);
 }
 
 /** Component `largest`'s sums as the totals over all rows minus the other components' (see mStepCoefficients). */

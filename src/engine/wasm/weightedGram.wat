@@ -12,7 +12,9 @@
   ;; out[(l + u)·qp + j + t] = Σ_i w[i·qp + j + t] · x[i·qp + l + u] over i < m, for j < rows in
   ;; steps of 4 (rows a multiple of 4), l from j to qp in steps of 4, t and u in 0..3: a 4 x 4
   ;; block of entries in eight lane pairs per pass over the rows. w and x are row-major m x qp.
-  (func (export "gram") (param $w i32) (param $xs i32) (param $m i32) (param $rows i32) (param $qp i32) (param $out i32)
+  ;; With $add set, each sum is added to what out held (out + s, one rounding, as the
+  ;; JavaScript's gram += s), so out can carry a Gram over many blocks.
+  (func (export "gram") (param $w i32) (param $xs i32) (param $m i32) (param $rows i32) (param $qp i32) (param $out i32) (param $add i32)
     (local $j i32) (local $l i32) (local $rowBytes i32) (local $pw i32) (local $px i32) (local $end i32) (local $po i32)
     (local $w01 v128) (local $w23 v128) (local $x v128)
     (local $s00 v128) (local $s10 v128) (local $s01 v128) (local $s11 v128)
@@ -58,15 +60,31 @@
                 (local.set $px (i32.add (local.get $px) (local.get $rowBytes)))
                 (br_if $sum (i32.lt_u (local.get $pw) (local.get $end)))))
             (local.set $po (i32.add (local.get $out) (i32.shl (i32.add (i32.mul (i32.add (local.get $l) (i32.const 0)) (local.get $qp)) (local.get $j)) (i32.const 3))))
+            (if (local.get $add)
+              (then
+                (local.set $s00 (f64x2.add (v128.load (local.get $po)) (local.get $s00)))
+                (local.set $s10 (f64x2.add (v128.load offset=16 (local.get $po)) (local.get $s10)))))
             (v128.store (local.get $po) (local.get $s00))
             (v128.store offset=16 (local.get $po) (local.get $s10))
             (local.set $po (i32.add (local.get $out) (i32.shl (i32.add (i32.mul (i32.add (local.get $l) (i32.const 1)) (local.get $qp)) (local.get $j)) (i32.const 3))))
+            (if (local.get $add)
+              (then
+                (local.set $s01 (f64x2.add (v128.load (local.get $po)) (local.get $s01)))
+                (local.set $s11 (f64x2.add (v128.load offset=16 (local.get $po)) (local.get $s11)))))
             (v128.store (local.get $po) (local.get $s01))
             (v128.store offset=16 (local.get $po) (local.get $s11))
             (local.set $po (i32.add (local.get $out) (i32.shl (i32.add (i32.mul (i32.add (local.get $l) (i32.const 2)) (local.get $qp)) (local.get $j)) (i32.const 3))))
+            (if (local.get $add)
+              (then
+                (local.set $s02 (f64x2.add (v128.load (local.get $po)) (local.get $s02)))
+                (local.set $s12 (f64x2.add (v128.load offset=16 (local.get $po)) (local.get $s12)))))
             (v128.store (local.get $po) (local.get $s02))
             (v128.store offset=16 (local.get $po) (local.get $s12))
             (local.set $po (i32.add (local.get $out) (i32.shl (i32.add (i32.mul (i32.add (local.get $l) (i32.const 3)) (local.get $qp)) (local.get $j)) (i32.const 3))))
+            (if (local.get $add)
+              (then
+                (local.set $s03 (f64x2.add (v128.load (local.get $po)) (local.get $s03)))
+                (local.set $s13 (f64x2.add (v128.load offset=16 (local.get $po)) (local.get $s13)))))
             (v128.store (local.get $po) (local.get $s03))
             (v128.store offset=16 (local.get $po) (local.get $s13))
             (local.set $l (i32.add (local.get $l) (i32.const 4)))
