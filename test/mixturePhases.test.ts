@@ -4,6 +4,7 @@ import { CholeskyDecomposition, Matrix } from "ml-matrix";
 import { constrainedVariances } from "../src/engine/mixture/constrainedVariances";
 import { leastSquares } from "../src/engine/leastSquares";
 import { createRandom } from "../src/engine/random";
+import { allowSimdKernel } from "../src/engine/weightedGram";
 import { createWorkspace } from "../src/engine/mixture/mixtureWorkspace";
 import { createParameters } from "../src/engine/mixture/mixtureParameters";
 import { mStepCoefficients, mStepVariances, mStepVariancesFromGram } from "../src/engine/mixture/mStep";
@@ -112,6 +113,35 @@ describe("the Cholesky factor, odd and even sizes", () => {
     // G s = column 2 of G: any s with s_2 + s_3 = 1 and the rest 0; the ridge picks about the
     // smallest-norm one, s_2 = s_3 = 0.5.
     for (let a = 0; a < q; a++) expect(Math.abs(solution[a] - (a === 2 || a === 3 ? 0.5 : 0))).toBeLessThan(1e-4);
+  });
+});
+
+describe("the Cholesky factor on the SIMD module", () => {
+  it.each([8, 9, 33, 64])("gives the JavaScript factor, ln det and solution to the bit at q = %i, and the same refusals", (q) => {
+    // Reference: the JavaScript path of the same kernel (allowSimdKernel(false)).
+    const random = createRandom(60 + q);
+    const b = Array.from({ length: 2 * q * q }, () => random.normal());
+    const g = new Float64Array(q * q);
+    for (let r = 0; r < 2 * q; r++) for (let a = 0; a < q; a++) for (let c = a; c < q; c++) g[a * q + c] += b[r * q + a] * b[r * q + c];
+    const singular = g.slice();
+    for (let a = 0; a < q; a++) singular[Math.min(a, 5) * q + Math.max(a, 5)] = singular[Math.min(a, 4) * q + Math.max(a, 4)];
+    const rhs = Float64Array.from({ length: q }, () => random.normal());
+    const results: Array<{ lower: number[]; logDet: number; solution: number[]; refused: boolean; ridged: number[] }> = [];
+    for (const allowed of [false, true]) {
+      allowSimdKernel(allowed);
+      const lower = new Float64Array(q * q);
+      const logDet = scaledCholeskyLower(g, q, lower, new Float64Array(choleskyScratchLength(q)), false);
+      const solution = new Float64Array(q);
+      scaledCholeskySolve(g, rhs, q, solution, new Float64Array(choleskyScratchLength(q)));
+      const refused = !scaledCholeskySolve(singular, rhs, q, new Float64Array(q), new Float64Array(choleskyScratchLength(q)), false);
+      const ridged = new Float64Array(q);
+      scaledCholeskySolve(singular, rhs, q, ridged, new Float64Array(choleskyScratchLength(q)));
+      results.push({ lower: Array.from(lower), logDet, solution: Array.from(solution), refused, ridged: Array.from(ridged) });
+    }
+    allowSimdKernel(true);
+    expect(results[1]).toEqual(results[0]);
+    expect(results[0].refused).toBe(true);
+    expect(Number.isFinite(results[0].logDet) && results[0].ridged.every(Number.isFinite)).toBe(true);
   });
 });
 

@@ -22,8 +22,11 @@
  * ridge times the coefficients (Hoerl & Kennard 1970). Callers that must detect singularity
  * instead (whitening, the observed information) turn the retry off.
  *
- * Only the upper triangle (j ≤ l) of the matrix is read.
+ * Only the upper triangle (j ≤ l) of the matrix is read. From size MODULE_MIN_SIZE on the
+ * factorisation runs on the SIMD module where it runs (the same bits; about a third of the
+ * time at q = 101).
  */
+import { choleskyKernel, reserve, type CholeskyKernel } from "./weightedGram";
 
 /**
  * Smallest accepted squared pivot of the unit-diagonal scaled matrix: 1e-13 corresponds to a
@@ -91,6 +94,9 @@ export function invertPositiveDefinite(matrix: Float64Array, q: number): Float64
   return inverse;
 }
 
+/** Below this size the copies into and out of the SIMD module cost more than they save. */
+const MODULE_MIN_SIZE = 8;
+
 /** Equilibrates and factors into scratch, retrying once with the ridge when allowed. */
 function factorScaled(gram: Float64Array, q: number, scratch: Float64Array, ridgeRetry: boolean): boolean {
   const scaleOffset = q * q;
@@ -98,8 +104,10 @@ function factorScaled(gram: Float64Array, q: number, scratch: Float64Array, ridg
     const diagonal = gram[j * q + j];
     scratch[scaleOffset + j] = diagonal > 0 && Number.isFinite(diagonal) ? 1 / Math.sqrt(diagonal) : 0;
   }
-  if (factorAttempt(gram, q, scratch, scaleOffset, 0)) return true;
-  return ridgeRetry && factorAttempt(gram, q, scratch, scaleOffset, RIDGE_RELATIVE);
+  const kernel = q >= MODULE_MIN_SIZE ? choleskyKernel() : null;
+  const attempt = kernel ? (ridge: number) => factorInModule(kernel, gram, q, scratch, scaleOffset, ridge) : (ridge: number) => factorAttempt(gram, q, scratch, scaleOffset, ridge);
+  if (attempt(0)) return true;
+  return ridgeRetry && attempt(RIDGE_RELATIVE);
 }
 
 /** Forward then back substitution on the scaled system (DGD)(D⁻¹c) = Db, F Fᵀ = DGD. */
@@ -165,6 +173,26 @@ function factorAttempt(gram: Float64Array, q: number, scratch: Float64Array, sca
       scratch[rowI + j] = s / scratch[rowJ + j];
     }
     if (!pivotRow(gram, q, scratch, i, di, ridge)) return false;
+  }
+  return true;
+}
+
+/**
+ * factorAttempt on the SIMD module (its "cholesky": the same operations in the same order, two
+ * rows to a lane pair, so the same bits): G and the scales copied in, F copied out row-major.
+ */
+function factorInModule(kernel: CholeskyKernel, gram: Float64Array, q: number, scratch: Float64Array, scaleOffset: number, ridge: number): boolean {
+  // Memory in doubles: G, the scales, then F's rows interleaved by pairs (q² + q).
+  const scalesAt = q * q;
+  const factorAt = scalesAt + q;
+  reserve(kernel, (factorAt + q * q + q) * 8);
+  const heap = kernel.heap;
+  heap.set(gram.subarray(0, q * q), 0);
+  heap.set(scratch.subarray(scaleOffset, scaleOffset + q), scalesAt);
+  if (kernel.cholesky(0, scalesAt * 8, q, ridge, PIVOT_TOLERANCE, factorAt * 8) === 0) return false;
+  for (let i = 0; i < q; i++) {
+    const row = factorAt + (i >> 1) * 2 * q + (i & 1);
+    for (let k = 0; k <= i; k++) scratch[i * q + k] = heap[row + 2 * k];
   }
   return true;
 }

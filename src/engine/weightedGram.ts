@@ -147,13 +147,8 @@ export function simdKernel(): SimdKernel | null {
   if (!simdAllowed) return null;
   if (simd !== undefined) return simd;
   simd = null;
-  try {
-    const text = atob(WEIGHTED_GRAM_WASM_BASE64);
-    const bytes = new Uint8Array(text.length);
-    for (let t = 0; t < text.length; t++) bytes[t] = text.charCodeAt(t);
-    // Synchronous compilation: the module is about two kilobytes, below the size browsers allow
-    // it for on their main thread (4 KB in Chromium, from memory).
-    const instance = new WebAssembly.Instance(new WebAssembly.Module(bytes), {});
+  const instance = instantiateModule();
+  if (instance) {
     const memory = instance.exports.memory as WebAssembly.Memory;
     simd = {
       memory,
@@ -165,14 +160,54 @@ export function simdKernel(): SimdKernel | null {
       residuals: instance.exports.residuals as SimdKernel["residuals"],
       predictions: instance.exports.predictions as SimdKernel["predictions"],
     };
-  } catch {
-    // No WebAssembly, no SIMD, or compilation refused (a content security policy): the scalar path.
   }
   return simd;
 }
 
+/** The module's Cholesky factorisation, in an instance of its own (see choleskyKernel). */
+export interface CholeskyKernel {
+  memory: WebAssembly.Memory;
+  heap: Float64Array;
+  cholesky: (gram: number, scales: number, q: number, ridge: number, tolerance: number, factor: number) => number;
+}
+
+let choleskyModule: CholeskyKernel | null | undefined;
+
+/**
+ * The SIMD module's Cholesky factorisation (cholesky.ts), or null where the module cannot run
+ * or is not allowed. A second instance with a memory of its own: a solve may come between the
+ * filling and the summing of a row block (the hard-assignment kernel keeps one across its
+ * solves), and growing the row blocks' memory there would void their views.
+ */
+export function choleskyKernel(): CholeskyKernel | null {
+  if (!simdAllowed) return null;
+  if (choleskyModule !== undefined) return choleskyModule;
+  choleskyModule = null;
+  const instance = instantiateModule();
+  if (instance) {
+    const memory = instance.exports.memory as WebAssembly.Memory;
+    choleskyModule = { memory, heap: new Float64Array(memory.buffer), cholesky: instance.exports.cholesky as CholeskyKernel["cholesky"] };
+  }
+  return choleskyModule;
+}
+
+/** A new instance of the module, or null where it cannot run. */
+function instantiateModule(): WebAssembly.Instance | null {
+  try {
+    const text = atob(WEIGHTED_GRAM_WASM_BASE64);
+    const bytes = new Uint8Array(text.length);
+    for (let t = 0; t < text.length; t++) bytes[t] = text.charCodeAt(t);
+    // Synchronous compilation: the module is about three kilobytes, below the size browsers
+    // allow it for on their main thread (4 KB in Chromium, from memory).
+    return new WebAssembly.Instance(new WebAssembly.Module(bytes), {});
+  } catch {
+    // No WebAssembly, no SIMD, or compilation refused (a content security policy): the scalar path.
+    return null;
+  }
+}
+
 /** Makes the module's memory at least `bytes` long (views made before a growth are void). */
-export function reserve(kernel: SimdKernel, bytes: number): void {
+export function reserve(kernel: { memory: WebAssembly.Memory; heap: Float64Array }, bytes: number): void {
   if (kernel.memory.buffer.byteLength >= bytes) return;
   kernel.memory.grow(Math.ceil((bytes - kernel.memory.buffer.byteLength) / 65536));
   kernel.heap = new Float64Array(kernel.memory.buffer);

@@ -104,19 +104,42 @@ export class ConcentrationSteps {
     return this.sorted[Math.min(h, n) - 1];
   }
 
-  /** Least squares on the first h rows with |residual| ≤ threshold, by the normal equations. */
+  /**
+   * Least squares on the first h rows with |residual| ≤ threshold, by the normal equations.
+   * The rows are added to XᵀX two at a time (each entry still takes them one after the other,
+   * in row order: the same bits as one row at a time, with half the loads and stores of XᵀX).
+   */
   private fitSubset(coefficients: Float64Array, threshold: number, h: number): void {
     const { n, q, design, y, gram, right } = this;
     gram.fill(0);
     right.fill(0);
     let taken = 0;
+    let waiting = -1;
     for (let i = 0; i < n && taken < h; i++) {
       if (this.absolute[i] > threshold) continue;
       taken++;
-      const row = i * q;
+      if (waiting < 0) {
+        waiting = i;
+        continue;
+      }
+      const first = waiting * q;
+      const second = i * q;
+      const y1 = y[waiting];
+      const y2 = y[i];
+      for (let a = 0; a < q; a++) {
+        const va = design[first + a];
+        const wa = design[second + a];
+        right[a] = right[a] + va * y1 + wa * y2;
+        const out = a * q;
+        for (let b = a; b < q; b++) gram[out + b] = gram[out + b] + va * design[first + b] + wa * design[second + b];
+      }
+      waiting = -1;
+    }
+    if (waiting >= 0) {
+      const row = waiting * q;
       for (let a = 0; a < q; a++) {
         const va = design[row + a];
-        right[a] += va * y[i];
+        right[a] += va * y[waiting];
         const out = a * q;
         for (let b = a; b < q; b++) gram[out + b] += va * design[row + b];
       }

@@ -1,7 +1,7 @@
 ;; The 128-bit SIMD path of the weighted-Gram kernel (weightedGram.ts), of the E-step's
-;; residuals (mixture/eStep.ts) and of the hard-assignment predictions (rowPredictions in
-;; weightedGram.ts). Assembled by scripts/buildWasm.mjs into weightedGramModule.ts; a test
-;; checks the two agree.
+;; residuals (mixture/eStep.ts), of the hard-assignment predictions (rowPredictions in
+;; weightedGram.ts) and of the Cholesky factorisation (cholesky.ts). Assembled by
+;; scripts/buildWasm.mjs into weightedGramModule.ts; a test checks the two agree.
 ;;
 ;; Every entry is one running sum over the rows in order, two entries to a 128-bit lane pair,
 ;; multiply then add (never fused): each sum is the same, to the bit, as the scalar kernel's.
@@ -305,4 +305,128 @@
             (br $pairsLoop)))
         (local.set $g (i32.add (local.get $g) (i32.const 1)))
         (br $rowsLoop))))
+
+  ;; Cholesky factor F (F Fᵀ = DGD + ridge·I) of a q x q matrix G (row-major; entry (j, i),
+  ;; j ≤ i, read from G's upper triangle) with scales d, in cholesky.ts's order: rows two at a
+  ;; time, row i in lane 0 and row i + 1 in lane 1, entry (i, j) = (G_ji·d_j·d_i − Σ_{k<j}
+  ;; F_jk·F_ik) / F_jj with the terms taken in order, multiply then subtract; the diagonal,
+  ;; entry (i + 1, i) and a last odd row one lane at a time. A pair's rows go to w interleaved:
+  ;; F_ik at w + ((i >> 1)·2q + 2k + (i & 1))·8. Returns 0 at the first pivot not above tol
+  ;; (NaN included), else 1.
+  (func (export "cholesky") (param $g i32) (param $d i32) (param $q i32) (param $ridge f64) (param $tol f64) (param $w i32) (result i32)
+    (local $i i32) (local $j i32) (local $k i32) (local $pair i32) (local $rowJ i32)
+    (local $s v128) (local $scales v128) (local $t f64) (local $di f64) (local $dn f64) (local $pairBytes i32)
+    (local.set $pairBytes (i32.shl (local.get $q) (i32.const 4)))
+    (local.set $i (i32.const 0))
+    (block $pairsDone
+      (loop $pairs
+        (br_if $pairsDone (i32.ge_u (i32.add (local.get $i) (i32.const 1)) (local.get $q)))
+        (local.set $pair (i32.add (local.get $w) (i32.mul (i32.shr_u (local.get $i) (i32.const 1)) (local.get $pairBytes))))
+        (local.set $di (f64.load (i32.add (local.get $d) (i32.shl (local.get $i) (i32.const 3)))))
+        (local.set $dn (f64.load offset=8 (i32.add (local.get $d) (i32.shl (local.get $i) (i32.const 3)))))
+        (local.set $scales (v128.load (i32.add (local.get $d) (i32.shl (local.get $i) (i32.const 3)))))
+        ;; Entries (i, j) and (i + 1, j) for j < i.
+        (local.set $j (i32.const 0))
+        (block $columnsDone
+          (loop $columns
+            (br_if $columnsDone (i32.ge_u (local.get $j) (local.get $i)))
+            (local.set $rowJ (call $rowAt (local.get $w) (local.get $pairBytes) (local.get $j)))
+            (local.set $s (f64x2.mul
+              (f64x2.mul
+                (v128.load (i32.add (local.get $g) (i32.shl (i32.add (i32.mul (local.get $j) (local.get $q)) (local.get $i)) (i32.const 3))))
+                (v128.load64_splat (i32.add (local.get $d) (i32.shl (local.get $j) (i32.const 3)))))
+              (local.get $scales)))
+            (local.set $k (i32.const 0))
+            (block $termsDone
+              (loop $terms
+                (br_if $termsDone (i32.ge_u (local.get $k) (local.get $j)))
+                (local.set $s (f64x2.sub (local.get $s)
+                  (f64x2.mul
+                    (v128.load64_splat (i32.add (local.get $rowJ) (i32.shl (local.get $k) (i32.const 4))))
+                    (v128.load (i32.add (local.get $pair) (i32.shl (local.get $k) (i32.const 4)))))))
+                (local.set $k (i32.add (local.get $k) (i32.const 1)))
+                (br $terms)))
+            (v128.store (i32.add (local.get $pair) (i32.shl (local.get $j) (i32.const 4)))
+              (f64x2.div (local.get $s) (v128.load64_splat (i32.add (local.get $rowJ) (i32.shl (local.get $j) (i32.const 4))))))
+            (local.set $j (i32.add (local.get $j) (i32.const 1)))
+            (br $columns)))
+        (if (i32.eqz (call $pivot (local.get $g) (local.get $q) (local.get $i) (local.get $di) (local.get $ridge) (local.get $tol) (local.get $pair)))
+          (then (return (i32.const 0))))
+        ;; Entry (i + 1, i).
+        (local.set $t (f64.mul
+          (f64.mul (f64.load offset=8 (i32.add (local.get $g) (i32.shl (i32.add (i32.mul (local.get $i) (local.get $q)) (local.get $i)) (i32.const 3)))) (local.get $di))
+          (local.get $dn)))
+        (local.set $k (i32.const 0))
+        (block $crossDone
+          (loop $cross
+            (br_if $crossDone (i32.ge_u (local.get $k) (local.get $i)))
+            (local.set $t (f64.sub (local.get $t)
+              (f64.mul
+                (f64.load (i32.add (local.get $pair) (i32.shl (local.get $k) (i32.const 4))))
+                (f64.load offset=8 (i32.add (local.get $pair) (i32.shl (local.get $k) (i32.const 4)))))))
+            (local.set $k (i32.add (local.get $k) (i32.const 1)))
+            (br $cross)))
+        (f64.store offset=8 (i32.add (local.get $pair) (i32.shl (local.get $i) (i32.const 4)))
+          (f64.div (local.get $t) (f64.load (i32.add (local.get $pair) (i32.shl (local.get $i) (i32.const 4))))))
+        (if (i32.eqz (call $pivot (local.get $g) (local.get $q) (i32.add (local.get $i) (i32.const 1)) (local.get $dn) (local.get $ridge) (local.get $tol) (i32.add (local.get $pair) (i32.const 8))))
+          (then (return (i32.const 0))))
+        (local.set $i (i32.add (local.get $i) (i32.const 2)))
+        (br $pairs)))
+    (if (i32.ge_u (local.get $i) (local.get $q)) (then (return (i32.const 1))))
+    ;; The last row of an odd q, lane 0 of its pair.
+    (local.set $pair (i32.add (local.get $w) (i32.mul (i32.shr_u (local.get $i) (i32.const 1)) (local.get $pairBytes))))
+    (local.set $di (f64.load (i32.add (local.get $d) (i32.shl (local.get $i) (i32.const 3)))))
+    (local.set $j (i32.const 0))
+    (block $lastDone
+      (loop $last
+        (br_if $lastDone (i32.ge_u (local.get $j) (local.get $i)))
+        (local.set $rowJ (call $rowAt (local.get $w) (local.get $pairBytes) (local.get $j)))
+        (local.set $t (f64.mul
+          (f64.mul
+            (f64.load (i32.add (local.get $g) (i32.shl (i32.add (i32.mul (local.get $j) (local.get $q)) (local.get $i)) (i32.const 3))))
+            (f64.load (i32.add (local.get $d) (i32.shl (local.get $j) (i32.const 3)))))
+          (local.get $di)))
+        (local.set $k (i32.const 0))
+        (block $lastTermsDone
+          (loop $lastTerms
+            (br_if $lastTermsDone (i32.ge_u (local.get $k) (local.get $j)))
+            (local.set $t (f64.sub (local.get $t)
+              (f64.mul
+                (f64.load (i32.add (local.get $rowJ) (i32.shl (local.get $k) (i32.const 4))))
+                (f64.load (i32.add (local.get $pair) (i32.shl (local.get $k) (i32.const 4)))))))
+            (local.set $k (i32.add (local.get $k) (i32.const 1)))
+            (br $lastTerms)))
+        (f64.store (i32.add (local.get $pair) (i32.shl (local.get $j) (i32.const 4)))
+          (f64.div (local.get $t) (f64.load (i32.add (local.get $rowJ) (i32.shl (local.get $j) (i32.const 4))))))
+        (local.set $j (i32.add (local.get $j) (i32.const 1)))
+        (br $last)))
+    (call $pivot (local.get $g) (local.get $q) (local.get $i) (local.get $di) (local.get $ridge) (local.get $tol) (local.get $pair)))
+
+  ;; Where row j of F starts in the interleaved layout (its entries 16 bytes apart).
+  (func $rowAt (param $w i32) (param $pairBytes i32) (param $j i32) (result i32)
+    (i32.add
+      (i32.add (local.get $w) (i32.mul (i32.shr_u (local.get $j) (i32.const 1)) (local.get $pairBytes)))
+      (i32.shl (i32.and (local.get $j) (i32.const 1)) (i32.const 3))))
+
+  ;; F_ii = √(G_ii·d_i·d_i + ridge − Σ_{k<i} F_ik²) (G_ii·d_i·d_i taken as 0 when d_i is 0),
+  ;; row i's entries at row + 16k; 0 when the pivot is not above tol.
+  (func $pivot (param $g i32) (param $q i32) (param $i i32) (param $di f64) (param $ridge f64) (param $tol f64) (param $row i32) (result i32)
+    (local $p f64) (local $k i32) (local $f f64)
+    (local.set $p (f64.const 0))
+    (if (f64.ne (local.get $di) (f64.const 0))
+      (then (local.set $p (f64.mul (f64.mul
+        (f64.load (i32.add (local.get $g) (i32.shl (i32.mul (local.get $i) (i32.add (local.get $q) (i32.const 1))) (i32.const 3))))
+        (local.get $di)) (local.get $di)))))
+    (local.set $p (f64.add (local.get $p) (local.get $ridge)))
+    (local.set $k (i32.const 0))
+    (block $done
+      (loop $terms
+        (br_if $done (i32.ge_u (local.get $k) (local.get $i)))
+        (local.set $f (f64.load (i32.add (local.get $row) (i32.shl (local.get $k) (i32.const 4)))))
+        (local.set $p (f64.sub (local.get $p) (f64.mul (local.get $f) (local.get $f))))
+        (local.set $k (i32.add (local.get $k) (i32.const 1)))
+        (br $terms)))
+    (if (i32.eqz (f64.gt (local.get $p) (local.get $tol))) (then (return (i32.const 0))))
+    (f64.store (i32.add (local.get $row) (i32.shl (local.get $i) (i32.const 4))) (f64.sqrt (local.get $p)))
+    (i32.const 1))
 )
