@@ -191,15 +191,22 @@ export function choleskyKernel(): CholeskyKernel | null {
   return choleskyModule;
 }
 
+/** The module compiled once (null: it cannot run here), shared by both instances. */
+let compiledModule: WebAssembly.Module | null | undefined;
+
 /** A new instance of the module, or null where it cannot run. */
 function instantiateModule(): WebAssembly.Instance | null {
   try {
-    const text = atob(WEIGHTED_GRAM_WASM_BASE64);
-    const bytes = new Uint8Array(text.length);
-    for (let t = 0; t < text.length; t++) bytes[t] = text.charCodeAt(t);
-    // Synchronous compilation: the module is about three kilobytes, below the size browsers
-    // allow it for on their main thread (4 KB in Chromium, from memory).
-    return new WebAssembly.Instance(new WebAssembly.Module(bytes), {});
+    if (compiledModule === undefined) {
+      compiledModule = null;
+      const text = atob(WEIGHTED_GRAM_WASM_BASE64);
+      const bytes = new Uint8Array(text.length);
+      for (let t = 0; t < text.length; t++) bytes[t] = text.charCodeAt(t);
+      // Synchronous compilation: the module is about three kilobytes, below the size browsers
+      // allow it for on their main thread (4 KB in Chromium, from memory).
+      compiledModule = new WebAssembly.Module(bytes);
+    }
+    return compiledModule ? new WebAssembly.Instance(compiledModule, {}) : null;
   } catch {
     // No WebAssembly, no SIMD, or compilation refused (a content security policy): the scalar path.
     return null;
