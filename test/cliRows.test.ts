@@ -3,7 +3,7 @@ import { mkdtempSync, readFileSync, rmSync } from "node:fs";
 import { tmpdir } from "node:os";
 import { join } from "node:path";
 import ExcelJS from "exceljs";
-import { fitProgress, PROGRESS_AFTER_MS, scanProgress } from "../src/cli/scanProgress";
+import { fitProgress, PROGRESS_AFTER_MS, scanProgress } from "../src/cli/progressLines";
 import { fitModel } from "../src/cli/fitCommand";
 import { buildDesign } from "../src/engine/design";
 import { partlyExactRows } from "./support/partlyExact";

@@ -17,7 +17,7 @@ import { isExactFit } from "../engine/exactFit";
 import { withHostControls } from "../report/warningControls";
 import { defaultKMax, scanComponents, startsAgree } from "../engine/scanComponents";
 import type { CommandIO } from "./main";
-import { fitProgress, scanProgress } from "./scanProgress";
+import { fitProgress, scanProgress } from "./progressLines";
 import { writeRowResults } from "./writeRowResults";
 import { readDataTable } from "../io/readTable";
 import { formatNotices } from "./formatNotices";

@@ -12,7 +12,7 @@ import { alignColumns, formatColumn } from "../report/formatNumber";
 import { defaultKMax, scanComponents } from "../engine/scanComponents";
 import { kChoiceText } from "./formatTable";
 import type { CommandIO } from "./main";
-import { scanProgress } from "./scanProgress";
+import { scanProgress } from "./progressLines";
 import { loadDesign, loadNewRows, type ColumnReport, type DesignSource, type NewRows } from "./loadDesign";
 
 /** The options of the table that skein predict takes. */

@@ -10,7 +10,7 @@ import { FILE_OPTIONS_HELP, optionFlags, optionHelp, parseArgs, parseHeaderRow, 
 import { formatNotices } from "./formatNotices";
 import { alignColumns, formatColumn, formatGap } from "../report/formatNumber";
 import type { CommandIO } from "./main";
-import { scanProgress } from "./scanProgress";
+import { scanProgress } from "./progressLines";
 import { loadDesign, type ColumnReport, type DesignSource } from "./loadDesign";
 
 /** The options of the table that skein scan takes. */

@@ -1,7 +1,7 @@
 import type { CancelSignal } from "../engine/mixtureTypes";
 import type { CommandIO } from "./main";
 
-/** A scan quicker than this shows no progress: a line that flashes by helps nobody. */
+/** A scan or fit quicker than this shows no progress: a line that flashes by helps nobody. */
 export const PROGRESS_AFTER_MS = 1500;
 
 /**
