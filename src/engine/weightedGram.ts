@@ -176,8 +176,9 @@ let choleskyModule: CholeskyKernel | null | undefined;
 /**
  * The SIMD module's Cholesky factorisation (cholesky.ts), or null where the module cannot run
  * or is not allowed. A second instance with a memory of its own: a solve may come between the
- * filling and the summing of a row block (the hard-assignment kernel keeps one across its
- * solves), and growing the row blocks' memory there would void their views.
+ * filling and the summing of a row block (the subspace EM fills its block once and solves
+ * each component's equations between the sums), and growing the row blocks' memory there
+ * would void their views.
  */
 export function choleskyKernel(): CholeskyKernel | null {
   if (!simdAllowed) return null;
