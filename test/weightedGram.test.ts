@@ -137,6 +137,29 @@ describe("the weighted-Gram kernel's SIMD path", () => {
     }
   });
 
+  it("carries no sums when they would take more than 64 MB of the module, and the Gram is the same", () => {
+    // 30 sums of a 600 x 600 Gram would be 86 MB: the block carries none, and addBlockGram
+    // with a sum's index adds into the caller's array as without one.
+    const q = 600;
+    const m = 5;
+    const stride = Math.max(m, blockRowsFor(q));
+    const { weighted, columns } = randomBlock(q, m, stride, 901);
+    const vector = new Float64Array(m).fill(1);
+    const direct = new Float64Array(q * q);
+    const viaSum = new Float64Array(q * q);
+    const plainBlock = rowBlock(q, stride, 1, 0, 0);
+    fillRowBlock(plainBlock, weighted, columns, stride, m, q, [vector]);
+    addBlockGram(plainBlock, m, direct, 0);
+    const block = rowBlock(q, stride, 1, 0, 30);
+    expect(block.sums).toBe(0);
+    fillRowBlock(block, weighted, columns, stride, m, q, [vector]);
+    startGramSums(block);
+    addBlockGram(block, m, viaSum, 0, 29);
+    finishGramSum(block, 29, viaSum, 0);
+    expect(Array.from(viaSum)).toEqual(Array.from(direct));
+    expect(direct.some((value) => value !== 0)).toBe(true);
+  });
+
   it("weighs a row block's rows by a per-row value, on both paths the product w·x of each value", () => {
     for (const [q, m] of [[1, 3], [5, 17], [12, 40]] as Array<[number, number]>) {
       const random = createRandom(q + m);

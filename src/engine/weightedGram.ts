@@ -267,6 +267,9 @@ export interface RowBlock {
 
 let lastBlock: RowBlock | null = null;
 
+/** Most doubles the carried Gram sums of a row block may take in the module (64 MB). */
+const CARRIED_SUMS_DOUBLES = 8 * 1024 * 1024;
+
 /**
  * A row block for up to `capacity` rows of q values and `vectorCount` per-row values, with room
  * to stage `capacity` rows of `stagedStride` values (the last one, while these stay the same,
@@ -279,9 +282,12 @@ let lastBlock: RowBlock | null = null;
  */
 export function rowBlock(q: number, capacity: number, vectorCount = 1, stagedStride = 0, sums = 0): RowBlock {
   const kernel = simdKernel();
-  const last = lastBlock;
-  if (last && last.q === q && last.capacity === capacity && last.vectorCount === vectorCount && last.stagedStride === stagedStride && last.sums >= sums && last.kernel === kernel && (!kernel || last.plain.buffer === kernel.memory.buffer)) return last;
   const qp = (q + 3) & ~3;
+  // Carried sums only while they fit in CARRIED_SUMS_DOUBLES; past that (thousands of
+  // predictors, dozens of components) each block's Gram is added into the caller's array.
+  const carried = kernel && sums * qp * qp <= CARRIED_SUMS_DOUBLES ? sums : 0;
+  const last = lastBlock;
+  if (last && last.q === q && last.capacity === capacity && last.vectorCount === vectorCount && last.stagedStride === stagedStride && last.sums >= carried && last.kernel === kernel && (!kernel || last.plain.buffer === kernel.memory.buffer)) return last;
   if (!kernel) {
     lastBlock = {
       plain: new Float64Array(capacity * qp),
@@ -289,7 +295,7 @@ export function rowBlock(q: number, capacity: number, vectorCount = 1, stagedStr
       vectors: new Float64Array(capacity * vectorCount),
       staged: new Float64Array(capacity * stagedStride),
       indices: new Int32Array(capacity),
-      q, qp, capacity, vectorCount, stagedStride, kernel, outAt: 0, sums, sumsAt: 0,
+      q, qp, capacity, vectorCount, stagedStride, kernel, outAt: 0, sums: 0, sumsAt: 0,
       columns: new Float64Array(capacity * q),
       weightedColumns: new Float64Array(capacity * q),
     };
@@ -304,7 +310,7 @@ export function rowBlock(q: number, capacity: number, vectorCount = 1, stagedStr
   const stagedAt = indicesAt + Math.ceil(capacity / 2);
   const outAt = stagedAt + capacity * stagedStride;
   const sumsAt = outAt + qp * qp + qp;
-  reserve(kernel, (sumsAt + sums * qp * qp) * 8);
+  reserve(kernel, (sumsAt + carried * qp * qp) * 8);
   const buffer = kernel.memory.buffer;
   lastBlock = {
     weighted: new Float64Array(buffer, 0, capacity * qp),
@@ -312,7 +318,7 @@ export function rowBlock(q: number, capacity: number, vectorCount = 1, stagedStr
     vectors: new Float64Array(buffer, vectorsAt * 8, capacity * vectorCount),
     indices: new Int32Array(buffer, indicesAt * 8, capacity),
     staged: new Float64Array(buffer, stagedAt * 8, capacity * stagedStride),
-    q, qp, capacity, vectorCount, stagedStride, kernel, outAt, sums, sumsAt, columns: null, weightedColumns: null,
+    q, qp, capacity, vectorCount, stagedStride, kernel, outAt, sums: carried, sumsAt, columns: null, weightedColumns: null,
   };
   return lastBlock;
 }
