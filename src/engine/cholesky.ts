@@ -22,8 +22,8 @@
  * ridge times the coefficients (Hoerl & Kennard 1970). Callers that must detect singularity
  * instead (whitening, the observed information) turn the retry off.
  *
- * Only the upper triangle (j ≤ l) of the matrix is read. From size MODULE_MIN_SIZE on the
- * factorisation runs on the SIMD module where it runs (the same bits; about half the time
+ * Only the upper triangle (j ≤ l) of the matrix is read. From size MODULE_MIN_SIZE to
+ * MODULE_MAX_SIZE the factorisation runs on the SIMD module where it runs (the same bits; about half the time
  * of the JavaScript path at q = 101).
  */
 import { choleskyKernel, reserve, type CholeskyKernel } from "./weightedGram";
@@ -94,8 +94,13 @@ export function invertPositiveDefinite(matrix: Float64Array, q: number): Float64
   return inverse;
 }
 
-/** Below this size the copies into and out of the SIMD module cost more than they save. */
+/**
+ * Sizes factored on the SIMD module: below the first the copies in and out cost more than
+ * they save; above the second (2q² doubles, 16 MB of the module's memory) the JavaScript path
+ * needs no second copy of G.
+ */
 const MODULE_MIN_SIZE = 8;
+const MODULE_MAX_SIZE = 1024;
 
 /** Equilibrates and factors into scratch, retrying once with the ridge when allowed. */
 function factorScaled(gram: Float64Array, q: number, scratch: Float64Array, ridgeRetry: boolean): boolean {
@@ -104,7 +109,7 @@ function factorScaled(gram: Float64Array, q: number, scratch: Float64Array, ridg
     const diagonal = gram[j * q + j];
     scratch[scaleOffset + j] = diagonal > 0 && Number.isFinite(diagonal) ? 1 / Math.sqrt(diagonal) : 0;
   }
-  const kernel = q >= MODULE_MIN_SIZE ? choleskyKernel() : null;
+  const kernel = q >= MODULE_MIN_SIZE && q <= MODULE_MAX_SIZE ? choleskyKernel() : null;
   if (kernel) {
     if (factorInModule(kernel, gram, q, scratch, scaleOffset, 0)) return true;
     return ridgeRetry && factorInModule(kernel, gram, q, scratch, scaleOffset, RIDGE_RELATIVE);
