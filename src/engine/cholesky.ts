@@ -23,8 +23,8 @@
  * instead (whitening, the observed information) turn the retry off.
  *
  * Only the upper triangle (j ≤ l) of the matrix is read. From size MODULE_MIN_SIZE to
- * MODULE_MAX_SIZE the factorisation runs on the SIMD module where it runs (the same bits; about half the time
- * of the JavaScript path at q = 101).
+ * MODULE_MAX_SIZE the factorisation runs on the SIMD module where it runs (the same bits;
+ * about half the time of the JavaScript path at q = 101).
  */
 import { choleskyKernel, reserve, type CholeskyKernel } from "./weightedGram";
 
