@@ -367,7 +367,7 @@ export function addBlockGram(block: RowBlock, m: number, gram: Float64Array, off
  * Gram sums carried in the module's memory from block to block (the block asked for with
  * `sums` of them): addBlockGram with a sum's index adds a block's Gram there instead of
  * into the caller's array, so each entry is added once per call instead of once per block
- * (with many components, each holding a few rows of a block, those adds took about a third
+ * (with many components, each holding a few rows of a block, those adds took about a quarter
  * of the M-step's time at q = 100); finishGramSum then adds the total into the caller's
  * array. Each entry is the same running sum in the same order, so the same bits. On the
  * scalar path addBlockGram adds into the caller's array directly and these do nothing.
