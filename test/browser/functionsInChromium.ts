@@ -141,7 +141,7 @@ export async function checkWorksheetFunctions(browser: Browser, url: string, che
         // Two rows of four columns, row-major, weighted then plain: out[l·4 + j] = Σ_i w_ij x_il.
         heap.set([1, 2, 3, 4, 5, 6, 7, 8], 0);
         heap.set([1, 0, 0, 1, 1, 1, 0, 0], 8);
-        (instance.exports.gram as (...a: number[]) => void)(0, 64, 2, 4, 4, 128);
+        (instance.exports.gram as (...a: number[]) => void)(0, 64, 2, 4, 4, 128, 0);
         return Array.from(heap.subarray(16, 32)).join(",");
       } catch (error) {
         return `failed: ${String(error)}`;
@@ -150,6 +150,43 @@ export async function checkWorksheetFunctions(browser: Browser, url: string, che
     // Column l of the output holds Σ_i w_i· x_il: l = 0 → (1+5, 2+6, 3+7, 4+8); l = 1 → row 2 only; l = 2 → 0; l = 3 → row 1 only.
     const expectedSimd = [6, 8, 10, 12, 5, 6, 7, 8, 0, 0, 0, 0, 1, 2, 3, 4].join(",");
     check("functions: the SIMD module of the weighted-Gram kernel runs in this browser", simd === expectedSimd, simd);
+
+    // Its Cholesky factorisation too (cholesky.ts uses it from 8 x 8 up): F Fᵀ gives back the
+    // scaled matrix DGD of a 3 x 3 G (a pair of rows and an odd last row), and a singular G
+    // is refused.
+    const cholesky = await page.evaluate((encoded) => {
+      try {
+        const text = atob(encoded);
+        const bytes = Uint8Array.from(text, (c) => c.charCodeAt(0));
+        const instance = new WebAssembly.Instance(new WebAssembly.Module(bytes), {});
+        const heap = new Float64Array((instance.exports.memory as WebAssembly.Memory).buffer);
+        const factor = instance.exports.cholesky as (...a: number[]) => number;
+        const q = 3;
+        // No named inner functions: the page gets this code as text, without the test's helpers.
+        const results: Array<{ ok: number; worst: number }> = [];
+        for (const g of [[4, 2, 0, 2, 3, 1, 0, 1, 2], [1, 1, 0, 1, 1, 0, 0, 0, 1]]) {
+          const d = [0, 1, 2].map((a) => 1 / Math.sqrt(g[a * q + a]));
+          heap.set(g, 0);
+          heap.set(d, 9);
+          const ok = factor(0, 72, q, 0, 1e-13, 96);
+          let worst = 0;
+          for (let i = 0; i < q; i++) {
+            for (let j = 0; j <= i; j++) {
+              let product = 0;
+              for (let k = 0; k <= j; k++) product += heap[12 + (i >> 1) * 2 * q + 2 * k + (i & 1)] * heap[12 + (j >> 1) * 2 * q + 2 * k + (j & 1)];
+              worst = Math.max(worst, Math.abs(product - d[i] * g[j * q + i] * d[j]));
+            }
+          }
+          results.push({ ok, worst });
+        }
+        const [definite, singular] = results;
+        return `${definite.ok} ${definite.worst.toExponential(1)} ${singular.ok}`;
+      } catch (error) {
+        return `failed: ${String(error)}`;
+      }
+    }, base64);
+    const [factored, residual, refused] = cholesky.split(" ");
+    check("functions: the SIMD module's Cholesky factorisation runs in this browser", factored === "1" && Number(residual) <= 1e-15 && refused === "0", `factored ${factored}, largest |F Fᵀ − DGD| ${residual}, singular: ${refused === "0" ? "refused" : cholesky}`);
 
     const rows = parseCsv(await fs.readFile(SAMPLE, "utf8")) as string[][];
     const y = columns(rows, [Y], null);
