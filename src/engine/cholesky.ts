@@ -26,7 +26,7 @@
  * MODULE_MAX_SIZE the factorisation runs on the SIMD module where it runs (the same bits;
  * about half the time of the JavaScript path at q = 101).
  */
-import { choleskyKernel, reserve, type CholeskyKernel } from "./weightedGram";
+import { choleskyKernel, reserve, type SimdKernel } from "./weightedGram";
 
 /**
  * Smallest accepted squared pivot of the unit-diagonal scaled matrix: 1e-13 corresponds to a
@@ -189,7 +189,7 @@ function factorAttempt(gram: Float64Array, q: number, scratch: Float64Array, sca
  * factorAttempt on the SIMD module (its "cholesky": the same operations in the same order, two
  * rows to a lane pair, so the same bits): G and the scales copied in, F copied out row-major.
  */
-function factorInModule(kernel: CholeskyKernel, gram: Float64Array, q: number, scratch: Float64Array, scaleOffset: number, ridge: number): boolean {
+function factorInModule(kernel: SimdKernel, gram: Float64Array, q: number, scratch: Float64Array, scaleOffset: number, ridge: number): boolean {
   // Memory in doubles: G, the scales, then F's rows interleaved by pairs (q² + q).
   const scalesAt = q * q;
   const factorAt = scalesAt + q;

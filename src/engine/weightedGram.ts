@@ -126,6 +126,7 @@ export interface SimdKernel {
   gather: (staged: number, stride: number, ones: number, q: number, qp: number, indices: number, m: number, out: number) => void;
   residuals: (staged: number, stride: number, ones: number, q: number, coefficients: number, y: number, m: number, k: number, out: number) => void;
   predictions: (rows: number, q: number, coefficients: number, m: number, pairs: number, out: number) => void;
+  cholesky: (gram: number, scales: number, q: number, ridge: number, tolerance: number, factor: number) => number;
 }
 
 /** undefined until first asked for; null when this runtime cannot run the module. */
@@ -145,51 +146,42 @@ export function simdKernelAvailable(): boolean {
 /** The SIMD module (compiled on first use; the E-step's residuals use it too), or null where it cannot run or is not allowed. */
 export function simdKernel(): SimdKernel | null {
   if (!simdAllowed) return null;
-  if (simd !== undefined) return simd;
-  simd = null;
-  const instance = instantiateModule();
-  if (instance) {
-    const memory = instance.exports.memory as WebAssembly.Memory;
-    simd = {
-      memory,
-      heap: new Float64Array(memory.buffer),
-      gram: instance.exports.gram as SimdKernel["gram"],
-      dots: instance.exports.dots as SimdKernel["dots"],
-      scale: instance.exports.scale as SimdKernel["scale"],
-      gather: instance.exports.gather as SimdKernel["gather"],
-      residuals: instance.exports.residuals as SimdKernel["residuals"],
-      predictions: instance.exports.predictions as SimdKernel["predictions"],
-    };
-  }
+  if (simd === undefined) simd = newKernel();
   return simd;
 }
 
-/** The module's Cholesky factorisation, in an instance of its own (see choleskyKernel). */
-export interface CholeskyKernel {
-  memory: WebAssembly.Memory;
-  heap: Float64Array;
-  cholesky: (gram: number, scales: number, q: number, ridge: number, tolerance: number, factor: number) => number;
-}
-
-let choleskyModule: CholeskyKernel | null | undefined;
+let choleskyModule: SimdKernel | null | undefined;
 
 /**
- * The SIMD module's Cholesky factorisation (cholesky.ts), or null where the module cannot run
- * or is not allowed. A second instance with a memory of its own: a solve may come between the
- * filling and the summing of a row block (the subspace EM fills its block once and solves
- * each component's equations between the sums), and growing the row blocks' memory there
- * would void their views.
+ * The SIMD module for the Cholesky factorisation (cholesky.ts), or null where the module
+ * cannot run or is not allowed. A second instance with a memory of its own: a solve may come
+ * between the filling and the summing of a row block (the subspace EM fills its block once
+ * and solves each component's equations between the sums), and growing the row blocks'
+ * memory there would void their views.
  */
-export function choleskyKernel(): CholeskyKernel | null {
+export function choleskyKernel(): SimdKernel | null {
   if (!simdAllowed) return null;
-  if (choleskyModule !== undefined) return choleskyModule;
-  choleskyModule = null;
-  const instance = instantiateModule();
-  if (instance) {
-    const memory = instance.exports.memory as WebAssembly.Memory;
-    choleskyModule = { memory, heap: new Float64Array(memory.buffer), cholesky: instance.exports.cholesky as CholeskyKernel["cholesky"] };
-  }
+  if (choleskyModule === undefined) choleskyModule = newKernel();
   return choleskyModule;
+}
+
+/** A new instance of the module with its exports, or null where it cannot run. */
+function newKernel(): SimdKernel | null {
+  const instance = instantiateModule();
+  if (!instance) return null;
+  const memory = instance.exports.memory as WebAssembly.Memory;
+  const exports = instance.exports as unknown as Omit<SimdKernel, "memory" | "heap">;
+  return {
+    memory,
+    heap: new Float64Array(memory.buffer),
+    gram: exports.gram,
+    dots: exports.dots,
+    scale: exports.scale,
+    gather: exports.gather,
+    residuals: exports.residuals,
+    predictions: exports.predictions,
+    cholesky: exports.cholesky,
+  };
 }
 
 /** The module compiled once (null: it cannot run here), shared by both instances. */
@@ -215,7 +207,7 @@ function instantiateModule(): WebAssembly.Instance | null {
 }
 
 /** Makes the module's memory at least `bytes` long (views made before a growth are void). */
-export function reserve(kernel: { memory: WebAssembly.Memory; heap: Float64Array }, bytes: number): void {
+export function reserve(kernel: SimdKernel, bytes: number): void {
   if (kernel.memory.buffer.byteLength >= bytes) return;
   kernel.memory.grow(Math.ceil((bytes - kernel.memory.buffer.byteLength) / 65536));
   kernel.heap = new Float64Array(kernel.memory.buffer);
