@@ -5,6 +5,17 @@ import { predictorLogDensity, predictorModels } from "./computeMemberships";
 import { normaliseLogDensities } from "./logDensities";
 
 /**
+ * One component's prediction x_iᵀβ for the row of p predictor values at x[row..] (no
+ * intercept column), from a fit's coefficients: intercept slot first (0 when the fit has
+ * none), then one per predictor.
+ */
+export function componentPrediction(coefficients: Float64Array, x: Float64Array, row: number, p: number): number {
+  let value = coefficients[0];
+  for (let j = 0; j < p; j++) value += coefficients[j + 1] * x[row + j];
+  return value;
+}
+
+/**
  * Predictions for m new rows (newX: m x p row-major, the fit's predictors in its order,
  * without an intercept column).
  *
@@ -28,14 +39,8 @@ export function predictRows(fit: MixtureFit, newX: Float64Array, m: number): Pre
   }
   const perComponent = new Float64Array(m * k);
   for (let c = 0; c < k; c++) {
-    // Coefficients: intercept slot first (0 when the fit has none), then one per predictor.
     const beta = fit.components[c].coefficients;
-    for (let i = 0; i < m; i++) {
-      let value = beta[0];
-      const row = i * p;
-      for (let j = 0; j < p; j++) value += beta[j + 1] * newX[row + j];
-      perComponent[i * k + c] = value;
-    }
+    for (let i = 0; i < m; i++) perComponent[i * k + c] = componentPrediction(beta, newX, i * p, p);
   }
 
   const memberships = new Float64Array(m * k);

@@ -1,6 +1,7 @@
 import { enoughRows, EXACT_RELATIVE } from "./mixture/exactComponents";
 import { atVarianceRatioBound } from "./mixture/mixtureSettings";
 import { invertPositiveDefinite } from "./cholesky";
+import { componentPrediction } from "./predictRows";
 import { mapFit, scaleData, scalesFor, unscaleStandardErrors } from "./internalScaling";
 import { SkeinError } from "./errors";
 import type { MixtureFit, MixtureOptions, RegressionData } from "./mixtureTypes";
@@ -263,11 +264,7 @@ function exactComponent(data: RegressionData, fit: MixtureFit): number | null {
   const { n, p, x, y } = data;
   const coefficients = fit.components[smallest].coefficients;
   let rows = 0;
-  for (let i = 0; i < n; i++) {
-    let fitted = coefficients[0];
-    for (let j = 0; j < p; j++) fitted += x[i * p + j] * coefficients[j + 1];
-    if (Math.abs(y[i] - fitted) <= tolerance) rows++;
-  }
+  for (let i = 0; i < n; i++) if (Math.abs(y[i] - componentPrediction(coefficients, x, i * p, p)) <= tolerance) rows++;
   return rows >= enoughRows(fit.q) ? smallest : null;
 }
 

@@ -2,6 +2,7 @@ import type { Row, Workbook } from "exceljs";
 import type { Design } from "../engine/design";
 import { exactComponents, isExactFit } from "../engine/exactFit";
 import type { MixtureFit } from "../engine/mixtureTypes";
+import { componentPrediction } from "../engine/predictRows";
 import { startsAgree } from "../engine/scanComponents";
 import type { SeparationReport, StandardErrorReport } from "../engine/trustTypes";
 import { WORKBOOK_FILLS } from "../report/componentStyle";
@@ -100,9 +101,7 @@ export function rowResults(input: Pick<ResultsWorkbookInput, "rows" | "design" |
     const i = usedRow[r - 1];
     if (i >= 0) {
       const c = fit.labels[i];
-      const beta = fit.components[c].coefficients;
-      let fitted = beta[0];
-      for (let j = 0; j < p; j++) fitted += beta[j + 1] * design.x[i * p + j];
+      const fitted = componentPrediction(fit.components[c].coefficients, design.x, i * p, p);
       values.push(c + 1, fitted, design.y[i] - fitted);
       for (let c2 = 0; c2 < k; c2++) values.push(fit.memberships[i * k + c2]);
     }
