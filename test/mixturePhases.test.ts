@@ -75,15 +75,16 @@ describe("weighted least squares by scaled Cholesky of XᵀWX", () => {
   });
 });
 
+/** A random symmetric positive definite matrix (BᵀB of a 3q x q Gaussian B), full. */
+function positiveDefinite(q: number, seed: number): Float64Array {
+  const random = createRandom(seed);
+  const b = Array.from({ length: 3 * q * q }, () => random.normal());
+  const g = new Float64Array(q * q);
+  for (let r = 0; r < 3 * q; r++) for (let a = 0; a < q; a++) for (let c = 0; c < q; c++) g[a * q + c] += b[r * q + a] * b[r * q + c];
+  return g;
+}
+
 describe("the Cholesky factor, odd and even sizes", () => {
-  /** A random symmetric positive definite matrix (BᵀB of a 3q x q Gaussian B), full. */
-  const positiveDefinite = (q: number, seed: number): Float64Array => {
-    const random = createRandom(seed);
-    const b = Array.from({ length: 3 * q * q }, () => random.normal());
-    const g = new Float64Array(q * q);
-    for (let r = 0; r < 3 * q; r++) for (let a = 0; a < q; a++) for (let c = 0; c < q; c++) g[a * q + c] += b[r * q + a] * b[r * q + c];
-    return g;
-  };
 
   it.each([7, 8])("matches ml-matrix's CholeskyDecomposition to 1e-12 at q = %i, with ln det", (q) => {
     // Reference: ml-matrix (a general-purpose library) factors the same matrix.
@@ -120,9 +121,7 @@ describe("the Cholesky factor on the SIMD module", () => {
   it.each([8, 9, 33, 64])("gives the JavaScript factor, ln det and solution to the bit at q = %i, and the same refusals", (q) => {
     // Reference: the JavaScript path of the same kernel (allowSimdKernel(false)).
     const random = createRandom(60 + q);
-    const b = Array.from({ length: 2 * q * q }, () => random.normal());
-    const g = new Float64Array(q * q);
-    for (let r = 0; r < 2 * q; r++) for (let a = 0; a < q; a++) for (let c = a; c < q; c++) g[a * q + c] += b[r * q + a] * b[r * q + c];
+    const g = positiveDefinite(q, 80 + q);
     const singular = g.slice();
     for (let a = 0; a < q; a++) singular[Math.min(a, 5) * q + Math.max(a, 5)] = singular[Math.min(a, 4) * q + Math.max(a, 4)];
     const rhs = Float64Array.from({ length: q }, () => random.normal());
