@@ -13,6 +13,7 @@ import { finishOnAllRows } from "./mixture/finishOnAllRows";
 import { finishExactComponents } from "./mixture/finishExactComponents";
 import { reportFit } from "./mixture/reportFit";
 import { withInternalScaling } from "./internalScaling";
+import { allShared, helperThread, shareableArray } from "./helperThread";
 import { backgroundMayHelp, chooseBackground, withBackground } from "./mixture/backgroundComponent";
 
 export { checkRowsForComponents } from "./mixture/mixtureSettings";
@@ -33,7 +34,17 @@ const SUBSAMPLE_ROWS_PER_PARAMETER = 20;
  */
 export function fitMixture(data: RegressionData, options: MixtureOptions): MixtureFit {
   // Values far from 1 (beyond 1e100, or a column's size below 1e-100) are fitted scaled.
-  return withInternalScaling(data, options, fitWithBackgroundSetting);
+  return withInternalScaling(shareable(data), options, fitWithBackgroundSetting);
+}
+
+/** The data in memory a helper thread can read, when one is installed (helperThread.ts): a copy unless it already is. */
+function shareable(data: RegressionData): RegressionData {
+  if (!helperThread() || allShared(data.x, data.y)) return data;
+  const x = shareableArray(data.x.length);
+  const y = shareableArray(data.y.length);
+  x.set(data.x);
+  y.set(data.y);
+  return { ...data, x, y };
 }
 
 function fitWithBackgroundSetting(data: RegressionData, options: MixtureOptions): MixtureFit {

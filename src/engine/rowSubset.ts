@@ -1,4 +1,5 @@
 import type { RegressionData } from "./mixtureTypes";
+import { shareableArray } from "./helperThread";
 
 /**
  * Row subsets, the one way the engine copies chosen rows out of a row-major matrix: sub-fits
@@ -8,8 +9,9 @@ import type { RegressionData } from "./mixtureTypes";
 
 /** Rows `rows[0..count)` of an n x width row-major matrix and the matching responses, copied in that order (repeats allowed). */
 export function gatherRows(matrix: Float64Array, width: number, y: Float64Array, rows: ArrayLike<number>, count = rows.length): { matrix: Float64Array; y: Float64Array } {
-  const out = new Float64Array(count * width);
-  const responses = new Float64Array(count);
+  // Shared with the helper thread when one is installed: sub-fits run on these rows.
+  const out = shareableArray(count * width);
+  const responses = shareableArray(count);
   for (let t = 0; t < count; t++) {
     const row = rows[t];
     const from = row * width;

@@ -2,6 +2,7 @@ import type { MixtureParameters } from "./mixtureParameters";
 import type { MixtureWorkspace } from "./mixtureWorkspace";
 import { backgroundLogTerm } from "./backgroundComponent";
 import { reserve, simdKernel } from "../weightedGram";
+import { HELPER_MINIMUM_WORK, allShared, helperShare, helperThread, recordSpeeds, type HelperJob } from "../helperThread";
 
 import { gaussianLogDensity, componentLogConstant, membershipsFromLogTerms } from "../logDensities";
 
@@ -11,22 +12,90 @@ import { gaussianLogDensity, componentLogConstant, membershipsFromLogTerms } fro
  * residuals once.
  */
 export function computeResiduals(ws: MixtureWorkspace, params: MixtureParameters): void {
-  if (residualsInModule(ws, params)) return;
-  const { n, q, k, rowValues, rowStride, implicitOnes, y, residuals } = ws;
-  const padded = paddedCoefficients(params.coefficients, k, q);
-  // Column j of the design is rowValues[rowOffset + j] (after the implicit 1s: mixtureWorkspace.ts).
-  for (let i = 0; i < n; i++) rowResiduals(rowValues, i * rowStride - implicitOnes, implicitOnes, q, padded, k, y[i], residuals, i * k);
+  byRows(rowsJob(ws, params, true, null));
 }
 
 /**
- * computeResiduals on the SIMD module where it runs (false, doing nothing, elsewhere): a block
- * of rows and their responses copied into its memory at a time, two components to a lane
- * pair, each sum in rowResiduals' order, so the residuals are the same to the bit.
+ * Rows [from, to) of a residual pass or an E-step, the part of either that another thread can
+ * run (helperThread.ts): the plain model's arrays, the coefficients, and for an E-step each
+ * component's log constant and curvature (`terms`; null for residuals only).
  */
-function residualsInModule(ws: MixtureWorkspace, params: MixtureParameters): boolean {
+export interface RowsJob extends HelperJob {
+  kind: "rows";
+  from: number;
+  to: number;
+  q: number;
+  k: number;
+  rowStride: number;
+  implicitOnes: number;
+  blockRows: number;
+  rowValues: Float64Array;
+  y: Float64Array;
+  residuals: Float64Array;
+  coefficients: Float64Array;
+  /** Compute the residuals at the coefficients first (else read the stored ones). */
+  withResiduals: boolean;
+  terms: { constant: Float64Array; curvature: Float64Array; memberships: Float64Array; rowLogLikelihood: Float64Array } | null;
+}
+
+function rowsJob(ws: MixtureWorkspace, params: MixtureParameters, withResiduals: boolean, terms: RowsJob["terms"]): RowsJob {
+  const { n, q, k, rowStride, implicitOnes, blockRows, rowValues, y, residuals } = ws;
+  return { kind: "rows", from: 0, to: n, q, k, rowStride, implicitOnes, blockRows, rowValues, y, residuals, coefficients: params.coefficients.slice(0, k * q), withResiduals, terms };
+}
+
+/**
+ * Runs the job, its later rows on the helper thread when one is installed, the arrays are
+ * shared and the work is enough for two; every row's values are the same either way.
+ */
+function byRows(job: RowsJob): void {
+  const { from, to, q, k } = job;
+  const helper = helperThread();
+  const arrays = job.terms ? [job.rowValues, job.y, job.residuals, job.terms.memberships, job.terms.rowLogLikelihood] : [job.rowValues, job.y, job.residuals];
+  if (!helper || (to - from) * k * (q + 8) < 2 * HELPER_MINIMUM_WORK || !allShared(...arrays)) {
+    stepRows(job);
+    return;
+  }
+  const middle = from + Math.round((to - from) * (1 - helperShare(job.kind)));
+  const theirs: RowsJob = { ...job, from: middle };
+  helper.start(theirs);
+  const began = performance.now();
+  stepRows({ ...job, to: middle });
+  const ownMs = performance.now() - began;
+  if (!helper.finish()) stepRows(theirs);
+  else recordSpeeds(job.kind, middle - from, ownMs, to - middle, helper.lastJobMs());
+}
+
+/** The job's rows: residuals (on the SIMD module where it runs), then the E-step's terms when asked for. */
+export function stepRows(job: RowsJob): void {
+  const { from, to, q, k, rowValues, rowStride, implicitOnes, y, residuals, terms } = job;
+  // Without the SIMD module, fused with the E-step: one sweep of the design instead of two.
+  const padded = job.withResiduals && !residualsInModule(job) ? paddedCoefficients(job.coefficients, k, q) : null;
+  if (!terms) {
+    if (padded) for (let i = from; i < to; i++) rowResiduals(rowValues, i * rowStride - implicitOnes, implicitOnes, q, padded, k, y[i], residuals, i * k);
+    return;
+  }
+  const { constant, curvature, memberships, rowLogLikelihood } = terms;
+  const logTerm = new Float64Array(k);
+  for (let i = from; i < to; i++) {
+    const offset = i * k;
+    if (padded) rowResiduals(rowValues, i * rowStride - implicitOnes, implicitOnes, q, padded, k, y[i], residuals, offset);
+    for (let c = 0; c < k; c++) {
+      const r = residuals[offset + c];
+      logTerm[c] = constant[c] + curvature[c] * r * r;
+    }
+    rowLogLikelihood[i] = membershipsFromLogTerms(logTerm, 0, k, memberships, offset);
+  }
+}
+
+/**
+ * The job's residuals on the SIMD module where it runs (false, doing nothing, elsewhere): a
+ * block of rows and their responses copied into its memory at a time, two components to a
+ * lane pair, each sum in rowResiduals' order, so the residuals are the same to the bit.
+ */
+function residualsInModule(job: RowsJob): boolean {
   const kernel = simdKernel();
   if (!kernel) return false;
-  const { n, q, k, rowValues, rowStride, implicitOnes, y, residuals, blockRows } = ws;
+  const { from, to, q, k, rowValues, rowStride, implicitOnes, y, residuals, blockRows, coefficients } = job;
   const pairs = (k + 1) >> 1;
   // Memory in doubles: the staged rows, their responses, the coefficients by pairs, the output.
   const yAt = blockRows * rowStride;
@@ -34,15 +103,14 @@ function residualsInModule(ws: MixtureWorkspace, params: MixtureParameters): boo
   const outAt = coefficientsAt + 2 * pairs * q;
   reserve(kernel, (outAt + blockRows * k) * 8);
   const heap = kernel.heap;
-  const coefficients = params.coefficients;
   for (let p = 0; p < pairs; p++) {
     for (let j = 0; j < q; j++) {
       heap[coefficientsAt + 2 * (p * q + j)] = coefficients[2 * p * q + j];
       heap[coefficientsAt + 2 * (p * q + j) + 1] = 2 * p + 1 < k ? coefficients[(2 * p + 1) * q + j] : 0;
     }
   }
-  for (let start = 0; start < n; start += blockRows) {
-    const m = Math.min(n, start + blockRows) - start;
+  for (let start = from; start < to; start += blockRows) {
+    const m = Math.min(to, start + blockRows) - start;
     heap.set(rowValues.subarray(start * rowStride, (start + m) * rowStride), 0);
     heap.set(y.subarray(start, start + m), yAt);
     kernel.residuals(0, rowStride, implicitOnes, q, coefficientsAt * 8, yAt * 8, m, k, outAt * 8);
@@ -109,10 +177,7 @@ export function rowResiduals(values: Float64Array, rowOffset: number, implicitOn
  * @returns the log-likelihood Σ_i log Σ_k π_k φ_ik; the per-row terms go to ws.rowLogLikelihood
  */
 export function eStep(ws: MixtureWorkspace, params: MixtureParameters, withResiduals = false): number {
-  const { n, q, k, rowValues, rowStride, implicitOnes, y, residuals, memberships, rowLogLikelihood } = ws;
-  // The residuals first, on the SIMD module where it runs; elsewhere row by row in this sweep.
-  const padded = withResiduals && !residualsInModule(ws, params) ? paddedCoefficients(params.coefficients, k, q) : null;
-  const logTerm = ws.rowScratch;
+  const { n, k, memberships, rowLogLikelihood } = ws;
   // Per-component constants: log π_k − ½ ln(2π σ_k²) and −1/(2σ_k²).
   const constant = new Float64Array(k);
   const curvature = new Float64Array(k);
@@ -120,6 +185,18 @@ export function eStep(ws: MixtureWorkspace, params: MixtureParameters, withResid
     constant[c] = componentLogConstant(params.weights[c], params.variances[c]);
     curvature[c] = -0.5 / params.variances[c];
   }
+  if (ws.joint || ws.background) return eStepWithExtraTerms(ws, params, withResiduals, constant, curvature);
+  byRows(rowsJob(ws, params, withResiduals, { constant, curvature, memberships, rowLogLikelihood }));
+  let total = 0;
+  for (let i = 0; i < n; i++) total += rowLogLikelihood[i];
+  return total;
+}
+
+/** eStep with the joint model's x densities or the background's term, on the calling thread. */
+function eStepWithExtraTerms(ws: MixtureWorkspace, params: MixtureParameters, withResiduals: boolean, constant: Float64Array, curvature: Float64Array): number {
+  const { n, k, residuals, memberships, rowLogLikelihood } = ws;
+  if (withResiduals) computeResiduals(ws, params);
+  const logTerm = ws.rowScratch;
   const joint = ws.joint && params.xMeans !== null;
   const xMeans = params.xMeans as Float64Array;
   const xFactors = params.xCholesky as Float64Array;
@@ -131,8 +208,6 @@ export function eStep(ws: MixtureWorkspace, params: MixtureParameters, withResid
   let total = 0;
   for (let i = 0; i < n; i++) {
     const offset = i * k;
-    // Without the SIMD module, fused with computeResiduals: one sweep of the design per iteration instead of two.
-    if (padded) rowResiduals(rowValues, i * rowStride - implicitOnes, implicitOnes, q, padded, k, y[i], residuals, offset);
     for (let c = 0; c < k; c++) {
       const r = residuals[offset + c];
       let value = constant[c] + curvature[c] * r * r;

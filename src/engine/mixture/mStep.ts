@@ -3,6 +3,7 @@ import type { MixtureWorkspace } from "./mixtureWorkspace";
 import { choleskyScratchLength, scaledCholeskyLower, scaledCholeskySolve } from "../cholesky";
 import { constrainedVariances } from "./constrainedVariances";
 import { addBlockDots, addBlockGram, dot, finishGramSum, gatherRows, rowBlock, stageRows, startGramSums, weighBlock } from "../weightedGram";
+import { HELPER_MINIMUM_WORK, allShared, helperShare, helperThread, recordSpeeds, type HelperJob } from "../helperThread";
 
 /** What an M-step changed beyond the parameters themselves. */
 export interface MStepReport {
@@ -72,25 +73,71 @@ export function mStepCoefficients(ws: MixtureWorkspace, params: MixtureParameter
 
 /**
  * Σ τ x xᵀ, Σ τ x y and Σ τ y² of every component but `skipped` (−1: none) into the
- * workspace's grams, rightHandSides and weightedSquares, a block of rows at a time: the rows a
- * component holds go into the kernel's row block with their response and membership beside
- * them, and the kernel weighs and sums them.
+ * workspace's grams, rightHandSides and weightedSquares. With a helper thread (helperThread.ts)
+ * and enough work, the components are split between the two threads by the rows each holds
+ * (each thread sums whole components, every sum in the same order as on one thread).
  */
 function accumulateComponentSums(ws: MixtureWorkspace, skipped: number): void {
-  const { n, q, k, y, memberships, grams, rightHandSides, weightedSquares, blockRows, rowValues, rowStride, implicitOnes } = ws;
+  const { n, q, k, memberships, grams, rightHandSides, weightedSquares } = ws;
   grams.fill(0);
   rightHandSides.fill(0);
   weightedSquares.fill(0);
-  // The block's rows are staged once (in the SIMD module's memory where that runs) and each
-  // component gathers the ones it holds from there.
-  const block = rowBlock(q, blockRows, 2, rowStride, k);
+  const job: ComponentSumsJob = {
+    kind: "componentSums", n, q, k, rowStride: ws.rowStride, implicitOnes: ws.implicitOnes, blockRows: ws.blockRows,
+    rowValues: ws.rowValues, y: ws.y, memberships, grams, rightHandSides, weightedSquares, components: [],
+  };
+  const summed: number[] = [];
+  for (let c = 0; c < k; c++) if (c !== skipped) summed.push(c);
+  const helper = helperThread();
+  const held = helper && allShared(ws.rowValues, ws.y, memberships, grams, rightHandSides, weightedSquares) ? heldRows(memberships, n, k) : null;
+  if (!helper || !held || summed.length < 2 || heldWork(held, summed, q) < 2 * HELPER_MINIMUM_WORK) {
+    componentSums({ ...job, components: summed });
+    return;
+  }
+  const [mine, theirs] = splitByRows(summed, held, helperShare(job.kind));
+  const handed: ComponentSumsJob = { ...job, components: theirs };
+  helper.start(handed);
+  const began = performance.now();
+  componentSums({ ...job, components: mine });
+  const ownMs = performance.now() - began;
+  if (!helper.finish()) componentSums(handed);
+  else recordSpeeds(job.kind, heldWork(held, mine, q), ownMs, heldWork(held, theirs, q), helper.lastJobMs());
+}
+
+/** Half an M-step's sums for the helper thread: the components listed, over every row of the arrays. */
+export interface ComponentSumsJob extends HelperJob {
+  kind: "componentSums";
+  n: number;
+  q: number;
+  k: number;
+  rowStride: number;
+  implicitOnes: number;
+  blockRows: number;
+  rowValues: Float64Array;
+  y: Float64Array;
+  memberships: Float64Array;
+  grams: Float64Array;
+  rightHandSides: Float64Array;
+  weightedSquares: Float64Array;
+  components: number[];
+}
+
+/**
+ * The sums of the components listed, added into their (zeroed) slots of the job's arrays, a
+ * block of rows at a time: the block's rows are staged once (in the SIMD module's memory where
+ * that runs), and each component gathers the rows it holds from there with their response and
+ * membership beside them; the kernel weighs and sums them.
+ */
+export function componentSums(job: ComponentSumsJob): void {
+  const { n, q, k, y, memberships, grams, rightHandSides, weightedSquares, blockRows, rowValues, rowStride, implicitOnes, components } = job;
+  const block = rowBlock(q, blockRows, 2, rowStride, components.length);
   const { vectors, indices } = block;
   startGramSums(block);
   for (let start = 0; start < n; start += blockRows) {
     const end = Math.min(n, start + blockRows);
     stageRows(block, rowValues, start, end);
-    for (let c = 0; c < k; c++) {
-      if (c === skipped) continue;
+    for (let s = 0; s < components.length; s++) {
+      const c = components[s];
       let m = 0;
       for (let i = start; i < end; i++) {
         const w = memberships[i * k + c];
@@ -103,11 +150,43 @@ function accumulateComponentSums(ws: MixtureWorkspace, skipped: number): void {
       }
       gatherRows(block, m, implicitOnes);
       weighBlock(block, m, 1);
-      addBlockGram(block, m, grams, c * q * q, c);
+      addBlockGram(block, m, grams, c * q * q, s);
       addBlockDots(block, m, "weighted", 0, rightHandSides, c * q);
     }
   }
-  for (let c = 0; c < k; c++) if (c !== skipped) finishGramSum(block, c, grams, c * q * q);
+  for (let s = 0; s < components.length; s++) finishGramSum(block, s, grams, components[s] * q * q);
+}
+
+/** Rows each component holds a membership of at least NEGLIGIBLE_MEMBERSHIP in (the rows its sums gather). */
+function heldRows(memberships: Float64Array, n: number, k: number): Float64Array {
+  const held = new Float64Array(k);
+  for (let i = 0; i < n; i++) for (let c = 0; c < k; c++) if (memberships[i * k + c] >= NEGLIGIBLE_MEMBERSHIP) held[c]++;
+  return held;
+}
+
+/** Multiply-adds of the listed components' Gram sums: q(q + 1)/2 per held row. */
+function heldWork(held: Float64Array, components: readonly number[], q: number): number {
+  let rows = 0;
+  for (const c of components) rows += held[c];
+  return (rows * q * (q + 1)) / 2;
+}
+
+/**
+ * The components in two lists whose held rows are about 1 − share and share of the whole: the
+ * longest first, each to the list furthest below its part so far (the longest-processing-time
+ * rule, Graham 1969, for machines of different speeds). The first list is never empty.
+ */
+function splitByRows(components: readonly number[], held: Float64Array, share: number): [number[], number[]] {
+  const order = [...components].sort((a, b) => held[b] - held[a] || a - b);
+  const lists: [number[], number[]] = [[], []];
+  const load = [0, 0];
+  const part = [1 - share, share];
+  for (const c of order) {
+    const to = (load[0] + held[c]) / part[0] <= (load[1] + held[c]) / part[1] ? 0 : 1;
+    lists[to].push(c);
+    load[to] += held[c];
+  }
+  return lists;
 }
 
 /** Component `largest`'s sums as the totals over all rows minus the other components' (see mStepCoefficients). */

@@ -2,6 +2,7 @@ import { referenceVariance } from "../referenceVariance";
 import type { RegressionData } from "../mixtureTypes";
 import { choleskyScratchLength } from "../cholesky";
 import { blockRowsFor } from "../weightedGram";
+import { shareableArray } from "../helperThread";
 import type { BackgroundComponent } from "./backgroundComponent";
 
 /**
@@ -99,20 +100,20 @@ export function createWorkspace(data: RegressionData, k: number, intercept: bool
     implicitOnes,
     y,
     predictors,
-    memberships: new Float64Array(n * k),
-    residuals: new Float64Array(n * k),
-    rowLogLikelihood: new Float64Array(n),
+    memberships: shareableArray(n * k),
+    residuals: shareableArray(n * k),
+    rowLogLikelihood: shareableArray(n),
     yVariance: referenceVariance(y, n),
     predictorVariances,
-    grams: new Float64Array(k * q * q),
-    rightHandSides: new Float64Array(k * q),
+    grams: shareableArray(k * q * q),
+    rightHandSides: shareableArray(k * q),
     sizes: new Float64Array(k),
     choleskyScratch: new Float64Array(choleskyScratchLength(q)),
     blockRows,
     totalGram: null,
     totalRightHandSide: null,
     totalSquares: 0,
-    weightedSquares: new Float64Array(k),
+    weightedSquares: shareableArray(k),
     rowScratch: new Float64Array(k + 1),
     predictorScratch: new Float64Array(p),
     background: null,
@@ -150,8 +151,8 @@ function subsampleRows(data: RegressionData, rows: Int32Array, q: number, interc
   const p = data.p;
   const n = rows.length;
   const ones = intercept ? 1 : 0;
-  const design = new Float64Array(n * q);
-  const y = new Float64Array(n);
+  const design = shareableArray(n * q);
+  const y = shareableArray(n);
   const predictors = new Float64Array(copy ? n * p : 0);
   const x = data.x;
   for (let i = 0; i < n; i++) {

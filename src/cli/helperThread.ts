@@ -1,0 +1,117 @@
+import { availableParallelism } from "node:os";
+import { MessageChannel, Worker, isMainThread, receiveMessageOnPort, workerData, type MessagePort } from "node:worker_threads";
+import { useHelperThread, type HelperJob, type HelperThread } from "../engine/helperThread";
+import { runHelperJob } from "../engine/mixture/helperJobs";
+
+/**
+ * The command line's helper thread (the engine's side: src/engine/helperThread.ts): a Node
+ * worker thread running the same script, which waits on a shared flag, takes each job from
+ * its message port without returning to its event loop, and flags the job done. The calling
+ * thread blocks on that flag (Atomics.wait), so the engine's steps stay synchronous.
+ */
+
+/** Slots of the shared control array: the helper is waiting for jobs; a job was posted; the job's state. */
+const READY = 0;
+const POSTED = 1;
+const STATE = 2;
+/** Slots of the shared timing array: how long the last job took on the helper, in milliseconds. */
+const JOB_MS = 0;
+/** STATE values. */
+const RUNNING = 0;
+const DONE = 1;
+const FAILED = 2;
+
+/** Set on the helper thread's workerData. */
+interface HelperData {
+  skeinHelper: true;
+  control: Int32Array;
+  timing: Float64Array;
+  port: MessagePort;
+}
+
+/** Whether this thread is a helper thread (the entry points then run runHelperLoop instead of a command). */
+export function isHelperThread(): boolean {
+  return !isMainThread && (workerData as Partial<HelperData> | null)?.skeinHelper === true;
+}
+
+/**
+ * Starts a helper thread running `script` (the command line's own entry file) and installs it
+ * for the engine, when the machine has a second core and SKEIN_THREADS is not 1. Returns the
+ * worker (unreferenced: it never keeps the process alive), or null when none was started.
+ */
+export function installHelperThread(script: string, execArgv?: string[]): Worker | null {
+  if (availableParallelism() < 2 || process.env.SKEIN_THREADS === "1" || typeof SharedArrayBuffer !== "function") return null;
+  const control = new Int32Array(new SharedArrayBuffer(3 * 4));
+  const timing = new Float64Array(new SharedArrayBuffer(8));
+  const channel = new MessageChannel();
+  let worker: Worker;
+  try {
+    worker = new Worker(script, { workerData: { skeinHelper: true, control, timing, port: channel.port2 } satisfies HelperData, transferList: [channel.port2], execArgv });
+  } catch {
+    return null;
+  }
+  worker.unref();
+  let failed = false;
+  // A helper that cannot start (or stops) is never used again; the steps then run on one thread.
+  worker.on("error", () => {
+    failed = true;
+  });
+  const port = channel.port1;
+  const helper: HelperThread = {
+    ready: () => !failed && Atomics.load(control, READY) === 1,
+    start(job: HelperJob): void {
+      Atomics.store(control, STATE, RUNNING);
+      port.postMessage(job);
+      Atomics.store(control, POSTED, 1);
+      Atomics.notify(control, POSTED);
+    },
+    finish(): boolean {
+      awaitChange(control, STATE, RUNNING);
+      if (Atomics.load(control, STATE) === DONE) return true;
+      failed = true;
+      return false;
+    },
+    lastJobMs: () => timing[JOB_MS],
+  };
+  useHelperThread(helper);
+  return worker;
+}
+
+/**
+ * Checks of a flag before a thread sleeps on it: waking a sleeping thread takes about 50 µs on
+ * this kind of machine (a futex), as long as a mid-sized job, while the EM steps hand jobs
+ * over every few hundred microseconds; checking for about a millisecond first answers in a
+ * few microseconds.
+ */
+const SPINS = 200_000;
+
+/** Returns once control[slot] is no longer `value`: checked SPINS times, then slept on. */
+function awaitChange(control: Int32Array, slot: number, value: number): void {
+  for (let spin = 0; spin < SPINS; spin++) if (Atomics.load(control, slot) !== value) return;
+  while (Atomics.load(control, slot) === value) Atomics.wait(control, slot, value);
+}
+
+/** The helper thread's loop: wait for a posted job, run it, flag it done (or failed), forever. */
+export function runHelperLoop(): void {
+  const { control, timing, port } = workerData as HelperData;
+  Atomics.store(control, READY, 1);
+  for (;;) {
+    awaitChange(control, POSTED, 0);
+    Atomics.store(control, POSTED, 0);
+    // Timed from here: taking the job from the port is part of the helper's share.
+    const began = performance.now();
+    const received = receiveMessageOnPort(port);
+    let state = FAILED;
+    try {
+      if (received) {
+        runHelperJob(received.message as HelperJob);
+        timing[JOB_MS] = performance.now() - began;
+        state = DONE;
+      }
+    } catch {
+      state = FAILED;
+    }
+    Atomics.store(control, STATE, state);
+    Atomics.notify(control, STATE);
+  }
+}

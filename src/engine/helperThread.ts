@@ -1,0 +1,85 @@
+/**
+ * A second thread the EM steps may hand half their work to: an M-step's weighted Gram sums of
+ * some components, an E-step's or a residual pass's later rows. Each such share depends on
+ * nothing the other thread computes, and each sum runs in the same order as on one thread, so a
+ * fit is the same to the bit with or without it (the log-likelihood is still summed in row
+ * order, after both halves are done).
+ *
+ * The engine stays host-free: it never starts a thread. A host that can block on shared memory
+ * (the command line, with Node's worker threads) installs one through useHelperThread; the
+ * worksheet functions and the task pane run without (a workbook's runtime is not
+ * cross-origin isolated, so it has no shared memory to hand rows over in).
+ */
+
+/** Half an M-step's Gram sums or an E-step's rows, run on the helper by runHelperJob (mixture/helperJobs.ts). */
+export interface HelperJob {
+  kind: string;
+}
+
+export interface HelperThread {
+  /** Whether the thread has started and waits for jobs (until then the steps run on their own). */
+  ready(): boolean;
+  /** Starts `job` on the helper thread and returns at once. */
+  start(job: HelperJob): void;
+  /** Blocks until the started job is done; false when it failed (the caller then does that share itself). */
+  finish(): boolean;
+  /** Milliseconds the last finished job took on the helper thread. */
+  lastJobMs(): number;
+}
+
+let installed: HelperThread | null = null;
+
+/** Installs the helper thread the EM steps may use (null: none, every step on the calling thread). */
+export function useHelperThread(helper: HelperThread | null): void {
+  installed = helper;
+}
+
+/**
+ * Per kind of job, the helper's speed relative to the calling thread's (work per millisecond),
+ * smoothed over the jobs so far. The two threads need not run equally fast on the same work
+ * (the helper also takes the job from its port, and the two share caches), so each split
+ * gives the helper the part that makes both end together. Which thread sums what never
+ * changes a bit of the result, only how long the caller waits.
+ */
+const helperSpeeds = new Map<string, number>();
+
+/** The part of a job of this kind to hand to the helper (a half until speeds are measured). */
+export function helperShare(kind: string): number {
+  const speed = helperSpeeds.get(kind) ?? 1;
+  return speed / (1 + speed);
+}
+
+/** Weight of the newest measurement in the smoothed speed. */
+const SPEED_SMOOTHING = 0.1;
+
+/** Records one split job's work and time on each thread (work in any unit proportional to time). */
+export function recordSpeeds(kind: string, ownWork: number, ownMs: number, helperWork: number, helperMs: number): void {
+  if (!(ownWork > 0 && ownMs > 0 && helperWork > 0 && helperMs > 0)) return;
+  const measured = Math.min(4, Math.max(0.25, helperWork / helperMs / (ownWork / ownMs)));
+  const speed = helperSpeeds.get(kind) ?? 1;
+  helperSpeeds.set(kind, speed + SPEED_SMOOTHING * (measured - speed));
+}
+
+/** The installed helper thread once it is ready for jobs, or null. */
+export function helperThread(): HelperThread | null {
+  return installed?.ready() ? installed : null;
+}
+
+/**
+ * A zeroed Float64Array the helper thread can read and write: over a SharedArrayBuffer while a
+ * helper is installed, an ordinary one otherwise. The workspaces' per-row arrays come from here.
+ */
+export function shareableArray(length: number): Float64Array {
+  return installed && typeof SharedArrayBuffer === "function" ? new Float64Array(new SharedArrayBuffer(length * 8)) : new Float64Array(length);
+}
+
+/** Whether every array lives in shared memory (a step hands work over only then). */
+export function allShared(...arrays: readonly Float64Array[]): boolean {
+  return typeof SharedArrayBuffer === "function" && arrays.every((a) => a.buffer instanceof SharedArrayBuffer);
+}
+
+/**
+ * Work below which a step does not hand anything over, in multiply-adds: waking the helper and
+ * waiting for it cost tens of microseconds, about what this much arithmetic takes.
+ */
+export const HELPER_MINIMUM_WORK = 100_000;
