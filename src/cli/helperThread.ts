@@ -78,16 +78,19 @@ export function installHelperThread(script: string, execArgv?: string[]): Worker
 }
 
 /**
- * Checks of a flag before a thread sleeps on it: waking a sleeping thread takes about 50 µs on
- * this kind of machine (a futex), as long as a mid-sized job, while the EM steps hand jobs
- * over every few hundred microseconds; checking for about a millisecond first answers in a
+ * How long a thread checks a flag before it sleeps on it: waking a sleeping thread takes 50-100
+ * µs on this kind of machine (a futex), as long as a mid-sized job, while the EM steps hand
+ * jobs over every few hundred microseconds; checking for a few milliseconds first answers in a
  * few microseconds.
  */
-const SPINS = 200_000;
+const SPIN_MS = 3;
 
-/** Returns once control[slot] is no longer `value`: checked SPINS times, then slept on. */
+/** Returns once control[slot] is no longer `value`: checked for SPIN_MS, then slept on. */
 function awaitChange(control: Int32Array, slot: number, value: number): void {
-  for (let spin = 0; spin < SPINS; spin++) if (Atomics.load(control, slot) !== value) return;
+  const began = performance.now();
+  do {
+    for (let spin = 0; spin < 1000; spin++) if (Atomics.load(control, slot) !== value) return;
+  } while (performance.now() - began < SPIN_MS);
   while (Atomics.load(control, slot) === value) Atomics.wait(control, slot, value);
 }
 

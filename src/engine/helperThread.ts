@@ -79,7 +79,18 @@ export function allShared(...arrays: readonly Float64Array[]): boolean {
 }
 
 /**
- * Work below which a step does not hand anything over, in multiply-adds: waking the helper and
- * waiting for it cost tens of microseconds, about what this much arithmetic takes.
+ * Least estimated time, in microseconds, of a step's whole work for it to be split between the
+ * threads: handing a share over and waiting for it cost some tens of microseconds (measured
+ * here: about 12 µs for an empty job back and forth while the helper is awake, 50-100 µs
+ * when it has to be woken).
  */
-export const HELPER_MINIMUM_WORK = 100_000;
+export const HELPER_MINIMUM_MICROSECONDS = 300;
+
+/**
+ * Rough speeds for that estimate on this kind of machine, in units of work per microsecond:
+ * the Gram sums' multiply-adds run two to a SIMD lane pair (about 10,000 per µs measured); a
+ * row's E-step work per component (q multiply-adds for the residual, then an exponential and
+ * the membership) about 1,000 units of (q + 8) per µs.
+ */
+export const GRAM_MULTIPLY_ADDS_PER_MICROSECOND = 10_000;
+export const ROW_TERMS_PER_MICROSECOND = 1_000;

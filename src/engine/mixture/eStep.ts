@@ -2,7 +2,7 @@ import type { MixtureParameters } from "./mixtureParameters";
 import type { MixtureWorkspace } from "./mixtureWorkspace";
 import { backgroundLogTerm } from "./backgroundComponent";
 import { reserve, simdKernel } from "../weightedGram";
-import { HELPER_MINIMUM_WORK, allShared, helperShare, helperThread, recordSpeeds, type HelperJob } from "../helperThread";
+import { HELPER_MINIMUM_MICROSECONDS, ROW_TERMS_PER_MICROSECOND, allShared, helperShare, helperThread, recordSpeeds, type HelperJob } from "../helperThread";
 
 import { gaussianLogDensity, componentLogConstant, membershipsFromLogTerms } from "../logDensities";
 
@@ -51,7 +51,7 @@ function byRows(job: RowsJob): void {
   const { from, to, q, k } = job;
   const helper = helperThread();
   const arrays = job.terms ? [job.rowValues, job.y, job.residuals, job.terms.memberships, job.terms.rowLogLikelihood] : [job.rowValues, job.y, job.residuals];
-  if (!helper || (to - from) * k * (q + 8) < 2 * HELPER_MINIMUM_WORK || !allShared(...arrays)) {
+  if (!helper || ((to - from) * k * (q + 8)) / ROW_TERMS_PER_MICROSECOND < HELPER_MINIMUM_MICROSECONDS || !allShared(...arrays)) {
     stepRows(job);
     return;
   }

@@ -3,7 +3,7 @@ import type { MixtureWorkspace } from "./mixtureWorkspace";
 import { choleskyScratchLength, scaledCholeskyLower, scaledCholeskySolve } from "../cholesky";
 import { constrainedVariances } from "./constrainedVariances";
 import { addBlockDots, addBlockGram, dot, finishGramSum, gatherRows, rowBlock, stageRows, startGramSums, weighBlock } from "../weightedGram";
-import { HELPER_MINIMUM_WORK, allShared, helperShare, helperThread, recordSpeeds, type HelperJob } from "../helperThread";
+import { GRAM_MULTIPLY_ADDS_PER_MICROSECOND, HELPER_MINIMUM_MICROSECONDS, allShared, helperShare, helperThread, recordSpeeds, type HelperJob } from "../helperThread";
 
 /** What an M-step changed beyond the parameters themselves. */
 export interface MStepReport {
@@ -45,7 +45,19 @@ export const NEGLIGIBLE_MEMBERSHIP = 1e-12;
 export function mStepCoefficients(ws: MixtureWorkspace, params: MixtureParameters, guards: Guards): MStepReport {
   const { n, q, k, memberships, grams, rightHandSides, sizes } = ws;
   sizes.fill(0);
-  for (let i = 0; i < n; i++) for (let c = 0; c < k; c++) sizes[c] += memberships[i * k + c];
+  // With a helper thread, the rows each component's sums will gather are counted in the same sweep.
+  const held = helperThread() && allShared(ws.rowValues, ws.y, memberships, grams, ws.rightHandSides, ws.weightedSquares) ? new Float64Array(k) : null;
+  if (held) {
+    for (let i = 0; i < n; i++) {
+      for (let c = 0; c < k; c++) {
+        const w = memberships[i * k + c];
+        sizes[c] += w;
+        if (w >= NEGLIGIBLE_MEMBERSHIP) held[c]++;
+      }
+    }
+  } else {
+    for (let i = 0; i < n; i++) for (let c = 0; c < k; c++) sizes[c] += memberships[i * k + c];
+  }
   // The largest component's Gram matrix is the total XᵀX (computed once per data set) minus
   // the others', since Σ_k τ_ik = 1: one component fewer to accumulate. Taking the largest keeps
   // the cancellation small: the error is about rounding × n / n_largest ≤ rounding × k. With a
@@ -53,7 +65,7 @@ export function mStepCoefficients(ws: MixtureWorkspace, params: MixtureParameter
   let largest = 0;
   for (let c = 1; c < k; c++) if (sizes[c] > sizes[largest]) largest = c;
   const complement = k > 1 && ws.background === null ? largest : -1;
-  accumulateComponentSums(ws, complement);
+  accumulateComponentSums(ws, complement, held);
   if (complement >= 0) complementSums(ws, complement);
   const collapsed: number[] = [];
   const solution = new Float64Array(q);
@@ -75,9 +87,10 @@ export function mStepCoefficients(ws: MixtureWorkspace, params: MixtureParameter
  * Σ τ x xᵀ, Σ τ x y and Σ τ y² of every component but `skipped` (−1: none) into the
  * workspace's grams, rightHandSides and weightedSquares. With a helper thread (helperThread.ts)
  * and enough work, the components are split between the two threads by the rows each holds
- * (each thread sums whole components, every sum in the same order as on one thread).
+ * (`held`, counted by mStepCoefficients then; each thread sums whole components, every sum in
+ * the same order as on one thread).
  */
-function accumulateComponentSums(ws: MixtureWorkspace, skipped: number): void {
+function accumulateComponentSums(ws: MixtureWorkspace, skipped: number, held: Float64Array | null): void {
   const { n, q, k, memberships, grams, rightHandSides, weightedSquares } = ws;
   grams.fill(0);
   rightHandSides.fill(0);
@@ -89,8 +102,7 @@ function accumulateComponentSums(ws: MixtureWorkspace, skipped: number): void {
   const summed: number[] = [];
   for (let c = 0; c < k; c++) if (c !== skipped) summed.push(c);
   const helper = helperThread();
-  const held = helper && allShared(ws.rowValues, ws.y, memberships, grams, rightHandSides, weightedSquares) ? heldRows(memberships, n, k) : null;
-  if (!helper || !held || summed.length < 2 || heldWork(held, summed, q) < 2 * HELPER_MINIMUM_WORK) {
+  if (!helper || !held || summed.length < 2 || heldWork(held, summed, q) / GRAM_MULTIPLY_ADDS_PER_MICROSECOND < HELPER_MINIMUM_MICROSECONDS) {
     componentSums({ ...job, components: summed });
     return;
   }
@@ -155,13 +167,6 @@ export function componentSums(job: ComponentSumsJob): void {
     }
   }
   for (let s = 0; s < components.length; s++) finishGramSum(block, s, grams, components[s] * q * q);
-}
-
-/** Rows each component holds a membership of at least NEGLIGIBLE_MEMBERSHIP in (the rows its sums gather). */
-function heldRows(memberships: Float64Array, n: number, k: number): Float64Array {
-  const held = new Float64Array(k);
-  for (let i = 0; i < n; i++) for (let c = 0; c < k; c++) if (memberships[i * k + c] >= NEGLIGIBLE_MEMBERSHIP) held[c]++;
-  return held;
 }
 
 /** Multiply-adds of the listed components' Gram sums: q(q + 1)/2 per held row. */
