@@ -83,7 +83,8 @@ module.exports = async (env, options) => {
     name: "cli",
     target: "node20",
     devtool: dev ? "source-map" : false,
-    entry: { skein: "./src/cli/skein.ts" },
+    // skein-helper.js: the engine's helper thread (src/cli/helperThread.ts), without the readers.
+    entry: { skein: "./src/cli/skein.ts", "skein-helper": "./src/cli/helperEntry.ts" },
     output: { path: path.resolve(__dirname, "dist/cli"), filename: "[name].js", clean: true },
     resolve: { extensions: [".ts", ".js"] },
     module: { rules: [tsRule] },

@@ -94,7 +94,7 @@ const D100_LIMIT_MS = 60000;
  * other sections, the same fits took up to 1.5 times as long.
  */
 export function runD100Bench(print: (line: string) => void): void {
-  print(`Noiseless d = 100, K = 10, 10 rows per predictor per component (n = 10,000), each fit as its own skein fit process; one still running after ${D100_LIMIT_MS / 1000} s is stopped`);
+  print(`Noiseless d = 100, K = 10, 10 rows per predictor per component (n = 10,000), each fit as its own skein fit process, with its helper thread (as shipped) and with SKEIN_THREADS=1; one still running after ${D100_LIMIT_MS / 1000} s is stopped`);
   if (!cliBuilt()) {
     print("  skipped: dist/cli/skein.js is not built (npm run build)");
     return;
@@ -104,16 +104,19 @@ export function runD100Bench(print: (line: string) => void): void {
     const problem = noiselessProblem(100, 10, 10, createRandom(problemSeed));
     const { file, cleanup } = writeProblemCsv(problem, 17);
     try {
-      const figures = runCli(["fit", file, "--y", "y", "--k", "10", "--no-intercept", "--seed", String(problemSeed)], D100_LIMIT_MS);
-      if (typeof figures === "string") {
-        print(`  seed ${s}: not finished: ${figures}`);
-        continue;
+      for (const oneThread of [false, true]) {
+        const figures = runCli(["fit", file, "--y", "y", "--k", "10", "--no-intercept", "--seed", String(problemSeed)], D100_LIMIT_MS, oneThread);
+        const label = `seed ${s}, ${oneThread ? "one thread" : "two threads"}`;
+        if (typeof figures === "string") {
+          print(`  ${label}: not finished: ${figures}`);
+          continue;
+        }
+        const { fitMs } = figures.json.timings as { fitMs: number };
+        // The report's coefficients carry the intercept slot first (0 here).
+        const components = figures.json.components as { coefficients: number[] }[];
+        const error = relativeCoefficientError(components.map((c) => Float64Array.from(c.coefficients.slice(1))), problem.coefficients);
+        print(`  ${label}: fit ${(fitMs / 1000).toFixed(1)} s (whole process ${(figures.wallMs / 1000).toFixed(1)} s), worst relative error ${error.toExponential(2)} (${error <= RECOVERY_TOLERANCE ? "recovered" : "not recovered"})`);
       }
-      const { fitMs } = figures.json.timings as { fitMs: number };
-      // The report's coefficients carry the intercept slot first (0 here).
-      const components = figures.json.components as { coefficients: number[] }[];
-      const error = relativeCoefficientError(components.map((c) => Float64Array.from(c.coefficients.slice(1))), problem.coefficients);
-      print(`  seed ${s}: fit ${(fitMs / 1000).toFixed(1)} s (whole process ${(figures.wallMs / 1000).toFixed(1)} s), worst relative error ${error.toExponential(2)} (${error <= RECOVERY_TOLERANCE ? "recovered" : "not recovered"})`);
     } finally {
       cleanup();
     }
@@ -196,9 +199,10 @@ function printWholeProcess(problem: GeneratedProblem, print: (line: string) => v
   }
   const { file, cleanup } = writeProblemCsv(problem);
   try {
-    for (const args of [["fit", file, "--y", "y", "--k", "3"], ["scan", file, "--y", "y", "--k-max", "4"]]) {
-      const figures = runCli(args);
-      const label = `skein ${args[0]} ${args.slice(4).join(" ")}`;
+    const runs: Array<[string[], boolean]> = [[["fit", file, "--y", "y", "--k", "3"], false], [["fit", file, "--y", "y", "--k", "3"], true], [["scan", file, "--y", "y", "--k-max", "4"], false]];
+    for (const [args, oneThread] of runs) {
+      const figures = runCli(args, undefined, oneThread);
+      const label = `skein ${args[0]} ${args.slice(4).join(" ")}${oneThread ? " (SKEIN_THREADS=1)" : ""}`;
       if (typeof figures === "string") {
         print(`${n} x ${p} CSV, ${label}: failed (${figures})`);
         continue;

@@ -45,11 +45,13 @@ export function writeProblemCsv(problem: GeneratedProblem, digits = 10): { file:
 
 /**
  * Runs `skein ARGS --json` as its own process; the reason instead of figures when it fails, or
- * when it still runs after `timeoutMs` (it is then stopped).
+ * when it still runs after `timeoutMs` (it is then stopped). `oneThread`: with SKEIN_THREADS=1,
+ * without the helper thread the command line otherwise uses on a machine of two or more cores.
  */
-export function runCli(args: string[], timeoutMs?: number): ProcessFigures | string {
+export function runCli(args: string[], timeoutMs?: number, oneThread = false): ProcessFigures | string {
   const began = performance.now();
-  const child = spawnSync(process.execPath, ["-r", PEAK_REPORTER, CLI, ...args, "--json"], { encoding: "utf8", maxBuffer: 1 << 30, timeout: timeoutMs });
+  const env = oneThread ? { ...process.env, SKEIN_THREADS: "1" } : { ...process.env, SKEIN_THREADS: undefined };
+  const child = spawnSync(process.execPath, ["-r", PEAK_REPORTER, CLI, ...args, "--json"], { encoding: "utf8", maxBuffer: 1 << 30, timeout: timeoutMs, env });
   const wallMs = performance.now() - began;
   if (child.signal !== null) return `stopped after ${(wallMs / 1000).toFixed(1)} s (${child.signal})`;
   const peak = /peak resident kB (\d+)/.exec(child.stderr ?? "");

@@ -1,11 +1,13 @@
 import { availableParallelism } from "node:os";
-import { MessageChannel, Worker, isMainThread, receiveMessageOnPort, workerData, type MessagePort } from "node:worker_threads";
+import { existsSync, realpathSync } from "node:fs";
+import * as path from "node:path";
+import { MessageChannel, Worker, receiveMessageOnPort, workerData, type MessagePort } from "node:worker_threads";
 import { useHelperThread, type HelperJob, type HelperThread } from "../engine/helperThread";
 import { runHelperJob } from "../engine/mixture/helperJobs";
 
 /**
  * The command line's helper thread (the engine's side: src/engine/helperThread.ts): a Node
- * worker thread running the same script, which waits on a shared flag, takes each job from
+ * worker thread running skein-helper.js (helperEntry.ts), which waits on a shared flag, takes each job from
  * its message port without returning to its event loop, and flags the job done. The calling
  * thread blocks on that flag (Atomics.wait), so the engine's steps stay synchronous.
  */
@@ -21,21 +23,30 @@ const RUNNING = 0;
 const DONE = 1;
 const FAILED = 2;
 
-/** Set on the helper thread's workerData. */
+/** The helper thread's workerData. */
 interface HelperData {
-  skeinHelper: true;
   control: Int32Array;
   timing: Float64Array;
   port: MessagePort;
 }
 
-/** Whether this thread is a helper thread (the entry points then run runHelperLoop instead of a command). */
-export function isHelperThread(): boolean {
-  return !isMainThread && (workerData as Partial<HelperData> | null)?.skeinHelper === true;
+/**
+ * The helper thread's script: skein-helper.js beside the running skein.js (the built command
+ * line), or null (run from the TypeScript sources, the command keeps to one thread).
+ */
+export function helperScript(): string | null {
+  const entry = process.argv[1];
+  if (!entry) return null;
+  try {
+    const script = path.join(path.dirname(realpathSync(entry)), "skein-helper.js");
+    return existsSync(script) ? script : null;
+  } catch {
+    return null;
+  }
 }
 
 /**
- * Starts a helper thread running `script` (the command line's own entry file) and installs it
+ * Starts a helper thread running `script` (helperScript()) and installs it
  * for the engine, when the machine has a second core and SKEIN_THREADS is not 1. Returns the
  * worker (unreferenced: it never keeps the process alive), or null when none was started.
  */
@@ -46,7 +57,7 @@ export function installHelperThread(script: string, execArgv?: string[]): Worker
   const channel = new MessageChannel();
   let worker: Worker;
   try {
-    worker = new Worker(script, { workerData: { skeinHelper: true, control, timing, port: channel.port2 } satisfies HelperData, transferList: [channel.port2], execArgv });
+    worker = new Worker(script, { workerData: { control, timing, port: channel.port2 } satisfies HelperData, transferList: [channel.port2], execArgv });
   } catch {
     return null;
   }

@@ -3,7 +3,7 @@ import { demoCommand } from "./demoCommand";
 import { fitCommand } from "./fitCommand";
 import { predictCommand } from "./predictCommand";
 import { scanCommand } from "./scanCommand";
-import { installHelperThread, isHelperThread, runHelperLoop } from "./helperThread";
+import { helperScript, installHelperThread } from "./helperThread";
 
 export interface CommandIO {
   stdout: (s: string) => void;
@@ -74,8 +74,9 @@ export async function main(argv: readonly string[], io: CommandIO): Promise<numb
 
 /** Runs main on this process's arguments and sets its exit status. */
 export function runAsProcess(): void {
-  // The engine's helper thread runs this process's own entry file (helperThread.ts).
-  if (process.argv[1]) installHelperThread(process.argv[1]);
+  // The engine's helper thread, from the bundle beside the command's own (helperThread.ts).
+  const helper = helperScript();
+  if (helper) installHelperThread(helper);
   void main(process.argv.slice(2), {
     stdout: (s) => process.stdout.write(s),
     stderr: (s) => process.stderr.write(s),
@@ -88,5 +89,4 @@ export function runAsProcess(): void {
 
 // `npx tsx src/cli/main.ts ...` runs this file directly; the bundled command
 // line enters through skein.ts instead, so this test needs no module tricks.
-if (isHelperThread()) runHelperLoop();
-else if (/[\\/]cli[\\/]main\.[cm]?[jt]s$/.test(process.argv[1] ?? "")) runAsProcess();
+if (/[\\/]cli[\\/]main\.[cm]?[jt]s$/.test(process.argv[1] ?? "")) runAsProcess();

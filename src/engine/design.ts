@@ -1,3 +1,4 @@
+import { shareableArray } from "./helperThread";
 import { SkeinError } from "./errors";
 import { categoryNotice, chooseLevels, encodedNames, encodedWidth, isCategoryColumn, levelOf, type PredictorColumn } from "./categoryLevels";
 import { readNumberTextCells, type Cell } from "../io/columnTypes";
@@ -261,8 +262,9 @@ function readRows(yRows: unknown[][], xRows: unknown[][], header: Header, isCate
   const inputRows = yRows.length - firstDataRow;
   const p = isCategory.length;
   // Written in place for every input row; a skipped row is overwritten by the next one.
-  const yValues = new Float64Array(inputRows);
-  const rawX = new Float64Array(inputRows * p);
+  // In shared memory when a helper thread is installed (helperThread.ts): the fit reads them in place.
+  const yValues = shareableArray(inputRows);
+  const rawX = shareableArray(inputRows * p);
   const levelKeys: string[][] = isCategory.map(() => []);
   const levelLabels: Map<string, string>[] = isCategory.map(() => new Map());
   const rowIndex = new Int32Array(inputRows);
@@ -354,7 +356,7 @@ function packPredictors(read: RowsRead, columns: readonly PredictorColumn[], any
   const { n, rawX, levelKeys } = read;
   const p = columns.length;
   const width = encodedWidth(columns);
-  const xValues = anyCategory ? new Float64Array(n * width) : rawX.subarray(0, n * p);
+  const xValues = anyCategory ? shareableArray(n * width) : rawX.subarray(0, n * p);
   for (let i = 0; anyCategory && i < n; i++) {
     let at = i * width;
     for (let j = 0; j < p; j++) {
@@ -388,8 +390,8 @@ export function buildNumberDesign(
   const { yName, columnNames } = columnNamesOf(y.name, x.map((column) => column.name));
   const xColumns = x.map((column) => column.values);
   // Written in place for every input row; a skipped row is overwritten by the next one.
-  const yValues = new Float64Array(inputRows);
-  const xValues = new Float64Array(inputRows * p);
+  const yValues = shareableArray(inputRows);
+  const xValues = shareableArray(inputRows * p);
   const rowIndex = new Int32Array(inputRows);
   const skipped: SkippedRow[] = [];
   let n = 0;

@@ -1,5 +1,6 @@
 import { euclideanNorm, largestMagnitude } from "./scaledNorm";
 import { median } from "./median";
+import { shareableArray } from "./helperThread";
 import type { MixtureComponent, MixtureFit, RegressionData } from "./mixtureTypes";
 
 /**
@@ -66,8 +67,8 @@ function medianMagnitude(values: Float64Array, n: number, stride: number, offset
 /** The data divided by their scales. */
 export function scaleData(data: RegressionData, scales: Scales): RegressionData {
   const { n, p } = data;
-  const y = new Float64Array(n);
-  const x = new Float64Array(n * p);
+  const y = shareableArray(n);
+  const x = shareableArray(n * p);
   for (let i = 0; i < n; i++) {
     y[i] = data.y[i] / scales.y;
     for (let j = 0; j < p; j++) x[i * p + j] = data.x[i * p + j] / scales.x[j];
