@@ -1,3 +1,4 @@
+import { threadsLine } from "./helperThread";
 import * as path from "path";
 import type { Design } from "../engine/design";
 import { designMatrix } from "../engine/designMatrix";
@@ -45,7 +46,7 @@ ${optionHelp(FIT_OPTIONS, 20)}
   --bootstrap N     standard errors from N bootstrap refits (components
                     matched to this fit in each) instead of from the
                     curvature of the likelihood; slower
-  --verbose         also show how the starts were made
+  --verbose         also show how the starts were made and on how many threads
   --leave-out ROWS  data rows to leave out of the fit, separated by commas
                     (counted from 1 below the header), e.g. stray rows
   --json            write one JSON object instead of a table
@@ -403,6 +404,6 @@ export async function fitCommand(argv: readonly string[], io: CommandIO): Promis
     await writeRowResults(settings.out, { rows, design, fit, separation: separation ?? undefined, warnings: report.warnings, notes: [`skein fit ${path.basename(settings.file)}, seed ${settings.seed}; ${kChoiceText(report)}`] });
   }
   if (settings.json) io.stdout(JSON.stringify(report) + "\n");
-  else io.stdout(formatFitTable(report, { file: path.basename(settings.file), sheetName, verbose: settings.verbose, out: settings.out }) + formatNotices(report.notices));
+  else io.stdout(formatFitTable(report, { file: path.basename(settings.file), sheetName, verbose: settings.verbose, out: settings.out }) + (settings.verbose ? `${threadsLine()}\n` : "") + formatNotices(report.notices));
   return 0;
 }

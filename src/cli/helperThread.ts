@@ -23,6 +23,16 @@ const RUNNING = 0;
 const DONE = 1;
 const FAILED = 2;
 
+/** Jobs the helper thread has finished in this process (the verbose output's threads line). */
+let finishedJobs = 0;
+let helperStarted = false;
+
+/** One line for --verbose: how many threads the fit ran on. */
+export function threadsLine(): string {
+  if (!helperStarted) return "Threads: 1.";
+  return `Threads: 2 (the helper thread took ${finishedJobs.toLocaleString("en-US")} shares of the EM steps; SKEIN_THREADS=1 keeps to one).`;
+}
+
 /** The helper thread's workerData. */
 interface HelperData {
   control: Int32Array;
@@ -78,13 +88,17 @@ export function installHelperThread(script: string, execArgv?: string[]): Worker
     },
     finish(): boolean {
       awaitChange(control, STATE, RUNNING);
-      if (Atomics.load(control, STATE) === DONE) return true;
+      if (Atomics.load(control, STATE) === DONE) {
+        finishedJobs++;
+        return true;
+      }
       failed = true;
       return false;
     },
     lastJobMs: () => timing[JOB_MS],
   };
   useHelperThread(helper);
+  helperStarted = true;
   return worker;
 }
 

@@ -4,7 +4,8 @@
  * the chart and warning cases, place results, and cancel a scan. office.js
  * requests are refused, as on a machine without Office. Screenshots go to
  * test-results/. Then the worksheet functions from the same build, called as Excel calls
- * them (functionsInChromium.ts). Prints one line per check and a closing "N passed, N failed";
+ * them (functionsInChromium.ts), and the built command line with its helper thread
+ * (commandLineThreads.ts). Prints one line per check and a closing "N passed, N failed";
  * exits 1 when any check failed.
  */
 import { promises as fs } from "fs";
@@ -14,6 +15,7 @@ import { parseCsv } from "../../src/io/readCsv";
 import { checkHelpLinks } from "./helpLinks";
 import { checkPaneWidths } from "./paneWidth";
 import { checkWorksheetFunctions } from "./functionsInChromium";
+import { checkCommandLineThreads } from "./commandLineThreads";
 import { serveDirectory } from "./staticServer";
 
 const ROOT = path.resolve(__dirname, "../..");
@@ -264,6 +266,8 @@ async function main(): Promise<void> {
     await browser.close();
     server.close();
   }
+  // The built command line's helper thread (no browser needed, but the same build).
+  await step("command line with its helper thread", () => checkCommandLineThreads(check));
   console.log(`${passed} passed, ${failed} failed`);
   process.exit(failed === 0 ? 0 : 1);
 }

@@ -1,0 +1,43 @@
+/*
+ * The built command line with its helper thread (dist/cli/skein.js and skein-helper.js, as
+ * `npx skein` runs them): a fit on a generated noiseless problem (d = 40, K = 4; invented
+ * data from the shared generator) run as its own process with the helper and with
+ * SKEIN_THREADS=1. The helper must take part (the verbose output counts its shares) and the
+ * results must be the same to the bit (the JSON equal apart from the timings).
+ */
+import { execFileSync } from "child_process";
+import { promises as fs } from "fs";
+import { availableParallelism, tmpdir } from "os";
+import * as path from "path";
+import { createRandom } from "../../src/engine/random";
+import { noiselessProblem } from "../../src/synthetic/generateProblems";
+
+type Check = (name: string, ok: boolean, detail?: string) => void;
+
+const CLI = path.resolve(__dirname, "../../dist/cli/skein.js");
+
+export async function checkCommandLineThreads(check: Check): Promise<void> {
+  const problem = noiselessProblem(40, 4, 20, createRandom(31));
+  const { n, p, x, y } = problem.data;
+  const folder = await fs.mkdtemp(path.join(tmpdir(), "skein-threads-"));
+  const file = path.join(folder, "generated.csv");
+  const lines = [["y", ...Array.from({ length: p }, (_, j) => `x${j + 1}`)].join(",")];
+  // 17 significant digits: the file gives back the same doubles.
+  for (let i = 0; i < n; i++) lines.push([y[i], ...x.subarray(i * p, (i + 1) * p)].map((v) => v.toPrecision(17)).join(","));
+  await fs.writeFile(file, `${lines.join("\n")}\n`);
+  try {
+    const run = (threads: string | undefined, ...extra: string[]) =>
+      execFileSync(process.execPath, [CLI, "fit", file, "--y", "y", "--k", "4", "--no-intercept", "--seed", "3", ...extra], { encoding: "utf8", env: { ...process.env, SKEIN_THREADS: threads } });
+    const withoutTimings = (json: string) => JSON.stringify({ ...JSON.parse(json), timings: undefined });
+    const two = withoutTimings(run(undefined, "--json"));
+    const one = withoutTimings(run("1", "--json"));
+    check("command line: the same fit with and without its helper thread", two === one && two.includes('"components"'));
+    const verbose = run(undefined, "--verbose");
+    const shares = /Threads: 2 \(the helper thread took ([\d,]+) shares/.exec(verbose);
+    if (availableParallelism() < 2) check("command line: one thread on one core", verbose.includes("Threads: 1."));
+    else check("command line: the helper thread takes part", shares !== null && Number(shares[1].replace(/,/g, "")) > 0, shares?.[0] ?? verbose.split("\n").find((line) => line.startsWith("Threads")) ?? "no threads line");
+    check("command line: SKEIN_THREADS=1 keeps to one thread", run("1", "--verbose").includes("Threads: 1."));
+  } finally {
+    await fs.rm(folder, { recursive: true, force: true });
+  }
+}
