@@ -16,25 +16,29 @@ function fingerprint(value: unknown): string {
   return JSON.stringify(value, (key, v) => (key === "timings" ? undefined : v instanceof Float64Array ? Array.from(v) : v));
 }
 
-/** A noiseless d = 40, K = 4 fit (sub-problems, exact components) and a noisy one with standard errors. */
+/** A noiseless d = 40, K = 4 fit (sub-problems, exact components) and a noisy one (d = 30, K = 3, 5,400 rows: large enough that its M-steps are split too) with standard errors. */
 function fits(): string {
   const noiseless = noiselessProblem(40, 4, 20, createRandom(31));
-  const noisy = noisyProblem(10, 3, 200, createRandom(32));
+  const noisy = noisyProblem(30, 3, 60, createRandom(32));
   const exact = fitMixture(noiseless.data, { k: 4, intercept: false, seed: 3 });
   const fit = fitMixture(noisy.data, { k: 3, intercept: true, seed: 3 });
   return fingerprint([exact.components, exact.logLikelihood, exact.memberships, fit.components, fit.logLikelihood, fit.memberships, standardErrors(noisy.data, fit)]);
 }
 
-/** A helper on the calling thread: each job runs when started (or, failing, never), counted by kind. */
-function inlineHelper(fails: boolean): { helper: HelperThread; jobs: Map<string, number> } {
+/**
+ * A helper on the calling thread, its jobs counted by kind: "works" runs each job when started;
+ * "fails" does nothing and reports failure; "failsAfterWriting" runs the job, then reports
+ * failure anyway (a share left written, which the caller must make again, not add to).
+ */
+function inlineHelper(behaviour: "works" | "fails" | "failsAfterWriting"): { helper: HelperThread; jobs: Map<string, number> } {
   const jobs = new Map<string, number>();
   const helper: HelperThread = {
     ready: () => true,
     start(job: HelperJob) {
       jobs.set(job.kind, (jobs.get(job.kind) ?? 0) + 1);
-      if (!fails) runHelperJob(job);
+      if (behaviour !== "fails") runHelperJob(job);
     },
-    finish: () => !fails,
+    finish: () => behaviour === "works",
     lastJobMs: () => 1,
   };
   return { helper, jobs };
@@ -46,18 +50,20 @@ describe("the helper thread", () => {
   const alone = fits();
 
   it("hands over Gram sums and rows, and the fits are the same to the bit", () => {
-    const { helper, jobs } = inlineHelper(false);
+    const { helper, jobs } = inlineHelper("works");
     useHelperThread(helper);
     expect(fits()).toBe(alone);
     expect(jobs.get("componentSums") ?? 0).toBeGreaterThan(0);
     expect(jobs.get("rows") ?? 0).toBeGreaterThan(0);
   });
 
-  it("when a job fails, the calling thread does that share and the fits are still the same", () => {
-    const { helper, jobs } = inlineHelper(true);
-    useHelperThread(helper);
-    expect(fits()).toBe(alone);
-    expect(jobs.size).toBeGreaterThan(0);
+  it("when a job fails, before or after writing its share, the calling thread makes that share and the fits are still the same", () => {
+    for (const behaviour of ["fails", "failsAfterWriting"] as const) {
+      const { helper, jobs } = inlineHelper(behaviour);
+      useHelperThread(helper);
+      expect(fits(), behaviour).toBe(alone);
+      expect(jobs.get("componentSums") ?? 0, behaviour).toBeGreaterThan(0);
+    }
   });
 
   it.skipIf(availableParallelism() < 2)("runs as a worker thread beside the fit, with the same fits", async () => {

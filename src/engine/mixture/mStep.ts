@@ -135,13 +135,18 @@ export interface ComponentSumsJob extends HelperJob {
 }
 
 /**
- * The sums of the components listed, added into their (zeroed) slots of the job's arrays, a
- * block of rows at a time: the block's rows are staged once (in the SIMD module's memory where
+ * The sums of the components listed, into their slots of the job's arrays (set afresh, so a
+ * share a failed helper left half done is simply made again), a block of rows at a time: the block's rows are staged once (in the SIMD module's memory where
  * that runs), and each component gathers the rows it holds from there with their response and
  * membership beside them; the kernel weighs and sums them.
  */
 export function componentSums(job: ComponentSumsJob): void {
   const { n, q, k, y, memberships, grams, rightHandSides, weightedSquares, blockRows, rowValues, rowStride, implicitOnes, components } = job;
+  for (const c of components) {
+    grams.fill(0, c * q * q, (c + 1) * q * q);
+    rightHandSides.fill(0, c * q, (c + 1) * q);
+    weightedSquares[c] = 0;
+  }
   const block = rowBlock(q, blockRows, 2, rowStride, components.length);
   const { vectors, indices } = block;
   startGramSums(block);
