@@ -3,8 +3,9 @@ import { fileURLToPath } from "node:url";
 import { afterEach, describe, expect, it } from "vitest";
 import { fitMixture } from "../src/engine/fitMixture";
 import { standardErrors } from "../src/engine/standardErrors";
-import { helperThread, useHelperThread, type HelperJob, type HelperThread } from "../src/engine/helperThread";
+import { helperThread, shareableArray, useHelperThread, type HelperJob, type HelperThread } from "../src/engine/helperThread";
 import { runHelperJob } from "../src/engine/mixture/helperJobs";
+import { ConcentrationSteps, concentrationRuns, type ConcentrationJob } from "../src/engine/mixture/concentrationSteps";
 import { installHelperThread } from "../src/cli/helperThread";
 import { createRandom } from "../src/engine/random";
 import { noiselessProblem, noisyProblem } from "../src/synthetic/generateProblems";
@@ -46,6 +47,28 @@ function inlineHelper(behaviour: "works" | "fails" | "failsAfterWriting"): { hel
 
 afterEach(() => useHelperThread(null));
 
+/**
+ * Concentration steps from each component of a noiseless d = 30, K = 5 problem moved 5% away
+ * (3,000 rows: enough work to be shared), run by concentrationRuns; the same starts one after
+ * the other on this thread, as a fingerprint to compare with.
+ */
+function concentrationCase(): { run: () => string; alone: string } {
+  const problem = noiselessProblem(30, 5, 20, createRandom(33));
+  const { x, y, n, p } = problem.data;
+  const random = createRandom(34);
+  const starts = problem.coefficients.map((beta) => beta.map((value) => value * (1 + 0.05 * (2 * random.next() - 1))));
+  const subsets = starts.map(() => Math.floor(n / 10));
+  // The rows copied into memory a helper can read (shared while one is installed), as a fit's are.
+  const run = () => {
+    const shared = { x: shareableArray(x.length), y: shareableArray(y.length) };
+    shared.x.set(x);
+    shared.y.set(y);
+    return fingerprint(concentrationRuns(shared.x, n, p, shared.y, starts, subsets, 20, 1e-9));
+  };
+  const steps = new ConcentrationSteps(x, n, p, y);
+  return { run, alone: fingerprint(starts.map((start, s) => steps.run(start, subsets[s], 20, 1e-9))) };
+}
+
 describe("the helper thread", () => {
   const alone = fits();
 
@@ -64,6 +87,26 @@ describe("the helper thread", () => {
       expect(fits(), behaviour).toBe(alone);
       expect(jobs.get("componentSums") ?? 0, behaviour).toBeGreaterThan(0);
     }
+  });
+
+  it("shares concentration steps start by start, and runs a start the helper claimed but left unfinished", () => {
+    const { run, alone } = concentrationCase();
+    const landed = JSON.parse(alone) as { exactRows: number }[];
+    expect(landed.filter((result) => result.exactRows > 30).length, "starts that land their component").toBeGreaterThan(0);
+    for (const behaviour of ["works", "fails", "failsAfterWriting"] as const) {
+      const { helper, jobs } = inlineHelper(behaviour);
+      useHelperThread(helper);
+      expect(run(), behaviour).toBe(alone);
+      expect(jobs.get("concentration"), behaviour).toBe(1);
+    }
+    // A helper that claims the first start, writes nothing and fails.
+    useHelperThread({
+      ready: () => true,
+      start: (job) => void Atomics.add((job as ConcentrationJob).next, 0, 1),
+      finish: () => false,
+      lastJobMs: () => 1,
+    });
+    expect(run()).toBe(alone);
   });
 
   it.skipIf(availableParallelism() < 2)("runs as a worker thread beside the fit, with the same fits", async () => {
@@ -88,6 +131,8 @@ describe("the helper thread", () => {
       });
       expect(fits()).toBe(alone);
       expect(finished).toBeGreaterThan(10);
+      const concentration = concentrationCase();
+      expect(concentration.run()).toBe(concentration.alone);
     } finally {
       await worker?.terminate();
     }

@@ -7,9 +7,10 @@ import { runHelperJob } from "../engine/mixture/helperJobs";
 
 /**
  * The command line's helper thread (the engine's side: src/engine/helperThread.ts): a Node
- * worker thread running skein-helper.js (helperEntry.ts), which waits on a shared flag, takes each job from
- * its message port without returning to its event loop, and flags the job done. The calling
- * thread blocks on that flag (Atomics.wait), so the engine's steps stay synchronous.
+ * worker thread running skein-helper.js (helperEntry.ts), which waits on a shared flag, takes
+ * each job from its message port without returning to its event loop, and flags the job done.
+ * The calling thread blocks on that flag (Atomics.wait), so the engine's steps stay
+ * synchronous. A helper that fails a job, or ends, is not used again.
  */
 
 /** Slots of the shared control array: the helper is waiting for jobs; a job was posted; the job's state. */
@@ -56,11 +57,12 @@ export function helperScript(): string | null {
 }
 
 /**
- * Starts a helper thread running `script` (helperScript()) and installs it
- * for the engine, when the machine has a second core and SKEIN_THREADS is not 1. Returns the
- * worker (unreferenced: it never keeps the process alive), or null when none was started.
+ * Starts a helper thread running `script` (helperScript()) and installs it for the engine, when
+ * the machine has a second core and SKEIN_THREADS is not 1. Returns the worker (unreferenced:
+ * it never keeps the process alive), or null when none was started. `execArgv`: Node options
+ * for the worker (none by default: it needs none of the process's own).
  */
-export function installHelperThread(script: string, execArgv?: string[]): Worker | null {
+export function installHelperThread(script: string, execArgv: string[] = []): Worker | null {
   if (availableParallelism() < 2 || process.env.SKEIN_THREADS === "1" || typeof SharedArrayBuffer !== "function") return null;
   const control = new Int32Array(new SharedArrayBuffer(3 * 4));
   const timing = new Float64Array(new SharedArrayBuffer(8));
@@ -122,15 +124,21 @@ function awaitChange(control: Int32Array, slot: number, value: number): void {
 /** The helper thread's loop: wait for a posted job, run it, flag it done (or failed), forever. */
 export function runHelperLoop(): void {
   const { control, timing, port } = workerData as HelperData;
+  // Should the thread end, a caller waiting on a job is released and uses it no more.
+  process.on("exit", () => {
+    Atomics.store(control, READY, 0);
+    Atomics.store(control, STATE, FAILED);
+    Atomics.notify(control, STATE);
+  });
   Atomics.store(control, READY, 1);
   for (;;) {
     awaitChange(control, POSTED, 0);
     Atomics.store(control, POSTED, 0);
     // Timed from here: taking the job from the port is part of the helper's share.
     const began = performance.now();
-    const received = receiveMessageOnPort(port);
     let state = FAILED;
     try {
+      const received = receiveMessageOnPort(port);
       if (received) {
         runHelperJob(received.message as HelperJob);
         timing[JOB_MS] = performance.now() - began;

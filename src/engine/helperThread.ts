@@ -73,6 +73,11 @@ export function shareableArray(length: number): Float64Array {
   return installed && typeof SharedArrayBuffer === "function" ? new Float64Array(new SharedArrayBuffer(length * 8)) : new Float64Array(length);
 }
 
+/** A counter (one zeroed 32-bit slot) both threads can take numbers from with Atomics.add: shared while a helper is installed. */
+export function shareableCounter(): Int32Array {
+  return installed && typeof SharedArrayBuffer === "function" ? new Int32Array(new SharedArrayBuffer(4)) : new Int32Array(1);
+}
+
 /** Whether every array lives in shared memory (a step hands work over only then). */
 export function allShared(...arrays: readonly Float64Array[]): boolean {
   return typeof SharedArrayBuffer === "function" && arrays.every((a) => a.buffer instanceof SharedArrayBuffer);

@@ -1,6 +1,7 @@
 import { HouseholderQR } from "../householderQR";
 import { gatherRows } from "../rowSubset";
 import { choleskyScratchLength, scaledCholeskySolve } from "../cholesky";
+import { HELPER_MINIMUM_MICROSECONDS, ROW_TERMS_PER_MICROSECOND, allShared, helperThread, shareableArray, shareableCounter, type HelperJob } from "../helperThread";
 
 /**
  * Concentration steps ("C-steps") of least trimmed squares (Rousseeuw & Van Driessen 2006,
@@ -22,6 +23,63 @@ export interface Concentrated {
   exactRows: number;
   /** Steps taken. */
   steps: number;
+}
+
+/**
+ * C-steps from several starts, each run whole on one thread: with a helper thread
+ * (helperThread.ts) both threads claim the next start from a shared counter until none is
+ * left, so the results are the same as one after the other, in less time.
+ */
+export function concentrationRuns(design: Float64Array, n: number, q: number, y: Float64Array, starts: readonly Float64Array[], subsets: readonly number[], maxSteps: number, exactTolerance: number): Concentrated[] {
+  const count = starts.length;
+  const flat = new Float64Array(count * q);
+  starts.forEach((start, s) => flat.set(start.subarray(0, q), s * q));
+  const out = shareableArray(count * (q + 2)).fill(NaN);
+  const job: ConcentrationJob = { kind: "concentration", design, n, q, y, starts: flat, subsets: Int32Array.from(subsets), maxSteps, exactTolerance, next: shareableCounter(), out };
+  const helper = helperThread();
+  // At least one step of a residual pass per start: n·q multiply-adds each.
+  const split = helper !== null && count > 1 && allShared(design, y, out) && (n * q * count) / ROW_TERMS_PER_MICROSECOND >= HELPER_MINIMUM_MICROSECONDS;
+  if (split) helper.start(job);
+  concentrateStarts(job);
+  if (split) helper.finish();
+  const steps = new ConcentrationSteps(design, n, q, y);
+  return starts.map((start, s) => {
+    const at = s * (q + 2);
+    // A start a failed helper claimed and did not finish is run here.
+    if (Number.isNaN(out[at + q])) return steps.run(start, subsets[s], maxSteps, exactTolerance);
+    return { coefficients: out.slice(at, at + q), exactRows: out[at + q], steps: out[at + q + 1] };
+  });
+}
+
+/** Several starts' C-steps for concentrationRuns, claimed one at a time from `next` by either thread. */
+export interface ConcentrationJob extends HelperJob {
+  kind: "concentration";
+  design: Float64Array;
+  n: number;
+  q: number;
+  y: Float64Array;
+  /** The starts, q coefficients each, and each start's subset size h. */
+  starts: Float64Array;
+  subsets: Int32Array;
+  maxSteps: number;
+  exactTolerance: number;
+  /** Slot 0: the next start to claim. */
+  next: Int32Array;
+  /** Per start: its q coefficients, exact rows and steps (exact rows NaN until done). */
+  out: Float64Array;
+}
+
+/** Claims starts from the job's counter and runs each, until none is left. */
+export function concentrateStarts(job: ConcentrationJob): void {
+  const { design, n, q, y, starts, subsets, maxSteps, exactTolerance, next, out } = job;
+  const steps = new ConcentrationSteps(design, n, q, y);
+  for (let s = Atomics.add(next, 0, 1); s < subsets.length; s = Atomics.add(next, 0, 1)) {
+    const result = steps.run(starts.subarray(s * q, (s + 1) * q), subsets[s], maxSteps, exactTolerance);
+    const at = s * (q + 2);
+    out.set(result.coefficients, at);
+    out[at + q + 1] = result.steps;
+    out[at + q] = result.exactRows;
+  }
 }
 
 /**

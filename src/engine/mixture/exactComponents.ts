@@ -6,7 +6,7 @@ import type { EmRun, FitContext } from "./fitContext";
 import type { MixtureParameters } from "./mixtureParameters";
 import type { MixtureWorkspace } from "./mixtureWorkspace";
 import type { Guards } from "./mStep";
-import { ConcentrationSteps } from "./concentrationSteps";
+import { concentrationRuns } from "./concentrationSteps";
 import { parametersFromCoefficients } from "./starts";
 import { runEm, type EmStop } from "./runEm";
 import { computeResiduals } from "./eStep";
@@ -254,16 +254,15 @@ function sameRows(a: readonly number[], b: readonly number[]): boolean {
  */
 function concentrateComponents(ws: MixtureWorkspace, params: MixtureParameters, guards: Guards): { params: MixtureParameters; exactComponents: number } | null {
   const { n, q, k } = ws;
-  const steps = new ConcentrationSteps(ws.design, n, q, ws.y);
   const coefficients = params.coefficients.slice();
-  const tolerance = exactTolerance(ws);
+  const starts = Array.from({ length: k }, (_, c) => params.coefficients.subarray(c * q, c * q + q));
+  const subsets = Array.from({ length: k }, (_, c) => Math.max(Math.ceil(CONCENTRATION_MIN_SUBSET * q), Math.floor(CONCENTRATION_SUBSET_FRACTION * params.weights[c] * n)));
+  const results = concentrationRuns(ws.design, n, q, ws.y, starts, subsets, CONCENTRATION_STEPS, exactTolerance(ws));
   let found = 0;
-  for (let c = 0; c < k; c++) {
-    const subset = Math.max(Math.ceil(CONCENTRATION_MIN_SUBSET * q), Math.floor(CONCENTRATION_SUBSET_FRACTION * params.weights[c] * n));
-    const result = steps.run(params.coefficients.subarray(c * q, c * q + q), subset, CONCENTRATION_STEPS, tolerance);
-    if (result.exactRows < enoughRows(q)) continue;
+  results.forEach((result, c) => {
+    if (result.exactRows < enoughRows(q)) return;
     coefficients.set(result.coefficients, c * q);
     found++;
-  }
+  });
   return found > 0 ? { params: parametersFromCoefficients(ws, coefficients, guards), exactComponents: found } : null;
 }

@@ -190,7 +190,7 @@ function predictorVariancesOf(rowValues: Float64Array, n: number, p: number, row
 function designFromPredictors(x: Float64Array, n: number, p: number, intercept: boolean): Float64Array {
   const q = intercept ? p + 1 : p;
   const ones = q - p;
-  const design = new Float64Array(n * q);
+  const design = shareableArray(n * q);
   for (let i = 0; i < n; i++) {
     if (intercept) design[i * q] = 1;
     for (let j = 0; j < p; j++) design[i * q + ones + j] = x[i * p + j];
