@@ -53,12 +53,37 @@ export function helperShare(kind: string): number {
 const SPEED_SMOOTHING = 0.1;
 
 /** Records one split job's work and time on each thread (work in any unit proportional to time). */
-export function recordSpeeds(kind: string, ownWork: number, ownMs: number, helperWork: number, helperMs: number): void {
+function recordSpeeds(kind: string, ownWork: number, ownMs: number, helperWork: number, helperMs: number): void {
   if (!(ownWork > 0 && ownMs > 0 && helperWork > 0 && helperMs > 0)) return;
   const measured = Math.min(4, Math.max(0.25, helperWork / helperMs / (ownWork / ownMs)));
   const speed = helperSpeeds.get(kind) ?? 1;
   helperSpeeds.set(kind, speed + SPEED_SMOOTHING * (measured - speed));
 }
+
+/**
+ * One split step: starts `handed` on the helper, runs `own` here, waits for the helper (or, when
+ * its job failed, runs `handedHere`, the same share, here), and records both threads' speeds
+ * for the next split of this kind (work in any unit proportional to time). When this thread
+ * had to wait, the helper's share counts from the moment it was handed over to the end of the
+ * wait (its passage and the helper's waking included); otherwise by the helper's own timing.
+ */
+export function shareWork(helper: HelperThread, handed: HelperJob, ownWork: number, handedWork: number, own: () => void, handedHere: () => void): void {
+  const began = performance.now();
+  helper.start(handed);
+  const ownBegan = performance.now();
+  own();
+  const ownEnded = performance.now();
+  if (!helper.finish()) {
+    handedHere();
+    return;
+  }
+  const ended = performance.now();
+  const helperMs = ended - ownEnded > WAITED_MS ? ended - began : helper.lastJobMs();
+  recordSpeeds(handed.kind, ownWork, ownEnded - ownBegan, handedWork, helperMs);
+}
+
+/** A wait longer than this (5 µs) means the helper ended after this thread's share. */
+const WAITED_MS = 0.005;
 
 /** The installed helper thread once it is ready for jobs, or null. */
 export function helperThread(): HelperThread | null {

@@ -2,7 +2,7 @@ import type { MixtureParameters } from "./mixtureParameters";
 import type { MixtureWorkspace } from "./mixtureWorkspace";
 import { backgroundLogTerm } from "./backgroundComponent";
 import { reserve, simdKernel } from "../weightedGram";
-import { HELPER_MINIMUM_MICROSECONDS, ROW_TERMS_PER_MICROSECOND, allShared, helperShare, helperThread, recordSpeeds, type HelperJob } from "../helperThread";
+import { HELPER_MINIMUM_MICROSECONDS, ROW_TERMS_PER_MICROSECOND, allShared, helperShare, helperThread, shareWork, type HelperJob } from "../helperThread";
 
 import { gaussianLogDensity, componentLogConstant, membershipsFromLogTerms } from "../logDensities";
 
@@ -57,12 +57,7 @@ function byRows(job: RowsJob): void {
   }
   const middle = from + Math.round((to - from) * (1 - helperShare(job.kind)));
   const theirs: RowsJob = { ...job, from: middle };
-  helper.start(theirs);
-  const began = performance.now();
-  stepRows({ ...job, to: middle });
-  const ownMs = performance.now() - began;
-  if (!helper.finish()) stepRows(theirs);
-  else recordSpeeds(job.kind, middle - from, ownMs, to - middle, helper.lastJobMs());
+  shareWork(helper, theirs, middle - from, to - middle, () => stepRows({ ...job, to: middle }), () => stepRows(theirs));
 }
 
 /** The job's rows: residuals (on the SIMD module where it runs), then the E-step's terms when asked for. */

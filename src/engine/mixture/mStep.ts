@@ -3,7 +3,7 @@ import type { MixtureWorkspace } from "./mixtureWorkspace";
 import { choleskyScratchLength, scaledCholeskyLower, scaledCholeskySolve } from "../cholesky";
 import { constrainedVariances } from "./constrainedVariances";
 import { addBlockDots, addBlockGram, dot, finishGramSum, gatherRows, rowBlock, stageRows, startGramSums, weighBlock } from "../weightedGram";
-import { GRAM_MULTIPLY_ADDS_PER_MICROSECOND, HELPER_MINIMUM_MICROSECONDS, allShared, helperShare, helperThread, recordSpeeds, type HelperJob } from "../helperThread";
+import { GRAM_MULTIPLY_ADDS_PER_MICROSECOND, HELPER_MINIMUM_MICROSECONDS, allShared, helperShare, helperThread, shareWork, type HelperJob } from "../helperThread";
 
 /** What an M-step changed beyond the parameters themselves. */
 export interface MStepReport {
@@ -45,19 +45,7 @@ export const NEGLIGIBLE_MEMBERSHIP = 1e-12;
 export function mStepCoefficients(ws: MixtureWorkspace, params: MixtureParameters, guards: Guards): MStepReport {
   const { n, q, k, memberships, grams, rightHandSides, sizes } = ws;
   sizes.fill(0);
-  // With a helper thread, the rows each component's sums will gather are counted in the same sweep.
-  const held = helperThread() && allShared(ws.rowValues, ws.y, memberships, grams, ws.rightHandSides, ws.weightedSquares) ? new Float64Array(k) : null;
-  if (held) {
-    for (let i = 0; i < n; i++) {
-      for (let c = 0; c < k; c++) {
-        const w = memberships[i * k + c];
-        sizes[c] += w;
-        if (w >= NEGLIGIBLE_MEMBERSHIP) held[c]++;
-      }
-    }
-  } else {
-    for (let i = 0; i < n; i++) for (let c = 0; c < k; c++) sizes[c] += memberships[i * k + c];
-  }
+  for (let i = 0; i < n; i++) for (let c = 0; c < k; c++) sizes[c] += memberships[i * k + c];
   // The largest component's Gram matrix is the total XᵀX (computed once per data set) minus
   // the others', since Σ_k τ_ik = 1: one component fewer to accumulate. Taking the largest keeps
   // the cancellation small: the error is about rounding × n / n_largest ≤ rounding × k. With a
@@ -65,7 +53,7 @@ export function mStepCoefficients(ws: MixtureWorkspace, params: MixtureParameter
   let largest = 0;
   for (let c = 1; c < k; c++) if (sizes[c] > sizes[largest]) largest = c;
   const complement = k > 1 && ws.background === null ? largest : -1;
-  accumulateComponentSums(ws, complement, held);
+  accumulateComponentSums(ws, complement);
   if (complement >= 0) complementSums(ws, complement);
   const collapsed: number[] = [];
   const solution = new Float64Array(q);
@@ -87,33 +75,30 @@ export function mStepCoefficients(ws: MixtureWorkspace, params: MixtureParameter
  * Σ τ x xᵀ, Σ τ x y and Σ τ y² of every component but `skipped` (−1: none) into the
  * workspace's grams, rightHandSides and weightedSquares. With a helper thread (helperThread.ts)
  * and enough work, the components are split between the two threads by the rows each holds
- * (`held`, counted by mStepCoefficients then; each thread sums whole components, every sum in
- * the same order as on one thread).
+ * (each thread sums whole components, every sum in the same order as on one thread).
  */
-function accumulateComponentSums(ws: MixtureWorkspace, skipped: number, held: Float64Array | null): void {
-  const { n, q, k, memberships, grams, rightHandSides, weightedSquares } = ws;
+function accumulateComponentSums(ws: MixtureWorkspace, skipped: number): void {
+  const { n, q, k, memberships, grams, rightHandSides, weightedSquares, heldRows } = ws;
   grams.fill(0);
   rightHandSides.fill(0);
   weightedSquares.fill(0);
   const job: ComponentSumsJob = {
     kind: "componentSums", n, q, k, rowStride: ws.rowStride, implicitOnes: ws.implicitOnes, blockRows: ws.blockRows,
-    rowValues: ws.rowValues, y: ws.y, memberships, grams, rightHandSides, weightedSquares, components: [],
+    rowValues: ws.rowValues, y: ws.y, memberships, grams, rightHandSides, weightedSquares, heldRows, components: [],
   };
   const summed: number[] = [];
   for (let c = 0; c < k; c++) if (c !== skipped) summed.push(c);
   const helper = helperThread();
-  if (!helper || !held || summed.length < 2 || heldWork(held, summed, q) / GRAM_MULTIPLY_ADDS_PER_MICROSECOND < HELPER_MINIMUM_MICROSECONDS) {
+  // The rows each component gathered at the last M-step (its size before the first): the
+  // memberships move little from one step to the next, and counting them again costs a sweep.
+  const held = Float64Array.from(ws.sizes, (size, c) => (heldRows[c] > 0 ? heldRows[c] : size));
+  if (!helper || !allShared(ws.rowValues, ws.y, memberships, grams, rightHandSides, weightedSquares, heldRows) || summed.length < 2 || heldWork(held, summed, q) / GRAM_MULTIPLY_ADDS_PER_MICROSECOND < HELPER_MINIMUM_MICROSECONDS) {
     componentSums({ ...job, components: summed });
     return;
   }
   const [mine, theirs] = splitByRows(summed, held, helperShare(job.kind));
   const handed: ComponentSumsJob = { ...job, components: theirs };
-  helper.start(handed);
-  const began = performance.now();
-  componentSums({ ...job, components: mine });
-  const ownMs = performance.now() - began;
-  if (!helper.finish()) componentSums(handed);
-  else recordSpeeds(job.kind, heldWork(held, mine, q), ownMs, heldWork(held, theirs, q), helper.lastJobMs());
+  shareWork(helper, handed, heldWork(held, mine, q), heldWork(held, theirs, q), () => componentSums({ ...job, components: mine }), () => componentSums(handed));
 }
 
 /** Half an M-step's sums for the helper thread: the components listed, over every row of the arrays. */
@@ -131,6 +116,8 @@ export interface ComponentSumsJob extends HelperJob {
   grams: Float64Array;
   rightHandSides: Float64Array;
   weightedSquares: Float64Array;
+  /** Out: the rows each listed component gathered (membership at least NEGLIGIBLE_MEMBERSHIP). */
+  heldRows: Float64Array;
   components: number[];
 }
 
@@ -141,11 +128,12 @@ export interface ComponentSumsJob extends HelperJob {
  * membership beside them; the kernel weighs and sums them.
  */
 export function componentSums(job: ComponentSumsJob): void {
-  const { n, q, k, y, memberships, grams, rightHandSides, weightedSquares, blockRows, rowValues, rowStride, implicitOnes, components } = job;
+  const { n, q, k, y, memberships, grams, rightHandSides, weightedSquares, heldRows, blockRows, rowValues, rowStride, implicitOnes, components } = job;
   for (const c of components) {
     grams.fill(0, c * q * q, (c + 1) * q * q);
     rightHandSides.fill(0, c * q, (c + 1) * q);
     weightedSquares[c] = 0;
+    heldRows[c] = 0;
   }
   const block = rowBlock(q, blockRows, 2, rowStride, components.length);
   const { vectors, indices } = block;
@@ -165,6 +153,7 @@ export function componentSums(job: ComponentSumsJob): void {
         weightedSquares[c] += w * y[i] * y[i];
         m++;
       }
+      heldRows[c] += m;
       gatherRows(block, m, implicitOnes);
       weighBlock(block, m, 1);
       addBlockGram(block, m, grams, c * q * q, s);

@@ -61,6 +61,8 @@ export interface MixtureWorkspace {
   totalSquares: number;
   /** Σ_i τ_ik y_i² per component, from the last M-step. */
   weightedSquares: Float64Array;
+  /** Rows each component's Gram sums gathered at the last M-step (the helper thread's split). */
+  heldRows: Float64Array;
   /** Per-row scratch of length k + 1 (the background's term last). */
   rowScratch: Float64Array;
   /** Per-row scratch of length p (joint model). */
@@ -114,6 +116,7 @@ export function createWorkspace(data: RegressionData, k: number, intercept: bool
     totalRightHandSide: null,
     totalSquares: 0,
     weightedSquares: shareableArray(k),
+    heldRows: shareableArray(k),
     rowScratch: new Float64Array(k + 1),
     predictorScratch: new Float64Array(p),
     background: null,
