@@ -49,11 +49,11 @@ afterEach(() => useHelperThread(null));
 
 /**
  * Concentration steps from each component of a noiseless d = 30, K = 5 problem moved 5% away
- * (3,000 rows: enough work to be shared), run by concentrationRuns; the same starts one after
+ * (6,000 rows: enough work to be shared), run by concentrationRuns; the same starts one after
  * the other on this thread, as a fingerprint to compare with.
  */
 function concentrationCase(): { run: () => string; alone: string } {
-  const problem = noiselessProblem(30, 5, 20, createRandom(33));
+  const problem = noiselessProblem(30, 5, 40, createRandom(33));
   const { x, y, n, p } = problem.data;
   const random = createRandom(34);
   const starts = problem.coefficients.map((beta) => beta.map((value) => value * (1 + 0.05 * (2 * random.next() - 1))));

@@ -111,16 +111,19 @@ export function allShared(...arrays: readonly Float64Array[]): boolean {
 /**
  * Least estimated time, in microseconds, of a step's whole work for it to be split between the
  * threads: handing a share over and waiting for it cost some tens of microseconds (measured
- * here: about 12 µs for an empty job back and forth while the helper is awake, 50-100 µs
- * when it has to be woken).
+ * here: 12-40 µs for an empty job back and forth while the helper is awake, 50-100 µs when
+ * it has to be woken), and steps of a few hundred microseconds gained nothing split.
  */
-export const HELPER_MINIMUM_MICROSECONDS = 300;
+export const HELPER_MINIMUM_MICROSECONDS = 500;
 
 /**
- * Rough speeds for that estimate on this kind of machine, in units of work per microsecond:
- * the Gram sums' multiply-adds run two to a SIMD lane pair (about 10,000 per µs measured); a
- * row's E-step work per component (q multiply-adds for the residual, then an exponential and
- * the membership) about 1,000 units of (q + 8) per µs.
+ * Rough speeds for that estimate on this kind of machine, measured on a d = 50, K = 7
+ * workspace of 2,100 rows: an M-step's Gram sums, with the gathering, weighing and block
+ * overheads around them, about 1,500 multiply-adds of the sums per µs (2.3 million in 1.6 ms);
+ * residuals about 1,400 multiply-adds per µs (2,100 rows x 7 components x 50 in 0.52 ms); an
+ * E-step's log term, exponential and membership per row and component about as long as
+ * ROW_TERM_MULTIPLY_ADDS of them (14,700 in 0.32 ms).
  */
-export const GRAM_MULTIPLY_ADDS_PER_MICROSECOND = 10_000;
-export const ROW_TERMS_PER_MICROSECOND = 1_000;
+export const GRAM_MULTIPLY_ADDS_PER_MICROSECOND = 1_500;
+export const ROW_MULTIPLY_ADDS_PER_MICROSECOND = 1_400;
+export const ROW_TERM_MULTIPLY_ADDS = 30;

@@ -1,7 +1,7 @@
 import { HouseholderQR } from "../householderQR";
 import { gatherRows } from "../rowSubset";
 import { choleskyScratchLength, scaledCholeskySolve } from "../cholesky";
-import { HELPER_MINIMUM_MICROSECONDS, ROW_TERMS_PER_MICROSECOND, allShared, helperThread, shareableArray, shareableCounter, type HelperJob } from "../helperThread";
+import { HELPER_MINIMUM_MICROSECONDS, ROW_MULTIPLY_ADDS_PER_MICROSECOND, allShared, helperThread, shareableArray, shareableCounter, type HelperJob } from "../helperThread";
 
 /**
  * Concentration steps ("C-steps") of least trimmed squares (Rousseeuw & Van Driessen 2006,
@@ -38,7 +38,7 @@ export function concentrationRuns(design: Float64Array, n: number, q: number, y:
   const job: ConcentrationJob = { kind: "concentration", design, n, q, y, starts: flat, subsets: Int32Array.from(subsets), maxSteps, exactTolerance, next: shareableCounter(), out };
   const helper = helperThread();
   // At least one step of a residual pass per start: n·q multiply-adds each.
-  const split = helper !== null && count > 1 && allShared(design, y, out) && (n * q * count) / ROW_TERMS_PER_MICROSECOND >= HELPER_MINIMUM_MICROSECONDS;
+  const split = helper !== null && count > 1 && allShared(design, y, out) && (n * q * count) / ROW_MULTIPLY_ADDS_PER_MICROSECOND >= HELPER_MINIMUM_MICROSECONDS;
   if (split) helper.start(job);
   concentrateStarts(job);
   if (split) helper.finish();

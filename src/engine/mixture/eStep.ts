@@ -2,7 +2,7 @@ import type { MixtureParameters } from "./mixtureParameters";
 import type { MixtureWorkspace } from "./mixtureWorkspace";
 import { backgroundLogTerm } from "./backgroundComponent";
 import { reserve, simdKernel } from "../weightedGram";
-import { HELPER_MINIMUM_MICROSECONDS, ROW_TERMS_PER_MICROSECOND, allShared, helperShare, helperThread, shareWork, type HelperJob } from "../helperThread";
+import { HELPER_MINIMUM_MICROSECONDS, ROW_MULTIPLY_ADDS_PER_MICROSECOND, ROW_TERM_MULTIPLY_ADDS, allShared, helperShare, helperThread, shareWork, type HelperJob } from "../helperThread";
 
 import { gaussianLogDensity, componentLogConstant, membershipsFromLogTerms } from "../logDensities";
 
@@ -51,7 +51,8 @@ function byRows(job: RowsJob): void {
   const { from, to, q, k } = job;
   const helper = helperThread();
   const arrays = job.terms ? [job.rowValues, job.y, job.residuals, job.terms.memberships, job.terms.rowLogLikelihood] : [job.rowValues, job.y, job.residuals];
-  if (!helper || ((to - from) * k * (q + 8)) / ROW_TERMS_PER_MICROSECOND < HELPER_MINIMUM_MICROSECONDS || !allShared(...arrays)) {
+  const work = (to - from) * k * ((job.withResiduals ? q : 0) + (job.terms ? ROW_TERM_MULTIPLY_ADDS : 0));
+  if (!helper || work / ROW_MULTIPLY_ADDS_PER_MICROSECOND < HELPER_MINIMUM_MICROSECONDS || !allShared(...arrays)) {
     stepRows(job);
     return;
   }
