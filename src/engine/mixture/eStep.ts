@@ -1,5 +1,5 @@
 import type { MixtureParameters } from "./mixtureParameters";
-import type { MixtureWorkspace } from "./mixtureWorkspace";
+import { workspaceRows, type MixtureWorkspace, type WorkspaceRows } from "./mixtureWorkspace";
 import { backgroundLogTerm } from "./backgroundComponent";
 import { reserve, simdKernel } from "../weightedGram";
 import { HELPER_MINIMUM_MICROSECONDS, ROW_MULTIPLY_ADDS_PER_MICROSECOND, ROW_TERM_MULTIPLY_ADDS, allShared, helperShare, helperThread, shareWork, type HelperJob } from "../helperThread";
@@ -20,17 +20,10 @@ export function computeResiduals(ws: MixtureWorkspace, params: MixtureParameters
  * run (helperThread.ts): the plain model's arrays, the coefficients, and for an E-step each
  * component's log constant and curvature (`terms`; null for residuals only).
  */
-export interface RowsJob extends HelperJob {
+export interface RowsJob extends HelperJob, WorkspaceRows {
   kind: "rows";
   from: number;
   to: number;
-  q: number;
-  k: number;
-  rowStride: number;
-  implicitOnes: number;
-  blockRows: number;
-  rowValues: Float64Array;
-  y: Float64Array;
   residuals: Float64Array;
   coefficients: Float64Array;
   /** Compute the residuals at the coefficients first (else read the stored ones). */
@@ -39,8 +32,8 @@ export interface RowsJob extends HelperJob {
 }
 
 function rowsJob(ws: MixtureWorkspace, params: MixtureParameters, withResiduals: boolean, terms: RowsJob["terms"]): RowsJob {
-  const { n, q, k, rowStride, implicitOnes, blockRows, rowValues, y, residuals } = ws;
-  return { kind: "rows", from: 0, to: n, q, k, rowStride, implicitOnes, blockRows, rowValues, y, residuals, coefficients: params.coefficients.slice(0, k * q), withResiduals, terms };
+  const { n, q, k, residuals } = ws;
+  return { kind: "rows", ...workspaceRows(ws), from: 0, to: n, residuals, coefficients: params.coefficients.slice(0, k * q), withResiduals, terms };
 }
 
 /**

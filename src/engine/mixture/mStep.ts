@@ -1,5 +1,5 @@
 import type { MixtureParameters } from "./mixtureParameters";
-import type { MixtureWorkspace } from "./mixtureWorkspace";
+import { workspaceRows, type MixtureWorkspace, type WorkspaceRows } from "./mixtureWorkspace";
 import { choleskyScratchLength, scaledCholeskyLower, scaledCholeskySolve } from "../cholesky";
 import { constrainedVariances } from "./constrainedVariances";
 import { addBlockDots, addBlockGram, dot, finishGramSum, gatherRows, rowBlock, stageRows, startGramSums, weighBlock } from "../weightedGram";
@@ -78,14 +78,11 @@ export function mStepCoefficients(ws: MixtureWorkspace, params: MixtureParameter
  * (each thread sums whole components, every sum in the same order as on one thread).
  */
 function accumulateComponentSums(ws: MixtureWorkspace, skipped: number): void {
-  const { n, q, k, memberships, grams, rightHandSides, weightedSquares, heldRows } = ws;
+  const { q, k, memberships, grams, rightHandSides, weightedSquares, heldRows } = ws;
   grams.fill(0);
   rightHandSides.fill(0);
   weightedSquares.fill(0);
-  const job: ComponentSumsJob = {
-    kind: "componentSums", n, q, k, rowStride: ws.rowStride, implicitOnes: ws.implicitOnes, blockRows: ws.blockRows,
-    rowValues: ws.rowValues, y: ws.y, memberships, grams, rightHandSides, weightedSquares, heldRows, components: [],
-  };
+  const job: ComponentSumsJob = { kind: "componentSums", ...workspaceRows(ws), memberships, grams, rightHandSides, weightedSquares, heldRows, components: [] };
   const summed: number[] = [];
   for (let c = 0; c < k; c++) if (c !== skipped) summed.push(c);
   const helper = helperThread();
@@ -102,16 +99,8 @@ function accumulateComponentSums(ws: MixtureWorkspace, skipped: number): void {
 }
 
 /** Half an M-step's sums for the helper thread: the components listed, over every row of the arrays. */
-export interface ComponentSumsJob extends HelperJob {
+export interface ComponentSumsJob extends HelperJob, WorkspaceRows {
   kind: "componentSums";
-  n: number;
-  q: number;
-  k: number;
-  rowStride: number;
-  implicitOnes: number;
-  blockRows: number;
-  rowValues: Float64Array;
-  y: Float64Array;
   memberships: Float64Array;
   grams: Float64Array;
   rightHandSides: Float64Array;
@@ -123,9 +112,10 @@ export interface ComponentSumsJob extends HelperJob {
 
 /**
  * The sums of the components listed, into their slots of the job's arrays (set afresh, so a
- * share a failed helper left half done is simply made again), a block of rows at a time: the block's rows are staged once (in the SIMD module's memory where
- * that runs), and each component gathers the rows it holds from there with their response and
- * membership beside them; the kernel weighs and sums them.
+ * share a failed helper left half done is simply made again), a block of rows at a time: the
+ * block's rows are staged once (in the SIMD module's memory where that runs), and each
+ * component gathers the rows it holds from there with their response and membership beside
+ * them; the kernel weighs and sums them.
  */
 export function componentSums(job: ComponentSumsJob): void {
   const { n, q, k, y, memberships, grams, rightHandSides, weightedSquares, heldRows, blockRows, rowValues, rowStride, implicitOnes, components } = job;

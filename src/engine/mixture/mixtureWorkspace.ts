@@ -71,6 +71,15 @@ export interface MixtureWorkspace {
   background: BackgroundComponent | null;
 }
 
+/** What a job on the helper thread reads of a workspace's rows (helperThread.ts), as plain values and shared arrays. */
+export type WorkspaceRows = Pick<MixtureWorkspace, "n" | "q" | "k" | "rowStride" | "implicitOnes" | "blockRows" | "rowValues" | "y">;
+
+/** The workspace's WorkspaceRows alone (a job must not carry the whole workspace to the other thread). */
+export function workspaceRows(ws: MixtureWorkspace): WorkspaceRows {
+  const { n, q, k, rowStride, implicitOnes, blockRows, rowValues, y } = ws;
+  return { n, q, k, rowStride, implicitOnes, blockRows, rowValues, y };
+}
+
 /**
  * @param rows the rows of `data` this workspace holds (a subsample), or all rows in order
  * @param copyPredictors whether a subsample keeps its own n x p copy of the predictors (the
