@@ -1,6 +1,7 @@
 /**
  * A second thread the EM steps may hand half their work to: an M-step's weighted Gram sums of
- * some components, an E-step's or a residual pass's later rows. Each such share depends on
+ * some components, an E-step's or a residual pass's later rows, and some of the concentration
+ * steps' starts (concentrationSteps.ts). Each such share depends on
  * nothing the other thread computes, and each sum runs in the same order as on one thread, so a
  * fit is the same to the bit with or without it (the log-likelihood is still summed in row
  * order, after both halves are done).
@@ -11,7 +12,7 @@
  * cross-origin isolated, so it has no shared memory to hand rows over in).
  */
 
-/** Half an M-step's Gram sums or an E-step's rows, run on the helper by runHelperJob (mixture/helperJobs.ts). */
+/** A share of a step (Gram sums, rows, concentration starts), run on the helper by runHelperJob (mixture/helperJobs.ts). */
 export interface HelperJob {
   kind: string;
 }
@@ -95,12 +96,17 @@ export function helperThread(): HelperThread | null {
  * helper is installed, an ordinary one otherwise. The workspaces' per-row arrays come from here.
  */
 export function shareableArray(length: number): Float64Array {
-  return installed && typeof SharedArrayBuffer === "function" ? new Float64Array(new SharedArrayBuffer(length * 8)) : new Float64Array(length);
+  return sharing() ? new Float64Array(new SharedArrayBuffer(length * 8)) : new Float64Array(length);
 }
 
 /** A counter (one zeroed 32-bit slot) both threads can take numbers from with Atomics.add: shared while a helper is installed. */
 export function shareableCounter(): Int32Array {
-  return installed && typeof SharedArrayBuffer === "function" ? new Int32Array(new SharedArrayBuffer(4)) : new Int32Array(1);
+  return sharing() ? new Int32Array(new SharedArrayBuffer(4)) : new Int32Array(1);
+}
+
+/** Whether new arrays go to shared memory: a helper is installed and the runtime has it. */
+function sharing(): boolean {
+  return installed !== null && typeof SharedArrayBuffer === "function";
 }
 
 /** Whether every array lives in shared memory (a step hands work over only then). */

@@ -42,11 +42,14 @@ export function concentrationRuns(design: Float64Array, n: number, q: number, y:
   if (split) helper.start(job);
   concentrateStarts(job);
   if (split) helper.finish();
-  const steps = new ConcentrationSteps(design, n, q, y);
+  let steps: ConcentrationSteps | null = null;
   return starts.map((start, s) => {
     const at = s * (q + 2);
     // A start a failed helper claimed and did not finish is run here.
-    if (Number.isNaN(out[at + q])) return steps.run(start, subsets[s], maxSteps, exactTolerance);
+    if (Number.isNaN(out[at + q])) {
+      steps ??= new ConcentrationSteps(design, n, q, y);
+      return steps.run(start, subsets[s], maxSteps, exactTolerance);
+    }
     return { coefficients: out.slice(at, at + q), exactRows: out[at + q], steps: out[at + q + 1] };
   });
 }

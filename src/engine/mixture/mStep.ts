@@ -79,17 +79,17 @@ export function mStepCoefficients(ws: MixtureWorkspace, params: MixtureParameter
  */
 function accumulateComponentSums(ws: MixtureWorkspace, skipped: number): void {
   const { q, k, memberships, grams, rightHandSides, weightedSquares, heldRows } = ws;
-  grams.fill(0);
-  rightHandSides.fill(0);
-  weightedSquares.fill(0);
+  // componentSums sets each summed component's slots afresh; the skipped one's Gram is zeroed
+  // here (complementSums then writes its upper triangle, right-hand side and Σ τ y²).
+  if (skipped >= 0) grams.fill(0, skipped * q * q, (skipped + 1) * q * q);
   const job: ComponentSumsJob = { kind: "componentSums", ...workspaceRows(ws), memberships, grams, rightHandSides, weightedSquares, heldRows, components: [] };
   const summed: number[] = [];
   for (let c = 0; c < k; c++) if (c !== skipped) summed.push(c);
   const helper = helperThread();
   // The rows each component gathered at the last M-step (its size before the first): the
   // memberships move little from one step to the next, and counting them again costs a sweep.
-  const held = Float64Array.from(ws.sizes, (size, c) => (heldRows[c] > 0 ? heldRows[c] : size));
-  if (!helper || !allShared(ws.rowValues, ws.y, memberships, grams, rightHandSides, weightedSquares, heldRows) || summed.length < 2 || heldWork(held, summed, q) / GRAM_MULTIPLY_ADDS_PER_MICROSECOND < HELPER_MINIMUM_MICROSECONDS) {
+  const held = helper && summed.length > 1 && allShared(ws.rowValues, ws.y, memberships, grams, rightHandSides, weightedSquares, heldRows) ? Float64Array.from(ws.sizes, (size, c) => (heldRows[c] > 0 ? heldRows[c] : size)) : null;
+  if (!helper || !held || heldWork(held, summed, q) / GRAM_MULTIPLY_ADDS_PER_MICROSECOND < HELPER_MINIMUM_MICROSECONDS) {
     componentSums({ ...job, components: summed });
     return;
   }
