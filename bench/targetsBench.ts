@@ -95,7 +95,7 @@ const D100_LIMIT_MS = 60000;
  * other sections, the same fits took up to 1.5 times as long.
  */
 export function runD100Bench(print: (line: string) => void): void {
-  print(`Noiseless d = 100, K = 10, 10 rows per predictor per component (n = 10,000), each fit as its own skein fit process, with its helper thread (as shipped) and with SKEIN_THREADS=1; one still running after ${D100_LIMIT_MS / 1000} s is stopped`);
+  print(`Noiseless d = 100, K = 10, 10 rows per predictor per component (n = 10,000), each fit as its own skein fit process, with its second thread (as shipped) and with SKEIN_THREADS=1; one still running after ${D100_LIMIT_MS / 1000} s is stopped`);
   if (!cliBuilt()) {
     print("  skipped: dist/cli/skein.js is not built (npm run build)");
     return;

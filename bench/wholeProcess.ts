@@ -46,7 +46,7 @@ export function writeProblemCsv(problem: GeneratedProblem, digits = 10): { file:
 /**
  * Runs `skein ARGS --json` as its own process; the reason instead of figures when it fails, or
  * when it still runs after `timeoutMs` (it is then stopped). `oneThread`: with SKEIN_THREADS=1,
- * without the helper thread the command line otherwise uses on a machine of two or more cores.
+ * without the second thread the command line otherwise uses on a machine of two or more cores.
  */
 export function runCli(args: string[], timeoutMs?: number, oneThread = false): ProcessFigures | string {
   const began = performance.now();

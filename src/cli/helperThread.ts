@@ -31,7 +31,8 @@ let helperStarted = false;
 /** One line for --verbose: how many threads the fit ran on. */
 export function threadsLine(): string {
   if (!helperStarted) return "Threads: 1.";
-  return `Threads: 2 (the helper thread took ${finishedJobs.toLocaleString("en-US")} shares of the EM steps; SKEIN_THREADS=1 keeps to one).`;
+  if (finishedJobs === 0) return "Threads: 1 (a second thread was ready, but no step of this fit was large enough to share).";
+  return `Threads: 2 (the second thread took part in ${finishedJobs.toLocaleString("en-US")} steps of the fit; SKEIN_THREADS=1 keeps to one).`;
 }
 
 /** The helper thread's workerData. */

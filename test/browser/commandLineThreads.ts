@@ -1,9 +1,10 @@
 /*
- * The built command line with its helper thread (dist/cli/skein.js and skein-helper.js, as
+ * The built command line with its second thread (dist/cli/skein.js and skein-helper.js, as
  * `npx skein` runs them): a fit on a generated noiseless problem (d = 40, K = 4; invented
- * data from the shared generator) run as its own process with the helper and with
- * SKEIN_THREADS=1. The helper must take part (the verbose output counts its shares) and the
- * results must be the same to the bit (the JSON equal apart from the timings).
+ * data from the shared generator) run as its own process with the second thread and with
+ * SKEIN_THREADS=1. The second thread must take part (the verbose output counts the steps it
+ * took part in) and the results must be the same to the bit (the JSON equal apart from the
+ * timings).
  */
 import { execFileSync } from "child_process";
 import { promises as fs } from "fs";
@@ -31,11 +32,11 @@ export async function checkCommandLineThreads(check: Check): Promise<void> {
     const withoutTimings = (json: string) => JSON.stringify({ ...JSON.parse(json), timings: undefined });
     const two = withoutTimings(run(undefined, "--json"));
     const one = withoutTimings(run("1", "--json"));
-    check("command line: the same fit with and without its helper thread", two === one && two.includes('"components"'));
+    check("command line: the same fit with and without its second thread", two === one && two.includes('"components"'));
     const verbose = run(undefined, "--verbose");
-    const shares = /Threads: 2 \(the helper thread took ([\d,]+) shares/.exec(verbose);
+    const shares = /Threads: 2 \(the second thread took part in ([\d,]+) steps/.exec(verbose);
     if (availableParallelism() < 2) check("command line: one thread on one core", verbose.includes("Threads: 1."));
-    else check("command line: the helper thread takes part", shares !== null && Number(shares[1].replace(/,/g, "")) > 0, shares?.[0] ?? verbose.split("\n").find((line) => line.startsWith("Threads")) ?? "no threads line");
+    else check("command line: the second thread takes part", shares !== null && Number(shares[1].replace(/,/g, "")) > 0, shares?.[0] ?? verbose.split("\n").find((line) => line.startsWith("Threads")) ?? "no threads line");
     check("command line: SKEIN_THREADS=1 keeps to one thread", run("1", "--verbose").includes("Threads: 1."));
   } finally {
     await fs.rm(folder, { recursive: true, force: true });
