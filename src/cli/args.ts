@@ -116,8 +116,16 @@ export function parseList(text: string, flag: string, command: string): string[]
 const MAX_SHEET_ROW = 1_048_576;
 
 /** The --header-row value: the 1-based row (sheet row, or line of a text file) holding the column names. */
-export function parseHeaderRow(text: string | undefined, command: string): number | undefined {
+function parseHeaderRow(text: string | undefined, command: string): number | undefined {
   return text === undefined ? undefined : parseWholeNumber(text, "header-row", command, 1, MAX_SHEET_ROW);
+}
+
+/** Which part of the data file a command reads: --sheet, --header-row (checked first), then the --x list. */
+export function readFileFlags(parsed: ParsedArgs, command: string): { sheet?: string; headerRow?: number; x?: string[] } {
+  const { values } = parsed;
+  const headerRow = parseHeaderRow(values.get("header-row"), command);
+  const xText = values.get("x");
+  return { sheet: values.get("sheet"), headerRow, x: xText === undefined ? undefined : parseList(xText, "x", command) };
 }
 
 /** Help lines shared by the commands that read a data file. */

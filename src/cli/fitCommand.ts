@@ -11,7 +11,7 @@ import type { CancelSignal, MixtureFit, MixtureModel, RefinementReport, WarmStar
 import type { SeparationReport } from "../engine/trustTypes";
 import { findStrayRows } from "../engine/strayRows";
 import type { OptionName } from "../engine/options";
-import { FILE_OPTIONS_HELP, optionFlags, optionHelp, parseArgs, parseHeaderRow, parseList, parseRowList, parseWholeNumber, readBackground, readGivenOption, readOption, type FlagKinds } from "./args";
+import { FILE_OPTIONS_HELP, optionFlags, optionHelp, parseArgs, readFileFlags, parseRowList, parseWholeNumber, readBackground, readGivenOption, readOption, type FlagKinds } from "./args";
 import { loadDesign, type ColumnReport } from "./loadDesign";
 import { formatFitTable, kChoiceText } from "./formatTable";
 import { isExactFit } from "../engine/exactFit";
@@ -210,14 +210,11 @@ export function parseFitSettings(argv: readonly string[]): FitSettings | "help" 
   }
   const y = values.get("y");
   if (y === undefined) throw new SkeinError("bad-input", "No outcome column given; name it, as in --y COLUMN");
-  const xText = values.get("x");
   const bootstrapText = values.get("bootstrap");
   return {
     file: positionals[0],
-    sheet: values.get("sheet"),
-    headerRow: parseHeaderRow(values.get("header-row"), "fit"),
+    ...readFileFlags(parsed, "fit"),
     y,
-    x: xText === undefined ? undefined : parseList(xText, "x", "fit"),
     k: readGivenOption(parsed, "k", "fit") as number | undefined,
     seed: readOption(parsed, "seed", "fit") as number,
     intercept: readOption(parsed, "intercept", "fit") as boolean,

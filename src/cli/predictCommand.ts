@@ -6,7 +6,7 @@ import type { Design } from "../engine/design";
 import type { MixtureModel, MixtureOptions } from "../engine/mixtureTypes";
 import type { Prediction } from "../engine/trustTypes";
 import type { OptionName } from "../engine/options";
-import { FILE_OPTIONS_HELP, optionFlags, optionHelp, parseArgs, parseHeaderRow, parseList, readBackground, readGivenOption, readOption, type FlagKinds, type ParsedArgs } from "./args";
+import { FILE_OPTIONS_HELP, optionFlags, optionHelp, parseArgs, readFileFlags, readBackground, readGivenOption, readOption, type FlagKinds, type ParsedArgs } from "./args";
 import { formatNotices } from "./formatNotices";
 import { alignColumns, formatColumn } from "../report/formatNumber";
 import { defaultKMax, scanComponents } from "../engine/scanComponents";
@@ -146,15 +146,12 @@ function readPredictRequest(parsed: ParsedArgs): PredictRequest {
   const newFile = values.get("new");
   if (newFile === undefined) throw new SkeinError("bad-input", "skein predict needs the file of new rows, as in --new new.csv");
   const k = readGivenOption(parsed, "k", "predict") as number | undefined;
-  const xText = values.get("x");
   const model = readOption(parsed, "model", "predict") as MixtureModel;
   const intercept = readOption(parsed, "intercept", "predict") as boolean;
   const source: DesignSource = {
     file: positionals[0],
-    sheet: values.get("sheet"),
-    headerRow: parseHeaderRow(values.get("header-row"), "predict"),
+    ...readFileFlags(parsed, "predict"),
     y,
-    x: xText === undefined ? undefined : parseList(xText, "x", "predict"),
     intercept,
     k,
   };

@@ -6,7 +6,7 @@ import type { ScanResult, ScanRow } from "../engine/trustTypes";
 import { convergedWord, scanComponents } from "../engine/scanComponents";
 import { findStrayRows } from "../engine/strayRows";
 import type { OptionName } from "../engine/options";
-import { FILE_OPTIONS_HELP, optionFlags, optionHelp, parseArgs, parseHeaderRow, parseList, parseRowList, readBackground, readGivenOption, readOption, type FlagKinds, type ParsedArgs } from "./args";
+import { FILE_OPTIONS_HELP, optionFlags, optionHelp, parseArgs, readFileFlags, parseRowList, readBackground, readGivenOption, readOption, type FlagKinds, type ParsedArgs } from "./args";
 import { formatNotices } from "./formatNotices";
 import { alignColumns, formatColumn, formatGap } from "../report/formatNumber";
 import type { CommandIO } from "./main";
@@ -139,15 +139,12 @@ function readScanRequest(parsed: ParsedArgs): ScanRequest {
   const kMaxText = values.get("k-max");
   if (kMaxText === undefined) throw new SkeinError("bad-input", "skein scan needs the largest number of components, as in --k-max 5");
   const kMax = readOption(parsed, "kmax", "scan") as number;
-  const xText = values.get("x");
   const model = readOption(parsed, "model", "scan") as MixtureModel;
   const intercept = readOption(parsed, "intercept", "scan") as boolean;
   const source: DesignSource = {
     file: positionals[0],
-    sheet: values.get("sheet"),
-    headerRow: parseHeaderRow(values.get("header-row"), "scan"),
+    ...readFileFlags(parsed, "scan"),
     y,
-    x: xText === undefined ? undefined : parseList(xText, "x", "scan"),
     intercept,
     leaveOut: values.has("leave-out") ? parseRowList(values.get("leave-out") as string, "leave-out", "scan") : undefined,
   };
