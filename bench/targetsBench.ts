@@ -87,7 +87,7 @@ export function runSmallBench(print: (line: string) => void): void {
  * The problem fitted as a user would, `skein fit FILE --k K --json` as its own process (the CSV
  * at 17 significant digits, so the same doubles and the same fit as in this process): its
  * timings.fitMs, or why there is none. A fresh process runs its first fit before the JavaScript
- * engine has compiled the hot loops, which on these sheets takes 2-3 times the warmed-up time.
+ * engine has compiled the hot loops, which on these sheets takes several times the warmed-up time.
  */
 function firstFitInOwnProcess(problem: GeneratedProblem, k: number, seed: number, logLikelihood: number): number | string {
   const { file, cleanup } = writeProblemCsv(problem, 17);
@@ -216,14 +216,10 @@ export function runScanSixBench(print: (line: string) => void): void {
   }
 }
 
-/**
- * `skein fit --k 3` and `skein scan --k-max 4` on the problem written as a CSV file, each as its
- * own process (targets for 1,000,000 x 5: fit within about 5 s and 500 MB, scan within about 20 s).
- */
 /** Runs of `skein fit` on the large CSV with and without the second thread, taken in turn. */
 const WHOLE_PROCESS_ROUNDS = 3;
 
-/** One line for a whole-process figure: the run of median wall time among `runs` (all of them when any failed). */
+/** One line for a whole-process figure: the run of median wall time among `runs`, or the first failure when one failed. */
 function printProcess(label: string, runs: Array<ProcessFigures | string>, print: (line: string) => void): void {
   const failed = runs.find((run): run is string => typeof run === "string");
   if (failed !== undefined) {
@@ -239,6 +235,10 @@ function printProcess(label: string, runs: Array<ProcessFigures | string>, print
   print(`${label}: whole process ${(figures.wallMs / 1000).toFixed(1)} s${spread}, peak resident ${figures.peakMegabytes.toFixed(0)} MB${inner}${picked}`);
 }
 
+/**
+ * `skein fit --k 3` and `skein scan --k-max 4` on the problem written as a CSV file, each as its
+ * own process (targets for 1,000,000 x 5: fit within about 5 s and 500 MB, scan within about 20 s).
+ */
 function printWholeProcess(problem: GeneratedProblem, print: (line: string) => void): void {
   const { n, p } = problem.data;
   if (!cliBuilt()) {
