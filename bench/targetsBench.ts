@@ -134,22 +134,33 @@ export function runD100Bench(print: (line: string) => void): void {
     const { file, cleanup } = writeProblemCsv(problem, 17);
     try {
       for (const oneThread of [false, true]) {
-        const figures = runCli(["fit", file, "--y", "y", "--k", "10", "--no-intercept", "--seed", String(problemSeed)], D100_LIMIT_MS, oneThread);
+        const figures = noiselessFitAsProcess(file, problem, problemSeed, D100_LIMIT_MS, oneThread);
         const label = `seed ${s}, ${oneThread ? "one thread" : "two threads"}`;
         if (typeof figures === "string") {
           print(`  ${label}: not finished: ${figures}`);
           continue;
         }
-        const { fitMs } = figures.json.timings as { fitMs: number };
-        // The report's coefficients carry the intercept slot first (0 here).
-        const components = figures.json.components as { coefficients: number[] }[];
-        const error = relativeCoefficientError(components.map((c) => Float64Array.from(c.coefficients.slice(1))), problem.coefficients);
-        print(`  ${label}: fit ${(fitMs / 1000).toFixed(1)} s (whole process ${(figures.wallMs / 1000).toFixed(1)} s), worst relative error ${error.toExponential(2)} (${error <= RECOVERY_TOLERANCE ? "recovered" : "not recovered"})`);
+        print(`  ${label}: fit ${(figures.fitMs / 1000).toFixed(1)} s (whole process ${(figures.wallMs / 1000).toFixed(1)} s), worst relative error ${figures.error.toExponential(2)} (${figures.error <= RECOVERY_TOLERANCE ? "recovered" : "not recovered"})`);
       }
     } finally {
       cleanup();
     }
   }
+}
+
+/**
+ * A noiseless problem (no intercept) written to `file`, fitted as its own `skein fit --json`
+ * process with the problem's K and `seed`: its own fit time, the whole process's, and the worst
+ * relative coefficient error; or why there are none (stopped after `limitMs`, failed).
+ */
+function noiselessFitAsProcess(file: string, problem: GeneratedProblem, seed: number, limitMs: number, oneThread = false): { fitMs: number; wallMs: number; error: number } | string {
+  const figures = runCli(["fit", file, "--y", "y", "--k", String(problem.k), "--no-intercept", "--seed", String(seed)], limitMs, oneThread);
+  if (typeof figures === "string") return figures;
+  const { fitMs } = figures.json.timings as { fitMs: number };
+  // The report's coefficients carry the intercept slot first (0 here).
+  const components = figures.json.components as { coefficients: number[] }[];
+  const error = relativeCoefficientError(components.map((c) => Float64Array.from(c.coefficients.slice(1))), problem.coefficients);
+  return { fitMs, wallMs: figures.wallMs, error };
 }
 
 /** Fit seeds per problem of the seeds section: the bench's own and the next. */
@@ -171,6 +182,33 @@ export function runFitSeedsBench(print: (line: string) => void): void {
     const tally = tallyRecoveries(runs, FIT_SEEDS_LIMIT_MS);
     print(`  ${String(factor).padStart(6)} ${String(tally.rows).padStart(6)} ${`${tally.recovered}/${tally.fits}`.padStart(11)} ${tally.meanMs.toFixed(0).padStart(9)} ${tally.maxMs.toFixed(0).padStart(8)}`);
   }
+  if (cliBuilt()) printSixRowsAsProcesses(print);
+}
+
+/**
+ * The 6-row problems with the bench's seed as a user runs them: each a `skein fit` process
+ * (with its second thread, as shipped), timed by its own timings.fitMs. The rows above are
+ * fitted in this process, on one thread.
+ */
+function printSixRowsAsProcesses(print: (line: string) => void): void {
+  const times: number[] = [];
+  let recovered = 0;
+  for (const { problem, seed } of gridRuns(50, 7, 6, 5)) {
+    const { file, cleanup } = writeProblemCsv(problem, 17);
+    try {
+      const figures = noiselessFitAsProcess(file, problem, seed, FIT_SEEDS_LIMIT_MS);
+      if (typeof figures === "string") {
+        print(`  6 rows, seed ${seed} as a skein fit process: ${figures}`);
+        continue;
+      }
+      times.push(figures.fitMs);
+      if (figures.error <= RECOVERY_TOLERANCE) recovered++;
+    } finally {
+      cleanup();
+    }
+  }
+  const mean = times.reduce((sum, t) => sum + t, 0) / Math.max(1, times.length);
+  print(`  6 rows, the five problems with the bench's seed, each a skein fit process with its second thread (as shipped): ${recovered}/5 recovered, fit mean ${mean.toFixed(0)} ms, max ${Math.max(...times).toFixed(0)} ms`);
 }
 
 export function runLargeBench(print: (line: string) => void): void {
