@@ -80,6 +80,19 @@ describe("the helper thread", () => {
     expect(jobs.get("rows") ?? 0).toBeGreaterThan(0);
   });
 
+  it("takes its shares once ready when it was still starting as the fit began, the fits the same to the bit", () => {
+    // The command line starts its thread with the process, ready about 0.1 s later: a small file is read sooner.
+    const problem = noisyProblem(30, 3, 60, createRandom(32));
+    const fitOf = () => fingerprint(fitMixture(problem.data, { k: 3, intercept: true, seed: 3 }));
+    const oneThread = fitOf();
+    const { helper, jobs } = inlineHelper("works");
+    let asked = 0;
+    useHelperThread({ ...helper, ready: () => ++asked > 1 });
+    expect(fitOf()).toBe(oneThread);
+    expect(asked).toBeGreaterThan(1);
+    expect(jobs.get("componentSums") ?? 0).toBeGreaterThan(0);
+  });
+
   it("when a job fails, before or after writing its share, the calling thread makes that share and the fits are still the same", () => {
     for (const behaviour of ["fails", "failsAfterWriting"] as const) {
       const { helper, jobs } = inlineHelper(behaviour);

@@ -13,7 +13,7 @@ import { finishOnAllRows } from "./mixture/finishOnAllRows";
 import { finishExactComponents } from "./mixture/finishExactComponents";
 import { reportFit } from "./mixture/reportFit";
 import { withInternalScaling } from "./internalScaling";
-import { allShared, helperThread, shareableArray } from "./helperThread";
+import { allShared, shareableArray, sharing } from "./helperThread";
 import { backgroundMayHelp, chooseBackground, withBackground } from "./mixture/backgroundComponent";
 
 export { checkRowsForComponents } from "./mixture/mixtureSettings";
@@ -37,9 +37,12 @@ export function fitMixture(data: RegressionData, options: MixtureOptions): Mixtu
   return withInternalScaling(shareable(data), options, fitWithBackgroundSetting);
 }
 
-/** The data in memory a helper thread can read, when one is installed (helperThread.ts): a copy unless it already is. */
+/**
+ * The data in memory a helper thread can read, when one is installed (helperThread.ts; it may
+ * still be starting, and takes its shares once ready): a copy unless it already is.
+ */
 function shareable(data: RegressionData): RegressionData {
-  if (!helperThread() || allShared(data.x, data.y)) return data;
+  if (!sharing() || allShared(data.x, data.y)) return data;
   const x = shareableArray(data.x.length);
   const y = shareableArray(data.y.length);
   x.set(data.x);

@@ -104,8 +104,8 @@ export function shareableCounter(): Int32Array {
   return sharing() ? new Int32Array(new SharedArrayBuffer(4)) : new Int32Array(1);
 }
 
-/** Whether new arrays go to shared memory: a helper is installed and the runtime has it. */
-function sharing(): boolean {
+/** Whether new arrays go to shared memory: a helper is installed (ready or still starting) and the runtime has it. */
+export function sharing(): boolean {
   return installed !== null && typeof SharedArrayBuffer === "function";
 }
 
