@@ -15,6 +15,7 @@ import { SkeinError } from "../src/engine/errors";
 import type { MixtureFit } from "../src/engine/mixtureTypes";
 import { noiselessProblem, noisyProblem, relativeCoefficientError, totalCoefficientError, type GeneratedProblem } from "../src/synthetic/generateProblems";
 import { carefulEm, emFromTruth } from "./plainEm";
+import { median as medianOf } from "../src/engine/median";
 
 /** Relative error at or below which a component counts as recovered (the accuracy target). */
 export const RECOVERY_TOLERANCE = 1e-6;
@@ -149,7 +150,7 @@ export function runAccuracyBench(print: (line: string) => void): void {
         ratios.push(fit ? totalCoefficientError(fit.coefficients, problem.coefficients) / oracleError : Infinity);
         floors.push(totalCoefficientError(emFromTruth(problem), problem.coefficients) / oracleError);
       }
-      const median = (values: number[]): string => values.slice().sort((a, b) => a - b)[Math.floor(values.length / 2)].toFixed(2).padStart(7);
+      const median = (values: number[]): string => medianOf(Float64Array.from(values)).toFixed(2).padStart(7);
       const worst = (values: number[]): string => Math.max(...values).toFixed(2).padStart(7);
       print(`  ${String(d).padStart(3)} ${String(k).padStart(2)} ${String(factor).padStart(6)} ${median(ratios)} ${worst(ratios)}                  ${median(floors)} ${worst(floors)}`);
     }

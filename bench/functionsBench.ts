@@ -14,6 +14,7 @@ import { engineCallCounts, WORKER_MIN_CELLS } from "../src/service/engineRunner"
 import { fit, labels } from "../src/functions/functions";
 import { hashCells } from "../src/service/hashCells";
 import { engineService } from "../src/service/engineService";
+import { median } from "../src/engine/median";
 import { noisyProblem } from "../src/synthetic/generateProblems";
 
 const K = 3;
@@ -54,10 +55,6 @@ async function time<T>(work: () => Promise<T> | T): Promise<[T, number]> {
   return [result, performance.now() - start];
 }
 
-function median(values: number[]): number {
-  const sorted = [...values].sort((a, b) => a - b);
-  return sorted[Math.floor(sorted.length / 2)];
-}
 
 const ms = (value: number) => `${value.toFixed(value < 10 ? 2 : 0)} ms`;
 
@@ -90,9 +87,9 @@ export async function runFunctionsBench(print: (line: string) => void): Promise<
     freshArrays.push((await time(() => fit(fresh.y, fresh.x, K)))[1]);
     labelHits.push((await time(() => labels(ranges.y, ranges.x, K)))[1]);
   }
-  print(`  SKEIN.FIT cache hit: ${ms(median(freshArrays))} median of 5 (equal cells in new arrays), ${ms(median(sameArrays))} (the same arrays); ${engineCallCounts.fits - fitsBefore} engine fit in all`);
-  print(`  SKEIN.LABELS cache hit, spilling ${rows} rows: ${ms(median(labelHits))} median of 5`);
-  print(`  cache hit as a share of the first call: ${((100 * median(freshArrays)) / firstCall).toFixed(2)}%`);
+  print(`  SKEIN.FIT cache hit: ${ms(median(Float64Array.from(freshArrays)))} median of 5 (equal cells in new arrays), ${ms(median(Float64Array.from(sameArrays)))} (the same arrays); ${engineCallCounts.fits - fitsBefore} engine fit in all`);
+  print(`  SKEIN.LABELS cache hit, spilling ${rows} rows: ${ms(median(Float64Array.from(labelHits)))} median of 5`);
+  print(`  cache hit as a share of the first call: ${((100 * median(Float64Array.from(freshArrays))) / firstCall).toFixed(2)}%`);
 
   // Where the page/worker threshold sits: fit times of small ranges on the calling thread.
   for (const smallRows of [30, 90, 200, 1000, 5000]) {

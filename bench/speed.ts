@@ -1,5 +1,6 @@
 import { fitMixture } from "../src/engine/fitMixture";
 import { generateProblem, relativeCoefficientError } from "../src/synthetic/generateProblems";
+import { median } from "../src/engine/median";
 
 /** Rows per size in the speed bench. */
 const SIZES = [10000, 100000, 200000];
@@ -43,7 +44,7 @@ export function runSpeedBench(print: (line: string) => void): void {
       fit = fitMixture(problem.data, { k: COMPONENTS, seed: 1 });
       times.push(performance.now() - started);
     }
-    const elapsed = times.sort((a, b) => a - b)[Math.floor(FIT_REPETITIONS / 2)];
+    const elapsed = median(Float64Array.from(times));
     const refinement = fit.refinement;
     const error = relativeCoefficientError(fit.components.map((c) => c.coefficients), problem.coefficients);
     print(
