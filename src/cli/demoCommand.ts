@@ -18,7 +18,7 @@ import { compareWithTruth, type TruthComparison, type TruthComponent } from "./c
 import { alignColumns, formatColumn, formatExact, formatGap, formatNoiseSd, formatNumber, formatPercent, formatPlusMinus } from "../report/formatNumber";
 import { exactComponents, isExactFit } from "../engine/exactFit";
 import { startsAgree } from "../engine/scanComponents";
-import type { CommandIO } from "./main";
+import type { CommandIO } from "./commandIO";
 
 export const DEMO_USAGE = `Usage: skein demo [options]
 

@@ -1,5 +1,5 @@
 import { alignColumns, formatColumn, formatGap, formatNoiseSd, formatNumber, formatPercent, formatPlusMinus, formatWithError } from "../report/formatNumber";
-import type { FitReport } from "./fitCommand";
+import type { FitReport } from "./fitReport";
 
 /** Skipped rows listed one by one before the rest are summarised. */
 const SKIPPED_ROWS_SHOWN = 10;

@@ -4,13 +4,8 @@ import { fitCommand } from "./fitCommand";
 import { predictCommand } from "./predictCommand";
 import { scanCommand } from "./scanCommand";
 import { helperScript, installHelperThread } from "./helperThread";
+import type { CommandIO } from "./commandIO";
 
-export interface CommandIO {
-  stdout: (s: string) => void;
-  stderr: (s: string) => void;
-  /** stderr is a terminal: long scans show their progress there. */
-  progress?: boolean;
-}
 
 export const USAGE = `Usage: skein COMMAND [arguments]
 

@@ -11,7 +11,7 @@ import { formatNotices } from "./formatNotices";
 import { alignColumns, formatColumn } from "../report/formatNumber";
 import { defaultKMax, scanComponents } from "../engine/scanComponents";
 import { kChoiceText } from "./formatTable";
-import type { CommandIO } from "./main";
+import type { CommandIO } from "./commandIO";
 import { scanProgress } from "./progressLines";
 import { loadDesign, loadNewRows, type ColumnReport, type DesignSource, type NewRows } from "./loadDesign";
 

@@ -1,5 +1,5 @@
 import type { CancelSignal } from "../engine/mixtureTypes";
-import type { CommandIO } from "./main";
+import type { CommandIO } from "./commandIO";
 
 /** A scan or fit quicker than this shows no progress: a line that flashes by helps nobody. */
 export const PROGRESS_AFTER_MS = 1500;

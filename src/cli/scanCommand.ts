@@ -9,7 +9,7 @@ import type { OptionName } from "../engine/options";
 import { FILE_OPTIONS_HELP, optionFlags, optionHelp, parseArgs, readFileFlags, parseRowList, readBackground, readGivenOption, readOption, type FlagKinds, type ParsedArgs } from "./args";
 import { formatNotices } from "./formatNotices";
 import { alignColumns, formatColumn, formatGap } from "../report/formatNumber";
-import type { CommandIO } from "./main";
+import type { CommandIO } from "./commandIO";
 import { scanProgress } from "./progressLines";
 import { loadDesign, type ColumnReport, type DesignSource } from "./loadDesign";
 

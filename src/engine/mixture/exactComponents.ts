@@ -8,7 +8,8 @@ import type { MixtureWorkspace } from "./mixtureWorkspace";
 import type { Guards } from "./mStep";
 import { concentrationRuns } from "./concentrationSteps";
 import { parametersFromCoefficients } from "./starts";
-import { runEm, type EmStop } from "./runEm";
+import { runEm } from "./runEm";
+import type { EmStop } from "./fitContext";
 import { computeResiduals } from "./eStep";
 
 /**

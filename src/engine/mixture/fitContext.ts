@@ -3,7 +3,6 @@ import type { Random } from "../random";
 import type { MixtureParameters } from "./mixtureParameters";
 import type { MixtureWorkspace } from "./mixtureWorkspace";
 import type { Guards } from "./mStep";
-import type { EmStop } from "./runEm";
 
 /** The options of one fit after the entrance checks (mixtureSettings.ts). */
 export interface Settings {
@@ -17,6 +16,13 @@ export interface Settings {
   /** A flat background component beside the K regressions (backgroundComponent.ts). */
   background: boolean;
 }
+
+/**
+ * Asked after each iteration of a run given one: whether the run may end before converging,
+ * from ln L and Aitken's estimate of the gain still to come (Infinity when the changes do not
+ * shrink). The run then reports `stopped`.
+ */
+export type EmStop = (logLikelihood: number, gainToCome: number) => boolean;
 
 /** What every EM run needs besides its rows and parameters. */
 export interface EmContext {

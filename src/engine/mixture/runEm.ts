@@ -1,5 +1,5 @@
 import { checkSignal } from "../errors";
-import type { EmContext, EmRun } from "./fitContext";
+import type { EmContext, EmRun, EmStop } from "./fitContext";
 import type { MixtureParameters } from "./mixtureParameters";
 import type { MixtureWorkspace } from "./mixtureWorkspace";
 import { computeResiduals, eStep } from "./eStep";
@@ -79,12 +79,6 @@ export interface EmEnds {
   stop?: EmStop | null;
 }
 
-/**
- * Asked after each iteration of a run given one: whether the run may end before converging,
- * from ln L and Aitken's estimate of the gain still to come (Infinity when the changes do not
- * shrink). The run then reports `stopped`.
- */
-export type EmStop = (logLikelihood: number, gainToCome: number) => boolean;
 
 /** Aitken's estimate of the gain in ln L still to come after `change`, Infinity unless the last two changes shrink geometrically with ratio a ≤ largestRatio (below 1). */
 function gainToCome(previousChange: number, change: number, largestRatio = 0.5): number {

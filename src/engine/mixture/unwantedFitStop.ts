@@ -8,7 +8,7 @@ import type { MixtureOptions } from "../mixtureTypes";
 import type { FitContext, Settings } from "./fitContext";
 import type { MixtureWorkspace } from "./mixtureWorkspace";
 import { countParameters } from "./assembleFit";
-import type { EmStop } from "./runEm";
+import type { EmStop } from "./fitContext";
 
 /**
  * Aitken's estimate of the gain still to come assumes the changes of ln L keep shrinking by
