@@ -55,7 +55,6 @@ async function time<T>(work: () => Promise<T> | T): Promise<[T, number]> {
   return [result, performance.now() - start];
 }
 
-
 const ms = (value: number) => `${value.toFixed(value < 10 ? 2 : 0)} ms`;
 
 export async function runFunctionsBench(print: (line: string) => void): Promise<void> {

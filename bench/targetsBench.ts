@@ -27,7 +27,6 @@ import { readFileSync } from "fs";
 import { cliBuilt, runCli, writeProblemCsv, type ProcessFigures } from "./wholeProcess";
 
 const RESTARTS = 10;
-
 /** Timings per small problem, product and careful EM in turn; the medians are printed (single timings move by a factor of two on a shared machine). */
 const SMALL_REPETITIONS = 3;
 
