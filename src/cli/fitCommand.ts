@@ -100,7 +100,6 @@ export interface FitSettings {
   json: boolean;
 }
 
-
 /** What a model fit hands back, whatever the number of components. */
 export interface ModelFit {
   components: ComponentReport[];

@@ -2,10 +2,7 @@ import type { MixtureModel, RefinementReport, WarmStartReport } from "../engine/
 import type { SeparationReport } from "../engine/trustTypes";
 import type { ColumnReport } from "./loadDesign";
 
-/**
- * What `skein fit --json` prints (the FitReport) and its parts: the command line's output
- * contract, read by scripts. Later versions add fields; they never rename these.
- */
+/** What `skein fit --json` prints (the FitReport) and its parts: the command line's output contract, read by scripts. */
 
 /** One fitted component as reported: coefficients always start with the intercept (0 when there is none). */
 export interface ComponentReport {

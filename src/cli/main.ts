@@ -6,7 +6,6 @@ import { scanCommand } from "./scanCommand";
 import { helperScript, installHelperThread } from "./helperThread";
 import type { CommandIO } from "./commandIO";
 
-
 export const USAGE = `Usage: skein COMMAND [arguments]
 
 Skein finds the components of a table: groups of rows that each share one

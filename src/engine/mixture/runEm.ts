@@ -79,7 +79,6 @@ export interface EmEnds {
   stop?: EmStop | null;
 }
 
-
 /** Aitken's estimate of the gain in ln L still to come after `change`, Infinity unless the last two changes shrink geometrically with ratio a ≤ largestRatio (below 1). */
 function gainToCome(previousChange: number, change: number, largestRatio = 0.5): number {
   const ratio = change / previousChange;
