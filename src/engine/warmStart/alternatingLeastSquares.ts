@@ -212,10 +212,13 @@ function summarise(state: AlternatingState, exactTolerance: number, iterations: 
  * Brings the normal equations from the rows' previous labels to their current ones: per
  * component, the rows that leave it (weight −1) and the rows that join it (weight +1) are
  * gathered into the weighted-Gram kernel's row block and added as one weighted Gram, instead
- * of one rank-one update per row.
+ * of one rank-one update per row. The rows that moved are listed once, so each component's
+ * pass visits only those (after the first few iterations a small fraction of the n rows).
  */
 class RowMoves {
   private readonly blockRows: number;
+  /** The rows whose label changed, in order (late iterations move few of the n rows). */
+  private moved: Int32Array = new Int32Array(0);
 
   constructor(private readonly q: number) {
     this.blockRows = blockRowsFor(q);
@@ -225,15 +228,20 @@ class RowMoves {
     const { q, blockRows } = this;
     const n = labels.length;
     const k = counts.length;
+    if (this.moved.length < n) this.moved = new Int32Array(n);
+    const moved = this.moved;
+    let movedCount = 0;
+    for (let i = 0; i < n; i++) if (previous[i] !== labels[i]) moved[movedCount++] = i;
     // Per gathered row: ±y, then the sign (its weight).
     const block = rowBlock(q, blockRows, 2);
     const { plain, vectors, qp } = block;
     for (let c = 0; c < k; c++) {
       let m = 0;
-      for (let i = 0; i < n; i++) {
+      for (let t = 0; t < movedCount; t++) {
+        const i = moved[t];
         const from = previous[i];
         const to = labels[i];
-        if (from === to || (from !== c && to !== c)) continue;
+        if (from !== c && to !== c) continue;
         const sign = to === c ? 1 : -1;
         counts[c] += sign;
         const base = m * qp;
