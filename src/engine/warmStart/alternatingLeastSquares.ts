@@ -104,7 +104,7 @@ function createState(
     scratch: new Float64Array(choleskyScratchLength(q)),
     changedComponent: new Uint8Array(k),
     previous: new Int32Array(n).fill(-1),
-    moves: new RowMoves(q),
+    moves: new RowMoves(q, n),
     // Fitted values per row and component (n x k), recomputed only for the components whose
     // coefficients changed since the last assignment: late iterations move a few rows and
     // re-solve a few components, so most of the n·k·q products are reused.
@@ -218,17 +218,17 @@ function summarise(state: AlternatingState, exactTolerance: number, iterations: 
 class RowMoves {
   private readonly blockRows: number;
   /** The rows whose label changed, in order (late iterations move few of the n rows). */
-  private moved: Int32Array = new Int32Array(0);
+  private readonly moved: Int32Array;
 
-  constructor(private readonly q: number) {
+  constructor(private readonly q: number, n: number) {
     this.blockRows = blockRowsFor(q);
+    this.moved = new Int32Array(n);
   }
 
   apply(design: Float64Array, y: Float64Array, labels: Int32Array, previous: Int32Array, grams: Float64Array, rights: Float64Array, counts: Int32Array): void {
     const { q, blockRows } = this;
     const n = labels.length;
     const k = counts.length;
-    if (this.moved.length < n) this.moved = new Int32Array(n);
     const moved = this.moved;
     let movedCount = 0;
     for (let i = 0; i < n; i++) if (previous[i] !== labels[i]) moved[movedCount++] = i;
