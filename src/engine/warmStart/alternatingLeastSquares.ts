@@ -217,7 +217,7 @@ function summarise(state: AlternatingState, exactTolerance: number, iterations: 
  */
 class RowMoves {
   private readonly blockRows: number;
-  /** The rows whose label changed, in order (late iterations move few of the n rows). */
+  /** The rows whose label changed at the last assignment, in order (filled by apply). */
   private readonly moved: Int32Array;
 
   constructor(private readonly q: number, n: number) {
