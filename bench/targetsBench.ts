@@ -233,9 +233,10 @@ export function runLargeBench(print: (line: string) => void): void {
   for (const [n, p] of [[200000, 10], [1000000, 5]] as const) {
     const problem = generateProblem({ n, p, k: 3, seed: 2024, sigma: 0.1, intercept: true, meanShift: 0.5, minSeparation: 0.5 });
     if (n === 1000000) printWholeProcess(problem, print);
-    // One pass timed before the fits and again after each, the fastest kept: on this shared
-    // machine one timing before the fits once took 8.6 ms against the usual 4.7-5.0 ms (200,000
-    // x 10) while the fits beside it ran at their usual speed, which understated every multiple.
+    // One pass timed before the fits and again after each, the fastest kept, so that one slow
+    // timing does not set every multiple below. In two full bench runs the one pass of 200,000 x
+    // 10 still took 7.4-8.6 ms against 4.7-5.0 ms with the section run alone (cause not found),
+    // and the multiples there read lower than the section's own.
     let pass = timeOnePass(problem.data.x, n, p);
     // The same fit (same seed, the same bits) LARGE_REPETITIONS times: each figure is the
     // median, since one timing on a shared machine can take twice as long.
