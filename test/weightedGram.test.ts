@@ -12,6 +12,7 @@ import { meanOuterProduct } from "../src/engine/secondMoment";
 import { createWorkspace } from "../src/engine/mixture/mixtureWorkspace";
 import { createParameters } from "../src/engine/mixture/mixtureParameters";
 import { computeResiduals } from "../src/engine/mixture/eStep";
+import { paddedCoefficients, rowResiduals } from "../src/engine/rowResiduals";
 import { Matrix } from "ml-matrix";
 
 describe("the weighted-Gram kernel", () => {
@@ -325,6 +326,31 @@ describe("the residual kernel's SIMD path (computeResiduals)", () => {
       expect(Array.from(outputs[1]), `k = ${k}, intercept ${intercept}, subsample ${subsample}`).toEqual(Array.from(outputs[0]));
       // Not two arrays of zeros: every residual was written.
       expect(outputs[1].every((value) => value !== 0 && Number.isFinite(value))).toBe(true);
+    }
+  });
+});
+
+describe("the residual kernel (rowResiduals)", () => {
+  it("gives y − Σ x·β summed in column order, to the bit, for 1 to 9 components, with and without implicit 1s, writing nothing past k", () => {
+    const random = createRandom(77);
+    const q = 6;
+    const values = Float64Array.from({ length: 3 * q }, () => 6 * random.next() - 3);
+    for (let k = 1; k <= 9; k++) {
+      for (const ones of [0, 1, 2]) {
+        const coefficients = Float64Array.from({ length: k * q }, () => 4 * random.next() - 2);
+        const yi = 10 * random.next() - 5;
+        const rowOffset = q - ones;
+        const out = new Float64Array(k + 4).fill(-7);
+        rowResiduals(values, rowOffset, ones, q, paddedCoefficients(coefficients, k, q), k, yi, out, 1);
+        for (let c = 0; c < k; c++) {
+          // The definition, written plainly: column j is 1 for j < ones, else the row's value.
+          let sum = 0;
+          for (let j = 0; j < q; j++) sum += (j < ones ? 1 : values[rowOffset + j]) * coefficients[c * q + j];
+          expect(out[1 + c], `k = ${k}, ones = ${ones}, component ${c}`).toBe(yi - sum);
+        }
+        expect(out[0]).toBe(-7);
+        for (let c = k + 1; c < out.length; c++) expect(out[c], `k = ${k}: nothing written past k`).toBe(-7);
+      }
     }
   });
 });

@@ -3,7 +3,7 @@ import { predictorLogDensity, predictorModels } from "./computeMemberships";
 import { componentLogConstant, membershipsFromLogTerms } from "./logDensities";
 import { addBlockDots, addBlockGram, blockRowsFor, gatherRows, rowBlock, stageRows, weighBlock, type RowBlock } from "./weightedGram";
 import { NEGLIGIBLE_MEMBERSHIP } from "./mixture/mStep";
-import { paddedCoefficients, rowResiduals } from "./mixture/eStep";
+import { paddedCoefficients, rowResiduals } from "./rowResiduals";
 
 /**
  * The observed information matrix of a mixture of regressions at a fit's parameters, by

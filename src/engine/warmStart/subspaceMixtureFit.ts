@@ -2,6 +2,7 @@ import type { Random } from "../random";
 import { choleskyScratchLength, scaledCholeskySolve } from "../cholesky";
 import { componentLogConstant, normaliseLogDensities } from "../logDensities";
 import { addBlockDots, addBlockGram, rowBlock, weighBlock } from "../weightedGram";
+import { paddedLength, rowResiduals } from "../rowResiduals";
 
 /**
  * EM for a mixture of K regressions restricted to a K-dimensional subspace: the rows are the
@@ -68,7 +69,7 @@ interface SubspaceState {
   squares: Float64Array;
   /** Per component, Σ τ r² over all rows. */
   rss: Float64Array;
-  /** The coefficients one component after another, zero components up to a whole RESIDUAL_GROUP. */
+  /** The coefficients one component after another, padded for rowResiduals. */
   grouped: Float64Array;
   logDensity: Float64Array;
 }
@@ -96,7 +97,7 @@ function createState(z: Float64Array, y: Float64Array, n: number, m: number, k: 
     scratch: new Float64Array(choleskyScratchLength(m)),
     squares: new Float64Array(n * k),
     rss: new Float64Array(k),
-    grouped: new Float64Array(Math.ceil(k / RESIDUAL_GROUP) * RESIDUAL_GROUP * m),
+    grouped: new Float64Array(paddedLength(k, m)),
     logDensity: new Float64Array(k),
   };
 }
@@ -137,60 +138,23 @@ function solveComponents(state: SubspaceState): void {
   }
 }
 
-/** Components whose residuals are computed together (see squaredResiduals). */
-const RESIDUAL_GROUP = 4;
-
 /**
- * Each row's squared residual under each component and each component's Σ τ r², row by row.
- * A residual is y minus each coefficient's product in turn, one dependent chain of m steps,
- * so RESIDUAL_GROUP components go together, each value of the row loaded once for the four
- * chains (0.22 ms against 0.4 a pass at n = 1,470, m = 14, k = 7, timed alone). The
- * coefficients are padded with zero components up to a whole group, and each residual's
- * operations and each sum's order are those of one component alone, so the values are the
- * same to the bit.
+ * Each row's squared residual under each component and each component's Σ τ r², row by row
+ * through the engine's residual kernel (rowResiduals.ts: four components at a time, each value
+ * of the row loaded once for the four).
  */
 function squaredResiduals(state: SubspaceState): void {
   const { y, z, n, m, k, tau, coefficients, squares, rss, grouped } = state;
   for (let j = 0; j < k; j++) grouped.set(coefficients[j], j * m);
   rss.fill(0);
   for (let i = 0; i < n; i++) {
-    const row = i * m;
     const at = i * k;
-    const yi = y[i];
-    for (let j = 0; j < k; j += RESIDUAL_GROUP) {
-      const b0 = j * m;
-      const b1 = b0 + m;
-      const b2 = b1 + m;
-      const b3 = b2 + m;
-      let r0 = yi;
-      let r1 = yi;
-      let r2 = yi;
-      let r3 = yi;
-      for (let a = 0; a < m; a++) {
-        const value = z[row + a];
-        r0 -= grouped[b0 + a] * value;
-        r1 -= grouped[b1 + a] * value;
-        r2 -= grouped[b2 + a] * value;
-        r3 -= grouped[b3 + a] * value;
-      }
-      const square = r0 * r0;
+    rowResiduals(z, i * m, 0, m, grouped, k, y[i], squares, at);
+    for (let j = 0; j < k; j++) {
+      const r = squares[at + j];
+      const square = r * r;
       squares[at + j] = square;
       rss[j] += tau[at + j] * square;
-      if (j + 1 < k) {
-        const square1 = r1 * r1;
-        squares[at + j + 1] = square1;
-        rss[j + 1] += tau[at + j + 1] * square1;
-      }
-      if (j + 2 < k) {
-        const square2 = r2 * r2;
-        squares[at + j + 2] = square2;
-        rss[j + 2] += tau[at + j + 2] * square2;
-      }
-      if (j + 3 < k) {
-        const square3 = r3 * r3;
-        squares[at + j + 3] = square3;
-        rss[j + 3] += tau[at + j + 3] * square3;
-      }
     }
   }
 }
