@@ -12,7 +12,7 @@ import { meanOuterProduct } from "../src/engine/secondMoment";
 import { createWorkspace } from "../src/engine/mixture/mixtureWorkspace";
 import { createParameters } from "../src/engine/mixture/mixtureParameters";
 import { computeResiduals } from "../src/engine/mixture/eStep";
-import { paddedCoefficients, rowResiduals } from "../src/engine/rowResiduals";
+import { paddedCoefficients, rowResidual, rowResiduals } from "../src/engine/rowResiduals";
 import { Matrix } from "ml-matrix";
 
 describe("the weighted-Gram kernel", () => {
@@ -330,8 +330,8 @@ describe("the residual kernel's SIMD path (computeResiduals)", () => {
   });
 });
 
-describe("the residual kernel (rowResiduals)", () => {
-  it("gives y − Σ x·β summed in column order, to the bit, for 1 to 9 components, with and without implicit 1s, writing nothing past k", () => {
+describe("the residual kernel (rowResiduals, rowResidual)", () => {
+  it("gives y − Σ x·β summed in column order, to the bit, for 1 to 9 components, with and without implicit 1s, writing nothing past k; one component alone the same", () => {
     const random = createRandom(77);
     const q = 6;
     const values = Float64Array.from({ length: 3 * q }, () => 6 * random.next() - 3);
@@ -347,6 +347,8 @@ describe("the residual kernel (rowResiduals)", () => {
           let sum = 0;
           for (let j = 0; j < q; j++) sum += (j < ones ? 1 : values[rowOffset + j]) * coefficients[c * q + j];
           expect(out[1 + c], `k = ${k}, ones = ${ones}, component ${c}`).toBe(yi - sum);
+          // One component's residual alone (a design row holds its 1s): the same value.
+          if (ones === 0) expect(rowResidual(values, rowOffset, q, coefficients, c * q, yi)).toBe(out[1 + c]);
         }
         expect(out[0]).toBe(-7);
         for (let c = k + 1; c < out.length; c++) expect(out[c], `k = ${k}: nothing written past k`).toBe(-7);

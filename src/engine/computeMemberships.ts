@@ -3,6 +3,7 @@ import type { MixtureFit } from "./mixtureTypes";
 import { coefficientOffset } from "./regressionMatrix";
 import { choleskyScratchLength, scaledCholeskyLower } from "./cholesky";
 import { gaussianLogDensity, componentLogConstant, normaliseLogDensities } from "./logDensities";
+import { rowResidual } from "./rowResiduals";
 
 /** Each joint component's x model, factored once: the mean, the lower Cholesky factor of Σ and ln det Σ. */
 export interface PredictorModel {
@@ -66,10 +67,7 @@ export function computeMemberships(
     const variance = component.sigma * component.sigma;
     const constant = componentLogConstant(component.weight, variance);
     for (let i = 0; i < n; i++) {
-      let fitted = 0;
-      const row = i * q;
-      for (let j = 0; j < q; j++) fitted += design[row + j] * beta[shift + j];
-      const r = y[i] - fitted;
+      const r = rowResidual(design, i * q, q, beta, shift, y[i]);
       let value = constant - (0.5 * r * r) / variance;
       if (models) value += predictorLogDensity(models[c], x, i * p, p, scratch);
       logDensities[i * k + c] = value;

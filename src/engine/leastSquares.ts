@@ -1,5 +1,6 @@
 import { HouseholderQR } from "./householderQR";
 import { SkeinError } from "./errors";
+import { rowResidual } from "./rowResiduals";
 
 export interface LeastSquaresFit {
   /** One per column of the design, in its order (intercept first when there is one). */
@@ -50,11 +51,11 @@ export function leastSquares(x: Float64Array, n: number, q: number, y: Float64Ar
   }
   const coefficients = qr.solve(y, rowWeights);
   const residuals = new Float64Array(n);
-  computeResiduals(x, n, q, y, coefficients, residuals);
+  designResiduals(x, n, q, y, coefficients, residuals);
   // One refinement step: solve for the correction from the residuals themselves.
   const correction = qr.solve(residuals, rowWeights);
   for (let j = 0; j < q; j++) coefficients[j] += correction[j];
-  computeResiduals(x, n, q, y, coefficients, residuals);
+  designResiduals(x, n, q, y, coefficients, residuals);
   const { rss, total } = sumsOfSquares(y, residuals, n, weights, weightSum, intercept);
   const degreesOfFreedom = weightSum - q;
   const residualSD = degreesOfFreedom > 0 ? Math.sqrt(rss / degreesOfFreedom) : NaN;
@@ -120,12 +121,9 @@ function sumsOfSquares(
 }
 
 /** residuals = y − X c, for a row-major n x q design. */
-export function computeResiduals(x: Float64Array, n: number, q: number, y: Float64Array, c: Float64Array, out: Float64Array): Float64Array {
+function designResiduals(x: Float64Array, n: number, q: number, y: Float64Array, c: Float64Array, out: Float64Array): Float64Array {
   for (let i = 0; i < n; i++) {
-    let fitted = 0;
-    const rowOffset = i * q;
-    for (let j = 0; j < q; j++) fitted += x[rowOffset + j] * c[j];
-    out[i] = y[i] - fitted;
+    out[i] = rowResidual(x, i * q, q, c, 0, y[i]);
   }
   return out;
 }

@@ -1,7 +1,11 @@
 /**
- * The residual kernel: y − xᵀβ for one row under every component, shared by the E-step, the
- * observed information and the warm start's subspace EM, so every residual in the engine is
- * summed in one order. (The SIMD module's residuals, weightedGram.ts, follow the same order.)
+ * The residual kernel: y − xᵀβ for one row, Σ x·β summed in column order and then subtracted
+ * from y. rowResiduals gives a row's residuals under every component (the E-step, the observed
+ * information, the warm start's subspace EM), rowResidual one component's (starts, exact
+ * peeling, concentration steps, reseeding, memberships, least squares). The SIMD module's
+ * residuals (wasm/weightedGram.wat, run by the E-step) sum in the same order, so each gives the
+ * same bits. Hard assignment's predictions are a kernel of their own (rowPredictions in
+ * weightedGram.ts: xᵀβ in dot's association, compared with y there).
  */
 
 /** Components whose residuals are summed together, each value of a row loaded once for all of them. */
@@ -54,4 +58,14 @@ export function rowResiduals(values: Float64Array, rowOffset: number, implicitOn
     if (c + 2 < k) out[outOffset + c + 2] = yi - s2;
     if (c + 3 < k) out[outOffset + c + 3] = yi - s3;
   }
+}
+
+/**
+ * One row's residual y − xᵀβ under one component: design[rowOffset + j]·beta[betaOffset + j]
+ * summed over j < q in order (each of rowResiduals' sums is the same), then subtracted from yi.
+ */
+export function rowResidual(design: Float64Array, rowOffset: number, q: number, beta: Float64Array, betaOffset: number, yi: number): number {
+  let fitted = 0;
+  for (let j = 0; j < q; j++) fitted += design[rowOffset + j] * beta[betaOffset + j];
+  return yi - fitted;
 }

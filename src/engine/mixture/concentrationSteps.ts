@@ -2,6 +2,7 @@ import { HouseholderQR } from "../householderQR";
 import { gatherRows } from "../rowSubset";
 import { choleskyScratchLength, scaledCholeskySolve } from "../cholesky";
 import { HELPER_MINIMUM_MICROSECONDS, ROW_MULTIPLY_ADDS_PER_MICROSECOND, allShared, helperThread, shareableArray, shareableCounter, type HelperJob } from "../helperThread";
+import { rowResidual } from "../rowResiduals";
 
 /**
  * Concentration steps ("C-steps") of least trimmed squares (Rousseeuw & Van Driessen 2006,
@@ -154,12 +155,7 @@ export class ConcentrationSteps {
   /** Fills `absolute` with |y − Xc| and returns the h-th smallest. */
   private residualsAndThreshold(coefficients: Float64Array, h: number): number {
     const { n, q, design, y } = this;
-    for (let i = 0; i < n; i++) {
-      let fitted = 0;
-      const row = i * q;
-      for (let j = 0; j < q; j++) fitted += design[row + j] * coefficients[j];
-      this.absolute[i] = Math.abs(y[i] - fitted);
-    }
+    for (let i = 0; i < n; i++) this.absolute[i] = Math.abs(rowResidual(design, i * q, q, coefficients, 0, y[i]));
     this.sorted.set(this.absolute);
     this.sorted.sort();
     return this.sorted[Math.min(h, n) - 1];

@@ -11,6 +11,7 @@ import { parametersFromCoefficients } from "./starts";
 import { runEm } from "./runEm";
 import type { EmStop } from "./fitContext";
 import { computeResiduals } from "./eStep";
+import { rowResidual } from "../rowResiduals";
 
 /**
  * Exact components: on noiseless data (or data where some groups lie exactly on their
@@ -222,9 +223,7 @@ export function snapComponents(ws: MixtureWorkspace, params: MixtureParameters, 
     for (let round = 0; round < rounds; round++) {
       const rows: number[] = [];
       for (let i = 0; i < n; i++) {
-        let fitted = 0;
-        for (let j = 0; j < q; j++) fitted += ws.design[i * q + j] * coefficients[c * q + j];
-        if (Math.abs(ws.y[i] - fitted) <= width) rows.push(i);
+        if (Math.abs(rowResidual(ws.design, i * q, q, coefficients, c * q, ws.y[i])) <= width) rows.push(i);
       }
       // Any q rows are fitted exactly by some vector: only clearly more identify the component.
       if (rows.length < enoughRows(q) || sameRows(rows, previous)) break;

@@ -3,6 +3,7 @@ import type { MixtureParameters } from "./mixtureParameters";
 import type { MixtureWorkspace } from "./mixtureWorkspace";
 import { scaledCholeskySolve } from "../cholesky";
 import { factorPredictorCovariances, type Guards } from "./mStep";
+import { rowResidual } from "../rowResiduals";
 
 /**
  * Replaces a collapsed component (fewer than q + 1 rows' worth of membership, or a singular
@@ -44,9 +45,8 @@ export function reseedComponent(ws: MixtureWorkspace, params: MixtureParameters,
   if (scaledCholeskySolve(gram, rhs, q, solution, ws.choleskyScratch)) params.coefficients.set(solution, component * q);
   let rss = 0;
   for (const i of seedRows) {
-    let fitted = 0;
-    for (let j = 0; j < q; j++) fitted += design[i * q + j] * params.coefficients[component * q + j];
-    rss += (y[i] - fitted) * (y[i] - fitted);
+    const r = rowResidual(design, i * q, q, params.coefficients, component * q, y[i]);
+    rss += r * r;
   }
   params.variances[component] = Math.max(rss / seedRows.length, varianceFloor);
   params.weights[component] = seedRows.length / n;

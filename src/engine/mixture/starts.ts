@@ -5,6 +5,7 @@ import { createParameters } from "./mixtureParameters";
 import { computeResiduals } from "./eStep";
 import { mStepPredictorModel, mStepVariances, type Guards } from "./mStep";
 import { scaledCholeskySolve } from "../cholesky";
+import { rowResidual } from "../rowResiduals";
 
 /**
  * Cheap starting points for EM. Each returns hard labels or coefficients; the driver turns
@@ -42,11 +43,7 @@ export function residualSeedingLabels(ws: MixtureWorkspace, random: Random): Int
   const pooled = new Float64Array(q);
   scaledCholeskySolve(gram, rhs, q, pooled, ws.choleskyScratch);
   const points = new Float64Array(n);
-  for (let i = 0; i < n; i++) {
-    let fitted = 0;
-    for (let j = 0; j < q; j++) fitted += design[i * q + j] * pooled[j];
-    points[i] = y[i] - fitted;
-  }
+  for (let i = 0; i < n; i++) points[i] = rowResidual(design, i * q, q, pooled, 0, y[i]);
   return kMeansLabels(points, n, 1, ws.k, random);
 }
 

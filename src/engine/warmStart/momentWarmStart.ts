@@ -7,6 +7,7 @@ import { subspaceMixtureFit, randomPartition, type SubspaceMixture } from "./sub
 import { whitenPredictors, unwhitenCoefficients, whitenCoefficients, type WhitenedPredictors } from "./whitenPredictors";
 import { responseMomentSubspace } from "./responseMomentSubspace";
 import { selectRows } from "../rowSubset";
+import { rowResidual } from "../rowResiduals";
 
 export interface MomentWarmStart {
   /** K coefficient vectors of length q (intercept first when the fit has one). */
@@ -145,11 +146,7 @@ function peelAndRestart(
   for (let round = 0; round < k && best.exactRows < n; round++) {
     // Rows fitted exactly per component.
     const exactCount = new Int32Array(k);
-    const residualOf = (i: number, c: Float64Array): number => {
-      let fitted = 0;
-      for (let j = 0; j < q; j++) fitted += design[i * q + j] * c[j];
-      return Math.abs(y[i] - fitted);
-    };
+    const residualOf = (i: number, c: Float64Array): number => Math.abs(rowResidual(design, i * q, q, c, 0, y[i]));
     for (let i = 0; i < n; i++) if (residualOf(i, best.coefficients[best.labels[i]]) <= exactTolerance) exactCount[best.labels[i]]++;
     const found: Float64Array[] = [];
     for (let c = 0; c < k; c++) if (exactCount[c] >= enoughRows(q)) found.push(best.coefficients[c]);
