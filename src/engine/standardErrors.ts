@@ -68,7 +68,6 @@ function withoutBackgroundRows(data: RegressionData, fit: MixtureFit): Regressio
   if (!background || !(background.weight > 0)) return data;
   const { n, p } = data;
   const backgroundTerm = Math.log(background.weight) + background.logDensity;
-  const shift = fit.intercept ? 0 : 1;
   // Each component's ln π − ½ ln(2πσ²), once rather than once a row.
   const constants = fit.components.map((component) => componentLogConstant(component.weight, component.sigma * component.sigma));
   const kept: number[] = [];
@@ -76,9 +75,8 @@ function withoutBackgroundRows(data: RegressionData, fit: MixtureFit): Regressio
     let nearest = -Infinity;
     for (let c = 0; c < fit.k; c++) {
       const component = fit.components[c];
-      const b = component.coefficients;
-      let fitted = shift === 0 ? b[0] : 0;
-      for (let j = 0; j < p; j++) fitted += b[j + 1] * data.x[i * p + j];
+      // The intercept slot holds 0 when the fit has none.
+      const fitted = componentPrediction(component.coefficients, data.x, i * p, p);
       // (r / σ)² from r / σ, so a residual near 1e154 overflows only to +Infinity here.
       const z = (data.y[i] - fitted) / component.sigma;
       const term = constants[c] - 0.5 * z * z;
