@@ -63,7 +63,11 @@ export function locationSeedingLabels(ws: MixtureWorkspace, random: Random): Int
   return kMeansLabels(points, n, dimension, ws.k, random);
 }
 
-/** Lloyd iterations after k-means++ seeding on n points of the given dimension (row-major). */
+/**
+ * Lloyd iterations after k-means++ seeding on n points of the given dimension (row-major), at
+ * most; they end early once no point changes centre (the centres, and so every later
+ * assignment, would then stay as they are).
+ */
 const LLOYD_ITERATIONS = 10;
 
 function kMeansLabels(points: Float64Array, n: number, dimension: number, k: number, random: Random): Int32Array {
@@ -93,6 +97,7 @@ function kMeansLabels(points: Float64Array, n: number, dimension: number, k: num
   const labels = new Int32Array(n);
   const counts = new Float64Array(k);
   for (let iteration = 0; iteration <= LLOYD_ITERATIONS; iteration++) {
+    let moved = 0;
     for (let i = 0; i < n; i++) {
       let best = 0;
       let bestDistance = Infinity;
@@ -103,9 +108,10 @@ function kMeansLabels(points: Float64Array, n: number, dimension: number, k: num
           best = c;
         }
       }
+      if (iteration === 0 || labels[i] !== best) moved++;
       labels[i] = best;
     }
-    if (iteration === LLOYD_ITERATIONS) break;
+    if (iteration === LLOYD_ITERATIONS || moved === 0) break;
     counts.fill(0);
     const sums = new Float64Array(k * dimension);
     for (let i = 0; i < n; i++) {
