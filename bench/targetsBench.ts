@@ -236,7 +236,8 @@ export function runLargeBench(print: (line: string) => void): void {
     // One pass timed before the fits and again after each, the fastest kept, so that one slow
     // timing does not set every multiple below. In two full bench runs the one pass of 200,000 x
     // 10 still took 7.4-8.6 ms against 4.7-5.0 ms with the section run alone (cause not found),
-    // and the multiples there read lower than the section's own.
+    // and the multiples there read lower than the section's own; the next two full runs gave
+    // 4.7 ms.
     let pass = timeOnePass(problem.data.x, n, p);
     // The same fit (same seed, the same bits) LARGE_REPETITIONS times: each figure is the
     // median, since one timing on a shared machine can take twice as long.

@@ -2,10 +2,10 @@
  * The residual kernel: y − xᵀβ for one row, Σ x·β summed in column order and then subtracted
  * from y. rowResiduals gives a row's residuals under every component (the E-step, the observed
  * information, the warm start's subspace EM), rowResidual one component's (starts, exact
- * peeling, concentration steps, reseeding, memberships, least squares). The SIMD module's
- * residuals (wasm/weightedGram.wat, run by the E-step) sum in the same order, so each gives the
- * same bits. Hard assignment's predictions are a kernel of their own (rowPredictions in
- * weightedGram.ts: xᵀβ in dot's association, compared with y there).
+ * peeling in the fit and in the warm start, concentration steps, reseeding, memberships, least
+ * squares). The SIMD module's residuals (wasm/weightedGram.wat, run by the E-step) sum in the
+ * same order, so each gives the same bits. Hard assignment's predictions are a kernel of their
+ * own (rowPredictions in weightedGram.ts: xᵀβ in dot's association, compared with y there).
  */
 
 /** Components whose residuals are summed together, each value of a row loaded once for all of them. */
