@@ -197,6 +197,20 @@ describe("noiseless problems are recovered to rounding level", () => {
   });
 });
 
+describe("random partitions in a fit of four or more components", () => {
+  it("stop after three in a row fit no component exactly, once a leader's confirming run fitted one", () => {
+    // Invented noiseless problem from the shared generator (10 predictors, 5 components, 3
+    // rows per predictor per component, seed found by a scan for this case). The three
+    // first starts fit no component exactly after their short runs, and the confirming run of
+    // a leader (60 iterations) fits one. Then three random partitions that fit none end the
+    // search: 3 + 3 starts. Before the confirming runs counted, all ten partitions ran (13).
+    const noiseless = noiselessProblem(10, 5, 3, createRandom(8073));
+    const fit = fitMixture(noiseless.data, { k: 5, intercept: false, seed: 8073 });
+    expect(fit.warmStart.startsTried).toBe(6);
+    expect(relativeCoefficientError(slopes(fit), noiseless.coefficients)).toBeLessThan(1e-6);
+  });
+});
+
 describe("the warm start is not reported as converged when a restructuring move beat every start", () => {
   // Invented noisy demo data (4 components, 3 predictors, noise SD 0.3, 400 rows): on these
   // seeds split-and-merge or peeling found a fit no start reached (warmStart.converged

@@ -84,6 +84,11 @@ function noteExactComponents(ctx: FitContext, screen: ScreenState, candidate: Ca
   if (candidate.method.startsWith("random-partition")) screen.partitionsWithoutExact = exact ? 0 : screen.partitionsWithoutExact + 1;
 }
 
+/** A leader's confirming run can be what first shows an exact component (d = 100: a seeded start exact in four after 60 iterations). */
+function noteConfirmedLeader(ctx: FitContext, screen: ScreenState, leader: Candidate): void {
+  if (ctx.working.k >= COMPONENTS_WITHOUT_PARTITIONS && !screen.exactSeen) screen.exactSeen = exactComponentsOf(ctx.working, leader.params).length > 0;
+}
+
 interface StartSource {
   method: string;
   make: () => MixtureParameters | null;
@@ -112,7 +117,7 @@ export function screenStarts(ctx: FitContext): ScreenedStarts {
     if (isNoiseless(candidate.params, ctx.working)) break;
     if (ctx.working.k >= COMPONENTS_WITHOUT_PARTITIONS) noteExactComponents(ctx, screen, candidate);
     // On rows expected to be exact, two starts agreeing on a fit that is not exact ends nothing.
-    if (!ctx.expectExact && searchSettled(ctx, candidates, cheapFirst)) {
+    if (!ctx.expectExact && searchSettled(ctx, candidates, cheapFirst, (leader) => noteConfirmedLeader(ctx, screen, leader))) {
       foundTwice = true;
       break;
     }
@@ -140,12 +145,12 @@ const CONFIRMING_ITERATIONS = 60;
  * found twice with one of the two finders a later start (the moment start, confirmed, or a
  * random partition). Otherwise the best fit must be found twice, at MIN_STARTS by two leaders.
  */
-function searchSettled(ctx: FitContext, candidates: Candidate[], cheapFirst: boolean): boolean {
+function searchSettled(ctx: FitContext, candidates: Candidate[], cheapFirst: boolean, confirmed: (leader: Candidate) => void): boolean {
   const count = candidates.length;
   if (count < MIN_STARTS) return false;
-  if (!cheapFirst) return bestFoundTwice(candidates) || (count === MIN_STARTS && bestFoundTwice(confirmLeaders(ctx, candidates, 2)));
-  if (count === MIN_STARTS) return allFoundAlike(candidates) || (confirmLeaders(ctx, candidates, MIN_STARTS), allFoundAlike(candidates));
-  if (count === MIN_STARTS + 1) confirmLeaders(ctx, candidates.slice(MIN_STARTS), 1);
+  if (!cheapFirst) return bestFoundTwice(candidates) || (count === MIN_STARTS && bestFoundTwice(confirmLeaders(ctx, candidates, 2, confirmed)));
+  if (count === MIN_STARTS) return allFoundAlike(candidates) || (confirmLeaders(ctx, candidates, MIN_STARTS, confirmed), allFoundAlike(candidates));
+  if (count === MIN_STARTS + 1) confirmLeaders(ctx, candidates.slice(MIN_STARTS), 1, confirmed);
   return bestFoundTwice(candidates, MIN_STARTS);
 }
 
@@ -156,11 +161,14 @@ function searchSettled(ctx: FitContext, candidates: Candidate[], cheapFirst: boo
  * less than the remaining starts and restructuring moves it saves. The refined parameters and
  * likelihoods stay on the candidates; returns the leaders.
  */
-function confirmLeaders(ctx: FitContext, candidates: Candidate[], count: number): Candidate[] {
+function confirmLeaders(ctx: FitContext, candidates: Candidate[], count: number, confirmed: (leader: Candidate) => void): Candidate[] {
   const leaders = candidates.slice().sort((a, b) => b.logLikelihood - a.logLikelihood).slice(0, count);
   // A leader that cannot matter (a scan's fit, see unwantedFitStop.ts) is not refined further: on all rows only.
   const stop = stopOnAllRows(ctx, ctx.working);
-  for (const leader of leaders) leader.logLikelihood = runEm(ctx.working, leader.params, ctx, Math.min(CONFIRMING_ITERATIONS, ctx.settings.maxIterations), null, { stop }).logLikelihood;
+  for (const leader of leaders) {
+    leader.logLikelihood = runEm(ctx.working, leader.params, ctx, Math.min(CONFIRMING_ITERATIONS, ctx.settings.maxIterations), null, { stop }).logLikelihood;
+    confirmed(leader);
+  }
   return leaders;
 }
 
