@@ -12,7 +12,7 @@ import { computeResiduals } from "../src/engine/mixture/eStep";
 import { generateProblem } from "../src/synthetic/generateProblems";
 import { ConcentrationSteps } from "../src/engine/mixture/concentrationSteps";
 import { peelOrder } from "../src/engine/mixture/restructure";
-import { enoughRows, exactComponentsOf, exactTolerance, PEEL_SNAP_ROUNDS, snapComponents, stopOnExactGain } from "../src/engine/mixture/exactComponents";
+import { enoughRows, exactComponentsOf, exactTolerance, PEEL_SNAP_ROUNDS, snapComponents, stopOnExactGain, stopOnExactPlateau } from "../src/engine/mixture/exactComponents";
 import { parametersFromCoefficients } from "../src/engine/mixture/starts";
 import { createGuards } from "../src/engine/mixture/mixtureSettings";
 import type { RegressionData } from "../src/engine/mixtureTypes";
@@ -353,28 +353,32 @@ describe("snapping a component counted exact onto all of its rows", () => {
   });
 });
 
+/** Invented noiseless data: 40 rows on y = xᵀa and 30 on y = xᵀb, x standard normal in 4 dimensions (no intercept). */
+function twoExactLines(seed: number) {
+  const random = createRandom(seed);
+  const p = 4;
+  const [a, b] = [0, 1].map(() => Float64Array.from({ length: p }, () => random.normal()));
+  const n = 70;
+  const x = new Float64Array(n * p);
+  const y = new Float64Array(n);
+  for (let i = 0; i < n; i++) {
+    for (let j = 0; j < p; j++) {
+      x[i * p + j] = random.normal();
+      y[i] += x[i * p + j] * (i < 40 ? a : b)[j];
+    }
+  }
+  const ws = createWorkspace({ x, y, n, p }, 2, false, false);
+  const guards = createGuards(p, ws.yVariance);
+  // a exact, b 10% off.
+  const coefficients = new Float64Array(2 * p);
+  coefficients.set(a, 0);
+  coefficients.set(b.map((v) => v * 1.1), p);
+  return { ws, p, a, b, params: parametersFromCoefficients(ws, coefficients, guards) };
+}
+
 describe("a run that stops once it has fitted more components exactly", () => {
   it("stops 30 iterations after the count rose, counting every 10 iterations, and not before", () => {
-    // Invented noiseless data: 40 rows on y = xᵀa and 30 on y = xᵀb, x standard normal in 4
-    // dimensions (no intercept).
-    const random = createRandom(53);
-    const p = 4;
-    const [a, b] = [0, 1].map(() => Float64Array.from({ length: p }, () => random.normal()));
-    const n = 70;
-    const x = new Float64Array(n * p);
-    const y = new Float64Array(n);
-    for (let i = 0; i < n; i++) {
-      for (let j = 0; j < p; j++) {
-        x[i * p + j] = random.normal();
-        y[i] += x[i * p + j] * (i < 40 ? a : b)[j];
-      }
-    }
-    const ws = createWorkspace({ x, y, n, p }, 2, false, false);
-    const guards = createGuards(p, ws.yVariance);
-    const coefficients = new Float64Array(2 * p);
-    coefficients.set(a, 0);
-    coefficients.set(b.map((v) => v * 1.1), p);
-    const params = parametersFromCoefficients(ws, coefficients, guards);
+    const { ws, p, b, params } = twoExactLines(53);
     const stop = stopOnExactGain(ws, params);
     const ask = (): boolean => stop(0, Infinity);
     // Only a is exact: no gain, however long the run.
@@ -386,6 +390,42 @@ describe("a run that stops once it has fitted more components exactly", () => {
     for (let iteration = 61; iteration <= 100; iteration++) answers.push(ask());
     expect(answers.slice(0, 39).every((answer) => !answer)).toBe(true);
     expect(answers[39]).toBe(true);
+  });
+});
+
+describe("a run in a sub-problem that expects exact rows", () => {
+  it("stops once one or more exact components have stayed the same for 50 iterations", () => {
+    const { ws, p, a, b, params } = twoExactLines(53);
+    const stop = stopOnExactPlateau(ws, params, 500)!;
+    const ask = (): boolean => stop(0, Infinity);
+    // Counts at 10, 20, ...: a alone is exact from the first count, so the count has held
+    // for 50 iterations at the count at iteration 60, and not before.
+    const answers: boolean[] = [];
+    for (let iteration = 1; iteration <= 60; iteration++) answers.push(ask());
+    expect(answers.slice(0, 59).every((answer) => !answer)).toBe(true);
+    expect(answers[59]).toBe(true);
+    // A change of the count starts the wait again: b lands at iteration 41 (counted at 50),
+    // so the wait ends at the count at iteration 100.
+    const again = stopOnExactPlateau(ws, params, 500)!;
+    for (let iteration = 1; iteration <= 60; iteration++) {
+      if (iteration === 41) params.coefficients.set(b, p);
+      expect(again(0, Infinity)).toBe(false);
+    }
+    const later: boolean[] = [];
+    for (let iteration = 61; iteration <= 100; iteration++) later.push(again(0, Infinity));
+    expect(later.indexOf(true)).toBe(100 - 61);
+    // No exact component: the run is never stopped this way.
+    params.coefficients.set(a.map((v) => v * 1.1), 0);
+    params.coefficients.set(b.map((v) => v * 1.1), p);
+    const none = stopOnExactPlateau(ws, params, 500)!;
+    for (let iteration = 1; iteration <= 300; iteration++) expect(none(0, Infinity)).toBe(false);
+  });
+
+  it("leaves runs of at most 100 iterations unwatched", () => {
+    const { ws, params } = twoExactLines(53);
+    expect(stopOnExactPlateau(ws, params, 60)).toBeNull();
+    expect(stopOnExactPlateau(ws, params, 100)).toBeNull();
+    expect(stopOnExactPlateau(ws, params, 101)).not.toBeNull();
   });
 });
 

@@ -11,6 +11,7 @@ import { stopWhenUnwanted } from "./mixture/unwantedFitStop";
 import { restructure } from "./mixture/restructure";
 import { finishOnAllRows } from "./mixture/finishOnAllRows";
 import { finishExactComponents } from "./mixture/finishExactComponents";
+import { stopOnExactPlateau } from "./mixture/exactComponents";
 import { reportFit } from "./mixture/reportFit";
 import { withInternalScaling } from "./internalScaling";
 import { allShared, shareableArray, sharing } from "./helperThread";
@@ -80,6 +81,8 @@ function fitAtDepth(data: RegressionData, options: MixtureOptions, depth: number
   const working = subsampleRows ? withBackground(createWorkspace(data, settings.k, settings.intercept, full.joint, subsampleRows), settings.background, full) : full;
   const ctx: FitContext = {
     data, settings, guards, random, full, working, subsampleRows, depth, inherited, expectExact,
+    // On rows expected to be exact, long runs end once their exact components stop changing.
+    runStop: expectExact ? stopOnExactPlateau : null,
     tolerance: settings.tolerance,
     signal: options.signal,
     previous: options.previous,

@@ -31,6 +31,8 @@ export interface EmContext {
   /** Re-seeding of collapsed components draws from it. */
   random: Random;
   signal?: CancelSignal;
+  /** A stop every run also obeys beside its own, made for each run from its parameters and iteration limit (null: none). */
+  runStop?: ((ws: MixtureWorkspace, params: MixtureParameters, maxIterations: number) => EmStop | null) | null;
 }
 
 /**

@@ -26,7 +26,8 @@ const MAX_RESEEDS = 10;
  * on large inputs each of those iterations is a full pass of the E- and M-steps.
  */
 export function runEm(ws: MixtureWorkspace, params: MixtureParameters, em: EmContext, maxIterations: number, path: number[] | null = null, ends: EmEnds = {}): EmRun {
-  const { enoughGain = 0, stop = null } = ends;
+  const { enoughGain = 0 } = ends;
+  const stop = eitherStop(ends.stop ?? null, em.runStop?.(ws, params, maxIterations) ?? null);
   const { guards, random, signal } = em;
   let logLikelihood = eStep(ws, params, true);
   let converged = false;
@@ -69,6 +70,12 @@ export function runEm(ws: MixtureWorkspace, params: MixtureParameters, em: EmCon
     previousChange = reseeded.length === 0 ? change : NaN;
   }
   return { logLikelihood, iterations, converged, reseeds, varianceBoundActive };
+}
+
+/** A stop that ends the run when either does (each asked every iteration while the first says no). */
+function eitherStop(first: EmStop | null, second: EmStop | null): EmStop | null {
+  if (!first || !second) return first ?? second;
+  return (logLikelihood, gain) => first(logLikelihood, gain) || second(logLikelihood, gain);
 }
 
 /** Optional ends of a run besides the tolerance and the iteration limit. */
