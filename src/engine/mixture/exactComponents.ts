@@ -118,8 +118,9 @@ const GAIN_SETTLE_ITERATIONS = 30;
  * stopOnExactPlateau ends the run. In sub-problems at d = 100, K = 10 runs went on for 300-460
  * iterations after their last newly exact component without fitting another (traced: the
  * bench's problem 1 spent about 30 of its 53 s so); ending them lets the restructuring and
- * finishing phases peel what is exact. 50 and 100 gave the same 50 noiseless d = 50 and d = 20
- * grid fits (two 5-row misses took another path, still misses) and the same d = 100 fits.
+ * finishing phases peel what is exact. With 50 or 100 the 50 noiseless d = 50 and d = 20 grid
+ * fits were the same as without the stop except two 5-row misses, which took another path and
+ * still missed, and d = 100 problems 0-3, 5 and 6 gave the same fits (DEVELOPERS.md).
  */
 const EXACT_PLATEAU_ITERATIONS = 50;
 

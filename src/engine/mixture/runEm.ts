@@ -16,7 +16,7 @@ const MAX_RESEEDS = 10;
  * (below), or `maxIterations` pass. The log-likelihood after each iteration goes to `path`
  * when one is given. A caller may also let it stop once the change or the gain still to come is
  * below `ends.enoughGain` nats, an absolute bound (finishOnAllRows.ts), and may end it before it
- * converges through `ends.stop` (the run then reports `stopped`).
+ * converges through `ends.stop` or the context's `runStop` (the run then reports `stopped`).
  *
  * Gain still to come: EM converges linearly, each change about a times the one before, so
  * what is left after a change Δ is about Δ·a/(1 − a) (Aitken's acceleration applied to the

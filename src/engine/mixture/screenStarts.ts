@@ -159,7 +159,8 @@ function searchSettled(ctx: FitContext, candidates: Candidate[], cheapFirst: boo
  * runs stop short of the optimum, so two starts in one basin can look apart after them. Inside
  * the basin EM converges fast (Balakrishnan, Wainwright & Yu 2017), so confirming costs far
  * less than the remaining starts and restructuring moves it saves. The refined parameters and
- * likelihoods stay on the candidates; returns the leaders.
+ * likelihoods stay on the candidates; `confirmed` is told of each leader once refined; returns
+ * the leaders.
  */
 function confirmLeaders(ctx: FitContext, candidates: Candidate[], count: number, confirmed: (leader: Candidate) => void): Candidate[] {
   const leaders = candidates.slice().sort((a, b) => b.logLikelihood - a.logLikelihood).slice(0, count);
