@@ -230,10 +230,15 @@ function screenStart(ctx: FitContext, method: string, start: MixtureParameters, 
   for (let round = 0; round < ws.k; round++) {
     const peeled = peelExactComponents(ctx, ws, from, ctx.subsampleRows);
     if (!peeled) break;
-    const peeledRun = runEm(ws, peeled, ctx, ctx.settings.maxIterations, null, { stop: stopOnExactGain(ws, peeled) });
+    // Another round only when this run stopped on a gain: in a sub-problem that expects exact
+    // rows it may also stop at a plateau (FitContext.runStop), and peeling again would then
+    // set aside the same rows as this round.
+    let gained = false;
+    const gain = stopOnExactGain(ws, peeled);
+    const peeledRun = runEm(ws, peeled, ctx, ctx.settings.maxIterations, null, { stop: (logLikelihood, toCome) => (gained = gain(logLikelihood, toCome)) });
     if (!(peeledRun.logLikelihood > candidate.logLikelihood)) break;
     candidate = { method: `${method}+exact-peeling`, params: peeled, logLikelihood: peeledRun.logLikelihood };
-    if (!peeledRun.stopped) break;
+    if (!gained) break;
     from = peeled;
   }
   return candidate;
