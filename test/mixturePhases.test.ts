@@ -394,26 +394,25 @@ describe("a run that stops once it has fitted more components exactly", () => {
 });
 
 describe("a run in a sub-problem that expects exact rows", () => {
-  it("stops once one or more exact components have stayed the same for 50 iterations", () => {
+  it("stops once one or more exact components have stayed the same for 30 iterations", () => {
     const { ws, p, a, b, params } = twoExactLines(53);
     const stop = stopOnExactPlateau(ws, params, 500)!;
     const ask = (): boolean => stop(0, Infinity);
     // Counts at 10, 20, ...: a alone is exact from the first count, so the count has held
-    // for 50 iterations at the count at iteration 60, and not before.
+    // for 30 iterations at the count at iteration 40, and not before.
     const answers: boolean[] = [];
-    for (let iteration = 1; iteration <= 60; iteration++) answers.push(ask());
-    expect(answers.slice(0, 59).every((answer) => !answer)).toBe(true);
-    expect(answers[59]).toBe(true);
-    // A change of the count starts the wait again: b lands at iteration 41 (counted at 50),
-    // so the wait ends at the count at iteration 100.
+    for (let iteration = 1; iteration <= 40; iteration++) answers.push(ask());
+    expect(answers.slice(0, 39).every((answer) => !answer)).toBe(true);
+    expect(answers[39]).toBe(true);
+    // A change of the count starts the wait again: b lands at iteration 21 (counted at 30),
+    // so the wait ends at the count at iteration 60.
     const again = stopOnExactPlateau(ws, params, 500)!;
-    for (let iteration = 1; iteration <= 60; iteration++) {
-      if (iteration === 41) params.coefficients.set(b, p);
-      expect(again(0, Infinity)).toBe(false);
-    }
     const later: boolean[] = [];
-    for (let iteration = 61; iteration <= 100; iteration++) later.push(again(0, Infinity));
-    expect(later.indexOf(true)).toBe(100 - 61);
+    for (let iteration = 1; iteration <= 70; iteration++) {
+      if (iteration === 21) params.coefficients.set(b, p);
+      later.push(again(0, Infinity));
+    }
+    expect(later.indexOf(true)).toBe(60 - 1);
     // No exact component: the run is never stopped this way.
     params.coefficients.set(a.map((v) => v * 1.1), 0);
     params.coefficients.set(b.map((v) => v * 1.1), p);
@@ -421,11 +420,11 @@ describe("a run in a sub-problem that expects exact rows", () => {
     for (let iteration = 1; iteration <= 300; iteration++) expect(none(0, Infinity)).toBe(false);
   });
 
-  it("leaves runs of at most 100 iterations unwatched", () => {
+  it("leaves runs of at most 60 iterations unwatched", () => {
     const { ws, params } = twoExactLines(53);
+    expect(stopOnExactPlateau(ws, params, 15)).toBeNull();
     expect(stopOnExactPlateau(ws, params, 60)).toBeNull();
-    expect(stopOnExactPlateau(ws, params, 100)).toBeNull();
-    expect(stopOnExactPlateau(ws, params, 101)).not.toBeNull();
+    expect(stopOnExactPlateau(ws, params, 61)).not.toBeNull();
   });
 });
 

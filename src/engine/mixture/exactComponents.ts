@@ -111,18 +111,17 @@ export function rowsNotFitExactly(ws: MixtureWorkspace, components: readonly num
 
 /** Iterations between counts of the exact components in a run watched by one of the stops below. */
 const EXACT_CHECK_INTERVAL = 10;
-/** Iterations the raised count must hold before stopOnExactGain ends the run: one newly exact component often brings others soon after. */
-const GAIN_SETTLE_ITERATIONS = 30;
 /**
- * Iterations a count of one or more exact components may stay the same before
- * stopOnExactPlateau ends the run. In sub-problems at d = 100, K = 10 runs went on for 300-460
- * iterations after their last newly exact component without fitting another (traced: the
- * bench's problem 1 spent about 30 of its 53 s so); ending them lets the restructuring and
- * finishing phases peel what is exact. With 50 or 100 the 50 noiseless d = 50 and d = 20 grid
- * fits were the same as without the stop except two 5-row misses, which took another path and
- * still missed, and d = 100 problems 0-3, 5 and 6 gave the same fits (DEVELOPERS.md).
+ * Iterations a count of exact components must hold before a watched run ends on it: after a
+ * gain (stopOnExactGain), because one newly exact component often brings others soon after;
+ * at a plateau (stopOnExactPlateau), because in sub-problems at d = 100, K = 10 runs went on
+ * for 300-460 iterations after their last newly exact component without fitting another
+ * (traced: the bench's problem 1 spent about 30 of its 53 s so), and ending them lets the
+ * restructuring and finishing phases peel what is exact. Plateaus of 30, 50 and 100 gave the
+ * same fits on the 50 noiseless d = 50 and d = 20 grid fits and on d = 100 problems 0-3 and
+ * 5-7 (30 and 50), and 30 took 0.93 and 0.97 of 50's time on problems 1 and 0 (DEVELOPERS.md).
  */
-const EXACT_PLATEAU_ITERATIONS = 50;
+const EXACT_COUNT_HOLD = 30;
 
 /**
  * A stop that counts `params`' exact components (params is updated in place by the run) every
@@ -145,24 +144,24 @@ function watchExactCount(ws: MixtureWorkspace, params: MixtureParameters, last: 
 
 /**
  * A stop for a run from `params` that ends it once it has fitted more components exactly than
- * it started with and that count has held for GAIN_SETTLE_ITERATIONS: the caller then peels
+ * it started with and that count has held for EXACT_COUNT_HOLD: the caller then peels
  * the new exact components, which costs far less than the hundreds of iterations EM may still
  * spend on the others without changing them (in d = 100 sub-problems, 400 or more).
  */
 export function stopOnExactGain(ws: MixtureWorkspace, params: MixtureParameters): EmStop {
   const start = exactComponentsOf(ws, params).length;
-  return watchExactCount(ws, params, start, (count, held) => count > start && held >= GAIN_SETTLE_ITERATIONS);
+  return watchExactCount(ws, params, start, (count, held) => count > start && held >= EXACT_COUNT_HOLD);
 }
 
 /**
  * The stop every run of a sub-problem that expects exact rows also obeys (FitContext.runStop):
  * the run ends once it fits one or more components exactly and that count has stayed the same
- * for EXACT_PLATEAU_ITERATIONS. Runs too short to go on long after such a plateau (at most
- * twice its length: the short, landing and confirming runs) are not watched (null).
+ * for EXACT_COUNT_HOLD. Runs too short to go on long after such a plateau (at most twice its
+ * length: the short, landing and confirming runs) are not watched (null).
  */
 export function stopOnExactPlateau(ws: MixtureWorkspace, params: MixtureParameters, maxIterations: number): EmStop | null {
-  if (maxIterations <= 2 * EXACT_PLATEAU_ITERATIONS) return null;
-  return watchExactCount(ws, params, -1, (count, held) => count > 0 && held >= EXACT_PLATEAU_ITERATIONS);
+  if (maxIterations <= 2 * EXACT_COUNT_HOLD) return null;
+  return watchExactCount(ws, params, -1, (count, held) => count > 0 && held >= EXACT_COUNT_HOLD);
 }
 
 /**
