@@ -203,10 +203,26 @@ describe("random partitions in a fit of four or more components", () => {
     // rows per predictor per component, seed found by a scan for this case). The three
     // first starts fit no component exactly after their short runs, and the confirming run of
     // a leader (60 iterations) fits one. Then three random partitions that fit none end the
-    // search: 3 + 3 starts. Before the confirming runs counted, all ten partitions ran (13).
-    const noiseless = noiselessProblem(10, 5, 3, createRandom(8073));
-    const fit = fitMixture(noiseless.data, { k: 5, intercept: false, seed: 8073 });
+    // search: 3 + 3 starts. With the confirming runs not counted, all ten partitions ran (13,
+    // measured by disabling that count).
+    const noiseless = noiselessProblem(10, 5, 3, createRandom(8067));
+    const fit = fitMixture(noiseless.data, { k: 5, intercept: false, seed: 8067 });
     expect(fit.warmStart.startsTried).toBe(6);
+    expect(relativeCoefficientError(slopes(fit), noiseless.coefficients)).toBeLessThan(1e-6);
+  });
+});
+
+describe("a leader whose confirming run fits components exactly", () => {
+  it("has them peeled at once, which can end the search", () => {
+    // Invented noiseless problem from the shared generator (10 predictors, 5 components, 3
+    // rows per predictor per component). The first leader's confirming run fits a component
+    // exactly; peeling it then leaves a fit exact on every row after the three first starts.
+    // Before, the screen went on to three random partitions (6 starts), and restructuring's
+    // peeling found the fit after the refinement.
+    const noiseless = noiselessProblem(10, 5, 3, createRandom(8002));
+    const fit = fitMixture(noiseless.data, { k: 5, intercept: false, seed: 8002 });
+    expect(fit.warmStart.startsTried).toBe(3);
+    expect(fit.warmStart.method).toMatch(/\+exact-peeling$/);
     expect(relativeCoefficientError(slopes(fit), noiseless.coefficients)).toBeLessThan(1e-6);
   });
 });
