@@ -231,10 +231,11 @@ describe("starts on rows expected to be exact", () => {
   it("each run 60 iterations before they are compared, so a seeded start can fit components exactly first", () => {
     // Invented noiseless problem from the shared generator (10 predictors, 7 components, 4
     // rows per predictor per component: the bench grid's problem 3 of that case, fitted with
-    // its seed + 1). Exact peeling leaves sub-problems whose starts, after 15 iterations, were
-    // led by the parent's estimate, which fitted nothing exactly; with 60 iterations each, a
-    // seeded start fits components exactly and the fit is recovered (with 15 it was not: worst
-    // relative error 1.23, measured before the change).
+    // its seed + 1). Exact peeling leaves sub-problems of rows expected to be exact; with their
+    // starts compared after 60 iterations the fit is recovered, with 15 it was not (worst
+    // relative error 1.23, measured before the change; why, traced at d = 100: the parent's
+    // estimate leads after 15 iterations and fits nothing exactly, while a seeded start fits
+    // components exactly by iteration 65).
     const noiseless = noiselessProblem(10, 7, 4, createRandom(10743));
     const fit = fitMixture(noiseless.data, { k: 7, intercept: false, seed: 10744 });
     expect(relativeCoefficientError(slopes(fit), noiseless.coefficients)).toBeLessThan(1e-6);

@@ -239,9 +239,10 @@ function* startSources(ctx: FitContext, screen: ScreenState, cheapFirst: boolean
 }
 
 /**
- * One start: a brief EM run (briefIterations), landing on an exact fit when it heads for one, then exact peeling
- * when some of its components are exact and others not (decisive on noiseless data), repeated
- * while the refinement after a peel fits more components exactly. Null when the run fails.
+ * One start: a brief EM run (briefIterations), landing on an exact fit when it heads for one,
+ * then exact peeling when some of its components are exact and others not (decisive on
+ * noiseless data), repeated while the refinement after a peel fits more components exactly.
+ * Null when the run fails.
  */
 function screenStart(ctx: FitContext, method: string, start: MixtureParameters, extraIterations: number): Candidate | null {
   const ws = ctx.working;
