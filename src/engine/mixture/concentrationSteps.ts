@@ -3,6 +3,7 @@ import { gatherRows } from "../rowSubset";
 import { choleskyScratchLength, scaledCholeskySolve } from "../cholesky";
 import { HELPER_MINIMUM_MICROSECONDS, ROW_MULTIPLY_ADDS_PER_MICROSECOND, allShared, helperThread, shareableArray, shareableCounter, type HelperJob } from "../helperThread";
 import { rowResidual } from "../rowResiduals";
+import { addBlockDots, addBlockGram, blockRowsFor, finishGramSum, gatherRows as gatherBlockRows, rowBlock, stageRows, startGramSums, weighBlock } from "../weightedGram";
 
 /**
  * Concentration steps ("C-steps") of least trimmed squares (Rousseeuw & Van Driessen 2006,
@@ -162,45 +163,40 @@ export class ConcentrationSteps {
   }
 
   /**
-   * Least squares on the first h rows with |residual| ≤ threshold, by the normal equations.
-   * The rows are added to XᵀX two at a time (each entry still takes them one after the other,
-   * in row order: the same bits as one row at a time, with half the loads and stores of XᵀX).
+   * Least squares on the first h rows with |residual| ≤ threshold, by the normal equations:
+   * XᵀX and Xᵀy through the weighted-Gram kernel (weightedGram.ts), a block of rows at a time,
+   * each block's chosen rows gathered from its staged rows, XᵀX one running sum over the
+   * blocks (a carried sum).
    */
   private fitSubset(coefficients: Float64Array, threshold: number, h: number): void {
     const { n, q, design, y, gram, right } = this;
     gram.fill(0);
     right.fill(0);
+    const blockRows = blockRowsFor(q);
+    // Per row: the weight (1: the Gram is XᵀX) and y.
+    const block = rowBlock(q, blockRows, 2, q, 1);
+    const { indices, vectors } = block;
+    startGramSums(block);
     let taken = 0;
-    let waiting = -1;
-    for (let i = 0; i < n && taken < h; i++) {
-      if (this.absolute[i] > threshold) continue;
-      taken++;
-      if (waiting < 0) {
-        waiting = i;
-        continue;
+    for (let from = 0; from < n && taken < h; from += blockRows) {
+      const to = Math.min(n, from + blockRows);
+      let m = 0;
+      for (let i = from; i < to && taken < h; i++) {
+        if (this.absolute[i] > threshold) continue;
+        indices[m] = i - from;
+        vectors[2 * m] = 1;
+        vectors[2 * m + 1] = y[i];
+        m++;
+        taken++;
       }
-      const first = waiting * q;
-      const second = i * q;
-      const y1 = y[waiting];
-      const y2 = y[i];
-      for (let a = 0; a < q; a++) {
-        const va = design[first + a];
-        const wa = design[second + a];
-        right[a] = right[a] + va * y1 + wa * y2;
-        const out = a * q;
-        for (let b = a; b < q; b++) gram[out + b] = gram[out + b] + va * design[first + b] + wa * design[second + b];
-      }
-      waiting = -1;
+      if (m === 0) continue;
+      stageRows(block, design, from, to);
+      gatherBlockRows(block, m, 0);
+      weighBlock(block, m, 0);
+      addBlockGram(block, m, gram, 0, 0);
+      addBlockDots(block, m, "plain", 1, right, 0);
     }
-    if (waiting >= 0) {
-      const row = waiting * q;
-      for (let a = 0; a < q; a++) {
-        const va = design[row + a];
-        right[a] += va * y[waiting];
-        const out = a * q;
-        for (let b = a; b < q; b++) gram[out + b] += va * design[row + b];
-      }
-    }
+    finishGramSum(block, 0, gram, 0);
     scaledCholeskySolve(gram, right, q, coefficients, this.scratch);
   }
 }
