@@ -451,6 +451,38 @@ export function addBlockDots(block: RowBlock, m: number, source: "plain" | "weig
   for (let j = 0; j < q; j++) out[offset + j] += heap[dotsAt + j];
 }
 
+/**
+ * The normal equations of chosen rows of a row-major design (q values a row): adds XᵀX over
+ * rows[0 .. count) (rows null: rows 0 .. count − 1) into the upper triangle of gram (q x q row-major) and Xᵀy into right, a
+ * block of rows at a time through the kernel. The rows are copied into the block in the order
+ * given; XᵀX is one running sum over all of them (a carried sum), Xᵀy a dot per block. Every
+ * unweighted least-squares fit of a subset of rows (concentration steps, the pooled fit of
+ * residual seeding, a re-seeded component) goes through here.
+ */
+export function addNormalEquations(design: Float64Array, q: number, y: Float64Array, rows: ArrayLike<number> | null, count: number, gram: Float64Array, right: Float64Array): void {
+  const blockRows = blockRowsFor(q);
+  // Per row: the weight (1, so that the Gram is XᵀX; 1·x is x to the bit) and y.
+  const block = rowBlock(q, blockRows, 2, 0, 1);
+  const { plain, vectors, qp } = block;
+  startGramSums(block);
+  for (let from = 0; from < count; from += blockRows) {
+    const m = Math.min(count, from + blockRows) - from;
+    for (let g = 0; g < m; g++) {
+      const row = rows ? rows[from + g] : from + g;
+      const source = row * q;
+      const base = g * qp;
+      for (let j = 0; j < q; j++) plain[base + j] = design[source + j];
+      for (let j = q; j < qp; j++) plain[base + j] = 0;
+      vectors[2 * g] = 1;
+      vectors[2 * g + 1] = y[row];
+    }
+    weighBlock(block, m, 0);
+    addBlockGram(block, m, gram, 0, 0);
+    addBlockDots(block, m, "plain", 1, right, 0);
+  }
+  finishGramSum(block, 0, gram, 0);
+}
+
 /** Rows of predictions a block at a time on the SIMD module. */
 const PREDICTION_BLOCK_ROWS = 256;
 

@@ -3,7 +3,7 @@ import { gatherRows } from "../rowSubset";
 import { choleskyScratchLength, scaledCholeskySolve } from "../cholesky";
 import { HELPER_MINIMUM_MICROSECONDS, ROW_MULTIPLY_ADDS_PER_MICROSECOND, allShared, helperThread, shareableArray, shareableCounter, type HelperJob } from "../helperThread";
 import { rowResidual } from "../rowResiduals";
-import { addBlockDots, addBlockGram, blockRowsFor, finishGramSum, gatherRows as gatherBlockRows, rowBlock, stageRows, startGramSums, weighBlock } from "../weightedGram";
+import { addNormalEquations } from "../weightedGram";
 
 /**
  * Concentration steps ("C-steps") of least trimmed squares (Rousseeuw & Van Driessen 2006,
@@ -162,41 +162,14 @@ export class ConcentrationSteps {
     return this.sorted[Math.min(h, n) - 1];
   }
 
-  /**
-   * Least squares on the first h rows with |residual| ≤ threshold, by the normal equations:
-   * XᵀX and Xᵀy through the weighted-Gram kernel (weightedGram.ts), a block of rows at a time,
-   * each block's chosen rows gathered from its staged rows, XᵀX one running sum over the
-   * blocks (a carried sum).
-   */
+  /** Least squares on the first h rows with |residual| ≤ threshold, by the normal equations (addNormalEquations). */
   private fitSubset(coefficients: Float64Array, threshold: number, h: number): void {
-    const { n, q, design, y, gram, right } = this;
+    const { n, q, design, y, gram, right, rows } = this;
     gram.fill(0);
     right.fill(0);
-    const blockRows = blockRowsFor(q);
-    // Per row: the weight (1: the Gram is XᵀX) and y.
-    const block = rowBlock(q, blockRows, 2, q, 1);
-    const { indices, vectors } = block;
-    startGramSums(block);
     let taken = 0;
-    for (let from = 0; from < n && taken < h; from += blockRows) {
-      const to = Math.min(n, from + blockRows);
-      let m = 0;
-      for (let i = from; i < to && taken < h; i++) {
-        if (this.absolute[i] > threshold) continue;
-        indices[m] = i - from;
-        vectors[2 * m] = 1;
-        vectors[2 * m + 1] = y[i];
-        m++;
-        taken++;
-      }
-      if (m === 0) continue;
-      stageRows(block, design, from, to);
-      gatherBlockRows(block, m, 0);
-      weighBlock(block, m, 0);
-      addBlockGram(block, m, gram, 0, 0);
-      addBlockDots(block, m, "plain", 1, right, 0);
-    }
-    finishGramSum(block, 0, gram, 0);
+    for (let i = 0; i < n && taken < h; i++) if (this.absolute[i] <= threshold) rows[taken++] = i;
+    addNormalEquations(design, q, y, rows, taken, gram, right);
     scaledCholeskySolve(gram, right, q, coefficients, this.scratch);
   }
 }

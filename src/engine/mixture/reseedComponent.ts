@@ -4,6 +4,7 @@ import type { MixtureWorkspace } from "./mixtureWorkspace";
 import { scaledCholeskySolve } from "../cholesky";
 import { factorPredictorCovariances, type Guards } from "./mStep";
 import { rowResidual } from "../rowResiduals";
+import { addNormalEquations } from "../weightedGram";
 
 /**
  * Replaces a collapsed component (fewer than q + 1 rows' worth of membership, or a singular
@@ -34,13 +35,7 @@ export function reseedComponent(ws: MixtureWorkspace, params: MixtureParameters,
   const seedRows = pool.slice(0, seedSize);
   const gram = new Float64Array(q * q);
   const rhs = new Float64Array(q);
-  for (const i of seedRows) {
-    for (let j = 0; j < q; j++) {
-      const value = design[i * q + j];
-      rhs[j] += value * y[i];
-      for (let l = j; l < q; l++) gram[j * q + l] += value * design[i * q + l];
-    }
-  }
+  addNormalEquations(design, q, y, seedRows, seedRows.length, gram, rhs);
   const solution = new Float64Array(q);
   if (scaledCholeskySolve(gram, rhs, q, solution, ws.choleskyScratch)) params.coefficients.set(solution, component * q);
   let rss = 0;

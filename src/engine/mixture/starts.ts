@@ -6,6 +6,7 @@ import { computeResiduals } from "./eStep";
 import { mStepPredictorModel, mStepVariances, type Guards } from "./mStep";
 import { scaledCholeskySolve } from "../cholesky";
 import { rowResidual } from "../rowResiduals";
+import { addNormalEquations } from "../weightedGram";
 
 /**
  * Cheap starting points for EM. Each returns hard labels or coefficients; the driver turns
@@ -32,14 +33,7 @@ export function residualSeedingLabels(ws: MixtureWorkspace, random: Random): Int
   const { n, q, design, y } = ws;
   const gram = new Float64Array(q * q);
   const rhs = new Float64Array(q);
-  for (let i = 0; i < n; i++) {
-    const offset = i * q;
-    for (let j = 0; j < q; j++) {
-      const value = design[offset + j];
-      rhs[j] += value * y[i];
-      for (let l = j; l < q; l++) gram[j * q + l] += value * design[offset + l];
-    }
-  }
+  addNormalEquations(design, q, y, null, n, gram, rhs);
   const pooled = new Float64Array(q);
   scaledCholeskySolve(gram, rhs, q, pooled, ws.choleskyScratch);
   const points = new Float64Array(n);
