@@ -453,11 +453,12 @@ export function addBlockDots(block: RowBlock, m: number, source: "plain" | "weig
 
 /**
  * The normal equations of chosen rows of a row-major design (q values a row): adds XᵀX over
- * rows[0 .. count) (rows null: rows 0 .. count − 1) into the upper triangle of gram (q x q row-major) and Xᵀy into right, a
- * block of rows at a time through the kernel. The rows are copied into the block in the order
- * given; XᵀX is one running sum over all of them (a carried sum), Xᵀy a dot per block. Every
- * unweighted least-squares fit of a subset of rows (concentration steps, the pooled fit of
- * residual seeding, a re-seeded component) goes through here.
+ * rows[0 .. count) (rows null: rows 0 .. count − 1) into the upper triangle of gram (q x q
+ * row-major) and Xᵀy into right, a block of rows at a time through the kernel. The rows are
+ * copied straight into the block's plain rows in the order given (not staged: they may lie
+ * anywhere in the design); XᵀX is one running sum over all of them (a carried sum), Xᵀy a dot
+ * per block. Every unweighted least-squares fit of a subset of rows (concentration steps, the
+ * pooled fit of residual seeding, a re-seeded component) goes through here.
  */
 export function addNormalEquations(design: Float64Array, q: number, y: Float64Array, rows: ArrayLike<number> | null, count: number, gram: Float64Array, right: Float64Array): void {
   const blockRows = blockRowsFor(q);

@@ -162,7 +162,10 @@ export class ConcentrationSteps {
     return this.sorted[Math.min(h, n) - 1];
   }
 
-  /** Least squares on the first h rows with |residual| ≤ threshold, by the normal equations (addNormalEquations). */
+  /**
+   * Least squares on the first h rows with |residual| ≤ threshold, by the normal equations
+   * (addNormalEquations); the rows are listed in `rows`, which the final refit of run() reuses.
+   */
   private fitSubset(coefficients: Float64Array, threshold: number, h: number): void {
     const { n, q, design, y, gram, right, rows } = this;
     gram.fill(0);
