@@ -203,10 +203,10 @@ describe("random partitions in a fit of four or more components", () => {
     // rows per predictor per component, seed found by a scan for this case). The three
     // first starts fit no component exactly after their short runs, and the confirming run of
     // a leader (60 iterations) fits one. Then three random partitions that fit none end the
-    // search: 3 + 3 starts. With the confirming runs not counted, all ten partitions ran (13,
+    // search: 3 + 3 starts. With the confirming runs not counted, seven partitions ran (10,
     // measured by disabling that count).
-    const noiseless = noiselessProblem(10, 5, 3, createRandom(8067));
-    const fit = fitMixture(noiseless.data, { k: 5, intercept: false, seed: 8067 });
+    const noiseless = noiselessProblem(10, 5, 3, createRandom(8160));
+    const fit = fitMixture(noiseless.data, { k: 5, intercept: false, seed: 8160 });
     expect(fit.warmStart.startsTried).toBe(6);
     expect(relativeCoefficientError(slopes(fit), noiseless.coefficients)).toBeLessThan(1e-6);
   });
@@ -238,6 +238,22 @@ describe("starts on rows expected to be exact", () => {
     // components exactly by iteration 65).
     const noiseless = noiselessProblem(10, 7, 4, createRandom(10743));
     const fit = fitMixture(noiseless.data, { k: 7, intercept: false, seed: 10744 });
+    expect(relativeCoefficientError(slopes(fit), noiseless.coefficients)).toBeLessThan(1e-6);
+  });
+});
+
+describe("a start whose smallest variance is still falling fast after its brief run", () => {
+  it("runs on and lands a component exactly, which exact peeling completes", () => {
+    // Invented noiseless problem from the shared generator (10 predictors, 5 components, 3
+    // rows per predictor per component, seed found by a scan of seeds 8000-8099 for a fit
+    // the rule recovers). The first random partition, the fourth start, runs on past its 15
+    // iterations, fits a component exactly and exact peeling then fits all five. Without the
+    // rule the fit ended after 6 starts with a relative error of 1.27 (measured before the
+    // change).
+    const noiseless = noiselessProblem(10, 5, 3, createRandom(8099));
+    const fit = fitMixture(noiseless.data, { k: 5, intercept: false, seed: 8099 });
+    expect(fit.warmStart.startsTried).toBe(4);
+    expect(fit.warmStart.method).toBe("random-partition+exact-peeling");
     expect(relativeCoefficientError(slopes(fit), noiseless.coefficients)).toBeLessThan(1e-6);
   });
 });

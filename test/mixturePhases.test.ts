@@ -12,7 +12,9 @@ import { computeResiduals } from "../src/engine/mixture/eStep";
 import { generateProblem } from "../src/synthetic/generateProblems";
 import { ConcentrationSteps } from "../src/engine/mixture/concentrationSteps";
 import { peelOrder } from "../src/engine/mixture/restructure";
-import { enoughRows, exactComponentsOf, exactTolerance, PEEL_SNAP_ROUNDS, snapComponents, stopOnExactGain, stopOnExactPlateau } from "../src/engine/mixture/exactComponents";
+import { enoughRows, exactComponentsOf, exactTolerance, PEEL_SNAP_ROUNDS, runWhileFalling, snapComponents, stopOnExactGain, stopOnExactPlateau, watchSmallestVariance } from "../src/engine/mixture/exactComponents";
+import type { FitContext } from "../src/engine/mixture/fitContext";
+import { runEm } from "../src/engine/mixture/runEm";
 import { parametersFromCoefficients } from "../src/engine/mixture/starts";
 import { createGuards } from "../src/engine/mixture/mixtureSettings";
 import type { RegressionData } from "../src/engine/mixtureTypes";
@@ -425,6 +427,60 @@ describe("a run in a sub-problem that expects exact rows", () => {
     expect(stopOnExactPlateau(ws, params, 15)).toBeNull();
     expect(stopOnExactPlateau(ws, params, 60)).toBeNull();
     expect(stopOnExactPlateau(ws, params, 61)).not.toBeNull();
+  });
+});
+
+describe("a start run on while its smallest variance falls fast", () => {
+  // Two lines, 40 and 30 rows of 4 predictors (twoExactLines), noiseless or with noise SD
+  // 0.3; the start has both components 10% off and runs `brief` EM iterations. Its recorded
+  // smallest variances are then set to fall fast (the last a third of the one five
+  // iterations before), as after a brief run heading for an exact fit.
+  function startFalling(noise: number, brief: number) {
+    const { ws, p, a, b } = twoExactLines(53);
+    if (noise > 0) {
+      const random = createRandom(54);
+      for (let i = 0; i < ws.n; i++) ws.y[i] += noise * random.normal();
+    }
+    const guards = createGuards(p, ws.yVariance);
+    const coefficients = new Float64Array(2 * p);
+    coefficients.set(a.map((v) => v * 1.1), 0);
+    coefficients.set(b.map((v) => v * 1.1), p);
+    const params = parametersFromCoefficients(ws, coefficients, guards);
+    const ctx = { working: ws, guards, tolerance: 1e-8, random: createRandom(1), trialRandom: createRandom(2), runStop: null } as unknown as FitContext;
+    const watch = watchSmallestVariance(params);
+    runEm(ws, params, ctx, brief, null, { stop: watch.stop });
+    const last = Math.min(...params.variances);
+    watch.smallest.splice(0, watch.smallest.length, 3 * last, 3 * last, 3 * last, 3 * last, 3 * last, last);
+    return { ws, params, ctx, watch };
+  }
+
+  it("lands a component of a noiseless start exactly, leaving the start itself as it was", () => {
+    // No brief run: three iterations from this start already fit both lines exactly.
+    const { ws, params, ctx, watch } = startFalling(0, 0);
+    const before = params.coefficients.slice();
+    const fell = runWhileFalling(ctx, params, watch, 45);
+    expect(fell).not.toBeNull();
+    expect(exactComponentsOf(ws, fell!.params).length).toBeGreaterThanOrEqual(1);
+    expect(fell!.run.iterations).toBeLessThanOrEqual(45);
+    expect(Array.from(params.coefficients)).toEqual(Array.from(before));
+  });
+
+  it("gives up on a noisy start and puts the workspace and the generator back as they were", () => {
+    const { ws, params, ctx, watch } = startFalling(0.3, 3);
+    const snapshot = [ws.memberships.slice(), ws.residuals.slice(), ws.rowLogLikelihood.slice()];
+    const before = params.coefficients.slice();
+    expect(runWhileFalling(ctx, params, watch, 45)).toBeNull();
+    expect(Array.from(params.coefficients)).toEqual(Array.from(before));
+    [ws.memberships, ws.residuals, ws.rowLogLikelihood].forEach((now, t) => expect(Array.from(now)).toEqual(Array.from(snapshot[t])));
+    // The run drew nothing from the fit's own generator: its next draw is a fresh twin's.
+    expect(ctx.random.next()).toBe(createRandom(1).next());
+  });
+
+  it("is not tried when the variance settles, or with no iterations to spare", () => {
+    const { params, ctx, watch } = startFalling(0, 0);
+    expect(runWhileFalling(ctx, params, watch, 0)).toBeNull();
+    const settling = watchSmallestVariance(params, [1, 1, 1, 1, 1, 0.6]);
+    expect(runWhileFalling(ctx, params, settling, 45)).toBeNull();
   });
 });
 

@@ -29,9 +29,13 @@ export { DISAGREEMENT_RELATIVE } from "./mixture/compareFits";
 const SUBSAMPLE_MIN_ROWS = 4000;
 const SUBSAMPLE_ROWS_PER_PARAMETER = 20;
 
+/** The second generator's seed: the fit's own plus this. */
+const TRIAL_SEED_OFFSET = 1;
+
 /**
  * Fits a K-component mixture of linear regressions (DeSarbo & Cron 1988; De Veaux 1989) by EM
- * (Dempster, Laird & Rubin 1977). One generator made from options.seed feeds every random step.
+ * (Dempster, Laird & Rubin 1977). One generator made from options.seed feeds every random step
+ * (and a second, from the same seed, the re-seeding in runs that may be given up).
  */
 export function fitMixture(data: RegressionData, options: MixtureOptions): MixtureFit {
   // Values far from 1 (beyond 1e100, or a column's size below 1e-100) are fitted scaled.
@@ -81,6 +85,7 @@ function fitAtDepth(data: RegressionData, options: MixtureOptions, depth: number
   const working = subsampleRows ? withBackground(createWorkspace(data, settings.k, settings.intercept, full.joint, subsampleRows), settings.background, full) : full;
   const ctx: FitContext = {
     data, settings, guards, random, full, working, subsampleRows, depth, inherited, expectExact,
+    trialRandom: createRandom(settings.seed + TRIAL_SEED_OFFSET),
     // On rows expected to be exact, long runs end once their exact components stop changing.
     runStop: expectExact ? stopOnExactPlateau : null,
     tolerance: settings.tolerance,

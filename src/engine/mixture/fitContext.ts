@@ -56,6 +56,12 @@ export interface FitContext extends EmContext {
    * same data exactly and removed them. Only an exact fit then ends the search.
    */
   expectExact: boolean;
+  /**
+   * Re-seeding in runs that may be given up (a start run on while falling toward an exact fit,
+   * exactComponents.ts) draws from this second generator, made from the same seed, so a run
+   * given up leaves every later draw of `random` as it would have been.
+   */
+  trialRandom: Random;
   previous?: MixtureFit;
   /** When the fit only matters below some BIC: the stop of its runs on all rows, the ln L on all rows it must exceed, and why (refineBest.ts). */
   unwanted: { stop: EmStop; needed: number; reason: string } | null;

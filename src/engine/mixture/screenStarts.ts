@@ -11,7 +11,7 @@ import { computeResiduals } from "./eStep";
 import { factorPredictorCovariances, mStepCoefficients, mStepVariances, type Guards } from "./mStep";
 import { reseedComponent } from "./reseedComponent";
 import { locationSeedingLabels, parametersFromCoefficients, randomPartitionLabels, residualSeedingLabels, setHardMemberships } from "./starts";
-import { exactComponentsOf, isNoiseless, landOnExactFit, SHORT_ITERATIONS, stopOnExactGain } from "./exactComponents";
+import { exactComponentsOf, isNoiseless, landOnExactFit, SHORT_ITERATIONS, stopOnExactGain, watchSmallestVariance } from "./exactComponents";
 import { peelExactComponents } from "./restructuringMoves";
 import { allFoundAlike, bestFoundTwice } from "./compareFits";
 import { runEm } from "./runEm";
@@ -246,8 +246,10 @@ function* startSources(ctx: FitContext, screen: ScreenState, cheapFirst: boolean
  */
 function screenStart(ctx: FitContext, method: string, start: MixtureParameters, extraIterations: number): Candidate | null {
   const ws = ctx.working;
-  const shortRun = runEm(ws, start, ctx, briefIterations(ctx));
-  const { params, run, peelFrom } = landOnExactFit(ctx, start, shortRun, extraIterations);
+  const watch = watchSmallestVariance(start);
+  const shortRun = runEm(ws, start, ctx, briefIterations(ctx), null, { stop: watch.stop });
+  const falling = { watch, iterations: LANDING_ITERATIONS - briefIterations(ctx) };
+  const { params, run, peelFrom } = landOnExactFit(ctx, start, shortRun, extraIterations, falling);
   if (!Number.isFinite(run.logLikelihood)) return null;
   const candidate: Candidate = { method, params, logLikelihood: run.logLikelihood };
   if (isNoiseless(params, ws)) return candidate;
