@@ -2,7 +2,7 @@ import type { MixtureParameters } from "./mixtureParameters";
 import { workspaceRows, type MixtureWorkspace, type WorkspaceRows } from "./mixtureWorkspace";
 import { choleskyScratchLength, scaledCholeskyLower, scaledCholeskySolve } from "../cholesky";
 import { constrainedVariances } from "./constrainedVariances";
-import { addBlockDots, addBlockGram, dot, finishGramSum, gatherRows, rowBlock, stageRows, startGramSums, weighBlock } from "../weightedGram";
+import { addBlockDots, addBlockGram, finishGramSum, gatherRows, rowBlock, stageRows, startGramSums, weighBlock } from "../weightedGram";
 import { GRAM_MULTIPLY_ADDS_PER_MICROSECOND, HELPER_MINIMUM_MICROSECONDS, allShared, helperShare, helperThread, shareWork, type HelperJob } from "../helperThread";
 
 /** What an M-step changed beyond the parameters themselves. */
@@ -198,33 +198,21 @@ function complementSums(ws: MixtureWorkspace, largest: number): void {
   }
 }
 
-/** XᵀX and Xᵀy over all rows of the workspace, accumulated on first use. */
+/**
+ * XᵀX, Xᵀy and Σ y² over all rows of the workspace, accumulated on first use by the M-step's
+ * own sums (componentSums) as one component holding every row with membership 1.
+ */
 function totalGram(ws: MixtureWorkspace): { gram: Float64Array; rightHandSide: Float64Array; squares: number } {
   if (ws.totalGram && ws.totalRightHandSide) return { gram: ws.totalGram, rightHandSide: ws.totalRightHandSide, squares: ws.totalSquares };
-  const { n, q, rowValues, rowStride, implicitOnes, y, blockRows } = ws;
-  // Column-major copies of a block: every entry is dot's sum over contiguous memory.
-  const blockColumns = new Float64Array(blockRows * q);
-  const blockY = new Float64Array(blockRows);
+  const { n, q } = ws;
   const gram = new Float64Array(q * q);
   const rightHandSide = new Float64Array(q);
-  for (let start = 0; start < n; start += blockRows) {
-    const m = Math.min(n, start + blockRows) - start;
-    for (let r = 0; r < m; r++) {
-      const rowOffset = (start + r) * rowStride - implicitOnes;
-      for (let j = 0; j < q; j++) blockColumns[j * blockRows + r] = j < implicitOnes ? 1 : rowValues[rowOffset + j];
-      blockY[r] = y[start + r];
-    }
-    for (let j = 0; j < q; j++) {
-      rightHandSide[j] += dot(blockColumns, j * blockRows, blockY, 0, m);
-      for (let l = j; l < q; l++) gram[j * q + l] += dot(blockColumns, j * blockRows, blockColumns, l * blockRows, m);
-    }
-  }
-  let squares = 0;
-  for (let i = 0; i < n; i++) squares += y[i] * y[i];
+  const squares = new Float64Array(1);
+  componentSums({ kind: "componentSums", ...workspaceRows(ws), k: 1, memberships: new Float64Array(n).fill(1), grams: gram, rightHandSides: rightHandSide, weightedSquares: squares, heldRows: new Float64Array(1), components: [0] });
   ws.totalGram = gram;
   ws.totalRightHandSide = rightHandSide;
-  ws.totalSquares = squares;
-  return { gram, rightHandSide, squares };
+  ws.totalSquares = squares[0];
+  return { gram, rightHandSide, squares: squares[0] };
 }
 
 /**
