@@ -5,7 +5,8 @@
  *
  *  small:  small noisy sheets (n ≤ 2,000, d ≤ 10, K ≤ 4) against the careful EM, time and ln L,
  *          and (when dist/cli/skein.js is built) each as a skein fit process, as a user runs it;
- *  fewer:  the noiseless grid at 3, 4 and 5 rows per predictor per component (d 20/50, K 5/7);
+ *  fewer:  the noiseless grid at 3, 4 and 5 rows per predictor per component (d 20/50, K 5/7),
+ *          and d = 50, K = 7 with equal weights at 4-10 rows (reported only);
  *  d100:   noiseless d = 100, K = 10 at 10 rows per predictor per component;
  *  fitseeds: noiseless d = 50, K = 7 at 5, 6 and 10 rows, five problems with two fit seeds each;
  *  large:  200,000 x 10, K = 3: fit + standard errors + separation check in one-pass equivalents,
@@ -121,6 +122,24 @@ export function runFewerRowsBench(print: (line: string) => void): void {
       print(`  ${String(d).padStart(3)} ${String(k).padStart(2)} ${String(factor).padStart(6)} ${String(tally.rows).padStart(6)} ${`${tally.recovered}/${tally.fits}`.padStart(9)} ${tally.meanMs.toFixed(0).padStart(8)} ${tally.maxMs.toFixed(0).padStart(8)}${factor === 3 ? "   (reported only)" : ""}`);
     }
   }
+  // The grid draws unequal weights, so its largest component holds about twice the average
+  // rows and is the one fitted exactly first; with equal weights no component has that lead.
+  print("Equal weights (reported only): d = 50, K = 7, every component n/K rows, two problems each, stopped after a minute");
+  print(`    d  K n/(dK)   rows recovered  mean ms   max ms`);
+  for (const factor of [10, 6, 5, 4]) {
+    const tally = tallyRecoveries(equalWeightRuns(50, 7, factor, 2), EQUAL_WEIGHTS_LIMIT_MS);
+    print(`  ${String(50).padStart(3)} ${String(7).padStart(2)} ${String(factor).padStart(6)} ${String(tally.rows).padStart(6)} ${`${tally.recovered}/${tally.fits}`.padStart(9)} ${tally.meanMs.toFixed(0).padStart(8)} ${tally.maxMs.toFixed(0).padStart(8)}`);
+  }
+}
+
+const EQUAL_WEIGHTS_LIMIT_MS = 60000;
+
+/** Noiseless problems of equal weights (generateProblem: per-component covariances, coefficients in the unit ball), each with its own seed as the fit's. */
+function equalWeightRuns(d: number, k: number, factor: number, count: number): Array<{ problem: GeneratedProblem; seed: number }> {
+  return Array.from({ length: count }, (_, s) => {
+    const seed = 3000000 + 1000 * d + 100 * k + 10 * factor + s;
+    return { problem: generateProblem({ n: d * k * factor, p: d, k, seed, sigma: 0, intercept: false, componentCovariance: true }), seed };
+  });
 }
 
 /** Longest a d = 100 fit may run before the bench stops it: four times the target of about 15 s. */
