@@ -95,6 +95,14 @@ export function tallyRecoveries(runs: ReadonlyArray<{ problem: GeneratedProblem;
   return { recovered, fits: runs.length, meanMs: time / runs.length, maxMs, rows: runs[runs.length - 1]?.problem.data.n ?? 0 };
 }
 
+/** The heading of a recovery table (recoveryRow's columns). */
+export const RECOVERY_HEADER = `  ${"d".padStart(3)} ${"K".padStart(2)} ${"n/(dK)".padStart(6)} ${"rows".padStart(6)} ${"recovered".padStart(9)} ${"mean ms".padStart(8)} ${"max ms".padStart(8)}`;
+
+/** One line of a recovery table: the case (d, K, n/(dK)) and its tally. */
+export function recoveryRow(d: number, k: number, factor: number, tally: RecoveryTally): string {
+  return `  ${String(d).padStart(3)} ${String(k).padStart(2)} ${String(factor).padStart(6)} ${String(tally.rows).padStart(6)} ${`${tally.recovered}/${tally.fits}`.padStart(9)} ${tally.meanMs.toFixed(0).padStart(8)} ${tally.maxMs.toFixed(0).padStart(8)}`;
+}
+
 /** The noiseless grid's problems 0 .. count − 1 for (d, K, n/(dK)), each with its own seed as the fit's. */
 export function gridRuns(d: number, k: number, factor: number, count: number): Array<{ problem: GeneratedProblem; seed: number }> {
   return Array.from({ length: count }, (_, s) => {
@@ -121,14 +129,14 @@ const NOISY_ROWS_PER_PREDICTOR = [10, 30];
 
 export function runAccuracyBench(print: (line: string) => void): void {
   print("Accuracy (i): noiseless, per-component design covariances; recovered = worst relative error <= 1e-6");
-  print(`  ${"d".padStart(3)} ${"K".padStart(2)} ${"n/(dK)".padStart(6)} ${"rows".padStart(6)} ${"recovered".padStart(9)} ${"mean ms".padStart(8)} ${"max ms".padStart(8)}`);
+  print(RECOVERY_HEADER);
   const totals = new Map<number, [number, number]>();
   for (const factor of ROWS_PER_PREDICTOR) {
     for (const [d, k] of NOISELESS_CASES) {
       const tally = tallyRecoveries(gridRuns(d, k, factor, NOISELESS_SEEDS_PER_CASE));
       const [r, t] = totals.get(factor) ?? [0, 0];
       totals.set(factor, [r + tally.recovered, t + tally.fits]);
-      print(`  ${String(d).padStart(3)} ${String(k).padStart(2)} ${String(factor).padStart(6)} ${String(tally.rows).padStart(6)} ${`${tally.recovered}/${tally.fits}`.padStart(9)} ${tally.meanMs.toFixed(0).padStart(8)} ${tally.maxMs.toFixed(0).padStart(8)}`);
+      print(recoveryRow(d, k, factor, tally));
     }
   }
   for (const [factor, [r, t]] of totals) print(`  n = ${factor}·d·K: ${r}/${t} recovered (${((100 * r) / t).toFixed(0)}%)`);

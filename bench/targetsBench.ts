@@ -22,7 +22,7 @@ import { checkSeparation } from "../src/engine/checkSeparation";
 import { scanComponents } from "../src/engine/scanComponents";
 import { generateProblem, noiselessProblem, noisyProblem, relativeCoefficientError, type GeneratedProblem } from "../src/synthetic/generateProblems";
 import { carefulEmFit } from "./plainEm";
-import { RECOVERY_TOLERANCE, gridRuns, tallyRecoveries } from "./accuracy";
+import { RECOVERY_HEADER, RECOVERY_TOLERANCE, gridRuns, recoveryRow, tallyRecoveries } from "./accuracy";
 import { timeOnePass } from "./speed";
 import { median } from "../src/engine/median";
 import { readFileSync } from "fs";
@@ -115,20 +115,20 @@ function firstFitInOwnProcess(problem: GeneratedProblem, k: number, seed: number
 /** Noiseless grid at few rows: 3 is reported only. */
 export function runFewerRowsBench(print: (line: string) => void): void {
   print("Noiseless, per-component design covariances, few rows per predictor per component (recovered = worst relative error <= 1e-6)");
-  print(`    d  K n/(dK)   rows recovered  mean ms   max ms`);
+  print(RECOVERY_HEADER);
   for (const [d, k] of [[20, 5], [50, 7]] as const) {
     for (const factor of [5, 4, 3]) {
       const tally = tallyRecoveries(gridRuns(d, k, factor, 2));
-      print(`  ${String(d).padStart(3)} ${String(k).padStart(2)} ${String(factor).padStart(6)} ${String(tally.rows).padStart(6)} ${`${tally.recovered}/${tally.fits}`.padStart(9)} ${tally.meanMs.toFixed(0).padStart(8)} ${tally.maxMs.toFixed(0).padStart(8)}${factor === 3 ? "   (reported only)" : ""}`);
+      print(`${recoveryRow(d, k, factor, tally)}${factor === 3 ? "   (reported only)" : ""}`);
     }
   }
   // The grid draws unequal weights, so its largest component holds about twice the average
   // rows and is the one fitted exactly first; with equal weights no component has that lead.
   print("Equal weights (reported only): d = 50, K = 7, every component n/K rows, two problems each, stopped after a minute");
-  print(`    d  K n/(dK)   rows recovered  mean ms   max ms`);
+  print(RECOVERY_HEADER);
   for (const factor of [10, 6, 5, 4]) {
     const tally = tallyRecoveries(equalWeightRuns(50, 7, factor, 2), EQUAL_WEIGHTS_LIMIT_MS);
-    print(`  ${String(50).padStart(3)} ${String(7).padStart(2)} ${String(factor).padStart(6)} ${String(tally.rows).padStart(6)} ${`${tally.recovered}/${tally.fits}`.padStart(9)} ${tally.meanMs.toFixed(0).padStart(8)} ${tally.maxMs.toFixed(0).padStart(8)}`);
+    print(recoveryRow(50, 7, factor, tally));
   }
 }
 
