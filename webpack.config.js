@@ -83,11 +83,15 @@ module.exports = async (env, options) => {
     name: "cli",
     target: "node20",
     devtool: dev ? "source-map" : false,
-    // skein-helper.js: the engine's helper thread (src/cli/helperThread.ts), without the readers.
-    entry: { skein: "./src/cli/skein.ts", "skein-helper": "./src/cli/helperEntry.ts" },
+    // skein.js: the command, which starts skein-main.js (the program) through V8's code cache
+    // (src/cli/compileCache.ts); skein-helper.js: the engine's helper thread
+    // (src/cli/helperThread.ts), without the readers.
+    entry: { skein: "./src/cli/launcher.ts", "skein-main": "./src/cli/skein.ts", "skein-helper": "./src/cli/helperEntry.ts" },
     output: { path: path.resolve(__dirname, "dist/cli"), filename: "[name].js", clean: true },
     resolve: { extensions: [".ts", ".js"] },
-    module: { rules: [tsRule] },
+    // createRequire: false leaves node:module's createRequire to Node (the launcher hands the
+    // program bundle a require of its own, compileCache.ts).
+    module: { rules: [tsRule], parser: { javascript: { createRequire: false } } },
     // Runtime packages stay in node_modules; the bundle holds only our own code.
     externals: [({ request }, callback) => (/^[a-z@][^:]*$/i.test(request) && !request.startsWith(".") ? callback(null, `commonjs ${request}`) : callback())],
     externalsPresets: { node: true },

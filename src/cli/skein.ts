@@ -1,4 +1,5 @@
 import { runAsProcess } from "./main";
 
-// Entry point of the `skein` command (bundled to dist/cli/skein.js).
+// The `skein` program (bundled to dist/cli/skein-main.js, which dist/cli/skein.js starts through
+// the code cache, launcher.ts; `npx tsx src/cli/skein.ts ...` runs it from the sources).
 runAsProcess();

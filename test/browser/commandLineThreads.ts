@@ -4,10 +4,12 @@
  * data from the shared generator) run as its own process with the second thread and with
  * SKEIN_THREADS=1. The second thread must take part (the verbose output counts the steps it
  * took part in) and the results must be the same to the bit (the JSON equal apart from the
- * timings).
+ * timings). Then the code cache the command keeps (src/cli/compileCache.ts), in a folder of
+ * its own: written by the first run, read by the second, the same JSON from both and from a
+ * run with the cache turned off.
  */
 import { execFileSync } from "child_process";
-import { promises as fs } from "fs";
+import { promises as fs, readdirSync } from "fs";
 import { availableParallelism, tmpdir } from "os";
 import * as path from "path";
 import { createRandom } from "../../src/engine/random";
@@ -38,6 +40,15 @@ export async function checkCommandLineThreads(check: Check): Promise<void> {
     if (availableParallelism() < 2) check("command line: one thread on one core", verbose.includes("Threads: 1."));
     else check("command line: the second thread takes part", shares !== null && Number(shares[1].replace(/,/g, "")) > 0, shares?.[0] ?? verbose.split("\n").find((line) => line.startsWith("Threads")) ?? "no threads line");
     check("command line: SKEIN_THREADS=1 keeps to one thread", run("1", "--verbose").includes("Threads: 1."));
+
+    const cacheFolder = path.join(folder, "cache");
+    const cached = (setting?: string) =>
+      withoutTimings(execFileSync(process.execPath, [CLI, "fit", file, "--y", "y", "--k", "4", "--no-intercept", "--seed", "3", "--json"], { encoding: "utf8", env: { ...process.env, SKEIN_CACHE_DIR: cacheFolder, SKEIN_COMPILE_CACHE: setting } }));
+    const first = cached();
+    const files = readdirSync(cacheFolder);
+    const second = cached();
+    const off = cached("0");
+    check("command line: the code cache is written once and changes nothing", files.length === 1 && files[0].startsWith("skein-main-") && first === two && second === two && off === two, files.join(", "));
   } finally {
     await fs.rm(folder, { recursive: true, force: true });
   }
