@@ -179,6 +179,15 @@ export function noisyProblem(d: number, k: number, rowsPerPredictor: number, ran
 }
 
 /**
+ * Noisier sheets: as noisyProblem, with noise SD 0.3-1 per component (the slopes have unit
+ * length and the predictors variances 0.5-2), so that neighbouring components overlap and
+ * different starts can reach different optima.
+ */
+export function noisierProblem(d: number, k: number, rowsPerPredictor: number, random: Random): GeneratedProblem {
+  return drawProblem({ d, k, rowsPerPredictor, intercept: true, meanShift: 0.5, noise: [0.3, 1] }, random);
+}
+
+/**
  * Well-separated scan problems: p = 2 predictors drawn N(0, 1) independently, an intercept,
  * weights 0.5/K + 0.5·Dirichlet(1,…,1) so each is at least 0.5/K, noise SD per component
  * uniform in [0.5, 1], and coefficient vectors (intercept and slopes) uniform in [−4, 4]³,
