@@ -6,9 +6,9 @@
  * took part in) and the results must be the same to the bit (the JSON equal apart from the
  * timings). Then the code cache the command keeps (src/cli/compileCache.ts), in a folder of
  * its own: written by the first run, read by the second, the same JSON from both and from a
- * run with the cache turned off.
+ * run with the cache turned off; and the command without its program bundle beside it.
  */
-import { execFileSync } from "child_process";
+import { execFileSync, spawnSync } from "child_process";
 import { promises as fs, readdirSync } from "fs";
 import { availableParallelism, tmpdir } from "os";
 import * as path from "path";
@@ -49,6 +49,13 @@ export async function checkCommandLineThreads(check: Check): Promise<void> {
     const second = cached();
     const off = cached("0");
     check("command line: the code cache is written once and changes nothing", files.length === 1 && files[0].startsWith("skein-main-") && first === two && second === two && off === two, files.join(", "));
+
+    // The command without its program bundle beside it: a message saying what to do, exit 1.
+    const alone = path.join(folder, "alone");
+    await fs.mkdir(alone);
+    await fs.copyFile(CLI, path.join(alone, "skein.js"));
+    const missing = spawnSync(process.execPath, [path.join(alone, "skein.js"), "fit", file, "--y", "y"], { encoding: "utf8" });
+    check("command line: a missing program bundle is named, with the fix", missing.status === 1 && missing.stderr.includes("skein-main.js is missing") && missing.stderr.includes("npm run build"), missing.stderr.trim());
   } finally {
     await fs.rm(folder, { recursive: true, force: true });
   }
