@@ -91,6 +91,25 @@ describe("the command line's code cache", () => {
     expect(changed.result).toEqual(EXPECTED());
   });
 
+  it("removes the caches of earlier builds of the program, not those of another Node or another program", () => {
+    const cacheFolder = path.join(directory, "cache");
+    // The first run's name gives this program's path hash; its cache is then moved aside as
+    // an earlier build's would be, beside caches that must stay.
+    const first = runProgram();
+    const name = path.basename(first.cacheFile as string);
+    const hash = name.split("-")[1];
+    const node = `${process.version}-${process.arch}.cache`;
+    const earlierBuild = `program-${hash}-100-200-${node}`;
+    const otherNode = `program-${hash}-100-200-v0.0.0-${process.arch}.cache`;
+    const otherInstall = `program-00000000-100-200-${node}`;
+    const otherProgram = `program-helper-${hash}-100-200-${node}`;
+    rmSync(first.cacheFile as string);
+    for (const other of [earlierBuild, otherNode, otherInstall, otherProgram]) writeFileSync(path.join(cacheFolder, other), "old");
+    const run = runProgram();
+    expect(run.saved).toBe(true);
+    expect(readdirSync(cacheFolder).sort()).toEqual([name, otherNode, otherInstall, otherProgram].sort());
+  });
+
   it("runs without a cache when its directory cannot be made, and says nothing", () => {
     // A plain file where the cache directory should be.
     writeFileSync(path.join(directory, "cache"), "in the way");

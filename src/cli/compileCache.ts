@@ -1,4 +1,4 @@
-import { closeSync, mkdirSync, openSync, readFileSync, renameSync, statSync, unlinkSync, writeSync } from "node:fs";
+import { closeSync, mkdirSync, openSync, readdirSync, readFileSync, renameSync, statSync, unlinkSync, writeSync } from "node:fs";
 import { homedir } from "node:os";
 import path from "node:path";
 import Module, { createRequire } from "node:module";
@@ -11,11 +11,12 @@ import vm from "node:vm";
  * (Node's own module loader keeps no such cache on Node 20). A small sheet's `skein fit`
  * process spends about a tenth of its time less (DEVELOPERS.md has the figures). V8 checks the
  * cache against the source and its own version and flags, and ignores one that does not match;
- * the file name also carries the script's size and modification time and Node's version, so a
- * rebuilt script or another Node starts a new file.
+ * the file name also carries the script's path, size and modification time and Node's version,
+ * so a rebuilt script or another Node starts a new file.
  *
  * The cache is written when the process ends: when there was none (or V8 rejected it), or when
- * this run compiled a tenth more than the cache held (the first run may have been `--help`).
+ * this run compiled a tenth more than the cache held (the first run may have been `--help`);
+ * the file of an earlier build of the same script (same path) for the same Node is then removed.
  * Nothing about the cache can change what the command prints or fail it: a cache directory that
  * cannot be made, read or written just means no cache.
  *
@@ -67,8 +68,7 @@ function cacheFile(script: string): string | null {
   try {
     const { size, mtimeMs } = statSync(script);
     const directory = process.env.SKEIN_CACHE_DIR || path.join(process.env.XDG_CACHE_HOME || path.join(homedir(), ".cache"), "skein");
-    const name = `${path.basename(script, ".js")}-${size}-${Math.round(mtimeMs)}-${process.version}-${process.arch}.cache`;
-    return path.join(directory, name);
+    return path.join(directory, cacheName(script, size, mtimeMs));
   } catch {
     return null;
   }
@@ -80,6 +80,54 @@ function readCache(file: string): Buffer | undefined {
   } catch {
     return undefined;
   }
+}
+
+/**
+ * Removes the caches of earlier builds of the same script for the same Node (names that differ
+ * only in the size and modification time), so that rebuilding does not pile files up. A cache
+ * for another Node version or another script is left alone.
+ */
+function removeOlderBuilds(file: string): void {
+  const directory = path.dirname(file);
+  const name = path.basename(file);
+  const earlier = cacheNamePattern(name);
+  let names: string[];
+  try {
+    names = readdirSync(directory);
+  } catch {
+    return;
+  }
+  for (const other of names) {
+    if (other === name || !earlier.test(other)) continue;
+    try {
+      unlinkSync(path.join(directory, other));
+    } catch {
+      // Another process removed it first.
+    }
+  }
+}
+
+/**
+ * The cache file name: the script's name and a hash of its full path (two installs keep two
+ * caches), its size and modification time (a rebuild starts a new file), and this Node.
+ */
+function cacheName(script: string, size: number, mtimeMs: number): string {
+  return `${path.basename(script, ".js")}-${pathHash(path.resolve(script))}-${size}-${Math.round(mtimeMs)}-${process.version}-${process.arch}.cache`;
+}
+
+/** FNV-1a (Fowler, Noll & Vo), 32 bits, in hexadecimal: a short name for a path, not a security measure. */
+function pathHash(text: string): string {
+  let hash = 0x811c9dc5;
+  for (let i = 0; i < text.length; i++) hash = Math.imul(hash ^ text.charCodeAt(i), 0x01000193) >>> 0;
+  return hash.toString(16).padStart(8, "0");
+}
+
+/** Names like `name` (the same script, path and Node) but for the size and modification time. */
+function cacheNamePattern(name: string): RegExp {
+  const literal = (text: string) => text.replace(/[.*+?^${}()|[\]\\]/g, "\\$&");
+  const tail = `-${process.version}-${process.arch}.cache`;
+  const head = name.slice(0, name.length - tail.length).replace(/-\d+-\d+$/, "");
+  return new RegExp(`^${literal(head)}-\\d+-\\d+${literal(tail)}$`);
 }
 
 /** Writes the cache through a file of its own renamed into place, so a reader never sees half of one. */
@@ -96,6 +144,7 @@ function writeCache(file: string, compiled: vm.Script, held: number): boolean {
       closeSync(descriptor);
     }
     renameSync(temporary, file);
+    removeOlderBuilds(file);
     return true;
   } catch {
     try {
