@@ -56,7 +56,7 @@ export function compileWithCache(script: string): CachedProgram {
       const run = compiled.runInThisContext() as (exports: unknown, require: NodeRequire, module: Module, filename: string, dirname: string) => void;
       run.call(program.exports, program.exports, createRequire(script), program, script, path.dirname(script));
     },
-    saveCache: () => (file ? writeCache(file, compiled, held) : false),
+    saveCache: () => (file ? writeCache(file, script, compiled, held) : false),
   };
 }
 
@@ -68,7 +68,8 @@ function cacheFile(script: string): string | null {
   try {
     const { size, mtimeMs } = statSync(script);
     const directory = process.env.SKEIN_CACHE_DIR || path.join(process.env.XDG_CACHE_HOME || path.join(homedir(), ".cache"), "skein");
-    return path.join(directory, cacheName(script, size, mtimeMs));
+    const { head, tail } = nameParts(script);
+    return path.join(directory, `${head}${size}-${Math.round(mtimeMs)}${tail}`);
   } catch {
     return null;
   }
@@ -85,12 +86,12 @@ function readCache(file: string): Buffer | undefined {
 /**
  * Removes the caches of earlier builds of the same script for the same Node (names that differ
  * only in the size and modification time), so that rebuilding does not pile files up. A cache
- * for another Node version or another script is left alone.
+ * for another Node version, another install or another script is left alone.
  */
-function removeOlderBuilds(file: string): void {
+function removeOlderBuilds(file: string, script: string): void {
   const directory = path.dirname(file);
   const name = path.basename(file);
-  const earlier = cacheNamePattern(name);
+  const { head, tail } = nameParts(script);
   let names: string[];
   try {
     names = readdirSync(directory);
@@ -98,7 +99,8 @@ function removeOlderBuilds(file: string): void {
     return;
   }
   for (const other of names) {
-    if (other === name || !earlier.test(other)) continue;
+    const earlier = other !== name && other.startsWith(head) && other.endsWith(tail) && /^\d+-\d+$/.test(other.slice(head.length, other.length - tail.length));
+    if (!earlier) continue;
     try {
       unlinkSync(path.join(directory, other));
     } catch {
@@ -108,11 +110,12 @@ function removeOlderBuilds(file: string): void {
 }
 
 /**
- * The cache file name: the script's name and a hash of its full path (two installs keep two
- * caches), its size and modification time (a rebuild starts a new file), and this Node.
+ * The cache file name is head, size-mtime, tail: the head names the script and hashes its full
+ * path (two installs keep two caches), the size and modification time follow (a rebuild starts
+ * a new file), and the tail names this Node.
  */
-function cacheName(script: string, size: number, mtimeMs: number): string {
-  return `${path.basename(script, ".js")}-${pathHash(path.resolve(script))}-${size}-${Math.round(mtimeMs)}-${process.version}-${process.arch}.cache`;
+function nameParts(script: string): { head: string; tail: string } {
+  return { head: `${path.basename(script, ".js")}-${pathHash(path.resolve(script))}-`, tail: `-${process.version}-${process.arch}.cache` };
 }
 
 /** FNV-1a (Fowler, Noll & Vo), 32 bits, in hexadecimal: a short name for a path, not a security measure. */
@@ -122,16 +125,8 @@ function pathHash(text: string): string {
   return hash.toString(16).padStart(8, "0");
 }
 
-/** Names like `name` (the same script, path and Node) but for the size and modification time. */
-function cacheNamePattern(name: string): RegExp {
-  const literal = (text: string) => text.replace(/[.*+?^${}()|[\]\\]/g, "\\$&");
-  const tail = `-${process.version}-${process.arch}.cache`;
-  const head = name.slice(0, name.length - tail.length).replace(/-\d+-\d+$/, "");
-  return new RegExp(`^${literal(head)}-\\d+-\\d+${literal(tail)}$`);
-}
-
 /** Writes the cache through a file of its own renamed into place, so a reader never sees half of one. */
-function writeCache(file: string, compiled: vm.Script, held: number): boolean {
+function writeCache(file: string, script: string, compiled: vm.Script, held: number): boolean {
   const temporary = `${file}.${process.pid}.tmp`;
   try {
     const data = compiled.createCachedData();
@@ -144,7 +139,7 @@ function writeCache(file: string, compiled: vm.Script, held: number): boolean {
       closeSync(descriptor);
     }
     renameSync(temporary, file);
-    removeOlderBuilds(file);
+    removeOlderBuilds(file, script);
     return true;
   } catch {
     try {
