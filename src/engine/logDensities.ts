@@ -1,3 +1,6 @@
+import { MEMBERSHIPS_WASM_BASE64 } from "./wasm/membershipsModule";
+import { compileModule, growTo, instantiate } from "./wasm/compileModule";
+
 /**
  * The one E-step kernel (Dempster, Laird & Rubin 1977), shared by the fit's own E-step
  * (mixture/eStep.ts), the memberships at a finished fit's parameters (computeMemberships.ts,
@@ -7,6 +10,13 @@
  *    lower Cholesky factor of Σ (the joint model's x density, Gershenfeld 1997);
  *  - memberships from a row's log terms ln π_k + ln f_ik by log-sum-exp: subtracting the row's
  *    largest term before exponentiating keeps every term in range however small the variances.
+ *
+ * Many rows at a time (normaliseLogDensities, residualMemberships) run on a small WebAssembly
+ * module (wasm/memberships.wat) where the runtime has WebAssembly: the same operations in the
+ * same order, with fdlibm's exp and log, which are what Math.exp and Math.log compute in V8,
+ * so every value is the same to the bit as membershipsFromLogTerms's. It is compiled code from
+ * the first call, where the JavaScript loop runs interpreted until the optimising compiler has
+ * reached it: most of a small fit's E-steps in a fresh process.
  */
 
 const LOG_TWO_PI = Math.log(2 * Math.PI);
@@ -61,13 +71,122 @@ export function membershipsFromLogTerms(terms: Float64Array, termOffset: number,
  * returns Σ_i ln Σ_k π_k f_ik; each row's value goes to rowLogLikelihood when given.
  */
 export function normaliseLogDensities(logDensities: Float64Array, m: number, k: number, rowLogLikelihood?: Float64Array): number {
+  const kernel = membershipKernel();
+  if (!kernel) {
+    let total = 0;
+    for (let i = 0; i < m; i++) {
+      const value = membershipsFromLogTerms(logDensities, i * k, k, logDensities, i * k);
+      if (rowLogLikelihood) rowLogLikelihood[i] = value;
+      total += value;
+    }
+    return total;
+  }
+  const blockRows = kernelBlockRows(k);
+  const rowsAt = blockRows * k;
+  reserveDoubles(kernel, rowsAt + blockRows);
   let total = 0;
-  for (let i = 0; i < m; i++) {
-    const value = membershipsFromLogTerms(logDensities, i * k, k, logDensities, i * k);
-    if (rowLogLikelihood) rowLogLikelihood[i] = value;
-    total += value;
+  for (let start = 0; start < m; start += blockRows) {
+    const rows = Math.min(m - start, blockRows);
+    kernel.heap.set(logDensities.subarray(start * k, (start + rows) * k), 0);
+    total = kernel.normalise(0, rows, k, 0, rowsAt * 8, total);
+    logDensities.set(kernel.heap.subarray(0, rows * k), start * k);
+    if (rowLogLikelihood) rowLogLikelihood.set(kernel.heap.subarray(rowsAt, rowsAt + rows), start);
   }
   return total;
+}
+
+/**
+ * The regression E-step of rows [from, to) from their stored residuals (n x k, row-major): the
+ * log terms constant_c + curvature_c · r² (constant_c = ln π_c − ½ ln(2πσ_c²), curvature_c =
+ * −1/(2σ_c²)), then memberships[i·k + c] and rowLogLikelihood[i] as membershipsFromLogTerms
+ * makes them. Returns the rows' values added in row order from 0.
+ */
+export function residualMemberships(
+  residuals: Float64Array, from: number, to: number, k: number, constant: Float64Array, curvature: Float64Array,
+  memberships: Float64Array, rowLogLikelihood: Float64Array,
+): number {
+  const kernel = membershipKernel();
+  let total = 0;
+  if (!kernel) {
+    const logTerm = new Float64Array(k);
+    for (let i = from; i < to; i++) {
+      const offset = i * k;
+      for (let c = 0; c < k; c++) {
+        const r = residuals[offset + c];
+        logTerm[c] = constant[c] + curvature[c] * r * r;
+      }
+      rowLogLikelihood[i] = membershipsFromLogTerms(logTerm, 0, k, memberships, offset);
+      total += rowLogLikelihood[i];
+    }
+    return total;
+  }
+  // The module's memory in doubles: constants, curvatures, one row's terms, then a block's
+  // residuals, memberships and row values.
+  const blockRows = kernelBlockRows(k);
+  const residualsAt = 3 * k;
+  const outAt = residualsAt + blockRows * k;
+  const rowsAt = outAt + blockRows * k;
+  reserveDoubles(kernel, rowsAt + blockRows);
+  const heap = kernel.heap;
+  heap.set(constant.subarray(0, k), 0);
+  heap.set(curvature.subarray(0, k), k);
+  for (let start = from; start < to; start += blockRows) {
+    const rows = Math.min(to - start, blockRows);
+    heap.set(residuals.subarray(start * k, (start + rows) * k), residualsAt);
+    total = kernel.fromResiduals(residualsAt * 8, rows, k, 0, k * 8, 2 * k * 8, outAt * 8, rowsAt * 8, total);
+    memberships.set(heap.subarray(outAt, outAt + rows * k), start * k);
+    rowLogLikelihood.set(heap.subarray(rowsAt, rowsAt + rows), start);
+  }
+  return total;
+}
+
+interface MembershipKernel {
+  memory: WebAssembly.Memory;
+  /** A view of the whole memory, made again whenever the memory grows. */
+  heap: Float64Array;
+  normalise: (terms: number, m: number, k: number, out: number, rows: number, total: number) => number;
+  fromResiduals: (residuals: number, m: number, k: number, constant: number, curvature: number, terms: number, out: number, rows: number, total: number) => number;
+}
+
+/** undefined until first asked for; null where this runtime cannot run the module. */
+let kernelInstance: MembershipKernel | null | undefined;
+let kernelAllowed = true;
+
+/** Turns the WebAssembly path of the kernel off or back on (the tests compare the two paths). */
+export function allowMembershipKernel(allowed: boolean): void {
+  kernelAllowed = allowed;
+}
+
+/** Whether the WebAssembly path runs in this runtime (and is allowed). */
+export function membershipKernelAvailable(): boolean {
+  return membershipKernel() !== null;
+}
+
+/** The module (compiled on first use, one instance per thread), or null where it cannot run or is not allowed. */
+function membershipKernel(): MembershipKernel | null {
+  if (!kernelAllowed) return null;
+  if (kernelInstance === undefined) {
+    const instance = instantiate(compileModule(MEMBERSHIPS_WASM_BASE64));
+    const memory = instance ? (instance.exports.memory as WebAssembly.Memory) : null;
+    kernelInstance = instance && memory
+      ? {
+          memory,
+          heap: new Float64Array(memory.buffer),
+          normalise: instance.exports.normalise as MembershipKernel["normalise"],
+          fromResiduals: instance.exports.fromResiduals as MembershipKernel["fromResiduals"],
+        }
+      : null;
+  }
+  return kernelInstance;
+}
+
+/** Rows of k terms per block copied through the module's memory (about 64 KB of terms). */
+function kernelBlockRows(k: number): number {
+  return Math.max(1, Math.floor(8192 / Math.max(k, 1)));
+}
+
+function reserveDoubles(kernel: MembershipKernel, doubles: number): void {
+  if (growTo(kernel.memory, doubles * 8)) kernel.heap = new Float64Array(kernel.memory.buffer);
 }
 
 /**

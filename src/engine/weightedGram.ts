@@ -1,4 +1,5 @@
 import { WEIGHTED_GRAM_WASM_BASE64 } from "./wasm/weightedGramModule";
+import { compileModule, growTo, instantiate } from "./wasm/compileModule";
 
 /**
  * The one weighted-Gram kernel: Σ_i w_i x_i x_iᵀ (and Σ_i x_i v_i) accumulated a block of rows
@@ -127,6 +128,7 @@ export interface SimdKernel {
   residuals: (staged: number, stride: number, ones: number, q: number, coefficients: number, y: number, m: number, k: number, out: number) => void;
   predictions: (rows: number, q: number, coefficients: number, m: number, pairs: number, out: number) => void;
   cholesky: (gram: number, scales: number, q: number, ridge: number, tolerance: number, factor: number) => number;
+  hold: (tau: number, k: number, c: number, y: number, m: number, threshold: number, indices: number, vectors: number, squares: number) => number;
 }
 
 /** undefined until first asked for; null when this runtime cannot run the module. */
@@ -181,6 +183,7 @@ function newKernel(): SimdKernel | null {
     residuals: exports.residuals,
     predictions: exports.predictions,
     cholesky: exports.cholesky,
+    hold: exports.hold,
   };
 }
 
@@ -189,28 +192,13 @@ let compiledModule: WebAssembly.Module | null | undefined;
 
 /** A new instance of the module, or null where it cannot run. */
 function instantiateModule(): WebAssembly.Instance | null {
-  try {
-    if (compiledModule === undefined) {
-      compiledModule = null;
-      const text = atob(WEIGHTED_GRAM_WASM_BASE64);
-      const bytes = new Uint8Array(text.length);
-      for (let t = 0; t < text.length; t++) bytes[t] = text.charCodeAt(t);
-      // Synchronous compilation: the module is about three kilobytes, below the size browsers
-      // allow it for on their main thread (4 KB in Chromium, from memory).
-      compiledModule = new WebAssembly.Module(bytes);
-    }
-    return compiledModule ? new WebAssembly.Instance(compiledModule, {}) : null;
-  } catch {
-    // No WebAssembly, no SIMD, or compilation refused (a content security policy): the scalar path.
-    return null;
-  }
+  if (compiledModule === undefined) compiledModule = compileModule(WEIGHTED_GRAM_WASM_BASE64);
+  return instantiate(compiledModule);
 }
 
 /** Makes the module's memory at least `bytes` long (views made before a growth are void). */
 export function reserve(kernel: SimdKernel, bytes: number): void {
-  if (kernel.memory.buffer.byteLength >= bytes) return;
-  kernel.memory.grow(Math.ceil((bytes - kernel.memory.buffer.byteLength) / 65536));
-  kernel.heap = new Float64Array(kernel.memory.buffer);
+  if (growTo(kernel.memory, bytes)) kernel.heap = new Float64Array(kernel.memory.buffer);
 }
 
 /** Adds the module's "gram" output (entry (j, l) at outAt + l·qp + j) into the upper triangle of rows j < rows. */
@@ -239,6 +227,11 @@ export interface RowBlock {
   staged: Float64Array;
   /** Which staged rows gatherRows copies into the plain rows, in order. */
   indices: Int32Array;
+  /** Memberships staged by stageMemberships, `components` a row (empty when the block was asked for none). */
+  stagedMemberships: Float64Array;
+  /** The responses staged with them. */
+  stagedResponses: Float64Array;
+  components: number;
   q: number;
   qp: number;
   capacity: number;
@@ -264,22 +257,23 @@ const CARRIED_SUMS_DOUBLES = 8 * 1024 * 1024;
 
 /**
  * A row block for up to `capacity` rows of q values and `vectorCount` per-row values, with room
- * to stage `capacity` rows of `stagedStride` values (the last one, while these stay the same,
- * the path is the same and the module's memory has not grown).
+ * to stage `capacity` rows of `stagedStride` values and, for holdRows, their memberships of
+ * `components` components and their responses (the last one, while these stay the same, the
+ * path is the same and the module's memory has not grown).
  * Every row block shares the same memory, as does the E-step's residual pass (eStep.ts): take
  * it afresh for every pass, and fill and sum it without another user of the module in between
  * (none of them nests). Row blocks from any q use the SIMD path where it runs: on 21 noisy
  * sheets of 2-10 predictors, fitted interleaved, M-steps on row blocks from 1, 4 and 8
  * columns took 0.90-0.94 of the time of row blocks from 16 columns only.
  */
-export function rowBlock(q: number, capacity: number, vectorCount = 1, stagedStride = 0, sums = 0): RowBlock {
+export function rowBlock(q: number, capacity: number, vectorCount = 1, stagedStride = 0, sums = 0, components = 0): RowBlock {
   const kernel = simdKernel();
   const qp = (q + 3) & ~3;
   // Carried sums only while they fit in CARRIED_SUMS_DOUBLES; past that (thousands of
   // predictors, dozens of components) each block's Gram is added into the caller's array.
   const carried = kernel && sums * qp * qp <= CARRIED_SUMS_DOUBLES ? sums : 0;
   const last = lastBlock;
-  if (last && last.q === q && last.capacity === capacity && last.vectorCount === vectorCount && last.stagedStride === stagedStride && last.sums >= carried && last.kernel === kernel && (!kernel || last.plain.buffer === kernel.memory.buffer)) return last;
+  if (last && last.q === q && last.capacity === capacity && last.vectorCount === vectorCount && last.stagedStride === stagedStride && last.components === components && last.sums >= carried && last.kernel === kernel && (!kernel || last.plain.buffer === kernel.memory.buffer)) return last;
   if (!kernel) {
     lastBlock = {
       plain: new Float64Array(capacity * qp),
@@ -287,6 +281,9 @@ export function rowBlock(q: number, capacity: number, vectorCount = 1, stagedStr
       vectors: new Float64Array(capacity * vectorCount),
       staged: new Float64Array(capacity * stagedStride),
       indices: new Int32Array(capacity),
+      stagedMemberships: new Float64Array(capacity * components),
+      stagedResponses: new Float64Array(components > 0 ? capacity : 0),
+      components,
       q, qp, capacity, vectorCount, stagedStride, kernel, outAt: 0, sums: 0, sumsAt: 0,
       columns: new Float64Array(capacity * q),
       weightedColumns: new Float64Array(capacity * q),
@@ -294,14 +291,17 @@ export function rowBlock(q: number, capacity: number, vectorCount = 1, stagedStr
     return lastBlock;
   }
   // Memory in doubles: the weighted and the plain rows (capacity·qp each), the vectors, the
-  // indices (capacity 32-bit integers), the staged rows, the output (qp² for the Gram, then qp
-  // for the dot products), the Gram sums carried across blocks (qp² each).
+  // indices (capacity 32-bit integers), the staged rows, their memberships and responses, the
+  // output (qp² for the Gram, then qp for the dot products, then one running sum of holdRows),
+  // the Gram sums carried across blocks (qp² each).
   const plainAt = capacity * qp;
   const vectorsAt = 2 * capacity * qp;
   const indicesAt = vectorsAt + capacity * vectorCount;
   const stagedAt = indicesAt + Math.ceil(capacity / 2);
-  const outAt = stagedAt + capacity * stagedStride;
-  const sumsAt = outAt + qp * qp + qp;
+  const membershipsAt = stagedAt + capacity * stagedStride;
+  const responsesAt = membershipsAt + capacity * components;
+  const outAt = responsesAt + (components > 0 ? capacity : 0);
+  const sumsAt = outAt + qp * qp + qp + 1;
   reserve(kernel, (sumsAt + carried * qp * qp) * 8);
   const buffer = kernel.memory.buffer;
   lastBlock = {
@@ -310,6 +310,9 @@ export function rowBlock(q: number, capacity: number, vectorCount = 1, stagedStr
     vectors: new Float64Array(buffer, vectorsAt * 8, capacity * vectorCount),
     indices: new Int32Array(buffer, indicesAt * 8, capacity),
     staged: new Float64Array(buffer, stagedAt * 8, capacity * stagedStride),
+    stagedMemberships: new Float64Array(buffer, membershipsAt * 8, capacity * components),
+    stagedResponses: new Float64Array(buffer, responsesAt * 8, components > 0 ? capacity : 0),
+    components,
     q, qp, capacity, vectorCount, stagedStride, kernel, outAt, sums: carried, sumsAt, columns: null, weightedColumns: null,
   };
   return lastBlock;
@@ -385,6 +388,47 @@ export function finishGramSum(block: RowBlock, sum: number, gram: Float64Array, 
 export function stageRows(block: RowBlock, source: Float64Array, from: number, to: number): void {
   const stride = block.stagedStride;
   block.staged.set(source.subarray(from * stride, to * stride));
+}
+
+/**
+ * Stages the memberships (block.components a row) and responses of rows [from, to) for
+ * holdRows, as stageRows stages their values.
+ */
+export function stageMemberships(block: RowBlock, memberships: Float64Array, y: Float64Array, from: number, to: number): void {
+  const k = block.components;
+  block.stagedMemberships.set(memberships.subarray(from * k, to * k));
+  block.stagedResponses.set(y.subarray(from, to));
+}
+
+/**
+ * The rows component c holds among the first m staged ones: those whose membership is not
+ * below `threshold`, in order, go to the block's indices (their staged row) and vectors (the
+ * response, then the membership), and w·y·y of each is added to squares[at], one running sum
+ * in row order (the same on either path). Returns how many rows it holds.
+ */
+export function holdRows(block: RowBlock, m: number, c: number, threshold: number, squares: Float64Array, at: number): number {
+  const { stagedMemberships, stagedResponses, indices, vectors, components: k, kernel } = block;
+  if (kernel) {
+    const slot = block.outAt + block.qp * block.qp + block.qp;
+    kernel.heap[slot] = squares[at];
+    const held = kernel.hold(stagedMemberships.byteOffset, k, c, stagedResponses.byteOffset, m, threshold, indices.byteOffset, vectors.byteOffset, slot * 8);
+    squares[at] = kernel.heap[slot];
+    return held;
+  }
+  let held = 0;
+  let sum = squares[at];
+  for (let i = 0; i < m; i++) {
+    const w = stagedMemberships[i * k + c];
+    if (w < threshold) continue;
+    const value = stagedResponses[i];
+    indices[held] = i;
+    vectors[2 * held] = value;
+    vectors[2 * held + 1] = w;
+    sum += w * value * value;
+    held++;
+  }
+  squares[at] = sum;
+  return held;
 }
 
 /**

@@ -4,7 +4,7 @@ import { backgroundLogTerm } from "./backgroundComponent";
 import { reserve, simdKernel } from "../weightedGram";
 import { HELPER_MINIMUM_MICROSECONDS, ROW_MULTIPLY_ADDS_PER_MICROSECOND, ROW_TERM_MULTIPLY_ADDS, allShared, helperShare, helperThread, shareWork, type HelperJob } from "../helperThread";
 
-import { gaussianLogDensity, componentLogConstant, membershipsFromLogTerms } from "../logDensities";
+import { gaussianLogDensity, componentLogConstant, membershipsFromLogTerms, residualMemberships } from "../logDensities";
 import { paddedCoefficients, rowResiduals } from "../rowResiduals";
 
 /**
@@ -39,42 +39,33 @@ function rowsJob(ws: MixtureWorkspace, params: MixtureParameters, withResiduals:
 
 /**
  * Runs the job, its later rows on the helper thread when one is installed, the arrays are
- * shared and the work is enough for two; every row's values are the same either way.
+ * shared and the work is enough for two; every row's values are the same either way. Returns
+ * the E-step's rows' values added in row order when one thread ran them all, null when the
+ * two shared them (the caller then adds rowLogLikelihood in row order: the same sum).
  */
-function byRows(job: RowsJob): void {
+function byRows(job: RowsJob): number | null {
   const { from, to, q, k } = job;
   const helper = helperThread();
   const arrays = job.terms ? [job.rowValues, job.y, job.residuals, job.terms.memberships, job.terms.rowLogLikelihood] : [job.rowValues, job.y, job.residuals];
   const work = (to - from) * k * ((job.withResiduals ? q : 0) + (job.terms ? ROW_TERM_MULTIPLY_ADDS : 0));
-  if (!helper || work / ROW_MULTIPLY_ADDS_PER_MICROSECOND < HELPER_MINIMUM_MICROSECONDS || !allShared(...arrays)) {
-    stepRows(job);
-    return;
-  }
+  if (!helper || work / ROW_MULTIPLY_ADDS_PER_MICROSECOND < HELPER_MINIMUM_MICROSECONDS || !allShared(...arrays)) return stepRows(job);
   const middle = from + Math.round((to - from) * (1 - helperShare(job.kind)));
   const theirs: RowsJob = { ...job, from: middle };
   shareWork(helper, theirs, middle - from, to - middle, () => stepRows({ ...job, to: middle }), () => stepRows(theirs));
+  return null;
 }
 
-/** The job's rows: residuals (on the SIMD module where it runs), then the E-step's terms when asked for. */
-export function stepRows(job: RowsJob): void {
+/**
+ * The job's rows: residuals (on the SIMD module where it runs), then the E-step's memberships
+ * when asked for; returns the rows' values added in row order (0 without the E-step).
+ */
+export function stepRows(job: RowsJob): number {
   const { from, to, q, k, rowValues, rowStride, implicitOnes, y, residuals, terms } = job;
-  // Without the SIMD module, fused with the E-step: one sweep of the design instead of two.
-  const padded = job.withResiduals && !residualsInModule(job) ? paddedCoefficients(job.coefficients, k, q) : null;
-  if (!terms) {
-    if (padded) for (let i = from; i < to; i++) rowResiduals(rowValues, i * rowStride - implicitOnes, implicitOnes, q, padded, k, y[i], residuals, i * k);
-    return;
+  if (job.withResiduals && !residualsInModule(job)) {
+    const padded = paddedCoefficients(job.coefficients, k, q);
+    for (let i = from; i < to; i++) rowResiduals(rowValues, i * rowStride - implicitOnes, implicitOnes, q, padded, k, y[i], residuals, i * k);
   }
-  const { constant, curvature, memberships, rowLogLikelihood } = terms;
-  const logTerm = new Float64Array(k);
-  for (let i = from; i < to; i++) {
-    const offset = i * k;
-    if (padded) rowResiduals(rowValues, i * rowStride - implicitOnes, implicitOnes, q, padded, k, y[i], residuals, offset);
-    for (let c = 0; c < k; c++) {
-      const r = residuals[offset + c];
-      logTerm[c] = constant[c] + curvature[c] * r * r;
-    }
-    rowLogLikelihood[i] = membershipsFromLogTerms(logTerm, 0, k, memberships, offset);
-  }
+  return terms ? residualMemberships(residuals, from, to, k, terms.constant, terms.curvature, terms.memberships, terms.rowLogLikelihood) : 0;
 }
 
 /**
@@ -115,8 +106,7 @@ function residualsInModule(job: RowsJob): boolean {
  * Gershenfeld 1997] − logsumexp over k, through the E-step kernel (logDensities.ts).
  *
  * @param withResiduals compute the residuals at the current coefficients first (on the SIMD
- *   module where it runs, else row by row in the same sweep) instead of reading those
- *   computeResiduals stored
+ *   module where it runs, else row by row) instead of reading those computeResiduals stored
  * @returns the log-likelihood Σ_i log Σ_k π_k φ_ik; the per-row terms go to ws.rowLogLikelihood
  */
 export function eStep(ws: MixtureWorkspace, params: MixtureParameters, withResiduals = false): number {
@@ -129,10 +119,11 @@ export function eStep(ws: MixtureWorkspace, params: MixtureParameters, withResid
     curvature[c] = -0.5 / params.variances[c];
   }
   if (ws.joint || ws.background) return eStepWithExtraTerms(ws, params, withResiduals, constant, curvature);
-  byRows(rowsJob(ws, params, withResiduals, { constant, curvature, memberships, rowLogLikelihood }));
-  let total = 0;
-  for (let i = 0; i < n; i++) total += rowLogLikelihood[i];
-  return total;
+  const total = byRows(rowsJob(ws, params, withResiduals, { constant, curvature, memberships, rowLogLikelihood }));
+  if (total !== null) return total;
+  let shared = 0;
+  for (let i = 0; i < n; i++) shared += rowLogLikelihood[i];
+  return shared;
 }
 
 /** eStep with the joint model's x densities or the background's term, on the calling thread. */

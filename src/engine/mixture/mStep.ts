@@ -2,7 +2,7 @@ import type { MixtureParameters } from "./mixtureParameters";
 import { workspaceRows, type MixtureWorkspace, type WorkspaceRows } from "./mixtureWorkspace";
 import { choleskyScratchLength, scaledCholeskyLower, scaledCholeskySolve } from "../cholesky";
 import { constrainedVariances } from "./constrainedVariances";
-import { addBlockDots, addBlockGram, finishGramSum, gatherRows, rowBlock, stageRows, startGramSums, weighBlock } from "../weightedGram";
+import { addBlockDots, addBlockGram, finishGramSum, gatherRows, holdRows, rowBlock, stageMemberships, stageRows, startGramSums, weighBlock } from "../weightedGram";
 import { GRAM_MULTIPLY_ADDS_PER_MICROSECOND, HELPER_MINIMUM_MICROSECONDS, allShared, helperShare, helperThread, shareWork, type HelperJob } from "../helperThread";
 
 /** What an M-step changed beyond the parameters themselves. */
@@ -113,9 +113,10 @@ export interface ComponentSumsJob extends HelperJob, WorkspaceRows {
 /**
  * The sums of the components listed, into their slots of the job's arrays (set afresh, so a
  * share a failed helper left half done is simply made again), a block of rows at a time: the
- * block's rows are staged once (in the SIMD module's memory where that runs), and each
- * component gathers the rows it holds from there with their response and membership beside
- * them; the kernel weighs and sums them.
+ * block's rows, memberships and responses are staged once (in the SIMD module's memory where
+ * that runs), each component picks the rows it holds from there (holdRows, which also adds
+ * their Σ τ y²) and gathers them with their response and membership beside them; the kernel
+ * weighs and sums them.
  */
 export function componentSums(job: ComponentSumsJob): void {
   const { n, q, k, y, memberships, grams, rightHandSides, weightedSquares, heldRows, blockRows, rowValues, rowStride, implicitOnes, components } = job;
@@ -125,24 +126,15 @@ export function componentSums(job: ComponentSumsJob): void {
     weightedSquares[c] = 0;
     heldRows[c] = 0;
   }
-  const block = rowBlock(q, blockRows, 2, rowStride, components.length);
-  const { vectors, indices } = block;
+  const block = rowBlock(q, blockRows, 2, rowStride, components.length, k);
   startGramSums(block);
   for (let start = 0; start < n; start += blockRows) {
     const end = Math.min(n, start + blockRows);
     stageRows(block, rowValues, start, end);
+    stageMemberships(block, memberships, y, start, end);
     for (let s = 0; s < components.length; s++) {
       const c = components[s];
-      let m = 0;
-      for (let i = start; i < end; i++) {
-        const w = memberships[i * k + c];
-        if (w < NEGLIGIBLE_MEMBERSHIP) continue;
-        indices[m] = i - start;
-        vectors[2 * m] = y[i];
-        vectors[2 * m + 1] = w;
-        weightedSquares[c] += w * y[i] * y[i];
-        m++;
-      }
+      const m = holdRows(block, end - start, c, NEGLIGIBLE_MEMBERSHIP, weightedSquares, c);
       heldRows[c] += m;
       gatherRows(block, m, implicitOnes);
       weighBlock(block, m, 1);

@@ -1,4 +1,5 @@
-;; The 128-bit SIMD path of the weighted-Gram kernel (weightedGram.ts), of the E-step's
+;; The 128-bit SIMD path of the weighted-Gram kernel (weightedGram.ts) with the M-step's
+;; choice of each component's rows (holdRows), of the E-step's
 ;; residuals (mixture/eStep.ts), of the hard-assignment predictions (rowPredictions in
 ;; weightedGram.ts) and of the Cholesky factorisation (cholesky.ts). Assembled by
 ;; scripts/buildWasm.mjs into weightedGramModule.ts; a test checks the two agree.
@@ -207,6 +208,34 @@
             (br $zeros)))
         (local.set $g (i32.add (local.get $g) (i32.const 1)))
         (br $rows))))
+
+;; The rows component c holds among m staged rows (holdRows in weightedGram.ts): w the
+  ;; membership at tau + (i·k + c)·8, y[i] the response. Each row with w not below $threshold
+  ;; (a NaN membership is not below it), in order, gets indices[g] = i (32-bit), vectors[2g] = y,
+  ;; vectors[2g + 1] = w, and w·y·y is added to the double at $squares, one running sum in row
+  ;; order. Returns g, the rows held.
+  (func (export "hold") (param $tau i32) (param $k i32) (param $c i32) (param $y i32) (param $m i32) (param $threshold f64) (param $indices i32) (param $vectors i32) (param $squares i32) (result i32)
+    (local $i i32) (local $g i32) (local $w f64) (local $value f64) (local $sum f64) (local $at i32) (local $stride i32)
+    (local.set $sum (f64.load (local.get $squares)))
+    (local.set $stride (i32.shl (local.get $k) (i32.const 3)))
+    (local.set $at (i32.add (local.get $tau) (i32.shl (local.get $c) (i32.const 3))))
+    (block $rowsDone
+      (loop $rows
+        (br_if $rowsDone (i32.ge_u (local.get $i) (local.get $m)))
+        (local.set $w (f64.load (local.get $at)))
+        (if (i32.eqz (f64.lt (local.get $w) (local.get $threshold)))
+          (then
+            (local.set $value (f64.load (i32.add (local.get $y) (i32.shl (local.get $i) (i32.const 3)))))
+            (i32.store (i32.add (local.get $indices) (i32.shl (local.get $g) (i32.const 2))) (local.get $i))
+            (f64.store (i32.add (local.get $vectors) (i32.shl (local.get $g) (i32.const 4))) (local.get $value))
+            (f64.store offset=8 (i32.add (local.get $vectors) (i32.shl (local.get $g) (i32.const 4))) (local.get $w))
+            (local.set $sum (f64.add (local.get $sum) (f64.mul (f64.mul (local.get $w) (local.get $value)) (local.get $value))))
+            (local.set $g (i32.add (local.get $g) (i32.const 1)))))
+        (local.set $at (i32.add (local.get $at) (local.get $stride)))
+        (local.set $i (i32.add (local.get $i) (i32.const 1)))
+        (br $rows)))
+    (f64.store (local.get $squares) (local.get $sum))
+    (local.get $g))
 
   ;; Residuals y − xᵀβ of m staged rows (stride doubles a row, after `ones` implicit 1s) under
   ;; k components, two components to a lane pair: out[g·k + c] for g < m, c < k. The
