@@ -140,12 +140,37 @@ export function residualMemberships(
   return total;
 }
 
+/**
+ * The M-step's component sizes: sums[c] = Σ_i memberships[i·k + c] over n rows (sums set
+ * afresh), added row by row in order on either path.
+ */
+export function membershipSums(memberships: Float64Array, n: number, k: number, sums: Float64Array): void {
+  sums.fill(0, 0, k);
+  const kernel = membershipKernel();
+  if (!kernel) {
+    for (let i = 0; i < n; i++) for (let c = 0; c < k; c++) sums[c] += memberships[i * k + c];
+    return;
+  }
+  const blockRows = kernelBlockRows(k);
+  const valuesAt = k;
+  reserveDoubles(kernel, valuesAt + blockRows * k);
+  const heap = kernel.heap;
+  heap.fill(0, 0, k);
+  for (let start = 0; start < n; start += blockRows) {
+    const rows = Math.min(n - start, blockRows);
+    heap.set(memberships.subarray(start * k, (start + rows) * k), valuesAt);
+    kernel.columnSums(valuesAt * 8, rows, k, 0);
+  }
+  sums.set(heap.subarray(0, k));
+}
+
 interface MembershipKernel {
   memory: WebAssembly.Memory;
   /** A view of the whole memory, made again whenever the memory grows. */
   heap: Float64Array;
   normalise: (terms: number, m: number, k: number, out: number, rows: number, total: number) => number;
   fromResiduals: (residuals: number, m: number, k: number, constant: number, curvature: number, terms: number, out: number, rows: number, total: number) => number;
+  columnSums: (values: number, m: number, k: number, sums: number) => void;
 }
 
 /** undefined until first asked for; null where this runtime cannot run the module. */
@@ -174,6 +199,7 @@ function membershipKernel(): MembershipKernel | null {
           heap: new Float64Array(memory.buffer),
           normalise: instance.exports.normalise as MembershipKernel["normalise"],
           fromResiduals: instance.exports.fromResiduals as MembershipKernel["fromResiduals"],
+          columnSums: instance.exports.columnSums as MembershipKernel["columnSums"],
         }
       : null;
   }

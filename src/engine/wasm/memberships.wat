@@ -1,6 +1,7 @@
 ;; The WebAssembly path of the E-step kernel (logDensities.ts): memberships and each row's
 ;; ln Σ_k exp(term_k) from log terms by log-sum-exp, in the same operations and order as
-;; membershipsFromLogTerms, so every value is the same to the bit. Assembled by
+;; membershipsFromLogTerms, so every value is the same to the bit; and the M-step's sizes
+;; Σ_i τ_ik (membershipSums), added in the JavaScript's order. Assembled by
 ;; scripts/buildWasm.mjs into membershipsModule.ts; a test checks the two agree.
 ;;
 ;; Compiled code of its own from the first call: the JavaScript loop runs interpreted until
@@ -230,4 +231,24 @@
         (local.set $rows (i32.add (local.get $rows) (i32.const 8)))
         (local.set $i (i32.add (local.get $i) (i32.const 1)))
         (br $next)))
-    (local.get $total)))
+    (local.get $total))
+
+  ;; Adds the k columns of m rows (row-major at $values) to the k running sums at $sums, one
+  ;; row after another.
+  (func (export "columnSums") (param $values i32) (param $m i32) (param $k i32) (param $sums i32)
+    (local $i i32) (local $c i32) (local $at i32)
+    (block $done
+      (loop $next
+        (br_if $done (i32.ge_u (local.get $i) (local.get $m)))
+        (local.set $c (i32.const 0))
+        (local.set $at (local.get $sums))
+        (block $rowDone
+          (loop $column
+            (br_if $rowDone (i32.ge_u (local.get $c) (local.get $k)))
+            (f64.store (local.get $at) (f64.add (f64.load (local.get $at)) (f64.load (local.get $values))))
+            (local.set $at (i32.add (local.get $at) (i32.const 8)))
+            (local.set $values (i32.add (local.get $values) (i32.const 8)))
+            (local.set $c (i32.add (local.get $c) (i32.const 1)))
+            (br $column)))
+        (local.set $i (i32.add (local.get $i) (i32.const 1)))
+        (br $next)))))
