@@ -1,5 +1,5 @@
 import { describe, expect, it } from "vitest";
-import { allowMembershipKernel, membershipKernelAvailable, membershipsFromLogTerms, normaliseLogDensities, residualMemberships } from "../src/engine/logDensities";
+import { allowMembershipKernel, membershipKernelAvailable, membershipSums, membershipsFromLogTerms, normaliseLogDensities, residualMemberships, squareMemberships, squaredResidualSums } from "../src/engine/logDensities";
 import { MEMBERSHIPS_WASM_BASE64 } from "../src/engine/wasm/membershipsModule";
 // @ts-expect-error: a plain ES module script without type declarations
 import { assembleModule } from "../scripts/buildWasm.mjs";
@@ -99,6 +99,33 @@ describe("the E-step kernel's WebAssembly path (logDensities.ts)", () => {
       expect(outputs[1]).toBe(outputs[0]);
       // Rows outside [from, to) untouched.
       expect(outputs[1].startsWith(bits(new Float64Array(17 * k).fill(-1)))).toBe(true);
+    }
+  });
+
+  it("makes the subspace EM's squared residuals, their weighted sums and memberships as the JavaScript path does", () => {
+    const random = createRandom(74);
+    for (const [k, m] of [[2, 2], [3, 6], [7, 14], [5, 1]]) {
+      const n = 9000;
+      const rows = Float64Array.from({ length: n * m }, () => random.next() - 0.5);
+      const y = Float64Array.from({ length: n }, () => 3 * (random.next() - 0.5));
+      const coefficients = Float64Array.from({ length: k * m }, () => 2 * random.next() - 1);
+      const tau = Float64Array.from({ length: n * k }, () => random.next());
+      const constant = Float64Array.from({ length: k }, () => -random.next());
+      const variances = Float64Array.from({ length: k }, () => 0.05 + random.next());
+      const outputs: string[] = [];
+      for (const allowed of [false, true]) {
+        allowMembershipKernel(allowed);
+        const squares = new Float64Array(n * k);
+        const rss = new Float64Array(k).fill(7);
+        squaredResidualSums(rows, n, m, y, coefficients, k, tau, squares, rss);
+        const memberships = new Float64Array(n * k);
+        const total = squareMemberships(squares, n, k, constant, variances, memberships);
+        const sizes = new Float64Array(k);
+        membershipSums(memberships, n, k, sizes);
+        outputs.push([squares, rss, memberships, Float64Array.of(total), sizes].map(bits).join(" "));
+      }
+      allowMembershipKernel(true);
+      expect(outputs[1]).toBe(outputs[0]);
     }
   });
 

@@ -1,5 +1,6 @@
 import { MEMBERSHIPS_WASM_BASE64 } from "./wasm/membershipsModule";
 import { compileModule, growTo, instantiate } from "./wasm/compileModule";
+import { paddedCoefficients, rowResiduals } from "./rowResiduals";
 
 /**
  * The one E-step kernel (Dempster, Laird & Rubin 1977), shared by the fit's own E-step
@@ -164,6 +165,83 @@ export function membershipSums(memberships: Float64Array, n: number, k: number, 
   sums.set(heap.subarray(0, k));
 }
 
+/**
+ * The subspace EM's E-step (warmStart/subspaceMixtureFit.ts): tau[i·k + c] from each row's
+ * squared residuals, with the terms constant_c − (0.5 · squares[i·k + c]) / variances_c, then
+ * as membershipsFromLogTerms makes them; returns the rows' values added in row order from 0.
+ */
+export function squareMemberships(squares: Float64Array, n: number, k: number, constant: Float64Array, variances: Float64Array, tau: Float64Array): number {
+  const kernel = membershipKernel();
+  if (!kernel) {
+    for (let i = 0; i < n; i++) {
+      const at = i * k;
+      for (let c = 0; c < k; c++) tau[at + c] = constant[c] - (0.5 * squares[at + c]) / variances[c];
+    }
+    return normaliseLogDensities(tau, n, k);
+  }
+  const blockRows = kernelBlockRows(k);
+  const squaresAt = 3 * k;
+  const outAt = squaresAt + blockRows * k;
+  reserveDoubles(kernel, outAt + blockRows * k);
+  const heap = kernel.heap;
+  heap.set(constant.subarray(0, k), 0);
+  heap.set(variances.subarray(0, k), k);
+  let total = 0;
+  for (let start = 0; start < n; start += blockRows) {
+    const rows = Math.min(n - start, blockRows);
+    heap.set(squares.subarray(start * k, (start + rows) * k), squaresAt);
+    total = kernel.fromSquares(squaresAt * 8, rows, k, 0, k * 8, 2 * k * 8, outAt * 8, total);
+    tau.set(heap.subarray(outAt, outAt + rows * k), start * k);
+  }
+  return total;
+}
+
+/**
+ * Squared residuals of n rows of m values (row-major `rows`, no implicit 1s) under k components
+ * (m coefficients each, one after another in `coefficients`), each residual as rowResiduals
+ * sums it, into squares (n x k); rss[c] is set to Σ_i tau[i·k + c] · square, added in row
+ * order. The subspace EM's residual pass.
+ */
+export function squaredResidualSums(rows: Float64Array, n: number, m: number, y: Float64Array, coefficients: Float64Array, k: number, tau: Float64Array, squares: Float64Array, rss: Float64Array): void {
+  rss.fill(0, 0, k);
+  const kernel = membershipKernel();
+  if (!kernel) {
+    const padded = paddedCoefficients(coefficients, k, m);
+    for (let i = 0; i < n; i++) {
+      const at = i * k;
+      rowResiduals(rows, i * m, 0, m, padded, k, y[i], squares, at);
+      for (let c = 0; c < k; c++) {
+        const r = squares[at + c];
+        const square = r * r;
+        squares[at + c] = square;
+        rss[c] += tau[at + c] * square;
+      }
+    }
+    return;
+  }
+  // The module's memory in doubles: coefficients, the running sums, then a block's responses,
+  // rows, memberships and squares.
+  const blockRows = Math.max(1, Math.floor(8192 / Math.max(m + 2 * k + 1, 1)));
+  const rssAt = k * m;
+  const yAt = rssAt + k;
+  const rowsAt = yAt + blockRows;
+  const tauAt = rowsAt + blockRows * m;
+  const squaresAt = tauAt + blockRows * k;
+  reserveDoubles(kernel, squaresAt + blockRows * k);
+  const heap = kernel.heap;
+  heap.set(coefficients.subarray(0, k * m), 0);
+  heap.fill(0, rssAt, rssAt + k);
+  for (let start = 0; start < n; start += blockRows) {
+    const count = Math.min(n - start, blockRows);
+    heap.set(y.subarray(start, start + count), yAt);
+    heap.set(rows.subarray(start * m, (start + count) * m), rowsAt);
+    heap.set(tau.subarray(start * k, (start + count) * k), tauAt);
+    kernel.squaredResiduals(rowsAt * 8, count, m, yAt * 8, 0, k, tauAt * 8, squaresAt * 8, rssAt * 8);
+    squares.set(heap.subarray(squaresAt, squaresAt + count * k), start * k);
+  }
+  rss.set(heap.subarray(rssAt, rssAt + k));
+}
+
 interface MembershipKernel {
   memory: WebAssembly.Memory;
   /** A view of the whole memory, made again whenever the memory grows. */
@@ -171,6 +249,8 @@ interface MembershipKernel {
   normalise: (terms: number, m: number, k: number, out: number, rows: number, total: number) => number;
   fromResiduals: (residuals: number, m: number, k: number, constant: number, curvature: number, terms: number, out: number, rows: number, total: number) => number;
   columnSums: (values: number, m: number, k: number, sums: number) => void;
+  fromSquares: (squares: number, m: number, k: number, constant: number, variance: number, terms: number, out: number, total: number) => number;
+  squaredResiduals: (rows: number, m: number, q: number, y: number, coefficients: number, k: number, tau: number, squares: number, rss: number) => void;
 }
 
 /** undefined until first asked for; null where this runtime cannot run the module. */
@@ -200,6 +280,8 @@ function membershipKernel(): MembershipKernel | null {
           normalise: instance.exports.normalise as MembershipKernel["normalise"],
           fromResiduals: instance.exports.fromResiduals as MembershipKernel["fromResiduals"],
           columnSums: instance.exports.columnSums as MembershipKernel["columnSums"],
+          fromSquares: instance.exports.fromSquares as MembershipKernel["fromSquares"],
+          squaredResiduals: instance.exports.squaredResiduals as MembershipKernel["squaredResiduals"],
         }
       : null;
   }

@@ -1,8 +1,8 @@
 import type { Random } from "../random";
 import { choleskyScratchLength, scaledCholeskySolve } from "../cholesky";
-import { componentLogConstant, normaliseLogDensities } from "../logDensities";
+import { componentLogConstant, squareMemberships, squaredResidualSums } from "../logDensities";
 import { addBlockDots, addBlockGram, rowBlock, weighBlock } from "../weightedGram";
-import { paddedLength, rowResiduals } from "../rowResiduals";
+import { paddedLength } from "../rowResiduals";
 
 /**
  * EM for a mixture of K regressions restricted to a K-dimensional subspace: the rows are the
@@ -140,23 +140,13 @@ function solveComponents(state: SubspaceState): void {
 
 /**
  * Each row's squared residual under each component and each component's Σ τ r², row by row
- * through the engine's residual kernel (rowResiduals.ts: four components at a time, each value
- * of the row loaded once for the four).
+ * through the E-step kernel's residual pass (squaredResidualSums: each residual summed in the
+ * residual kernel's order, rowResiduals.ts).
  */
 function squaredResiduals(state: SubspaceState): void {
   const { y, z, n, m, k, tau, coefficients, squares, rss, grouped } = state;
   for (let j = 0; j < k; j++) grouped.set(coefficients[j], j * m);
-  rss.fill(0);
-  for (let i = 0; i < n; i++) {
-    const at = i * k;
-    rowResiduals(z, i * m, 0, m, grouped, k, y[i], squares, at);
-    for (let j = 0; j < k; j++) {
-      const r = squares[at + j];
-      const square = r * r;
-      squares[at + j] = square;
-      rss[j] += tau[at + j] * square;
-    }
-  }
+  squaredResidualSums(z, n, m, y, grouped, k, tau, squares, rss);
 }
 
 /** The variance of each component just solved, at least the floor. */
@@ -169,11 +159,7 @@ function updateVariances(state: SubspaceState): void {
 function updateMemberships(state: SubspaceState): number {
   const { n, k, tau, variances, weights, squares, logDensity } = state;
   for (let j = 0; j < k; j++) logDensity[j] = componentLogConstant(weights[j], variances[j]);
-  for (let i = 0; i < n; i++) {
-    const at = i * k;
-    for (let j = 0; j < k; j++) tau[at + j] = logDensity[j] - (0.5 * squares[at + j]) / variances[j];
-  }
-  return normaliseLogDensities(tau, n, k);
+  return squareMemberships(squares, n, k, logDensity, variances, tau);
 }
 
 /** A random hard partition as starting memberships (n x k). */

@@ -251,4 +251,73 @@
             (local.set $c (i32.add (local.get $c) (i32.const 1)))
             (br $column)))
         (local.set $i (i32.add (local.get $i) (i32.const 1)))
+        (br $next))))
+
+  ;; The subspace EM's E-step (warmStart/subspaceMixtureFit.ts) from squared residuals s
+  ;; (row-major at $squares): the terms constant_c − (0.5 · s) / variance_c, then the row as
+  ;; in normalise, the memberships to $out and the total returned.
+  (func (export "fromSquares") (param $squares i32) (param $m i32) (param $k i32) (param $constant i32) (param $variance i32) (param $terms i32) (param $out i32) (param $total f64) (result f64)
+    (local $i i32) (local $c i32) (local $rowBytes i32) (local $at i32)
+    (local.set $rowBytes (i32.shl (local.get $k) (i32.const 3)))
+    (block $done
+      (loop $next
+        (br_if $done (i32.ge_u (local.get $i) (local.get $m)))
+        (local.set $c (i32.const 0))
+        (block $termsDone
+          (loop $term
+            (br_if $termsDone (i32.ge_u (local.get $c) (local.get $k)))
+            (local.set $at (i32.shl (local.get $c) (i32.const 3)))
+            (f64.store (i32.add (local.get $terms) (local.get $at))
+              (f64.sub (f64.load (i32.add (local.get $constant) (local.get $at)))
+                (f64.div (f64.mul (f64.const 0.5) (f64.load (i32.add (local.get $squares) (local.get $at))))
+                  (f64.load (i32.add (local.get $variance) (local.get $at))))))
+            (local.set $c (i32.add (local.get $c) (i32.const 1)))
+            (br $term)))
+        (local.set $total (f64.add (local.get $total) (call $row (local.get $terms) (local.get $k) (local.get $out))))
+        (local.set $squares (i32.add (local.get $squares) (local.get $rowBytes)))
+        (local.set $out (i32.add (local.get $out) (local.get $rowBytes)))
+        (local.set $i (i32.add (local.get $i) (i32.const 1)))
+        (br $next)))
+    (local.get $total))
+
+  ;; Squared residuals of m rows of q values (row-major at $rows, responses at $y) under k
+  ;; components (q coefficients each, one after another at $coefficients): each sum x·β from
+  ;; 0 in column order, multiply then add, subtracted from y (rowResiduals' order), squared
+  ;; into $squares (m x k), and τ · r² added to the k running sums at $rss, row by row (τ at
+  ;; $tau, m x k).
+  (func (export "squaredResiduals") (param $rows i32) (param $m i32) (param $q i32) (param $y i32) (param $coefficients i32) (param $k i32) (param $tau i32) (param $squares i32) (param $rss i32)
+    (local $i i32) (local $c i32) (local $j i32) (local $s f64) (local $r f64) (local $beta i32) (local $x i32) (local $at i32)
+    (block $done
+      (loop $next
+        (br_if $done (i32.ge_u (local.get $i) (local.get $m)))
+        (local.set $c (i32.const 0))
+        (local.set $beta (local.get $coefficients))
+        (block $componentsDone
+          (loop $component
+            (br_if $componentsDone (i32.ge_u (local.get $c) (local.get $k)))
+            (local.set $s (f64.const 0))
+            (local.set $x (local.get $rows))
+            (local.set $j (i32.const 0))
+            (block $sumDone
+              (loop $sum
+                (br_if $sumDone (i32.ge_u (local.get $j) (local.get $q)))
+                (local.set $s (f64.add (local.get $s) (f64.mul (f64.load (local.get $x)) (f64.load (local.get $beta)))))
+                (local.set $x (i32.add (local.get $x) (i32.const 8)))
+                (local.set $beta (i32.add (local.get $beta) (i32.const 8)))
+                (local.set $j (i32.add (local.get $j) (i32.const 1)))
+                (br $sum)))
+            (local.set $r (f64.sub (f64.load (local.get $y)) (local.get $s)))
+            (local.set $r (f64.mul (local.get $r) (local.get $r)))
+            (local.set $at (i32.shl (local.get $c) (i32.const 3)))
+            (f64.store (i32.add (local.get $squares) (local.get $at)) (local.get $r))
+            (f64.store (i32.add (local.get $rss) (local.get $at))
+              (f64.add (f64.load (i32.add (local.get $rss) (local.get $at)))
+                (f64.mul (f64.load (i32.add (local.get $tau) (local.get $at))) (local.get $r))))
+            (local.set $c (i32.add (local.get $c) (i32.const 1)))
+            (br $component)))
+        (local.set $rows (i32.add (local.get $rows) (i32.shl (local.get $q) (i32.const 3))))
+        (local.set $y (i32.add (local.get $y) (i32.const 8)))
+        (local.set $tau (i32.add (local.get $tau) (i32.shl (local.get $k) (i32.const 3))))
+        (local.set $squares (i32.add (local.get $squares) (i32.shl (local.get $k) (i32.const 3))))
+        (local.set $i (i32.add (local.get $i) (i32.const 1)))
         (br $next)))))
