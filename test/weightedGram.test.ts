@@ -1,5 +1,5 @@
 import { describe, expect, it } from "vitest";
-import { accumulateGramBlock, addBlockDots, addBlockGram, allowSimdKernel, blockRowsFor, dot, finishGramSum, rowBlock, rowPredictions, simdKernelAvailable, startGramSums, weighBlock, stageRows, gatherRows, type RowBlock } from "../src/engine/weightedGram";
+import { accumulateGramBlock, addBlockDots, addBlockGram, allowSimdKernel, blockRowsFor, cutMemberships, dot, finishGramSum, holdRows, rowBlock, rowPredictions, simdKernelAvailable, stageMemberships, startGramSums, weighBlock, stageRows, gatherRows, type RowBlock } from "../src/engine/weightedGram";
 import { WEIGHTED_GRAM_WASM_BASE64 } from "../src/engine/wasm/weightedGramModule";
 import { fitMixture } from "../src/engine/fitMixture";
 import { noiselessProblem, noisyProblem } from "../src/synthetic/generateProblems";
@@ -249,6 +249,38 @@ describe("the weighted-Gram kernel's SIMD path", () => {
     }
     allowSimdKernel(true);
     expect(prints[1]).toBe(prints[0]);
+  });
+
+  it("picks and weighs each component's rows from staged memberships the same way on both paths (holdRows, cutMemberships), NaN memberships kept", () => {
+    const random = createRandom(17);
+    const k = 3;
+    const m = 500;
+    const memberships = Float64Array.from({ length: m * k }, () => {
+      const u = random.next();
+      return u < 0.3 ? 1e-13 * random.next() : u < 0.32 ? Number.NaN : u < 0.35 ? 1e-12 : random.next();
+    });
+    const y = Float64Array.from({ length: m }, () => random.next() - 0.5);
+    const outputs: string[] = [];
+    for (const allowed of [false, true]) {
+      allowSimdKernel(allowed);
+      const block = rowBlock(2, m, 2, 0, 0, k);
+      stageMemberships(block, memberships, y, 0, m);
+      const parts: unknown[] = [];
+      for (let c = 0; c < k; c++) {
+        const squares = Float64Array.of(0.25, 0.5);
+        const held = holdRows(block, m, c, 1e-12, squares, 1);
+        parts.push(held, Array.from(block.indices.subarray(0, held)), Array.from(block.vectors.subarray(0, 2 * held)).map(String), String(squares[1]));
+        const mass = cutMemberships(block, m, c, 1e-6, 1);
+        parts.push(String(mass), Array.from({ length: m }, (_, i) => String(block.vectors[2 * i + 1])));
+      }
+      outputs.push(JSON.stringify(parts));
+    }
+    allowSimdKernel(true);
+    expect(outputs[1]).toBe(outputs[0]);
+    // Rows held: memberships not below 1e-12 (NaN included), e.g. component 0's count by hand.
+    let expected = 0;
+    for (let i = 0; i < m; i++) if (!(memberships[i * k] < 1e-12)) expected++;
+    expect(JSON.parse(outputs[0])[0]).toBe(expected);
   });
 
   it("is the assembly of weightedGram.wat (run `npm run build:wasm` after editing it)", async () => {

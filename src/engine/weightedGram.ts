@@ -129,6 +129,7 @@ export interface SimdKernel {
   predictions: (rows: number, q: number, coefficients: number, m: number, pairs: number, out: number) => void;
   cholesky: (gram: number, scales: number, q: number, ridge: number, tolerance: number, factor: number) => number;
   hold: (tau: number, k: number, c: number, y: number, m: number, threshold: number, indices: number, vectors: number, squares: number) => number;
+  cut: (tau: number, k: number, c: number, m: number, cutoff: number, vectors: number, stride: number) => number;
 }
 
 /** undefined until first asked for; null when this runtime cannot run the module. */
@@ -184,6 +185,7 @@ function newKernel(): SimdKernel | null {
     predictions: exports.predictions,
     cholesky: exports.cholesky,
     hold: exports.hold,
+    cut: exports.cut,
   };
 }
 
@@ -429,6 +431,24 @@ export function holdRows(block: RowBlock, m: number, c: number, threshold: numbe
   }
   squares[at] = sum;
   return held;
+}
+
+/**
+ * Per-row value number `vector` of the block's first m rows: staged row i's membership of
+ * component c, or 0 where it is below `cutoff`; returns their sum, added in row order (the
+ * same on either path).
+ */
+export function cutMemberships(block: RowBlock, m: number, c: number, cutoff: number, vector: number): number {
+  const { stagedMemberships, vectors, vectorCount, components: k, kernel } = block;
+  if (kernel) return kernel.cut(stagedMemberships.byteOffset, k, c, m, cutoff, vectors.byteOffset + vector * 8, vectorCount * 8);
+  let mass = 0;
+  for (let i = 0; i < m; i++) {
+    const t = stagedMemberships[i * k + c];
+    const kept = t < cutoff ? 0 : t;
+    vectors[i * vectorCount + vector] = kept;
+    mass += kept;
+  }
+  return mass;
 }
 
 /**

@@ -1,7 +1,7 @@
 import type { Random } from "../random";
 import { choleskyScratchLength, scaledCholeskySolve } from "../cholesky";
 import { componentLogConstant, squareMemberships, squaredResidualSums } from "../logDensities";
-import { addBlockDots, addBlockGram, rowBlock, weighBlock } from "../weightedGram";
+import { addBlockDots, addBlockGram, cutMemberships, rowBlock, stageMemberships, weighBlock, type RowBlock } from "../weightedGram";
 import { paddedLength } from "../rowResiduals";
 
 /**
@@ -72,6 +72,8 @@ interface SubspaceState {
   /** The coefficients one component after another, padded for rowResiduals. */
   grouped: Float64Array;
   logDensity: Float64Array;
+  /** The row block holding the rows and responses (filled once a fit), or null before the first M-step. */
+  filled: RowBlock | null;
 }
 
 function createState(z: Float64Array, y: Float64Array, n: number, m: number, k: number, start: Float64Array): SubspaceState {
@@ -99,6 +101,7 @@ function createState(z: Float64Array, y: Float64Array, n: number, m: number, k: 
     rss: new Float64Array(k),
     grouped: new Float64Array(paddedLength(k, m)),
     logDensity: new Float64Array(k),
+    filled: null,
   };
 }
 
@@ -110,23 +113,23 @@ function solveComponents(state: SubspaceState): void {
   const { z, y, n, m, k, tau, coefficients, weights, masses, solved, gram, right, scratch } = state;
   // All n rows go into one row block (a few thousand at most: the warm start's subsample), so
   // each sum runs over the rows in order; per row its response, then the component's membership.
-  const block = rowBlock(m, n, 2);
-  const { plain, vectors, qp } = block;
-  for (let i = 0; i < n; i++) {
-    for (let a = 0; a < m; a++) plain[i * qp + a] = z[i * m + a];
-    for (let a = m; a < qp; a++) plain[i * qp + a] = 0;
-    vectors[2 * i] = y[i];
+  const block = rowBlock(m, n, 2, 0, 0, k);
+  // The rows and responses go in once a fit: nothing else takes a row block between its
+  // iterations (the solves and the E-step use modules of their own), so they stay.
+  if (state.filled !== block) {
+    const { plain, vectors, qp } = block;
+    for (let i = 0; i < n; i++) {
+      for (let a = 0; a < m; a++) plain[i * qp + a] = z[i * m + a];
+      for (let a = m; a < qp; a++) plain[i * qp + a] = 0;
+      vectors[2 * i] = y[i];
+    }
+    state.filled = block;
   }
+  stageMemberships(block, tau, y, 0, n);
   for (let j = 0; j < k; j++) {
     // Negligible memberships are left out (they change nothing visible). In the subspace the
     // missed part of each component acts as noise, so memberships stay soft and few are skipped.
-    let mass = 0;
-    for (let i = 0; i < n; i++) {
-      const t = tau[i * k + j];
-      const kept = t < MEMBERSHIP_CUTOFF ? 0 : t;
-      vectors[2 * i + 1] = kept;
-      mass += kept;
-    }
+    const mass = cutMemberships(block, n, j, MEMBERSHIP_CUTOFF, 1);
     masses[j] = mass;
     weighBlock(block, n, 1);
     gram.fill(0);

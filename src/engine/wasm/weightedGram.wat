@@ -1,5 +1,6 @@
 ;; The 128-bit SIMD path of the weighted-Gram kernel (weightedGram.ts) with the M-step's
-;; choice of each component's rows (holdRows), of the E-step's
+;; choice of each component's rows (holdRows) and the subspace EM's weights (cutMemberships),
+;; of the E-step's
 ;; residuals (mixture/eStep.ts), of the hard-assignment predictions (rowPredictions in
 ;; weightedGram.ts) and of the Cholesky factorisation (cholesky.ts). Assembled by
 ;; scripts/buildWasm.mjs into weightedGramModule.ts; a test checks the two agree.
@@ -236,6 +237,26 @@
         (br $rows)))
     (f64.store (local.get $squares) (local.get $sum))
     (local.get $g))
+
+;; Per-row weights of component c from staged memberships (cutMemberships in
+  ;; weightedGram.ts): for i < m, τ = tau[(i·k + c)·8], 0 where τ is below $cutoff (a NaN is
+  ;; not below it), stored at vectors + i·stride; returns their sum from 0 in row order.
+  (func (export "cut") (param $tau i32) (param $k i32) (param $c i32) (param $m i32) (param $cutoff f64) (param $vectors i32) (param $stride i32) (result f64)
+    (local $i i32) (local $t f64) (local $mass f64) (local $at i32) (local $rowBytes i32)
+    (local.set $rowBytes (i32.shl (local.get $k) (i32.const 3)))
+    (local.set $at (i32.add (local.get $tau) (i32.shl (local.get $c) (i32.const 3))))
+    (block $rowsDone
+      (loop $rows
+        (br_if $rowsDone (i32.ge_u (local.get $i) (local.get $m)))
+        (local.set $t (f64.load (local.get $at)))
+        (if (f64.lt (local.get $t) (local.get $cutoff)) (then (local.set $t (f64.const 0))))
+        (f64.store (local.get $vectors) (local.get $t))
+        (local.set $mass (f64.add (local.get $mass) (local.get $t)))
+        (local.set $at (i32.add (local.get $at) (local.get $rowBytes)))
+        (local.set $vectors (i32.add (local.get $vectors) (local.get $stride)))
+        (local.set $i (i32.add (local.get $i) (i32.const 1)))
+        (br $rows)))
+    (local.get $mass))
 
   ;; Residuals y − xᵀβ of m staged rows (stride doubles a row, after `ones` implicit 1s) under
   ;; k components, two components to a lane pair: out[g·k + c] for g < m, c < k. The
