@@ -1,6 +1,6 @@
 import type { MixtureFit, RegressionData } from "./mixtureTypes";
 import { predictorLogDensity, predictorModels } from "./computeMemberships";
-import { componentLogConstant, membershipsFromLogTerms } from "./logDensities";
+import { componentLogConstant, normaliseLogDensities } from "./logDensities";
 import { addBlockDots, addBlockGram, blockRowsFor, gatherRows, rowBlock, stageRows, weighBlock, type RowBlock } from "./weightedGram";
 import { NEGLIGIBLE_MEMBERSHIP } from "./mixture/mStep";
 import { paddedCoefficients, rowResiduals } from "./rowResiduals";
@@ -128,7 +128,7 @@ function informationState(data: RegressionData, fit: MixtureFit) {
   // One more log term for the background, when the fit has one.
   const terms = background ? k + 1 : k;
   const logTerm = new Float64Array(terms);
-  const posterior = new Float64Array(terms);
+  const posterior = new Float64Array(terms * blockRowsFor(q));
   if (background) logTerm[k] = Math.log(background.weight) + background.logDensity;
   const varianceOffset = k * q;
   const logitOffset = varianceOffset + k;
@@ -188,15 +188,17 @@ type InformationState = ReturnType<typeof informationState>;
 
 /** One block's rows: residuals, memberships, per-row weights and scalar sums; the rows each component holds. */
 function addBlockRows(st: InformationState, start: number, m: number): void {
-  const { x, y, p, q, k, ones, background, posterior, padded, shares, residuals, outside, heldCount } = st;
+  const { x, y, p, q, k, ones, background, terms, posterior, padded, shares, residuals, outside, heldCount } = st;
   let totalShare = 0;
   let squareShare = 0;
   for (let r = 0; r < m; r++) rowResiduals(x, (start + r) * p - ones, ones, q, padded, k, y[start + r], residuals, r * k);
+  // Every row's log terms, then their memberships through the E-step kernel in one call.
+  for (let r = 0; r < m; r++) rowLogTerms(st, start, r);
+  normaliseLogDensities(posterior, m, terms);
   heldCount.fill(0);
   for (let r = 0; r < m; r++) {
-    rowPosterior(st, start, r);
     let total = 0;
-    for (let c = 0; c < k; c++) total += posterior[c];
+    for (let c = 0; c < k; c++) total += posterior[r * terms + c];
     // Without a background the memberships sum to 1: the share outside is exactly 0.
     const rowOutside = background ? 1 - total : 0;
     outside[r] = rowOutside;
@@ -208,16 +210,17 @@ function addBlockRows(st: InformationState, start: number, m: number): void {
   shares[1] += squareShare;
 }
 
-/** Row r of the block's memberships (the background's last, when the fit has one) into st.posterior. */
-function rowPosterior(st: InformationState, start: number, r: number): void {
+/** Row r of the block's log terms (the background's last, when the fit has one) into its slots of st.posterior. */
+function rowLogTerms(st: InformationState, start: number, r: number): void {
   const { x, p, k, models, predictorScratch, terms, logTerm, posterior, variances, constant, residuals } = st;
+  const at = r * terms;
   for (let c = 0; c < k; c++) {
     const rc = residuals[r * k + c];
     let value = constant[c] - (0.5 * rc * rc) / variances[c];
     if (models) value += predictorLogDensity(models[c], x, (start + r) * p, p, predictorScratch);
-    logTerm[c] = value;
+    posterior[at + c] = value;
   }
-  membershipsFromLogTerms(logTerm, 0, terms, posterior, 0);
+  for (let c = k; c < terms; c++) posterior[at + c] = logTerm[c];
 }
 
 /**
@@ -226,11 +229,11 @@ function rowPosterior(st: InformationState, start: number, r: number): void {
  * component's held rows.
  */
 function addRowTerms(st: InformationState, r: number, rowOutside: number): void {
-  const { k, posterior, weights, inverseVariances, residuals, blockRows, tau, u, g, gramWeight, varianceWeight, logitWeight, held, heldCount, active } = st;
+  const { k, terms, posterior, weights, inverseVariances, residuals, blockRows, tau, u, g, gramWeight, varianceWeight, logitWeight, held, heldCount, active } = st;
   const { tauSum, outsideTau, gSum, gOutside, curvatureSum, tauTau, gTau, gg } = st;
   let activeCount = 0;
   for (let c = 0; c < k; c++) {
-    const t = posterior[c];
+    const t = posterior[r * terms + c];
     const at = c * blockRows + r;
     tau[at] = t;
     if (t < NEGLIGIBLE_MEMBERSHIP) continue;
