@@ -1,7 +1,7 @@
 // Assembles the engine's WebAssembly modules from their text format in src/engine/wasm/ into
 // TypeScript files of their bytes as base64 (so the engine needs no loader or file access):
-// `npm run build:wasm`. weightedGram.wat → weightedGramModule.ts, memberships.wat →
-// membershipsModule.ts.
+// `npm run build:wasm`. weightedGram.wat → weightedGramModule.ts, rowKernels.wat →
+// rowKernelsModule.ts.
 import { readFileSync, writeFileSync } from "node:fs";
 import { fileURLToPath } from "node:url";
 import wabtInit from "wabt";
@@ -11,7 +11,7 @@ const directory = fileURLToPath(new URL("../src/engine/wasm/", import.meta.url))
 /** The modules: text file, generated file and the name of the constant it exports. */
 const MODULES = [
   { source: "weightedGram.wat", target: "weightedGramModule.ts", constant: "WEIGHTED_GRAM_WASM_BASE64" },
-  { source: "memberships.wat", target: "membershipsModule.ts", constant: "MEMBERSHIPS_WASM_BASE64" },
+  { source: "rowKernels.wat", target: "rowKernelsModule.ts", constant: "ROW_KERNELS_WASM_BASE64" },
 ];
 
 /** A module's bytes assembled from its text format (also used by the tests that check the two agree). */

@@ -1,5 +1,4 @@
-import { MEMBERSHIPS_WASM_BASE64 } from "./wasm/membershipsModule";
-import { compileModule, growTo, instantiate } from "./wasm/compileModule";
+import { kernelBlockRows, reserveDoubles, rowKernels } from "./rowKernels";
 import { paddedCoefficients, rowResiduals } from "./rowResiduals";
 
 /**
@@ -12,12 +11,10 @@ import { paddedCoefficients, rowResiduals } from "./rowResiduals";
  *  - memberships from a row's log terms ln π_k + ln f_ik by log-sum-exp: subtracting the row's
  *    largest term before exponentiating keeps every term in range however small the variances.
  *
- * Many rows at a time (normaliseLogDensities, residualMemberships) run on a small WebAssembly
- * module (wasm/memberships.wat) where the runtime has WebAssembly: the same operations in the
- * same order, with fdlibm's exp and log, which are what Math.exp and Math.log compute in V8,
- * so every value is the same to the bit as membershipsFromLogTerms's. It is compiled code from
- * the first call, where the JavaScript loop runs interpreted until the optimising compiler has
- * reached it: most of a small fit's E-steps in a fresh process.
+ * Many rows at a time (normaliseLogDensities, residualMemberships, squareMemberships) run on
+ * the row kernels' WebAssembly module (rowKernels.ts) where the runtime has WebAssembly: the
+ * same operations in the same order, with fdlibm's exp and log, which are what Math.exp and
+ * Math.log compute in V8, so every value is the same to the bit as membershipsFromLogTerms's.
  */
 
 const LOG_TWO_PI = Math.log(2 * Math.PI);
@@ -72,7 +69,7 @@ export function membershipsFromLogTerms(terms: Float64Array, termOffset: number,
  * returns Σ_i ln Σ_k π_k f_ik; each row's value goes to rowLogLikelihood when given.
  */
 export function normaliseLogDensities(logDensities: Float64Array, m: number, k: number, rowLogLikelihood?: Float64Array): number {
-  const kernel = membershipKernel();
+  const kernel = rowKernels();
   if (!kernel) {
     let total = 0;
     for (let i = 0; i < m; i++) {
@@ -106,7 +103,7 @@ export function residualMemberships(
   residuals: Float64Array, from: number, to: number, k: number, constant: Float64Array, curvature: Float64Array,
   memberships: Float64Array, rowLogLikelihood: Float64Array,
 ): number {
-  const kernel = membershipKernel();
+  const kernel = rowKernels();
   let total = 0;
   if (!kernel) {
     const logTerm = new Float64Array(k);
@@ -147,7 +144,7 @@ export function residualMemberships(
  */
 export function membershipSums(memberships: Float64Array, n: number, k: number, sums: Float64Array): void {
   sums.fill(0, 0, k);
-  const kernel = membershipKernel();
+  const kernel = rowKernels();
   if (!kernel) {
     for (let i = 0; i < n; i++) for (let c = 0; c < k; c++) sums[c] += memberships[i * k + c];
     return;
@@ -171,7 +168,7 @@ export function membershipSums(memberships: Float64Array, n: number, k: number, 
  * as membershipsFromLogTerms makes them; returns the rows' values added in row order from 0.
  */
 export function squareMemberships(squares: Float64Array, n: number, k: number, constant: Float64Array, variances: Float64Array, tau: Float64Array): number {
-  const kernel = membershipKernel();
+  const kernel = rowKernels();
   if (!kernel) {
     for (let i = 0; i < n; i++) {
       const at = i * k;
@@ -204,7 +201,7 @@ export function squareMemberships(squares: Float64Array, n: number, k: number, c
  */
 export function squaredResidualSums(rows: Float64Array, n: number, m: number, y: Float64Array, coefficients: Float64Array, k: number, tau: Float64Array, squares: Float64Array, rss: Float64Array): void {
   rss.fill(0, 0, k);
-  const kernel = membershipKernel();
+  const kernel = rowKernels();
   if (!kernel) {
     const padded = paddedCoefficients(coefficients, k, m);
     for (let i = 0; i < n; i++) {
@@ -242,60 +239,6 @@ export function squaredResidualSums(rows: Float64Array, n: number, m: number, y:
   rss.set(heap.subarray(rssAt, rssAt + k));
 }
 
-interface MembershipKernel {
-  memory: WebAssembly.Memory;
-  /** A view of the whole memory, made again whenever the memory grows. */
-  heap: Float64Array;
-  normalise: (terms: number, m: number, k: number, out: number, rows: number, total: number) => number;
-  fromResiduals: (residuals: number, m: number, k: number, constant: number, curvature: number, terms: number, out: number, rows: number, total: number) => number;
-  columnSums: (values: number, m: number, k: number, sums: number) => void;
-  fromSquares: (squares: number, m: number, k: number, constant: number, variance: number, terms: number, out: number, total: number) => number;
-  squaredResiduals: (rows: number, m: number, q: number, y: number, coefficients: number, k: number, tau: number, squares: number, rss: number) => void;
-}
-
-/** undefined until first asked for; null where this runtime cannot run the module. */
-let kernelInstance: MembershipKernel | null | undefined;
-let kernelAllowed = true;
-
-/** Turns the WebAssembly path of the kernel off or back on (the tests compare the two paths). */
-export function allowMembershipKernel(allowed: boolean): void {
-  kernelAllowed = allowed;
-}
-
-/** Whether the WebAssembly path runs in this runtime (and is allowed). */
-export function membershipKernelAvailable(): boolean {
-  return membershipKernel() !== null;
-}
-
-/** The module (compiled on first use, one instance per thread), or null where it cannot run or is not allowed. */
-function membershipKernel(): MembershipKernel | null {
-  if (!kernelAllowed) return null;
-  if (kernelInstance === undefined) {
-    const instance = instantiate(compileModule(MEMBERSHIPS_WASM_BASE64));
-    const memory = instance ? (instance.exports.memory as WebAssembly.Memory) : null;
-    kernelInstance = instance && memory
-      ? {
-          memory,
-          heap: new Float64Array(memory.buffer),
-          normalise: instance.exports.normalise as MembershipKernel["normalise"],
-          fromResiduals: instance.exports.fromResiduals as MembershipKernel["fromResiduals"],
-          columnSums: instance.exports.columnSums as MembershipKernel["columnSums"],
-          fromSquares: instance.exports.fromSquares as MembershipKernel["fromSquares"],
-          squaredResiduals: instance.exports.squaredResiduals as MembershipKernel["squaredResiduals"],
-        }
-      : null;
-  }
-  return kernelInstance;
-}
-
-/** Rows of k terms per block copied through the module's memory (about 64 KB of terms). */
-function kernelBlockRows(k: number): number {
-  return Math.max(1, Math.floor(8192 / Math.max(k, 1)));
-}
-
-function reserveDoubles(kernel: MembershipKernel, doubles: number): void {
-  if (growTo(kernel.memory, doubles * 8)) kernel.heap = new Float64Array(kernel.memory.buffer);
-}
 
 /**
  * ln φ(x; μ, Σ) for the p values x[xOffset..], with Σ = L Lᵀ (L lower, row-major at

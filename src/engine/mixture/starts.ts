@@ -7,6 +7,7 @@ import { mStepPredictorModel, mStepVariances, type Guards } from "./mStep";
 import { scaledCholeskySolve } from "../cholesky";
 import { rowResidual } from "../rowResiduals";
 import { addNormalEquations } from "../weightedGram";
+import { reserveDoubles, rowKernels, type RowKernels } from "../rowKernels";
 
 /**
  * Cheap starting points for EM. Each returns hard labels or coefficients; the driver turns
@@ -65,59 +66,131 @@ export function locationSeedingLabels(ws: MixtureWorkspace, random: Random): Int
 const LLOYD_ITERATIONS = 10;
 
 function kMeansLabels(points: Float64Array, n: number, dimension: number, k: number, random: Random): Int32Array {
-  const centres = new Float64Array(k * dimension);
-  const nearest = new Float64Array(n).fill(Infinity);
+  const space = kMeansSpace(points, n, dimension, k);
+  const { centres, nearest, labels } = space;
+  nearest.fill(Infinity);
   let chosen = random.integer(n);
   for (let c = 0; c < k; c++) {
-    centres.set(points.subarray(chosen * dimension, chosen * dimension + dimension), c * dimension);
-    let total = 0;
-    for (let i = 0; i < n; i++) {
-      const d = squaredDistance(points, i, centres, c, dimension);
-      if (d < nearest[i]) nearest[i] = d;
-      total += nearest[i];
-    }
+    centres.set(space.points.subarray(chosen * dimension, chosen * dimension + dimension), c * dimension);
+    const total = lowerNearest(space, c);
     if (c + 1 === k) break;
     // Draw the next centre with probability ∝ squared distance (k-means++).
-    let target = random.next() * total;
-    chosen = n - 1;
-    for (let i = 0; i < n; i++) {
-      target -= nearest[i];
-      if (target < 0) {
-        chosen = i;
-        break;
-      }
-    }
+    chosen = drawPoint(space, random.next() * total);
   }
-  const labels = new Int32Array(n);
-  const counts = new Float64Array(k);
   for (let iteration = 0; iteration <= LLOYD_ITERATIONS; iteration++) {
-    let moved = 0;
-    for (let i = 0; i < n; i++) {
-      let best = 0;
-      let bestDistance = Infinity;
-      for (let c = 0; c < k; c++) {
-        const d = squaredDistance(points, i, centres, c, dimension);
-        if (d < bestDistance) {
-          bestDistance = d;
-          best = c;
-        }
-      }
-      if (iteration === 0 || labels[i] !== best) moved++;
-      labels[i] = best;
-    }
+    const moved = assignNearest(space, iteration === 0);
     if (iteration === LLOYD_ITERATIONS || moved === 0) break;
-    counts.fill(0);
-    const sums = new Float64Array(k * dimension);
-    for (let i = 0; i < n; i++) {
-      counts[labels[i]]++;
-      for (let j = 0; j < dimension; j++) sums[labels[i] * dimension + j] += points[i * dimension + j];
-    }
+    const { sums, counts } = space;
+    centreSums(space);
     for (let c = 0; c < k; c++) {
       if (counts[c] === 0) continue;
       for (let j = 0; j < dimension; j++) centres[c * dimension + j] = sums[c * dimension + j] / counts[c];
     }
   }
-  return labels;
+  return labels.slice();
+}
+
+/**
+ * The k-means arrays: in the row kernels' module memory where it runs (the points copied in
+ * once, rowKernels.ts), plain arrays otherwise; both paths give the same labels to the bit.
+ */
+interface KMeansSpace {
+  kernels: RowKernels | null;
+  n: number;
+  dimension: number;
+  k: number;
+  points: Float64Array;
+  centres: Float64Array;
+  nearest: Float64Array;
+  labels: Int32Array;
+  sums: Float64Array;
+  counts: Float64Array;
+}
+
+function kMeansSpace(points: Float64Array, n: number, dimension: number, k: number): KMeansSpace {
+  const kernels = rowKernels();
+  if (!kernels) {
+    return { kernels, n, dimension, k, points, centres: new Float64Array(k * dimension), nearest: new Float64Array(n), labels: new Int32Array(n), sums: new Float64Array(k * dimension), counts: new Float64Array(k) };
+  }
+  // In doubles: the points, centres, nearest distances, labels (32-bit, two to a double), sums, counts.
+  const centresAt = n * dimension;
+  const nearestAt = centresAt + k * dimension;
+  const labelsAt = nearestAt + n;
+  const sumsAt = labelsAt + Math.ceil(n / 2);
+  const countsAt = sumsAt + k * dimension;
+  reserveDoubles(kernels, countsAt + k);
+  const buffer = kernels.memory.buffer;
+  const space: KMeansSpace = {
+    kernels, n, dimension, k,
+    points: new Float64Array(buffer, 0, n * dimension),
+    centres: new Float64Array(buffer, centresAt * 8, k * dimension),
+    nearest: new Float64Array(buffer, nearestAt * 8, n),
+    labels: new Int32Array(buffer, labelsAt * 8, n),
+    sums: new Float64Array(buffer, sumsAt * 8, k * dimension),
+    counts: new Float64Array(buffer, countsAt * 8, k),
+  };
+  space.points.set(points.subarray(0, n * dimension));
+  return space;
+}
+
+/** Each point's squared distance to its nearest centre so far lowered to centre c's where smaller; returns their sum in row order. */
+function lowerNearest(space: KMeansSpace, c: number): number {
+  const { kernels, n, dimension, points, centres, nearest } = space;
+  if (kernels) return kernels.nearestUpdate(points.byteOffset, n, dimension, centres.byteOffset + c * dimension * 8, nearest.byteOffset);
+  let total = 0;
+  for (let i = 0; i < n; i++) {
+    const d = squaredDistance(points, i, centres, c, dimension);
+    if (d < nearest[i]) nearest[i] = d;
+    total += nearest[i];
+  }
+  return total;
+}
+
+/** The first point at which `target` less the nearest distances so far falls below 0, or the last point. */
+function drawPoint(space: KMeansSpace, target: number): number {
+  const { kernels, n, nearest } = space;
+  if (kernels) return kernels.draw(nearest.byteOffset, n, target);
+  for (let i = 0; i < n; i++) {
+    target -= nearest[i];
+    if (target < 0) return i;
+  }
+  return n - 1;
+}
+
+/** Each point to its nearest centre (the first of equals); returns how many labels changed (all on the first pass). */
+function assignNearest(space: KMeansSpace, first: boolean): number {
+  const { kernels, n, dimension, k, points, centres, labels } = space;
+  if (kernels) return kernels.assignNearest(points.byteOffset, n, dimension, centres.byteOffset, k, labels.byteOffset, first ? 1 : 0);
+  let moved = 0;
+  for (let i = 0; i < n; i++) {
+    let best = 0;
+    let bestDistance = Infinity;
+    for (let c = 0; c < k; c++) {
+      const d = squaredDistance(points, i, centres, c, dimension);
+      if (d < bestDistance) {
+        bestDistance = d;
+        best = c;
+      }
+    }
+    if (first || labels[i] !== best) moved++;
+    labels[i] = best;
+  }
+  return moved;
+}
+
+/** Per centre the count of its points and the sums of their coordinates, in row order (set afresh). */
+function centreSums(space: KMeansSpace): void {
+  const { kernels, n, dimension, k, points, labels, sums, counts } = space;
+  if (kernels) {
+    kernels.centreSums(points.byteOffset, n, dimension, labels.byteOffset, k, sums.byteOffset, counts.byteOffset);
+    return;
+  }
+  sums.fill(0);
+  counts.fill(0);
+  for (let i = 0; i < n; i++) {
+    counts[labels[i]]++;
+    for (let j = 0; j < dimension; j++) sums[labels[i] * dimension + j] += points[i * dimension + j];
+  }
 }
 
 function squaredDistance(points: Float64Array, row: number, centres: Float64Array, centre: number, dimension: number): number {

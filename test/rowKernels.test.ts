@@ -1,6 +1,7 @@
 import { describe, expect, it } from "vitest";
-import { allowMembershipKernel, membershipKernelAvailable, membershipSums, membershipsFromLogTerms, normaliseLogDensities, residualMemberships, squareMemberships, squaredResidualSums } from "../src/engine/logDensities";
-import { MEMBERSHIPS_WASM_BASE64 } from "../src/engine/wasm/membershipsModule";
+import { membershipSums, membershipsFromLogTerms, normaliseLogDensities, residualMemberships, squareMemberships, squaredResidualSums } from "../src/engine/logDensities";
+import { allowRowKernels, rowKernelsAvailable } from "../src/engine/rowKernels";
+import { ROW_KERNELS_WASM_BASE64 } from "../src/engine/wasm/rowKernelsModule";
 // @ts-expect-error: a plain ES module script without type declarations
 import { assembleModule } from "../scripts/buildWasm.mjs";
 import { createRandom, type Random } from "../src/engine/random";
@@ -38,9 +39,9 @@ function fingerprint(value: unknown): string {
   return JSON.stringify(value, (key, v) => (key === "timings" ? undefined : v instanceof Float64Array ? bits(v) : v));
 }
 
-describe("the E-step kernel's WebAssembly path (logDensities.ts)", () => {
+describe("the row kernels' WebAssembly path (rowKernels.ts, the E-step kernel in logDensities.ts)", () => {
   it("runs here (Node has WebAssembly), so the checks below compare two paths", () => {
-    expect(membershipKernelAvailable()).toBe(true);
+    expect(rowKernelsAvailable()).toBe(true);
   });
 
   // Reference: Math.exp and Math.log, through membershipsFromLogTerms (the row kernel in
@@ -89,13 +90,13 @@ describe("the E-step kernel's WebAssembly path (logDensities.ts)", () => {
       const curvature = Float64Array.from({ length: k }, () => -0.5 / (0.01 + random.next()));
       const outputs: string[] = [];
       for (const allowed of [false, true]) {
-        allowMembershipKernel(allowed);
+        allowRowKernels(allowed);
         const memberships = new Float64Array(n * k).fill(-1);
         const rows = new Float64Array(n).fill(-1);
         const total = residualMemberships(residuals, 17, n - 5, k, constant, curvature, memberships, rows);
         outputs.push(`${bits(memberships)} ${bits(rows)} ${bits(Float64Array.of(total))}`);
       }
-      allowMembershipKernel(true);
+      allowRowKernels(true);
       expect(outputs[1]).toBe(outputs[0]);
       // Rows outside [from, to) untouched.
       expect(outputs[1].startsWith(bits(new Float64Array(17 * k).fill(-1)))).toBe(true);
@@ -114,7 +115,7 @@ describe("the E-step kernel's WebAssembly path (logDensities.ts)", () => {
       const variances = Float64Array.from({ length: k }, () => 0.05 + random.next());
       const outputs: string[] = [];
       for (const allowed of [false, true]) {
-        allowMembershipKernel(allowed);
+        allowRowKernels(allowed);
         const squares = new Float64Array(n * k);
         const rss = new Float64Array(k).fill(7);
         squaredResidualSums(rows, n, m, y, coefficients, k, tau, squares, rss);
@@ -124,7 +125,7 @@ describe("the E-step kernel's WebAssembly path (logDensities.ts)", () => {
         membershipSums(memberships, n, k, sizes);
         outputs.push([squares, rss, memberships, Float64Array.of(total), sizes].map(bits).join(" "));
       }
-      allowMembershipKernel(true);
+      allowRowKernels(true);
       expect(outputs[1]).toBe(outputs[0]);
     }
   });
@@ -134,18 +135,18 @@ describe("the E-step kernel's WebAssembly path (logDensities.ts)", () => {
     const noisy = noisyProblem(6, 3, 40, createRandom(6));
     const prints: string[] = [];
     for (const allowed of [false, true]) {
-      allowMembershipKernel(allowed);
+      allowRowKernels(allowed);
       const exact = fitMixture(noiseless.data, { k: 4, intercept: false, seed: 2 });
       const fit = fitMixture(noisy.data, { k: 3, intercept: true, seed: 2 });
       const scan = scanComponents(noisy.data, { kMax: 4, seed: 3 });
       prints.push(fingerprint([exact.components, exact.logLikelihood, fit.components, fit.logLikelihood, fit.memberships, standardErrors(noisy.data, fit), scan.rows]));
     }
-    allowMembershipKernel(true);
+    allowRowKernels(true);
     expect(prints[1]).toBe(prints[0]);
   });
 
-  it("is the assembly of memberships.wat (run `npm run build:wasm` after editing it)", async () => {
-    const bytes: Uint8Array = await assembleModule("memberships.wat");
-    expect(Buffer.from(bytes).toString("base64")).toBe(MEMBERSHIPS_WASM_BASE64);
+  it("is the assembly of rowKernels.wat (run `npm run build:wasm` after editing it)", async () => {
+    const bytes: Uint8Array = await assembleModule("rowKernels.wat");
+    expect(Buffer.from(bytes).toString("base64")).toBe(ROW_KERNELS_WASM_BASE64);
   });
 });

@@ -1,8 +1,9 @@
-;; The WebAssembly path of the E-step kernel (logDensities.ts): memberships and each row's
-;; ln Σ_k exp(term_k) from log terms by log-sum-exp, in the same operations and order as
-;; membershipsFromLogTerms, so every value is the same to the bit; and the M-step's sizes
-;; Σ_i τ_ik (membershipSums), added in the JavaScript's order. Assembled by
-;; scripts/buildWasm.mjs into membershipsModule.ts; a test checks the two agree.
+;; The engine's scalar row kernels in WebAssembly (rowKernels.ts), each the same operations in
+;; the same order as its JavaScript path, so every value is the same to the bit: the E-step
+;; kernel's memberships and each row's ln Σ_k exp(term_k) by log-sum-exp (logDensities.ts,
+;; as membershipsFromLogTerms), the M-step's sizes Σ_i τ_ik, and the warm start's subspace
+;; EM residual pass, and the distances of the seeding's k-means (starts.ts). Assembled by scripts/buildWasm.mjs into rowKernelsModule.ts; a test
+;; checks the two agree. No SIMD: it runs wherever WebAssembly does.
 ;;
 ;; Compiled code of its own from the first call: the JavaScript loop runs interpreted until
 ;; the engine's optimising compiler has reached it, most of a small fit's first E-steps in a
@@ -319,5 +320,108 @@
         (local.set $y (i32.add (local.get $y) (i32.const 8)))
         (local.set $tau (i32.add (local.get $tau) (i32.shl (local.get $k) (i32.const 3))))
         (local.set $squares (i32.add (local.get $squares) (i32.shl (local.get $k) (i32.const 3))))
+        (local.set $i (i32.add (local.get $i) (i32.const 1)))
+        (br $next))))
+
+  ;; Σ_j (points[row·dim + j] − centre[j])², each difference squared and added in column order.
+  (func $distance (param $point i32) (param $centre i32) (param $dim i32) (result f64)
+    (local $j i32) (local $d f64) (local $total f64)
+    (block $done
+      (loop $next
+        (br_if $done (i32.ge_u (local.get $j) (local.get $dim)))
+        (local.set $d (f64.sub (f64.load (local.get $point)) (f64.load (local.get $centre))))
+        (local.set $total (f64.add (local.get $total) (f64.mul (local.get $d) (local.get $d))))
+        (local.set $point (i32.add (local.get $point) (i32.const 8)))
+        (local.set $centre (i32.add (local.get $centre) (i32.const 8)))
+        (local.set $j (i32.add (local.get $j) (i32.const 1)))
+        (br $next)))
+    (local.get $total))
+
+  ;; k-means++ seeding (starts.ts): each of n points' squared distance to its nearest centre
+  ;; so far (at $nearest) lowered to the new centre's where that is smaller; returns their sum
+  ;; in row order.
+  (func (export "nearestUpdate") (param $points i32) (param $n i32) (param $dim i32) (param $centre i32) (param $nearest i32) (result f64)
+    (local $i i32) (local $d f64) (local $total f64) (local $rowBytes i32)
+    (local.set $rowBytes (i32.shl (local.get $dim) (i32.const 3)))
+    (block $done
+      (loop $next
+        (br_if $done (i32.ge_u (local.get $i) (local.get $n)))
+        (local.set $d (call $distance (local.get $points) (local.get $centre) (local.get $dim)))
+        (if (f64.lt (local.get $d) (f64.load (local.get $nearest)))
+          (then (f64.store (local.get $nearest) (local.get $d))))
+        (local.set $total (f64.add (local.get $total) (f64.load (local.get $nearest))))
+        (local.set $points (i32.add (local.get $points) (local.get $rowBytes)))
+        (local.set $nearest (i32.add (local.get $nearest) (i32.const 8)))
+        (local.set $i (i32.add (local.get $i) (i32.const 1)))
+        (br $next)))
+    (local.get $total))
+
+  ;; The point drawn for the next centre: the first i at which target − Σ_{l ≤ i} nearest[l]
+  ;; (subtracted one at a time) falls below 0, or n − 1.
+  (func (export "draw") (param $nearest i32) (param $n i32) (param $target f64) (result i32)
+    (local $i i32)
+    (block $done
+      (loop $next
+        (br_if $done (i32.ge_u (local.get $i) (local.get $n)))
+        (local.set $target (f64.sub (local.get $target) (f64.load (local.get $nearest))))
+        (if (f64.lt (local.get $target) (f64.const 0)) (then (return (local.get $i))))
+        (local.set $nearest (i32.add (local.get $nearest) (i32.const 8)))
+        (local.set $i (i32.add (local.get $i) (i32.const 1)))
+        (br $next)))
+    (i32.sub (local.get $n) (i32.const 1)))
+
+  ;; A Lloyd assignment: each point to its nearest of k centres (the first of equals), labels
+  ;; as 32-bit integers at $labels; returns how many changed (all, when $first is set).
+  (func (export "assignNearest") (param $points i32) (param $n i32) (param $dim i32) (param $centres i32) (param $k i32) (param $labels i32) (param $first i32) (result i32)
+    (local $i i32) (local $c i32) (local $best i32) (local $d f64) (local $bestDistance f64) (local $moved i32) (local $rowBytes i32)
+    (local.set $rowBytes (i32.shl (local.get $dim) (i32.const 3)))
+    (block $done
+      (loop $next
+        (br_if $done (i32.ge_u (local.get $i) (local.get $n)))
+        (local.set $best (i32.const 0))
+        (local.set $bestDistance (f64.const inf))
+        (local.set $c (i32.const 0))
+        (block $centresDone
+          (loop $centre
+            (br_if $centresDone (i32.ge_u (local.get $c) (local.get $k)))
+            (local.set $d (call $distance (local.get $points) (i32.add (local.get $centres) (i32.mul (local.get $c) (local.get $rowBytes))) (local.get $dim)))
+            (if (f64.lt (local.get $d) (local.get $bestDistance))
+              (then
+                (local.set $bestDistance (local.get $d))
+                (local.set $best (local.get $c))))
+            (local.set $c (i32.add (local.get $c) (i32.const 1)))
+            (br $centre)))
+        (if (i32.or (local.get $first) (i32.ne (i32.load (local.get $labels)) (local.get $best)))
+          (then (local.set $moved (i32.add (local.get $moved) (i32.const 1)))))
+        (i32.store (local.get $labels) (local.get $best))
+        (local.set $points (i32.add (local.get $points) (local.get $rowBytes)))
+        (local.set $labels (i32.add (local.get $labels) (i32.const 4)))
+        (local.set $i (i32.add (local.get $i) (i32.const 1)))
+        (br $next)))
+    (local.get $moved))
+
+  ;; Per centre the count (as a double) and the sums of its points' coordinates, in row order,
+  ;; into $counts (k) and $sums (k x dim), both set afresh.
+  (func (export "centreSums") (param $points i32) (param $n i32) (param $dim i32) (param $labels i32) (param $k i32) (param $sums i32) (param $counts i32)
+    (local $i i32) (local $j i32) (local $at i32) (local $to i32) (local $rowBytes i32)
+    (local.set $rowBytes (i32.shl (local.get $dim) (i32.const 3)))
+    (memory.fill (local.get $sums) (i32.const 0) (i32.mul (local.get $k) (local.get $rowBytes)))
+    (memory.fill (local.get $counts) (i32.const 0) (i32.shl (local.get $k) (i32.const 3)))
+    (block $done
+      (loop $next
+        (br_if $done (i32.ge_u (local.get $i) (local.get $n)))
+        (local.set $at (i32.shl (i32.load (local.get $labels)) (i32.const 3)))
+        (f64.store (i32.add (local.get $counts) (local.get $at)) (f64.add (f64.load (i32.add (local.get $counts) (local.get $at))) (f64.const 1)))
+        (local.set $to (i32.add (local.get $sums) (i32.mul (i32.load (local.get $labels)) (local.get $rowBytes))))
+        (local.set $j (i32.const 0))
+        (block $rowDone
+          (loop $coordinate
+            (br_if $rowDone (i32.ge_u (local.get $j) (local.get $dim)))
+            (f64.store (local.get $to) (f64.add (f64.load (local.get $to)) (f64.load (local.get $points))))
+            (local.set $to (i32.add (local.get $to) (i32.const 8)))
+            (local.set $points (i32.add (local.get $points) (i32.const 8)))
+            (local.set $j (i32.add (local.get $j) (i32.const 1)))
+            (br $coordinate)))
+        (local.set $labels (i32.add (local.get $labels) (i32.const 4)))
         (local.set $i (i32.add (local.get $i) (i32.const 1)))
         (br $next)))))
