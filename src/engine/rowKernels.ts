@@ -5,7 +5,8 @@ import { compileModule, growTo, instantiate } from "./wasm/compileModule";
  * The scalar row kernels' WebAssembly module (wasm/rowKernels.wat): compiled code from the
  * first call, where a JavaScript loop runs interpreted until the engine's optimising compiler
  * has reached it, which is most of a small fit in a fresh process. Each kernel's JavaScript
- * path stays beside its caller (logDensities.ts, the k-means of starts.ts) and gives the same
+ * path stays beside its caller (logDensities.ts, the k-means of starts.ts, hard assignment in
+ * warmStart/alternatingLeastSquares.ts) and gives the same
  * bits; the callers copy a block of rows at a time into the module's memory (no caller of
  * one kernel nests another, so they share it).
  */
@@ -22,6 +23,7 @@ export interface RowKernels {
   draw: (nearest: number, n: number, target: number) => number;
   assignNearest: (points: number, n: number, dimension: number, centres: number, k: number, labels: number, first: number) => number;
   centreSums: (points: number, n: number, dimension: number, labels: number, k: number, sums: number, counts: number) => void;
+  assignRows: (fitted: number, y: number, n: number, k: number, classify: number, inverseScale: number, penalty: number, labels: number, best: number, changed: number) => number;
 }
 
 /** undefined until first asked for; null where this runtime cannot run the module. */

@@ -2,6 +2,7 @@ import { checkSignal } from "../errors";
 import type { CancelSignal } from "../mixtureTypes";
 import { choleskyScratchLength, scaledCholeskySolve } from "../cholesky";
 import { MAD_TO_SD, median } from "../median";
+import { reserveDoubles, rowKernels, type RowKernels } from "../rowKernels";
 import { addBlockDots, addBlockGram, blockRowsFor, rowBlock, rowPredictions, weighBlock, type RowBlock } from "../weightedGram";
 
 /**
@@ -334,6 +335,8 @@ function assign(state: AlternatingState, criterion: ClassificationCriterion | nu
     stale[c] = 0;
   }
   rowPredictions(design, n, q, recompute, columns, fitted, k);
+  const kernels = rowKernels();
+  if (kernels) return assignInModule(kernels, state, criterion);
   let changed = 0;
   for (let i = 0; i < n; i++) {
     let label = 0;
@@ -367,5 +370,39 @@ function assign(state: AlternatingState, criterion: ClassificationCriterion | nu
     labels[i] = label;
     best[i] = smallest;
   }
+  return changed;
+}
+
+/**
+ * assign's choice of component on the row kernels' module (rowKernels.ts): the same
+ * comparisons in the same order, so the same labels, residuals and changed components.
+ */
+function assignInModule(kernels: RowKernels, state: AlternatingState, criterion: ClassificationCriterion | null): number {
+  const { n, y, labels, best, changedComponent, fitted } = state;
+  const k = state.coefficients.length;
+  // In doubles: fitted values, responses, residuals, the criterion's terms, labels (32-bit,
+  // two to a double), changed flags (a byte each).
+  const yAt = n * k;
+  const bestAt = yAt + n;
+  const scaleAt = bestAt + n;
+  const penaltyAt = scaleAt + k;
+  const labelsAt = penaltyAt + k;
+  const changedAt = labelsAt + Math.ceil(n / 2);
+  reserveDoubles(kernels, changedAt + Math.ceil(k / 8));
+  const { heap, memory } = kernels;
+  heap.set(fitted.subarray(0, n * k), 0);
+  heap.set(y.subarray(0, n), yAt);
+  if (criterion) {
+    heap.set(criterion.inverseScale, scaleAt);
+    heap.set(criterion.penalty, penaltyAt);
+  }
+  const moduleLabels = new Int32Array(memory.buffer, labelsAt * 8, n);
+  const moduleChanged = new Uint8Array(memory.buffer, changedAt * 8, k);
+  moduleLabels.set(labels);
+  moduleChanged.set(changedComponent);
+  const changed = kernels.assignRows(0, yAt * 8, n, k, criterion ? 1 : 0, scaleAt * 8, penaltyAt * 8, labelsAt * 8, bestAt * 8, changedAt * 8);
+  labels.set(moduleLabels);
+  best.set(heap.subarray(bestAt, bestAt + n));
+  changedComponent.set(moduleChanged);
   return changed;
 }

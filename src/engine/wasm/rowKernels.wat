@@ -2,7 +2,8 @@
 ;; the same order as its JavaScript path, so every value is the same to the bit: the E-step
 ;; kernel's memberships and each row's ln Σ_k exp(term_k) by log-sum-exp (logDensities.ts,
 ;; as membershipsFromLogTerms), the M-step's sizes Σ_i τ_ik, and the warm start's subspace
-;; EM residual pass, and the distances of the seeding's k-means (starts.ts). Assembled by scripts/buildWasm.mjs into rowKernelsModule.ts; a test
+;; EM residual pass, the distances of the seeding's k-means (starts.ts) and hard
+;; assignment's choice of component (warmStart/alternatingLeastSquares.ts). Assembled by scripts/buildWasm.mjs into rowKernelsModule.ts; a test
 ;; checks the two agree. No SIMD: it runs wherever WebAssembly does.
 ;;
 ;; Compiled code of its own from the first call: the JavaScript loop runs interpreted until
@@ -424,4 +425,60 @@
             (br $coordinate)))
         (local.set $labels (i32.add (local.get $labels) (i32.const 4)))
         (local.set $i (i32.add (local.get $i) (i32.const 1)))
-        (br $next)))))
+        (br $next))))
+
+  ;; Hard assignment (warmStart/alternatingLeastSquares.ts): each of n rows to the component
+  ;; with the smallest |y − fitted| (fitted n x k at $fitted), or with $classify set to the
+  ;; smallest ½ (|y − fitted| · inverseScale_c)² + penalty_c (k each at $inverseScale and
+  ;; $penalty), the first of equals. Labels (32-bit) at $labels, the row's |residual| under
+  ;; its label at $best; each component a row left or joined gets 1 at $changed (one byte each,
+  ;; a label below 0 leaving none). Returns how many labels changed.
+  (func (export "assignRows") (param $fitted i32) (param $y i32) (param $n i32) (param $k i32) (param $classify i32) (param $inverseScale i32) (param $penalty i32) (param $labels i32) (param $best i32) (param $changed i32) (result i32)
+    (local $i i32) (local $c i32) (local $label i32) (local $old i32) (local $count i32)
+    (local $r f64) (local $smallest f64) (local $lowest f64) (local $scaled f64) (local $value f64) (local $yi f64) (local $at i32)
+    (block $done
+      (loop $next
+        (br_if $done (i32.ge_u (local.get $i) (local.get $n)))
+        (local.set $label (i32.const 0))
+        (local.set $smallest (f64.const inf))
+        (local.set $lowest (f64.const inf))
+        (local.set $yi (f64.load (local.get $y)))
+        (local.set $c (i32.const 0))
+        (block $componentsDone
+          (loop $component
+            (br_if $componentsDone (i32.ge_u (local.get $c) (local.get $k)))
+            (local.set $at (i32.shl (local.get $c) (i32.const 3)))
+            (local.set $r (f64.abs (f64.sub (local.get $yi) (f64.load (i32.add (local.get $fitted) (local.get $at))))))
+            (if (local.get $classify)
+              (then
+                (local.set $scaled (f64.mul (local.get $r) (f64.load (i32.add (local.get $inverseScale) (local.get $at)))))
+                (local.set $value (f64.add (f64.mul (f64.mul (f64.const 0.5) (local.get $scaled)) (local.get $scaled)) (f64.load (i32.add (local.get $penalty) (local.get $at)))))
+                (if (f64.lt (local.get $value) (local.get $lowest))
+                  (then
+                    (local.set $lowest (local.get $value))
+                    (local.set $smallest (local.get $r))
+                    (local.set $label (local.get $c)))))
+              (else
+                (if (f64.lt (local.get $r) (local.get $smallest))
+                  (then
+                    (local.set $smallest (local.get $r))
+                    (local.set $label (local.get $c))))))
+            (local.set $c (i32.add (local.get $c) (i32.const 1)))
+            (br $component)))
+        (local.set $old (i32.load (local.get $labels)))
+        (if (i32.ne (local.get $old) (local.get $label))
+          (then
+            (local.set $count (i32.add (local.get $count) (i32.const 1)))
+            (if (i32.ge_s (local.get $old) (i32.const 0))
+              (then (i32.store8 (i32.add (local.get $changed) (local.get $old)) (i32.const 1))))
+            (i32.store8 (i32.add (local.get $changed) (local.get $label)) (i32.const 1))))
+        (i32.store (local.get $labels) (local.get $label))
+        (f64.store (local.get $best) (local.get $smallest))
+        (local.set $fitted (i32.add (local.get $fitted) (i32.shl (local.get $k) (i32.const 3))))
+        (local.set $y (i32.add (local.get $y) (i32.const 8)))
+        (local.set $labels (i32.add (local.get $labels) (i32.const 4)))
+        (local.set $best (i32.add (local.get $best) (i32.const 8)))
+        (local.set $i (i32.add (local.get $i) (i32.const 1)))
+        (br $next)))
+    (local.get $count))
+)
