@@ -1,6 +1,6 @@
 import { describe, expect, it } from "vitest";
-import { membershipSums, membershipsFromLogTerms, normaliseLogDensities, residualMemberships, squareMemberships, squaredResidualSums } from "../src/engine/logDensities";
-import { allowRowKernels, rowKernelsAvailable } from "../src/engine/rowKernels";
+import { membershipsFromLogTerms, normaliseLogDensities, residualMemberships, squareMemberships, squaredResidualSums } from "../src/engine/logDensities";
+import { allowRowKernels, columnSums, rowKernelsAvailable, rowProducts, whitenRows } from "../src/engine/rowKernels";
 import { ROW_KERNELS_WASM_BASE64 } from "../src/engine/wasm/rowKernelsModule";
 // @ts-expect-error: a plain ES module script without type declarations
 import { assembleModule } from "../scripts/buildWasm.mjs";
@@ -122,8 +122,36 @@ describe("the row kernels' WebAssembly path (rowKernels.ts, the E-step kernel in
         const memberships = new Float64Array(n * k);
         const total = squareMemberships(squares, n, k, constant, variances, memberships);
         const sizes = new Float64Array(k);
-        membershipSums(memberships, n, k, sizes);
+        columnSums(memberships, n, k, sizes);
         outputs.push([squares, rss, memberships, Float64Array.of(total), sizes].map(bits).join(" "));
+      }
+      allowRowKernels(true);
+      expect(outputs[1]).toBe(outputs[0]);
+    }
+  });
+
+  it("projects rows onto vectors and whitens rows as the JavaScript paths do (all rows and a list of rows; p = 1 to 53)", () => {
+    const random = createRandom(75);
+    for (const [p, k, n] of [[1, 1, 10], [3, 2, 5000], [7, 5, 300], [50, 14, 3001], [53, 3, 40]]) {
+      const x = Float64Array.from({ length: n * p }, () => random.next() * 4 - 2);
+      const vectors = Array.from({ length: k }, () => Float64Array.from({ length: p }, () => random.next() - 0.5));
+      const rows = Int32Array.from({ length: Math.ceil(n / 3) }, (_, t) => (t * 7) % n);
+      const mean = Float64Array.from({ length: p }, () => random.next());
+      // A lower factor with a positive diagonal.
+      const lower = new Float64Array(p * p);
+      for (let a = 0; a < p; a++) for (let l = 0; l <= a; l++) lower[a * p + l] = l === a ? 0.5 + random.next() : random.next() - 0.5;
+      const outputs: string[] = [];
+      for (const allowed of [false, true]) {
+        allowRowKernels(allowed);
+        const all = new Float64Array(n * k);
+        rowProducts(x, n, p, null, vectors, all);
+        const listed = new Float64Array(rows.length * k);
+        rowProducts(x, n, p, rows, vectors, listed);
+        const whitened = new Float64Array(n * p);
+        whitenRows(x, n, p, mean, lower, whitened);
+        const sums = new Float64Array(p);
+        columnSums(x, n, p, sums);
+        outputs.push([all, listed, whitened, sums].map(bits).join(" "));
       }
       allowRowKernels(true);
       expect(outputs[1]).toBe(outputs[0]);

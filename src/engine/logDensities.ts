@@ -139,30 +139,6 @@ export function residualMemberships(
 }
 
 /**
- * The M-step's component sizes: sums[c] = Σ_i memberships[i·k + c] over n rows (sums set
- * afresh), added row by row in order on either path.
- */
-export function membershipSums(memberships: Float64Array, n: number, k: number, sums: Float64Array): void {
-  sums.fill(0, 0, k);
-  const kernel = rowKernels();
-  if (!kernel) {
-    for (let i = 0; i < n; i++) for (let c = 0; c < k; c++) sums[c] += memberships[i * k + c];
-    return;
-  }
-  const blockRows = kernelBlockRows(k);
-  const valuesAt = k;
-  reserveDoubles(kernel, valuesAt + blockRows * k);
-  const heap = kernel.heap;
-  heap.fill(0, 0, k);
-  for (let start = 0; start < n; start += blockRows) {
-    const rows = Math.min(n - start, blockRows);
-    heap.set(memberships.subarray(start * k, (start + rows) * k), valuesAt);
-    kernel.columnSums(valuesAt * 8, rows, k, 0);
-  }
-  sums.set(heap.subarray(0, k));
-}
-
-/**
  * The subspace EM's E-step (warmStart/subspaceMixtureFit.ts): tau[i·k + c] from each row's
  * squared residuals, with the terms constant_c − (0.5 · squares[i·k + c]) / variances_c, then
  * as membershipsFromLogTerms makes them; returns the rows' values added in row order from 0.

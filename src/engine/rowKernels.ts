@@ -1,5 +1,6 @@
 import { ROW_KERNELS_WASM_BASE64 } from "./wasm/rowKernelsModule";
 import { compileModule, growTo, instantiate } from "./wasm/compileModule";
+import { dot } from "./weightedGram";
 
 /**
  * The scalar row kernels' WebAssembly module (wasm/rowKernels.wat): compiled code from the
@@ -24,6 +25,93 @@ export interface RowKernels {
   assignNearest: (points: number, n: number, dimension: number, centres: number, k: number, labels: number, first: number) => number;
   centreSums: (points: number, n: number, dimension: number, labels: number, k: number, sums: number, counts: number) => void;
   assignRows: (fitted: number, y: number, n: number, k: number, classify: number, inverseScale: number, penalty: number, labels: number, best: number, changed: number) => number;
+  rowProducts: (rows: number, m: number, q: number, vectors: number, k: number, out: number) => void;
+  whitenRows: (rows: number, m: number, p: number, mean: number, lower: number) => void;
+}
+
+/** sums[c] = Σ_i values[i·k + c] over n rows (set afresh), added row by row in order on either path. */
+export function columnSums(values: Float64Array, n: number, k: number, sums: Float64Array): void {
+  sums.fill(0, 0, k);
+  const kernels = rowKernels();
+  if (!kernels) {
+    for (let i = 0; i < n; i++) for (let c = 0; c < k; c++) sums[c] += values[i * k + c];
+    return;
+  }
+  const blockRows = kernelBlockRows(k);
+  const valuesAt = k;
+  reserveDoubles(kernels, valuesAt + blockRows * k);
+  const heap = kernels.heap;
+  heap.fill(0, 0, k);
+  for (let start = 0; start < n; start += blockRows) {
+    const rows = Math.min(n - start, blockRows);
+    heap.set(values.subarray(start * k, (start + rows) * k), valuesAt);
+    kernels.columnSums(valuesAt * 8, rows, k, 0);
+  }
+  sums.set(heap.subarray(0, k));
+}
+
+/**
+ * The whitened rows (x − mean) L⁻ᵀ of n rows of p values into `out` (whitenPredictors.ts):
+ * each row centred, then forward substitution with the lower factor L (p x p row-major), each
+ * sum in dot's association (weightedGram.ts), on either path.
+ */
+export function whitenRows(x: Float64Array, n: number, p: number, mean: Float64Array, lower: Float64Array, out: Float64Array): void {
+  const kernels = rowKernels();
+  if (!kernels) {
+    for (let i = 0; i < n; i++) {
+      const row = i * p;
+      for (let j = 0; j < p; j++) out[row + j] = x[row + j] - mean[j];
+      for (let a = 0; a < p; a++) out[row + a] = (out[row + a] - dot(lower, a * p, out, row, a)) / lower[a * p + a];
+    }
+    return;
+  }
+  const blockRows = kernelBlockRows(p);
+  const meanAt = p * p;
+  const rowsAt = meanAt + p;
+  reserveDoubles(kernels, rowsAt + blockRows * p);
+  const heap = kernels.heap;
+  heap.set(lower.subarray(0, p * p), 0);
+  heap.set(mean.subarray(0, p), meanAt);
+  for (let start = 0; start < n; start += blockRows) {
+    const rows = Math.min(n - start, blockRows);
+    heap.set(x.subarray(start * p, (start + rows) * p), rowsAt);
+    kernels.whitenRows(rowsAt * 8, rows, p, meanAt * 8, 0);
+    out.set(heap.subarray(rowsAt, rowsAt + rows * p), start * p);
+  }
+}
+
+/**
+ * out[t·k + c] = Σ_j x[i·q + j] · vectors[c][j] for the rows i listed in `rows` (all n when
+ * null, t = i), each sum from 0 in column order, multiply then add, on either path.
+ */
+export function rowProducts(x: Float64Array, n: number, q: number, rows: Int32Array | null, vectors: readonly Float64Array[], out: Float64Array): void {
+  const k = vectors.length;
+  const used = rows ? rows.length : n;
+  const kernels = rowKernels();
+  if (!kernels) {
+    for (let t = 0; t < used; t++) {
+      const row = (rows ? rows[t] : t) * q;
+      for (let c = 0; c < k; c++) {
+        let z = 0;
+        for (let j = 0; j < q; j++) z += x[row + j] * vectors[c][j];
+        out[t * k + c] = z;
+      }
+    }
+    return;
+  }
+  const blockRows = kernelBlockRows(q + k);
+  const rowsAt = k * q;
+  const outAt = rowsAt + blockRows * q;
+  reserveDoubles(kernels, outAt + blockRows * k);
+  const heap = kernels.heap;
+  vectors.forEach((vector, c) => heap.set(vector.subarray(0, q), c * q));
+  for (let start = 0; start < used; start += blockRows) {
+    const count = Math.min(used - start, blockRows);
+    if (rows) for (let t = 0; t < count; t++) heap.set(x.subarray(rows[start + t] * q, rows[start + t] * q + q), rowsAt + t * q);
+    else heap.set(x.subarray(start * q, (start + count) * q), rowsAt);
+    kernels.rowProducts(rowsAt * 8, count, q, 0, k, outAt * 8);
+    out.set(heap.subarray(outAt, outAt + count * k), start * k);
+  }
 }
 
 /** undefined until first asked for; null where this runtime cannot run the module. */

@@ -2,7 +2,7 @@ import type { MixtureParameters } from "./mixtureParameters";
 import { workspaceRows, type MixtureWorkspace, type WorkspaceRows } from "./mixtureWorkspace";
 import { choleskyScratchLength, scaledCholeskyLower, scaledCholeskySolve } from "../cholesky";
 import { constrainedVariances } from "./constrainedVariances";
-import { membershipSums } from "../logDensities";
+import { columnSums } from "../rowKernels";
 import { addBlockDots, addBlockGram, finishGramSum, gatherRows, holdRows, rowBlock, stageMemberships, stageRows, startGramSums, weighBlock } from "../weightedGram";
 import { GRAM_MULTIPLY_ADDS_PER_MICROSECOND, HELPER_MINIMUM_MICROSECONDS, allShared, helperShare, helperThread, shareWork, type HelperJob } from "../helperThread";
 
@@ -45,7 +45,7 @@ export const NEGLIGIBLE_MEMBERSHIP = 1e-12;
  */
 export function mStepCoefficients(ws: MixtureWorkspace, params: MixtureParameters, guards: Guards): MStepReport {
   const { n, q, k, memberships, grams, rightHandSides, sizes } = ws;
-  membershipSums(memberships, n, k, sizes);
+  columnSums(memberships, n, k, sizes);
   // The largest component's Gram matrix is the total XᵀX (computed once per data set) minus
   // the others', since Σ_k τ_ik = 1: one component fewer to accumulate. Taking the largest keeps
   // the cancellation small: the error is about rounding × n / n_largest ≤ rounding × k. With a

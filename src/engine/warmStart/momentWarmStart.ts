@@ -8,6 +8,7 @@ import { whitenPredictors, unwhitenCoefficients, whitenCoefficients, type Whiten
 import { responseMomentSubspace } from "./responseMomentSubspace";
 import { selectRows } from "../rowSubset";
 import { rowResidual } from "../rowResiduals";
+import { rowProducts } from "../rowKernels";
 
 export interface MomentWarmStart {
   /** K coefficient vectors of length q (intercept first when the fit has one). */
@@ -225,15 +226,14 @@ function subspaceCandidates(whitened: WhitenedPredictors, y: Float64Array, k: nu
   const used = rows ? rows.length : n;
   const projected = new Float64Array(used * m);
   const usedResponses = rows ? new Float64Array(used) : responses;
-  for (let t = 0; t < used; t++) {
-    const i = rows ? rows[t] : t;
-    if (rows) usedResponses[t] = responses[i];
-    if (intercept) projected[t * m] = 1;
-    const row = i * p;
-    for (let b = 0; b < basis.length; b++) {
-      let z = 0;
-      for (let j = 0; j < p; j++) z += whitened.x[row + j] * basis[b][j];
-      projected[t * m + offset + b] = z;
+  if (rows) for (let t = 0; t < used; t++) usedResponses[t] = responses[rows[t]];
+  // z = Uᵀx̃ row by row (the row kernels' products), then a leading 1 when there is an offset.
+  const z = offset ? new Float64Array(used * basis.length) : projected;
+  rowProducts(whitened.x, n, p, rows, basis, z);
+  if (offset) {
+    for (let t = 0; t < used; t++) {
+      projected[t * m] = 1;
+      projected.set(z.subarray(t * basis.length, (t + 1) * basis.length), t * m + 1);
     }
   }
   // Every restart runs SCREENING_ITERATIONS; only the best LIFTED_CANDIDATES go on to

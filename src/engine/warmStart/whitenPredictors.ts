@@ -12,7 +12,7 @@
  */
 import { choleskyScratchLength, scaledCholeskyLower } from "../cholesky";
 import { meanOuterProduct } from "../secondMoment";
-import { dot } from "../weightedGram";
+import { columnSums, whitenRows } from "../rowKernels";
 
 export interface WhitenedPredictors {
   /** n x p row-major whitened predictors. */
@@ -30,10 +30,7 @@ export function whitenPredictors(x: Float64Array, n: number, p: number, centre: 
   if (n <= p) return null;
   const mean = new Float64Array(p);
   if (centre) {
-    for (let i = 0; i < n; i++) {
-      const row = i * p;
-      for (let j = 0; j < p; j++) mean[j] += x[row + j];
-    }
+    columnSums(x, n, p, mean);
     for (let j = 0; j < p; j++) mean[j] /= n;
   }
   const centred = new Float64Array(n * p);
@@ -50,13 +47,8 @@ export function whitenPredictors(x: Float64Array, n: number, p: number, centre: 
   // (after equilibration) means collinear predictors, and then no whitening is attempted.
   const chol = new Float64Array(p * p);
   if (Number.isNaN(scaledCholeskyLower(second, p, chol, new Float64Array(choleskyScratchLength(p)), false))) return null;
-  // x̃ = L⁻¹ x by forward substitution, in place row by row.
-  for (let i = 0; i < n; i++) {
-    const row = i * p;
-    for (let a = 0; a < p; a++) {
-      centred[row + a] = (centred[row + a] - dot(chol, a * p, centred, row, a)) / chol[a * p + a];
-    }
-  }
+  // x̃ = L⁻¹ (x − mean) by forward substitution, row by row (the row kernels' whitenRows).
+  whitenRows(x, n, p, mean, chol, centred);
   return { x: centred, n, p, mean, cholesky: chol };
 }
 

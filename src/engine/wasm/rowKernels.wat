@@ -3,7 +3,9 @@
 ;; kernel's memberships and each row's ln Σ_k exp(term_k) by log-sum-exp (logDensities.ts,
 ;; as membershipsFromLogTerms), the M-step's sizes Σ_i τ_ik, and the warm start's subspace
 ;; EM residual pass, the distances of the seeding's k-means (starts.ts) and hard
-;; assignment's choice of component (warmStart/alternatingLeastSquares.ts). Assembled by scripts/buildWasm.mjs into rowKernelsModule.ts; a test
+;; assignment's choice of component (warmStart/alternatingLeastSquares.ts) and the warm
+;; start's projection onto its subspace (rowProducts) and its whitening (whitenRows).
+;; Assembled by scripts/buildWasm.mjs into rowKernelsModule.ts; a test
 ;; checks the two agree. No SIMD: it runs wherever WebAssembly does.
 ;;
 ;; Compiled code of its own from the first call: the JavaScript loop runs interpreted until
@@ -481,4 +483,105 @@
         (local.set $i (i32.add (local.get $i) (i32.const 1)))
         (br $next)))
     (local.get $count))
+
+
+  ;; Products of m rows of q values (row-major at $rows) with k vectors of q (one after
+  ;; another at $vectors): out[i·k + c] = Σ_j x_ij v_cj, each from 0 in column order, multiply
+  ;; then add (the warm start's projection onto its subspace).
+  (func (export "rowProducts") (param $rows i32) (param $m i32) (param $q i32) (param $vectors i32) (param $k i32) (param $out i32)
+    (local $i i32) (local $c i32) (local $j i32) (local $s f64) (local $x i32) (local $v i32)
+    (block $done
+      (loop $next
+        (br_if $done (i32.ge_u (local.get $i) (local.get $m)))
+        (local.set $c (i32.const 0))
+        (local.set $v (local.get $vectors))
+        (block $vectorsDone
+          (loop $vector
+            (br_if $vectorsDone (i32.ge_u (local.get $c) (local.get $k)))
+            (local.set $s (f64.const 0))
+            (local.set $x (local.get $rows))
+            (local.set $j (i32.const 0))
+            (block $sumDone
+              (loop $sum
+                (br_if $sumDone (i32.ge_u (local.get $j) (local.get $q)))
+                (local.set $s (f64.add (local.get $s) (f64.mul (f64.load (local.get $x)) (f64.load (local.get $v)))))
+                (local.set $x (i32.add (local.get $x) (i32.const 8)))
+                (local.set $v (i32.add (local.get $v) (i32.const 8)))
+                (local.set $j (i32.add (local.get $j) (i32.const 1)))
+                (br $sum)))
+            (f64.store (local.get $out) (local.get $s))
+            (local.set $out (i32.add (local.get $out) (i32.const 8)))
+            (local.set $c (i32.add (local.get $c) (i32.const 1)))
+            (br $vector)))
+        (local.set $rows (i32.add (local.get $rows) (i32.shl (local.get $q) (i32.const 3))))
+        (local.set $i (i32.add (local.get $i) (i32.const 1)))
+        (br $next))))
+
+  ;; Whitening (warmStart/whitenPredictors.ts), m rows of p values in place at $rows: each
+  ;; value less its column's mean, then x̃ = L⁻¹x by forward substitution with the lower
+  ;; factor L (p x p row-major at $lower): x̃_a = (x_a − Σ_{l<a} L_al x̃_l) / L_aa, each sum in
+  ;; dot's association (four running sums over l in steps of four, the rest added to the
+  ;; first, then (s0 + s1) + (s2 + s3); weightedGram.ts).
+  (func (export "whitenRows") (param $rows i32) (param $m i32) (param $p i32) (param $mean i32) (param $lower i32)
+    (local $i i32) (local $a i32) (local $l i32) (local $row i32) (local $factor i32)
+    (local $s0 f64) (local $s1 f64) (local $s2 f64) (local $s3 f64) (local $rowBytes i32)
+    (local.set $rowBytes (i32.shl (local.get $p) (i32.const 3)))
+    (local.set $row (local.get $rows))
+    (block $done
+      (loop $next
+        (br_if $done (i32.ge_u (local.get $i) (local.get $m)))
+        (local.set $a (i32.const 0))
+        (block $centred
+          (loop $centre
+            (br_if $centred (i32.ge_u (local.get $a) (local.get $p)))
+            (f64.store (i32.add (local.get $row) (i32.shl (local.get $a) (i32.const 3)))
+              (f64.sub (f64.load (i32.add (local.get $row) (i32.shl (local.get $a) (i32.const 3))))
+                (f64.load (i32.add (local.get $mean) (i32.shl (local.get $a) (i32.const 3))))))
+            (local.set $a (i32.add (local.get $a) (i32.const 1)))
+            (br $centre)))
+        (local.set $a (i32.const 0))
+        (block $solved
+          (loop $solve
+            (br_if $solved (i32.ge_u (local.get $a) (local.get $p)))
+            (local.set $factor (i32.add (local.get $lower) (i32.mul (local.get $a) (local.get $rowBytes))))
+            (local.set $s0 (f64.const 0))
+            (local.set $s1 (f64.const 0))
+            (local.set $s2 (f64.const 0))
+            (local.set $s3 (f64.const 0))
+            (local.set $l (i32.const 0))
+            (block $quadsDone
+              (loop $quads
+                (br_if $quadsDone (i32.ge_u (i32.add (local.get $l) (i32.const 3)) (local.get $a)))
+                (local.set $s0 (f64.add (local.get $s0) (f64.mul
+                  (f64.load (i32.add (local.get $factor) (i32.shl (local.get $l) (i32.const 3))))
+                  (f64.load (i32.add (local.get $row) (i32.shl (local.get $l) (i32.const 3)))))))
+                (local.set $s1 (f64.add (local.get $s1) (f64.mul
+                  (f64.load offset=8 (i32.add (local.get $factor) (i32.shl (local.get $l) (i32.const 3))))
+                  (f64.load offset=8 (i32.add (local.get $row) (i32.shl (local.get $l) (i32.const 3)))))))
+                (local.set $s2 (f64.add (local.get $s2) (f64.mul
+                  (f64.load offset=16 (i32.add (local.get $factor) (i32.shl (local.get $l) (i32.const 3))))
+                  (f64.load offset=16 (i32.add (local.get $row) (i32.shl (local.get $l) (i32.const 3)))))))
+                (local.set $s3 (f64.add (local.get $s3) (f64.mul
+                  (f64.load offset=24 (i32.add (local.get $factor) (i32.shl (local.get $l) (i32.const 3))))
+                  (f64.load offset=24 (i32.add (local.get $row) (i32.shl (local.get $l) (i32.const 3)))))))
+                (local.set $l (i32.add (local.get $l) (i32.const 4)))
+                (br $quads)))
+            (block $restDone
+              (loop $rest
+                (br_if $restDone (i32.ge_u (local.get $l) (local.get $a)))
+                (local.set $s0 (f64.add (local.get $s0) (f64.mul
+                  (f64.load (i32.add (local.get $factor) (i32.shl (local.get $l) (i32.const 3))))
+                  (f64.load (i32.add (local.get $row) (i32.shl (local.get $l) (i32.const 3)))))))
+                (local.set $l (i32.add (local.get $l) (i32.const 1)))
+                (br $rest)))
+            (f64.store (i32.add (local.get $row) (i32.shl (local.get $a) (i32.const 3)))
+              (f64.div
+                (f64.sub (f64.load (i32.add (local.get $row) (i32.shl (local.get $a) (i32.const 3))))
+                  (f64.add (f64.add (local.get $s0) (local.get $s1)) (f64.add (local.get $s2) (local.get $s3))))
+                (f64.load (i32.add (local.get $factor) (i32.shl (local.get $a) (i32.const 3))))))
+            (local.set $a (i32.add (local.get $a) (i32.const 1)))
+            (br $solve)))
+        (local.set $row (i32.add (local.get $row) (local.get $rowBytes)))
+        (local.set $i (i32.add (local.get $i) (i32.const 1)))
+        (br $next))))
 )
