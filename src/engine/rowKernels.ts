@@ -6,10 +6,10 @@ import { dot } from "./weightedGram";
  * The scalar row kernels' WebAssembly module (wasm/rowKernels.wat): compiled code from the
  * first call, where a JavaScript loop runs interpreted until the engine's optimising compiler
  * has reached it, which is most of a small fit in a fresh process. Each kernel's JavaScript
- * path stays beside its caller (logDensities.ts, the k-means of starts.ts, hard assignment in
- * warmStart/alternatingLeastSquares.ts) and gives the same
- * bits; the callers copy a block of rows at a time into the module's memory (no caller of
- * one kernel nests another, so they share it).
+ * path gives the same bits and stays beside its caller (the E-step kernel in logDensities.ts,
+ * the k-means of starts.ts, hard assignment in warmStart/alternatingLeastSquares.ts) or here
+ * (columnSums, rowProducts, whitenRows); the callers copy a block of rows at a time into the
+ * module's memory (no caller of one kernel nests another, so they share it).
  */
 export interface RowKernels {
   memory: WebAssembly.Memory;
