@@ -194,7 +194,7 @@ export function squaredResidualSums(rows: Float64Array, n: number, m: number, y:
   }
   // The module's memory in doubles: coefficients, the running sums, then a block's responses,
   // rows, memberships and squares.
-  const blockRows = Math.max(1, Math.floor(8192 / Math.max(m + 2 * k + 1, 1)));
+  const blockRows = kernelBlockRows(m + 2 * k + 1);
   const rssAt = k * m;
   const yAt = rssAt + k;
   const rowsAt = yAt + blockRows;
@@ -214,7 +214,6 @@ export function squaredResidualSums(rows: Float64Array, n: number, m: number, y:
   }
   rss.set(heap.subarray(rssAt, rssAt + k));
 }
-
 
 /**
  * ln φ(x; μ, Σ) for the p values x[xOffset..], with Σ = L Lᵀ (L lower, row-major at

@@ -127,9 +127,8 @@ function informationState(data: RegressionData, fit: MixtureFit) {
   const background = fit.background ?? null;
   // One more log term for the background, when the fit has one.
   const terms = background ? k + 1 : k;
-  const logTerm = new Float64Array(terms);
   const posterior = new Float64Array(terms * blockRowsFor(q));
-  if (background) logTerm[k] = Math.log(background.weight) + background.logDensity;
+  const backgroundTerm = background ? Math.log(background.weight) + background.logDensity : 0;
   const varianceOffset = k * q;
   const logitOffset = varianceOffset + k;
   const logits = k - 1;
@@ -181,7 +180,7 @@ function informationState(data: RegressionData, fit: MixtureFit) {
   const held = new Int32Array(k * blockRows);
   const heldCount = new Int32Array(k);
   const active = new Int32Array(k);
-  return { n, x, y, p, q, k, ones, models, predictorScratch, background, terms, logTerm, posterior, varianceOffset, logitOffset, logits, size, weights, variances, inverseVariances, constant, padded, grams, ownVariance, ownLogit, ownOutside, crossVariance, crossLogit, shares, tauSum, outsideTau, gSum, gOutside, curvatureSum, tauTau, gTau, gg, blockRows, residuals, tau, u, g, gramWeight, varianceWeight, logitWeight, outside, held, heldCount, active };
+  return { n, x, y, p, q, k, ones, models, predictorScratch, background, terms, backgroundTerm, posterior, varianceOffset, logitOffset, logits, size, weights, variances, inverseVariances, constant, padded, grams, ownVariance, ownLogit, ownOutside, crossVariance, crossLogit, shares, tauSum, outsideTau, gSum, gOutside, curvatureSum, tauTau, gTau, gg, blockRows, residuals, tau, u, g, gramWeight, varianceWeight, logitWeight, outside, held, heldCount, active };
 }
 
 type InformationState = ReturnType<typeof informationState>;
@@ -212,7 +211,7 @@ function addBlockRows(st: InformationState, start: number, m: number): void {
 
 /** Row r of the block's log terms (the background's last, when the fit has one) into its slots of st.posterior. */
 function rowLogTerms(st: InformationState, start: number, r: number): void {
-  const { x, p, k, models, predictorScratch, terms, logTerm, posterior, variances, constant, residuals } = st;
+  const { x, p, k, models, predictorScratch, background, terms, backgroundTerm, posterior, variances, constant, residuals } = st;
   const at = r * terms;
   for (let c = 0; c < k; c++) {
     const rc = residuals[r * k + c];
@@ -220,7 +219,7 @@ function rowLogTerms(st: InformationState, start: number, r: number): void {
     if (models) value += predictorLogDensity(models[c], x, (start + r) * p, p, predictorScratch);
     posterior[at + c] = value;
   }
-  for (let c = k; c < terms; c++) posterior[at + c] = logTerm[c];
+  if (background) posterior[at + k] = backgroundTerm;
 }
 
 /**
