@@ -1,4 +1,4 @@
-import { EigenvalueDecomposition, Matrix } from "ml-matrix";
+import { symmetricEigen } from "../symmetricEigen";
 
 export interface EigenPairs {
   /** Eigenvalues in the order chosen (largest first, by value or by magnitude). */
@@ -17,8 +17,8 @@ const NEGLIGIBLE_ENTRY = 1e-200;
 
 /**
  * The `count` leading eigenpairs of a symmetric p x p matrix (row-major), by value or by
- * absolute value. Small dense algebra: ml-matrix's symmetric eigensolver (Householder
- * tridiagonalisation and QL, as in EISPACK tred2/tql2).
+ * absolute value. Small dense algebra: the symmetric eigensolver (Householder
+ * tridiagonalisation and QL, EISPACK's tred2/tql2: symmetricEigen.ts).
  */
 export function topEigenvectors(matrix: Float64Array, p: number, count: number, byMagnitude: boolean): EigenPairs {
   // The solver squares entries (Householder norms, QL shifts): entries near 1e160 would
@@ -29,20 +29,17 @@ export function topEigenvectors(matrix: Float64Array, p: number, count: number, 
   if (!Number.isFinite(scale)) return coordinateVectors(p, count);
   // A power of two, so that dividing by it is exact and ordinary matrices give the same pairs bit for bit.
   scale = scale === 0 ? 1 : 2 ** Math.ceil(Math.log2(scale));
-  const rows: number[][] = [];
+  const scaled = new Float64Array(p * p);
   for (let a = 0; a < p; a++) {
-    const row = new Array<number>(p);
     // Symmetrise: the caller may have filled only one triangle exactly.
     for (let b = 0; b < p; b++) {
       const value = 0.5 * (matrix[a * p + b] / scale + matrix[b * p + a] / scale);
-      row[b] = Math.abs(value) < NEGLIGIBLE_ENTRY ? 0 : value;
+      scaled[a * p + b] = Math.abs(value) < NEGLIGIBLE_ENTRY ? 0 : value;
     }
-    rows.push(row);
   }
-  const decomposition = new EigenvalueDecomposition(new Matrix(rows), { assumeSymmetric: true });
-  const eigenvalues = decomposition.realEigenvalues;
-  const eigenvectors = decomposition.eigenvectorMatrix;
-  const order = eigenvalues.map((_, i) => i);
+  const decomposition = symmetricEigen(scaled, p);
+  const eigenvalues = decomposition.values;
+  const order = Array.from({ length: p }, (_, i) => i);
   order.sort((i, j) => (byMagnitude ? Math.abs(eigenvalues[j]) - Math.abs(eigenvalues[i]) : eigenvalues[j] - eigenvalues[i]));
   const take = Math.min(count, p);
   const values: number[] = [];
@@ -50,9 +47,7 @@ export function topEigenvectors(matrix: Float64Array, p: number, count: number, 
   for (let t = 0; t < take; t++) {
     const column = order[t];
     values.push(eigenvalues[column] * scale);
-    const v = new Float64Array(p);
-    for (let a = 0; a < p; a++) v[a] = eigenvectors.get(a, column);
-    vectors.push(v);
+    vectors.push(decomposition.vectors.slice(column * p, column * p + p));
   }
   return { values, vectors };
 }
