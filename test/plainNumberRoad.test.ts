@@ -5,6 +5,8 @@ import { SkeinError } from "../src/engine/errors";
 import type { DataTable } from "../src/io/dataTable";
 import { decodeText } from "../src/io/decodeText";
 import { csvTable, csvTableOfFields, plainNumberCsv } from "../src/io/readCsv";
+import { longDecimalValue } from "../src/io/longDecimal";
+import { createRandom } from "../src/engine/random";
 
 // A file of plain numbers is read straight from its bytes into columns of doubles and built into
 // a design without rows of cells (the one-pass road). It must give exactly what the field
@@ -181,4 +183,62 @@ describe("the one-pass road for files of plain numbers", () => {
     expect(table.numberColumns).toBeDefined();
     expectSameNumbers(table.numberColumns![0], cells.map(Number));
   });
+
+  it("reads full-precision exports (16 to 19 significant digits) as Number() does, near halfway points too", () => {
+    // Reference: Number(), the ECMAScript conversion of decimal text to the nearest double
+    // (round half to even). Invented doubles written with 16-19 significant digits, and the
+    // exact halfway points between neighbouring doubles written with 17-19 digits, cut and
+    // rounded: the texts nearest to a rounding boundary that such digits can come.
+    const random = createRandom(20261204);
+    const cells: string[] = [];
+    for (let t = 0; t < 20000; t++) {
+      const magnitude = 10 ** Math.floor(70 * random.next() - 35);
+      const value = (random.next() - 0.5) * magnitude;
+      cells.push(value.toPrecision(16 + (t % 4)), String(value));
+      const [cut, rounded] = halfwayTexts(Math.abs(value), 17 + (t % 3));
+      cells.push(cut, rounded);
+    }
+    const table = csvTable(`a\n${cells.join("\n")}\n`, "full-precision.csv");
+    expect(table.numberColumns).toBeDefined();
+    expectSameNumbers(table.numberColumns![0], cells.map(Number));
+  });
+
+  it("decides every full-precision export of a double between 1e-45 and 1e14 without reading its text", () => {
+    // NaN sends a number to Number(), which would hide a road that never decides. Invented
+    // doubles, written as 17 significant digits (toExponential(16)); below 2^53 no such decimal
+    // is a halfway point between doubles, so the bracket decides each unless one lies within
+    // 2^-90 of one (about one in 2^37).
+    const random = createRandom(7);
+    for (let t = 0; t < 50000; t++) {
+      const value = (random.next() + 0.05) * 10 ** Math.floor(59 * random.next() - 45);
+      const [, first, rest, exponent] = /^(\d)\.(\d{16})e([+-]\d+)$/.exec(value.toExponential(16))!;
+      const digits = first + rest;
+      const read = longDecimalValue(Number(digits.slice(0, 15)), Number(digits.slice(15)), 2, Number(exponent) - 16);
+      if (read !== value) expect([value.toExponential(16), read]).toEqual([value.toExponential(16), value]);
+    }
+  });
 });
+
+/**
+ * The halfway point between `value` (a positive finite double) and the next double up, as its
+ * exact decimal cut to `digits` significant digits, and the same rounded up in its last digit.
+ */
+function halfwayTexts(value: number, digits: number): [string, string] {
+  const view = new DataView(new ArrayBuffer(8));
+  view.setFloat64(0, value);
+  const bits = view.getBigUint64(0);
+  const exponentBits = Number((bits >> 52n) & 0x7ffn);
+  const fraction = bits & ((1n << 52n) - 1n);
+  // value = mantissa · 2^exponent exactly; the halfway point is (2·mantissa + 1) · 2^(exponent − 1).
+  const mantissa = exponentBits === 0 ? fraction : fraction | (1n << 52n);
+  const exponent = (exponentBits === 0 ? 1 : exponentBits) - 1075;
+  const odd = 2n * mantissa + 1n;
+  const shift = exponent - 1;
+  // As a whole number of decimal digits times 10^scale.
+  const [whole, scale] = shift >= 0 ? [odd << BigInt(shift), 0] : [odd * 5n ** BigInt(-shift), shift];
+  const text = whole.toString();
+  const kept = text.slice(0, digits);
+  const power = scale + text.length - kept.length;
+  const up = (BigInt(kept) + 1n).toString();
+  return [`${kept}e${power}`, `${up}e${power}`];
+}

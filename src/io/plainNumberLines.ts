@@ -5,6 +5,8 @@
  * to the field splitter (readCsv.ts), which reads every file. Host-free.
  */
 
+import { HEAD_DIGITS, longDecimalValue, TAIL_DIGITS } from "./longDecimal";
+
 const LF = 10;
 const CR = 13;
 const COMMA = 44;
@@ -27,7 +29,7 @@ const PLAIN_NUMBER_MAX_LENGTH = 64;
  * an exact power of ten (10^0 to 10^22), one multiplication or division then rounds the true
  * value once, to the double that Number() reads from the text (Clinger 1990).
  */
-const EXACT_DIGITS = 15;
+const EXACT_DIGITS = HEAD_DIGITS;
 const POWERS_OF_TEN = Array.from({ length: 23 }, (_, e) => Number(`1e${e}`));
 
 /** The columns of the data lines: NaN for a blank cell; for each row, its 1-based line. */
@@ -184,8 +186,10 @@ function readPlainNumber(bytes: Uint8Array, first: number, last: number): number
     negative = bytes[i] === MINUS;
     i++;
   }
-  // The digits as one whole number (leading zeros left out) and the place of the point.
+  // The digits as one whole number (leading zeros left out) and the place of the point; past
+  // EXACT_DIGITS significant digits, the next ones as a whole number of their own (the tail).
   let whole = 0;
+  let tail = 0;
   let significant = 0;
   let digits = 0;
   let pointShift = 0;
@@ -194,7 +198,8 @@ function readPlainNumber(bytes: Uint8Array, first: number, last: number): number
     const code = bytes[i];
     if (isDigit(code)) {
       if (whole !== 0 || code !== ZERO) {
-        whole = whole * 10 + (code - ZERO);
+        if (significant < EXACT_DIGITS) whole = whole * 10 + (code - ZERO);
+        else if (significant < EXACT_DIGITS + TAIL_DIGITS) tail = tail * 10 + (code - ZERO);
         significant++;
       }
       digits++;
@@ -229,6 +234,11 @@ function readPlainNumber(bytes: Uint8Array, first: number, last: number): number
   if (significant <= EXACT_DIGITS && (whole === 0 || (power >= -22 && power <= 22))) {
     const size = whole === 0 ? 0 : power >= 0 ? whole * POWERS_OF_TEN[power] : whole / POWERS_OF_TEN[-power];
     return negative ? -size : size;
+  }
+  if (significant > EXACT_DIGITS && significant <= EXACT_DIGITS + TAIL_DIGITS) {
+    const tailDigits = significant - EXACT_DIGITS;
+    const size = longDecimalValue(whole, tail, tailDigits, power);
+    if (!Number.isNaN(size)) return negative ? -size : size;
   }
   return Number(String.fromCharCode.apply(null, bytes.subarray(first, i) as unknown as number[]));
 }
