@@ -88,18 +88,29 @@ describe("the row kernels' WebAssembly path (rowKernels.ts, the E-step kernel in
       const residuals = Float64Array.from({ length: n * k }, () => 4 * (random.next() - 0.5) * (random.next() < 0.1 ? 100 : 1));
       const constant = Float64Array.from({ length: k }, () => -2 * random.next());
       const curvature = Float64Array.from({ length: k }, () => -0.5 / (0.01 + random.next()));
-      const outputs: string[] = [];
-      for (const allowed of [false, true]) {
-        allowRowKernels(allowed);
-        const memberships = new Float64Array(n * k).fill(-1);
-        const rows = new Float64Array(n).fill(-1);
-        const total = residualMemberships(residuals, 17, n - 5, k, constant, curvature, memberships, rows);
-        outputs.push(`${bits(memberships)} ${bits(rows)} ${bits(Float64Array.of(total))}`);
+      // Without and with one more term the same for every row (the background's).
+      for (const term of [null, -1.5 - random.next()]) {
+        const outputs: string[] = [];
+        for (const allowed of [false, true]) {
+          allowRowKernels(allowed);
+          const memberships = new Float64Array(n * k).fill(-1);
+          const rows = new Float64Array(n).fill(-1);
+          const extra = term === null ? undefined : { term, memberships: new Float64Array(n).fill(-1) };
+          const total = residualMemberships(residuals, 17, n - 5, k, constant, curvature, memberships, rows, extra);
+          outputs.push(`${bits(memberships)} ${bits(rows)} ${bits(Float64Array.of(total))} ${extra ? bits(extra.memberships) : ""}`);
+          // Rows outside [from, to) untouched; inside, a row's memberships (the extra one with
+          // them) add up to 1.
+          expect(memberships[17 * k - 1]).toBe(-1);
+          expect(rows[n - 5]).toBe(-1);
+          for (const i of [17, 500, n - 6]) {
+            let sum = extra ? extra.memberships[i] : 0;
+            for (let c = 0; c < k; c++) sum += memberships[i * k + c];
+            expect(sum).toBeCloseTo(1, 12);
+          }
+        }
+        allowRowKernels(true);
+        expect(outputs[1]).toBe(outputs[0]);
       }
-      allowRowKernels(true);
-      expect(outputs[1]).toBe(outputs[0]);
-      // Rows outside [from, to) untouched.
-      expect(outputs[1].startsWith(bits(new Float64Array(17 * k).fill(-1)))).toBe(true);
     }
   });
 
@@ -167,7 +178,8 @@ describe("the row kernels' WebAssembly path (rowKernels.ts, the E-step kernel in
       const exact = fitMixture(noiseless.data, { k: 4, intercept: false, seed: 2 });
       const fit = fitMixture(noisy.data, { k: 3, intercept: true, seed: 2 });
       const scan = scanComponents(noisy.data, { kMax: 4, seed: 3 });
-      prints.push(fingerprint([exact.components, exact.logLikelihood, fit.components, fit.logLikelihood, fit.memberships, standardErrors(noisy.data, fit), scan.rows]));
+      const withBackground = fitMixture(noisy.data, { k: 3, intercept: true, seed: 2, background: true });
+      prints.push(fingerprint([exact.components, exact.logLikelihood, fit.components, fit.logLikelihood, fit.memberships, standardErrors(noisy.data, fit), scan.rows, withBackground]));
     }
     allowRowKernels(true);
     expect(prints[1]).toBe(prints[0]);

@@ -93,49 +93,90 @@ export function normaliseLogDensities(logDensities: Float64Array, m: number, k: 
   return total;
 }
 
+/** One more log term, the same for every row (the flat background's), and where its memberships go. */
+export interface ConstantTerm {
+  term: number;
+  memberships: Float64Array;
+}
+
 /**
  * The regression E-step of rows [from, to) from their stored residuals (n x k, row-major): the
  * log terms constant_c + curvature_c · r² (constant_c = ln π_c − ½ ln(2πσ_c²), curvature_c =
  * −1/(2σ_c²)), then memberships[i·k + c] and rowLogLikelihood[i] as membershipsFromLogTerms
- * makes them. Returns the rows' values added in row order from 0.
+ * makes them. With `extra`, each row has one more term, extra.term (the background's: a
+ * residual of 0 under a curvature of 0 adds exactly nothing to it in the module), whose
+ * membership goes to extra.memberships[i]. Returns the rows' values added in row order from 0.
  */
 export function residualMemberships(
   residuals: Float64Array, from: number, to: number, k: number, constant: Float64Array, curvature: Float64Array,
-  memberships: Float64Array, rowLogLikelihood: Float64Array,
+  memberships: Float64Array, rowLogLikelihood: Float64Array, extra?: ConstantTerm,
 ): number {
   const kernel = rowKernels();
+  // Terms a row: the components', and the extra one.
+  const width = extra ? k + 1 : k;
   let total = 0;
   if (!kernel) {
-    const logTerm = new Float64Array(k);
+    const logTerm = new Float64Array(width);
     for (let i = from; i < to; i++) {
       const offset = i * k;
       for (let c = 0; c < k; c++) {
         const r = residuals[offset + c];
         logTerm[c] = constant[c] + curvature[c] * r * r;
       }
-      rowLogLikelihood[i] = membershipsFromLogTerms(logTerm, 0, k, memberships, offset);
+      if (extra) {
+        logTerm[k] = extra.term;
+        rowLogLikelihood[i] = membershipsFromLogTerms(logTerm, 0, width, logTerm, 0);
+        memberships.set(logTerm.subarray(0, k), offset);
+        extra.memberships[i] = logTerm[k];
+      } else {
+        rowLogLikelihood[i] = membershipsFromLogTerms(logTerm, 0, k, memberships, offset);
+      }
       total += rowLogLikelihood[i];
     }
     return total;
   }
   // The module's memory in doubles: constants, curvatures, one row's terms, then a block's
   // residuals, memberships and row values.
-  const blockRows = kernelBlockRows(k);
-  const residualsAt = 3 * k;
-  const outAt = residualsAt + blockRows * k;
-  const rowsAt = outAt + blockRows * k;
+  const blockRows = kernelBlockRows(width);
+  const residualsAt = 3 * width;
+  const outAt = residualsAt + blockRows * width;
+  const rowsAt = outAt + blockRows * width;
   reserveDoubles(kernel, rowsAt + blockRows);
   const heap = kernel.heap;
   heap.set(constant.subarray(0, k), 0);
-  heap.set(curvature.subarray(0, k), k);
+  heap.set(curvature.subarray(0, k), width);
+  if (extra) {
+    heap[k] = extra.term;
+    heap[width + k] = 0;
+  }
   for (let start = from; start < to; start += blockRows) {
     const rows = Math.min(to - start, blockRows);
-    heap.set(residuals.subarray(start * k, (start + rows) * k), residualsAt);
-    total = kernel.fromResiduals(residualsAt * 8, rows, k, 0, k * 8, 2 * k * 8, outAt * 8, rowsAt * 8, total);
-    memberships.set(heap.subarray(outAt, outAt + rows * k), start * k);
+    if (extra) placeWithExtraColumn(residuals.subarray(start * k, (start + rows) * k), rows, k, 0, heap, residualsAt);
+    else heap.set(residuals.subarray(start * k, (start + rows) * k), residualsAt);
+    total = kernel.fromResiduals(residualsAt * 8, rows, width, 0, width * 8, 2 * width * 8, outAt * 8, rowsAt * 8, total);
+    if (extra) takeWithExtraColumn(heap, outAt, rows, k, memberships, start * k, extra.memberships, start);
+    else memberships.set(heap.subarray(outAt, outAt + rows * k), start * k);
     rowLogLikelihood.set(heap.subarray(rowsAt, rowsAt + rows), start);
   }
   return total;
+}
+
+/** Rows of k values into `out` from `at` as rows of k + 1, each row's last value `last`. */
+function placeWithExtraColumn(values: Float64Array, rows: number, k: number, last: number, out: Float64Array, at: number): void {
+  for (let i = 0; i < rows; i++) {
+    const to = at + i * (k + 1);
+    for (let c = 0; c < k; c++) out[to + c] = values[i * k + c];
+    out[to + k] = last;
+  }
+}
+
+/** Rows of k + 1 values from `values` at `at`: the first k of each to `out` from outAt, the last to lastOut from lastAt. */
+function takeWithExtraColumn(values: Float64Array, at: number, rows: number, k: number, out: Float64Array, outAt: number, lastOut: Float64Array, lastAt: number): void {
+  for (let i = 0; i < rows; i++) {
+    const from = at + i * (k + 1);
+    for (let c = 0; c < k; c++) out[outAt + i * k + c] = values[from + c];
+    lastOut[lastAt + i] = values[from + k];
+  }
 }
 
 /**

@@ -139,6 +139,9 @@ function eStepWithExtraTerms(ws: MixtureWorkspace, params: MixtureParameters, wi
   // term k of the row's log terms, its membership then moved to the background's own array.
   const background = ws.background;
   const backgroundTerm = background ? backgroundLogTerm(background) : 0;
+  if (background && !joint) {
+    return residualMemberships(residuals, 0, n, k, constant, curvature, memberships, rowLogLikelihood, { term: backgroundTerm, memberships: background.memberships });
+  }
   let total = 0;
   for (let i = 0; i < n; i++) {
     const offset = i * k;
