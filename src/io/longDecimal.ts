@@ -4,10 +4,10 @@
  * sum of two doubles, Dekker 1971), scaled by exact powers of ten in double-double arithmetic,
  * and rounded only when every value within the arithmetic's error bound rounds to the same
  * double. Otherwise NaN, and the caller reads the text: about once in 2^37 numbers, for
- * numbers beyond 10^±66 or so, and for whole numbers of 17 or more digits, which often lie
- * exactly halfway between two doubles (the bracket cannot tell which way an exact tie goes). Full-precision exports (17 significant digits, the shortest text that
- * gives back every double) take this road; the usual short numbers take Clinger's fast path in
- * plainNumberLines.ts.
+ * powers of ten beyond ±66, and for values from 2^53 up, which can lie exactly halfway between
+ * two doubles (the bracket cannot tell which way an exact tie goes). Full-precision exports
+ * (17 significant digits, the shortest text that gives back every double) take this road; the
+ * usual short numbers take Clinger's fast path in plainNumberLines.ts.
  */
 
 /** Digits held in the head: below 2^53, so exact in one double. */
