@@ -126,7 +126,7 @@ export function residualMemberships(
       if (extra) {
         logTerm[k] = extra.term;
         rowLogLikelihood[i] = membershipsFromLogTerms(logTerm, 0, width, logTerm, 0);
-        memberships.set(logTerm.subarray(0, k), offset);
+        for (let c = 0; c < k; c++) memberships[offset + c] = logTerm[c];
         extra.memberships[i] = logTerm[k];
       } else {
         rowLogLikelihood[i] = membershipsFromLogTerms(logTerm, 0, k, memberships, offset);

@@ -126,7 +126,11 @@ export function eStep(ws: MixtureWorkspace, params: MixtureParameters, withResid
   return shared;
 }
 
-/** eStep with the joint model's x densities or the background's term, on the calling thread. */
+/**
+ * eStep with the joint model's x densities or the background's term, on the calling thread:
+ * the background alone through the E-step kernel (residualMemberships, one more term a row),
+ * the joint model's x densities row by row here.
+ */
 function eStepWithExtraTerms(ws: MixtureWorkspace, params: MixtureParameters, withResiduals: boolean, constant: Float64Array, curvature: Float64Array): number {
   const { n, k, residuals, memberships, rowLogLikelihood } = ws;
   if (withResiduals) computeResiduals(ws, params);
