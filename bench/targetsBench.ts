@@ -209,7 +209,8 @@ const FIT_SEEDS_LIMIT_MS = 60000;
  * Noiseless d = 50, K = 7 at 5, 6 and 10 rows per predictor per component: five problems,
  * each fitted with its bench seed and the next. Which few-row problems a fit recovers depends
  * partly on the fit's seed (the random starts and sub-problem seeds), so a change to the
- * search is judged on the count over both seeds, not on the grid's one seed per problem.
+ * search is judged on the count over both seeds, not on the grid's one seed per problem. Then
+ * the problems at 14, 10 and 6 rows with the bench's seed as `skein fit` processes.
  */
 export function runFitSeedsBench(print: (line: string) => void): void {
   print(`Noiseless d = 50, K = 7, problems 0-4 each fitted with ${FIT_SEEDS} seeds (the bench's and the next); recovered = worst relative error <= 1e-6; a fit still running after ${FIT_SEEDS_LIMIT_MS / 1000} s is cancelled and counts as not recovered`);
@@ -219,23 +220,25 @@ export function runFitSeedsBench(print: (line: string) => void): void {
     const tally = tallyRecoveries(runs, FIT_SEEDS_LIMIT_MS);
     print(`  ${String(factor).padStart(6)} ${String(tally.rows).padStart(6)} ${`${tally.recovered}/${tally.fits}`.padStart(11)} ${tally.meanMs.toFixed(0).padStart(9)} ${tally.maxMs.toFixed(0).padStart(8)}`);
   }
-  if (cliBuilt()) printSixRowsAsProcesses(print);
+  // The targets are set as a user meets them: about 1 s at 10 and 14 rows, about 4 s at 6.
+  if (cliBuilt()) for (const factor of [14, 10, 6]) printRowsAsProcesses(factor, print);
 }
 
 /**
- * The 6-row problems with the bench's seed as a user runs them: each a `skein fit` process
- * (with its second thread, as shipped), timed by its own timings.fitMs. The rows above are
- * fitted in this process, on one thread.
+ * The problems at `factor` rows per predictor per component with the bench's seed as a user
+ * runs them: each a `skein fit` process (with its second thread, as shipped), timed by its own
+ * timings.fitMs (the first fit of a fresh JavaScript engine). The rows above are fitted in
+ * this process, on one thread.
  */
-function printSixRowsAsProcesses(print: (line: string) => void): void {
+function printRowsAsProcesses(factor: number, print: (line: string) => void): void {
   const times: number[] = [];
   let recovered = 0;
-  for (const { problem, seed } of gridRuns(50, 7, 6, 5)) {
+  for (const { problem, seed } of gridRuns(50, 7, factor, 5)) {
     const { file, cleanup } = writeProblemCsv(problem, 17);
     try {
       const figures = noiselessFitAsProcess(file, problem, seed, FIT_SEEDS_LIMIT_MS);
       if (typeof figures === "string") {
-        print(`  6 rows, seed ${seed} as a skein fit process: ${figures}`);
+        print(`  ${factor} rows, seed ${seed} as a skein fit process: ${figures}`);
         continue;
       }
       times.push(figures.fitMs);
@@ -246,7 +249,7 @@ function printSixRowsAsProcesses(print: (line: string) => void): void {
   }
   // Times of the fits that finished (a stopped one is printed above and counts as not recovered).
   const timed = times.length === 0 ? "none finished" : `fit mean ${(times.reduce((sum, t) => sum + t, 0) / times.length).toFixed(0)} ms, max ${Math.max(...times).toFixed(0)} ms${times.length < 5 ? ` (the ${times.length} that finished)` : ""}`;
-  print(`  6 rows, the five problems with the bench's seed, each a skein fit process with its second thread (as shipped): ${recovered}/5 recovered, ${timed}`);
+  print(`  ${factor} rows, the five problems with the bench's seed, each a skein fit process with its second thread (as shipped): ${recovered}/5 recovered, ${timed}`);
 }
 
 export function runLargeBench(print: (line: string) => void): void {
