@@ -5,6 +5,7 @@ import { fitMixture } from "../src/engine/fitMixture";
 import { standardErrors } from "../src/engine/standardErrors";
 import { helperThread, shareableArray, useHelperThread, type HelperJob, type HelperThread } from "../src/engine/helperThread";
 import { runHelperJob } from "../src/engine/mixture/helperJobs";
+import type { RowsJob } from "../src/engine/mixture/eStep";
 import { ConcentrationSteps, concentrationRuns, type ConcentrationJob } from "../src/engine/mixture/concentrationSteps";
 import { installHelperThread } from "../src/cli/helperThread";
 import { createRandom } from "../src/engine/random";
@@ -17,13 +18,18 @@ function fingerprint(value: unknown): string {
   return JSON.stringify(value, (key, v) => (key === "timings" ? undefined : v instanceof Float64Array ? Array.from(v) : v));
 }
 
-/** A noiseless d = 40, K = 4 fit (sub-problems, exact components) and a noisy one (d = 30, K = 3, 5,400 rows: large enough that its M-steps are split too) with standard errors. */
+/**
+ * A noiseless d = 40, K = 4 fit (sub-problems, exact components), a noisy one (d = 30, K = 3,
+ * 5,400 rows: large enough that its M-steps are split too) with standard errors, and the noisy
+ * one with the background (its E-steps carry the background's term).
+ */
 function fits(): string {
   const noiseless = noiselessProblem(40, 4, 20, createRandom(31));
   const noisy = noisyProblem(30, 3, 60, createRandom(32));
   const exact = fitMixture(noiseless.data, { k: 4, intercept: false, seed: 3 });
   const fit = fitMixture(noisy.data, { k: 3, intercept: true, seed: 3 });
-  return fingerprint([exact.components, exact.logLikelihood, exact.memberships, fit.components, fit.logLikelihood, fit.memberships, standardErrors(noisy.data, fit)]);
+  const withBackground = fitMixture(noisy.data, { k: 3, intercept: true, seed: 3, background: true });
+  return fingerprint([exact.components, exact.logLikelihood, exact.memberships, fit.components, fit.logLikelihood, fit.memberships, standardErrors(noisy.data, fit), withBackground]);
 }
 
 /**
@@ -72,12 +78,17 @@ function concentrationCase(): { run: () => string; alone: string } {
 describe("the helper thread", () => {
   const alone = fits();
 
-  it("hands over Gram sums and rows, and the fits are the same to the bit", () => {
+  it("hands over Gram sums and rows, the background's E-step rows too, and the fits are the same to the bit", () => {
     const { helper, jobs } = inlineHelper("works");
-    useHelperThread(helper);
+    let backgroundRows = 0;
+    useHelperThread({ ...helper, start: (job: HelperJob) => {
+      if (job.kind === "rows" && (job as RowsJob).terms?.extra) backgroundRows++;
+      helper.start(job);
+    } });
     expect(fits()).toBe(alone);
     expect(jobs.get("componentSums") ?? 0).toBeGreaterThan(0);
     expect(jobs.get("rows") ?? 0).toBeGreaterThan(0);
+    expect(backgroundRows).toBeGreaterThan(0);
   });
 
   it("takes its shares once ready when it was still starting as the fit began, the fits the same to the bit", () => {

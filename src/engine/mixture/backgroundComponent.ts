@@ -1,6 +1,7 @@
 import type { MixtureFit, RegressionData } from "../mixtureTypes";
 import { findStrayRows } from "../strayRows";
 import type { MixtureWorkspace } from "./mixtureWorkspace";
+import { shareableArray } from "../helperThread";
 
 /**
  * A background component: rows drawn from a flat density over the box the data span,
@@ -33,7 +34,7 @@ const BACKGROUND_MIN_WEIGHT = 1e-12;
  * or a sub-fit uses the flat density of all rows (one V for the whole fit).
  */
 export function createBackground(ws: MixtureWorkspace, logDensity?: number, weight = BACKGROUND_START_WEIGHT): BackgroundComponent {
-  return { logDensity: logDensity ?? backgroundLogDensity(ws.y, ws.n, ws.joint ? ws.predictors : null, ws.p), weight, memberships: new Float64Array(ws.n) };
+  return { logDensity: logDensity ?? backgroundLogDensity(ws.y, ws.n, ws.joint ? ws.predictors : null, ws.p), weight, memberships: shareableArray(ws.n) };
 }
 
 /** The workspace with a background attached when the fit asks for one, sharing `full`'s flat density (one V for the whole fit). */

@@ -4,7 +4,7 @@ import { backgroundLogTerm } from "./backgroundComponent";
 import { reserve, simdKernel } from "../weightedGram";
 import { HELPER_MINIMUM_MICROSECONDS, ROW_MULTIPLY_ADDS_PER_MICROSECOND, ROW_TERM_MULTIPLY_ADDS, allShared, helperShare, helperThread, shareWork, type HelperJob } from "../helperThread";
 
-import { gaussianLogDensity, componentLogConstant, membershipsFromLogTerms, residualMemberships } from "../logDensities";
+import { gaussianLogDensity, componentLogConstant, membershipsFromLogTerms, residualMemberships, type ConstantTerm } from "../logDensities";
 import { paddedCoefficients, rowResiduals } from "../rowResiduals";
 
 /**
@@ -29,7 +29,7 @@ export interface RowsJob extends HelperJob, WorkspaceRows {
   coefficients: Float64Array;
   /** Compute the residuals at the coefficients first (else read the stored ones). */
   withResiduals: boolean;
-  terms: { constant: Float64Array; curvature: Float64Array; memberships: Float64Array; rowLogLikelihood: Float64Array } | null;
+  terms: { constant: Float64Array; curvature: Float64Array; memberships: Float64Array; rowLogLikelihood: Float64Array; extra?: ConstantTerm } | null;
 }
 
 function rowsJob(ws: MixtureWorkspace, params: MixtureParameters, withResiduals: boolean, terms: RowsJob["terms"]): RowsJob {
@@ -47,6 +47,7 @@ function byRows(job: RowsJob): number | null {
   const { from, to, q, k } = job;
   const helper = helperThread();
   const arrays = job.terms ? [job.rowValues, job.y, job.residuals, job.terms.memberships, job.terms.rowLogLikelihood] : [job.rowValues, job.y, job.residuals];
+  if (job.terms?.extra) arrays.push(job.terms.extra.memberships);
   const work = (to - from) * k * ((job.withResiduals ? q : 0) + (job.terms ? ROW_TERM_MULTIPLY_ADDS : 0));
   if (!helper || work / ROW_MULTIPLY_ADDS_PER_MICROSECOND < HELPER_MINIMUM_MICROSECONDS || !allShared(...arrays)) return stepRows(job);
   const middle = from + Math.round((to - from) * (1 - helperShare(job.kind)));
@@ -65,7 +66,7 @@ export function stepRows(job: RowsJob): number {
     const padded = paddedCoefficients(job.coefficients, k, q);
     for (let i = from; i < to; i++) rowResiduals(rowValues, i * rowStride - implicitOnes, implicitOnes, q, padded, k, y[i], residuals, i * k);
   }
-  return terms ? residualMemberships(residuals, from, to, k, terms.constant, terms.curvature, terms.memberships, terms.rowLogLikelihood) : 0;
+  return terms ? residualMemberships(residuals, from, to, k, terms.constant, terms.curvature, terms.memberships, terms.rowLogLikelihood, terms.extra) : 0;
 }
 
 /**
@@ -118,41 +119,37 @@ export function eStep(ws: MixtureWorkspace, params: MixtureParameters, withResid
     constant[c] = componentLogConstant(params.weights[c], params.variances[c]);
     curvature[c] = -0.5 / params.variances[c];
   }
-  if (ws.joint || ws.background) return eStepWithExtraTerms(ws, params, withResiduals, constant, curvature);
-  const total = byRows(rowsJob(ws, params, withResiduals, { constant, curvature, memberships, rowLogLikelihood }));
+  const joint = ws.joint && params.xMeans !== null;
+  if (joint) return jointEStep(ws, params, withResiduals, constant, curvature);
+  // The flat background (Banfield & Raftery 1993) is one more term, the same for every row,
+  // its memberships in the background's own array.
+  const background = ws.background;
+  const extra = background ? { term: backgroundLogTerm(background), memberships: background.memberships } : undefined;
+  const total = byRows(rowsJob(ws, params, withResiduals, { constant, curvature, memberships, rowLogLikelihood, extra }));
   if (total !== null) return total;
   let shared = 0;
   for (let i = 0; i < n; i++) shared += rowLogLikelihood[i];
   return shared;
 }
 
-/**
- * eStep with the joint model's x densities or the background's term, on the calling thread:
- * the background alone through the E-step kernel (residualMemberships, one more term a row),
- * the joint model's x densities row by row here.
- */
-function eStepWithExtraTerms(ws: MixtureWorkspace, params: MixtureParameters, withResiduals: boolean, constant: Float64Array, curvature: Float64Array): number {
+/** The joint model's E-step, with its x densities (and the background's term when it has one), row by row on the calling thread. */
+function jointEStep(ws: MixtureWorkspace, params: MixtureParameters, withResiduals: boolean, constant: Float64Array, curvature: Float64Array): number {
   const { n, k, residuals, memberships, rowLogLikelihood } = ws;
   if (withResiduals) computeResiduals(ws, params);
   const logTerm = ws.rowScratch;
-  const joint = ws.joint && params.xMeans !== null;
   const xMeans = params.xMeans as Float64Array;
   const xFactors = params.xCholesky as Float64Array;
   const xLogDeterminants = params.xLogDeterminants as Float64Array;
-  // The flat background (Banfield & Raftery 1993) is one more term, the same for every row:
-  // term k of the row's log terms, its membership then moved to the background's own array.
+  // The background's term is term k of the row's log terms, its membership then moved to the
+  // background's own array.
   const background = ws.background;
   const backgroundTerm = background ? backgroundLogTerm(background) : 0;
-  if (background && !joint) {
-    return residualMemberships(residuals, 0, n, k, constant, curvature, memberships, rowLogLikelihood, { term: backgroundTerm, memberships: background.memberships });
-  }
   let total = 0;
   for (let i = 0; i < n; i++) {
     const offset = i * k;
     for (let c = 0; c < k; c++) {
       const r = residuals[offset + c];
-      let value = constant[c] + curvature[c] * r * r;
-      if (joint) value += gaussianLogDensity(ws.predictors, i * ws.p, xMeans, c * ws.p, xFactors, c * ws.p * ws.p, xLogDeterminants[c], ws.p, ws.predictorScratch);
+      const value = constant[c] + curvature[c] * r * r + gaussianLogDensity(ws.predictors, i * ws.p, xMeans, c * ws.p, xFactors, c * ws.p * ws.p, xLogDeterminants[c], ws.p, ws.predictorScratch);
       logTerm[c] = value;
     }
     let rowValue: number;
