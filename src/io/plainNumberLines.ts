@@ -170,6 +170,32 @@ function isDigit(code: number): boolean {
   return code >= ZERO && code <= NINE;
 }
 
+/** The digits readDigits has taken so far: the whole number of the first EXACT_DIGITS significant ones, the tail of the next TAIL_DIGITS, and how many significant digits in all. */
+const digitsRead = { whole: 0, tail: 0, significant: 0 };
+
+/** Takes the digits from `from` on into digitsRead (leading zeros of the number left out); returns the first position that holds no digit. */
+function readDigits(bytes: Uint8Array, from: number, last: number): number {
+  let { whole, tail, significant } = digitsRead;
+  let i = from;
+  for (; i < last; i++) {
+    const digit = bytes[i] - ZERO;
+    if (digit < 0 || digit > 9) break;
+    if (significant === 0) {
+      if (digit === 0) continue;
+      whole = digit;
+    } else if (significant < EXACT_DIGITS) {
+      whole = whole * 10 + digit;
+    } else if (significant < EXACT_DIGITS + TAIL_DIGITS) {
+      tail = tail * 10 + digit;
+    }
+    significant++;
+  }
+  digitsRead.whole = whole;
+  digitsRead.tail = tail;
+  digitsRead.significant = significant;
+  return i;
+}
+
 /** Where the last readPlainNumber stopped: the byte after its number. */
 let numberEnd = 0;
 
@@ -186,31 +212,22 @@ function readPlainNumber(bytes: Uint8Array, first: number, last: number): number
     negative = bytes[i] === MINUS;
     i++;
   }
-  // The digits as one whole number (leading zeros left out) and the place of the point; past
+  // The digits as one whole number (leading zeros left out), then those after the point; past
   // EXACT_DIGITS significant digits, the next ones as a whole number of their own (the tail).
-  let whole = 0;
-  let tail = 0;
-  let significant = 0;
-  let digits = 0;
+  digitsRead.whole = 0;
+  digitsRead.tail = 0;
+  digitsRead.significant = 0;
+  const wholeStart = i;
+  i = readDigits(bytes, i, last);
+  const wholeDigits = i - wholeStart;
   let pointShift = 0;
-  let pointSeen = false;
-  for (; i < last; i++) {
-    const code = bytes[i];
-    if (isDigit(code)) {
-      if (whole !== 0 || code !== ZERO) {
-        if (significant < EXACT_DIGITS) whole = whole * 10 + (code - ZERO);
-        else if (significant < EXACT_DIGITS + TAIL_DIGITS) tail = tail * 10 + (code - ZERO);
-        significant++;
-      }
-      digits++;
-      if (pointSeen) pointShift++;
-    } else if (code === POINT && !pointSeen) {
-      pointSeen = true;
-    } else {
-      break;
-    }
+  if (i < last && bytes[i] === POINT) {
+    const fractionStart = i + 1;
+    i = readDigits(bytes, fractionStart, last);
+    pointShift = i - fractionStart;
   }
-  if (digits === 0) return NaN;
+  const { whole, tail, significant } = digitsRead;
+  if (wholeDigits + pointShift === 0) return NaN;
   let exponent = 0;
   if (i < last && (bytes[i] === SMALL_E || bytes[i] === CAPITAL_E)) {
     let j = i + 1;
