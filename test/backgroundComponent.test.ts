@@ -87,6 +87,45 @@ describe("background component (uniform noise component, Banfield & Raftery 1993
     expect(cleanAuto.logLikelihood).toBe(plain.logLikelihood);
   });
 
+  it('"auto" ends a trial with the background once it cannot come below the plain fit\'s BIC, and makes the choice a full trial makes', () => {
+    // Invented sheets: the two groups on n rows, row 7 moved `shift` off its own line (about
+    // 4.7, 5.5 and 7.5 noise SDs, and a typing slip); the first three are stray rows, so
+    // "auto" tries the background, which wins by BIC on the last two only.
+    const sheet = (n: number, shift: number): RegressionData => {
+      const random = createRandom(5);
+      const x = new Float64Array(n);
+      const y = new Float64Array(n);
+      for (let i = 0; i < n; i++) {
+        x[i] = 10 * random.next();
+        const noise = (random.next() + random.next() + random.next() - 1.5) * 0.8;
+        y[i] = i % 2 === 1 ? 2 + 3 * x[i] + noise : 20 - x[i] + noise;
+      }
+      y[7] = 2 + 3 * x[7] + shift;
+      return { x, y, n, p: 1 };
+    };
+    const chosen: boolean[] = [];
+    for (const shift of [1.9, 2.2, 3, 1e6]) {
+      const data = sheet(3000, shift);
+      const auto = fitMixture(data, { k: 2, seed: 1, background: "auto" });
+      const plain = fitMixture(data, { k: 2, seed: 1, background: false });
+      const full = fitMixture(data, { k: 2, seed: 1, background: true });
+      const fullChoice = full.bic < plain.bic ? full : plain;
+      chosen.push(auto.background !== undefined);
+      expect(auto.background !== undefined).toBe(fullChoice.background !== undefined);
+      // The same fit; a leader's run the trial ended early may leave the last bits different.
+      expect(Math.abs(auto.logLikelihood - fullChoice.logLikelihood)).toBeLessThan(1e-9 * Math.abs(fullChoice.logLikelihood));
+    }
+    expect(chosen).toEqual([false, false, true, true]);
+    // On 20,000 rows the trial's refinement is ended: the plain fit is kept as it was.
+    const large = sheet(20000, 2);
+    const plain = fitMixture(large, { k: 2, seed: 1, background: false });
+    const trial = fitMixture(large, { k: 2, seed: 1, background: true, mattersBelowBic: { bic: plain.bic, reason: "test" } });
+    expect(trial.refinement.stopped).toBe("test");
+    const auto = fitMixture(large, { k: 2, seed: 1, background: "auto" });
+    expect(auto.background).toBeUndefined();
+    expect(auto.logLikelihood).toBe(plain.logLikelihood);
+  });
+
   it("K = 1 with a background is a weighted least-squares fit that ignores the typo", () => {
     const oneGroup = twoGroupsWithTypo(typoRow);
     // Keep only the first group (even rows) and the typo.

@@ -60,8 +60,14 @@ function fitWithBackgroundSetting(data: RegressionData, options: MixtureOptions)
   // "auto": the background only when the fit without it shows rows far from every regression.
   const plain = fitAtDepth(data, { ...options, background: false }, 0);
   if (!backgroundMayHelp(data, plain)) return plain;
-  return chooseBackground(plain, fitAtDepth(data, { ...options, background: true }, 0));
+  // The trial matters only if its BIC comes below the plain fit's (and below any the caller
+  // set): its runs on all rows stop once it cannot (unwantedFitStop.ts), and the plain fit is kept.
+  const wanted = options.mattersBelowBic && options.mattersBelowBic.bic < plain.bic ? options.mattersBelowBic : { bic: plain.bic, reason: BACKGROUND_TRIAL_STOPPED };
+  return chooseBackground(plain, fitAtDepth(data, { ...options, background: true, mattersBelowBic: wanted }, 0));
 }
+
+/** Why a trial with the background ended early (never shown: the plain fit is kept then). */
+const BACKGROUND_TRIAL_STOPPED = "the fit with the background could not come below the BIC of the fit without it";
 
 /**
  * The driver: a pipeline of named phases (mixture/), each with a typed input and output.
