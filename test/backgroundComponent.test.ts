@@ -6,11 +6,10 @@ import type { RegressionData } from "../src/engine/mixtureTypes";
 import { backgroundLogDensity } from "../src/engine/mixture/backgroundComponent";
 
 /**
- * Invented data: two groups of 150 rows each (y = 2 + 3x and y = 20 − x, noise SD about
- * 0.4), x uniform on [0, 10]; `typoRow`'s y replaced by 1,000,000 as a typing slip would.
+ * Invented data: two groups of n / 2 rows each (y = 2 + 3x on odd rows and y = 20 − x on even
+ * ones, noise SD about 0.4), x uniform on [0, 10].
  */
-function twoGroupsWithTypo(typoRow: number | null, seed = 11): RegressionData {
-  const n = 300;
+function twoGroups(n: number, seed: number): RegressionData {
   const random = createRandom(seed);
   const x = new Float64Array(n);
   const y = new Float64Array(n);
@@ -19,8 +18,14 @@ function twoGroupsWithTypo(typoRow: number | null, seed = 11): RegressionData {
     const noise = (random.next() + random.next() + random.next() - 1.5) * 0.8;
     y[i] = i % 2 === 1 ? 2 + 3 * x[i] + noise : 20 - x[i] + noise;
   }
-  if (typoRow !== null) y[typoRow] = 1_000_000;
   return { x, y, n, p: 1 };
+}
+
+/** twoGroups on 300 rows, `typoRow`'s y replaced by 1,000,000 as a typing slip would. */
+function twoGroupsWithTypo(typoRow: number | null, seed = 11): RegressionData {
+  const data = twoGroups(300, seed);
+  if (typoRow !== null) data.y[typoRow] = 1_000_000;
+  return data;
 }
 
 describe("background component (uniform noise component, Banfield & Raftery 1993)", () => {
@@ -89,19 +94,12 @@ describe("background component (uniform noise component, Banfield & Raftery 1993
 
   it('"auto" ends a trial with the background once it cannot come below the plain fit\'s BIC, and makes the choice a full trial makes', () => {
     // Invented sheets: the two groups on n rows, row 7 moved `shift` off its own line (about
-    // 4.7, 5.5 and 7.5 noise SDs, and a typing slip); the first three are stray rows, so
-    // "auto" tries the background, which wins by BIC on the last two only.
+    // 4.7, 5.5 and 7.5 noise SDs, and a typing slip); all are stray rows, so "auto" tries the
+    // background, which wins by BIC on the last two only.
     const sheet = (n: number, shift: number): RegressionData => {
-      const random = createRandom(5);
-      const x = new Float64Array(n);
-      const y = new Float64Array(n);
-      for (let i = 0; i < n; i++) {
-        x[i] = 10 * random.next();
-        const noise = (random.next() + random.next() + random.next() - 1.5) * 0.8;
-        y[i] = i % 2 === 1 ? 2 + 3 * x[i] + noise : 20 - x[i] + noise;
-      }
-      y[7] = 2 + 3 * x[7] + shift;
-      return { x, y, n, p: 1 };
+      const data = twoGroups(n, 5);
+      data.y[7] = 2 + 3 * data.x[7] + shift;
+      return data;
     };
     const chosen: boolean[] = [];
     for (const shift of [1.9, 2.2, 3, 1e6]) {
