@@ -100,6 +100,20 @@ export interface ConstantTerm {
 }
 
 /**
+ * Row `row`'s memberships from its k log terms in terms[0..k) into memberships[offset..], as
+ * membershipsFromLogTerms makes them; with `extra`, terms[k] is set to its term (terms must
+ * have room) and its membership goes to extra.memberships[row]. Returns the row's value.
+ */
+export function rowMemberships(terms: Float64Array, k: number, memberships: Float64Array, offset: number, extra: ConstantTerm | undefined, row: number): number {
+  if (!extra) return membershipsFromLogTerms(terms, 0, k, memberships, offset);
+  terms[k] = extra.term;
+  const value = membershipsFromLogTerms(terms, 0, k + 1, terms, 0);
+  for (let c = 0; c < k; c++) memberships[offset + c] = terms[c];
+  extra.memberships[row] = terms[k];
+  return value;
+}
+
+/**
  * The regression E-step of rows [from, to) from their stored residuals (n x k, row-major): the
  * log terms constant_c + curvature_c · r² (constant_c = ln π_c − ½ ln(2πσ_c²), curvature_c =
  * −1/(2σ_c²)), then memberships[i·k + c] and rowLogLikelihood[i] as membershipsFromLogTerms
@@ -123,14 +137,7 @@ export function residualMemberships(
         const r = residuals[offset + c];
         logTerm[c] = constant[c] + curvature[c] * r * r;
       }
-      if (extra) {
-        logTerm[k] = extra.term;
-        rowLogLikelihood[i] = membershipsFromLogTerms(logTerm, 0, width, logTerm, 0);
-        for (let c = 0; c < k; c++) memberships[offset + c] = logTerm[c];
-        extra.memberships[i] = logTerm[k];
-      } else {
-        rowLogLikelihood[i] = membershipsFromLogTerms(logTerm, 0, k, memberships, offset);
-      }
+      rowLogLikelihood[i] = rowMemberships(logTerm, k, memberships, offset, extra, i);
       total += rowLogLikelihood[i];
     }
     return total;
@@ -151,7 +158,7 @@ export function residualMemberships(
   }
   for (let start = from; start < to; start += blockRows) {
     const rows = Math.min(to - start, blockRows);
-    if (extra) placeWithExtraColumn(residuals.subarray(start * k, (start + rows) * k), rows, k, 0, heap, residualsAt);
+    if (extra) placeWithExtraColumn(residuals.subarray(start * k, (start + rows) * k), rows, k, heap, residualsAt);
     else heap.set(residuals.subarray(start * k, (start + rows) * k), residualsAt);
     total = kernel.fromResiduals(residualsAt * 8, rows, width, 0, width * 8, 2 * width * 8, outAt * 8, rowsAt * 8, total);
     if (extra) takeWithExtraColumn(heap, outAt, rows, k, memberships, start * k, extra.memberships, start);
@@ -161,12 +168,12 @@ export function residualMemberships(
   return total;
 }
 
-/** Rows of k values into `out` from `at` as rows of k + 1, each row's last value `last`. */
-function placeWithExtraColumn(values: Float64Array, rows: number, k: number, last: number, out: Float64Array, at: number): void {
+/** Rows of k residuals into `out` from `at` as rows of k + 1, each row's last residual 0 (the extra term's). */
+function placeWithExtraColumn(values: Float64Array, rows: number, k: number, out: Float64Array, at: number): void {
   for (let i = 0; i < rows; i++) {
     const to = at + i * (k + 1);
     for (let c = 0; c < k; c++) out[to + c] = values[i * k + c];
-    out[to + k] = last;
+    out[to + k] = 0;
   }
 }
 

@@ -4,7 +4,7 @@ import { backgroundLogTerm } from "./backgroundComponent";
 import { reserve, simdKernel } from "../weightedGram";
 import { HELPER_MINIMUM_MICROSECONDS, ROW_MULTIPLY_ADDS_PER_MICROSECOND, ROW_TERM_MULTIPLY_ADDS, allShared, helperShare, helperThread, shareWork, type HelperJob } from "../helperThread";
 
-import { gaussianLogDensity, componentLogConstant, membershipsFromLogTerms, residualMemberships, type ConstantTerm } from "../logDensities";
+import { gaussianLogDensity, componentLogConstant, residualMemberships, rowMemberships, type ConstantTerm } from "../logDensities";
 import { paddedCoefficients, rowResiduals } from "../rowResiduals";
 
 /**
@@ -119,12 +119,11 @@ export function eStep(ws: MixtureWorkspace, params: MixtureParameters, withResid
     constant[c] = componentLogConstant(params.weights[c], params.variances[c]);
     curvature[c] = -0.5 / params.variances[c];
   }
-  const joint = ws.joint && params.xMeans !== null;
-  if (joint) return jointEStep(ws, params, withResiduals, constant, curvature);
   // The flat background (Banfield & Raftery 1993) is one more term, the same for every row,
   // its memberships in the background's own array.
   const background = ws.background;
   const extra = background ? { term: backgroundLogTerm(background), memberships: background.memberships } : undefined;
+  if (ws.joint && params.xMeans !== null) return jointEStep(ws, params, withResiduals, constant, curvature, extra);
   const total = byRows(rowsJob(ws, params, withResiduals, { constant, curvature, memberships, rowLogLikelihood, extra }));
   if (total !== null) return total;
   let shared = 0;
@@ -133,36 +132,23 @@ export function eStep(ws: MixtureWorkspace, params: MixtureParameters, withResid
 }
 
 /** The joint model's E-step, with its x densities (and the background's term when it has one), row by row on the calling thread. */
-function jointEStep(ws: MixtureWorkspace, params: MixtureParameters, withResiduals: boolean, constant: Float64Array, curvature: Float64Array): number {
+function jointEStep(ws: MixtureWorkspace, params: MixtureParameters, withResiduals: boolean, constant: Float64Array, curvature: Float64Array, extra: ConstantTerm | undefined): number {
   const { n, k, residuals, memberships, rowLogLikelihood } = ws;
   if (withResiduals) computeResiduals(ws, params);
+  // k terms a row, and room for the background's.
   const logTerm = ws.rowScratch;
   const xMeans = params.xMeans as Float64Array;
   const xFactors = params.xCholesky as Float64Array;
   const xLogDeterminants = params.xLogDeterminants as Float64Array;
-  // The background's term is term k of the row's log terms, its membership then moved to the
-  // background's own array.
-  const background = ws.background;
-  const backgroundTerm = background ? backgroundLogTerm(background) : 0;
   let total = 0;
   for (let i = 0; i < n; i++) {
     const offset = i * k;
     for (let c = 0; c < k; c++) {
       const r = residuals[offset + c];
-      const value = constant[c] + curvature[c] * r * r + gaussianLogDensity(ws.predictors, i * ws.p, xMeans, c * ws.p, xFactors, c * ws.p * ws.p, xLogDeterminants[c], ws.p, ws.predictorScratch);
-      logTerm[c] = value;
+      logTerm[c] = constant[c] + curvature[c] * r * r + gaussianLogDensity(ws.predictors, i * ws.p, xMeans, c * ws.p, xFactors, c * ws.p * ws.p, xLogDeterminants[c], ws.p, ws.predictorScratch);
     }
-    let rowValue: number;
-    if (background) {
-      logTerm[k] = backgroundTerm;
-      rowValue = membershipsFromLogTerms(logTerm, 0, k + 1, logTerm, 0);
-      for (let c = 0; c < k; c++) memberships[offset + c] = logTerm[c];
-      background.memberships[i] = logTerm[k];
-    } else {
-      rowValue = membershipsFromLogTerms(logTerm, 0, k, memberships, offset);
-    }
-    rowLogLikelihood[i] = rowValue;
-    total += rowValue;
+    rowLogLikelihood[i] = rowMemberships(logTerm, k, memberships, offset, extra, i);
+    total += rowLogLikelihood[i];
   }
   return total;
 }
