@@ -10,14 +10,19 @@
  * usual short numbers take Clinger's fast path in plainNumberLines.ts.
  */
 
-/** Digits held in the head: below 2^53, so exact in one double. */
-export const HEAD_DIGITS = 15;
+/**
+ * A whole number of at most this many digits is below 2^53, so a double holds it exactly: the
+ * numbers of Clinger's fast path (plainNumberLines.ts), and the head of a longer decimal here.
+ */
+export const EXACT_DIGITS = 15;
 /** Digits after the head this road takes: the whole decimal then stays below 10^19 < 2^64. */
 export const TAIL_DIGITS = 4;
+/** The largest power of ten a double holds exactly (5^22 < 2^53). */
+export const EXACT_POWER = 22;
+/** 10^0 to 10^EXACT_POWER, each exact. */
+export const POWERS_OF_TEN = Float64Array.from({ length: EXACT_POWER + 1 }, (_, e) => Number(`1e${e}`));
 /** Powers of ten scaled by at most three times the largest exact power (10^22 each step). */
 const LARGEST_POWER = 66;
-const EXACT_POWER = 22;
-const POWERS_OF_TEN = Float64Array.from({ length: EXACT_POWER + 1 }, (_, e) => Number(`1e${e}`));
 /**
  * The double-double result is within about 2^-102 of the true value (relative, after three
  * scaling steps: each step's rounding errors are of order 2^-105, see scaleUp and scaleDown);

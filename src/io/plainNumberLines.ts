@@ -5,7 +5,7 @@
  * to the field splitter (readCsv.ts), which reads every file. Host-free.
  */
 
-import { HEAD_DIGITS, longDecimalValue, TAIL_DIGITS } from "./longDecimal";
+import { EXACT_DIGITS, EXACT_POWER, POWERS_OF_TEN, longDecimalValue, TAIL_DIGITS } from "./longDecimal";
 
 const LF = 10;
 const CR = 13;
@@ -24,13 +24,6 @@ const CAPITAL_E = 69;
 
 /** A cell longer than this is not read as a plain number (numberText.ts, plainNumberValue). */
 const PLAIN_NUMBER_MAX_LENGTH = 64;
-/**
- * A whole number of at most this many digits is below 2^53, so a double holds it exactly; with
- * an exact power of ten (10^0 to 10^22), one multiplication or division then rounds the true
- * value once, to the double that Number() reads from the text (Clinger 1990).
- */
-const EXACT_DIGITS = HEAD_DIGITS;
-const POWERS_OF_TEN = Array.from({ length: 23 }, (_, e) => Number(`1e${e}`));
 
 /** The columns of the data lines: NaN for a blank cell; for each row, its 1-based line. */
 export interface NumberLines {
@@ -248,7 +241,9 @@ function readPlainNumber(bytes: Uint8Array, first: number, last: number): number
   }
   numberEnd = i;
   const power = exponent - pointShift;
-  if (significant <= EXACT_DIGITS && (whole === 0 || (power >= -22 && power <= 22))) {
+  // At most EXACT_DIGITS digits with an exact power of ten: one multiplication or division
+  // rounds the true value once, to the double that Number() reads from the text (Clinger 1990).
+  if (significant <= EXACT_DIGITS && (whole === 0 || (power >= -EXACT_POWER && power <= EXACT_POWER))) {
     const size = whole === 0 ? 0 : power >= 0 ? whole * POWERS_OF_TEN[power] : whole / POWERS_OF_TEN[-power];
     return negative ? -size : size;
   }
