@@ -7,6 +7,8 @@ import { helperThread, shareableArray, useHelperThread, type HelperJob, type Hel
 import { runHelperJob } from "../src/engine/mixture/helperJobs";
 import type { RowsJob } from "../src/engine/mixture/eStep";
 import { ConcentrationSteps, concentrationRuns, type ConcentrationJob } from "../src/engine/mixture/concentrationSteps";
+import { alternatingLeastSquares, type AlternatingFit } from "../src/engine/warmStart/alternatingLeastSquares";
+import { bestRefinement, betterFit, type RefinementJob, type RefinementSettings } from "../src/engine/warmStart/refinementRuns";
 import { installHelperThread } from "../src/cli/helperThread";
 import { createRandom } from "../src/engine/random";
 import { noiselessProblem, noisyProblem } from "../src/synthetic/generateProblems";
@@ -75,6 +77,40 @@ function concentrationCase(): { run: () => string; alone: string } {
   return { run, alone: fingerprint(starts.map((start, s) => steps.run(start, subsets[s], 20, 1e-9))) };
 }
 
+/**
+ * The warm start's refinement of several starts on a noiseless d = 40, K = 5 problem (16,000
+ * rows: each start's refinement long enough to be shared): two starts drawn anywhere, then
+ * one 2% away from every component (it fits every row exactly) and one more after it (never
+ * begun). bestRefinement's result, and the same starts one after the other on this thread
+ * (best by betterFit, ending at the first exact one), as fingerprints to compare.
+ */
+function refinementCase(): { run: () => string; alone: string; settings: RefinementSettings } {
+  const problem = noiselessProblem(40, 5, 80, createRandom(35));
+  const { x, y, n, p } = problem.data;
+  const random = createRandom(36);
+  const away = (share: number) => problem.coefficients.map((beta) => Float64Array.from(beta, (value) => value * (1 + share * (2 * random.next() - 1))));
+  const anywhere = () => problem.coefficients.map((beta) => Float64Array.from(beta, () => 2 * random.next() - 1));
+  const starts = [anywhere(), anywhere(), away(0.02), away(0.02)];
+  const settings: RefinementSettings = { maxIterations: 25, exactTolerance: 1e-9, minimumRows: p + 1, rule: "classification" };
+  const run = () => {
+    const shared = { x: shareableArray(x.length), y: shareableArray(y.length) };
+    shared.x.set(x);
+    shared.y.set(y);
+    return fingerprint(bestRefinement(shared.x, n, p, shared.y, starts, settings));
+  };
+  let best: AlternatingFit | null = null;
+  let refined = 0;
+  for (const start of starts) {
+    const fit = alternatingLeastSquares(x, n, p, y, start, settings.maxIterations, settings.exactTolerance, settings.minimumRows, undefined, settings.rule);
+    refined++;
+    if (!best || betterFit(fit, best)) best = fit;
+    if (best.exactRows === n) break;
+  }
+  expect(refined, "starts refined one after the other").toBe(3);
+  expect(best!.exactRows, "the third start fits every row").toBe(n);
+  return { run, alone: fingerprint(best), settings };
+}
+
 describe("the helper thread", () => {
   const alone = fits();
 
@@ -133,6 +169,30 @@ describe("the helper thread", () => {
     expect(run()).toBe(alone);
   });
 
+  it("shares the warm start's refinements start by start, begins none after an exact one, and refines a start the helper claimed but left unfinished", () => {
+    const { run, alone } = refinementCase();
+    for (const behaviour of ["works", "fails", "failsAfterWriting"] as const) {
+      const { helper, jobs } = inlineHelper(behaviour);
+      let begun = 0;
+      useHelperThread({ ...helper, start: (job) => {
+        helper.start(job);
+        begun = Atomics.load((job as RefinementJob).claims, 0);
+      } });
+      expect(run(), behaviour).toBe(alone);
+      expect(jobs.get("refinement"), behaviour).toBe(1);
+      // The inline helper ran first: it claimed the three starts up to the exact one, and one claim more that it did not begin.
+      if (behaviour !== "fails") expect(begun, behaviour).toBe(4);
+    }
+    // A helper that claims the first start, writes nothing and fails.
+    useHelperThread({
+      ready: () => true,
+      start: (job) => void Atomics.add((job as RefinementJob).claims, 0, 1),
+      finish: () => false,
+      lastJobMs: () => 1,
+    });
+    expect(run()).toBe(alone);
+  });
+
   it.skipIf(availableParallelism() < 2)("runs as a worker thread beside the fit, with the same fits", async () => {
     const worker = installHelperThread(fileURLToPath(new URL("./support/helperThreadEntry.cjs", import.meta.url)), []);
     expect(worker).not.toBeNull();
@@ -157,6 +217,8 @@ describe("the helper thread", () => {
       expect(finished).toBeGreaterThan(10);
       const concentration = concentrationCase();
       expect(concentration.run()).toBe(concentration.alone);
+      const refinement = refinementCase();
+      expect(refinement.run()).toBe(refinement.alone);
     } finally {
       await worker?.terminate();
     }

@@ -99,9 +99,14 @@ export function shareableArray(length: number): Float64Array {
   return sharing() ? new Float64Array(new SharedArrayBuffer(length * 8)) : new Float64Array(length);
 }
 
-/** A counter (one zeroed 32-bit slot) both threads can take numbers from with Atomics.add: shared while a helper is installed. */
+/** Zeroed 32-bit integers both threads can read and write (Atomics included): shared while a helper is installed. */
+export function shareableInts(length: number): Int32Array {
+  return sharing() ? new Int32Array(new SharedArrayBuffer(length * 4)) : new Int32Array(length);
+}
+
+/** A counter (one zeroed 32-bit slot) both threads can take numbers from with Atomics.add. */
 export function shareableCounter(): Int32Array {
-  return sharing() ? new Int32Array(new SharedArrayBuffer(4)) : new Int32Array(1);
+  return shareableInts(1);
 }
 
 /** Whether new arrays go to shared memory: a helper is installed (ready or still starting) and the runtime has it. */

@@ -2,6 +2,7 @@ import type { CancelSignal, RegressionData } from "../mixtureTypes";
 import { checkSignal } from "../errors";
 import { sampleIndices, type Random } from "../random";
 import { alternatingLeastSquares, type AlternatingFit, type AssignmentRule } from "./alternatingLeastSquares";
+import { bestRefinement, betterFit } from "./refinementRuns";
 import { enoughRows, EXACT_RELATIVE } from "../mixture/exactComponents";
 import { subspaceMixtureFit, randomPartition, type SubspaceMixture } from "./subspaceMixtureFit";
 import { whitenPredictors, unwhitenCoefficients, whitenCoefficients, type WhitenedPredictors } from "./whitenPredictors";
@@ -9,6 +10,7 @@ import { responseMomentSubspace } from "./responseMomentSubspace";
 import { selectRows } from "../rowSubset";
 import { rowResidual } from "../rowResiduals";
 import { rowProducts } from "../rowKernels";
+import { shareableArray } from "../helperThread";
 
 export interface MomentWarmStart {
   /** K coefficient vectors of length q (intercept first when the fit has one). */
@@ -83,7 +85,7 @@ export function momentWarmStart(data: RegressionData, k: number, intercept: bool
   if (!whitened) return null;
   // The search and the hard-assignment refinement run on the whitened design (a column of 1s
   // first when there is an intercept): well conditioned, so normal equations are accurate.
-  const design = new Float64Array(n * q);
+  const design = shareableArray(n * q);
   const offset = intercept ? 1 : 0;
   for (let i = 0; i < n; i++) {
     if (intercept) design[i * q] = 1;
@@ -114,19 +116,10 @@ export function momentWarmStart(data: RegressionData, k: number, intercept: bool
  * less at 10, 8% more at 14, the same recoveries).
  */
 function refineCandidates(design: Float64Array, n: number, q: number, y: Float64Array, candidates: Float64Array[][], exactTolerance: number, signal: CancelSignal | undefined, noiseless: boolean): AlternatingFit | null {
-  const classified = bestRefinement(design, n, q, y, candidates, exactTolerance, signal, "classification");
+  const settings = (rule: AssignmentRule) => ({ maxIterations: ALS_ITERATIONS, exactTolerance, minimumRows: q + 1, rule });
+  const classified = bestRefinement(design, n, q, y, candidates, settings("classification"), signal);
   if (noiseless || (classified && classified.exactRows >= enoughRows(q))) return classified;
-  return bestRefinement(design, n, q, y, candidates, exactTolerance, signal, "nearest");
-}
-
-function bestRefinement(design: Float64Array, n: number, q: number, y: Float64Array, candidates: Float64Array[][], exactTolerance: number, signal: CancelSignal | undefined, rule: AssignmentRule): AlternatingFit | null {
-  let best: AlternatingFit | null = null;
-  for (const start of candidates) {
-    const fit = alternatingLeastSquares(design, n, q, y, start, ALS_ITERATIONS, exactTolerance, q + 1, signal, rule);
-    if (!best || betterFit(fit, best)) best = fit;
-    if (best.exactRows === n) break;
-  }
-  return best;
+  return bestRefinement(design, n, q, y, candidates, settings("nearest"), signal);
 }
 
 /**
@@ -186,18 +179,6 @@ function toWhitened(whitened: WhitenedPredictors, c: Float64Array, intercept: bo
     out[0] = c[0] + shift;
   }
   return out;
-}
-
-/** More rows fitted exactly wins; otherwise the smaller product of component scales. */
-function betterFit(a: AlternatingFit, b: AlternatingFit): boolean {
-  if (a.exactRows !== b.exactRows) return a.exactRows > b.exactRows;
-  let logA = 0;
-  let logB = 0;
-  for (let c = 0; c < a.scales.length; c++) {
-    logA += Math.log(a.scales[c] + Number.MIN_VALUE);
-    logB += Math.log(b.scales[c] + Number.MIN_VALUE);
-  }
-  return logA < logB;
 }
 
 /**
