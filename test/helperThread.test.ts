@@ -53,6 +53,11 @@ function inlineHelper(behaviour: "works" | "fails" | "failsAfterWriting"): { hel
   return { helper, jobs };
 }
 
+/** A helper that claims the first start from the job's counter, writes nothing and fails. */
+function claimsOneAndFails(counter: (job: HelperJob) => Int32Array): HelperThread {
+  return { ready: () => true, start: (job) => void Atomics.add(counter(job), 0, 1), finish: () => false, lastJobMs: () => 1 };
+}
+
 afterEach(() => useHelperThread(null));
 
 /**
@@ -159,13 +164,7 @@ describe("the helper thread", () => {
       expect(run(), behaviour).toBe(alone);
       expect(jobs.get("concentration"), behaviour).toBe(1);
     }
-    // A helper that claims the first start, writes nothing and fails.
-    useHelperThread({
-      ready: () => true,
-      start: (job) => void Atomics.add((job as ConcentrationJob).next, 0, 1),
-      finish: () => false,
-      lastJobMs: () => 1,
-    });
+    useHelperThread(claimsOneAndFails((job) => (job as ConcentrationJob).next));
     expect(run()).toBe(alone);
   });
 
@@ -183,13 +182,7 @@ describe("the helper thread", () => {
       // The inline helper ran first: it claimed the three starts up to the exact one, and one claim more that it did not begin.
       if (behaviour !== "fails") expect(begun, behaviour).toBe(4);
     }
-    // A helper that claims the first start, writes nothing and fails.
-    useHelperThread({
-      ready: () => true,
-      start: (job) => void Atomics.add((job as RefinementJob).claims, 0, 1),
-      finish: () => false,
-      lastJobMs: () => 1,
-    });
+    useHelperThread(claimsOneAndFails((job) => (job as RefinementJob).claims));
     expect(run()).toBe(alone);
   });
 
