@@ -246,8 +246,8 @@ class RowMoves {
         const sign = to === c ? 1 : -1;
         counts[c] += sign;
         const base = m * qp;
-        for (let a = 0; a < q; a++) plain[base + a] = design[i * q + a];
-        for (let a = q; a < qp; a++) plain[base + a] = 0;
+        plain.set(design.subarray(i * q, i * q + q), base);
+        plain.fill(0, base + q, base + qp);
         vectors[2 * m] = sign * y[i];
         vectors[2 * m + 1] = sign;
         if (++m === blockRows) {
