@@ -32,30 +32,42 @@ export interface RefinementSettings {
 export function bestRefinement(design: Float64Array, n: number, q: number, y: Float64Array, starts: readonly Float64Array[][], settings: RefinementSettings, signal?: CancelSignal): AlternatingFit | null {
   const count = starts.length;
   if (count === 0) return null;
+  const rows: RefinementRows = { design, n, q, y, ...settings };
+  const job = sharedRefinements(rows, starts, signal);
+  let best: AlternatingFit | null = null;
+  for (let s = 0; s < count; s++) {
+    // Refined here: every start on one thread, or one a failed helper claimed and did not finish.
+    const fit = job && !Number.isNaN(job.figures[2 * s]) ? readFit(job, s) : refineStart(rows, starts[s], signal);
+    if (!best || betterFit(fit, best)) best = fit;
+    if (best.exactRows === n) break;
+  }
+  return best;
+}
+
+/**
+ * The starts refined by both threads, when a helper thread is ready and each start's
+ * refinement is long enough (SPLIT_MINIMUM_MICROSECONDS); null otherwise (no start refined).
+ */
+function sharedRefinements(rows: RefinementRows, starts: readonly Float64Array[][], signal?: CancelSignal): RefinementJob | null {
+  const { design, n, q, y, maxIterations } = rows;
+  const count = starts.length;
   const k = starts[0].length;
+  const helper = helperThread();
+  if (helper === null || count < 2 || !allShared(design, y) || (n * k * q * maxIterations) / ROW_MULTIPLY_ADDS_PER_MICROSECOND < SPLIT_MINIMUM_MICROSECONDS) return null;
   const flat = new Float64Array(count * k * q);
   starts.forEach((start, s) => start.forEach((c, index) => flat.set(c.subarray(0, q), (s * k + index) * q)));
   const job: RefinementJob = {
-    kind: "refinement", design, n, q, y, k, count, starts: flat, ...settings,
+    kind: "refinement", ...rows, k, count, starts: flat,
     claims: shareableInts(2),
     coefficients: shareableArray(count * k * q),
     scales: shareableArray(count * k),
     figures: shareableArray(2 * count).fill(NaN),
     labels: shareableInts(count * n),
   };
-  const helper = helperThread();
-  const split = helper !== null && count > 1 && allShared(design, y, job.coefficients) && (n * k * q * settings.maxIterations) / ROW_MULTIPLY_ADDS_PER_MICROSECOND >= SPLIT_MINIMUM_MICROSECONDS;
-  if (split) helper.start(job);
+  helper.start(job);
   refineStarts(job, signal);
-  if (split) helper.finish();
-  let best: AlternatingFit | null = null;
-  for (let s = 0; s < count; s++) {
-    // A start a failed helper claimed and did not finish is refined here.
-    const fit = Number.isNaN(job.figures[2 * s]) ? refineOne(job, s, signal) : readFit(job, s);
-    if (!best || betterFit(fit, best)) best = fit;
-    if (best.exactRows === n) break;
-  }
-  return best;
+  helper.finish();
+  return job;
 }
 
 /** More rows fitted exactly wins; otherwise the smaller product of component scales. */
@@ -71,12 +83,8 @@ export function betterFit(a: AlternatingFit, b: AlternatingFit): boolean {
 }
 
 /** Several starts' refinements for bestRefinement, claimed one at a time by either thread. */
-export interface RefinementJob extends HelperJob, RefinementSettings {
+export interface RefinementJob extends HelperJob, RefinementRows {
   kind: "refinement";
-  design: Float64Array;
-  n: number;
-  q: number;
-  y: Float64Array;
   k: number;
   count: number;
   /** The starts, k·q coefficients each. */
@@ -95,7 +103,8 @@ export interface RefinementJob extends HelperJob, RefinementSettings {
 export function refineStarts(job: RefinementJob, signal?: CancelSignal): void {
   const { claims, count, n, k, q } = job;
   for (let s = Atomics.add(claims, 0, 1); s < count && Atomics.load(claims, 1) === 0; s = Atomics.add(claims, 0, 1)) {
-    const fit = refineOne(job, s, signal);
+    const start = Array.from({ length: k }, (_, c) => job.starts.subarray((s * k + c) * q, (s * k + c + 1) * q));
+    const fit = refineStart(job, start, signal);
     fit.coefficients.forEach((c, index) => job.coefficients.set(c, (s * k + index) * q));
     job.scales.set(fit.scales, s * k);
     job.labels.set(fit.labels, s * n);
@@ -105,9 +114,16 @@ export function refineStarts(job: RefinementJob, signal?: CancelSignal): void {
   }
 }
 
-function refineOne(job: RefinementJob, s: number, signal?: CancelSignal): AlternatingFit {
-  const { design, n, q, y, k, starts, maxIterations, exactTolerance, minimumRows, rule } = job;
-  const start = Array.from({ length: k }, (_, c) => starts.subarray((s * k + c) * q, (s * k + c + 1) * q));
+/** The rows and settings every start's refinement shares. */
+interface RefinementRows extends RefinementSettings {
+  design: Float64Array;
+  n: number;
+  q: number;
+  y: Float64Array;
+}
+
+function refineStart(rows: RefinementRows, start: Float64Array[], signal?: CancelSignal): AlternatingFit {
+  const { design, n, q, y, maxIterations, exactTolerance, minimumRows, rule } = rows;
   return alternatingLeastSquares(design, n, q, y, start, maxIterations, exactTolerance, minimumRows, signal, rule);
 }
 
