@@ -3,7 +3,7 @@ import { fileURLToPath } from "node:url";
 import { afterEach, describe, expect, it } from "vitest";
 import { fitMixture } from "../src/engine/fitMixture";
 import { standardErrors } from "../src/engine/standardErrors";
-import { helperThread, shareableArray, useHelperThread, type HelperJob, type HelperThread } from "../src/engine/helperThread";
+import { helperFor, shareableArray, useHelperThread, type HelperJob, type HelperThread } from "../src/engine/helperThread";
 import { runHelperJob } from "../src/engine/mixture/helperJobs";
 import type { RowsJob } from "../src/engine/mixture/eStep";
 import { ConcentrationSteps, concentrationRuns, type ConcentrationJob } from "../src/engine/mixture/concentrationSteps";
@@ -42,6 +42,7 @@ function fits(): string {
 function inlineHelper(behaviour: "works" | "fails" | "failsAfterWriting"): { helper: HelperThread; jobs: Map<string, number> } {
   const jobs = new Map<string, number>();
   const helper: HelperThread = {
+    begin: () => undefined,
     ready: () => true,
     start(job: HelperJob) {
       jobs.set(job.kind, (jobs.get(job.kind) ?? 0) + 1);
@@ -55,7 +56,7 @@ function inlineHelper(behaviour: "works" | "fails" | "failsAfterWriting"): { hel
 
 /** A helper that claims the first start from the job's counter, writes nothing and fails. */
 function claimsOneAndFails(counter: (job: HelperJob) => Int32Array): HelperThread {
-  return { ready: () => true, start: (job) => void Atomics.add(counter(job), 0, 1), finish: () => false, lastJobMs: () => 1 };
+  return { begin: () => undefined, ready: () => true, start: (job) => void Atomics.add(counter(job), 0, 1), finish: () => false, lastJobMs: () => 1 };
 }
 
 afterEach(() => useHelperThread(null));
@@ -133,14 +134,17 @@ describe("the helper thread", () => {
   });
 
   it("takes its shares once ready when it was still starting as the fit began, the fits the same to the bit", () => {
-    // The command line starts its thread with the process, ready about 0.1 s later: a small file is read sooner.
+    // The command line starts its thread when the first step large enough to share asks for it;
+    // the thread is ready some time later, and the steps in between run on their own.
     const problem = noisyProblem(30, 3, 60, createRandom(32));
     const fitOf = () => fingerprint(fitMixture(problem.data, { k: 3, intercept: true, seed: 3 }));
     const oneThread = fitOf();
     const { helper, jobs } = inlineHelper("works");
+    let begun = 0;
     let asked = 0;
-    useHelperThread({ ...helper, ready: () => ++asked > 1 });
+    useHelperThread({ ...helper, begin: () => void begun++, ready: () => begun > 0 && ++asked > 1 });
     expect(fitOf()).toBe(oneThread);
+    expect(begun).toBeGreaterThan(0);
     expect(asked).toBeGreaterThan(1);
     expect(jobs.get("componentSums") ?? 0).toBeGreaterThan(0);
   });
@@ -186,17 +190,35 @@ describe("the helper thread", () => {
     expect(run()).toBe(alone);
   });
 
+  it.skipIf(availableParallelism() < 2)("starts its worker only when a step is large enough to share", () => {
+    const installed = installHelperThread(fileURLToPath(new URL("./support/helperThreadEntry.cjs", import.meta.url)), []);
+    expect(installed).not.toBeNull();
+    // A small noisy sheet (600 rows, 3 predictors, K = 2): none of its steps reaches the split's minimum.
+    const small = noisyProblem(3, 2, 100, createRandom(35));
+    const fit = fitMixture(small.data, { k: 2, intercept: true, seed: 1 });
+    expect(fit.components).toHaveLength(2);
+    standardErrors(small.data, fit);
+    expect(installed!.worker()).toBeNull();
+    // A step below the minimum neither gets the thread nor starts it.
+    expect(helperFor(100)).toBeNull();
+    expect(installed!.worker()).toBeNull();
+  });
+
   it.skipIf(availableParallelism() < 2)("runs as a worker thread beside the fit, with the same fits", async () => {
-    const worker = installHelperThread(fileURLToPath(new URL("./support/helperThreadEntry.cjs", import.meta.url)), []);
-    expect(worker).not.toBeNull();
+    const installed = installHelperThread(fileURLToPath(new URL("./support/helperThreadEntry.cjs", import.meta.url)), []);
+    expect(installed).not.toBeNull();
     try {
+      // The first step long enough starts the worker and runs on its own; later ones get it once it is ready.
+      expect(helperFor(Infinity)).toBeNull();
+      expect(installed!.worker()).not.toBeNull();
       const began = Date.now();
-      while (!helperThread() && Date.now() - began < 20000) await new Promise((resolve) => setTimeout(resolve, 10));
-      const started = helperThread();
+      while (!helperFor(Infinity) && Date.now() - began < 20000) await new Promise((resolve) => setTimeout(resolve, 10));
+      const started = helperFor(Infinity);
       expect(started).not.toBeNull();
       // Count the jobs the worker finished (it reports each job's time).
       let finished = 0;
       useHelperThread({
+        begin: () => started!.begin(),
         ready: () => started!.ready(),
         start: (job) => started!.start(job),
         finish: () => {
@@ -213,7 +235,7 @@ describe("the helper thread", () => {
       const refinement = refinementCase();
       expect(refinement.run()).toBe(refinement.alone);
     } finally {
-      await worker?.terminate();
+      await installed?.worker()?.terminate();
     }
   }, 60000);
 

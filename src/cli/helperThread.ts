@@ -26,12 +26,14 @@ const FAILED = 2;
 
 /** Jobs the helper thread has finished in this process (the verbose output's threads line). */
 let finishedJobs = 0;
+let helperInstalled = false;
 let helperStarted = false;
 
 /** One line for --verbose: how many threads the fit ran on. */
 export function threadsLine(): string {
-  if (!helperStarted) return "Threads: 1.";
-  if (finishedJobs === 0) return "Threads: 1 (a second thread was ready, but no step of this fit was large enough to share).";
+  if (!helperInstalled) return "Threads: 1.";
+  if (!helperStarted) return "Threads: 1 (no step of this fit was large enough to share with a second thread).";
+  if (finishedJobs === 0) return "Threads: 1 (a second thread was started, but no step of this fit was handed to it).";
   return `Threads: 2 (the second thread took part in ${finishedJobs.toLocaleString("en-US")} steps of the fit; SKEIN_THREADS=1 keeps to one).`;
 }
 
@@ -57,31 +59,45 @@ export function helperScript(): string | null {
   }
 }
 
+/** A helper thread installed for the engine: its worker once a step has asked for it. */
+export interface InstalledHelper {
+  /** The worker (unreferenced: it never keeps the process alive), or null before it is started. */
+  worker(): Worker | null;
+}
+
 /**
- * Starts a helper thread running `script` (helperScript()) and installs it for the engine, when
- * the machine has a second core and SKEIN_THREADS is not 1. Returns the worker (unreferenced:
- * it never keeps the process alive), or null when none was started. `execArgv`: Node options
- * for the worker (none by default: it needs none of the process's own).
+ * Installs a helper thread for the engine, when the machine has a second core and SKEIN_THREADS
+ * is not 1; returns null otherwise. The worker, running `script` (helperScript()), is started
+ * only when the first step large enough to share asks for it: a fit of a small sheet shares no
+ * step, and starting a thread there costs it time (the new thread's start-up competes with
+ * the compiler's background work for the second core). `execArgv`: Node options for the
+ * worker (none by default: it needs none of the process's own).
  */
-export function installHelperThread(script: string, execArgv: string[] = []): Worker | null {
+export function installHelperThread(script: string, execArgv: string[] = []): InstalledHelper | null {
   if (availableParallelism() < 2 || process.env.SKEIN_THREADS === "1" || typeof SharedArrayBuffer !== "function") return null;
   const control = new Int32Array(new SharedArrayBuffer(3 * 4));
   const timing = new Float64Array(new SharedArrayBuffer(8));
   const channel = new MessageChannel();
-  let worker: Worker;
-  try {
-    worker = new Worker(script, { workerData: { control, timing, port: channel.port2 } satisfies HelperData, transferList: [channel.port2], execArgv });
-  } catch {
-    return null;
-  }
-  worker.unref();
+  let worker: Worker | null = null;
   let failed = false;
-  // A helper that cannot start (or stops) is never used again; the steps then run on one thread.
-  worker.on("error", () => {
-    failed = true;
-  });
+  const begin = () => {
+    if (worker !== null || failed) return;
+    try {
+      worker = new Worker(script, { workerData: { control, timing, port: channel.port2 } satisfies HelperData, transferList: [channel.port2], execArgv });
+    } catch {
+      failed = true;
+      return;
+    }
+    worker.unref();
+    helperStarted = true;
+    // A helper that cannot start (or stops) is never used again; the steps then run on one thread.
+    worker.on("error", () => {
+      failed = true;
+    });
+  };
   const port = channel.port1;
   const helper: HelperThread = {
+    begin,
     ready: () => !failed && Atomics.load(control, READY) === 1,
     start(job: HelperJob): void {
       Atomics.store(control, STATE, RUNNING);
@@ -101,8 +117,8 @@ export function installHelperThread(script: string, execArgv: string[] = []): Wo
     lastJobMs: () => timing[JOB_MS],
   };
   useHelperThread(helper);
-  helperStarted = true;
-  return worker;
+  helperInstalled = true;
+  return { worker: () => worker };
 }
 
 /**

@@ -14,7 +14,7 @@ import { finishExactComponents } from "./mixture/finishExactComponents";
 import { stopOnExactPlateau } from "./mixture/exactComponents";
 import { reportFit } from "./mixture/reportFit";
 import { withInternalScaling } from "./internalScaling";
-import { allShared, shareableArray, sharing } from "./helperThread";
+import { allShared, beginHelperFor, shareableArray, sharing } from "./helperThread";
 import { backgroundMayHelp, chooseBackground, withBackground } from "./mixture/backgroundComponent";
 
 export { checkRowsForComponents } from "./mixture/mixtureSettings";
@@ -38,6 +38,7 @@ const TRIAL_SEED_OFFSET = 1;
  * (and a second, from the same seed, the re-seeding in runs that may be given up).
  */
 export function fitMixture(data: RegressionData, options: MixtureOptions): MixtureFit {
+  beginHelperFor(data.n, data.p + (options.intercept === false ? 0 : 1), options.k);
   // Values far from 1 (beyond 1e100, or a column's size below 1e-100) are fitted scaled.
   return withInternalScaling(shareable(data), options, fitWithBackgroundSetting);
 }

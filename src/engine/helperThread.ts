@@ -18,6 +18,11 @@ export interface HelperJob {
 }
 
 export interface HelperThread {
+  /**
+   * Starts the thread if it has not been started: asked for by the first step large enough to
+   * share (helperFor), so a fit whose steps are all small never pays for a thread's start.
+   */
+  begin(): void;
   /** Whether the thread has started and waits for jobs (until then the steps run on their own). */
   ready(): boolean;
   /** Starts `job` on the helper thread and returns at once. */
@@ -86,9 +91,27 @@ export function shareWork(helper: HelperThread, handed: HelperJob, ownWork: numb
 /** A wait longer than this (5 µs) means the helper ended after this thread's share. */
 const WAITED_MS = 0.005;
 
-/** The installed helper thread once it is ready for jobs, or null. */
-export function helperThread(): HelperThread | null {
-  return installed?.ready() ? installed : null;
+/**
+ * The helper thread for a step estimated to take `microseconds` on one thread: the installed
+ * thread when the step is long enough to split (at least `minimum`) and the thread is ready;
+ * otherwise null. A step long enough that finds the thread not yet started starts it (and runs
+ * on its own this time).
+ */
+export function helperFor(microseconds: number, minimum = HELPER_MINIMUM_MICROSECONDS): HelperThread | null {
+  if (installed === null || !(microseconds >= minimum)) return null;
+  if (installed.ready()) return installed;
+  installed.begin();
+  return null;
+}
+
+/**
+ * Starts the installed thread as a fit of n rows, q coefficients and k components begins, when
+ * that fit's E-steps on all rows are long enough to split: a thread takes about a tenth of a
+ * second to start, so one started only by the fit's first long step would miss much of a fit
+ * of a second or less.
+ */
+export function beginHelperFor(n: number, q: number, k: number): void {
+  helperFor((n * k * (q + ROW_TERM_MULTIPLY_ADDS)) / ROW_MULTIPLY_ADDS_PER_MICROSECOND);
 }
 
 /**

@@ -1,7 +1,7 @@
 import { HouseholderQR } from "../householderQR";
 import { gatherRows } from "../rowSubset";
 import { choleskyScratchLength, scaledCholeskySolve } from "../cholesky";
-import { HELPER_MINIMUM_MICROSECONDS, ROW_MULTIPLY_ADDS_PER_MICROSECOND, allShared, helperThread, shareableArray, shareableCounter, type HelperJob } from "../helperThread";
+import { ROW_MULTIPLY_ADDS_PER_MICROSECOND, allShared, helperFor, shareableArray, shareableCounter, type HelperJob } from "../helperThread";
 import { rowResidual } from "../rowResiduals";
 import { addNormalEquations } from "../weightedGram";
 
@@ -38,12 +38,11 @@ export function concentrationRuns(design: Float64Array, n: number, q: number, y:
   starts.forEach((start, s) => flat.set(start.subarray(0, q), s * q));
   const out = shareableArray(count * (q + 2)).fill(NaN);
   const job: ConcentrationJob = { kind: "concentration", design, n, q, y, starts: flat, subsets: Int32Array.from(subsets), maxSteps, exactTolerance, next: shareableCounter(), out };
-  const helper = helperThread();
   // At least one step of a residual pass per start: n·q multiply-adds each.
-  const split = helper !== null && count > 1 && allShared(design, y, out) && (n * q * count) / ROW_MULTIPLY_ADDS_PER_MICROSECOND >= HELPER_MINIMUM_MICROSECONDS;
-  if (split) helper.start(job);
+  const helper = count > 1 && allShared(design, y, out) ? helperFor((n * q * count) / ROW_MULTIPLY_ADDS_PER_MICROSECOND) : null;
+  helper?.start(job);
   concentrateStarts(job);
-  if (split) helper.finish();
+  helper?.finish();
   let steps: ConcentrationSteps | null = null;
   return starts.map((start, s) => {
     const at = s * (q + 2);

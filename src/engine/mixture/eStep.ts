@@ -2,7 +2,7 @@ import type { MixtureParameters } from "./mixtureParameters";
 import { workspaceRows, type MixtureWorkspace, type WorkspaceRows } from "./mixtureWorkspace";
 import { backgroundLogTerm } from "./backgroundComponent";
 import { reserve, simdKernel } from "../weightedGram";
-import { HELPER_MINIMUM_MICROSECONDS, ROW_MULTIPLY_ADDS_PER_MICROSECOND, ROW_TERM_MULTIPLY_ADDS, allShared, helperShare, helperThread, shareWork, type HelperJob } from "../helperThread";
+import { ROW_MULTIPLY_ADDS_PER_MICROSECOND, ROW_TERM_MULTIPLY_ADDS, allShared, helperFor, helperShare, shareWork, type HelperJob } from "../helperThread";
 
 import { gaussianLogDensity, componentLogConstant, residualMemberships, rowMemberships, type ConstantTerm } from "../logDensities";
 import { paddedCoefficients, rowResiduals } from "../rowResiduals";
@@ -45,11 +45,11 @@ function rowsJob(ws: MixtureWorkspace, params: MixtureParameters, withResiduals:
  */
 function byRows(job: RowsJob): number | null {
   const { from, to, q, k } = job;
-  const helper = helperThread();
   const arrays = job.terms ? [job.rowValues, job.y, job.residuals, job.terms.memberships, job.terms.rowLogLikelihood] : [job.rowValues, job.y, job.residuals];
   if (job.terms?.extra) arrays.push(job.terms.extra.memberships);
   const work = (to - from) * k * ((job.withResiduals ? q : 0) + (job.terms ? ROW_TERM_MULTIPLY_ADDS : 0));
-  if (!helper || work / ROW_MULTIPLY_ADDS_PER_MICROSECOND < HELPER_MINIMUM_MICROSECONDS || !allShared(...arrays)) return stepRows(job);
+  const helper = allShared(...arrays) ? helperFor(work / ROW_MULTIPLY_ADDS_PER_MICROSECOND) : null;
+  if (!helper) return stepRows(job);
   const middle = from + Math.round((to - from) * (1 - helperShare(job.kind)));
   const theirs: RowsJob = { ...job, from: middle };
   shareWork(helper, theirs, middle - from, to - middle, () => stepRows({ ...job, to: middle }), () => stepRows(theirs));

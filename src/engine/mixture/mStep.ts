@@ -4,7 +4,7 @@ import { choleskyScratchLength, scaledCholeskyLower, scaledCholeskySolve } from 
 import { constrainedVariances } from "./constrainedVariances";
 import { columnSums } from "../rowKernels";
 import { addBlockDots, addBlockGram, finishGramSum, gatherRows, holdRows, rowBlock, stageMemberships, stageRows, startGramSums, weighBlock } from "../weightedGram";
-import { GRAM_MULTIPLY_ADDS_PER_MICROSECOND, HELPER_MINIMUM_MICROSECONDS, allShared, helperShare, helperThread, shareWork, type HelperJob } from "../helperThread";
+import { GRAM_MULTIPLY_ADDS_PER_MICROSECOND, allShared, helperFor, helperShare, shareWork, type HelperJob } from "../helperThread";
 
 /** What an M-step changed beyond the parameters themselves. */
 export interface MStepReport {
@@ -85,11 +85,11 @@ function accumulateComponentSums(ws: MixtureWorkspace, skipped: number): void {
   const job: ComponentSumsJob = { kind: "componentSums", ...workspaceRows(ws), memberships, grams, rightHandSides, weightedSquares, heldRows, components: [] };
   const summed: number[] = [];
   for (let c = 0; c < k; c++) if (c !== skipped) summed.push(c);
-  const helper = helperThread();
   // The rows each component gathered at the last M-step (its size before the first): the
   // memberships move little from one step to the next, and counting them again costs a sweep.
-  const held = helper && summed.length > 1 && allShared(ws.rowValues, ws.y, memberships, grams, rightHandSides, weightedSquares, heldRows) ? Float64Array.from(ws.sizes, (size, c) => (heldRows[c] > 0 ? heldRows[c] : size)) : null;
-  if (!helper || !held || heldWork(held, summed, q) / GRAM_MULTIPLY_ADDS_PER_MICROSECOND < HELPER_MINIMUM_MICROSECONDS) {
+  const held = summed.length > 1 && allShared(ws.rowValues, ws.y, memberships, grams, rightHandSides, weightedSquares, heldRows) ? Float64Array.from(ws.sizes, (size, c) => (heldRows[c] > 0 ? heldRows[c] : size)) : null;
+  const helper = held ? helperFor(heldWork(held, summed, q) / GRAM_MULTIPLY_ADDS_PER_MICROSECOND) : null;
+  if (!helper || !held) {
     componentSums({ ...job, components: summed });
     return;
   }

@@ -1,5 +1,5 @@
 import type { CancelSignal } from "../mixtureTypes";
-import { ROW_MULTIPLY_ADDS_PER_MICROSECOND, allShared, helperThread, shareableArray, shareableInts, type HelperJob } from "../helperThread";
+import { ROW_MULTIPLY_ADDS_PER_MICROSECOND, allShared, helperFor, shareableArray, shareableInts, type HelperJob } from "../helperThread";
 import { alternatingLeastSquares, type AlternatingFit, type AssignmentRule } from "./alternatingLeastSquares";
 
 /**
@@ -52,8 +52,8 @@ function sharedRefinements(rows: RefinementRows, starts: readonly Float64Array[]
   const { design, n, q, y, maxIterations } = rows;
   const count = starts.length;
   const k = starts[0].length;
-  const helper = helperThread();
-  if (helper === null || count < 2 || !allShared(design, y) || (n * k * q * maxIterations) / ROW_MULTIPLY_ADDS_PER_MICROSECOND < SPLIT_MINIMUM_MICROSECONDS) return null;
+  const helper = count > 1 && allShared(design, y) ? helperFor((n * k * q * maxIterations) / ROW_MULTIPLY_ADDS_PER_MICROSECOND, SPLIT_MINIMUM_MICROSECONDS) : null;
+  if (helper === null) return null;
   const flat = new Float64Array(count * k * q);
   starts.forEach((start, s) => start.forEach((c, index) => flat.set(c.subarray(0, q), (s * k + index) * q)));
   const job: RefinementJob = {
