@@ -43,6 +43,9 @@ describe("skein scan and skein predict", () => {
     // K = 1 has no pair of components: JSON has no Infinity, so null.
     expect(report.rows[0].minSeparation).toBeNull();
     expect(report.rows[1].minSeparation).toBeGreaterThan(4);
+    // How long the reading and the three fits took, as skein fit reports its own.
+    expect(report.timings.readMs).toBeGreaterThanOrEqual(0);
+    expect(report.timings.scanMs).toBeGreaterThan(0);
   });
 
   it("scan prints a table marking the suggested K", async () => {

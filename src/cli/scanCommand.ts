@@ -98,6 +98,8 @@ export interface ScanReport {
   /** Rows no component of the suggested K explains (1-based data rows, as skein fit reports them). */
   strayRows: { row: number; distance: number; nearest: number }[];
   strayRowsRule: string;
+  /** Milliseconds reading the file, and scanning (every K's fit, cross-validation included). */
+  timings: { readMs: number; scanMs: number };
 }
 
 /** What skein scan was asked for, up to the file to scan. */
@@ -117,10 +119,14 @@ export async function scanCommand(argv: readonly string[], io: CommandIO): Promi
     return 0;
   }
   const request = readScanRequest(parsed);
+  const readStart = performance.now();
   const { design, sheetName, columns, notices } = await loadDesign(request.source);
+  const readMs = performance.now() - readStart;
   const crossValidate = parsed.switches.has("cross-validate");
+  const scanStart = performance.now();
   const scan = runScan(design, parsed, request, crossValidate, io);
-  const report = scanReport(design, scan, request, crossValidate, { columns, notices });
+  const scanMs = performance.now() - scanStart;
+  const report = scanReport(design, scan, request, crossValidate, { columns, notices, timings: { readMs, scanMs } });
   if (parsed.switches.has("json")) {
     io.stdout(JSON.stringify(report) + "\n");
     return 0;
@@ -174,7 +180,7 @@ function runScan(design: Design, parsed: ParsedArgs, request: ScanRequest, cross
 }
 
 /** The --json output: every K's row, and the stray rows of the suggested K. */
-function scanReport(design: Design, scan: ScanResult, request: ScanRequest, crossValidate: boolean, read: Pick<ScanReport, "columns" | "notices">): ScanReport {
+function scanReport(design: Design, scan: ScanResult, request: ScanRequest, crossValidate: boolean, read: Pick<ScanReport, "columns" | "notices" | "timings">): ScanReport {
   const chosen = scan.rows.find((row) => row.k === scan.chosenK) ?? scan.rows[0];
   const stray = findStrayRows(design, chosen.fit);
   return {
@@ -192,6 +198,7 @@ function scanReport(design: Design, scan: ScanResult, request: ScanRequest, cros
     stoppedEarly: scan.stoppedEarly,
     strayRows: stray.rows.map((r) => ({ row: design.rowIndex[r.row] + 1, distance: r.distance, nearest: r.nearest + 1 })),
     strayRowsRule: stray.rule,
+    timings: read.timings,
   };
 }
 
