@@ -12,6 +12,7 @@ import { computeResiduals } from "../src/engine/mixture/eStep";
 import { generateProblem } from "../src/synthetic/generateProblems";
 import { ConcentrationSteps } from "../src/engine/mixture/concentrationSteps";
 import { peelOrder } from "../src/engine/mixture/restructure";
+import { peelExactComponents } from "../src/engine/mixture/restructuringMoves";
 import { enoughRows, exactComponentsOf, exactTolerance, PEEL_SNAP_ROUNDS, runWhileFalling, snapComponents, stopOnExactGain, stopOnExactPlateau, watchSmallestVariance } from "../src/engine/mixture/exactComponents";
 import type { FitContext } from "../src/engine/mixture/fitContext";
 import { runEm } from "../src/engine/mixture/runEm";
@@ -481,6 +482,49 @@ describe("a start run on while its smallest variance falls fast", () => {
     expect(runWhileFalling(ctx, params, watch, 0)).toBeNull();
     const settling = watchSmallestVariance(params, [1, 1, 1, 1, 1, 0.6]);
     expect(runWhileFalling(ctx, params, settling, 45)).toBeNull();
+  });
+});
+
+describe("exact peeling", () => {
+  it("fits the rest exactly though a few rows of a line outside the fit lie among them (the sub-problem's background takes those)", () => {
+    // Invented noiseless rows: lines a (40 rows) and b (40 rows) in 4 predictors, and 4 rows of
+    // a third line c that the fit (K = 2) has no component for, as a peel of a noisy fit further
+    // up can leave among a sub-problem's rows. a is exact in the fit, b 10% off: the exact
+    // peel removes a's rows and fits one component to the other 44. By least squares those 4
+    // rows pull it off b; with the background they go there and b is fitted exactly.
+    const random = createRandom(61);
+    const p = 4;
+    const [a, b, c] = [0, 1, 2].map(() => Float64Array.from({ length: p }, () => random.normal()));
+    const n = 84;
+    const x = new Float64Array(n * p);
+    const y = new Float64Array(n);
+    for (let i = 0; i < n; i++) {
+      const line = i < 40 ? a : i < 80 ? b : c;
+      for (let j = 0; j < p; j++) {
+        x[i * p + j] = random.normal();
+        y[i] += x[i * p + j] * line[j];
+      }
+    }
+    const data = { x, y, n, p };
+    const ws = createWorkspace(data, 2, false, false);
+    const guards = createGuards(p, ws.yVariance);
+    const start = new Float64Array(2 * p);
+    start.set(a, 0);
+    start.set(b.map((v) => v * 1.1), p);
+    const params = parametersFromCoefficients(ws, start, guards);
+    const settings = { k: 2, seed: 1, intercept: false, model: "plain", restarts: 10, tolerance: 1e-8, maxIterations: 500, background: false };
+    const ctx = { data, settings, guards, random: createRandom(62), depth: 0, expectExact: false } as unknown as FitContext;
+    const peeled = peelExactComponents(ctx, ws, params, null);
+    expect(peeled).not.toBeNull();
+    // The kept component first, then the sub-problem's.
+    for (let j = 0; j < p; j++) {
+      expect(Math.abs(peeled!.coefficients[j] - a[j])).toBeLessThan(1e-9);
+      expect(Math.abs(peeled!.coefficients[p + j] - b[j])).toBeLessThan(1e-9);
+    }
+    // The least-squares fit of those 44 rows, the component the sub-problem would give without
+    // a background, is far from b: the check above could not pass by least squares.
+    const rest = leastSquares(x.subarray(40 * p), 44, p, y.subarray(40));
+    expect(Math.max(...b.map((v, j) => Math.abs(rest.coefficients[j] - v)))).toBeGreaterThan(1e-3);
   });
 });
 

@@ -120,6 +120,8 @@ export interface SubProblem {
   start?: Float64Array;
   /** The rows are expected to lie exactly on k regressions (the parent fitted others exactly). */
   expectExact?: boolean;
+  /** A flat background component beside the k regressions, to take rows none of them fits. */
+  background?: boolean;
 }
 
 /**
@@ -138,6 +140,7 @@ export function fitSubProblem(parent: FitContext, sub: SubProblem): MixtureFit {
     tolerance: settings.tolerance,
     maxIterations: settings.maxIterations,
     signal: parent.signal,
+    background: sub.background ?? false,
   };
   return fitAtDepth(selectRows(parent.data, sub.rows), options, parent.depth + 1, sub.start, sub.expectExact ?? parent.expectExact);
 }

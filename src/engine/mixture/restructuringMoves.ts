@@ -45,8 +45,10 @@ export function peelExactComponents(ctx: FitContext, ws: MixtureWorkspace, fit: 
   const others = otherComponents(params, exact);
   if (remaining.length < others.length * ctx.guards.minimumSize) return null;
   // The components not exact yet are the sub-problem's first start: with the exact rows
-  // removed they are often next to an exact fit of the rest.
-  const sub = fitSubProblem(ctx, { rows: remaining, k: others.length, start: coefficientsOf(params, others), expectExact: true });
+  // removed they are often next to an exact fit of the rest. A peel of a noisy fit further up
+  // (peelComponent) may have left a few rows of a component outside this fit among these
+  // rows: the background takes them, which no regression can do and stay exact.
+  const sub = fitSubProblem(ctx, { rows: remaining, k: others.length, start: coefficientsOf(params, others), expectExact: true, background: true });
   return combine(ws, params, exact, sub, ctx);
 }
 
