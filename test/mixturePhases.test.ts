@@ -486,7 +486,7 @@ describe("a start run on while its smallest variance falls fast", () => {
 });
 
 describe("exact peeling", () => {
-  it("fits the rest exactly though a few rows of a line outside the fit lie among them (the sub-problem's background takes those)", () => {
+  it("below a noisy peel, fits the rest exactly though a few rows of a line outside the fit lie among them (the sub-problem's background takes those)", () => {
     // Invented noiseless rows: lines a (40 rows) and b (40 rows) in 4 predictors, and 4 rows of
     // a third line c that the fit (K = 2) has no component for, as a peel of a noisy fit further
     // up can leave among a sub-problem's rows. a is exact in the fit, b 10% off: the exact
@@ -513,7 +513,8 @@ describe("exact peeling", () => {
     start.set(b.map((v) => v * 1.1), p);
     const params = parametersFromCoefficients(ws, start, guards);
     const settings = { k: 2, seed: 1, intercept: false, model: "plain", restarts: 10, tolerance: 1e-8, maxIterations: 500, background: false };
-    const ctx = { data, settings, guards, random: createRandom(62), depth: 0, expectExact: false } as unknown as FitContext;
+    // These rows as a sub-problem below a noisy peel (strays possible).
+    const ctx = { data, settings, guards, random: createRandom(62), depth: 1, expectExact: false, strays: true } as unknown as FitContext;
     const peeled = peelExactComponents(ctx, ws, params, null);
     expect(peeled).not.toBeNull();
     // The kept component first, then the sub-problem's.
@@ -521,10 +522,13 @@ describe("exact peeling", () => {
       expect(Math.abs(peeled!.coefficients[j] - a[j])).toBeLessThan(1e-9);
       expect(Math.abs(peeled!.coefficients[p + j] - b[j])).toBeLessThan(1e-9);
     }
-    // The least-squares fit of those 44 rows, the component the sub-problem would give without
-    // a background, is far from b: the check above could not pass by least squares.
+    // The least-squares fit of those 44 rows is far from b: the check above could not pass by
+    // least squares. It is what the peel gives where no strays can be (rows that only exact
+    // fits have narrowed, as in the user's own fit): no background there.
     const rest = leastSquares(x.subarray(40 * p), 44, p, y.subarray(40));
     expect(Math.max(...b.map((v, j) => Math.abs(rest.coefficients[j] - v)))).toBeGreaterThan(1e-3);
+    const closed = peelExactComponents({ ...ctx, strays: false, random: createRandom(62) } as FitContext, ws, parametersFromCoefficients(ws, start, guards), null);
+    for (let j = 0; j < p; j++) expect(Math.abs(closed!.coefficients[p + j] - rest.coefficients[j])).toBeLessThan(1e-9);
   });
 });
 

@@ -81,7 +81,7 @@ const BACKGROUND_TRIAL_STOPPED = "the fit with the background could not come bel
  *   exact components  exact peeling and the noiseless polish (finishExactComponents.ts)
  *   report            reports, warnings, memberships, BIC, ICL, order (reportFit.ts)
  */
-function fitAtDepth(data: RegressionData, options: MixtureOptions, depth: number, inherited?: Float64Array, expectExact = false): MixtureFit {
+function fitAtDepth(data: RegressionData, options: MixtureOptions, depth: number, inherited?: Float64Array, expectExact = false, strays = false): MixtureFit {
   const settings = checkInput(data, options);
   const full = withBackground(createWorkspace(data, settings.k, settings.intercept, settings.model === "joint"), settings.background);
   const guards = createGuards(full.q, full.yVariance);
@@ -91,7 +91,7 @@ function fitAtDepth(data: RegressionData, options: MixtureOptions, depth: number
   const subsampleRows = full.n > 2 * subsampleSize ? sampleIndices(full.n, subsampleSize, random) : null;
   const working = subsampleRows ? withBackground(createWorkspace(data, settings.k, settings.intercept, full.joint, subsampleRows), settings.background, full) : full;
   const ctx: FitContext = {
-    data, settings, guards, random, full, working, subsampleRows, depth, inherited, expectExact,
+    data, settings, guards, random, full, working, subsampleRows, depth, inherited, expectExact, strays,
     trialRandom: createRandom(settings.seed + TRIAL_SEED_OFFSET),
     // On rows expected to be exact, long runs end once their exact components stop changing.
     runStop: expectExact ? stopOnExactPlateau : null,
@@ -120,6 +120,11 @@ export interface SubProblem {
   start?: Float64Array;
   /** The rows are expected to lie exactly on k regressions (the parent fitted others exactly). */
   expectExact?: boolean;
+  /**
+   * Rows of components outside the sub-problem may lie among its rows: they were chosen by a
+   * noisy fit (a peel's band, a split's members), here or further up (default: the parent's).
+   */
+  strays?: boolean;
   /** A flat background component beside the k regressions, to take rows none of them fits. */
   background?: boolean;
 }
@@ -142,5 +147,5 @@ export function fitSubProblem(parent: FitContext, sub: SubProblem): MixtureFit {
     signal: parent.signal,
     background: sub.background ?? false,
   };
-  return fitAtDepth(selectRows(parent.data, sub.rows), options, parent.depth + 1, sub.start, sub.expectExact ?? parent.expectExact);
+  return fitAtDepth(selectRows(parent.data, sub.rows), options, parent.depth + 1, sub.start, sub.expectExact ?? parent.expectExact, sub.strays ?? parent.strays);
 }

@@ -57,6 +57,12 @@ export interface FitContext extends EmContext {
    */
   expectExact: boolean;
   /**
+   * Rows of components outside this sub-problem may lie among its rows (they were chosen by a
+   * noisy fit: a peel's band or a split's members, here or further up); false for the user's
+   * fit and for sub-problems of its rows that exact fits left.
+   */
+  strays: boolean;
+  /**
    * Re-seeding in runs that may be given up (a start run on while falling toward an exact fit,
    * exactComponents.ts) draws from this second generator, made from the same seed, so a run
    * given up leaves every later draw of `random` as it would have been.

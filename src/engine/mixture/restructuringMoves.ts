@@ -45,10 +45,10 @@ export function peelExactComponents(ctx: FitContext, ws: MixtureWorkspace, fit: 
   const others = otherComponents(params, exact);
   if (remaining.length < others.length * ctx.guards.minimumSize) return null;
   // The components not exact yet are the sub-problem's first start: with the exact rows
-  // removed they are often next to an exact fit of the rest. A peel of a noisy fit further up
-  // (peelComponent) may have left a few rows of a component outside this fit among these
-  // rows: the background takes them, which no regression can do and stay exact.
-  const sub = fitSubProblem(ctx, { rows: remaining, k: others.length, start: coefficientsOf(params, others), expectExact: true, background: true });
+  // removed they are often next to an exact fit of the rest. Below a peel or split of a noisy
+  // fit a few rows of a component outside this fit may lie among these rows: a background
+  // then takes them, which no regression can do and stay exact.
+  const sub = fitSubProblem(ctx, { rows: remaining, k: others.length, start: coefficientsOf(params, others), expectExact: true, background: ctx.strays });
   return combine(ws, params, exact, sub, ctx);
 }
 
@@ -70,7 +70,7 @@ export function splitAndMerge(ctx: FitContext, ws: MixtureWorkspace, params: Mix
   if (rows.length < 2 * ctx.guards.minimumSize) return null;
   let halves: MixtureFit;
   try {
-    halves = fitSubProblem(ctx, { rows, k: 2, restarts: Math.min(ctx.settings.restarts, SPLIT_RESTARTS) });
+    halves = fitSubProblem(ctx, { rows, k: 2, restarts: Math.min(ctx.settings.restarts, SPLIT_RESTARTS), strays: true });
   } catch {
     return null;
   }
@@ -106,7 +106,7 @@ export function peelComponent(ctx: FitContext, ws: MixtureWorkspace, params: Mix
   if (n - remaining.length < enoughRows(q) || remaining.length < (k - 1) * ctx.guards.minimumSize) return null;
   let rest: MixtureFit;
   try {
-    rest = fitSubProblem(ctx, { rows: remaining, k: k - 1, start: coefficientsOf(params, otherComponents(params, [keep])) });
+    rest = fitSubProblem(ctx, { rows: remaining, k: k - 1, start: coefficientsOf(params, otherComponents(params, [keep])), strays: true });
   } catch {
     return null;
   }
