@@ -332,8 +332,10 @@ function printProcess(label: string, runs: Array<ProcessFigures | string>, print
   }
   const sorted = (runs as ProcessFigures[]).slice().sort((a, b) => a.wallMs - b.wallMs);
   const figures = sorted[Math.floor(sorted.length / 2)];
-  const timings = figures.json.timings as { readMs?: number; fitMs?: number } | undefined;
-  const inner = timings ? `; its own timings: read ${timings.readMs?.toFixed(0)} ms, fit ${timings.fitMs?.toFixed(0)} ms` : "";
+  // skein fit reports its fit's time (fitMs), skein scan every K's fits (scanMs).
+  const timings = figures.json.timings as { readMs: number; fitMs?: number; scanMs?: number } | undefined;
+  const work = timings?.fitMs !== undefined ? `fit ${timings.fitMs.toFixed(0)} ms` : `scan ${timings?.scanMs?.toFixed(0)} ms`;
+  const inner = timings ? `; its own timings: read ${timings.readMs.toFixed(0)} ms, ${work}` : "";
   const picked = figures.json.chosenK !== undefined ? `; suggested K = ${figures.json.chosenK}` : "";
   const spread = sorted.length > 1 ? ` (median of ${sorted.length} runs, ${sorted.map((run) => (run.wallMs / 1000).toFixed(1)).join(" / ")} s)` : "";
   print(`${label}: whole process ${(figures.wallMs / 1000).toFixed(1)} s${spread}, peak resident ${figures.peakMegabytes.toFixed(0)} MB${inner}${picked}`);
