@@ -14,7 +14,8 @@ import { finishExactComponents } from "./mixture/finishExactComponents";
 import { stopOnExactPlateau } from "./mixture/exactComponents";
 import { reportFit } from "./mixture/reportFit";
 import { withInternalScaling } from "./internalScaling";
-import { allShared, beginHelperFor, shareableArray, sharing } from "./helperThread";
+import { allShared, helperFor, shareableArray, sharing } from "./helperThread";
+import { rowsMicroseconds } from "./mixture/eStep";
 import { backgroundMayHelp, chooseBackground, withBackground } from "./mixture/backgroundComponent";
 
 export { checkRowsForComponents } from "./mixture/mixtureSettings";
@@ -38,7 +39,10 @@ const TRIAL_SEED_OFFSET = 1;
  * (and a second, from the same seed, the re-seeding in runs that may be given up).
  */
 export function fitMixture(data: RegressionData, options: MixtureOptions): MixtureFit {
-  beginHelperFor(data.n, data.p + (options.intercept === false ? 0 : 1), options.k);
+  // A fit whose E-steps on all rows are long enough to split starts the helper thread now: it
+  // takes about a tenth of a second to start, and one started only by the fit's first long
+  // step would miss much of a fit of a second or less.
+  helperFor(rowsMicroseconds(data.n, options.k, data.p + (options.intercept === false ? 0 : 1), true, true));
   // Values far from 1 (beyond 1e100, or a column's size below 1e-100) are fitted scaled.
   return withInternalScaling(shareable(data), options, fitWithBackgroundSetting);
 }

@@ -105,16 +105,6 @@ export function helperFor(microseconds: number, minimum = HELPER_MINIMUM_MICROSE
 }
 
 /**
- * Starts the installed thread as a fit of n rows, q coefficients and k components begins, when
- * that fit's E-steps on all rows are long enough to split: a thread takes about a tenth of a
- * second to start, so one started only by the fit's first long step would miss much of a fit
- * of a second or less.
- */
-export function beginHelperFor(n: number, q: number, k: number): void {
-  helperFor((n * k * (q + ROW_TERM_MULTIPLY_ADDS)) / ROW_MULTIPLY_ADDS_PER_MICROSECOND);
-}
-
-/**
  * A zeroed Float64Array the helper thread can read and write: over a SharedArrayBuffer while a
  * helper is installed, an ordinary one otherwise. The workspaces' per-row arrays come from here.
  */

@@ -47,13 +47,17 @@ function byRows(job: RowsJob): number | null {
   const { from, to, q, k } = job;
   const arrays = job.terms ? [job.rowValues, job.y, job.residuals, job.terms.memberships, job.terms.rowLogLikelihood] : [job.rowValues, job.y, job.residuals];
   if (job.terms?.extra) arrays.push(job.terms.extra.memberships);
-  const work = (to - from) * k * ((job.withResiduals ? q : 0) + (job.terms ? ROW_TERM_MULTIPLY_ADDS : 0));
-  const helper = allShared(...arrays) ? helperFor(work / ROW_MULTIPLY_ADDS_PER_MICROSECOND) : null;
+  const helper = allShared(...arrays) ? helperFor(rowsMicroseconds(to - from, k, q, job.withResiduals, job.terms !== null)) : null;
   if (!helper) return stepRows(job);
   const middle = from + Math.round((to - from) * (1 - helperShare(job.kind)));
   const theirs: RowsJob = { ...job, from: middle };
   shareWork(helper, theirs, middle - from, to - middle, () => stepRows({ ...job, to: middle }), () => stepRows(theirs));
   return null;
+}
+
+/** Estimated microseconds of a pass over `rows` rows: their residuals, the E-step's terms, or both. */
+export function rowsMicroseconds(rows: number, k: number, q: number, withResiduals: boolean, withTerms: boolean): number {
+  return (rows * k * ((withResiduals ? q : 0) + (withTerms ? ROW_TERM_MULTIPLY_ADDS : 0))) / ROW_MULTIPLY_ADDS_PER_MICROSECOND;
 }
 
 /**
