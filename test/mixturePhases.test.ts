@@ -543,3 +543,33 @@ describe("the components peeling may keep", () => {
     expect(peelOrder(params, [0, 2])).toEqual([2, 0]);
   });
 });
+
+describe("a run that may stop once the gain still to come is small (enoughGain)", () => {
+  // Overlapping components (noise SD 1 on slopes of about unit size), where EM converges
+  // slowly: each change is a large fraction of the one before, so far more than the last
+  // change is still to come. The run's own limit is the same run to a tolerance of 1e-15.
+  const problem = generateProblem({ n: 2000, p: 2, k: 3, seed: 1, sigma: 1, intercept: true });
+  const ws = createWorkspace(problem.data, 3, true, false);
+  const guards = createGuards(ws.q, ws.yVariance);
+  const start = new Float64Array(3 * ws.q);
+  problem.coefficients.forEach((c, j) => c.forEach((v, t) => (start[j * ws.q + t] = 0.7 * v + 0.3)));
+  const ctx = { working: ws, guards, tolerance: 1e-15, random: createRandom(1), trialRandom: createRandom(2), runStop: null } as unknown as FitContext;
+  const enoughGain = 0.01;
+
+  it("ends within about enoughGain of the run's limit, where a change below enoughGain comes far earlier", () => {
+    const path: number[] = [];
+    runEm(ws, parametersFromCoefficients(ws, start, guards), ctx, 5000, path);
+    const limit = path[path.length - 1];
+    // The data are as slow as meant: the first change below enoughGain leaves more than ten
+    // times enoughGain to come (stopping there was the rule before).
+    const firstSmallChange = path.findIndex((value, i) => i > 0 && Math.abs(value - path[i - 1]) <= enoughGain);
+    expect(limit - path[firstSmallChange]).toBeGreaterThan(10 * enoughGain);
+    const stopped: number[] = [];
+    const run = runEm(ws, parametersFromCoefficients(ws, start, guards), ctx, 5000, stopped, { enoughGain });
+    expect(run.converged).toBe(true);
+    expect(stopped.length).toBeGreaterThan(firstSmallChange + 1);
+    // Aitken's estimate is close, not exact: within twice the bound.
+    expect(limit - run.logLikelihood).toBeLessThan(2 * enoughGain);
+    expect(limit - run.logLikelihood).toBeGreaterThanOrEqual(0);
+  });
+});

@@ -14,8 +14,8 @@ const MAX_RESEEDS = 10;
  * EM (Dempster, Laird & Rubin 1977) from `params` (updated in place) until the relative
  * change of ln L, |ΔL| / max(|L|, n), drops below the tolerance, or the gain still to come does
  * (below), or `maxIterations` pass. The log-likelihood after each iteration goes to `path`
- * when one is given. A caller may also let it stop once the change or the gain still to come is
- * below `ends.enoughGain` nats, an absolute bound (finishOnAllRows.ts), and may end it before it
+ * when one is given. A caller may also let it stop once the gain still to come is below
+ * `ends.enoughGain` nats, an absolute bound (finishOnAllRows.ts), and may end it before it
  * converges through `ends.stop` or the context's `runStop` (the run then reports `stopped`).
  *
  * Gain still to come: EM converges linearly, each change about a times the one before, so
@@ -61,8 +61,8 @@ export function runEm(ws: MixtureWorkspace, params: MixtureParameters, em: EmCon
     logLikelihood = next;
     // n as the floor of the scale, so that a log-likelihood near 0 does not make the test
     // impossibly strict.
-    const allowed = Math.max(em.tolerance * Math.max(Math.abs(next), ws.n), enoughGain);
-    if (reseeded.length === 0 && (Math.abs(change) <= allowed || gainToCome(previousChange, change) <= allowed)) {
+    const allowed = em.tolerance * Math.max(Math.abs(next), ws.n);
+    if (reseeded.length === 0 && (Math.abs(change) <= allowed || gainToCome(previousChange, change) <= allowed || gainToCome(previousChange, change, 1) <= enoughGain)) {
       converged = true;
       break;
     }
@@ -80,7 +80,11 @@ function eitherStop(first: EmStop | null, second: EmStop | null): EmStop | null 
 
 /** Optional ends of a run besides the tolerance and the iteration limit. */
 export interface EmEnds {
-  /** Also converged once the change or the gain still to come is below this many nats. */
+  /**
+   * Also converged once the gain still to come is below this many nats, whatever the ratio of
+   * the changes (below 1): a change below the bound is not enough, since when EM converges
+   * slowly (ratio near 1) far more than the change is still to come (DEVELOPERS.md).
+   */
   enoughGain?: number;
   /** Asked after each iteration whether the run may end before converging. */
   stop?: EmStop | null;
