@@ -62,11 +62,14 @@ export function runEm(ws: MixtureWorkspace, params: MixtureParameters, em: EmCon
     // n as the floor of the scale, so that a log-likelihood near 0 does not make the test
     // impossibly strict.
     const allowed = em.tolerance * Math.max(Math.abs(next), ws.n);
-    if (reseeded.length === 0 && (Math.abs(change) <= allowed || gainToCome(previousChange, change) <= allowed || gainToCome(previousChange, change, 1) <= enoughGain)) {
+    // The gain still to come at whatever ratio the changes shrink by (below 1), for the
+    // caller's absolute bound and its stop.
+    const toCome = gainToCome(previousChange, change, 1);
+    if (reseeded.length === 0 && (Math.abs(change) <= allowed || gainToCome(previousChange, change) <= allowed || toCome <= enoughGain)) {
       converged = true;
       break;
     }
-    if (stop !== null && reseeded.length === 0 && stop(next, gainToCome(previousChange, change, 1))) return { logLikelihood, iterations, converged, reseeds, varianceBoundActive, stopped: true };
+    if (stop !== null && reseeded.length === 0 && stop(next, toCome)) return { logLikelihood, iterations, converged, reseeds, varianceBoundActive, stopped: true };
     previousChange = reseeded.length === 0 ? change : NaN;
   }
   return { logLikelihood, iterations, converged, reseeds, varianceBoundActive };
