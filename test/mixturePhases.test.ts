@@ -383,14 +383,14 @@ describe("a run that stops once it has fitted more components exactly", () => {
   it("stops 30 iterations after the count rose, counting every 10 iterations, and not before", () => {
     const { ws, p, b, params } = twoExactLines(53);
     const stop = stopOnExactGain(ws, params);
-    const ask = (): boolean => stop(0, Infinity);
+    const ask = (iteration: number): boolean => stop(0, Infinity, iteration);
     // Only a is exact: no gain, however long the run.
-    for (let iteration = 1; iteration <= 60; iteration++) expect(ask()).toBe(false);
+    for (let iteration = 1; iteration <= 60; iteration++) expect(ask(iteration)).toBe(false);
     // The run (which updates params in place) lands b: the count rises at the next check
     // (iteration 70) and must then hold for 30 iterations (checks at 80, 90, 100).
     params.coefficients.set(b, p);
     const answers: boolean[] = [];
-    for (let iteration = 61; iteration <= 100; iteration++) answers.push(ask());
+    for (let iteration = 61; iteration <= 100; iteration++) answers.push(ask(iteration));
     expect(answers.slice(0, 39).every((answer) => !answer)).toBe(true);
     expect(answers[39]).toBe(true);
   });
@@ -400,11 +400,11 @@ describe("a run in a sub-problem that expects exact rows", () => {
   it("stops once one or more exact components have stayed the same for 30 iterations", () => {
     const { ws, p, a, b, params } = twoExactLines(53);
     const stop = stopOnExactPlateau(ws, params, 500)!;
-    const ask = (): boolean => stop(0, Infinity);
+    const ask = (iteration: number): boolean => stop(0, Infinity, iteration);
     // Counts at 10, 20, ...: a alone is exact from the first count, so the count has held
     // for 30 iterations at the count at iteration 40, and not before.
     const answers: boolean[] = [];
-    for (let iteration = 1; iteration <= 40; iteration++) answers.push(ask());
+    for (let iteration = 1; iteration <= 40; iteration++) answers.push(ask(iteration));
     expect(answers.slice(0, 39).every((answer) => !answer)).toBe(true);
     expect(answers[39]).toBe(true);
     // A change of the count starts the wait again: b lands at iteration 21 (counted at 30),
@@ -413,14 +413,14 @@ describe("a run in a sub-problem that expects exact rows", () => {
     const later: boolean[] = [];
     for (let iteration = 1; iteration <= 70; iteration++) {
       if (iteration === 21) params.coefficients.set(b, p);
-      later.push(again(0, Infinity));
+      later.push(again(0, Infinity, iteration));
     }
     expect(later.indexOf(true)).toBe(60 - 1);
     // No exact component: the run is never stopped this way.
     params.coefficients.set(a.map((v) => v * 1.1), 0);
     params.coefficients.set(b.map((v) => v * 1.1), p);
     const none = stopOnExactPlateau(ws, params, 500)!;
-    for (let iteration = 1; iteration <= 300; iteration++) expect(none(0, Infinity)).toBe(false);
+    for (let iteration = 1; iteration <= 300; iteration++) expect(none(0, Infinity, iteration)).toBe(false);
   });
 
   it("leaves runs of at most 60 iterations unwatched", () => {
@@ -558,18 +558,70 @@ describe("a run that may stop once the gain still to come is small (enoughGain)"
 
   it("ends within about enoughGain of the run's limit, where a change below enoughGain comes far earlier", () => {
     const path: number[] = [];
-    runEm(ws, parametersFromCoefficients(ws, start, guards), ctx, 5000, path);
+    runEm(ws, parametersFromCoefficients(ws, start, guards), ctx, 5000, path, { plain: true });
     const limit = path[path.length - 1];
     // The data are as slow as meant: the first change below enoughGain leaves more than ten
     // times enoughGain to come (stopping there was the rule before).
     const firstSmallChange = path.findIndex((value, i) => i > 0 && Math.abs(value - path[i - 1]) <= enoughGain);
     expect(limit - path[firstSmallChange]).toBeGreaterThan(10 * enoughGain);
     const stopped: number[] = [];
-    const run = runEm(ws, parametersFromCoefficients(ws, start, guards), ctx, 5000, stopped, { enoughGain });
+    const run = runEm(ws, parametersFromCoefficients(ws, start, guards), ctx, 5000, stopped, { enoughGain, plain: true });
     expect(run.converged).toBe(true);
     expect(stopped.length).toBeGreaterThan(firstSmallChange + 1);
     // Aitken's estimate is close, not exact: within twice the bound.
     expect(limit - run.logLikelihood).toBeLessThan(2 * enoughGain);
     expect(limit - run.logLikelihood).toBeGreaterThanOrEqual(0);
+  });
+});
+
+describe("a slow run accelerated by SQUAREM (Varadhan & Roland 2008)", () => {
+  // The same overlapping problem as above, where plain EM converges slowly.
+  const problem = generateProblem({ n: 2000, p: 2, k: 3, seed: 1, sigma: 1, intercept: true });
+  const ws = createWorkspace(problem.data, 3, true, false);
+  const guards = createGuards(ws.q, ws.yVariance);
+  const start = new Float64Array(3 * ws.q);
+  problem.coefficients.forEach((c, j) => c.forEach((v, t) => (start[j * ws.q + t] = 0.7 * v + 0.3)));
+  const ctx = { working: ws, guards, tolerance: 1e-12, random: createRandom(1), trialRandom: createRandom(2), runStop: null } as unknown as FitContext;
+
+  it("reaches plain EM's limit in far fewer iterations, and ln L never falls from step to step", () => {
+    const plainPath: number[] = [];
+    const plain = runEm(ws, parametersFromCoefficients(ws, start, guards), ctx, 5000, plainPath, { plain: true });
+    const path: number[] = [];
+    const params = parametersFromCoefficients(ws, start, guards);
+    const accelerated = runEm(ws, params, ctx, 5000, path);
+    expect(plain.converged && accelerated.converged).toBe(true);
+    // The same maximum: ln L within the tolerance's scale (1e-12 · n per step, far below
+    // 1e-6 nats in all), the coefficients to 1e-4 (the likelihood is flat in them near its
+    // maximum, so the two stopping points differ in the coefficients more than in ln L).
+    expect(Math.abs(accelerated.logLikelihood - plain.logLikelihood)).toBeLessThan(1e-6);
+    const plainParams = parametersFromCoefficients(ws, start, guards);
+    runEm(ws, plainParams, ctx, 5000, null, { plain: true });
+    for (let j = 0; j < params.coefficients.length; j++) expect(Math.abs(params.coefficients[j] - plainParams.coefficients[j])).toBeLessThan(1e-4);
+    // Each SQUAREM cycle counts its three EM iterations (and up to three more when a step is
+    // shortened); plain EM needs several times as many here.
+    expect(accelerated.iterations * 3).toBeLessThan(plain.iterations);
+    for (let t = 1; t < path.length; t++) expect(path[t]).toBeGreaterThanOrEqual(path[t - 1] - 1e-9 * Math.abs(path[t - 1]));
+  });
+
+  it("leaves runs that converge fast, and brief runs, as plain EM to the bit", () => {
+    // A well-separated problem (noise SD 0.05): the changes shrink fast from the start.
+    const quick = generateProblem({ n: 600, p: 2, k: 2, seed: 3, sigma: 0.05, intercept: true });
+    const quickWs = createWorkspace(quick.data, 2, true, false);
+    const quickGuards = createGuards(quickWs.q, quickWs.yVariance);
+    const quickCtx = { ...ctx, working: quickWs, guards: quickGuards } as unknown as FitContext;
+    const quickStart = new Float64Array(2 * quickWs.q);
+    quick.coefficients.forEach((c, j) => c.forEach((v, t) => (quickStart[j * quickWs.q + t] = 0.9 * v + 0.1)));
+    const a = parametersFromCoefficients(quickWs, quickStart, quickGuards);
+    const b = parametersFromCoefficients(quickWs, quickStart, quickGuards);
+    const runA = runEm(quickWs, a, quickCtx, 500);
+    const runB = runEm(quickWs, b, quickCtx, 500, null, { plain: true });
+    expect(runA.iterations).toBe(runB.iterations);
+    expect(Array.from(a.coefficients)).toEqual(Array.from(b.coefficients));
+    // On the slow problem, a run of at most 60 iterations (the brief runs that rank starts) is plain EM.
+    const briefA = parametersFromCoefficients(ws, start, guards);
+    const briefB = parametersFromCoefficients(ws, start, guards);
+    runEm(ws, briefA, ctx, 60);
+    runEm(ws, briefB, ctx, 60, null, { plain: true });
+    expect(Array.from(briefA.coefficients)).toEqual(Array.from(briefB.coefficients));
   });
 });

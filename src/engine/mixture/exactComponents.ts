@@ -130,13 +130,14 @@ const EXACT_COUNT_HOLD = 30;
  * check with.
  */
 function watchExactCount(ws: MixtureWorkspace, params: MixtureParameters, last: number, ends: (count: number, held: number) => boolean): EmStop {
-  let iteration = 0;
+  let checked = 0;
   let held = 0;
-  return () => {
-    if (++iteration % EXACT_CHECK_INTERVAL !== 0) return false;
+  return (_logLikelihood, _gain, iterations) => {
+    if (iterations - checked < EXACT_CHECK_INTERVAL) return false;
     // Recomputes the residuals of the same parameters the run's last E-step used.
     const count = exactComponentsOf(ws, params).length;
-    held = count === last ? held + EXACT_CHECK_INTERVAL : 0;
+    held = count === last ? held + (iterations - checked) : 0;
+    checked = iterations;
     last = count;
     return ends(count, held);
   };
@@ -223,11 +224,9 @@ export function runWhileFalling(ctx: FitContext, params: MixtureParameters, watc
   const trial = copyParameters(params);
   const trialWatch = watchSmallestVariance(trial, watch.smallest.slice());
   const backgroundWeight = ws.background?.weight ?? 0;
-  let iterations = 0;
   let landed = false;
-  const stop: EmStop = (logLikelihood, gain) => {
-    trialWatch.stop(logLikelihood, gain);
-    iterations++;
+  const stop: EmStop = (logLikelihood, gain, iterations) => {
+    trialWatch.stop(logLikelihood, gain, iterations);
     // Near exact, the run goes on until a component fits enough rows exactly: on noisy data
     // a surplus component can shrink onto a few rows without ever doing so.
     if (nearExact(trialWatch.smallest[trialWatch.smallest.length - 1], ws)) return (landed = exactComponentsOf(ws, trial).length > 0);

@@ -18,11 +18,12 @@ export interface Settings {
 }
 
 /**
- * Asked after each iteration of a run given one: whether the run may end before converging,
- * from ln L and Aitken's estimate of the gain still to come (Infinity when the changes do not
- * shrink). The run then reports `stopped`.
+ * Asked after each step of a run given one (an EM iteration, or a SQUAREM cycle of several:
+ * runEm.ts): whether the run may end before converging, from ln L, Aitken's estimate of the
+ * gain still to come (Infinity when the changes do not shrink) and the EM iterations run so
+ * far. The run then reports `stopped`.
  */
-export type EmStop = (logLikelihood: number, gainToCome: number) => boolean;
+export type EmStop = (logLikelihood: number, gainToCome: number, iterations: number) => boolean;
 
 /** What every EM run needs besides its rows and parameters. */
 export interface EmContext {
