@@ -38,7 +38,7 @@ export function finishExactComponents(ctx: FitContext, incumbent: Incumbent, mem
     const peeledParams = peelExactComponents(ctx, full, params, null);
     if (!peeledParams) break;
     membershipsCurrent = false;
-    const peeledRun = runEm(full, peeledParams, ctx, settings.maxIterations);
+    const peeledRun = runEm(full, peeledParams, ctx, settings.maxIterations, null, { plain: true });
     if (!(peeledRun.logLikelihood > logLikelihood)) break;
     params = peeledParams;
     logLikelihood = peeledRun.logLikelihood;

@@ -289,7 +289,7 @@ function peelWhileGaining(ctx: FitContext, candidate: Candidate, from: MixturePa
     // set aside the same rows as this round.
     let gained = false;
     const gain = stopOnExactGain(ws, peeled);
-    const peeledRun = runEm(ws, peeled, ctx, ctx.settings.maxIterations, null, { stop: (logLikelihood, toCome, iterations) => (gained = gain(logLikelihood, toCome, iterations)) });
+    const peeledRun = runEm(ws, peeled, ctx, ctx.settings.maxIterations, null, { stop: (logLikelihood, toCome, iterations) => (gained = gain(logLikelihood, toCome, iterations)), plain: true });
     if (!(peeledRun.logLikelihood > candidate.logLikelihood)) break;
     candidate = { method: method.endsWith(EXACT_PEELING) ? method : `${method}${EXACT_PEELING}`, params: peeled, logLikelihood: peeledRun.logLikelihood };
     if (!gained) break;
