@@ -544,16 +544,25 @@ describe("the components peeling may keep", () => {
   });
 });
 
-describe("a run that may stop once the gain still to come is small (enoughGain)", () => {
-  // Overlapping components (noise SD 1 on slopes of about unit size), where EM converges
-  // slowly: each change is a large fraction of the one before, so far more than the last
-  // change is still to come. The run's own limit is the same run to a tolerance of 1e-15.
+/**
+ * Overlapping components (noise SD 1 on slopes of about unit size), where EM converges
+ * slowly: each change is a large fraction of the one before. A start 30% off the truth, and a
+ * context whose runs stop at `tolerance`.
+ */
+function slowOverlappingRun(tolerance: number) {
   const problem = generateProblem({ n: 2000, p: 2, k: 3, seed: 1, sigma: 1, intercept: true });
   const ws = createWorkspace(problem.data, 3, true, false);
   const guards = createGuards(ws.q, ws.yVariance);
   const start = new Float64Array(3 * ws.q);
   problem.coefficients.forEach((c, j) => c.forEach((v, t) => (start[j * ws.q + t] = 0.7 * v + 0.3)));
-  const ctx = { working: ws, guards, tolerance: 1e-15, random: createRandom(1), trialRandom: createRandom(2), runStop: null } as unknown as FitContext;
+  const ctx = { working: ws, guards, tolerance, random: createRandom(1), trialRandom: createRandom(2), runStop: null } as unknown as FitContext;
+  return { ws, guards, start, ctx };
+}
+
+describe("a run that may stop once the gain still to come is small (enoughGain)", () => {
+  // On the slow problem far more than the last change is still to come. The run's own limit
+  // is the same run to a tolerance of 1e-15.
+  const { ws, guards, start, ctx } = slowOverlappingRun(1e-15);
   const enoughGain = 0.01;
 
   it("ends within about enoughGain of the run's limit, where a change below enoughGain comes far earlier", () => {
@@ -576,12 +585,7 @@ describe("a run that may stop once the gain still to come is small (enoughGain)"
 
 describe("a slow run accelerated by SQUAREM (Varadhan & Roland 2008)", () => {
   // The same overlapping problem as above, where plain EM converges slowly.
-  const problem = generateProblem({ n: 2000, p: 2, k: 3, seed: 1, sigma: 1, intercept: true });
-  const ws = createWorkspace(problem.data, 3, true, false);
-  const guards = createGuards(ws.q, ws.yVariance);
-  const start = new Float64Array(3 * ws.q);
-  problem.coefficients.forEach((c, j) => c.forEach((v, t) => (start[j * ws.q + t] = 0.7 * v + 0.3)));
-  const ctx = { working: ws, guards, tolerance: 1e-12, random: createRandom(1), trialRandom: createRandom(2), runStop: null } as unknown as FitContext;
+  const { ws, guards, start, ctx } = slowOverlappingRun(1e-12);
 
   it("reaches plain EM's limit in far fewer iterations, and ln L never falls from step to step", () => {
     const plainPath: number[] = [];
