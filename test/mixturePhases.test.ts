@@ -549,11 +549,11 @@ describe("the components peeling may keep", () => {
  * slowly: each change is a large fraction of the one before. A start 30% off the truth, and a
  * context whose runs stop at `tolerance`.
  */
-function slowOverlappingRun(tolerance: number) {
-  const problem = generateProblem({ n: 2000, p: 2, k: 3, seed: 1, sigma: 1, intercept: true });
-  const ws = createWorkspace(problem.data, 3, true, false);
+function slowOverlappingRun(tolerance: number, k = 3, seed = 1) {
+  const problem = generateProblem({ n: 2000, p: 2, k, seed, sigma: 1, intercept: true });
+  const ws = createWorkspace(problem.data, k, true, false);
   const guards = createGuards(ws.q, ws.yVariance);
-  const start = new Float64Array(3 * ws.q);
+  const start = new Float64Array(k * ws.q);
   problem.coefficients.forEach((c, j) => c.forEach((v, t) => (start[j * ws.q + t] = 0.7 * v + 0.3)));
   const ctx = { working: ws, guards, tolerance, random: createRandom(1), trialRandom: createRandom(2), runStop: null } as unknown as FitContext;
   return { ws, guards, start, ctx };
@@ -605,6 +605,17 @@ describe("a slow run accelerated by SQUAREM (Varadhan & Roland 2008)", () => {
     // shortened); plain EM needs several times as many here.
     expect(accelerated.iterations * 3).toBeLessThan(plain.iterations);
     for (let t = 1; t < path.length; t++) expect(path[t]).toBeGreaterThanOrEqual(path[t - 1] - 1e-9 * Math.abs(path[t - 1]));
+  });
+
+  it("keeps to the run's iteration limit when a cycle shortens its step", () => {
+    // The slow problem at K = 4 (seed 3), where cycles near these limits shorten their steps: each step
+    // costs an EM iteration, and without a bound on them these runs ended 1-2 past the limit.
+    const slow = slowOverlappingRun(1e-15, 4, 3);
+    for (const limit of [94, 119, 126]) {
+      const run = runEm(slow.ws, parametersFromCoefficients(slow.ws, slow.start, slow.guards), slow.ctx, limit);
+      expect(run.iterations).toBeLessThanOrEqual(limit);
+      expect(run.converged).toBe(false);
+    }
   });
 
   it("leaves runs that converge fast, and brief runs, as plain EM to the bit", () => {

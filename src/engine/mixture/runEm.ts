@@ -56,7 +56,8 @@ export function runEm(ws: MixtureWorkspace, params: MixtureParameters, em: EmCon
   let previousChange = NaN;
   while (iterations < maxIterations) {
     checkSignal(em.signal);
-    const step = accelerating && maxIterations - iterations >= CYCLE_ITERATIONS ? squaremCycle(ws, params, em, state, path) : emIteration(ws, params, em, state, path);
+    const left = maxIterations - iterations;
+    const step = accelerating && left >= CYCLE_ITERATIONS ? squaremCycle(ws, params, em, state, path, left) : emIteration(ws, params, em, state, path);
     iterations += step.iterations;
     const change = step.logLikelihood - logLikelihood;
     logLikelihood = step.logLikelihood;
@@ -126,7 +127,7 @@ function emIteration(ws: MixtureWorkspace, params: MixtureParameters, em: EmCont
 
 /** EM iterations a SQUAREM cycle takes when its extrapolation is kept. */
 const CYCLE_ITERATIONS = 3;
-/** Shorter extrapolations tried when a longer one lowers ln L, each halfway to plain EM's. */
+/** Shorter extrapolations tried when a longer one lowers ln L, each halfway to plain EM's (each costs an EM iteration). */
 const STEP_BACKTRACKS = 3;
 
 /**
@@ -136,9 +137,10 @@ const STEP_BACKTRACKS = 3;
  * iteration from θ' to keep the parameters valid. θ holds the coefficients, the log variances
  * and the log weights (renormalised after the step). The cycle keeps the result only when its
  * ln L is at least θ₂'s, halving the step towards α = −1 (θ₂ itself) up to STEP_BACKTRACKS
- * times, and else goes back to θ₂, so ln L never falls from step to step.
+ * times, and else goes back to θ₂, so ln L never falls from step to step. It takes at most
+ * `left` EM iterations (at least CYCLE_ITERATIONS), so a run keeps to its limit.
  */
-function squaremCycle(ws: MixtureWorkspace, params: MixtureParameters, em: EmContext, state: RunState, path: number[] | null): EmStep {
+function squaremCycle(ws: MixtureWorkspace, params: MixtureParameters, em: EmContext, state: RunState, path: number[] | null, left: number): EmStep {
   const start = packParameters(params);
   const first = emIteration(ws, params, em, state, path);
   if (first.reseeded) return first;
@@ -151,7 +153,8 @@ function squaremCycle(ws: MixtureWorkspace, params: MixtureParameters, em: EmCon
   if (!(alpha < -1)) return { ...second, iterations };
   const held = copyParameters(params);
   const heldBound = state.varianceBoundActive;
-  for (let attempt = 0; attempt < STEP_BACKTRACKS && alpha < -1; attempt++) {
+  const attempts = Math.min(STEP_BACKTRACKS, left - iterations);
+  for (let attempt = 0; attempt < attempts && alpha < -1; attempt++) {
     extrapolate(params, start, middle, end, alpha, em.guards.varianceFloor);
     if (Number.isFinite(eStep(ws, params, true))) {
       const third = emIteration(ws, params, em, state, null);
