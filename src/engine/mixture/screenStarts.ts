@@ -109,12 +109,12 @@ function noteExactComponents(ctx: FitContext, screen: ScreenState, candidate: Ca
 
 /**
  * A leader's confirming run can be what first shows an exact component (d = 100: a seeded
- * start exact in four after 60 iterations): the screen notes it, and the first leader's exact
- * components are peeled then, as after a start's own brief run, rather than after the
- * refinement's hundreds of iterations (on held-out d = 100 problem 6 the refinement had
- * run 500 with two components exact throughout, 21 s, before restructuring peeled them).
- * The first leader only: peeling the second too took 1.24 times as long over thirty
- * d = 50, K = 7 fits at 5 and 6 rows, the first alone 1.07 (DEVELOPERS.md).
+ * start exact in four after 60 iterations): the screen notes it, and the best leader's exact
+ * components (rank 0 by the confirmed likelihood) are peeled then, as after a start's own
+ * brief run, rather than after the refinement's hundreds of iterations (on held-out d = 100
+ * problem 6 the refinement had run 500 with two components exact throughout, 21 s, before
+ * restructuring peeled them). The best leader only: peeling the second too took 1.24 times as
+ * long over thirty d = 50, K = 7 fits at 5 and 6 rows, the first alone 1.07 (DEVELOPERS.md).
  */
 function confirmedLeader(ctx: FitContext, screen: ScreenState, leader: Candidate, rank: number): void {
   if (ctx.working.k >= COMPONENTS_WITHOUT_PARTITIONS && !screen.exactSeen) screen.exactSeen = exactComponentsOf(ctx.working, leader.params).length > 0;
@@ -193,19 +193,26 @@ function searchSettled(ctx: FitContext, candidates: Candidate[], cheapFirst: boo
  * runs stop short of the optimum, so two starts in one basin can look apart after them. Inside
  * the basin EM converges fast (Balakrishnan, Wainwright & Yu 2017), so confirming costs far
  * less than the remaining starts and restructuring moves it saves. The refined parameters and
- * likelihoods stay on the candidates; `confirmed` is told of each leader once refined, with its
- * rank (0 for the best), and may change it in place; a leader then exact on every row ends
- * the confirming. Returns the leaders.
+ * likelihoods stay on the candidates; a leader then exact on every row ends the refining.
+ * `confirmed` is then told of each refined leader with its rank by the refined likelihood (0
+ * for the best), and may change it in place. Ranked after refining, not before: on noiseless
+ * d = 100, K = 10 problems the start behind after its brief run was often ahead after 60
+ * iterations, with a component exact, and it is the best one's exact components that are
+ * peeled at once (confirmedLeader); ranked before, the refinement then ran 300 or more
+ * iterations before the later phases peeled them (DEVELOPERS.md has the figures). Returns
+ * the leaders.
  */
 function confirmLeaders(ctx: FitContext, candidates: Candidate[], count: number, confirmed: (leader: Candidate, rank: number) => void): Candidate[] {
   const leaders = candidates.slice().sort((a, b) => b.logLikelihood - a.logLikelihood).slice(0, count);
   // A leader that cannot matter (a scan's fit, see unwantedFitStop.ts) is not refined further: on all rows only.
   const stop = stopOnAllRows(ctx, ctx.working);
-  for (const [rank, leader] of leaders.entries()) {
+  const refined: Candidate[] = [];
+  for (const leader of leaders) {
     leader.logLikelihood = runEm(ctx.working, leader.params, ctx, Math.min(CONFIRMING_ITERATIONS, ctx.settings.maxIterations), null, { stop }).logLikelihood;
-    confirmed(leader, rank);
+    refined.push(leader);
     if (isNoiseless(leader.params, ctx.working)) break;
   }
+  refined.sort((a, b) => b.logLikelihood - a.logLikelihood).forEach((leader, rank) => confirmed(leader, rank));
   return leaders;
 }
 
