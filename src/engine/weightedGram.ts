@@ -522,11 +522,13 @@ export function addBlockDots(block: RowBlock, m: number, source: "plain" | "weig
  * copied straight into the block's plain rows in the order given (not staged: they may lie
  * anywhere in the design); XᵀX is one running sum over all of them (a carried sum), Xᵀy a dot
  * per block. Every unweighted least-squares fit of a subset of rows (concentration steps, the
- * pooled fit of residual seeding, a re-seeded component) goes through here.
+ * pooled fit of residual seeding, a re-seeded component) goes through here, and with
+ * `weights` (one per row of the design, read for the rows taken) every weighted one outside
+ * the M-step (XᵀWX and XᵀWy: the reweighted landing steps).
  */
-export function addNormalEquations(design: Float64Array, q: number, y: Float64Array, rows: ArrayLike<number> | null, count: number, gram: Float64Array, right: Float64Array): void {
+export function addNormalEquations(design: Float64Array, q: number, y: Float64Array, rows: ArrayLike<number> | null, count: number, gram: Float64Array, right: Float64Array, weights: ArrayLike<number> | null = null): void {
   const blockRows = blockRowsFor(q);
-  // Per row: the weight (1, so that the Gram is XᵀX; 1·x is x to the bit) and y.
+  // Per row: the weight (1 unweighted, so that the Gram is XᵀX; 1·x is x to the bit) and y.
   const block = rowBlock(q, blockRows, 2, 0, 1);
   const { plain, vectors, qp } = block;
   startGramSums(block);
@@ -538,12 +540,13 @@ export function addNormalEquations(design: Float64Array, q: number, y: Float64Ar
       const base = g * qp;
       for (let j = 0; j < q; j++) plain[base + j] = design[source + j];
       for (let j = q; j < qp; j++) plain[base + j] = 0;
-      vectors[2 * g] = 1;
+      vectors[2 * g] = weights ? weights[row] : 1;
       vectors[2 * g + 1] = y[row];
     }
     weighBlock(block, m, 0);
     addBlockGram(block, m, gram, 0, 0);
-    addBlockDots(block, m, "plain", 1, right, 0);
+    // XᵀWy from the weighted rows; unweighted, Xᵀy from the plain ones (the same bits: 1·x is x).
+    addBlockDots(block, m, weights ? "weighted" : "plain", 1, right, 0);
   }
   finishGramSum(block, 0, gram, 0);
 }

@@ -135,20 +135,7 @@ export class ConcentrationSteps {
       for (let j = 0; j < q; j++) if (coefficients[j] !== previous[j]) moved = true;
       if (!moved) break;
     }
-    // Final: QR on every row within the tolerance when clearly more than q rows fit exactly.
-    this.residualsAndThreshold(coefficients, h);
-    let exactRows = 0;
-    for (let i = 0; i < n; i++) if (this.absolute[i] <= exactTolerance) this.rows[exactRows++] = i;
-    if (exactRows > q) {
-      const exact = gatherRows(this.design, q, this.y, this.rows, exactRows);
-      const qr = new HouseholderQR(exact.matrix, exactRows, q);
-      if (qr.isFullRank) {
-        coefficients.set(qr.solve(exact.y));
-        this.residualsAndThreshold(coefficients, h);
-        exactRows = 0;
-        for (let i = 0; i < n; i++) if (this.absolute[i] <= exactTolerance) exactRows++;
-      }
-    }
+    const exactRows = refitOnExactRows(this.design, n, q, this.y, coefficients, exactTolerance, this.absolute, this.rows);
     return { coefficients, exactRows, steps };
   }
 
@@ -174,4 +161,28 @@ export class ConcentrationSteps {
     addNormalEquations(design, q, y, rows, taken, gram, right);
     scaledCholeskySolve(gram, right, q, coefficients, this.scratch);
   }
+}
+
+/**
+ * The end of a landing (concentration steps, reweighted steps): when more than q rows fit
+ * `coefficients` within the exact tolerance, the coefficients are refitted by Householder QR
+ * on all of them (rounding-level coefficients). Returns the rows then fitted within the
+ * tolerance. `absolute` (n) and `rows` (n) are scratch.
+ */
+export function refitOnExactRows(design: Float64Array, n: number, q: number, y: Float64Array, coefficients: Float64Array, exactTolerance: number, absolute: Float64Array, rows: Int32Array): number {
+  const countExact = (): number => {
+    let count = 0;
+    for (let i = 0; i < n; i++) {
+      absolute[i] = Math.abs(rowResidual(design, i * q, q, coefficients, 0, y[i]));
+      if (absolute[i] <= exactTolerance) rows[count++] = i;
+    }
+    return count;
+  };
+  const exactRows = countExact();
+  if (exactRows <= q) return exactRows;
+  const exact = gatherRows(design, q, y, rows, exactRows);
+  const qr = new HouseholderQR(exact.matrix, exactRows, q);
+  if (!qr.isFullRank) return exactRows;
+  coefficients.set(qr.solve(exact.y));
+  return countExact();
 }
