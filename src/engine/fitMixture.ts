@@ -82,10 +82,11 @@ const BACKGROUND_TRIAL_STOPPED = "the fit with the background could not come bel
  *   refine best       the best start (and a close runner-up) to convergence (refineBest.ts)
  *   restructure       split-and-merge and peeling, only when no two starts agreed (restructure.ts)
  *   all rows          from a subsample to all rows on large inputs (finishOnAllRows.ts)
- *   exact components  exact peeling and the noiseless polish (finishExactComponents.ts)
+ *   exact components  exact peeling, annealed landing when nothing is exact yet, and the
+ *                     noiseless polish (finishExactComponents.ts, annealedLanding.ts)
  *   report            reports, warnings, memberships, BIC, ICL, order (reportFit.ts)
  */
-function fitAtDepth(data: RegressionData, options: MixtureOptions, depth: number, inherited?: Float64Array, expectExact = false, strays = false): MixtureFit {
+function fitAtDepth(data: RegressionData, options: MixtureOptions, depth: number, inherited?: Float64Array, expectExact = false, strays = false, anneal = true): MixtureFit {
   const settings = checkInput(data, options);
   const full = withBackground(createWorkspace(data, settings.k, settings.intercept, settings.model === "joint"), settings.background);
   const guards = createGuards(full.q, full.yVariance);
@@ -95,7 +96,7 @@ function fitAtDepth(data: RegressionData, options: MixtureOptions, depth: number
   const subsampleRows = full.n > 2 * subsampleSize ? sampleIndices(full.n, subsampleSize, random) : null;
   const working = subsampleRows ? withBackground(createWorkspace(data, settings.k, settings.intercept, full.joint, subsampleRows), settings.background, full) : full;
   const ctx: FitContext = {
-    data, settings, guards, random, full, working, subsampleRows, depth, inherited, expectExact, strays,
+    data, settings, guards, random, full, working, subsampleRows, depth, inherited, expectExact, strays, anneal,
     trialRandom: createRandom(settings.seed + TRIAL_SEED_OFFSET),
     // On rows expected to be exact, long runs end once their exact components stop changing.
     runStop: expectExact ? stopOnExactPlateau : null,
@@ -131,6 +132,12 @@ export interface SubProblem {
   strays?: boolean;
   /** A flat background component beside the k regressions, to take rows none of them fits. */
   background?: boolean;
+  /**
+   * The sub-problem may end in annealed landing (finishExactComponents.ts) when nothing else
+   * fits its rows exactly (default false: only the finishing phase's peels ask for it, so the
+   * many sub-problems of the search do not each pay for it).
+   */
+  anneal?: boolean;
 }
 
 /**
@@ -151,5 +158,5 @@ export function fitSubProblem(parent: FitContext, sub: SubProblem): MixtureFit {
     signal: parent.signal,
     background: sub.background ?? false,
   };
-  return fitAtDepth(selectRows(parent.data, sub.rows), options, parent.depth + 1, sub.start, sub.expectExact ?? parent.expectExact, sub.strays ?? parent.strays);
+  return fitAtDepth(selectRows(parent.data, sub.rows), options, parent.depth + 1, sub.start, sub.expectExact ?? parent.expectExact, sub.strays ?? parent.strays, sub.anneal ?? false);
 }

@@ -63,6 +63,8 @@ export interface FitContext extends EmContext {
    * fit and for sub-problems of its rows that exact fits left.
    */
   strays: boolean;
+  /** Whether the finishing phase may try annealed landing here: in the user's fit and in the sub-problems of the finishing phase's peels. */
+  anneal: boolean;
   /**
    * Re-seeding in runs that may be given up (a start run on while falling toward an exact fit,
    * exactComponents.ts) draws from this second generator, made from the same seed, so a run

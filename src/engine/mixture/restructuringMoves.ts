@@ -30,7 +30,7 @@ const SPLIT_RESTARTS = 3;
  * fit; K-lines is much easier with fewer lines. Returns combined coefficients as a start on
  * `ws`, or null when there is nothing to peel.
  */
-export function peelExactComponents(ctx: FitContext, ws: MixtureWorkspace, fit: MixtureParameters, rowMap: Int32Array | null): MixtureParameters | null {
+export function peelExactComponents(ctx: FitContext, ws: MixtureWorkspace, fit: MixtureParameters, rowMap: Int32Array | null, anneal = false): MixtureParameters | null {
   const threshold = exactTolerance(ws);
   const exact = exactComponentsOf(ws, fit);
   if (exact.length === 0 || exact.length === ws.k) return null;
@@ -48,7 +48,7 @@ export function peelExactComponents(ctx: FitContext, ws: MixtureWorkspace, fit: 
   // removed they are often next to an exact fit of the rest. Below a peel or split of a noisy
   // fit a few rows of a component outside this fit may lie among these rows: a background
   // then takes them, which no regression can do and stay exact.
-  const sub = fitSubProblem(ctx, { rows: remaining, k: others.length, start: coefficientsOf(params, others), expectExact: true, background: ctx.strays });
+  const sub = fitSubProblem(ctx, { rows: remaining, k: others.length, start: coefficientsOf(params, others), expectExact: true, background: ctx.strays, anneal });
   return combine(ws, params, exact, sub, ctx);
 }
 

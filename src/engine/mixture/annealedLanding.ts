@@ -1,0 +1,168 @@
+import type { FitContext } from "./fitContext";
+import type { MixtureParameters } from "./mixtureParameters";
+import { createParameters } from "./mixtureParameters";
+import type { MixtureWorkspace } from "./mixtureWorkspace";
+import { eStep } from "./eStep";
+import { mStepCoefficients } from "./mStep";
+import { parametersFromCoefficients, randomPartitionLabels, setHardMemberships } from "./starts";
+import { enoughRows, exactTolerance } from "./exactComponents";
+import { refitOnExactRows } from "./concentrationSteps";
+import { choleskyScratchLength, scaledCholeskySolve } from "../cholesky";
+import { rowResidual } from "../rowResiduals";
+import { addNormalEquations } from "../weightedGram";
+import { checkSignal } from "../errors";
+
+/**
+ * Annealed landing: a last way to a first exact component when no start found one, on rows
+ * that may lie exactly on their regressions (balanced mixtures, or the same design in every
+ * component, at 4-6 rows per predictor per component; there every EM start settles with its
+ * components 50-140% from every true one, spread onto rows of several).
+ *
+ * 1. Deterministic annealing EM (Ueda & Nakano 1998, "Deterministic annealing EM algorithm",
+ *    Neural Networks 11): from a random partition, EM with every component's variance held at
+ *    T², T lowered geometrically from ANNEAL_HIGH to ANNEAL_LOW times SD(y) over
+ *    ANNEAL_LEVELS levels of ANNEAL_ITERATIONS iterations. At a high T every row is shared
+ *    among all components and they move together; as T falls they part gradually, instead of
+ *    each settling on the first rows it happens to fit. Traced on noiseless d = 50, K = 7
+ *    problems at 5 rows with the same design in every component: two or three of the seven
+ *    end 5-15% from a true component, where EM from the same partitions ends 110% or more
+ *    from every one (DEVELOPERS.md).
+ * 2. Each component landed by reweighted least squares (below): from 5-15% it reaches the
+ *    true component's exact fit.
+ *
+ * Up to ANNEAL_TRIES partitions, until one lands a component. Returns the annealed fit's
+ * parameters with the landed components' exact coefficients, or null.
+ */
+export function annealedLanding(ctx: FitContext): MixtureParameters | null {
+  const ws = ctx.full;
+  const { q, k } = ws;
+  const landing = new ReweightedLanding(ws.design, ws.n, q, ws.y, exactTolerance(ws));
+  for (let attempt = 0; attempt < ANNEAL_TRIES; attempt++) {
+    const params = annealedFit(ctx, ws);
+    if (!params) continue;
+    const coefficients = params.coefficients.slice(0, k * q);
+    const landed: Float64Array[] = [];
+    for (let c = 0; c < k; c++) {
+      const exact = landing.land(params.coefficients.subarray(c * q, c * q + q));
+      // Two annealed components may land on the same regression: it is kept once.
+      if (!exact || landed.some((other) => sameCoefficients(other, exact))) continue;
+      landed.push(exact);
+      coefficients.set(exact, c * q);
+    }
+    if (landed.length > 0) return parametersFromCoefficients(ws, coefficients, ctx.guards);
+  }
+  return null;
+}
+
+/** Partitions annealed before giving up: at 4-6 rows most problems that land do so within eight (DEVELOPERS.md). */
+const ANNEAL_TRIES = 8;
+/** The temperature's range, times SD(y), and its levels: fewer levels or iterations, or a start below SD(y), landed far fewer components (DEVELOPERS.md). */
+const ANNEAL_HIGH = 1.5;
+const ANNEAL_LOW = 0.1;
+const ANNEAL_LEVELS = 40;
+const ANNEAL_ITERATIONS = 3;
+
+/** One annealing from a random partition drawn from the trial generator (null when a component of the partition is too small to fit). */
+function annealedFit(ctx: FitContext, ws: MixtureWorkspace): MixtureParameters | null {
+  const { k } = ws;
+  const params = createParameters(k, ws.q, ws.p, ws.joint);
+  setHardMemberships(ws, randomPartitionLabels(ws.n, k, ctx.trialRandom));
+  if (mStepCoefficients(ws, params, ctx.guards).collapsed.length > 0) return null;
+  params.weights.fill(1 / k);
+  const sd = Math.sqrt(ws.yVariance);
+  for (let level = 0; level < ANNEAL_LEVELS; level++) {
+    checkSignal(ctx.signal);
+    const temperature = sd * ANNEAL_HIGH * Math.pow(ANNEAL_LOW / ANNEAL_HIGH, level / (ANNEAL_LEVELS - 1));
+    params.variances.fill(temperature * temperature);
+    for (let iteration = 0; iteration < ANNEAL_ITERATIONS; iteration++) {
+      eStep(ws, params, true);
+      // A component that holds too few rows keeps its coefficients; its weight still follows.
+      mStepCoefficients(ws, params, ctx.guards);
+    }
+  }
+  return params;
+}
+
+function sameCoefficients(a: Float64Array, b: Float64Array): boolean {
+  let scale = 0;
+  let difference = 0;
+  for (let j = 0; j < a.length; j++) {
+    scale = Math.max(scale, Math.abs(a[j]));
+    difference = Math.max(difference, Math.abs(a[j] - b[j]));
+  }
+  return difference <= SAME_RELATIVE * scale;
+}
+
+/** Coefficients this close (relative to the largest) are the same exact fit to rounding. */
+const SAME_RELATIVE = 1e-8;
+
+/** Reweighted steps per component: landings from 5-20% took 7-60, most under 25 (DEVELOPERS.md). */
+const LANDING_STEPS = 40;
+/** ε starts at this quantile of the start's absolute residuals (a component holds about 1/K of the rows). */
+const START_QUANTILE = 0.1;
+/** ε then follows the (RANK_PER_COEFFICIENT · q)-th smallest absolute residual down. */
+const RANK_PER_COEFFICIENT = 2;
+
+/**
+ * Iteratively reweighted least squares for the sum of log(r_i² + ε²) over all rows, a smooth
+ * stand-in for the number of rows not fitted exactly (Chartrand & Yin 2008, "Iteratively
+ * reweighted algorithms for compressive sensing", ICASSP): weights 1/(r_i² + ε²), ε never
+ * rising and following the 2q-th smallest |r| (the rule of Daubechies, DeVore, Fornasier &
+ * Güntürk 2010, Communications on Pure and Applied Mathematics 63, with the residuals in the
+ * place of the sparse vector). From near a component, its rows' residuals shrink and their
+ * weights grow at each step while the other rows' fall, and the fit closes in on the
+ * component's exact one. A trimmed refit (concentration steps) from the same start gives
+ * every row it keeps the same weight, so the other components' rows among them pull it off;
+ * on the problems above it landed few of the components that these steps land.
+ */
+export class ReweightedLanding {
+  private readonly absolute: Float64Array;
+  private readonly sorted: Float64Array;
+  private readonly weights: Float64Array;
+  private readonly gram: Float64Array;
+  private readonly right: Float64Array;
+  private readonly scratch: Float64Array;
+  private readonly rows: Int32Array;
+
+  constructor(private readonly design: Float64Array, private readonly n: number, private readonly q: number, private readonly y: Float64Array, private readonly tolerance: number) {
+    this.absolute = new Float64Array(n);
+    this.sorted = new Float64Array(n);
+    this.weights = new Float64Array(n);
+    this.gram = new Float64Array(q * q);
+    this.right = new Float64Array(q);
+    this.scratch = new Float64Array(choleskyScratchLength(q));
+    this.rows = new Int32Array(n);
+  }
+
+  /** The exact coefficients of the component the steps from `start` (q values) land on, or null. */
+  land(start: Float64Array): Float64Array | null {
+    const { n, q } = this;
+    const needed = enoughRows(q);
+    if (n <= Math.max(needed, RANK_PER_COEFFICIENT * q)) return null;
+    const coefficients = Float64Array.from(start);
+    this.sortResiduals(coefficients);
+    let epsilon = this.sorted[Math.floor(START_QUANTILE * (n - 1))];
+    for (let step = 0; step < LANDING_STEPS && epsilon > 0; step++) {
+      for (let i = 0; i < n; i++) this.weights[i] = 1 / (this.absolute[i] * this.absolute[i] + epsilon * epsilon);
+      this.gram.fill(0);
+      this.right.fill(0);
+      addNormalEquations(this.design, q, this.y, null, n, this.gram, this.right, this.weights);
+      if (!scaledCholeskySolve(this.gram, this.right, q, coefficients, this.scratch)) return null;
+      this.sortResiduals(coefficients);
+      if (this.sorted[needed - 1] <= this.tolerance) {
+        const exactRows = refitOnExactRows(this.design, n, q, this.y, coefficients, this.tolerance, this.absolute, this.rows);
+        return exactRows >= needed ? coefficients : null;
+      }
+      epsilon = Math.min(epsilon, this.sorted[RANK_PER_COEFFICIENT * q]);
+    }
+    return null;
+  }
+
+  /** Fills `absolute` with |y − Xc| and `sorted` with the same, ascending. */
+  private sortResiduals(coefficients: Float64Array): void {
+    const { n, q, design, y } = this;
+    for (let i = 0; i < n; i++) this.absolute[i] = Math.abs(rowResidual(design, i * q, q, coefficients, 0, y[i]));
+    this.sorted.set(this.absolute);
+    this.sorted.sort();
+  }
+}
