@@ -30,14 +30,15 @@ import { checkSignal } from "../errors";
  * 2. Each component landed by reweighted least squares (below): from 5-15% it reaches the
  *    true component's exact fit.
  *
- * Up to ANNEAL_TRIES partitions, until one lands a component. Returns the annealed fit's
- * parameters with the landed components' exact coefficients, or null.
+ * Up to ANNEAL_TRIES partitions (below), until one lands a component. Returns the annealed
+ * fit's parameters with the landed components' exact coefficients, or null.
  */
 export function annealedLanding(ctx: FitContext): MixtureParameters | null {
   const ws = ctx.full;
   const { q, k } = ws;
   const landing = new ReweightedLanding(ws.design, ws.n, q, ws.y, exactTolerance(ws));
-  for (let attempt = 0; attempt < ANNEAL_TRIES; attempt++) {
+  const tries = ctx.expectExact ? ANNEAL_TRIES : Math.max(1, Math.min(ANNEAL_TRIES, Math.floor(UNSURE_MULTIPLY_ADDS / annealingMultiplyAdds(ws))));
+  for (let attempt = 0; attempt < tries; attempt++) {
     const params = annealedFit(ctx, ws);
     if (!params) continue;
     const coefficients = params.coefficients.slice(0, k * q);
@@ -54,13 +55,27 @@ export function annealedLanding(ctx: FitContext): MixtureParameters | null {
   return null;
 }
 
-/** Partitions annealed before giving up: at 4-6 rows most problems that land do so within eight (DEVELOPERS.md). */
+/**
+ * Partitions annealed before giving up. Traced on sixteen noiseless d = 50, K = 7 problems
+ * at 4-6 rows, the eight that landed did so at try 1, 1, 1, 2, 2, 5, 5 and 8, and two
+ * d = 20, K = 7 problems at 4 rows only after the fifth (DEVELOPERS.md). On the user's rows,
+ * which may be noisy (every try then spent in vain), the tries also stop at
+ * UNSURE_MULTIPLY_ADDS of annealing in all (annealingMultiplyAdds): six on a d = 50, K = 7
+ * sheet of 1,750 rows (about 2 s here), all eight on smaller ones. Rows a parent fitted
+ * exactly in part get all eight.
+ */
 const ANNEAL_TRIES = 8;
+const UNSURE_MULTIPLY_ADDS = 1.2e10;
 /** The temperature's range, times SD(y), and its levels: fewer levels or iterations, or a start below SD(y), landed far fewer components (DEVELOPERS.md). */
 const ANNEAL_HIGH = 1.5;
 const ANNEAL_LOW = 0.1;
 const ANNEAL_LEVELS = 40;
 const ANNEAL_ITERATIONS = 3;
+
+/** The Gram sums of one annealing (its M-steps: each component's XᵀWX over every row), in multiply-adds. */
+export function annealingMultiplyAdds(ws: MixtureWorkspace): number {
+  return ANNEAL_LEVELS * ANNEAL_ITERATIONS * ws.n * ws.k * ((ws.q * (ws.q + 1)) / 2);
+}
 
 /** One annealing from a random partition drawn from the trial generator (null when a component of the partition is too small to fit). */
 function annealedFit(ctx: FitContext, ws: MixtureWorkspace): MixtureParameters | null {
@@ -98,6 +113,14 @@ const SAME_RELATIVE = 1e-8;
 
 /** Reweighted steps per component: landings from 5-20% took 7-60, most under 25 (DEVELOPERS.md). */
 const LANDING_STEPS = 40;
+/**
+ * Steps that have not brought the enoughRows(q)-th smallest |residual| to STALL_RATIO of its
+ * start by step STALL_STEP are abandoned: landings traced had it at 0.1 or less by then (or
+ * had landed), while most steps that did not land (80% of those traced on noisy sheets and
+ * noiseless ones) still had it above 0.2.
+ */
+const STALL_STEP = 10;
+const STALL_RATIO = 0.25;
 /** ε starts at this quantile of the start's absolute residuals (a component holds about 1/K of the rows). */
 const START_QUANTILE = 0.1;
 /** ε then follows the (RANK_PER_COEFFICIENT · q)-th smallest absolute residual down. */
@@ -142,7 +165,9 @@ export class ReweightedLanding {
     const coefficients = Float64Array.from(start);
     this.sortResiduals(coefficients);
     let epsilon = this.sorted[Math.floor(START_QUANTILE * (n - 1))];
+    const first = this.sorted[needed - 1];
     for (let step = 0; step < LANDING_STEPS && epsilon > 0; step++) {
+      if (step === STALL_STEP && this.sorted[needed - 1] > STALL_RATIO * first) return null;
       for (let i = 0; i < n; i++) this.weights[i] = 1 / (this.absolute[i] * this.absolute[i] + epsilon * epsilon);
       this.gram.fill(0);
       this.right.fill(0);

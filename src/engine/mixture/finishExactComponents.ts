@@ -4,7 +4,7 @@ import type { Incumbent } from "./refineBest";
 import { computeResiduals, eStep } from "./eStep";
 import { hardAssignmentPolish } from "./hardAssignmentPolish";
 import { exactComponentsOf, isNoiseless } from "./exactComponents";
-import { annealedLanding } from "./annealedLanding";
+import { annealedLanding, annealingMultiplyAdds } from "./annealedLanding";
 import { peelExactComponents } from "./restructuringMoves";
 import { runEm } from "./runEm";
 
@@ -14,22 +14,28 @@ const MAX_PEELING_ROUNDS = 3;
 const POLISH_ROUNDING = 1e-9;
 
 /**
- * A fit exact nowhere is tried by annealed landing (annealedLanding.ts) when its rows may lie
- * exactly on their regressions: a parent fitted other rows of the same data exactly; or the
- * rows are few, at most THIN_ROWS per coefficient per component, where the starts miss
- * noiseless problems (at 10 rows and more they land them), and some component's noise SD is
- * at most NEAR_EXACT_SD times SD(y), as where an EM component shrank onto a few rows of a
- * noiseless problem (traced at 0.1-4.5% on noiseless d = 50, K = 7 problems at 4-6 rows).
- * Only the plain model without a background, on rows no noisy fit chose.
+ * A fit exact nowhere is tried by annealed landing (annealedLanding.ts) when its rows are few
+ * and may lie exactly on their regressions. Few: at most THIN_ROWS per coefficient per
+ * component, where the starts miss noiseless problems (at 10 rows and more they land them),
+ * and one annealing within ANNEALING_MULTIPLY_ADDS (about 0.4 s here at d = 50, K = 7 with
+ * 2,100 rows; d = 100 with K = 4 at 8 rows is over). May lie exactly: a parent fitted other
+ * rows of the same data exactly, or some component's noise SD is at most NEAR_EXACT_SD times
+ * SD(y), as where an EM component shrank onto a few rows of a noiseless problem (0.1-5% on
+ * noiseless d = 50, K = 7 problems at 4-6 rows). Noisy sheets this thin often have such a
+ * component too (an overfitted one); on sixteen of them (d = 10-50, K = 5-7, 3-5 rows) the
+ * tries took the fits 1.6 times as long, to the same fits (DEVELOPERS.md). Only the plain
+ * model without a background, on rows no noisy fit chose.
  */
 const THIN_ROWS = 8;
+const ANNEALING_MULTIPLY_ADDS = 3e9;
 const NEAR_EXACT_SD = 0.05;
 
 function mayLieExactly(ctx: FitContext, params: MixtureParameters): boolean {
   const { full } = ctx;
-  if (!ctx.anneal || full.joint || full.background !== null || ctx.strays || isNoiseless(params, full) || exactComponentsOf(full, params).length > 0) return false;
+  if (!ctx.anneal || full.joint || full.background !== null || ctx.strays || full.n > THIN_ROWS * full.k * full.q) return false;
+  if (annealingMultiplyAdds(full) > ANNEALING_MULTIPLY_ADDS) return false;
+  if (isNoiseless(params, full) || exactComponentsOf(full, params).length > 0) return false;
   if (ctx.expectExact) return true;
-  if (full.n > THIN_ROWS * full.k * full.q) return false;
   const limit = NEAR_EXACT_SD * NEAR_EXACT_SD * full.yVariance;
   for (let c = 0; c < params.k; c++) if (params.variances[c] <= limit) return true;
   return false;
