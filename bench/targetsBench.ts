@@ -7,7 +7,8 @@
  *          and (when dist/cli/skein.js is built) each as a skein fit process, as a user runs it;
  *          then the same sizes noisier (reported only);
  *  fewer:  the noiseless grid at 3, 4 and 5 rows per predictor per component (d 20/50, K 5/7),
- *          and d = 50, K = 7 with equal weights at 4-10 rows (reported only);
+ *          d = 50, K = 7 with equal weights at 4-10 rows, and with equal weights and the same
+ *          design in every component (d = 20 and 50, K = 7) at 4-10 rows (reported only);
  *  d100:   noiseless d = 100, K = 10 at 10 rows per predictor per component;
  *  fitseeds: noiseless d = 50, K = 7 at 5, 6 and 10 rows, five problems with two fit seeds each;
  *  large:  200,000 x 10, K = 3: fit + standard errors + separation check in one-pass equivalents,
@@ -135,18 +136,28 @@ export function runFewerRowsBench(print: (line: string) => void): void {
   print("Equal weights (reported only): d = 50, K = 7, every component n/K rows, two problems each, stopped after a minute");
   print(RECOVERY_HEADER);
   for (const factor of [10, 6, 5, 4]) {
-    const tally = tallyRecoveries(equalWeightRuns(50, 7, factor, 2), EQUAL_WEIGHTS_LIMIT_MS);
+    const tally = tallyRecoveries(equalWeightRuns(50, 7, factor, 2, true), EQUAL_WEIGHTS_LIMIT_MS);
     print(recoveryRow(50, 7, factor, tally));
+  }
+  // The textbook setting of the literature on mixtures of regressions: x ~ N(0, I) in every
+  // component, so the predictors alone say nothing of the groups.
+  print("Same design (reported only): equal weights and x ~ N(0, I) in every component, two problems each, stopped after a minute");
+  print(RECOVERY_HEADER);
+  for (const [d, k, factors] of [[20, 7, [5, 4]], [50, 7, [10, 6, 5, 4]]] as const) {
+    for (const factor of factors) print(recoveryRow(d, k, factor, tallyRecoveries(equalWeightRuns(d, k, factor, 2, false), EQUAL_WEIGHTS_LIMIT_MS)));
   }
 }
 
 const EQUAL_WEIGHTS_LIMIT_MS = 60000;
 
-/** Noiseless problems of equal weights (generateProblem: per-component covariances, coefficients in the unit ball), each with its own seed as the fit's. */
-function equalWeightRuns(d: number, k: number, factor: number, count: number): Array<{ problem: GeneratedProblem; seed: number }> {
+/**
+ * Noiseless problems of equal weights (generateProblem: coefficients in the unit ball, with
+ * per-component covariances or x ~ N(0, I) in every component), each with its own seed as the fit's.
+ */
+function equalWeightRuns(d: number, k: number, factor: number, count: number, componentCovariance: boolean): Array<{ problem: GeneratedProblem; seed: number }> {
   return Array.from({ length: count }, (_, s) => {
-    const seed = 3000000 + 1000 * d + 100 * k + 10 * factor + s;
-    return { problem: generateProblem({ n: d * k * factor, p: d, k, seed, sigma: 0, intercept: false, componentCovariance: true }), seed };
+    const seed = (componentCovariance ? 3000000 : 4000000) + 1000 * d + 100 * k + 10 * factor + s;
+    return { problem: generateProblem({ n: d * k * factor, p: d, k, seed, sigma: 0, intercept: false, componentCovariance }), seed };
   });
 }
 
