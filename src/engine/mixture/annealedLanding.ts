@@ -25,8 +25,8 @@ import { checkSignal } from "../errors";
  *    among all components and they move together; as T falls they part gradually, instead of
  *    each settling on the first rows it happens to fit. Traced on noiseless d = 50, K = 7
  *    problems at 5 rows with the same design in every component: two or three of the seven
- *    end 5-15% from a true component, where EM from the same partitions ends 110% or more
- *    from every one (DEVELOPERS.md).
+ *    end 5-15% from a true component, where every EM start of the fit ends 50% or more from
+ *    every one (DEVELOPERS.md).
  * 2. Each component landed by reweighted least squares (below): from 5-15% it reaches the
  *    true component's exact fit.
  *
@@ -111,7 +111,7 @@ function sameCoefficients(a: Float64Array, b: Float64Array): boolean {
 /** Coefficients this close (relative to the largest) are the same exact fit to rounding. */
 const SAME_RELATIVE = 1e-8;
 
-/** Reweighted steps per component: landings from 5-20% took 7-60, most under 25 (DEVELOPERS.md). */
+/** Reweighted steps per component: landings from 15-20% away took 7-62 steps (one 154), most under 25. */
 const LANDING_STEPS = 40;
 /**
  * Steps that have not brought the enoughRows(q)-th smallest |residual| to STALL_RATIO of its
