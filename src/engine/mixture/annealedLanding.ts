@@ -6,9 +6,8 @@ import { eStep } from "./eStep";
 import { mStepCoefficients } from "./mStep";
 import { parametersFromCoefficients, randomPartitionLabels, setHardMemberships } from "./starts";
 import { enoughRows, exactTolerance } from "./exactComponents";
-import { refitOnExactRows } from "./concentrationSteps";
-import { choleskyScratchLength, scaledCholeskySolve } from "../cholesky";
-import { rowResidual } from "../rowResiduals";
+import { LandingSteps, refitOnExactRows } from "./concentrationSteps";
+import { scaledCholeskySolve } from "../cholesky";
 import { addNormalEquations } from "../weightedGram";
 import { checkSignal } from "../errors";
 
@@ -138,23 +137,12 @@ const RANK_PER_COEFFICIENT = 2;
  * every row it keeps the same weight, so the other components' rows among them pull it off;
  * on the problems above it landed few of the components that these steps land.
  */
-export class ReweightedLanding {
-  private readonly absolute: Float64Array;
-  private readonly sorted: Float64Array;
+export class ReweightedLanding extends LandingSteps {
   private readonly weights: Float64Array;
-  private readonly gram: Float64Array;
-  private readonly right: Float64Array;
-  private readonly scratch: Float64Array;
-  private readonly rows: Int32Array;
 
-  constructor(private readonly design: Float64Array, private readonly n: number, private readonly q: number, private readonly y: Float64Array, private readonly tolerance: number) {
-    this.absolute = new Float64Array(n);
-    this.sorted = new Float64Array(n);
+  constructor(design: Float64Array, n: number, q: number, y: Float64Array, private readonly tolerance: number) {
+    super(design, n, q, y);
     this.weights = new Float64Array(n);
-    this.gram = new Float64Array(q * q);
-    this.right = new Float64Array(q);
-    this.scratch = new Float64Array(choleskyScratchLength(q));
-    this.rows = new Int32Array(n);
   }
 
   /** The exact coefficients of the component the steps from `start` (q values) land on, or null. */
@@ -181,13 +169,5 @@ export class ReweightedLanding {
       epsilon = Math.min(epsilon, this.sorted[RANK_PER_COEFFICIENT * q]);
     }
     return null;
-  }
-
-  /** Fills `absolute` with |y − Xc| and `sorted` with the same, ascending. */
-  private sortResiduals(coefficients: Float64Array): void {
-    const { n, q, design, y } = this;
-    for (let i = 0; i < n; i++) this.absolute[i] = Math.abs(rowResidual(design, i * q, q, coefficients, 0, y[i]));
-    this.sorted.set(this.absolute);
-    this.sorted.sort();
   }
 }

@@ -94,16 +94,21 @@ export function concentrateStarts(job: ConcentrationJob): void {
 const STALL_FRACTION = 0.5;
 const STALL_STEPS = 4;
 
-export class ConcentrationSteps {
-  private readonly absolute: Float64Array;
-  private readonly sorted: Float64Array;
-  private readonly gram: Float64Array;
-  private readonly right: Float64Array;
-  private readonly scratch: Float64Array;
-  private readonly rows: Int32Array;
+/**
+ * What a landing of one component on n rows keeps from step to step (the concentration steps
+ * here, the reweighted steps of annealedLanding.ts): its absolute residuals, sorted and not,
+ * the normal equations and the Cholesky kernel's scratch, and a list of rows.
+ */
+export class LandingSteps {
+  protected readonly absolute: Float64Array;
+  protected readonly sorted: Float64Array;
+  protected readonly gram: Float64Array;
+  protected readonly right: Float64Array;
+  protected readonly scratch: Float64Array;
+  protected readonly rows: Int32Array;
 
   /** @param design n x q row-major design (scaledCholeskySolve equilibrates its columns; the final refit is by QR) */
-  constructor(private readonly design: Float64Array, private readonly n: number, private readonly q: number, private readonly y: Float64Array) {
+  constructor(protected readonly design: Float64Array, protected readonly n: number, protected readonly q: number, protected readonly y: Float64Array) {
     this.absolute = new Float64Array(n);
     this.sorted = new Float64Array(n);
     this.gram = new Float64Array(q * q);
@@ -111,6 +116,17 @@ export class ConcentrationSteps {
     this.scratch = new Float64Array(choleskyScratchLength(q));
     this.rows = new Int32Array(n);
   }
+
+  /** Fills `absolute` with |y − Xc| and `sorted` with the same, ascending. */
+  protected sortResiduals(coefficients: Float64Array): void {
+    const { n, q, design, y } = this;
+    for (let i = 0; i < n; i++) this.absolute[i] = Math.abs(rowResidual(design, i * q, q, coefficients, 0, y[i]));
+    this.sorted.set(this.absolute);
+    this.sorted.sort();
+  }
+}
+
+export class ConcentrationSteps extends LandingSteps {
 
   /**
    * Runs up to maxSteps C-steps with subsets of h rows from `start` (length q). When the
@@ -141,11 +157,8 @@ export class ConcentrationSteps {
 
   /** Fills `absolute` with |y − Xc| and returns the h-th smallest. */
   private residualsAndThreshold(coefficients: Float64Array, h: number): number {
-    const { n, q, design, y } = this;
-    for (let i = 0; i < n; i++) this.absolute[i] = Math.abs(rowResidual(design, i * q, q, coefficients, 0, y[i]));
-    this.sorted.set(this.absolute);
-    this.sorted.sort();
-    return this.sorted[Math.min(h, n) - 1];
+    this.sortResiduals(coefficients);
+    return this.sorted[Math.min(h, this.n) - 1];
   }
 
   /**
