@@ -8,6 +8,7 @@ import { fitSingleComponent } from "./mixture/assembleFit";
 import { screenStarts } from "./mixture/screenStarts";
 import { refineBest } from "./mixture/refineBest";
 import { stopWhenUnwanted } from "./mixture/unwantedFitStop";
+import { EARLY_TRIES, annealingTries, landByAnnealing } from "./mixture/annealedLanding";
 import { restructure } from "./mixture/restructure";
 import { finishOnAllRows } from "./mixture/finishOnAllRows";
 import { finishExactComponents } from "./mixture/finishExactComponents";
@@ -80,10 +81,13 @@ const BACKGROUND_TRIAL_STOPPED = "the fit with the background could not come bel
  *   screen starts     draw starts on the working rows, refine each briefly, land those
  *                     heading for an exact fit on it (screenStarts.ts, exactComponents.ts)
  *   refine best       the best start (and a close runner-up) to convergence (refineBest.ts)
- *   restructure       split-and-merge and peeling, only when no two starts agreed (restructure.ts)
+ *   annealed landing  when nothing is exact on few rows that may be noiseless, two tries
+ *                     (annealedLanding.ts)
+ *   restructure       split-and-merge and peeling, only when no two starts agreed and
+ *                     annealed landing did not replace the fit (restructure.ts)
+ *   annealed landing  the tries left, when the first did not replace the fit
  *   all rows          from a subsample to all rows on large inputs (finishOnAllRows.ts)
- *   exact components  exact peeling, annealed landing when nothing is exact yet, and the
- *                     noiseless polish (finishExactComponents.ts, annealedLanding.ts)
+ *   exact components  exact peeling and the noiseless polish (finishExactComponents.ts)
  *   report            reports, warnings, memberships, BIC, ICL, order (reportFit.ts)
  */
 function fitAtDepth(data: RegressionData, options: MixtureOptions, depth: number, inherited?: Float64Array, expectExact = false, strays = false, anneal = true): MixtureFit {
@@ -96,7 +100,8 @@ function fitAtDepth(data: RegressionData, options: MixtureOptions, depth: number
   const subsampleRows = full.n > 2 * subsampleSize ? sampleIndices(full.n, subsampleSize, random) : null;
   const working = subsampleRows ? withBackground(createWorkspace(data, settings.k, settings.intercept, full.joint, subsampleRows), settings.background, full) : full;
   const ctx: FitContext = {
-    data, settings, guards, random, full, working, subsampleRows, depth, inherited, expectExact, strays, anneal,
+    data, settings, guards, random, full, working, subsampleRows, depth, inherited, expectExact, strays,
+    annealing: anneal ? { triesLeft: annealingTries(full, expectExact) } : null,
     trialRandom: createRandom(settings.seed + TRIAL_SEED_OFFSET),
     // On rows expected to be exact, long runs end once their exact components stop changing.
     runStop: expectExact ? stopOnExactPlateau : null,
@@ -108,9 +113,11 @@ function fitAtDepth(data: RegressionData, options: MixtureOptions, depth: number
 
   const starts = screenStarts(ctx);
   const incumbent = refineBest(ctx, starts.candidates);
-  const splits = starts.foundTwice || options.restructure === false ? 0 : restructure(ctx, incumbent);
+  const landedEarly = landByAnnealing(ctx, incumbent, EARLY_TRIES);
+  const splits = starts.foundTwice || landedEarly || options.restructure === false ? 0 : restructure(ctx, incumbent);
+  const landed = landedEarly || landByAnnealing(ctx, incumbent, Infinity);
   const onAllRows = finishOnAllRows(ctx, incumbent);
-  const finished = finishExactComponents(ctx, incumbent, onAllRows.membershipsCurrent);
+  const finished = finishExactComponents(ctx, incumbent, onAllRows.membershipsCurrent, !landed);
   return reportFit(ctx, { starts, incumbent, splits, onAllRows, finished });
 }
 
@@ -133,9 +140,9 @@ export interface SubProblem {
   /** A flat background component beside the k regressions, to take rows none of them fits. */
   background?: boolean;
   /**
-   * The sub-problem may end in annealed landing (finishExactComponents.ts) when nothing else
-   * fits its rows exactly (default false: only the finishing phase's peels ask for it, so the
-   * many sub-problems of the search do not each pay for it).
+   * The sub-problem may try annealed landing (annealedLanding.ts) when nothing else fits its
+   * rows exactly (default false: only the finishing phase's peels and annealed landing's own
+   * ask for it, so the many sub-problems of the search do not each pay for it).
    */
   anneal?: boolean;
 }

@@ -2,14 +2,81 @@ import type { FitContext } from "./fitContext";
 import type { MixtureParameters } from "./mixtureParameters";
 import { createParameters } from "./mixtureParameters";
 import type { MixtureWorkspace } from "./mixtureWorkspace";
-import { eStep } from "./eStep";
+import { computeResiduals, eStep } from "./eStep";
 import { mStepCoefficients } from "./mStep";
 import { parametersFromCoefficients, randomPartitionLabels, setHardMemberships } from "./starts";
-import { enoughRows, exactTolerance } from "./exactComponents";
+import { enoughRows, exactComponentsOf, exactTolerance, isNoiseless } from "./exactComponents";
+import type { Incumbent } from "./refineBest";
+import { peelExactComponents } from "./restructuringMoves";
+import { runEm } from "./runEm";
 import { LandingSteps, refitOnExactRows } from "./concentrationSteps";
 import { scaledCholeskySolve } from "../cholesky";
 import { addNormalEquations } from "../weightedGram";
 import { checkSignal } from "../errors";
+
+/**
+ * Phase, twice: after the refinement of the best start with at most EARLY_TRIES partitions,
+ * and after the restructuring (when the first did not land) with the tries left. When the
+ * incumbent fits nothing exactly on rows that may lie exactly on their regressions
+ * (mayLieExactly), annealed landing looks for a first exact component; the landed fit, its
+ * exact components peeled (the sub-problem may land again), replaces the incumbent when its
+ * refinement raises ln L. Returns whether it did. When the first call does, the driver skips
+ * the restructuring, whose split-and-merge and noisy peeling found nothing on these problems
+ * and took most of their time (3.8-4.4 s of 7-9 s on the bench's same-design d = 50, K = 7
+ * problems at 6 rows); two thirds of the landings traced came within two tries. Run only
+ * before the restructuring, all tries recovered fewer problems (DEVELOPERS.md).
+ */
+export function landByAnnealing(ctx: FitContext, incumbent: Incumbent, tries: number): boolean {
+  const { full } = ctx;
+  if (!ctx.annealing || ctx.annealing.triesLeft <= 0 || !mayLieExactly(ctx, incumbent.best.params)) return false;
+  const landed = annealedLanding(ctx, ctx.annealing, tries);
+  const next = landed && (peelExactComponents(ctx, full, landed, null, true) ?? landed);
+  const run = next ? runEm(full, next, ctx, ctx.settings.maxIterations, null, { plain: true }) : null;
+  if (!next || !run || !(run.logLikelihood > incumbent.best.logLikelihood)) {
+    // The workspace's memberships back to the incumbent's, for the phases after this one.
+    computeResiduals(full, incumbent.best.params);
+    eStep(full, incumbent.best.params);
+    return false;
+  }
+  incumbent.best.params = next;
+  incumbent.best.logLikelihood = run.logLikelihood;
+  incumbent.best.method = "annealed-landing";
+  incumbent.run = run;
+  incumbent.path.push(run.logLikelihood);
+  return true;
+}
+
+/** Tries of the first call, before the restructuring. */
+export const EARLY_TRIES = 2;
+
+/**
+ * A fit exact nowhere is tried by annealed landing when its rows are few and may lie exactly
+ * on their regressions. Few: at most THIN_ROWS per coefficient per
+ * component, where the starts miss noiseless problems (at 10 rows and more they land them),
+ * and one annealing within ANNEALING_MULTIPLY_ADDS (about 0.4 s here at d = 50, K = 7 with
+ * 2,100 rows; d = 100 with K = 4 at 8 rows is over). May lie exactly: a parent fitted other
+ * rows of the same data exactly, or some component's noise SD is at most NEAR_EXACT_SD times
+ * SD(y), as where an EM component shrank onto a few rows of a noiseless problem (0.1-5% on
+ * noiseless d = 50, K = 7 problems at 4-6 rows). Noisy sheets this thin often have such a
+ * component too (an overfitted one); on sixteen of them (d = 10-50, K = 5-7, 3-5 rows) the
+ * tries took the fits 1.6 times as long, to the same fits (DEVELOPERS.md). Only the plain
+ * model without a background, on rows no noisy fit chose.
+ */
+const THIN_ROWS = 8;
+const ANNEALING_MULTIPLY_ADDS = 3e9;
+const NEAR_EXACT_SD = 0.05;
+
+function mayLieExactly(ctx: FitContext, params: MixtureParameters): boolean {
+  const { full } = ctx;
+  if (full.joint || full.background !== null || ctx.strays || full.n > THIN_ROWS * full.k * full.q) return false;
+  if (annealingMultiplyAdds(full) > ANNEALING_MULTIPLY_ADDS) return false;
+  if (isNoiseless(params, full) || exactComponentsOf(full, params).length > 0) return false;
+  if (ctx.expectExact) return true;
+  const limit = NEAR_EXACT_SD * NEAR_EXACT_SD * full.yVariance;
+  for (let c = 0; c < params.k; c++) if (params.variances[c] <= limit) return true;
+  return false;
+}
+
 
 /**
  * Annealed landing: a last way to a first exact component when no start found one, on rows
@@ -32,12 +99,12 @@ import { checkSignal } from "../errors";
  * Up to ANNEAL_TRIES partitions (below), until one lands a component. Returns the annealed
  * fit's parameters with the landed components' exact coefficients, or null.
  */
-export function annealedLanding(ctx: FitContext): MixtureParameters | null {
+function annealedLanding(ctx: FitContext, budget: { triesLeft: number }, tries: number): MixtureParameters | null {
   const ws = ctx.full;
   const { q, k } = ws;
   const landing = new ReweightedLanding(ws.design, ws.n, q, ws.y, exactTolerance(ws));
-  const tries = ctx.expectExact ? ANNEAL_TRIES : Math.max(1, Math.min(ANNEAL_TRIES, Math.floor(UNSURE_MULTIPLY_ADDS / annealingMultiplyAdds(ws))));
-  for (let attempt = 0; attempt < tries; attempt++) {
+  for (let attempt = 0; attempt < tries && budget.triesLeft > 0; attempt++) {
+    budget.triesLeft--;
     const params = annealedFit(ctx, ws);
     if (!params) continue;
     const coefficients = params.coefficients.slice(0, k * q);
@@ -65,6 +132,11 @@ export function annealedLanding(ctx: FitContext): MixtureParameters | null {
  */
 const ANNEAL_TRIES = 8;
 const UNSURE_MULTIPLY_ADDS = 1.2e10;
+
+/** The partitions a (sub-)problem may anneal in all (both calls of landByAnnealing). */
+export function annealingTries(ws: MixtureWorkspace, expectExact: boolean): number {
+  return expectExact ? ANNEAL_TRIES : Math.max(1, Math.min(ANNEAL_TRIES, Math.floor(UNSURE_MULTIPLY_ADDS / annealingMultiplyAdds(ws))));
+}
 /** The temperature's range, times SD(y), and its levels: fewer levels or iterations, or a start below SD(y), landed far fewer components (DEVELOPERS.md). */
 const ANNEAL_HIGH = 1.5;
 const ANNEAL_LOW = 0.1;

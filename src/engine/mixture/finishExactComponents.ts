@@ -3,8 +3,7 @@ import type { MixtureParameters } from "./mixtureParameters";
 import type { Incumbent } from "./refineBest";
 import { computeResiduals, eStep } from "./eStep";
 import { hardAssignmentPolish } from "./hardAssignmentPolish";
-import { exactComponentsOf, isNoiseless } from "./exactComponents";
-import { annealedLanding, annealingMultiplyAdds } from "./annealedLanding";
+import { isNoiseless } from "./exactComponents";
 import { peelExactComponents } from "./restructuringMoves";
 import { runEm } from "./runEm";
 
@@ -12,34 +11,6 @@ import { runEm } from "./runEm";
 const MAX_PEELING_ROUNDS = 3;
 /** The polish is kept unless it lowers ln L by more than rounding: 1e-9 of |ln L|. */
 const POLISH_ROUNDING = 1e-9;
-
-/**
- * A fit exact nowhere is tried by annealed landing (annealedLanding.ts) when its rows are few
- * and may lie exactly on their regressions. Few: at most THIN_ROWS per coefficient per
- * component, where the starts miss noiseless problems (at 10 rows and more they land them),
- * and one annealing within ANNEALING_MULTIPLY_ADDS (about 0.4 s here at d = 50, K = 7 with
- * 2,100 rows; d = 100 with K = 4 at 8 rows is over). May lie exactly: a parent fitted other
- * rows of the same data exactly, or some component's noise SD is at most NEAR_EXACT_SD times
- * SD(y), as where an EM component shrank onto a few rows of a noiseless problem (0.1-5% on
- * noiseless d = 50, K = 7 problems at 4-6 rows). Noisy sheets this thin often have such a
- * component too (an overfitted one); on sixteen of them (d = 10-50, K = 5-7, 3-5 rows) the
- * tries took the fits 1.6 times as long, to the same fits (DEVELOPERS.md). Only the plain
- * model without a background, on rows no noisy fit chose.
- */
-const THIN_ROWS = 8;
-const ANNEALING_MULTIPLY_ADDS = 3e9;
-const NEAR_EXACT_SD = 0.05;
-
-function mayLieExactly(ctx: FitContext, params: MixtureParameters): boolean {
-  const { full } = ctx;
-  if (!ctx.anneal || full.joint || full.background !== null || ctx.strays || full.n > THIN_ROWS * full.k * full.q) return false;
-  if (annealingMultiplyAdds(full) > ANNEALING_MULTIPLY_ADDS) return false;
-  if (isNoiseless(params, full) || exactComponentsOf(full, params).length > 0) return false;
-  if (ctx.expectExact) return true;
-  const limit = NEAR_EXACT_SD * NEAR_EXACT_SD * full.yVariance;
-  for (let c = 0; c < params.k; c++) if (params.variances[c] <= limit) return true;
-  return false;
-}
 
 /** The finished fit on all rows. */
 export interface Finished {
@@ -54,18 +25,18 @@ export interface Finished {
 
 /**
  * Phase on all rows: when some components fit their rows exactly and others do not, the exact
- * rows are set aside and the rest fitted afresh (exact peeling, kept when ln L rises); when
- * none does and the rows may lie exactly on their regressions, annealed landing looks for a
- * first exact component to peel from; a fit exact on every row is finished by the
+ * rows are set aside and the rest fitted afresh (exact peeling, kept when ln L rises; its
+ * sub-problems may try annealed landing when `annealPeels`: not after annealed landing has
+ * replaced the fit, whose own peels tried it); a fit exact on every row is finished by the
  * hard-assignment polish (exact fits by QR).
  */
-export function finishExactComponents(ctx: FitContext, incumbent: Incumbent, membershipsCurrent: boolean): Finished {
+export function finishExactComponents(ctx: FitContext, incumbent: Incumbent, membershipsCurrent: boolean, annealPeels: boolean): Finished {
   const { full, settings } = ctx;
   let params = incumbent.best.params;
   let run = incumbent.run;
   let logLikelihood = run.logLikelihood;
   let peeled = 0;
-  // A fit after peeling (or landing) replaces the incumbent only when its refinement raises ln L.
+  // A fit after peeling replaces the incumbent only when its refinement raises ln L.
   const keepIfHigher = (next: MixtureParameters | null, method: string): boolean => {
     if (!next) return false;
     membershipsCurrent = false;
@@ -82,12 +53,7 @@ export function finishExactComponents(ctx: FitContext, incumbent: Incumbent, mem
     return true;
   };
   for (let round = 0; round < MAX_PEELING_ROUNDS; round++) {
-    if (!keepIfHigher(peelExactComponents(ctx, full, params, null, true), "exact-peeling")) break;
-  }
-  if (peeled === 0 && mayLieExactly(ctx, params)) {
-    membershipsCurrent = false;
-    const landed = annealedLanding(ctx);
-    keepIfHigher(landed && (peelExactComponents(ctx, full, landed, null, true) ?? landed), "annealed-landing");
+    if (!keepIfHigher(peelExactComponents(ctx, full, params, null, annealPeels), "exact-peeling")) break;
   }
   if (!isNoiseless(params, full)) return { params, logLikelihood, run, peeled, polished: false, membershipsCurrent };
   const polishedParams = hardAssignmentPolish(full, params, ctx.guards, ctx.signal);

@@ -63,8 +63,12 @@ export interface FitContext extends EmContext {
    * fit and for sub-problems of its rows that exact fits left.
    */
   strays: boolean;
-  /** Whether the finishing phase may try annealed landing here: in the user's fit and in the sub-problems of the finishing phase's peels. */
-  anneal: boolean;
+  /**
+   * The partitions annealed landing may still try here (annealedLanding.ts), or null where it
+   * is not tried: it is tried in the user's fit and in the sub-problems of the finishing
+   * phase's peels and of annealed landing's own.
+   */
+  annealing: { triesLeft: number } | null;
   /**
    * Re-seeding in runs that may be given up (a start run on while falling toward an exact fit,
    * exactComponents.ts) draws from this second generator, made from the same seed, so a run
