@@ -3,6 +3,7 @@ import { fitMixture } from "../src/engine/fitMixture";
 import { createRandom } from "../src/engine/random";
 import { leastSquares } from "../src/engine/leastSquares";
 import { addNormalEquations } from "../src/engine/weightedGram";
+import { choleskyScratchLength, scaledCholeskySolve } from "../src/engine/cholesky";
 import { ConcentrationSteps } from "../src/engine/mixture/concentrationSteps";
 import { ReweightedLanding } from "../src/engine/mixture/annealedLanding";
 import { enoughRows } from "../src/engine/mixture/exactComponents";
@@ -54,22 +55,9 @@ describe("weighted normal equations (the one kernel, with row weights)", () => {
     const right = new Float64Array(q);
     addNormalEquations(design, q, y, null, n, gram, right, weights);
     const reference = leastSquares(design, n, q, y, { weights }).coefficients;
-    // Solve the upper-triangle normal equations directly (Gauss elimination on the full matrix).
-    const full = Array.from({ length: q }, (_, j) => Array.from({ length: q }, (_, l) => gram[Math.min(j, l) * q + Math.max(j, l)]));
-    const rhs = Array.from(right);
-    for (let j = 0; j < q; j++) {
-      for (let r = j + 1; r < q; r++) {
-        const f = full[r][j] / full[j][j];
-        for (let l = j; l < q; l++) full[r][l] -= f * full[j][l];
-        rhs[r] -= f * rhs[j];
-      }
-    }
-    const solution = new Array<number>(q).fill(0);
-    for (let j = q - 1; j >= 0; j--) {
-      let s = rhs[j];
-      for (let l = j + 1; l < q; l++) s -= full[j][l] * solution[l];
-      solution[j] = s / full[j][j];
-    }
+    // Solved by the one Cholesky kernel, which reads the Gram's upper triangle.
+    const solution = new Float64Array(q);
+    expect(scaledCholeskySolve(gram, right, q, solution, new Float64Array(choleskyScratchLength(q)))).toBe(true);
     for (let j = 0; j < q; j++) expect(Math.abs(solution[j] - reference[j])).toBeLessThan(1e-10 * (1 + Math.abs(reference[j])));
   });
 });

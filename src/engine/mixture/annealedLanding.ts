@@ -6,10 +6,10 @@ import { computeResiduals, eStep } from "./eStep";
 import { mStepCoefficients } from "./mStep";
 import { parametersFromCoefficients, randomPartitionLabels, setHardMemberships } from "./starts";
 import { enoughRows, exactComponentsOf, exactTolerance, isNoiseless } from "./exactComponents";
-import type { Incumbent } from "./refineBest";
+import { adopt, type Incumbent } from "./refineBest";
 import { peelExactComponents } from "./restructuringMoves";
 import { runEm } from "./runEm";
-import { LandingSteps, refitOnExactRows } from "./concentrationSteps";
+import { LandingSteps } from "./concentrationSteps";
 import { scaledCholeskySolve } from "../cholesky";
 import { addNormalEquations } from "../weightedGram";
 import { checkSignal } from "../errors";
@@ -31,18 +31,14 @@ export function landByAnnealing(ctx: FitContext, incumbent: Incumbent, tries: nu
   if (!ctx.annealing || ctx.annealing.triesLeft <= 0 || !mayLieExactly(ctx, incumbent.best.params)) return false;
   const landed = annealedLanding(ctx, ctx.annealing, tries);
   const next = landed && (peelExactComponents(ctx, full, landed, null, true) ?? landed);
-  const run = next ? runEm(full, next, ctx, ctx.settings.maxIterations, null, { plain: true }) : null;
+  const run = next && runEm(full, next, ctx, ctx.settings.maxIterations, null, { plain: true });
   if (!next || !run || !(run.logLikelihood > incumbent.best.logLikelihood)) {
     // The workspace's memberships back to the incumbent's, for the phases after this one.
     computeResiduals(full, incumbent.best.params);
     eStep(full, incumbent.best.params);
     return false;
   }
-  incumbent.best.params = next;
-  incumbent.best.logLikelihood = run.logLikelihood;
-  incumbent.best.method = "annealed-landing";
-  incumbent.run = run;
-  incumbent.path.push(run.logLikelihood);
+  adopt(ctx, incumbent, full, next, run, "annealed-landing");
   return true;
 }
 
@@ -77,7 +73,6 @@ function mayLieExactly(ctx: FitContext, params: MixtureParameters): boolean {
   return false;
 }
 
-
 /**
  * Annealed landing: a last way to a first exact component when no start found one, on rows
  * that may lie exactly on their regressions (balanced mixtures, or the same design in every
@@ -96,8 +91,9 @@ function mayLieExactly(ctx: FitContext, params: MixtureParameters): boolean {
  * 2. Each component landed by reweighted least squares (below): from 5-15% it reaches the
  *    true component's exact fit.
  *
- * Up to ANNEAL_TRIES partitions (below), until one lands a component. Returns the annealed
- * fit's parameters with the landed components' exact coefficients, or null.
+ * Up to `tries` partitions, as long as the budget has tries left (each one spends one), until
+ * one lands a component. Returns the annealed fit's parameters with the landed components'
+ * exact coefficients, or null.
  */
 function annealedLanding(ctx: FitContext, budget: { triesLeft: number }, tries: number): MixtureParameters | null {
   const ws = ctx.full;
@@ -235,8 +231,7 @@ export class ReweightedLanding extends LandingSteps {
       if (!scaledCholeskySolve(this.gram, this.right, q, coefficients, this.scratch)) return null;
       this.sortResiduals(coefficients);
       if (this.sorted[needed - 1] <= this.tolerance) {
-        const exactRows = refitOnExactRows(this.design, n, q, this.y, coefficients, this.tolerance, this.absolute, this.rows);
-        return exactRows >= needed ? coefficients : null;
+        return this.refitOnExactRows(coefficients, this.tolerance) >= needed ? coefficients : null;
       }
       epsilon = Math.min(epsilon, this.sorted[RANK_PER_COEFFICIENT * q]);
     }

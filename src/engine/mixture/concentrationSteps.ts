@@ -124,10 +124,36 @@ export class LandingSteps {
     this.sorted.set(this.absolute);
     this.sorted.sort();
   }
+
+  /**
+   * The end of a landing: when more than q rows fit `coefficients` within the tolerance, the
+   * coefficients are refitted by Householder QR on all of them (rounding-level coefficients).
+   * Returns the rows then fitted within the tolerance.
+   */
+  protected refitOnExactRows(coefficients: Float64Array, exactTolerance: number): number {
+    const { q, design, y, rows } = this;
+    const exactRows = this.countExactRows(coefficients, exactTolerance);
+    if (exactRows <= q) return exactRows;
+    const exact = gatherRows(design, q, y, rows, exactRows);
+    const qr = new HouseholderQR(exact.matrix, exactRows, q);
+    if (!qr.isFullRank) return exactRows;
+    coefficients.set(qr.solve(exact.y));
+    return this.countExactRows(coefficients, exactTolerance);
+  }
+
+  /** Lists in `rows` the rows fitted within the tolerance (absolute residuals into `absolute`) and returns how many. */
+  private countExactRows(coefficients: Float64Array, exactTolerance: number): number {
+    const { n, q, design, y } = this;
+    let count = 0;
+    for (let i = 0; i < n; i++) {
+      this.absolute[i] = Math.abs(rowResidual(design, i * q, q, coefficients, 0, y[i]));
+      if (this.absolute[i] <= exactTolerance) this.rows[count++] = i;
+    }
+    return count;
+  }
 }
 
 export class ConcentrationSteps extends LandingSteps {
-
   /**
    * Runs up to maxSteps C-steps with subsets of h rows from `start` (length q). When the
    * subset fits exactly, the component is refitted by Householder QR on every row it fits
@@ -151,7 +177,7 @@ export class ConcentrationSteps extends LandingSteps {
       for (let j = 0; j < q; j++) if (coefficients[j] !== previous[j]) moved = true;
       if (!moved) break;
     }
-    const exactRows = refitOnExactRows(this.design, n, q, this.y, coefficients, exactTolerance, this.absolute, this.rows);
+    const exactRows = this.refitOnExactRows(coefficients, exactTolerance);
     return { coefficients, exactRows, steps };
   }
 
@@ -176,26 +202,3 @@ export class ConcentrationSteps extends LandingSteps {
   }
 }
 
-/**
- * The end of a landing (concentration steps, reweighted steps): when more than q rows fit
- * `coefficients` within the exact tolerance, the coefficients are refitted by Householder QR
- * on all of them (rounding-level coefficients). Returns the rows then fitted within the
- * tolerance. `absolute` (n) and `rows` (n) are scratch.
- */
-export function refitOnExactRows(design: Float64Array, n: number, q: number, y: Float64Array, coefficients: Float64Array, exactTolerance: number, absolute: Float64Array, rows: Int32Array): number {
-  const countExact = (): number => {
-    let count = 0;
-    for (let i = 0; i < n; i++) {
-      absolute[i] = Math.abs(rowResidual(design, i * q, q, coefficients, 0, y[i]));
-      if (absolute[i] <= exactTolerance) rows[count++] = i;
-    }
-    return count;
-  };
-  const exactRows = countExact();
-  if (exactRows <= q) return exactRows;
-  const exact = gatherRows(design, q, y, rows, exactRows);
-  const qr = new HouseholderQR(exact.matrix, exactRows, q);
-  if (!qr.isFullRank) return exactRows;
-  coefficients.set(qr.solve(exact.y));
-  return countExact();
-}

@@ -36,24 +36,20 @@ export function finishExactComponents(ctx: FitContext, incumbent: Incumbent, mem
   let run = incumbent.run;
   let logLikelihood = run.logLikelihood;
   let peeled = 0;
-  // A fit after peeling replaces the incumbent only when its refinement raises ln L.
-  const keepIfHigher = (next: MixtureParameters | null, method: string): boolean => {
-    if (!next) return false;
-    membershipsCurrent = false;
-    const nextRun = runEm(full, next, ctx, settings.maxIterations, null, { plain: true });
-    if (!(nextRun.logLikelihood > logLikelihood)) return false;
-    params = next;
-    logLikelihood = nextRun.logLikelihood;
-    // The refinement restarts from a new point, so only its end joins the path (above the
-    // path's last value, which keeps the reported path non-decreasing).
-    run = { ...nextRun, iterations: run.iterations + nextRun.iterations, reseeds: run.reseeds + nextRun.reseeds };
-    incumbent.path.push(nextRun.logLikelihood);
-    incumbent.best.method = method;
-    peeled++;
-    return true;
-  };
   for (let round = 0; round < MAX_PEELING_ROUNDS; round++) {
-    if (!keepIfHigher(peelExactComponents(ctx, full, params, null, annealPeels), "exact-peeling")) break;
+    const peeledParams = peelExactComponents(ctx, full, params, null, annealPeels);
+    if (!peeledParams) break;
+    membershipsCurrent = false;
+    const peeledRun = runEm(full, peeledParams, ctx, settings.maxIterations, null, { plain: true });
+    if (!(peeledRun.logLikelihood > logLikelihood)) break;
+    params = peeledParams;
+    logLikelihood = peeledRun.logLikelihood;
+    // The peeled refinement restarts from a new point, so only its end joins the path (above
+    // the path's last value, which keeps the reported path non-decreasing).
+    run = { ...peeledRun, iterations: run.iterations + peeledRun.iterations, reseeds: run.reseeds + peeledRun.reseeds };
+    incumbent.path.push(peeledRun.logLikelihood);
+    incumbent.best.method = "exact-peeling";
+    peeled++;
   }
   if (!isNoiseless(params, full)) return { params, logLikelihood, run, peeled, polished: false, membershipsCurrent };
   const polishedParams = hardAssignmentPolish(full, params, ctx.guards, ctx.signal);

@@ -2,6 +2,8 @@ import type { Candidate, EmRun, FitContext } from "./fitContext";
 import { coefficientDistance, DISAGREEMENT_RELATIVE, LIKELIHOOD_TIE } from "./compareFits";
 import { runEm } from "./runEm";
 import { stopOnAllRows } from "./unwantedFitStop";
+import type { MixtureParameters } from "./mixtureParameters";
+import type { MixtureWorkspace } from "./mixtureWorkspace";
 
 /** The fit the pipeline carries from phase to phase: the leading candidate, its last run and the reported path. */
 export interface Incumbent {
@@ -44,4 +46,16 @@ export function refineBest(ctx: FitContext, candidates: readonly Candidate[]): I
     }
   }
   return { best, run, path, disagreement };
+}
+
+/**
+ * A later phase's fit replaces the incumbent: its parameters, ln L, method and run; its ln L
+ * joins the reported path when the run was on all rows (`ws` is the full workspace).
+ */
+export function adopt(ctx: FitContext, incumbent: Incumbent, ws: MixtureWorkspace, params: MixtureParameters, run: EmRun, method: string): void {
+  incumbent.best.params = params;
+  incumbent.best.logLikelihood = run.logLikelihood;
+  incumbent.best.method = method;
+  incumbent.run = run;
+  if (ws === ctx.full) incumbent.path.push(run.logLikelihood);
 }

@@ -1,6 +1,6 @@
 import type { FitContext } from "./fitContext";
 import type { MixtureParameters } from "./mixtureParameters";
-import type { Incumbent } from "./refineBest";
+import { adopt, type Incumbent } from "./refineBest";
 import { exactComponentsOf, isNoiseless, SHORT_ITERATIONS } from "./exactComponents";
 import { peelComponent, splitAndMerge } from "./restructuringMoves";
 import { runEm } from "./runEm";
@@ -57,11 +57,7 @@ function tryMoves(ctx: FitContext, incumbent: Incumbent, method: string, order: 
     if (briefRun && !(briefRun.logLikelihood > incumbent.best.logLikelihood + MIN_GAIN)) continue;
     const run = briefRun?.converged ? briefRun : runEm(ws, proposal, ctx, ctx.settings.maxIterations);
     if (!(run.logLikelihood > incumbent.best.logLikelihood + MIN_GAIN)) continue;
-    incumbent.best.params = proposal;
-    incumbent.best.logLikelihood = run.logLikelihood;
-    incumbent.best.method = method;
-    incumbent.run = run;
-    if (ws === ctx.full) incumbent.path.push(run.logLikelihood);
+    adopt(ctx, incumbent, ws, proposal, run, method);
     return true;
   }
   return false;
