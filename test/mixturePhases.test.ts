@@ -12,7 +12,7 @@ import { computeResiduals } from "../src/engine/mixture/eStep";
 import { generateProblem } from "../src/synthetic/generateProblems";
 import { ConcentrationSteps } from "../src/engine/mixture/concentrationSteps";
 import { peelOrder } from "../src/engine/mixture/restructure";
-import { peelExactComponents } from "../src/engine/mixture/restructuringMoves";
+import { peelComponent, peelExactComponents } from "../src/engine/mixture/restructuringMoves";
 import { enoughRows, exactComponentsOf, exactTolerance, PEEL_SNAP_ROUNDS, runWhileFalling, snapComponents, stopOnExactGain, stopOnExactPlateau, watchSmallestVariance } from "../src/engine/mixture/exactComponents";
 import type { FitContext } from "../src/engine/mixture/fitContext";
 import { runEm } from "../src/engine/mixture/runEm";
@@ -638,5 +638,53 @@ describe("a slow run accelerated by SQUAREM (Varadhan & Roland 2008)", () => {
     runEm(ws, briefA, ctx, 60);
     runEm(ws, briefB, ctx, 60, null, { plain: true });
     expect(Array.from(briefA.coefficients)).toEqual(Array.from(briefB.coefficients));
+  });
+});
+
+describe("peeling a component of a noisy fit", () => {
+  /**
+   * Invented noiseless rows on two lines a and b in 4 predictors (q = 4), `rowsOfA` of a and
+   * `rowsOfB` of b, fitted with K = 2 from the exact coefficients: component 0 is a, so its band
+   * (rows within 2.5 noise SDs) holds exactly a's rows.
+   */
+  function peelOfA(rowsOfA: number, rowsOfB: number) {
+    const random = createRandom(71);
+    const p = 4;
+    const [a, b] = [0, 1].map(() => Float64Array.from({ length: p }, () => random.normal()));
+    const n = rowsOfA + rowsOfB;
+    const x = new Float64Array(n * p);
+    const y = new Float64Array(n);
+    for (let i = 0; i < n; i++) {
+      const line = i < rowsOfA ? a : b;
+      for (let j = 0; j < p; j++) {
+        x[i * p + j] = random.normal();
+        y[i] += x[i * p + j] * line[j];
+      }
+    }
+    const data = { x, y, n, p };
+    const ws = createWorkspace(data, 2, false, false);
+    const guards = createGuards(p, ws.yVariance);
+    const start = new Float64Array(2 * p);
+    start.set(a, 0);
+    start.set(b, p);
+    const settings = { k: 2, seed: 1, intercept: false, model: "plain", restarts: 3, tolerance: 1e-8, maxIterations: 500, background: false };
+    const ctx = { data, settings, guards, random: createRandom(72), depth: 0, expectExact: false, strays: false } as unknown as FitContext;
+    return peelComponent(ctx, ws, parametersFromCoefficients(ws, start, guards), 0, null);
+  }
+
+  it("skips a component on fewer than 3q rows that are also under half an average component's", () => {
+    // 10 rows of a among 90: above enoughRows(4) = 7, so only the shrunk-component rule stops it
+    // (10 < 3q = 12 and 10 < half of n/K = 22.5).
+    expect(enoughRows(4)).toBe(7);
+    expect(peelOfA(10, 80)).toBeNull();
+  });
+
+  it("peels a component on 3q rows or more, or on half an average component's rows or more", () => {
+    // 40 rows of a among 120 (40 >= 3q); 10 rows of a among 20 (under 3q, but n/K = 10).
+    for (const [rowsOfA, rowsOfB] of [[40, 80], [10, 10]]) {
+      const peeled = peelOfA(rowsOfA, rowsOfB);
+      expect(peeled).not.toBeNull();
+      expect(peeled!.k).toBe(2);
+    }
   });
 });
