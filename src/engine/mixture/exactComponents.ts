@@ -291,7 +291,7 @@ function exactFitByHardAssignment(ws: MixtureWorkspace, params: MixtureParameter
  * Components whose variance is already far below the data's refitted by least squares on the
  * rows within SNAP_WIDTH of their SDs (snapComponents). Null when no component qualifies.
  */
-function snapNearExactComponents(ws: MixtureWorkspace, params: MixtureParameters, guards: Guards): MixtureParameters | null {
+export function snapNearExactComponents(ws: MixtureWorkspace, params: MixtureParameters, guards: Guards): MixtureParameters | null {
   const near: number[] = [];
   for (let c = 0; c < params.k; c++) if (nearExact(params.variances[c], ws)) near.push(c);
   return snapComponents(ws, params, near, (c) => SNAP_WIDTH * Math.sqrt(params.variances[c]), guards);
