@@ -13,7 +13,7 @@ import { generateProblem } from "../src/synthetic/generateProblems";
 import { ConcentrationSteps } from "../src/engine/mixture/concentrationSteps";
 import { peelOrder } from "../src/engine/mixture/restructure";
 import { peelComponent, peelExactComponents } from "../src/engine/mixture/restructuringMoves";
-import { enoughRows, exactComponentsOf, exactTolerance, PEEL_SNAP_ROUNDS, runWhileFalling, snapComponents, stopOnExactGain, stopOnExactPlateau, watchSmallestVariance } from "../src/engine/mixture/exactComponents";
+import { enoughRows, exactComponentsOf, exactTolerance, PEEL_SNAP_ROUNDS, runWhileFalling, snapComponents, stopOnExactGain, stopOnExactPlateau, thinRows, watchSmallestVariance } from "../src/engine/mixture/exactComponents";
 import type { FitContext } from "../src/engine/mixture/fitContext";
 import { runEm } from "../src/engine/mixture/runEm";
 import { parametersFromCoefficients } from "../src/engine/mixture/starts";
@@ -672,15 +672,17 @@ describe("peeling a component of a noisy fit", () => {
     return peelComponent(ctx, ws, parametersFromCoefficients(ws, start, guards), 0, null);
   }
 
-  it("skips a component on fewer than 3q rows that are also under half an average component's", () => {
-    // 10 rows of a among 90: above enoughRows(4) = 7, so only the shrunk-component rule stops it
-    // (10 < 3q = 12 and 10 < half of n/K = 22.5).
+  it("skips a component near exact on fewer than 3q rows when the rows are not thin", () => {
+    // 10 rows of a among 90: above enoughRows(4) = 7, so only the shrunk-component rule stops
+    // it (10 < 3q = 12; 90 rows > 8 · K · q = 64, not thin; a is exact, so near exact).
     expect(enoughRows(4)).toBe(7);
+    expect(thinRows(90, 2, 4)).toBe(false);
     expect(peelOfA(10, 80)).toBeNull();
   });
 
-  it("peels a component on 3q rows or more, or on half an average component's rows or more", () => {
-    // 40 rows of a among 120 (40 >= 3q); 10 rows of a among 20 (under 3q, but n/K = 10).
+  it("peels a component on 3q rows or more, or on thin rows", () => {
+    // 40 rows of a among 120 (40 >= 3q); 10 rows of a among 20 (under 3q, but thin rows).
+    expect(thinRows(20, 2, 4)).toBe(true);
     for (const [rowsOfA, rowsOfB] of [[40, 80], [10, 10]]) {
       const peeled = peelOfA(rowsOfA, rowsOfB);
       expect(peeled).not.toBeNull();

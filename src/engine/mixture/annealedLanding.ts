@@ -5,7 +5,7 @@ import type { MixtureWorkspace } from "./mixtureWorkspace";
 import { computeResiduals, eStep } from "./eStep";
 import { mStepCoefficients } from "./mStep";
 import { parametersFromCoefficients, randomPartitionLabels, setHardMemberships } from "./starts";
-import { enoughRows, exactComponentsOf, exactTolerance, isNoiseless } from "./exactComponents";
+import { enoughRows, exactComponentsOf, exactTolerance, isNoiseless, thinRows } from "./exactComponents";
 import { adopt, type Incumbent } from "./refineBest";
 import { peelExactComponents } from "./restructuringMoves";
 import { runEm } from "./runEm";
@@ -47,9 +47,8 @@ export const EARLY_TRIES = 2;
 
 /**
  * A fit exact nowhere is tried by annealed landing when its rows are few and may lie exactly
- * on their regressions. Few: at most THIN_ROWS per coefficient per
- * component, where the starts miss noiseless problems (at 10 rows and more they land them),
- * and one annealing within ANNEALING_MULTIPLY_ADDS (about 0.4 s here at d = 50, K = 7 with
+ * on their regressions. Few: thin rows (thinRows, exactComponents.ts: at most 8 per
+ * coefficient per component, where the starts miss noiseless problems), and one annealing within ANNEALING_MULTIPLY_ADDS (about 0.4 s here at d = 50, K = 7 with
  * 2,100 rows; d = 100 with K = 4 at 8 rows is over). May lie exactly: a parent fitted other
  * rows of the same data exactly, or some component's noise SD is at most NEAR_EXACT_SD times
  * SD(y), as where an EM component shrank onto a few rows of a noiseless problem (0.1-5% on
@@ -58,13 +57,12 @@ export const EARLY_TRIES = 2;
  * tries took the fits 1.6 times as long, to the same fits (DEVELOPERS.md). Only the plain
  * model without a background, on rows no noisy fit chose.
  */
-const THIN_ROWS = 8;
 const ANNEALING_MULTIPLY_ADDS = 3e9;
 const NEAR_EXACT_SD = 0.05;
 
 function mayLieExactly(ctx: FitContext, params: MixtureParameters): boolean {
   const { full } = ctx;
-  if (full.joint || full.background !== null || ctx.strays || full.n > THIN_ROWS * full.k * full.q) return false;
+  if (full.joint || full.background !== null || ctx.strays || !thinRows(full.n, full.k, full.q)) return false;
   if (annealingMultiplyAdds(full) > ANNEALING_MULTIPLY_ADDS) return false;
   if (isNoiseless(params, full) || exactComponentsOf(full, params).length > 0) return false;
   if (ctx.expectExact) return true;

@@ -43,6 +43,18 @@ export function enoughRows(q: number): number {
   return q + Math.max(3, Math.ceil(0.1 * q));
 }
 
+/**
+ * The one rule for "thin rows": at most THIN_ROWS rows per coefficient per component (n ≤
+ * THIN_ROWS · K · q). There the starts miss noiseless problems (at 10 rows and more they land
+ * them), and EM's components shrunk onto a few rows they overfit are part of what the
+ * likelihood rewards, on noisy sheets too.
+ */
+const THIN_ROWS = 8;
+
+export function thinRows(n: number, k: number, q: number): boolean {
+  return n <= THIN_ROWS * k * q;
+}
+
 /** Absolute residual counted as exact on these rows. */
 export function exactTolerance(ws: MixtureWorkspace): number {
   return EXACT_RELATIVE * Math.sqrt(ws.yVariance);
@@ -169,7 +181,7 @@ export function stopOnExactPlateau(ws: MixtureWorkspace, params: MixtureParamete
  * A component's noise SD has come at least halfway (on a log scale) from SD(y) down to the
  * exact tolerance, √EXACT_RELATIVE · SD(y): EM is heading for an exact fit of it.
  */
-function nearExact(variance: number, ws: MixtureWorkspace): boolean {
+export function nearExact(variance: number, ws: MixtureWorkspace): boolean {
   return variance <= EXACT_RELATIVE * ws.yVariance;
 }
 

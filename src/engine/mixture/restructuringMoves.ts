@@ -5,7 +5,7 @@ import type { MixtureParameters } from "./mixtureParameters";
 import type { MixtureWorkspace } from "./mixtureWorkspace";
 import { computeResiduals, eStep } from "./eStep";
 import { parametersFromCoefficients } from "./starts";
-import { enoughRows, exactComponentsOf, exactTolerance, PEEL_SNAP_ROUNDS, rowsNotFitExactly, snapComponents } from "./exactComponents";
+import { enoughRows, exactComponentsOf, exactTolerance, nearExact, PEEL_SNAP_ROUNDS, rowsNotFitExactly, snapComponents, thinRows } from "./exactComponents";
 
 /**
  * Moves that restructure a fit by fitting part of it afresh on a subset of rows: exact
@@ -21,17 +21,16 @@ import { enoughRows, exactComponentsOf, exactTolerance, PEEL_SNAP_ROUNDS, rowsNo
 /** Rows within this many noise SDs of a kept component are set aside with it (2.5 SDs hold 98.8% of its rows). */
 const PEEL_WIDTH = 2.5;
 /**
- * A kept component whose band holds fewer than SHRUNK_ROWS_PER_COEFFICIENT · q rows and fewer
- * than SHRUNK_SHARE of an average component's (n/K) is taken for one EM shrank onto a few
- * rows it then fits nearly exactly by overfitting, not for a group, and is not peeled. Traced
- * on noiseless d = 100, K = 10 problems at 10 rows per predictor per component: SD 9e-4 of
- * SD(y) on about 210 rows (about 2q) where a group has about 1,000; peeling such a component
- * left a sub-problem of the same rows less two hundred, 12-15 s each. Both bounds, so that
- * neither a small group of a noisy sheet (many rows per coefficient) nor a group of a thin
- * sheet (near n/K rows) is taken for one.
+ * A kept component near exact (noise SD at most 1e-3 of SD(y): nearExact) whose band holds
+ * fewer than SHRUNK_ROWS_PER_COEFFICIENT · q rows, on rows that are not thin (thinRows: an
+ * average group then holds more than 8q), is taken for one EM shrank onto a few rows it fits
+ * nearly exactly by overfitting, not for a group, and is not peeled. Traced on noiseless
+ * d = 100, K = 10 problems at 10 rows per predictor per component: SD 9e-4 of SD(y) on about
+ * 210 rows (about 2q) where a group has about 1,000; peeling such a component left a
+ * sub-problem of the same rows less two hundred, 12-15 s each. Not on thin rows: there the
+ * peels of such components led to higher likelihoods on thin noisy sheets (DEVELOPERS.md).
  */
 const SHRUNK_ROWS_PER_COEFFICIENT = 3;
-const SHRUNK_SHARE = 0.5;
 /** Random-partition restarts inside a split's two-component fit (two components rarely need more). */
 const SPLIT_RESTARTS = 3;
 
@@ -116,7 +115,7 @@ export function peelComponent(ctx: FitContext, ws: MixtureWorkspace, params: Mix
   const remaining: number[] = [];
   for (let i = 0; i < n; i++) if (Math.abs(ws.residuals[i * k + keep]) > width) remaining.push(rowMap ? rowMap[i] : i);
   const band = n - remaining.length;
-  const shrunk = band < SHRUNK_ROWS_PER_COEFFICIENT * q && band < (SHRUNK_SHARE * n) / k;
+  const shrunk = nearExact(params.variances[keep], ws) && band < SHRUNK_ROWS_PER_COEFFICIENT * q && !thinRows(n, k, q);
   if (band < enoughRows(q) || shrunk || remaining.length < (k - 1) * ctx.guards.minimumSize) return null;
   let rest: MixtureFit;
   try {
