@@ -20,6 +20,27 @@ import { parametersFromCoefficients } from "../src/engine/mixture/starts";
 import { createGuards } from "../src/engine/mixture/mixtureSettings";
 import type { RegressionData } from "../src/engine/mixtureTypes";
 
+/**
+ * Invented noiseless rows: one random line (coefficient vector) in p standard normal
+ * predictors per entry of `counts`, and that many rows on it, in order, with no intercept.
+ */
+function noiselessLines(random: ReturnType<typeof createRandom>, p: number, counts: number[]): { lines: Float64Array[]; data: RegressionData } {
+  const lines = counts.map(() => Float64Array.from({ length: p }, () => random.normal()));
+  const n = counts.reduce((sum, count) => sum + count, 0);
+  const x = new Float64Array(n * p);
+  const y = new Float64Array(n);
+  let i = 0;
+  counts.forEach((count, line) => {
+    for (let r = 0; r < count; r++, i++) {
+      for (let j = 0; j < p; j++) {
+        x[i * p + j] = random.normal();
+        y[i] += x[i * p + j] * lines[line][j];
+      }
+    }
+  });
+  return { lines, data: { x, y, n, p } };
+}
+
 describe("weighted least squares by scaled Cholesky of XᵀWX", () => {
   it("agrees with the Householder QR core to 1e-10 on a weighted design with columns of very different scale", () => {
     // Reference: the QR core (checked against NIST Longley in leastSquares.test.ts). Invented
@@ -492,20 +513,9 @@ describe("exact peeling", () => {
     // up can leave among a sub-problem's rows. a is exact in the fit, b 10% off: the exact
     // peel removes a's rows and fits one component to the other 44. By least squares those 4
     // rows pull it off b; with the background they go there and b is fitted exactly.
-    const random = createRandom(61);
     const p = 4;
-    const [a, b, c] = [0, 1, 2].map(() => Float64Array.from({ length: p }, () => random.normal()));
-    const n = 84;
-    const x = new Float64Array(n * p);
-    const y = new Float64Array(n);
-    for (let i = 0; i < n; i++) {
-      const line = i < 40 ? a : i < 80 ? b : c;
-      for (let j = 0; j < p; j++) {
-        x[i * p + j] = random.normal();
-        y[i] += x[i * p + j] * line[j];
-      }
-    }
-    const data = { x, y, n, p };
+    const { lines: [a, b], data } = noiselessLines(createRandom(61), p, [40, 40, 4]);
+    const { x, y } = data;
     const ws = createWorkspace(data, 2, false, false);
     const guards = createGuards(p, ws.yVariance);
     const start = new Float64Array(2 * p);
@@ -648,20 +658,8 @@ describe("peeling a component of a noisy fit", () => {
    * (rows within 2.5 noise SDs) holds exactly a's rows.
    */
   function peelOfA(rowsOfA: number, rowsOfB: number) {
-    const random = createRandom(71);
     const p = 4;
-    const [a, b] = [0, 1].map(() => Float64Array.from({ length: p }, () => random.normal()));
-    const n = rowsOfA + rowsOfB;
-    const x = new Float64Array(n * p);
-    const y = new Float64Array(n);
-    for (let i = 0; i < n; i++) {
-      const line = i < rowsOfA ? a : b;
-      for (let j = 0; j < p; j++) {
-        x[i * p + j] = random.normal();
-        y[i] += x[i * p + j] * line[j];
-      }
-    }
-    const data = { x, y, n, p };
+    const { lines: [a, b], data } = noiselessLines(createRandom(71), p, [rowsOfA, rowsOfB]);
     const ws = createWorkspace(data, 2, false, false);
     const guards = createGuards(p, ws.yVariance);
     const start = new Float64Array(2 * p);
