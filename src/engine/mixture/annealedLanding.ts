@@ -48,8 +48,9 @@ export const EARLY_TRIES = 2;
 /**
  * A fit exact nowhere is tried by annealed landing when its rows are few and may lie exactly
  * on their regressions. Few: thin rows (thinRows, exactComponents.ts: at most 8 per
- * coefficient per component, where the starts miss noiseless problems), and one annealing within ANNEALING_MULTIPLY_ADDS (about 0.4 s here at d = 50, K = 7 with
- * 2,100 rows; d = 100 with K = 4 at 8 rows is over). May lie exactly: a parent fitted other
+ * coefficient per component, where the starts miss noiseless problems), and one annealing
+ * within ANNEALING_MULTIPLY_ADDS (about 0.4 s here at d = 50, K = 7 with 2,100 rows; d = 100
+ * with K = 4 at 8 rows is over). May lie exactly: a parent fitted other
  * rows of the same data exactly, or some component's noise SD is at most NEAR_EXACT_SD times
  * SD(y), as where an EM component shrank onto a few rows of a noiseless problem (0.1-5% on
  * noiseless d = 50, K = 7 problems at 4-6 rows). Noisy sheets this thin often have such a

@@ -33,9 +33,10 @@ const MIN_GAIN = 1;
  * were kept.
  */
 export function restructure(ctx: FitContext, incumbent: Incumbent): number {
-  if (!isNoiseless(incumbent.best.params, ctx.working) && exactComponentsOf(ctx.working, incumbent.best.params).length === 0) peelNearExact(ctx, incumbent);
+  const exactNowhere = (): boolean => !isNoiseless(incumbent.best.params, ctx.working) && exactComponentsOf(ctx.working, incumbent.best.params).length === 0;
+  if (exactNowhere()) peelNearExact(ctx, incumbent);
   let splits = 0;
-  if (ctx.depth === 0 && !isNoiseless(incumbent.best.params, ctx.working) && exactComponentsOf(ctx.working, incumbent.best.params).length === 0) {
+  if (ctx.depth === 0 && exactNowhere()) {
     for (let round = 0; round < MAX_SPLIT_ROUNDS; round++) {
       if (!tryMoves(ctx, incumbent, "split-and-merge", splitOrder(incumbent.best.params), (split) => splitAndMerge(ctx, ctx.working, incumbent.best.params, split, ctx.subsampleRows))) break;
       splits++;
@@ -55,7 +56,8 @@ export function restructure(ctx: FitContext, incumbent: Incumbent): number {
  * onto its rows (snapComponents); exact then, it is peeled at once by exact peeling, whose
  * sub-problem expects exact rows, rather than by the noisy peel below, whose sub-problem does
  * not. On a held-out d = 100, K = 10 problem this phase took 22 s against 33 s (DEVELOPERS.md).
- * A component EM shrank onto a few rows it overfits snaps to nothing exact and is left alone.
+ * A component EM shrank onto a few rows it overfits is snapped too, and peeled only if that
+ * leaves it exact.
  */
 function peelNearExact(ctx: FitContext, incumbent: Incumbent): void {
   const ws = ctx.working;
