@@ -8,12 +8,13 @@ import { allowSimdKernel } from "../src/engine/weightedGram";
 import { createWorkspace } from "../src/engine/mixture/mixtureWorkspace";
 import { createParameters } from "../src/engine/mixture/mixtureParameters";
 import { mStepCoefficients, mStepVariances, mStepVariancesFromGram } from "../src/engine/mixture/mStep";
-import { computeResiduals } from "../src/engine/mixture/eStep";
+import { computeResiduals, eStep } from "../src/engine/mixture/eStep";
 import { generateProblem } from "../src/synthetic/generateProblems";
 import { ConcentrationSteps } from "../src/engine/mixture/concentrationSteps";
-import { peelOrder } from "../src/engine/mixture/restructure";
+import { peelOrder, restructure } from "../src/engine/mixture/restructure";
+import type { Incumbent } from "../src/engine/mixture/refineBest";
 import { peelComponent, peelExactComponents } from "../src/engine/mixture/restructuringMoves";
-import { enoughRows, exactComponentsOf, exactTolerance, PEEL_SNAP_ROUNDS, runWhileFalling, snapComponents, stopOnExactGain, stopOnExactPlateau, thinRows, watchSmallestVariance } from "../src/engine/mixture/exactComponents";
+import { enoughRows, exactComponentsOf, exactTolerance, isNoiseless, PEEL_SNAP_ROUNDS, runWhileFalling, snapComponents, stopOnExactGain, stopOnExactPlateau, thinRows, watchSmallestVariance } from "../src/engine/mixture/exactComponents";
 import type { FitContext } from "../src/engine/mixture/fitContext";
 import { runEm } from "../src/engine/mixture/runEm";
 import { parametersFromCoefficients } from "../src/engine/mixture/starts";
@@ -686,5 +687,43 @@ describe("peeling a component of a noisy fit", () => {
       expect(peeled).not.toBeNull();
       expect(peeled!.k).toBe(2);
     }
+  });
+});
+
+describe("restructuring a fit with a component left near exact", () => {
+  it("snaps it onto its rows and peels it exactly, and the fit ends exact on every row", () => {
+    // Invented noiseless rows on three lines in 4 predictors, 60 rows each. The incumbent has
+    // line a off by 1e-5 in each coefficient (near exact: SD far below 1e-3 of SD(y), but no
+    // row within the exact tolerance of 1e-6 SD(y)) and two components halfway between b and c
+    // (rows of both): the fit the refinement can leave when EM approaches an exact fit slowly.
+    const p = 4;
+    const { lines: [a, b, c], data } = noiselessLines(createRandom(81), p, [60, 60, 60]);
+    const ws = createWorkspace(data, 3, false, false);
+    const guards = createGuards(p, ws.yVariance);
+    const start = new Float64Array(3 * p);
+    start.set(a.map((v) => v + 1e-5), 0);
+    start.set(b.map((v, j) => 0.5 * (v + c[j]) + 0.05), p);
+    start.set(b.map((v, j) => 0.5 * (v + c[j]) - 0.05), 2 * p);
+    const params = parametersFromCoefficients(ws, start, guards);
+    // Component 0's noise SD as EM would have it: its own 60 rows' residuals.
+    let squares = 0;
+    for (let i = 0; i < 60; i++) squares += ws.residuals[i * 3] ** 2;
+    params.variances[0] = squares / 60;
+    const logLikelihood = eStep(ws, params, true);
+    const sd = Math.sqrt(ws.yVariance);
+    expect(Math.sqrt(params.variances[0])).toBeLessThan(1e-3 * sd);
+    expect(exactComponentsOf(ws, params)).toEqual([]);
+    const settings = { k: 3, seed: 1, intercept: false, model: "plain", restarts: 3, tolerance: 1e-8, maxIterations: 500, background: false };
+    const ctx = {
+      data, settings, guards, random: createRandom(83), trialRandom: createRandom(84), full: ws, working: ws, subsampleRows: null,
+      depth: 0, expectExact: false, strays: false, annealing: null, runStop: null, tolerance: 1e-8, unwanted: null,
+    } as unknown as FitContext;
+    const incumbent: Incumbent = { best: { method: "moment-subspace", params, logLikelihood }, run: { logLikelihood, iterations: 1, converged: true, reseeds: 0, varianceBoundActive: false }, path: [], disagreement: 0 };
+    expect(restructure(ctx, incumbent)).toBe(0);
+    expect(incumbent.best.method).toBe("exact-peeling");
+    expect(isNoiseless(incumbent.best.params, ws)).toBe(true);
+    // Every line recovered to rounding, in some order.
+    const found = [a, b, c].map((line) => Math.min(...[0, 1, 2].map((k) => Math.max(...line.map((v, j) => Math.abs(incumbent.best.params.coefficients[k * p + j] - v))))));
+    for (const error of found) expect(error).toBeLessThan(1e-9);
   });
 });
