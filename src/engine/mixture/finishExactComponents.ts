@@ -4,8 +4,7 @@ import type { Incumbent } from "./refineBest";
 import { computeResiduals, eStep } from "./eStep";
 import { hardAssignmentPolish } from "./hardAssignmentPolish";
 import { isNoiseless } from "./exactComponents";
-import { peelExactComponents } from "./restructuringMoves";
-import { runEm } from "./runEm";
+import { peelAndRefine } from "./restructuringMoves";
 
 /** Exact-peeling rounds on all rows (each removes at least one exact component). */
 const MAX_PEELING_ROUNDS = 3;
@@ -31,18 +30,18 @@ export interface Finished {
  * hard-assignment polish (exact fits by QR).
  */
 export function finishExactComponents(ctx: FitContext, incumbent: Incumbent, membershipsCurrent: boolean, annealPeels: boolean): Finished {
-  const { full, settings } = ctx;
+  const { full } = ctx;
   let params = incumbent.best.params;
   let run = incumbent.run;
   let logLikelihood = run.logLikelihood;
   let peeled = 0;
   for (let round = 0; round < MAX_PEELING_ROUNDS; round++) {
-    const peeledParams = peelExactComponents(ctx, full, params, null, annealPeels);
-    if (!peeledParams) break;
+    const peeledFit = peelAndRefine(ctx, full, params, null, annealPeels);
+    if (!peeledFit) break;
     membershipsCurrent = false;
-    const peeledRun = runEm(full, peeledParams, ctx, settings.maxIterations, null, { plain: true });
+    const peeledRun = peeledFit.run;
     if (!(peeledRun.logLikelihood > logLikelihood)) break;
-    params = peeledParams;
+    params = peeledFit.params;
     logLikelihood = peeledRun.logLikelihood;
     // The peeled refinement restarts from a new point, so only its end joins the path (above
     // the path's last value, which keeps the reported path non-decreasing).

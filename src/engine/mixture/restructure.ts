@@ -2,7 +2,7 @@ import type { EmRun, FitContext } from "./fitContext";
 import type { MixtureParameters } from "./mixtureParameters";
 import { adopt, type Incumbent } from "./refineBest";
 import { exactComponentsOf, isNoiseless, SHORT_ITERATIONS, snapNearExactComponents, stopOnExactGain } from "./exactComponents";
-import { peelComponent, peelExactComponents, splitAndMerge } from "./restructuringMoves";
+import { peelAndRefine, peelComponent, peelExactComponents, splitAndMerge } from "./restructuringMoves";
 import { runEm } from "./runEm";
 import { checkSignal } from "../errors";
 
@@ -100,11 +100,8 @@ function refineProposal(ctx: FitContext, proposal: MixtureParameters): { params:
   const run = runEm(ws, proposal, ctx, maxIterations, null, { stop: (logLikelihood, toCome, iterations) => (gained = gain(logLikelihood, toCome, iterations)) });
   // A run the context's own stop ended (FitContext.runStop) is returned as it is.
   if (!gained) return { params: proposal, run };
-  const peeled = peelExactComponents(ctx, ws, proposal, ctx.subsampleRows);
-  if (peeled) {
-    const peeledRun = runEm(ws, peeled, ctx, maxIterations, null, { plain: true });
-    if (peeledRun.logLikelihood > run.logLikelihood) return { params: peeled, run: peeledRun };
-  }
+  const peeled = peelAndRefine(ctx, ws, proposal, ctx.subsampleRows);
+  if (peeled && peeled.run.logLikelihood > run.logLikelihood) return peeled;
   const rest = runEm(ws, proposal, ctx, maxIterations - run.iterations);
   return { params: proposal, run: { ...rest, iterations: run.iterations + rest.iterations, reseeds: run.reseeds + rest.reseeds } };
 }

@@ -1,10 +1,11 @@
 import type { MixtureFit } from "../mixtureTypes";
 import { fitSubProblem } from "../fitMixture";
-import type { FitContext } from "./fitContext";
+import type { EmRun, FitContext } from "./fitContext";
 import type { MixtureParameters } from "./mixtureParameters";
 import type { MixtureWorkspace } from "./mixtureWorkspace";
 import { computeResiduals, eStep } from "./eStep";
 import { parametersFromCoefficients } from "./starts";
+import { runEm } from "./runEm";
 import { enoughRows, exactComponentsOf, exactTolerance, nearExact, PEEL_SNAP_ROUNDS, rowsNotFitExactly, snapComponents, thinRows } from "./exactComponents";
 
 /**
@@ -61,6 +62,16 @@ export function peelExactComponents(ctx: FitContext, ws: MixtureWorkspace, fit: 
   // then takes them, which no regression can do and stay exact.
   const sub = fitSubProblem(ctx, { rows: remaining, k: others.length, start: coefficientsOf(params, others), expectExact: true, background: ctx.strays, anneal });
   return combine(ws, params, exact, sub, ctx);
+}
+
+/**
+ * Exact peeling of `fit` (peelExactComponents) and the peeled fit refined on `ws` to
+ * convergence by plain EM (runs after exact peeling stay plain: runEm.ts); null when nothing
+ * is peeled. The caller keeps it only where its ln L is the higher.
+ */
+export function peelAndRefine(ctx: FitContext, ws: MixtureWorkspace, fit: MixtureParameters, rowMap: Int32Array | null, anneal = false): { params: MixtureParameters; run: EmRun } | null {
+  const params = peelExactComponents(ctx, ws, fit, rowMap, anneal);
+  return params && { params, run: runEm(ws, params, ctx, ctx.settings.maxIterations, null, { plain: true }) };
 }
 
 /**
