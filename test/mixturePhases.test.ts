@@ -311,6 +311,57 @@ describe("exact components (the one tolerance and the one enough-rows rule)", ()
     coefficients.set(b, q);
     expect(exactComponentsOf(ws, parametersFromCoefficients(ws, coefficients, createGuards(q, ws.yVariance)))).toEqual([0, 1]);
   });
+
+  it("counts two components on the same rows once, keeping the first", () => {
+    const { data, a, b } = threeLines();
+    const q = data.p;
+    const ws = createWorkspace(data, 3, false, false);
+    const coefficients = new Float64Array(3 * q);
+    // b, then a twice: components 1 and 2 fit the same 40 rows exactly.
+    coefficients.set(b, 0);
+    coefficients.set(a, q);
+    coefficients.set(a, 2 * q);
+    expect(exactComponentsOf(ws, parametersFromCoefficients(ws, coefficients, createGuards(q, ws.yVariance)))).toEqual([0, 1]);
+  });
+
+  it("counts two components that share rows as two only when each fits enoughRows(q) rows of its own", () => {
+    // Invented noiseless data: lines a and a2 differ only in the first coefficient, so the 20
+    // rows whose first predictor is 0 lie on both; 40 more rows lie on a alone and `own` on a2
+    // alone. enoughRows(5) = 8.
+    function sharedRows(own: number): { data: RegressionData; a: Float64Array; a2: Float64Array } {
+      const random = createRandom(47);
+      const p = 5;
+      const a = Float64Array.from({ length: p }, () => random.normal());
+      const a2 = a.slice();
+      a2[0] += 1;
+      const groups: [Float64Array, number, boolean][] = [[a, 40, false], [a2, own, false], [a, 20, true]];
+      const n = 60 + own;
+      const x = new Float64Array(n * p);
+      const y = new Float64Array(n);
+      let row = 0;
+      for (const [line, count, onBoth] of groups) {
+        for (let r = 0; r < count; r++, row++) {
+          for (let j = 0; j < p; j++) {
+            x[row * p + j] = j === 0 && onBoth ? 0 : random.normal();
+            y[row] += x[row * p + j] * line[j];
+          }
+        }
+      }
+      return { data: { x, y, n, p }, a, a2 };
+    }
+    const exactOf = (own: number): number[] => {
+      const { data, a, a2 } = sharedRows(own);
+      const ws = createWorkspace(data, 2, false, false);
+      const coefficients = new Float64Array(2 * data.p);
+      coefficients.set(a2, 0);
+      coefficients.set(a, data.p);
+      return exactComponentsOf(ws, parametersFromCoefficients(ws, coefficients, createGuards(data.p, ws.yVariance)));
+    };
+    // a2 fits 20 + 12 rows, 12 of them its own: both count.
+    expect(exactOf(12)).toEqual([0, 1]);
+    // a2 fits 20 + 7 rows, 7 of them its own: it counts as a copy of a (60 rows), which is kept.
+    expect(exactOf(7)).toEqual([1]);
+  });
 });
 
 describe("snapping a component counted exact onto all of its rows", () => {
