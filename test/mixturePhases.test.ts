@@ -592,6 +592,47 @@ describe("exact peeling", () => {
     const closed = peelExactComponents({ ...ctx, strays: false, random: createRandom(62) } as FitContext, ws, parametersFromCoefficients(ws, start, guards), null);
     for (let j = 0; j < p; j++) expect(Math.abs(closed!.coefficients[p + j] - rest.coefficients[j])).toBeLessThan(1e-9);
   });
+
+  // Invented noiseless rows: lines a, b and c (`rows` each) in p predictors, and exact peeling
+  // of fits with a exact and b, c off, given a list of the row sets peeled before.
+  function peelTwice(p: number, rows: number): { first: unknown; again: unknown; other: unknown; peeledBefore: number[][] } {
+    const { lines: [a, b, c], data } = noiselessLines(createRandom(63), p, [rows, rows, rows]);
+    const ws = createWorkspace(data, 3, false, false);
+    const guards = createGuards(p, ws.yVariance);
+    const fitWith = (lines: Float64Array[]): ReturnType<typeof parametersFromCoefficients> => {
+      const coefficients = new Float64Array(3 * p);
+      lines.forEach((line, slot) => coefficients.set(line, slot * p));
+      return parametersFromCoefficients(ws, coefficients, guards);
+    };
+    const settings = { k: 3, seed: 1, intercept: false, model: "plain", restarts: 2, tolerance: 1e-8, maxIterations: 200, background: false };
+    const ctx = { data, settings, guards, random: createRandom(64), depth: 0, expectExact: false, strays: false } as unknown as FitContext;
+    const peeledBefore: number[][] = [];
+    const first = peelExactComponents(ctx, ws, fitWith([a, b.map((v) => v * 1.1), c.map((v) => v * 0.9)]), null, { peeledBefore });
+    // The same rows again (a exact), from another start.
+    const again = peelExactComponents(ctx, ws, fitWith([a, c.map((v) => v * 1.2), b.map((v) => v * 0.8)]), null, { peeledBefore });
+    // Other rows (b exact).
+    const other = peelExactComponents(ctx, ws, fitWith([a.map((v) => v * 1.1), b, c.map((v) => v * 0.9)]), null, { peeledBefore });
+    return { first, again, other, peeledBefore };
+  }
+
+  it("hands rows to a sub-problem of 100 coefficients or more once when told the row sets peeled before", () => {
+    // 2 components of 50 coefficients left: 100.
+    const { first, again, other, peeledBefore } = peelTwice(50, 130);
+    expect(first).not.toBeNull();
+    expect(again).toBeNull();
+    expect(other).not.toBeNull();
+    expect(peeledBefore.length).toBe(2);
+    expect(peeledBefore[0]).toEqual(Array.from({ length: 260 }, (_, i) => 130 + i));
+  });
+
+  it("hands rows to a smaller sub-problem every time", () => {
+    // 2 components of 4 coefficients left: 8.
+    const { first, again, other, peeledBefore } = peelTwice(4, 30);
+    expect(first).not.toBeNull();
+    expect(again).not.toBeNull();
+    expect(other).not.toBeNull();
+    expect(peeledBefore).toEqual([]);
+  });
 });
 
 describe("the components peeling may keep", () => {

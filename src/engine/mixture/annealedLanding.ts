@@ -30,7 +30,7 @@ export function landByAnnealing(ctx: FitContext, incumbent: Incumbent, tries: nu
   const { full } = ctx;
   if (!ctx.annealing || ctx.annealing.triesLeft <= 0 || !mayLieExactly(ctx, incumbent.best.params)) return false;
   const landed = annealedLanding(ctx, ctx.annealing, tries);
-  const next = landed && (peelExactComponents(ctx, full, landed, null, true) ?? landed);
+  const next = landed && (peelExactComponents(ctx, full, landed, null, { anneal: true }) ?? landed);
   const run = next && runEm(full, next, ctx, ctx.settings.maxIterations, null, { plain: true });
   if (!next || !run || !(run.logLikelihood > incumbent.best.logLikelihood)) {
     // The workspace's memberships back to the incumbent's, for the phases after this one.

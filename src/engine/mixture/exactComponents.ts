@@ -363,7 +363,8 @@ export function snapComponents(ws: MixtureWorkspace, params: MixtureParameters, 
   return snapped ? parametersFromCoefficients(ws, coefficients, guards) : null;
 }
 
-function sameRows(a: readonly number[], b: readonly number[]): boolean {
+/** Whether two lists of rows hold the same rows in the same order. */
+export function sameRows(a: readonly number[], b: readonly number[]): boolean {
   return a.length === b.length && a.every((row, t) => row === b[t]);
 }
 

@@ -6,7 +6,7 @@ import type { MixtureWorkspace } from "./mixtureWorkspace";
 import { computeResiduals, eStep } from "./eStep";
 import { parametersFromCoefficients } from "./starts";
 import { runEm } from "./runEm";
-import { enoughRows, exactComponentsOf, exactTolerance, nearExact, PEEL_SNAP_ROUNDS, rowsNotFitExactly, snapComponents, thinRows } from "./exactComponents";
+import { enoughRows, exactComponentsOf, exactTolerance, nearExact, PEEL_SNAP_ROUNDS, rowsNotFitExactly, sameRows, snapComponents, thinRows } from "./exactComponents";
 
 /**
  * Moves that restructure a fit by fitting part of it afresh on a subset of rows: exact
@@ -36,13 +36,29 @@ const SHRUNK_ROWS_PER_COEFFICIENT = 3;
 const SPLIT_RESTARTS = 3;
 
 /**
+ * A set of rows handed to a sub-problem of this many coefficients or more (K'·q) is not handed
+ * to one again in the same start screen (PeelSettings.peeledBefore): the sub-problem would be
+ * the same rows and components, fitted afresh only from another parent estimate, each try
+ * costing seconds at tens of predictors. Traced on a d = 50, K = 7 problem at 5 rows per
+ * predictor per component: every start fitted the same component exactly, and nine peels in
+ * a row handed the same 1,213 rows to a 6-component sub-problem (2.5 s each), eight fitting
+ * nothing exactly; peeled once, the finishing phase's peel with annealed landing fitted them
+ * in 3.3 s. Smaller sub-problems cost milliseconds, and a second or third parent estimate is
+ * often the one that lands: forbidding their repeats too lost fits at 3 rows per predictor
+ * per component (d = 10, K = 5: 94 of 100 against 98). DEVELOPERS.md has the figures.
+ */
+const REPEATED_PEEL_COEFFICIENTS = 100;
+
+/**
  * When some components fit their rows to rounding level and others do not, the rows the exact
  * components explain are removed and the remaining components fitted afresh on the other rows
  * (K − e components): the remove-and-repeat step of moment descent applied to a partial EM
  * fit; K-lines is much easier with fewer lines. Returns combined coefficients as a start on
- * `ws`, or null when there is nothing to peel.
+ * `ws`, or null when there is nothing to peel, or when `peeledBefore` already holds these rows
+ * for a sub-problem of REPEATED_PEEL_COEFFICIENTS or more (rows of sub-problems that size are
+ * added to it).
  */
-export function peelExactComponents(ctx: FitContext, ws: MixtureWorkspace, fit: MixtureParameters, rowMap: Int32Array | null, anneal = false): MixtureParameters | null {
+export function peelExactComponents(ctx: FitContext, ws: MixtureWorkspace, fit: MixtureParameters, rowMap: Int32Array | null, { anneal = false, peeledBefore }: PeelSettings = {}): MixtureParameters | null {
   const threshold = exactTolerance(ws);
   const exact = exactComponentsOf(ws, fit);
   if (exact.length === 0 || exact.length === ws.k) return null;
@@ -56,6 +72,10 @@ export function peelExactComponents(ctx: FitContext, ws: MixtureWorkspace, fit: 
   const remaining = rowsNotFitExactly(ws, exact).map((i) => (rowMap ? rowMap[i] : i));
   const others = otherComponents(params, exact);
   if (remaining.length < others.length * ctx.guards.minimumSize) return null;
+  if (peeledBefore && others.length * ws.q >= REPEATED_PEEL_COEFFICIENTS) {
+    if (peeledBefore.some((rows) => sameRows(rows, remaining))) return null;
+    peeledBefore.push(remaining);
+  }
   // The components not exact yet are the sub-problem's first start: with the exact rows
   // removed they are often next to an exact fit of the rest. Below a peel or split of a noisy
   // fit a few rows of a component outside this fit may lie among these rows: a background
@@ -65,12 +85,21 @@ export function peelExactComponents(ctx: FitContext, ws: MixtureWorkspace, fit: 
 }
 
 /**
+ * How exact peeling runs: whether its sub-problem may try annealed landing, and the row sets
+ * a start screen has already handed to sub-problems (REPEATED_PEEL_COEFFICIENTS).
+ */
+export interface PeelSettings {
+  anneal?: boolean;
+  peeledBefore?: number[][];
+}
+
+/**
  * Exact peeling of `fit` (peelExactComponents) and the peeled fit refined on `ws` to
  * convergence by plain EM (runs after exact peeling stay plain: runEm.ts); null when nothing
  * is peeled. The caller keeps it only where its ln L is the higher.
  */
 export function peelAndRefine(ctx: FitContext, ws: MixtureWorkspace, fit: MixtureParameters, rowMap: Int32Array | null, anneal = false): { params: MixtureParameters; run: EmRun } | null {
-  const params = peelExactComponents(ctx, ws, fit, rowMap, anneal);
+  const params = peelExactComponents(ctx, ws, fit, rowMap, { anneal });
   return params && { params, run: runEm(ws, params, ctx, ctx.settings.maxIterations, null, { plain: true }) };
 }
 

@@ -99,6 +99,8 @@ interface ScreenState {
   exactSeen: boolean;
   /** Random partitions in a row, up to the last, that fitted no component exactly. */
   partitionsWithoutExact: number;
+  /** Row sets exact peeling has handed to large sub-problems in this screen (not handed again). */
+  peeled: number[][];
 }
 
 function noteExactComponents(ctx: FitContext, screen: ScreenState, candidate: Candidate): void {
@@ -118,7 +120,7 @@ function noteExactComponents(ctx: FitContext, screen: ScreenState, candidate: Ca
  */
 function confirmedLeader(ctx: FitContext, screen: ScreenState, leader: Candidate, rank: number): void {
   if (ctx.working.k >= COMPONENTS_WITHOUT_PARTITIONS && !screen.exactSeen) screen.exactSeen = exactComponentsOf(ctx.working, leader.params).length > 0;
-  if (rank === 0) Object.assign(leader, peelWhileGaining(ctx, leader, leader.params));
+  if (rank === 0) Object.assign(leader, peelWhileGaining(ctx, screen, leader, leader.params));
 }
 
 interface StartSource {
@@ -137,13 +139,13 @@ interface StartSource {
  */
 export function screenStarts(ctx: FitContext): ScreenedStarts {
   const candidates: Candidate[] = [];
-  const screen: ScreenState = { moment: null, exactSeen: false, partitionsWithoutExact: 0 };
+  const screen: ScreenState = { moment: null, exactSeen: false, partitionsWithoutExact: 0, peeled: [] };
   const cheapFirst = !ctx.inherited && ctx.working.k * ctx.working.q < CHEAP_FIRST_COEFFICIENTS;
   let foundTwice = false;
   for (const source of startSources(ctx, screen, cheapFirst)) {
     checkSignal(ctx.signal);
     const params = source.make();
-    const candidate = params ? screenStart(ctx, source.method, params, source.extraIterations) : null;
+    const candidate = params ? screenStart(ctx, screen, source.method, params, source.extraIterations) : null;
     if (!candidate) continue;
     candidates.push(candidate);
     if (isNoiseless(candidate.params, ctx.working)) break;
@@ -264,7 +266,7 @@ function* startSources(ctx: FitContext, screen: ScreenState, cheapFirst: boolean
  * noiseless data), repeated while the refinement after a peel fits more components exactly.
  * Null when the run fails.
  */
-function screenStart(ctx: FitContext, method: string, start: MixtureParameters, extraIterations: number): Candidate | null {
+function screenStart(ctx: FitContext, screen: ScreenState, method: string, start: MixtureParameters, extraIterations: number): Candidate | null {
   const ws = ctx.working;
   const watch = watchSmallestVariance(start);
   const brief = briefIterations(ctx, method);
@@ -274,7 +276,7 @@ function screenStart(ctx: FitContext, method: string, start: MixtureParameters, 
   if (!Number.isFinite(run.logLikelihood)) return null;
   const candidate: Candidate = { method, params, logLikelihood: run.logLikelihood };
   if (isNoiseless(params, ws)) return candidate;
-  return peelWhileGaining(ctx, candidate, peelFrom);
+  return peelWhileGaining(ctx, screen, candidate, peelFrom);
 }
 
 /** What a start's method gains once its exact components were peeled. */
@@ -283,13 +285,14 @@ const EXACT_PEELING = "+exact-peeling";
 /**
  * Exact peeling of `candidate` (from `from`, its parameters or a snapped copy), repeated while
  * the run after a peel fits more components exactly; the candidate itself when nothing is
- * peeled or the peeled fit is no better.
+ * peeled or the peeled fit is no better. Rows an earlier start's peel handed to a large
+ * sub-problem are not handed again (REPEATED_PEEL_COEFFICIENTS, restructuringMoves.ts).
  */
-function peelWhileGaining(ctx: FitContext, candidate: Candidate, from: MixtureParameters): Candidate {
+function peelWhileGaining(ctx: FitContext, screen: ScreenState, candidate: Candidate, from: MixtureParameters): Candidate {
   const ws = ctx.working;
   const method = candidate.method;
   for (let round = 0; round < ws.k; round++) {
-    const peeled = peelExactComponents(ctx, ws, from, ctx.subsampleRows);
+    const peeled = peelExactComponents(ctx, ws, from, ctx.subsampleRows, { peeledBefore: screen.peeled });
     if (!peeled) break;
     // Another round only when this run stopped on a gain: in a sub-problem that expects exact
     // rows it may also stop at a plateau (FitContext.runStop), and peeling again would then
