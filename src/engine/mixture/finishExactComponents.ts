@@ -36,7 +36,7 @@ export function finishExactComponents(ctx: FitContext, incumbent: Incumbent, mem
   let logLikelihood = run.logLikelihood;
   let peeled = 0;
   for (let round = 0; round < MAX_PEELING_ROUNDS; round++) {
-    const peeledFit = peelAndRefine(ctx, full, params, null, annealPeels);
+    const peeledFit = peelAndRefine(ctx, full, params, null, { anneal: annealPeels });
     if (!peeledFit) break;
     membershipsCurrent = false;
     const peeledRun = peeledFit.run;

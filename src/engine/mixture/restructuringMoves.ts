@@ -98,8 +98,8 @@ export interface PeelSettings {
  * convergence by plain EM (runs after exact peeling stay plain: runEm.ts); null when nothing
  * is peeled. The caller keeps it only where its ln L is the higher.
  */
-export function peelAndRefine(ctx: FitContext, ws: MixtureWorkspace, fit: MixtureParameters, rowMap: Int32Array | null, anneal = false): { params: MixtureParameters; run: EmRun } | null {
-  const params = peelExactComponents(ctx, ws, fit, rowMap, { anneal });
+export function peelAndRefine(ctx: FitContext, ws: MixtureWorkspace, fit: MixtureParameters, rowMap: Int32Array | null, settings: PeelSettings = {}): { params: MixtureParameters; run: EmRun } | null {
+  const params = peelExactComponents(ctx, ws, fit, rowMap, settings);
   return params && { params, run: runEm(ws, params, ctx, ctx.settings.maxIterations, null, { plain: true }) };
 }
 
