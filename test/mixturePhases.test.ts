@@ -17,6 +17,7 @@ import { peelComponent, peelExactComponents } from "../src/engine/mixture/restru
 import { enoughRows, exactComponentsOf, exactTolerance, isNoiseless, PEEL_SNAP_ROUNDS, runWhileFalling, snapComponents, stopOnExactGain, stopOnExactPlateau, thinRows, watchSmallestVariance } from "../src/engine/mixture/exactComponents";
 import type { FitContext } from "../src/engine/mixture/fitContext";
 import { runEm } from "../src/engine/mixture/runEm";
+import { briefIterations, startSources, type ScreenState } from "../src/engine/mixture/screenStarts";
 import { parametersFromCoefficients } from "../src/engine/mixture/starts";
 import { createGuards } from "../src/engine/mixture/mixtureSettings";
 import type { RegressionData } from "../src/engine/mixtureTypes";
@@ -501,6 +502,38 @@ describe("a run in a sub-problem that expects exact rows", () => {
     expect(stopOnExactPlateau(ws, params, 15)).toBeNull();
     expect(stopOnExactPlateau(ws, params, 60)).toBeNull();
     expect(stopOnExactPlateau(ws, params, 61)).not.toBeNull();
+  });
+});
+
+describe("the start screen's order and brief runs", () => {
+  /**
+   * The starts a screen would try, as "method:iterations of its brief run", read off the plan
+   * without making any (k components, p predictors and an intercept: K·q = k·(p + 1)).
+   */
+  function plannedStarts(k: number, p: number, expectExact: boolean): string[] {
+    const random = createRandom(5);
+    const n = 3 * k;
+    const data: RegressionData = { x: Float64Array.from({ length: n * p }, () => random.normal()), y: Float64Array.from({ length: n }, () => random.normal()), n, p };
+    const ws = createWorkspace(data, k, true, false);
+    const ctx = {
+      working: ws, guards: createGuards(ws.q, 1), random, expectExact,
+      settings: { k, intercept: true, restarts: 10 },
+      inherited: expectExact ? new Float64Array(k * ws.q) : undefined,
+    } as unknown as FitContext;
+    const screen: ScreenState = { moment: null, exactSeen: false, partitionsWithoutExact: 0, peeled: [] };
+    return Array.from(startSources(ctx, screen, false), (source) => `${source.method}:${briefIterations(ctx, source)}`);
+  }
+  const partitions = (count: number, iterations: number) => Array.from({ length: count }, () => `random-partition:${iterations}`);
+
+  it("gives the first three random partitions 60 iterations in a fit of 500 coefficients or more, 15 below", () => {
+    // K·q = 5 · 101 = 505 and 5 · 51 = 255.
+    expect(plannedStarts(5, 100, false)).toEqual(["moment-subspace:15", "residual-seeding:15", "location-seeding:15", ...partitions(3, 60), ...partitions(7, 15)]);
+    expect(plannedStarts(5, 50, false)).toEqual(["moment-subspace:15", "residual-seeding:15", "location-seeding:15", ...partitions(10, 15)]);
+  });
+
+  it("tries three random partitions before the moment start in a large sub-problem of rows expected to be exact, not in a smaller one", () => {
+    expect(plannedStarts(5, 100, true)).toEqual(["inherited:15", ...partitions(3, 60), "moment-subspace:60", "residual-seeding:60", "location-seeding:60", ...partitions(7, 60)]);
+    expect(plannedStarts(5, 50, true)).toEqual(["inherited:15", "moment-subspace:60", "residual-seeding:60", "location-seeding:60", ...partitions(10, 60)]);
   });
 });
 

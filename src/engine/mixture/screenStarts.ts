@@ -34,9 +34,34 @@ const LANDING_ITERATIONS = 60;
  * nothing at each of three levels (2.8, 1.4 and 0.4 s); over nine d = 100 problems 0.93 of
  * the time, the bench's two 0.77, the same fits (DEVELOPERS.md).
  */
-function briefIterations(ctx: FitContext, method: string): number {
-  return ctx.expectExact && method !== INHERITED ? LANDING_ITERATIONS : SHORT_ITERATIONS;
+export function briefIterations(ctx: FitContext, source: StartSource): number {
+  return source.landing || (ctx.expectExact && source.method !== INHERITED) ? LANDING_ITERATIONS : SHORT_ITERATIONS;
 }
+/**
+ * Fits of LANDING_PARTITION_COEFFICIENTS coefficients or more (K·q) lean on random partitions
+ * for exact fits. The first LANDING_PARTITIONS random partitions of a screen get
+ * LANDING_ITERATIONS too. On noiseless
+ * d = 100, K = 10 problems with one design for every component, a random partition's smallest
+ * variance falls steadily, by 0.67-0.8 every 5 iterations, never FALL_RATIO
+ * (exactComponents.ts), so none was run on past 15; given 60, the first, second or third
+ * partition fitted components exactly on each of five problems, where 15-iteration runs had
+ * landed on one of six. At d = 50, K = 7 (357 coefficients) partitions that land are falling
+ * fast by iteration 15, and runWhileFalling already continues them. The cost on noisy data of
+ * that size: three partitions at four times the iterations (DEVELOPERS.md has the figures).
+ */
+const LANDING_PARTITION_COEFFICIENTS = 500;
+const LANDING_PARTITIONS = 3;
+/**
+ * In a sub-problem of rows expected to be exact with COMPONENTS_WITHOUT_PARTITIONS components
+ * or more and LANDING_PARTITION_COEFFICIENTS coefficients or more, the first PARTITIONS_FIRST
+ * random partitions come right after the parent's estimate, before the moment warm start and
+ * the seeded starts. There a random partition's 60 iterations are what usually fits the next
+ * components exactly; in the d = 100, K = 10 sub-problems above the moment start (2-4 s) and
+ * the seeded starts (1-3 s) before it fitted nothing (traced). In the smaller sub-problems of
+ * d = 50, K = 7 fits the moment start is often what lands: partitions first there made the
+ * same-design fits at 6 rows per predictor per component 1.7 times as long (DEVELOPERS.md).
+ */
+const PARTITIONS_FIRST = 3;
 /** The method name of a parent's estimate as a start. */
 const INHERITED = "inherited";
 /**
@@ -93,7 +118,7 @@ export interface ScreenedStarts {
 }
 
 /** What the start sources read of the screen so far (exact components counted only for COMPONENTS_WITHOUT_PARTITIONS or more). */
-interface ScreenState {
+export interface ScreenState {
   moment: MomentWarmStart | null;
   /** Some screened start fitted a component exactly. */
   exactSeen: boolean;
@@ -123,11 +148,13 @@ function confirmedLeader(ctx: FitContext, screen: ScreenState, leader: Candidate
   if (rank === 0) Object.assign(leader, peelWhileGaining(ctx, screen, leader, leader.params));
 }
 
-interface StartSource {
+export interface StartSource {
   method: string;
   make: () => MixtureParameters | null;
-  /** EM iterations beyond the short run a start heading for an exact fit may take. */
+  /** EM iterations beyond the brief run a start heading for an exact fit may take. */
   extraIterations: number;
+  /** A brief run of LANDING_ITERATIONS whatever the sub-problem (briefIterations). */
+  landing?: boolean;
 }
 
 /**
@@ -145,7 +172,7 @@ export function screenStarts(ctx: FitContext): ScreenedStarts {
   for (const source of startSources(ctx, screen, cheapFirst)) {
     checkSignal(ctx.signal);
     const params = source.make();
-    const candidate = params ? screenStart(ctx, screen, source.method, params, source.extraIterations) : null;
+    const candidate = params ? screenStart(ctx, screen, source, params) : null;
     if (!candidate) continue;
     candidates.push(candidate);
     if (isNoiseless(candidate.params, ctx.working)) break;
@@ -222,9 +249,11 @@ function confirmLeaders(ctx: FitContext, candidates: Candidate[], count: number,
  * The starts in the order tried, each made only when reached (making one draws from the
  * generator): a parent's estimate, a previous fit, then the moment warm start, residual and
  * location seeding and random partitions; on small fits (`cheapFirst`) the two seeded starts
- * and one random partition before the moment start.
+ * and one random partition before the moment start; in a sub-problem of rows expected to be
+ * exact with many components and coefficients, the first random partitions before the moment
+ * start (PARTITIONS_FIRST).
  */
-function* startSources(ctx: FitContext, screen: ScreenState, cheapFirst: boolean): Generator<StartSource> {
+export function* startSources(ctx: FitContext, screen: ScreenState, cheapFirst: boolean): Generator<StartSource> {
   const { working: ws, guards, random, settings, inherited, previous } = ctx;
   if (inherited && inherited.length === ws.k * ws.q) {
     yield { method: INHERITED, make: () => parametersFromCoefficients(ws, inherited, guards), extraIterations: LANDING_ITERATIONS - SHORT_ITERATIONS };
@@ -241,23 +270,30 @@ function* startSources(ctx: FitContext, screen: ScreenState, cheapFirst: boolean
     return parametersFromCoefficients(ws, coefficients, guards);
   };
   const momentSource: StartSource = { method: "moment-subspace", make: momentStart, extraIterations: LANDING_ITERATIONS - SHORT_ITERATIONS };
-  const partition: StartSource = { method: "random-partition", make: () => parametersFromLabels(ws, randomPartitionLabels(ws.n, ws.k, random), guards, random), extraIterations: 0 };
   // Random partitions stop early in fits of many components (see COMPONENTS_WITHOUT_PARTITIONS).
   const partitionsPointless = (): boolean =>
     ws.k >= COMPONENTS_WITHOUT_PARTITIONS &&
     (inherited ? !ctx.expectExact || screen.exactSeen : screen.exactSeen && screen.partitionsWithoutExact >= PARTITIONS_WITHOUT_EXACT);
-  let partitions = settings.restarts;
+  let partitionsLeft = settings.restarts;
+  const large = ws.k * ws.q >= LANDING_PARTITION_COEFFICIENTS;
+  const landingPartitions = large ? LANDING_PARTITIONS : 0;
+  // Up to `count` more random partitions, while partitions are left and may still help.
+  function* partitions(count: number): Generator<StartSource> {
+    for (let made = 0; made < count && partitionsLeft > 0 && !partitionsPointless(); made++) {
+      const landing = settings.restarts - partitionsLeft < landingPartitions;
+      partitionsLeft--;
+      yield { method: "random-partition", make: () => parametersFromLabels(ws, randomPartitionLabels(ws.n, ws.k, random), guards, random), extraIterations: 0, landing };
+    }
+  }
+  if (large && ctx.expectExact && ws.k >= COMPONENTS_WITHOUT_PARTITIONS) yield* partitions(PARTITIONS_FIRST);
   if (!cheapFirst) yield momentSource;
   yield { method: "residual-seeding", make: () => parametersFromLabels(ws, residualSeedingLabels(ws, random), guards, random), extraIterations: 0 };
   yield { method: "location-seeding", make: () => parametersFromLabels(ws, locationSeedingLabels(ws, random), guards, random), extraIterations: 0 };
   if (cheapFirst) {
-    if (partitions > 0 && !partitionsPointless()) {
-      partitions--;
-      yield partition;
-    }
+    yield* partitions(1);
     yield momentSource;
   }
-  for (; partitions > 0 && !partitionsPointless(); partitions--) yield partition;
+  yield* partitions(Infinity);
 }
 
 /**
@@ -266,10 +302,11 @@ function* startSources(ctx: FitContext, screen: ScreenState, cheapFirst: boolean
  * noiseless data), repeated while the refinement after a peel fits more components exactly.
  * Null when the run fails.
  */
-function screenStart(ctx: FitContext, screen: ScreenState, method: string, start: MixtureParameters, extraIterations: number): Candidate | null {
+function screenStart(ctx: FitContext, screen: ScreenState, source: StartSource, start: MixtureParameters): Candidate | null {
   const ws = ctx.working;
+  const { method, extraIterations } = source;
   const watch = watchSmallestVariance(start);
-  const brief = briefIterations(ctx, method);
+  const brief = briefIterations(ctx, source);
   const shortRun = runEm(ws, start, ctx, brief, null, { stop: watch.stop });
   const falling = { watch, iterations: LANDING_ITERATIONS - brief };
   const { params, run, peelFrom } = landOnExactFit(ctx, start, shortRun, extraIterations, falling);
