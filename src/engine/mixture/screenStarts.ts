@@ -39,15 +39,15 @@ export function briefIterations(ctx: FitContext, source: StartSource): number {
 }
 /**
  * Fits of LANDING_PARTITION_COEFFICIENTS coefficients or more (K·q) lean on random partitions
- * for exact fits. The first LANDING_PARTITIONS random partitions of a screen get
- * LANDING_ITERATIONS too. On noiseless
- * d = 100, K = 10 problems with one design for every component, a random partition's smallest
- * variance falls steadily, by 0.67-0.8 every 5 iterations, never FALL_RATIO
- * (exactComponents.ts), so none was run on past 15; given 60, the first, second or third
- * partition fitted components exactly on each of five problems, where 15-iteration runs had
- * landed on one of six. At d = 50, K = 7 (357 coefficients) partitions that land are falling
- * fast by iteration 15, and runWhileFalling already continues them. The cost on noisy data of
- * that size: three partitions at four times the iterations (DEVELOPERS.md has the figures).
+ * for exact fits, and the first LANDING_PARTITIONS random partitions of a screen get
+ * LANDING_ITERATIONS too. On noiseless d = 100, K = 10 problems with one design for every
+ * component, a random partition's smallest variance falls steadily, by 0.67-0.8 of itself
+ * every 5 iterations, never by FALL_RATIO (exactComponents.ts), so none was run on past 15;
+ * given 60, the first, second or third partition fitted components exactly on each of the
+ * five problems the moment start did not land, where 15-iteration runs had landed two of six.
+ * At d = 50, K = 7 (357 coefficients) partitions that land are falling fast by iteration 15,
+ * and runWhileFalling already continues them. The cost on noisy data of that size: three
+ * partitions at four times the iterations (DEVELOPERS.md has the figures).
  */
 const LANDING_PARTITION_COEFFICIENTS = 500;
 const LANDING_PARTITIONS = 3;
@@ -275,8 +275,8 @@ export function* startSources(ctx: FitContext, screen: ScreenState, cheapFirst: 
     ws.k >= COMPONENTS_WITHOUT_PARTITIONS &&
     (inherited ? !ctx.expectExact || screen.exactSeen : screen.exactSeen && screen.partitionsWithoutExact >= PARTITIONS_WITHOUT_EXACT);
   let partitionsLeft = settings.restarts;
-  const large = ws.k * ws.q >= LANDING_PARTITION_COEFFICIENTS;
-  const landingPartitions = large ? LANDING_PARTITIONS : 0;
+  const largeFit = ws.k * ws.q >= LANDING_PARTITION_COEFFICIENTS;
+  const landingPartitions = largeFit ? LANDING_PARTITIONS : 0;
   // Up to `count` more random partitions, while partitions are left and may still help.
   function* partitions(count: number): Generator<StartSource> {
     for (let made = 0; made < count && partitionsLeft > 0 && !partitionsPointless(); made++) {
@@ -285,7 +285,7 @@ export function* startSources(ctx: FitContext, screen: ScreenState, cheapFirst: 
       yield { method: "random-partition", make: () => parametersFromLabels(ws, randomPartitionLabels(ws.n, ws.k, random), guards, random), extraIterations: 0, landing };
     }
   }
-  if (large && ctx.expectExact && ws.k >= COMPONENTS_WITHOUT_PARTITIONS) yield* partitions(PARTITIONS_FIRST);
+  if (largeFit && ctx.expectExact && ws.k >= COMPONENTS_WITHOUT_PARTITIONS) yield* partitions(PARTITIONS_FIRST);
   if (!cheapFirst) yield momentSource;
   yield { method: "residual-seeding", make: () => parametersFromLabels(ws, residualSeedingLabels(ws, random), guards, random), extraIterations: 0 };
   yield { method: "location-seeding", make: () => parametersFromLabels(ws, locationSeedingLabels(ws, random), guards, random), extraIterations: 0 };
