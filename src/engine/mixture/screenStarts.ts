@@ -51,17 +51,6 @@ export function briefIterations(ctx: FitContext, source: StartSource): number {
  */
 const LANDING_PARTITION_COEFFICIENTS = 500;
 const LANDING_PARTITIONS = 3;
-/**
- * In a sub-problem of rows expected to be exact with COMPONENTS_WITHOUT_PARTITIONS components
- * or more and LANDING_PARTITION_COEFFICIENTS coefficients or more, the first PARTITIONS_FIRST
- * random partitions come right after the parent's estimate, before the moment warm start and
- * the seeded starts. There a random partition's 60 iterations are what usually fits the next
- * components exactly; in the d = 100, K = 10 sub-problems above the moment start (2-4 s) and
- * the seeded starts (1-3 s) before it fitted nothing (traced). In the smaller sub-problems of
- * d = 50, K = 7 fits the moment start is often what lands: partitions first there made the
- * same-design fits at 6 rows per predictor per component 1.7 times as long (DEVELOPERS.md).
- */
-const PARTITIONS_FIRST = 3;
 /** The method name of a parent's estimate as a start. */
 const INHERITED = "inherited";
 /**
@@ -250,8 +239,7 @@ function confirmLeaders(ctx: FitContext, candidates: Candidate[], count: number,
  * generator): a parent's estimate, a previous fit, then the moment warm start, residual and
  * location seeding and random partitions; on small fits (`cheapFirst`) the two seeded starts
  * and one random partition before the moment start; in a sub-problem of rows expected to be
- * exact with many components and coefficients, the first random partitions before the moment
- * start (PARTITIONS_FIRST).
+ * exact with many components and coefficients, the random partitions before the moment start.
  */
 export function* startSources(ctx: FitContext, screen: ScreenState, cheapFirst: boolean): Generator<StartSource> {
   const { working: ws, guards, random, settings, inherited, previous } = ctx;
@@ -285,7 +273,15 @@ export function* startSources(ctx: FitContext, screen: ScreenState, cheapFirst: 
       yield { method: "random-partition", make: () => parametersFromLabels(ws, randomPartitionLabels(ws.n, ws.k, random), guards, random), extraIterations: 0, landing };
     }
   }
-  if (largeFit && ctx.expectExact && ws.k >= COMPONENTS_WITHOUT_PARTITIONS) yield* partitions(PARTITIONS_FIRST);
+  // In a sub-problem of rows expected to be exact with COMPONENTS_WITHOUT_PARTITIONS components
+  // or more and LANDING_PARTITION_COEFFICIENTS coefficients or more, the random partitions come
+  // right after the parent's estimate, before the moment warm start and the seeded starts:
+  // there a random partition's 60 iterations are what fits the next components exactly, and in
+  // the same-design d = 100, K = 10 sub-problems the moment start (2-4 s) and the seeded starts
+  // (1-3 s) fitted nothing (traced). In the smaller sub-problems of d = 50, K = 7 fits the
+  // moment start often lands: three partitions first there made the same-design fits at 6 rows
+  // per predictor per component 1.7 times as long (DEVELOPERS.md).
+  if (largeFit && ctx.expectExact && ws.k >= COMPONENTS_WITHOUT_PARTITIONS) yield* partitions(Infinity);
   if (!cheapFirst) yield momentSource;
   yield { method: "residual-seeding", make: () => parametersFromLabels(ws, residualSeedingLabels(ws, random), guards, random), extraIterations: 0 };
   yield { method: "location-seeding", make: () => parametersFromLabels(ws, locationSeedingLabels(ws, random), guards, random), extraIterations: 0 };
