@@ -1,10 +1,10 @@
 import type { FitContext } from "./fitContext";
 import type { MixtureParameters } from "./mixtureParameters";
 import { createParameters } from "./mixtureParameters";
-import type { MixtureWorkspace } from "./mixtureWorkspace";
+import { createWorkspace, type MixtureWorkspace } from "./mixtureWorkspace";
 import { computeResiduals, eStep } from "./eStep";
 import { mStepCoefficients } from "./mStep";
-import { parametersFromCoefficients, randomPartitionLabels, setHardMemberships } from "./starts";
+import { parametersFromCoefficients } from "./starts";
 import { enoughRows, exactComponentsOf, exactTolerance, isNoiseless, thinRows } from "./exactComponents";
 import { adopt, type Incumbent } from "./refineBest";
 import { peelExactComponents } from "./restructuringMoves";
@@ -49,16 +49,17 @@ export const EARLY_TRIES = 2;
  * A fit exact nowhere is tried by annealed landing when its rows are few and may lie exactly
  * on their regressions. Few: thin rows (thinRows, exactComponents.ts: at most 8 per
  * coefficient per component, where the starts miss noiseless problems), and one annealing
- * within ANNEALING_MULTIPLY_ADDS (about 0.4 s here at d = 50, K = 7 with 2,100 rows; d = 100
- * with K = 4 at 8 rows is over). May lie exactly: a parent fitted other
+ * within ANNEALING_MULTIPLY_ADDS (about 1.1-1.3 s here at d = 50, K = 7 with 1,400-2,100 rows;
+ * d = 100 with K = 4 at 8 rows is over). May lie exactly: a parent fitted other
  * rows of the same data exactly, or some component's noise SD is at most NEAR_EXACT_SD times
  * SD(y), as where an EM component shrank onto a few rows of a noiseless problem (0.1-5% on
  * noiseless d = 50, K = 7 problems at 4-6 rows). Noisy sheets this thin often have such a
  * component too (an overfitted one); on sixteen of them (d = 10-50, K = 5-7, 3-5 rows) the
- * tries took the fits 1.6 times as long, to the same fits (DEVELOPERS.md). Only the plain
+ * tries took the fits 1.6 times as long, to the same fits, when they were first added; the
+ * budget below holds them there (DEVELOPERS.md). Only the plain
  * model without a background, on rows no noisy fit chose.
  */
-const ANNEALING_MULTIPLY_ADDS = 3e9;
+const ANNEALING_MULTIPLY_ADDS = 1.2e10;
 const NEAR_EXACT_SD = 0.05;
 
 function mayLieExactly(ctx: FitContext, params: MixtureParameters): boolean {
@@ -79,58 +80,68 @@ function mayLieExactly(ctx: FitContext, params: MixtureParameters): boolean {
  * components 50-140% from every true one, spread onto rows of several).
  *
  * 1. Deterministic annealing EM (Ueda & Nakano 1998, "Deterministic annealing EM algorithm",
- *    Neural Networks 11): from a random partition, EM with every component's variance held at
- *    T², T lowered geometrically from ANNEAL_HIGH to ANNEAL_LOW times SD(y) over
- *    ANNEAL_LEVELS levels of ANNEAL_ITERATIONS iterations. At a high T every row is shared
- *    among all components and they move together; as T falls they part gradually, instead of
- *    each settling on the first rows it happens to fit. Traced on noiseless d = 50, K = 7
- *    problems at 5 rows with the same design in every component: two or three of the seven
- *    end 5-15% from a true component, where every EM start of the fit ends 50% or more from
- *    every one (DEVELOPERS.md).
- * 2. Each component landed by reweighted least squares (below): from 5-15% it reaches the
- *    true component's exact fit.
+ *    Neural Networks 11) of ANNEALED_PER_COMPONENT·K components: from random memberships,
+ *    EM with every component's variance held at T², T lowered geometrically from ANNEAL_HIGH
+ *    to ANNEAL_LOW times SD(y) over ANNEAL_LEVELS levels of ANNEAL_ITERATIONS iterations. At
+ *    a high T every row is shared among all components and they move together; as T falls
+ *    they part gradually, instead of each settling on the first rows it happens to fit.
+ * 2. Each annealed component, the heaviest first, landed by reweighted least squares (below):
+ *    from 5-20% it reaches the true component's exact fit.
  *
- * Up to `tries` partitions, as long as the budget has tries left (each one spends one), until
- * one lands a component. Returns the annealed fit's parameters with the landed components'
- * exact coefficients, or null.
+ * Up to `tries` annealings, as long as the budget has tries left (each one spends one), until
+ * one lands a component. Returns K components: the landed ones' exact coefficients and, in the
+ * other places, the heaviest annealed components that did not land; or null.
  */
 function annealedLanding(ctx: FitContext, budget: { triesLeft: number }, tries: number): MixtureParameters | null {
   const ws = ctx.full;
   const { q, k } = ws;
   const landing = new ReweightedLanding(ws.design, ws.n, q, ws.y, exactTolerance(ws));
+  const annealing = createWorkspace(ctx.data, annealedComponents(k), ws.intercept, false);
   for (let attempt = 0; attempt < tries && budget.triesLeft > 0; attempt++) {
     budget.triesLeft--;
-    const params = annealedFit(ctx, ws);
-    if (!params) continue;
-    const coefficients = params.coefficients.slice(0, k * q);
+    const annealed = annealedFit(ctx, annealing);
     const landed: Float64Array[] = [];
-    for (let c = 0; c < k; c++) {
-      const exact = landing.land(params.coefficients.subarray(c * q, c * q + q));
+    const from: number[] = [];
+    for (const c of byWeight(annealed)) {
+      if (landed.length === k) break;
+      const exact = landing.land(annealed.coefficients.subarray(c * q, c * q + q));
       // Two annealed components may land on the same regression: it is kept once.
       if (!exact || landed.some((other) => sameCoefficients(other, exact))) continue;
       landed.push(exact);
-      coefficients.set(exact, c * q);
+      from.push(c);
     }
-    if (landed.length > 0) return parametersFromCoefficients(ws, coefficients, ctx.guards);
+    if (landed.length === 0) continue;
+    // The components that did not land fill the other places, the heaviest first.
+    const rest = byWeight(annealed).filter((c) => !from.includes(c)).slice(0, k - landed.length);
+    const places = [...landed, ...rest.map((c) => annealed.coefficients.subarray(c * q, (c + 1) * q))];
+    const coefficients = new Float64Array(k * q);
+    places.forEach((values, c) => coefficients.set(values, c * q));
+    return parametersFromCoefficients(ws, coefficients, ctx.guards);
   }
   return null;
 }
 
+/** Component indices of `params`, heaviest first. */
+function byWeight(params: MixtureParameters): number[] {
+  return Array.from({ length: params.k }, (_, c) => c).sort((a, b) => params.weights[b] - params.weights[a]);
+}
+
 /**
- * Partitions annealed before giving up. Traced on sixteen noiseless d = 50, K = 7 problems
- * at 4-6 rows, the eight that landed did so at try 1, 1, 1, 2, 2, 5, 5 and 8, and two
- * d = 20, K = 7 problems at 4 rows only after the fifth (DEVELOPERS.md). On the user's rows,
- * which may be noisy (every try then spent in vain), the tries also stop at
- * UNSURE_MULTIPLY_ADDS of annealing in all (annealingMultiplyAdds): six on a d = 50, K = 7
- * sheet of 1,750 rows (about 2 s here), all eight on smaller ones. Rows a parent fitted
- * exactly in part get all eight.
+ * Annealings before giving up. Rows a parent fitted exactly in part get EXACT_ROWS_TRIES. On
+ * the user's rows, which may be noisy (every try then spent in vain), at most UNSURE_TRIES,
+ * and they also stop at UNSURE_MULTIPLY_ADDS of annealing in all (annealingMultiplyAdds): two
+ * on a d = 50, K = 7 sheet of 1,400 rows, one at 1,750 or more. With four components per one
+ * sought a try lands far more often than the eight tries of K components did; eight tries,
+ * on all rows and in sub-problems, recovered no more of the bench's few-row problems and
+ * took the sixteen thin noisy sheets above 2.2 times as long (DEVELOPERS.md).
  */
-const ANNEAL_TRIES = 8;
+const EXACT_ROWS_TRIES = 4;
+const UNSURE_TRIES = 3;
 const UNSURE_MULTIPLY_ADDS = 1.2e10;
 
-/** The partitions a (sub-)problem may anneal in all (both calls of landByAnnealing). */
+/** The annealings a (sub-)problem may try in all (both calls of landByAnnealing). */
 export function annealingTries(ws: MixtureWorkspace, expectExact: boolean): number {
-  return expectExact ? ANNEAL_TRIES : Math.max(1, Math.min(ANNEAL_TRIES, Math.floor(UNSURE_MULTIPLY_ADDS / annealingMultiplyAdds(ws))));
+  return expectExact ? EXACT_ROWS_TRIES : Math.max(1, Math.min(UNSURE_TRIES, Math.floor(UNSURE_MULTIPLY_ADDS / annealingMultiplyAdds(ws))));
 }
 /** The temperature's range, times SD(y), and its levels: fewer levels or iterations, or a start below SD(y), landed far fewer components (DEVELOPERS.md). */
 const ANNEAL_HIGH = 1.5;
@@ -138,18 +149,43 @@ const ANNEAL_LOW = 0.1;
 const ANNEAL_LEVELS = 40;
 const ANNEAL_ITERATIONS = 3;
 
-/** The Gram sums of one annealing (its M-steps: each component's XᵀWX over every row), in multiply-adds. */
+/** The Gram sums of one annealing (its M-steps: each annealed component's XᵀWX over every row), in multiply-adds. */
 export function annealingMultiplyAdds(ws: MixtureWorkspace): number {
-  return ANNEAL_LEVELS * ANNEAL_ITERATIONS * ws.n * ws.k * ((ws.q * (ws.q + 1)) / 2);
+  return ANNEAL_LEVELS * ANNEAL_ITERATIONS * ws.n * annealedComponents(ws.k) * ((ws.q * (ws.q + 1)) / 2);
 }
 
-/** One annealing from a random partition drawn from the trial generator (null when a component of the partition is too small to fit). */
-function annealedFit(ctx: FitContext, ws: MixtureWorkspace): MixtureParameters | null {
-  const { k } = ws;
-  const params = createParameters(k, ws.q, ws.p, ws.joint);
-  setHardMemberships(ws, randomPartitionLabels(ws.n, k, ctx.trialRandom));
-  if (mStepCoefficients(ws, params, ctx.guards).collapsed.length > 0) return null;
-  params.weights.fill(1 / k);
+/**
+ * Components annealed for each one sought. More components than K come near a true one far
+ * more often: on a noiseless same-design d = 50, K = 7 problem at 4 rows per predictor per
+ * component (NumPy, twelve annealings each), 11 of 12 annealings of 28 components ended with
+ * one within 20% of a true component, where reweighted least squares lands it, against 2 of 12
+ * with 7 components, 5 with 14 and 9 with 21; 28 components over half the levels, 6 of 12.
+ * With K components every one ends spread over the rows of two or three true ones; the extra
+ * components give those rows somewhere else to go (DEVELOPERS.md).
+ */
+export const ANNEALED_PER_COMPONENT = 4;
+
+/** Components of one annealing for K sought. */
+export function annealedComponents(k: number): number {
+  return ANNEALED_PER_COMPONENT * k;
+}
+
+/**
+ * One annealing of `annealing.k` components from random soft memberships (drawn from the trial
+ * generator; with four components per one sought a random partition would give each fewer
+ * rows than coefficients). A component's Gram matrix then has every row's weight, so no size
+ * guard applies; one that cannot be solved keeps its coefficients.
+ */
+function annealedFit(ctx: FitContext, ws: MixtureWorkspace): MixtureParameters {
+  const { n, k } = ws;
+  const params = createParameters(k, ws.q, ws.p, false);
+  const guards = { ...ctx.guards, minimumSize: 0 };
+  for (let i = 0; i < n; i++) {
+    let total = 0;
+    for (let c = 0; c < k; c++) total += ws.memberships[i * k + c] = -Math.log(1 - ctx.trialRandom.next());
+    for (let c = 0; c < k; c++) ws.memberships[i * k + c] /= total;
+  }
+  mStepCoefficients(ws, params, guards);
   const sd = Math.sqrt(ws.yVariance);
   for (let level = 0; level < ANNEAL_LEVELS; level++) {
     checkSignal(ctx.signal);
@@ -157,8 +193,7 @@ function annealedFit(ctx: FitContext, ws: MixtureWorkspace): MixtureParameters |
     params.variances.fill(temperature * temperature);
     for (let iteration = 0; iteration < ANNEAL_ITERATIONS; iteration++) {
       eStep(ws, params, true);
-      // A component that holds too few rows keeps its coefficients; its weight still follows.
-      mStepCoefficients(ws, params, ctx.guards);
+      mStepCoefficients(ws, params, guards);
     }
   }
   return params;
