@@ -127,15 +127,17 @@ function byWeight(params: MixtureParameters): number[] {
 }
 
 /**
- * Annealings before giving up. Rows a parent fitted exactly in part get EXACT_ROWS_TRIES. On
- * the user's rows, which may be noisy (every try then spent in vain), at most UNSURE_TRIES,
- * and they also stop at UNSURE_MULTIPLY_ADDS of annealing in all (annealingMultiplyAdds): two
- * on a d = 50, K = 7 sheet of 1,400 rows, one at 1,750 or more. With four components per one
- * sought a try lands far more often than the eight tries of K components did; eight tries,
- * on all rows and in sub-problems, recovered no more of the bench's few-row problems and
- * took the sixteen thin noisy sheets above 2.2 times as long (DEVELOPERS.md).
+ * Annealings before giving up. Rows a parent fitted exactly in part are noiseless there, and
+ * get EXACT_ROWS_TRIES: on one same-design d = 50, K = 7 problem at 4 rows the sub-problem of
+ * six components landed at its seventh (four: 3 of 6 such problems recovered, eight: 4 of 6;
+ * the bench's few-row fits the same and in about the same time). On the user's rows, which
+ * may be noisy (every try then spent in vain), at most UNSURE_TRIES, and they also stop at
+ * UNSURE_MULTIPLY_ADDS of annealing in all (annealingMultiplyAdds): two on a d = 50, K = 7
+ * sheet of 1,400 rows, one at 1,750 or more. Eight tries there took the sixteen thin noisy
+ * sheets above 2.2 times as long, to the same fits; twice this budget recovered none more of
+ * three same-design misses at 4 rows (DEVELOPERS.md).
  */
-const EXACT_ROWS_TRIES = 4;
+const EXACT_ROWS_TRIES = 8;
 const UNSURE_TRIES = 3;
 const UNSURE_MULTIPLY_ADDS = 1.2e10;
 
