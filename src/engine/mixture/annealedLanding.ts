@@ -173,7 +173,7 @@ export function annealedComponents(k: number): number {
 }
 
 /**
- * One annealing of `annealing.k` components from random soft memberships (drawn from the trial
+ * One annealing of `ws.k` components from random soft memberships (drawn from the trial
  * generator; with four components per one sought a random partition would give each fewer
  * rows than coefficients). A component's Gram matrix then has every row's weight, so no size
  * guard applies; one that cannot be solved keeps its coefficients.
