@@ -133,9 +133,9 @@ function byWeight(params: MixtureParameters): number[] {
  * the bench's few-row fits the same and in about the same time). On the user's rows, which
  * may be noisy (every try then spent in vain), at most UNSURE_TRIES, and they also stop at
  * UNSURE_MULTIPLY_ADDS of annealing in all (annealingMultiplyAdds): two on a d = 50, K = 7
- * sheet of 1,400 rows, one at 1,750 or more. Eight tries there took the sixteen thin noisy
- * sheets above 2.2 times as long, to the same fits; twice this budget recovered none more of
- * three same-design misses at 4 rows (DEVELOPERS.md).
+ * sheet of up to about 1,350 rows with an intercept, one on more. Eight tries there took the
+ * sixteen thin noisy sheets above 2.2 times as long, to the same fits; twice this budget
+ * recovered none more of three same-design misses at 4 rows (DEVELOPERS.md).
  */
 const EXACT_ROWS_TRIES = 8;
 const UNSURE_TRIES = 3;
