@@ -100,9 +100,10 @@ function annealedLanding(ctx: FitContext, budget: { triesLeft: number }, tries: 
   for (let attempt = 0; attempt < tries && budget.triesLeft > 0; attempt++) {
     budget.triesLeft--;
     const annealed = annealedFit(ctx, annealing);
+    const heaviestFirst = byWeight(annealed);
     const landed: Float64Array[] = [];
     const from: number[] = [];
-    for (const c of byWeight(annealed)) {
+    for (const c of heaviestFirst) {
       if (landed.length === k) break;
       const exact = landing.land(annealed.coefficients.subarray(c * q, c * q + q));
       // Two annealed components may land on the same regression: it is kept once.
@@ -112,7 +113,7 @@ function annealedLanding(ctx: FitContext, budget: { triesLeft: number }, tries: 
     }
     if (landed.length === 0) continue;
     // The components that did not land fill the other places, the heaviest first.
-    const rest = byWeight(annealed).filter((c) => !from.includes(c)).slice(0, k - landed.length);
+    const rest = heaviestFirst.filter((c) => !from.includes(c)).slice(0, k - landed.length);
     const places = [...landed, ...rest.map((c) => annealed.coefficients.subarray(c * q, (c + 1) * q))];
     const coefficients = new Float64Array(k * q);
     places.forEach((values, c) => coefficients.set(values, c * q));
