@@ -101,7 +101,7 @@ function fitAtDepth(data: RegressionData, options: MixtureOptions, depth: number
   const working = subsampleRows ? withBackground(createWorkspace(data, settings.k, settings.intercept, full.joint, subsampleRows), settings.background, full) : full;
   const ctx: FitContext = {
     data, settings, guards, random, full, working, subsampleRows, depth, inherited, expectExact, strays,
-    annealing: anneal ? { triesLeft: annealingTries(full, expectExact) } : null,
+    annealing: anneal ? { triesLeft: annealingTries(full, expectExact), designTried: false } : null,
     trialRandom: createRandom(settings.seed + TRIAL_SEED_OFFSET),
     // On rows expected to be exact, long runs end once their exact components stop changing.
     runStop: expectExact ? stopOnExactPlateau : null,

@@ -3,6 +3,7 @@ import type { Random } from "../random";
 import type { MixtureParameters } from "./mixtureParameters";
 import type { MixtureWorkspace } from "./mixtureWorkspace";
 import type { Guards } from "./mStep";
+import type { AnnealingBudget } from "./annealedLanding";
 
 /** The options of one fit after the entrance checks (mixtureSettings.ts). */
 export interface Settings {
@@ -68,7 +69,7 @@ export interface FitContext extends EmContext {
    * is not tried: it is tried in the user's fit and in the sub-problems of the finishing
    * phase's peels and of annealed landing's own.
    */
-  annealing: { triesLeft: number } | null;
+  annealing: AnnealingBudget | null;
   /**
    * Re-seeding in runs that may be given up (a start run on while falling toward an exact fit,
    * exactComponents.ts) draws from this second generator, made from the same seed, so a run
