@@ -1,7 +1,7 @@
 import { describe, expect, it } from "vitest";
 import { fitMixture } from "../src/engine/fitMixture";
 import { createRandom } from "../src/engine/random";
-import { designGroups } from "../src/engine/mixture/designClusters";
+import { designGroups, mardiaKurtosis, predictorsMayTell } from "../src/engine/mixture/designClusters";
 import { relativeCoefficientError } from "../src/synthetic/generateProblems";
 
 /**
@@ -62,6 +62,24 @@ describe("design clusters (an annealed Gaussian mixture on the predictors)", () 
     const samePurity = purity(designGroups(same.data.x, same.data.n, p, k, 11), same.labels, k);
     expect(ownPurity).toBeGreaterThan(0.9);
     expect(samePurity).toBeLessThan(0.6);
+  });
+
+  it("compute Mardia's kurtosis as the ordinary kurtosis for one predictor", () => {
+    // By hand: 1, 2, 3, 4, 5 have m2 = 2 and m4 = 6.8 about their mean, so b2 = 6.8 / 2² = 1.7.
+    expect(mardiaKurtosis(Float64Array.from([1, 2, 3, 4, 5]), 5, 1)).toBeCloseTo(1.7, 12);
+    // A constant predictor has no covariance to whiten by: counted as not one normal sample.
+    expect(mardiaKurtosis(Float64Array.from([3, 3, 3, 3]), 4, 1)).toBe(Infinity);
+  });
+
+  it("are tried only when the predictors do not look like one normal sample", () => {
+    // Mardia (1970): b2 of normal rows is about p(p + 2); a mixture of covariances raises it.
+    const p = 20;
+    const k = 4;
+    const own = mixtureOfDesigns(p, k, 4 * p, 3, true);
+    const same = mixtureOfDesigns(p, k, 4 * p, 3, false);
+    expect(predictorsMayTell(own.data.x, own.data.n, p)).toBe(true);
+    expect(predictorsMayTell(same.data.x, same.data.n, p)).toBe(false);
+    expect(Math.abs(mardiaKurtosis(same.data.x, same.data.n, p) - p * (p + 2)) / (p * (p + 2))).toBeLessThan(0.05);
   });
 
   it("let a fit of 4 rows per predictor per component land every component exactly", () => {

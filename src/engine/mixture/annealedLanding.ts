@@ -111,7 +111,8 @@ function annealedLanding(ctx: FitContext, budget: AnnealingBudget, tries: number
   const landing = new ReweightedLanding(ws.design, ws.n, q, ws.y, exactTolerance(ws));
   if (!budget.designTried) {
     budget.designTried = true;
-    const fromDesign = landStarts(ctx, landing, designClusterStarts(ctx));
+    const groups = designClusterStarts(ctx);
+    const fromDesign = groups && landStarts(ctx, landing, groups);
     if (fromDesign) return fromDesign;
   }
   const annealing = createWorkspace(ctx.data, annealedComponents(k), ws.intercept, false);

@@ -31,13 +31,57 @@ import { createRandom } from "../random";
  * about four rows per predictor to tell them apart (DEVELOPERS.md).
  *
  * Returns K starts, the largest group's first: each group's coefficients after its
- * concentration steps (exact when they landed).
+ * concentration steps (exact when they landed); or null when the predictors look like one
+ * normal sample (predictorsMayTell), which no grouping can split by component.
  */
-export function designClusterStarts(ctx: FitContext): Float64Array[] {
+export function designClusterStarts(ctx: FitContext): Float64Array[] | null {
   const { data, full } = ctx;
+  if (!predictorsMayTell(data.x, data.n, data.p)) return null;
   // A generator of its own, so the annealings after a try that did not land draw as they would without it.
   const groups = designGroups(data.x, data.n, data.p, full.k, ctx.settings.seed + DESIGN_SEED_OFFSET, ctx.signal);
   return concentrateGroups(full, groups, exactTolerance(full));
+}
+
+/**
+ * Whether the predictors may differ in distribution between components: false when they look
+ * like one normal sample, by Mardia's multivariate kurtosis (Mardia 1970, "Measures of
+ * multivariate skewness and kurtosis with applications", Biometrika 57): b₂, the mean of
+ * ((x − x̄)ᵀ S⁻¹ (x − x̄))², is about p(p + 2)(n − 1)/(n + 1) for normal rows, with standard
+ * deviation about √(8p(p + 2)/n). A mixture of normal predictors of one mean and different
+ * covariances has a larger b₂ (Σ π_c C_c = S makes the mean of the squared distance convex
+ * in the C_c). Measured on the problems above (NumPy): 18.7-23.1 standard deviations above
+ * at d = 50, 6.4-12.2 at d = 20, 5.7-7.4 for the bench's eigenvalues in 0.5-2, and 0.1-1.6
+ * with the same standard normal predictors in every component (d = 20-100), whose grouping
+ * then costs nothing.
+ */
+export function predictorsMayTell(predictors: Float64Array, n: number, p: number): boolean {
+  if (n <= p + 1) return false;
+  const normal = (p * (p + 2) * (n - 1)) / (n + 1);
+  return mardiaKurtosis(predictors, n, p) - normal > KURTOSIS_Z * Math.sqrt((8 * p * (p + 2)) / n);
+}
+
+/** Standard deviations of b₂ above its normal value that count as more than one normal sample. */
+const KURTOSIS_Z = 4;
+
+/**
+ * Mardia's b₂ of n rows of p predictors (S the covariance with divisor n); Infinity when S is
+ * singular (predictors in a lower-dimensional set, a dummy's levels or a constant, are not
+ * one normal sample).
+ */
+export function mardiaKurtosis(predictors: Float64Array, n: number, p: number): number {
+  const x = centredPredictors(predictors, n, p);
+  const covariance = meanOuterProduct(x, n, p, null, false);
+  const lower = new Float64Array(p * p);
+  if (Number.isNaN(scaledCholeskyLower(covariance, p, lower, new Float64Array(choleskyScratchLength(p)), false))) return Infinity;
+  const whitened = new Float64Array(n * p);
+  whitenRows(x, n, p, new Float64Array(p), lower, whitened);
+  let kurtosis = 0;
+  for (let i = 0; i < n; i++) {
+    let squared = 0;
+    for (let j = 0; j < p; j++) squared += whitened[i * p + j] * whitened[i * p + j];
+    kurtosis += squared * squared;
+  }
+  return kurtosis / n;
 }
 
 /**
