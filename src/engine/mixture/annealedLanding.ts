@@ -28,9 +28,9 @@ import { designClusterStarts, randomMemberships } from "./designClusters";
  * before the restructuring, all tries recovered fewer problems (DEVELOPERS.md).
  */
 export function landByAnnealing(ctx: FitContext, incumbent: Incumbent, tries: number): boolean {
-  // The first call on thin rows fitted exactly nowhere tries the design clusters first
-  // (designClusters.ts), whether or not a component came near exact: that needs the
-  // regressions' rows, which the predictors may tell apart when the starts did not.
+  // Annealings need a component near exact (mayLieExactly); the design clusters, tried once
+  // at the first call, need only thin rows fitted exactly nowhere (landingMayHelp): the
+  // predictors may tell the rows apart where no start did.
   const { full } = ctx;
   const budget = ctx.annealing;
   if (!budget || !landingMayHelp(ctx, incumbent.best.params)) return false;
@@ -101,9 +101,11 @@ function mayLieExactly(ctx: FitContext, params: MixtureParameters): boolean {
  * 2. Each annealed component, the heaviest first, landed by reweighted least squares (below):
  *    from 5-20% it reaches the true component's exact fit.
  *
- * Up to `tries` annealings, as long as the budget has tries left (each one spends one), until
- * one lands a component. Returns K components: the landed ones' exact coefficients and, in the
- * other places, the heaviest annealed components that did not land; or null.
+ * Before them, once in a (sub-)problem, the design clusters (designClusters.ts): the rows
+ * grouped by their predictors alone, each group's regression landed the same way. Then up to
+ * `tries` annealings (each spends one of the budget's), until one lands a component. Returns K
+ * components: the landed ones' exact coefficients and, in the other places, the first starts
+ * that did not land (the largest groups', or the heaviest annealed components); or null.
  */
 function annealedLanding(ctx: FitContext, budget: AnnealingBudget, tries: number): MixtureParameters | null {
   const ws = ctx.full;
@@ -115,8 +117,8 @@ function annealedLanding(ctx: FitContext, budget: AnnealingBudget, tries: number
     const fromDesign = groups && landStarts(ctx, landing, groups);
     if (fromDesign) return fromDesign;
   }
-  const annealing = createWorkspace(ctx.data, annealedComponents(k), ws.intercept, false);
-  for (let attempt = 0; attempt < tries; attempt++) {
+  const annealing = tries > 0 ? createWorkspace(ctx.data, annealedComponents(k), ws.intercept, false) : null;
+  for (let attempt = 0; annealing && attempt < tries; attempt++) {
     budget.triesLeft--;
     const annealed = annealedFit(ctx, annealing);
     const heaviestFirst = byWeight(annealed).map((c) => annealed.coefficients.subarray(c * q, (c + 1) * q));

@@ -23,9 +23,10 @@ import { createRandom } from "../random";
  *
  * Measured on invented noiseless problems fitted with an intercept, d = 50, K = 7, zero
  * predictor means, each component's predictors a random rotation of singular values uniform
- * in 0.3-3 (three problems each): at 4 rows per predictor per component 3 of 3 recovered in
- * 2.0-4.2 s, against 0 of 3 without; at 5 rows 3 of 3 in 1.7-1.9 s against 1 of 3 in 3.3-6.2
- * s; at 3 rows 1 of 2 against 0. A grouping costs 0.5-0.8 s there. With the same design in
+ * in 0.3-3 (three problems each, as `skein fit` processes): at 4 rows per predictor per
+ * component 3 of 3 recovered in 1.6-1.8 s, against 0 of 3 without (3.3-6.6 s); at 5 rows 3 of
+ * 3 in 1.7-1.9 s against 1 of 3 (3.2-5.9 s); at 3 rows 1 of 2 against 0. A grouping costs
+ * 0.5-0.8 s there. With the same design in
  * every component the groups are arbitrary and nothing lands; so too with eigenvalues drawn
  * uniform in 0.5-2 (the bench's grid) or 0.09-9: the densities then overlap too much for
  * about four rows per predictor to tell them apart (DEVELOPERS.md).
@@ -91,14 +92,14 @@ export function mardiaKurtosis(predictors: Float64Array, n: number, p: number): 
  */
 export function designGroups(predictors: Float64Array, n: number, p: number, k: number, seed: number, signal?: CancelSignal): number[][] {
   const x = centredPredictors(predictors, n, p);
-  const model = new PredictorMixture(n, p, k);
+  const model = new PredictorMixture(x, n, p, k);
   const memberships = new Float64Array(n * k);
   const random = createRandom(seed);
   randomMemberships(memberships, n, k, () => random.next());
   for (let level = 0; level < DESIGN_LEVELS + DESIGN_FINAL_LEVELS; level++) {
     checkSignal(signal);
     const inverseTemperature = level >= DESIGN_LEVELS ? 1 : DESIGN_START * Math.pow(1 / DESIGN_START, level / (DESIGN_LEVELS - 1));
-    for (let iteration = 0; iteration < DESIGN_ITERATIONS; iteration++) model.step(x, memberships, inverseTemperature);
+    for (let iteration = 0; iteration < DESIGN_ITERATIONS; iteration++) model.step(memberships, inverseTemperature);
   }
   return hardGroups(memberships, n, k);
 }
@@ -108,8 +109,9 @@ const DESIGN_SEED_OFFSET = 2;
 
 /**
  * Ridge of each group's predictor covariance, times the predictor's overall variance: a group
- * of about four rows per predictor estimates its covariance poorly, and the prototype's groups
- * landed as often with 0.05-0.3 of the overall variance on the diagonal.
+ * of about four rows per predictor estimates its covariance poorly. In the prototype,
+ * shrinking each covariance by 0.05-0.3 toward a multiple of the identity grouped about as
+ * purely, and this ridge landed as many components as a shrinkage of 0.1.
  */
 const DESIGN_RIDGE = 0.1;
 /**
@@ -122,7 +124,7 @@ const DESIGN_START = 0.05;
 const DESIGN_LEVELS = 20;
 const DESIGN_FINAL_LEVELS = 10;
 const DESIGN_ITERATIONS = 2;
-/** Rows a group keeps in its concentration steps (at least enoughRows): the prototype's groups were 70-99% one component. */
+/** Rows a group keeps in its concentration steps (at least enoughRows): in the prototype's groupings 0.6-0.99 of the rows were in their group's main component. */
 const GROUP_SHARE = 0.6;
 const GROUP_STEPS = 30;
 
@@ -159,9 +161,11 @@ class PredictorMixture {
   private readonly lower: Float64Array;
   private readonly mean: Float64Array;
   private readonly scratch: Float64Array;
+  /** DESIGN_RIDGE times each predictor's overall variance (or 1 for a constant one). */
   private readonly ridge: Float64Array;
 
-  constructor(private readonly n: number, private readonly p: number, private readonly k: number) {
+  /** @param x the n x p predictors, centred */
+  constructor(private readonly x: Float64Array, private readonly n: number, private readonly p: number, private readonly k: number) {
     this.weights = new Float64Array(n);
     this.logTerms = new Float64Array(n * k);
     this.whitened = new Float64Array(n * p);
@@ -170,12 +174,16 @@ class PredictorMixture {
     this.mean = new Float64Array(p);
     this.scratch = new Float64Array(choleskyScratchLength(p));
     this.ridge = new Float64Array(p);
+    for (let j = 0; j < p; j++) {
+      let squares = 0;
+      for (let i = 0; i < n; i++) squares += x[i * p + j] * x[i * p + j];
+      this.ridge[j] = DESIGN_RIDGE * (squares > 0 ? squares / n : 1);
+    }
   }
 
   /** The M-step from `memberships`, then the E-step into them, the log terms times `inverseTemperature`. */
-  step(x: Float64Array, memberships: Float64Array, inverseTemperature: number): void {
-    const { n, p, k, weights, logTerms, whitened, covariance, lower, mean } = this;
-    if (this.ridge[0] === 0) this.setRidge(x);
+  step(memberships: Float64Array, inverseTemperature: number): void {
+    const { x, n, p, k, weights, logTerms, whitened, covariance, lower, mean } = this;
     for (let c = 0; c < k; c++) {
       for (let i = 0; i < n; i++) weights[i] = memberships[i * k + c];
       // (1/n) Σ w (1, x)(1, x)ᵀ: the share, the weighted mean and second moment of group c.
@@ -203,15 +211,6 @@ class PredictorMixture {
     memberships.set(logTerms);
   }
 
-  /** DESIGN_RIDGE times each predictor's overall variance (or 1 for a constant one). */
-  private setRidge(x: Float64Array): void {
-    const { n, p } = this;
-    for (let j = 0; j < p; j++) {
-      let squares = 0;
-      for (let i = 0; i < n; i++) squares += x[i * p + j] * x[i * p + j];
-      this.ridge[j] = DESIGN_RIDGE * (squares > 0 ? squares / n : 1);
-    }
-  }
 }
 
 /** The rows of each group: each row in its most likely one. */
