@@ -92,14 +92,14 @@ export function mardiaKurtosis(predictors: Float64Array, n: number, p: number): 
  */
 export function designGroups(predictors: Float64Array, n: number, p: number, k: number, seed: number, signal?: CancelSignal): number[][] {
   const x = centredPredictors(predictors, n, p);
-  const model = new PredictorMixture(x, n, p, k);
+  const model = predictorMixture(x, n, p, k);
   const memberships = new Float64Array(n * k);
   const random = createRandom(seed);
   randomMemberships(memberships, n, k, () => random.next());
   for (let level = 0; level < DESIGN_LEVELS + DESIGN_FINAL_LEVELS; level++) {
     checkSignal(signal);
     const inverseTemperature = level >= DESIGN_LEVELS ? 1 : DESIGN_START * Math.pow(1 / DESIGN_START, level / (DESIGN_LEVELS - 1));
-    for (let iteration = 0; iteration < DESIGN_ITERATIONS; iteration++) model.step(memberships, inverseTemperature);
+    for (let iteration = 0; iteration < DESIGN_ITERATIONS; iteration++) predictorEmStep(model, memberships, inverseTemperature);
   }
   return hardGroups(memberships, n, k);
 }
@@ -147,70 +147,56 @@ function centredPredictors(x: Float64Array, n: number, p: number): Float64Array 
   return out;
 }
 
+type PredictorMixture = ReturnType<typeof predictorMixture>;
+
+/** The buffers of an EM of k groups on the n x p centred predictors `x`, and each predictor's ridge. */
+function predictorMixture(x: Float64Array, n: number, p: number, k: number) {
+  // DESIGN_RIDGE times each predictor's overall variance (or 1 for a constant one).
+  const ridge = new Float64Array(p);
+  for (let j = 0; j < p; j++) {
+    let squares = 0;
+    for (let i = 0; i < n; i++) squares += x[i * p + j] * x[i * p + j];
+    ridge[j] = DESIGN_RIDGE * (squares > 0 ? squares / n : 1);
+  }
+  const [weights, logTerms, whitened] = [n, n * k, n * p].map((length) => new Float64Array(length));
+  const [covariance, lower, mean] = [p * p, p * p, p].map((length) => new Float64Array(length));
+  return { x, n, p, k, ridge, weights, logTerms, whitened, covariance, lower, mean, scratch: new Float64Array(choleskyScratchLength(p)) };
+}
+
 /**
- * One EM iteration of the Gaussian mixture on the predictors at a time, through the kernels:
- * each group's weighted moments by the weighted-Gram kernel (meanOuterProduct), its covariance
- * ridged and factored by the Cholesky kernel, the rows whitened by the row kernels (whitenRows),
- * and the memberships from the log terms by the E-step kernel (normaliseLogDensities).
+ * One EM iteration of the Gaussian mixture on the predictors, through the kernels: the M-step
+ * from `memberships` (each group's weighted moments by the weighted-Gram kernel,
+ * meanOuterProduct; its covariance ridged and factored by the Cholesky kernel), then the
+ * E-step into them (the rows whitened by the row kernels' whitenRows, the log terms times
+ * `inverseTemperature` normalised by the E-step kernel's normaliseLogDensities).
  */
-class PredictorMixture {
-  private readonly weights: Float64Array;
-  private readonly logTerms: Float64Array;
-  private readonly whitened: Float64Array;
-  private readonly covariance: Float64Array;
-  private readonly lower: Float64Array;
-  private readonly mean: Float64Array;
-  private readonly scratch: Float64Array;
-  /** DESIGN_RIDGE times each predictor's overall variance (or 1 for a constant one). */
-  private readonly ridge: Float64Array;
-
-  /** @param x the n x p predictors, centred */
-  constructor(private readonly x: Float64Array, private readonly n: number, private readonly p: number, private readonly k: number) {
-    this.weights = new Float64Array(n);
-    this.logTerms = new Float64Array(n * k);
-    this.whitened = new Float64Array(n * p);
-    this.covariance = new Float64Array(p * p);
-    this.lower = new Float64Array(p * p);
-    this.mean = new Float64Array(p);
-    this.scratch = new Float64Array(choleskyScratchLength(p));
-    this.ridge = new Float64Array(p);
+function predictorEmStep(model: PredictorMixture, memberships: Float64Array, inverseTemperature: number): void {
+  const { x, n, p, k, ridge, weights, logTerms, whitened, covariance, lower, mean, scratch } = model;
+  for (let c = 0; c < k; c++) {
+    for (let i = 0; i < n; i++) weights[i] = memberships[i * k + c];
+    // (1/n) Σ w (1, x)(1, x)ᵀ: the share, the weighted mean and second moment of group c.
+    const moment = meanOuterProduct(x, n, p, weights, true);
+    const share = moment[0];
+    const logShare = Math.log(share);
+    for (let j = 0; j < p; j++) mean[j] = share > 0 ? moment[j + 1] / share : 0;
     for (let j = 0; j < p; j++) {
-      let squares = 0;
-      for (let i = 0; i < n; i++) squares += x[i * p + j] * x[i * p + j];
-      this.ridge[j] = DESIGN_RIDGE * (squares > 0 ? squares / n : 1);
+      for (let l = 0; l < p; l++) covariance[j * p + l] = (share > 0 ? moment[(j + 1) * (p + 1) + l + 1] / share : 0) - mean[j] * mean[l];
+      covariance[j * p + j] += ridge[j];
+    }
+    const logDeterminant = share > 0 ? scaledCholeskyLower(covariance, p, lower, scratch) : NaN;
+    if (Number.isNaN(logDeterminant)) {
+      for (let i = 0; i < n; i++) logTerms[i * k + c] = -Infinity;
+      continue;
+    }
+    whitenRows(x, n, p, mean, lower, whitened);
+    for (let i = 0; i < n; i++) {
+      let squared = 0;
+      for (let j = 0; j < p; j++) squared += whitened[i * p + j] * whitened[i * p + j];
+      logTerms[i * k + c] = inverseTemperature * (logShare - 0.5 * (logDeterminant + squared));
     }
   }
-
-  /** The M-step from `memberships`, then the E-step into them, the log terms times `inverseTemperature`. */
-  step(memberships: Float64Array, inverseTemperature: number): void {
-    const { x, n, p, k, weights, logTerms, whitened, covariance, lower, mean } = this;
-    for (let c = 0; c < k; c++) {
-      for (let i = 0; i < n; i++) weights[i] = memberships[i * k + c];
-      // (1/n) Σ w (1, x)(1, x)ᵀ: the share, the weighted mean and second moment of group c.
-      const moment = meanOuterProduct(x, n, p, weights, true);
-      const share = moment[0];
-      const logShare = Math.log(share);
-      for (let j = 0; j < p; j++) mean[j] = share > 0 ? moment[j + 1] / share : 0;
-      for (let j = 0; j < p; j++) {
-        for (let l = 0; l < p; l++) covariance[j * p + l] = (share > 0 ? moment[(j + 1) * (p + 1) + l + 1] / share : 0) - mean[j] * mean[l];
-        covariance[j * p + j] += this.ridge[j];
-      }
-      const logDeterminant = share > 0 ? scaledCholeskyLower(covariance, p, lower, this.scratch) : NaN;
-      if (Number.isNaN(logDeterminant)) {
-        for (let i = 0; i < n; i++) logTerms[i * k + c] = -Infinity;
-        continue;
-      }
-      whitenRows(x, n, p, mean, lower, whitened);
-      for (let i = 0; i < n; i++) {
-        let squared = 0;
-        for (let j = 0; j < p; j++) squared += whitened[i * p + j] * whitened[i * p + j];
-        logTerms[i * k + c] = inverseTemperature * (logShare - 0.5 * (logDeterminant + squared));
-      }
-    }
-    normaliseLogDensities(logTerms, n, k);
-    memberships.set(logTerms);
-  }
-
+  normaliseLogDensities(logTerms, n, k);
+  memberships.set(logTerms);
 }
 
 /** The rows of each group: each row in its most likely one. */
