@@ -589,6 +589,17 @@ describe("a start run on while its smallest variance falls fast", () => {
     const settling = watchSmallestVariance(params, [1, 1, 1, 1, 1, 0.6]);
     expect(runWhileFalling(ctx, params, settling, 45)).toBeNull();
   });
+
+  it("runs on a steady fall when given a slower ratio (a large fit's landing partitions), and lands it", () => {
+    // The same noiseless start with a fall to 0.6 of itself in five iterations: not fast by the
+    // default ratio (0.5), steady by 0.8.
+    const { ws, params, ctx } = startFalling(0, 0);
+    const steady = () => watchSmallestVariance(params, [1, 1, 1, 1, 1, 0.6]);
+    expect(runWhileFalling(ctx, params, steady(), 45)).toBeNull();
+    const fell = runWhileFalling(ctx, params, steady(), 45, 0.8);
+    expect(fell).not.toBeNull();
+    expect(exactComponentsOf(ws, fell!.params).length).toBeGreaterThanOrEqual(1);
+  });
 });
 
 describe("exact peeling", () => {

@@ -234,21 +234,22 @@ export function watchSmallestVariance(params: MixtureParameters, smallest: numbe
 const FALL_SPAN = 5;
 const FALL_RATIO = 0.5;
 
-function fallingFast({ smallest }: VarianceWatch): boolean {
+function fallingFast({ smallest }: VarianceWatch, ratio = FALL_RATIO): boolean {
   const last = smallest.length - 1;
-  return last >= FALL_SPAN && smallest[last] <= FALL_RATIO * smallest[last - FALL_SPAN];
+  return last >= FALL_SPAN && smallest[last] <= ratio * smallest[last - FALL_SPAN];
 }
 
 /**
  * A start's run continued on a copy of its parameters while the smallest variance keeps
- * falling fast (at most `maxIterations` more), until a component fits enoughRows(q) rows
+ * falling fast (to at most `ratio` of itself every FALL_SPAN iterations; at most
+ * `maxIterations` more), until a component fits enoughRows(q) rows
  * exactly: then the copy and its run. Otherwise null, with the workspace put back as the
  * start's own run left it, and re-seeding drawn from the context's trial generator, so a start
  * whose run is given up goes on as if none had been tried.
  */
-export function runWhileFalling(ctx: FitContext, params: MixtureParameters, watch: VarianceWatch, maxIterations: number): { params: MixtureParameters; run: EmRun } | null {
+export function runWhileFalling(ctx: FitContext, params: MixtureParameters, watch: VarianceWatch, maxIterations: number, ratio = FALL_RATIO): { params: MixtureParameters; run: EmRun } | null {
   const ws = ctx.working;
-  if (maxIterations <= 0 || !fallingFast(watch) || headingForExact(params, ws) || isNoiseless(params, ws)) return null;
+  if (maxIterations <= 0 || !fallingFast(watch, ratio) || headingForExact(params, ws) || isNoiseless(params, ws)) return null;
   const trial = copyParameters(params);
   const trialWatch = watchSmallestVariance(trial, watch.smallest.slice());
   const backgroundWeight = ws.background?.weight ?? 0;
@@ -258,7 +259,7 @@ export function runWhileFalling(ctx: FitContext, params: MixtureParameters, watc
     // Near exact, the run goes on until a component fits enough rows exactly: on noisy data
     // a surplus component can shrink onto a few rows without ever doing so.
     if (nearExact(trialWatch.smallest[trialWatch.smallest.length - 1], ws)) return (landed = exactComponentsOf(ws, trial).length > 0);
-    return iterations % FALL_SPAN === 0 && !fallingFast(trialWatch);
+    return iterations % FALL_SPAN === 0 && !fallingFast(trialWatch, ratio);
   };
   const run = runEm(ws, trial, { ...ctx, random: ctx.trialRandom }, maxIterations, null, { stop });
   if (landed || isNoiseless(trial, ws)) return { params: trial, run };
@@ -283,9 +284,9 @@ export interface Landed {
  * start; otherwise the near-exact components are snapped onto their own rows, and exact
  * peeling starts from the result.
  */
-export function landOnExactFit(ctx: FitContext, params: MixtureParameters, run: EmRun, extraIterations: number, falling: { watch: VarianceWatch; iterations: number }): Landed {
+export function landOnExactFit(ctx: FitContext, params: MixtureParameters, run: EmRun, extraIterations: number, falling: { watch: VarianceWatch; iterations: number; ratio?: number }): Landed {
   const { working: ws, guards } = ctx;
-  const fell = runWhileFalling(ctx, params, falling.watch, falling.iterations);
+  const fell = runWhileFalling(ctx, params, falling.watch, falling.iterations, falling.ratio);
   if (fell) ({ params, run } = fell);
   const concentrated = headingForExact(params, ws) ? concentrateComponents(ws, params, guards) : null;
   if (!concentrated && extraIterations > 0 && !run.converged && headingForExact(params, ws)) run = runEm(ws, params, ctx, extraIterations);
