@@ -64,6 +64,13 @@ export function membershipsFromLogTerms(terms: Float64Array, termOffset: number,
   return largest + Math.log(sum);
 }
 
+/** Row i's most likely component: the first with its largest membership (n x k, row-major). */
+export function mostLikelyComponent(memberships: Float64Array, i: number, k: number): number {
+  let best = 0;
+  for (let c = 1; c < k; c++) if (memberships[i * k + c] > memberships[i * k + best]) best = c;
+  return best;
+}
+
 /**
  * Turns a row-major m x k block of log terms ln(π_k f_ik) into memberships in place and
  * returns Σ_i ln Σ_k π_k f_ik; each row's value goes to rowLogLikelihood when given.

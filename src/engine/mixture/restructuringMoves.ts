@@ -4,6 +4,7 @@ import type { EmRun, FitContext } from "./fitContext";
 import type { MixtureParameters } from "./mixtureParameters";
 import type { MixtureWorkspace } from "./mixtureWorkspace";
 import { computeResiduals, eStep } from "./eStep";
+import { mostLikelyComponent } from "../logDensities";
 import { parametersFromCoefficients } from "./starts";
 import { runEm } from "./runEm";
 import { enoughRows, exactComponentsOf, exactTolerance, nearExact, PEEL_SNAP_ROUNDS, rowsNotFitExactly, sameRows, snapComponents, thinRows } from "./exactComponents";
@@ -113,11 +114,7 @@ export function splitAndMerge(ctx: FitContext, ws: MixtureWorkspace, params: Mix
   computeResiduals(ws, params);
   eStep(ws, params);
   const rows: number[] = [];
-  for (let i = 0; i < n; i++) {
-    let best = 0;
-    for (let c = 1; c < k; c++) if (ws.memberships[i * k + c] > ws.memberships[i * k + best]) best = c;
-    if (best === split) rows.push(rowMap ? rowMap[i] : i);
-  }
+  for (let i = 0; i < n; i++) if (mostLikelyComponent(ws.memberships, i, k) === split) rows.push(rowMap ? rowMap[i] : i);
   if (rows.length < 2 * ctx.guards.minimumSize) return null;
   let halves: MixtureFit;
   try {
