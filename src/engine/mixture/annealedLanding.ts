@@ -117,8 +117,9 @@ function annealedLanding(ctx: FitContext, budget: AnnealingBudget, tries: number
     const fromDesign = groups && landStarts(ctx, landing, groups);
     if (fromDesign) return fromDesign;
   }
-  const annealing = tries > 0 ? createWorkspace(ctx.data, annealedComponents(k), ws.intercept, false) : null;
-  for (let attempt = 0; annealing && attempt < tries; attempt++) {
+  if (tries === 0) return null;
+  const annealing = createWorkspace(ctx.data, annealedComponents(k), ws.intercept, false);
+  for (let attempt = 0; attempt < tries; attempt++) {
     budget.triesLeft--;
     const annealed = annealedFit(ctx, annealing);
     const heaviestFirst = byWeight(annealed).map((c) => annealed.coefficients.subarray(c * q, (c + 1) * q));

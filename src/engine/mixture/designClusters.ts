@@ -4,7 +4,8 @@ import type { MixtureWorkspace } from "./mixtureWorkspace";
 import { enoughRows, exactTolerance } from "./exactComponents";
 import { ConcentrationSteps } from "./concentrationSteps";
 import { whitenRows } from "../rowKernels";
-import { normaliseLogDensities } from "../logDensities";
+import { mostLikelyComponent, normaliseLogDensities } from "../logDensities";
+import { whitenPredictors } from "../warmStart/whitenPredictors";
 import { meanOuterProduct } from "../secondMoment";
 import { choleskyScratchLength, scaledCholeskyLower, scaledCholeskySolve } from "../cholesky";
 import { addNormalEquations } from "../weightedGram";
@@ -65,21 +66,18 @@ export function predictorsMayTell(predictors: Float64Array, n: number, p: number
 const KURTOSIS_Z = 4;
 
 /**
- * Mardia's b₂ of n rows of p predictors (S the covariance with divisor n); Infinity when S is
+ * Mardia's b₂ of n rows of p predictors (S the covariance with divisor n), from the rows
+ * whitened as the moment warm start whitens them (whitenPredictors); Infinity when S is
  * singular (predictors in a lower-dimensional set, a dummy's levels or a constant, are not
  * one normal sample).
  */
 export function mardiaKurtosis(predictors: Float64Array, n: number, p: number): number {
-  const x = centredPredictors(predictors, n, p);
-  const covariance = meanOuterProduct(x, n, p, null, false);
-  const lower = new Float64Array(p * p);
-  if (Number.isNaN(scaledCholeskyLower(covariance, p, lower, new Float64Array(choleskyScratchLength(p)), false))) return Infinity;
-  const whitened = new Float64Array(n * p);
-  whitenRows(x, n, p, new Float64Array(p), lower, whitened);
+  const whitened = whitenPredictors(predictors, n, p, true);
+  if (!whitened) return Infinity;
   let kurtosis = 0;
   for (let i = 0; i < n; i++) {
     let squared = 0;
-    for (let j = 0; j < p; j++) squared += whitened[i * p + j] * whitened[i * p + j];
+    for (let j = 0; j < p; j++) squared += whitened.x[i * p + j] * whitened.x[i * p + j];
     kurtosis += squared * squared;
   }
   return kurtosis / n;
@@ -202,11 +200,7 @@ function predictorEmStep(model: PredictorMixture, memberships: Float64Array, inv
 /** The rows of each group: each row in its most likely one. */
 function hardGroups(memberships: Float64Array, n: number, k: number): number[][] {
   const groups: number[][] = Array.from({ length: k }, () => []);
-  for (let i = 0; i < n; i++) {
-    let best = 0;
-    for (let c = 1; c < k; c++) if (memberships[i * k + c] > memberships[i * k + best]) best = c;
-    groups[best].push(i);
-  }
+  for (let i = 0; i < n; i++) groups[mostLikelyComponent(memberships, i, k)].push(i);
   return groups;
 }
 
